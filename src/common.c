@@ -1,0 +1,15 @@
+/* common.c — names of the status codes shared by every stage. */
+#include "sturdy/common.h"
+
+const char *sturdy_status_name(sturdy_status s)
+{
+    switch (s) {
+    case STURDY_OK: return "ok";
+    case STURDY_EINTERNAL: return "internal error";
+    case STURDY_EUSAGE: return "usage error";
+    case STURDY_EDATA: return "bad input data";
+    case STURDY_EMODEL: return "model cannot be tested";
+    case STURDY_EOUTPUT: return "output could not be written";
+    }
+    return "unknown status";
+}

@@ -1,0 +1,51 @@
+/* check.h — the tests' tiny harness: one printed line per check with observed,
+ * expected and tolerance, and a closing line "N passed, N failed". */
+#ifndef STURDY_TEST_CHECK_H
+#define STURDY_TEST_CHECK_H
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+static int check_passed, check_failed;
+
+static inline void check_report(int ok, const char *what)
+{
+    if (ok) check_passed++; else check_failed++;
+    printf("%s  %s\n", ok ? "ok  " : "FAIL", what);
+}
+
+/* |observed − expected| ≤ tol·max(1, |expected|) when rel, else ≤ tol. */
+static inline void check_close(const char *name, double obs, double exp, double tol, int rel)
+{
+    char line[512];
+    double scale = rel ? fmax(1e-300, fabs(exp)) : 1.0;
+    int ok = (isnan(obs) && isnan(exp)) || fabs(obs - exp) <= tol * scale;
+    snprintf(line, sizeof line, "%s: observed %.17g expected %.17g %s tol %.1e", name, obs,
+             exp, rel ? "rel" : "abs", tol);
+    check_report(ok, line);
+}
+#define CHECK_REL(name, obs, exp, tol) check_close((name), (obs), (exp), (tol), 1)
+#define CHECK_ABS(name, obs, exp, tol) check_close((name), (obs), (exp), (tol), 0)
+
+static inline void check_true(const char *name, int cond)
+{
+    check_report(cond != 0, name);
+}
+#define CHECK(name, cond) check_true((name), (cond))
+
+static inline void check_int(const char *name, long long obs, long long exp)
+{
+    char line[512];
+    snprintf(line, sizeof line, "%s: observed %lld expected %lld", name, obs, exp);
+    check_report(obs == exp, line);
+}
+#define CHECK_INT(name, obs, exp) check_int((name), (long long)(obs), (long long)(exp))
+
+static inline int check_done(void)
+{
+    printf("%d passed, %d failed\n", check_passed, check_failed);
+    return check_failed ? 1 : 0;
+}
+
+#endif
