@@ -1,0 +1,68 @@
+/* fit.h — orthonormal bases of the full model and of every term's comparison.
+ *
+ * A term's test compares a reduced model R with an augmented model A = R + term:
+ *   Type I   R = the terms before it,            A = R + term
+ *   Type II  R = the terms not containing it,    A = R + term
+ *   Type III R = all other terms,                A = full model
+ * (the block and covariates never "contain" a factor term and are contained by none).
+ * Bases live in group space (design.h): for a model with group-space basis U (K × r),
+ * the row-space basis is Q = G·diag(n_g)^(-1/2)·U with G the n × K group indicator, so
+ * for any row vector v with group sums s, Qᵀv = Uᵀ(s ⊘ √n_g). Bases are found by
+ * Householder QR with column pivoting (LAPACK dgeqp3) and a relative rank tolerance. */
+#ifndef STURDY_FIT_H
+#define STURDY_FIT_H
+
+#include "design.h"
+
+/* Relative tolerance on |R_jj| / max column norm below which a column is taken as
+ * linearly dependent on earlier ones. 1e-9 sits far above the rounding level of
+ * doubles (≈1e-16·condition) for any design with cells of reasonable size and far
+ * below any genuine contrast between sum-to-zero coded columns. */
+#define STURDY_RANK_TOL 1e-9
+
+typedef struct {
+    size_t df;              /* rank the term adds to R (0 when fully confounded) */
+    size_t df_nominal;      /* its coded columns */
+    int testable;           /* 0: F, p and effect sizes are not computed */
+    char *why_not;          /* reason when !testable (owned), else NULL */
+    size_t rank_red;        /* rank of R */
+    double *Ured;           /* K × rank_red basis of R */
+    double *Uterm;          /* K × df basis of the part of A orthogonal to R */
+} sturdy_term_basis;
+
+typedef struct {
+    int ss_type;            /* 1, 2 or 3 */
+    size_t n, K;            /* rows and groups */
+    size_t rank;            /* rank of the full model */
+    double *U;              /* K × rank basis of the full model */
+    double *sqrt_count;     /* K: √n_g */
+    double *leverage;       /* K: leverage of a row in group g (h_i = ‖U_g·‖² / n_g) */
+    size_t df_error;        /* n − rank */
+    size_t nterms;
+    sturdy_term_basis *terms;
+} sturdy_model;
+
+/* Build every basis for `ss_type` (1, 2 or 3). Terms that cannot be tested are marked
+ * with a reason (empty cells leave a term fewer degrees of freedom than it has coded
+ * columns; under Type III such a term and every term it contains are untestable,
+ * since their hypotheses would involve the means of empty cells). A model without
+ * residual degrees of freedom is still built (the classical stage says what is missing).
+ * *out is owned by the caller. */
+sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_model **out,
+                                 char *err);
+
+void sturdy_model_free(sturdy_model *m);
+
+/* Group sums of a row vector v (length n) into s (length K), divided by √n_g. */
+void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
+                               const double *v, double *s);
+
+/* ‖Uᵀs‖² for a K × r basis U (column-major) and group vector s. */
+double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s);
+
+/* Row-space projection of v onto a basis: out = Q Qᵀ v (length n). `s` must be
+ * sturdy_model_group_scaled(v). `work` has room for r + K doubles. */
+void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const double *U,
+                          size_t r, const double *s, double *work, double *out);
+
+#endif

@@ -1,0 +1,193 @@
+/* anova.c — the classical table of one response: SS by type, F, p, effect sizes and the
+ * noncentral-F interval for partial η², plus fitted values, residuals and cell summaries. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "engine.h"
+#include "internal.h"
+#include "sturdy/dist.h"
+
+void sturdy_effect_sizes(double ss, double df, double sse, double dfe, double sst, double n,
+                         double es[STURDY_NES])
+{
+    double mse = dfe > 0 ? sse / dfe : NAN;
+    es[STURDY_ES_ETA2] = sst > 0 ? ss / sst : NAN;
+    es[STURDY_ES_PARTIAL_ETA2] = (dfe > 0 && ss + sse > 0) ? ss / (ss + sse) : NAN;
+    /* Hays (1963) ω² and its partial form (Olejnik & Algina 2003); both may be negative
+     * in small samples and are reported as they are, not clipped at zero. */
+    es[STURDY_ES_OMEGA2] = (dfe > 0 && sst + mse > 0) ? (ss - df * mse) / (sst + mse) : NAN;
+    double den = ss + (n - df) * mse;
+    es[STURDY_ES_PARTIAL_OMEGA2] = (dfe > 0 && den > 0) ? (ss - df * mse) / den : NAN;
+    double pe = es[STURDY_ES_PARTIAL_ETA2];
+    es[STURDY_ES_COHENS_F] = (pe >= 0 && pe < 1) ? sqrt(pe / (1 - pe)) : NAN;
+}
+
+/* Σ(x − x̄)² by two passes with the compensating correction term (Chan, Golub & LeVeque
+ * 1983), so constant leading digits do not cost precision. */
+static double centred_ss(const double *x, size_t n, double *mean_out)
+{
+    double mean = 0.0;
+    for (size_t i = 0; i < n; i++)
+        mean += x[i];
+    mean /= (double)n;
+    double ss = 0.0, corr = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        double dv = x[i] - mean;
+        ss += dv * dv;
+        corr += dv;
+    }
+    if (mean_out)
+        *mean_out = mean + corr / (double)n;
+    return ss - corr * corr / (double)n;
+}
+
+static sturdy_status cell_summaries(const sturdy_design *d, const double *y, double ref,
+                                    sturdy_response_result *out, char *err)
+{
+    size_t C = d->ncells;
+    out->cell_mean = calloc(C, sizeof *out->cell_mean);
+    out->cell_sd = calloc(C, sizeof *out->cell_sd);
+    double *ss = calloc(C, sizeof *ss);
+    if (!out->cell_mean || !out->cell_sd || !ss) {
+        free(ss);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t i = 0; i < d->n; i++)
+        out->cell_mean[d->cell[i]] += y[i];
+    for (size_t c = 0; c < C; c++)
+        out->cell_mean[c] /= (double)d->cell_count[c];
+    for (size_t i = 0; i < d->n; i++) {
+        double dv = y[i] - out->cell_mean[d->cell[i]];
+        ss[d->cell[i]] += dv * dv;
+    }
+    for (size_t c = 0; c < C; c++) {
+        out->cell_sd[c] = d->cell_count[c] > 1 ? sqrt(ss[c] / (double)(d->cell_count[c] - 1))
+                                               : NAN;
+        out->cell_mean[c] += ref;
+    }
+    free(ss);
+    return STURDY_OK;
+}
+
+static sturdy_status set_note(char **slot, const char *text, char *err)
+{
+    free(*slot);
+    *slot = sturdy_strdup(text);
+    return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
+sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                    double conf, sturdy_response_result *out, char *err)
+{
+    size_t n = d->n, K = m->K;
+    const double *y = d->y + r * n;
+    sturdy_status st;
+    out->name = sturdy_strdup(d->resp_names[r]);
+    out->nterms = d->nterms;
+    out->terms = calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
+    out->fitted = malloc(n * sizeof *out->fitted);
+    out->residual = malloc(n * sizeof *out->residual);
+    double *s = malloc(K * sizeof *s), *work = malloc((m->rank + K) * sizeof *work);
+    if (!out->name || !out->terms || !out->fitted || !out->residual || !s || !work) {
+        free(s); free(work);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    double mean;
+    double sst = centred_ss(y, n, &mean);
+    if (!(sst > 0)) {
+        free(s); free(work);
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "%s: response '%s' is constant in the rows used (every value is "
+                           "the same), so there is no variation to analyse",
+                           d->source, d->resp_names[r]);
+    }
+    sturdy_model_group_scaled(d, m, y, s);
+    sturdy_model_project(d, m, m->U, m->rank, s, work, out->fitted);
+    double sse = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        out->residual[i] = y[i] - out->fitted[i];
+        sse += out->residual[i] * out->residual[i];
+    }
+    double dfe = (double)m->df_error;
+    out->df_error = dfe;
+    out->ss_error = sse;
+    out->ms_error = dfe > 0 ? sse / dfe : NAN;
+    out->df_total = (double)(n - 1);
+    out->ss_total = sst;
+    if (dfe == 0)
+        st = set_note(&out->error_note,
+                      "no residual degrees of freedom: the model has as many parameters as "
+                      "rows, so no F-test is possible; lower --order or add replicates",
+                      err);
+    else if (!(sse > 0))
+        st = set_note(&out->error_note,
+                      "the residuals are all zero (the model fits exactly), so F is "
+                      "undefined", err);
+    else
+        st = STURDY_OK;
+    if (st) {
+        free(s); free(work);
+        return st;
+    }
+    int f_ok = dfe > 0 && sse > 0;
+
+    for (size_t t = 0; t < d->nterms; t++) {
+        sturdy_term_result *tr = &out->terms[t];
+        const sturdy_term_basis *tb = &m->terms[t];
+        const sturdy_term *term = &d->terms[t];
+        tr->label = sturdy_strdup(term->label);
+        tr->kind = term->kind;
+        tr->nfactors = term->kind == STURDY_TERM_FACTORS ? term->order : 1;
+        tr->factors = calloc(tr->nfactors, sizeof *tr->factors);
+        if (!tr->label || !tr->factors) {
+            free(s); free(work);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+        if (term->kind == STURDY_TERM_FACTORS) {
+            size_t k = 0;
+            for (size_t f = 0; f < d->nfactors; f++)
+                if (term->mask & (1u << f))
+                    tr->factors[k++] = sturdy_strdup(d->factors[f].name);
+        } else {
+            tr->factors[0] = sturdy_strdup(term->label);
+        }
+        tr->df = (double)tb->df;
+        tr->ss = tb->df ? sturdy_proj_norm2(tb->Uterm, K, tb->df, s) : 0.0;
+        tr->ms = tb->df ? tr->ss / tr->df : NAN;
+        tr->f = tr->p = NAN;
+        tr->ncf.lo = tr->ncf.hi = NAN;
+        for (int e = 0; e < STURDY_NES; e++)
+            tr->es[e] = NAN;
+        tr->p_perm = tr->p_perm_fwer = tr->p_perm_holm = NAN;
+        tr->p_perm_ci.lo = tr->p_perm_ci.hi = NAN;
+        for (int e = 0; e < STURDY_NES; e++)
+            tr->ci_pct[e].lo = tr->ci_pct[e].hi = tr->ci_bca[e].lo = tr->ci_bca[e].hi = NAN;
+        if (!tb->testable) {
+            tr->ss = tr->ms = NAN;
+            if ((st = set_note(&tr->note, tb->why_not, err))) {
+                free(s); free(work);
+                return st;
+            }
+            continue;
+        }
+        sturdy_effect_sizes(tr->ss, tr->df, sse, dfe, sst, (double)n, tr->es);
+        if (!f_ok) {
+            if ((st = set_note(&tr->note, out->error_note, err))) {
+                free(s); free(work);
+                return st;
+            }
+            continue;
+        }
+        tr->f = tr->ms / out->ms_error;
+        tr->p = sturdy_f_sf(tr->f, tr->df, dfe);
+        if (sturdy_ncf_eta2_interval(tr->f, tr->df, dfe, conf, &tr->ncf.lo, &tr->ncf.hi,
+                                     NULL, NULL) != STURDY_OK)
+            tr->ncf.lo = tr->ncf.hi = NAN;
+    }
+    free(s);
+    free(work);
+    for (size_t i = 0; i < n; i++)
+        out->fitted[i] += d->y_ref[r];
+    return cell_summaries(d, y, d->y_ref[r], out, err);
+}

@@ -1,0 +1,600 @@
+/* design.c — from table to design: used rows, factor levels, cells, groups, terms and
+ * the sum-to-zero coded columns (one row per group). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+#include "sturdy/design.h"
+
+void sturdy_model_spec_init(sturdy_model_spec *s)
+{
+    memset(s, 0, sizeof *s);
+}
+
+int sturdy_level_compare(const char *a, const char *b)
+{
+    double x, y;
+    int na = sturdy_parse_number(a, &x), nb = sturdy_parse_number(b, &y);
+    if (na && nb) {
+        if (x < y) return -1;
+        if (x > y) return 1;
+        return strcmp(a, b); /* "1" and "1.0": equal numbers, distinct levels */
+    }
+    if (na != nb)
+        return na ? -1 : 1;
+    return strcmp(a, b);
+}
+
+static int cmp_str_natural(const void *a, const void *b)
+{
+    return sturdy_level_compare(*(const char *const *)a, *(const char *const *)b);
+}
+
+/* Sort key for grouping rows by a tuple of level indices. */
+typedef struct {
+    const size_t *key;
+    size_t len;
+    size_t row;
+} tuple_ref;
+
+static int cmp_tuple(const void *a, const void *b)
+{
+    const tuple_ref *x = a, *y = b;
+    for (size_t k = 0; k < x->len; k++) {
+        if (x->key[k] != y->key[k])
+            return x->key[k] < y->key[k] ? -1 : 1;
+    }
+    return x->row < y->row ? -1 : (x->row > y->row);
+}
+
+static void factor_free(sturdy_factor *f)
+{
+    if (!f->levels) { free(f->name); return; }
+    for (size_t j = 0; j < f->nlevels; j++)
+        free(f->levels[j]);
+    free(f->levels);
+    free(f->name);
+}
+
+void sturdy_design_free(sturdy_design *d)
+{
+    if (!d)
+        return;
+    free(d->source);
+    free(d->row);
+    free(d->line);
+    for (size_t i = 0; i < d->ndropped; i++)
+        free(d->dropped[i].reason);
+    free(d->dropped);
+    for (size_t f = 0; f < d->nfactors; f++)
+        factor_free(&d->factors[f]);
+    free(d->factors);
+    free(d->level);
+    if (d->has_block)
+        factor_free(&d->block);
+    free(d->block_level);
+    for (size_t c = 0; c < d->ncov; c++)
+        free(d->cov_names[c]);
+    free(d->cov_names);
+    free(d->cov);
+    for (size_t r = 0; r < d->nresp; r++)
+        free(d->resp_names[r]);
+    free(d->resp_names);
+    free(d->y);
+    free(d->y_ref);
+    free(d->cell);
+    free(d->cell_count);
+    free(d->cell_levels);
+    free(d->group);
+    free(d->group_count);
+    for (size_t t = 0; t < d->nterms; t++)
+        free(d->terms[t].label);
+    free(d->terms);
+    free(d->Xg);
+    free(d);
+}
+
+/* Column lookup for the spec: unknown and repeated names are usage errors. */
+static sturdy_status find_columns(const sturdy_table *t, const char *const *names, size_t k,
+                                  const char *role, long *idx, unsigned char *used,
+                                  char *err)
+{
+    for (size_t i = 0; i < k; i++) {
+        long c = sturdy_table_find(t, names[i]);
+        if (c < 0)
+            return sturdy_fail(err, STURDY_EUSAGE, "%s: no column named '%s' (the %s)",
+                               t->source, names[i], role);
+        if (used[c])
+            return sturdy_fail(err, STURDY_EUSAGE,
+                               "%s: column '%s' is used twice in the model", t->source,
+                               names[i]);
+        used[c] = 1;
+        idx[i] = c;
+    }
+    return STURDY_OK;
+}
+
+/* Levels of a text column over the used rows, in natural order, and each row's index. */
+static sturdy_status make_factor(const sturdy_table *t, long col, const sturdy_design *d,
+                                 size_t max_levels, const char *role, sturdy_factor *f,
+                                 size_t *lev, size_t stride, char *err)
+{
+    size_t n = d->n;
+    const char **vals = malloc(n * sizeof *vals);
+    if (!vals)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++)
+        vals[i] = t->cols[col].text[d->row[i]];
+    qsort(vals, n, sizeof *vals, cmp_str_natural);
+    size_t nl = 0;
+    for (size_t i = 0; i < n; i++)
+        if (i == 0 || strcmp(vals[i], vals[i - 1]) != 0)
+            vals[nl++] = vals[i];
+    f->name = sturdy_strdup(t->cols[col].name);
+    if (nl < 2) {
+        sturdy_fail(err, STURDY_EMODEL,
+                    "%s: %s '%s' has only one level ('%s') in the rows used; a term needs "
+                    "at least two",
+                    t->source, role, t->cols[col].name, nl ? vals[0] : "");
+        free(vals);
+        return STURDY_EMODEL;
+    }
+    if (nl > max_levels) {
+        free(vals);
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
+                           "really a factor? (raise the limit with --max-levels)",
+                           t->source, role, t->cols[col].name, nl, max_levels);
+    }
+    f->nlevels = nl;
+    f->levels = calloc(nl, sizeof *f->levels);
+    if (!f->levels || !f->name) {
+        free(vals);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t j = 0; j < nl; j++)
+        if (!(f->levels[j] = sturdy_strdup(vals[j]))) {
+            free(vals);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+    free(vals);
+    for (size_t i = 0; i < n; i++) {
+        const char *v = t->cols[col].text[d->row[i]];
+        size_t lo = 0, hi = nl; /* binary search in natural order */
+        while (lo < hi) {
+            size_t mid = (lo + hi) / 2;
+            int c = sturdy_level_compare(f->levels[mid], v);
+            if (c == 0) { lo = mid; break; }
+            if (c < 0) lo = mid + 1; else hi = mid;
+        }
+        lev[i * stride] = lo;
+    }
+    return STURDY_OK;
+}
+
+/* Number of factor subsets of size k of m factors, enumerated as bitmasks in
+ * lexicographic order of their factor indices. Returns the next mask after `mask`
+ * with the same popcount (Gosper's hack), or 0 past the last. */
+static uint32_t next_combination(uint32_t mask, size_t m)
+{
+    uint32_t c = mask & (uint32_t)-(int32_t)mask;
+    uint32_t r = mask + c;
+    uint32_t next = (((r ^ mask) >> 2) / c) | r;
+    return next < (1u << m) ? next : 0;
+}
+
+/* Reverse the bit order of a mask over m bits, so that Gosper order (ascending integer)
+ * becomes lexicographic order of factor index lists. */
+static uint32_t reverse_bits(uint32_t x, size_t m)
+{
+    uint32_t r = 0;
+    for (size_t i = 0; i < m; i++)
+        if (x & (1u << i))
+            r |= 1u << (m - 1 - i);
+    return r;
+}
+
+static int cmp_u32_desc(const void *a, const void *b)
+{
+    uint32_t x = *(const uint32_t *)a, y = *(const uint32_t *)b;
+    return x < y ? 1 : (x > y ? -1 : 0);
+}
+
+static sturdy_status make_terms(sturdy_design *d, int order, size_t max_columns, char *err)
+{
+    size_t m = d->nfactors;
+    size_t maxord = (order <= 0 || (size_t)order > m) ? m : (size_t)order;
+    size_t cap = (d->has_block ? 1 : 0) + d->ncov + ((size_t)1 << m);
+    d->terms = calloc(cap, sizeof *d->terms);
+    if (!d->terms)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    size_t p = 1, nt = 0;
+    if (d->has_block) {
+        sturdy_term *t = &d->terms[nt++];
+        t->kind = STURDY_TERM_BLOCK;
+        t->label = sturdy_strdup(d->block.name);
+        t->order = 1;
+        t->col0 = p;
+        t->ncols = d->block.nlevels - 1;
+        p += t->ncols;
+    }
+    for (size_t c = 0; c < d->ncov; c++) {
+        sturdy_term *t = &d->terms[nt++];
+        t->kind = STURDY_TERM_COVARIATE;
+        t->label = sturdy_strdup(d->cov_names[c]);
+        t->order = 1;
+        t->col0 = p;
+        t->ncols = 1;
+        p += 1;
+    }
+    uint32_t *masks = malloc(((size_t)1 << m) * sizeof *masks);
+    if (!masks)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t k = 1; k <= maxord; k++) {
+        size_t nk = 0;
+        for (uint32_t mask = (1u << k) - 1; mask; mask = next_combination(mask, m))
+            masks[nk++] = reverse_bits(mask, m);
+        /* reversed masks in descending order = lexicographic factor lists */
+        qsort(masks, nk, sizeof *masks, cmp_u32_desc);
+        for (size_t j = 0; j < nk; j++) {
+            uint32_t mask = reverse_bits(masks[j], m);
+            sturdy_term *t = &d->terms[nt++];
+            t->kind = STURDY_TERM_FACTORS;
+            t->mask = mask;
+            t->order = k;
+            size_t cols = 1, len = 0;
+            for (size_t f = 0; f < m; f++)
+                if (mask & (1u << f)) {
+                    cols *= d->factors[f].nlevels - 1;
+                    len += strlen(d->factors[f].name) + 2;
+                    if (cols > max_columns)
+                        break;
+                }
+            t->ncols = cols;
+            t->col0 = p;
+            p += cols;
+            if (cols > max_columns || p > max_columns + 1) {
+                free(masks);
+                return sturdy_fail(err, STURDY_EMODEL,
+                                   "the model needs more than %zu coded columns (at term "
+                                   "%zu of order %zu); lower --order or raise --max-columns",
+                                   max_columns, nt, k);
+            }
+            t->label = malloc(len + 1);
+            if (!t->label) {
+                free(masks);
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            }
+            t->label[0] = '\0';
+            for (size_t f = 0; f < m; f++)
+                if (mask & (1u << f)) {
+                    if (t->label[0])
+                        strcat(t->label, "\xc3\x97"); /* U+00D7 multiplication sign */
+                    strcat(t->label, d->factors[f].name);
+                }
+        }
+    }
+    free(masks);
+    d->nterms = nt;
+    d->p = p;
+    for (size_t i = 0; i < nt; i++)
+        if (!d->terms[i].label)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    return STURDY_OK;
+}
+
+/* Sum-to-zero (deviation) code of level `lev` of an L-level factor in column j < L−1. */
+static double sum_code(size_t lev, size_t L, size_t j)
+{
+    if (lev == L - 1)
+        return -1.0;
+    return lev == j ? 1.0 : 0.0;
+}
+
+static void fill_columns(sturdy_design *d, const size_t *rep)
+{
+    size_t K = d->ngroups, m = d->nfactors;
+    double *X = d->Xg;
+    for (size_t g = 0; g < K; g++)
+        X[g] = 1.0;
+    for (size_t ti = 0; ti < d->nterms; ti++) {
+        const sturdy_term *t = &d->terms[ti];
+        for (size_t g = 0; g < K; g++) {
+            size_t i = rep[g];
+            if (t->kind == STURDY_TERM_BLOCK) {
+                for (size_t j = 0; j < t->ncols; j++)
+                    X[(t->col0 + j) * K + g] =
+                        sum_code(d->block_level[i], d->block.nlevels, j);
+            } else if (t->kind == STURDY_TERM_COVARIATE) {
+                size_t c = ti - (d->has_block ? 1 : 0);
+                X[t->col0 * K + g] = d->cov[c * d->n + i];
+            } else {
+                /* columns enumerate (j_f1, j_f2, ...) with the first factor fastest */
+                for (size_t col = 0; col < t->ncols; col++) {
+                    size_t rest = col;
+                    double v = 1.0;
+                    for (size_t f = 0; f < m; f++) {
+                        if (!(t->mask & (1u << f)))
+                            continue;
+                        size_t L = d->factors[f].nlevels;
+                        size_t j = rest % (L - 1);
+                        rest /= L - 1;
+                        v *= sum_code(d->level[i * m + f], L, j);
+                    }
+                    X[(t->col0 + col) * K + g] = v;
+                }
+            }
+        }
+    }
+}
+
+/* Assign group ids to rows by sorting tuples of `len` keys per row. */
+static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t *id,
+                                size_t *nids, size_t **first_row, char *err)
+{
+    tuple_ref *ref = malloc(n * sizeof *ref);
+    if (!ref)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++) {
+        ref[i].key = keys + i * len;
+        ref[i].len = len;
+        ref[i].row = i;
+    }
+    qsort(ref, n, sizeof *ref, cmp_tuple);
+    size_t k = 0;
+    size_t *first = malloc(n * sizeof *first);
+    if (!first) {
+        free(ref);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t i = 0; i < n; i++) {
+        if (i == 0 || memcmp(ref[i].key, ref[i - 1].key, len * sizeof(size_t)) != 0)
+            first[k++] = ref[i].row;
+        id[ref[i].row] = k - 1;
+    }
+    free(ref);
+    *nids = k;
+    *first_row = first;
+    return STURDY_OK;
+}
+
+static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
+                           sturdy_design *d, char *err)
+{
+    sturdy_status st;
+    size_t nf = s->nfactors, nc = s->ncovariates, nr = s->nresponses;
+    if (nr == 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "no response column given (-y)");
+    if (nf == 0 && nc == 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "no factor given (-f)");
+    if (nf > STURDY_MAX_FACTORS)
+        return sturdy_fail(err, STURDY_EUSAGE, "%zu factors; at most %d are supported", nf,
+                           STURDY_MAX_FACTORS);
+    size_t max_levels = s->max_levels ? s->max_levels : STURDY_DEFAULT_MAX_LEVELS;
+    size_t max_columns = s->max_columns ? s->max_columns : STURDY_DEFAULT_MAX_COLUMNS;
+
+    unsigned char *used = calloc(t->ncols ? t->ncols : 1, 1);
+    long *ri = malloc((nr + nf + nc + 1) * sizeof *ri);
+    if (!used || !ri) {
+        free(used); free(ri);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    long *fi = ri + nr, *ci = fi + nf, *bi = ci + nc;
+    *bi = -1;
+    if ((st = find_columns(t, s->responses, nr, "response", ri, used, err)) ||
+        (st = find_columns(t, s->factors, nf, "factor", fi, used, err)) ||
+        (st = find_columns(t, s->covariates, nc, "covariate", ci, used, err)) ||
+        (s->block && (st = find_columns(t, &s->block, 1, "block", bi, used, err)))) {
+        free(used); free(ri);
+        return st;
+    }
+
+    /* rows used: no missing value in any used column */
+    d->source = sturdy_strdup(t->source);
+    d->rows_read = t->nrows;
+    d->row = malloc((t->nrows ? t->nrows : 1) * sizeof *d->row);
+    d->line = malloc((t->nrows ? t->nrows : 1) * sizeof *d->line);
+    d->dropped = calloc(t->nrows ? t->nrows : 1, sizeof *d->dropped);
+    if (!d->source || !d->row || !d->line || !d->dropped) {
+        free(used); free(ri);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t i = 0; i < t->nrows; i++) {
+        long miss = -1;
+        for (size_t c = 0; c < t->ncols && miss < 0; c++)
+            if (used[c] && t->cols[c].missing[i])
+                miss = (long)c;
+        if (miss >= 0) {
+            sturdy_dropped *dr = &d->dropped[d->ndropped++];
+            dr->row = i;
+            dr->line = t->line[i];
+            dr->reason = sturdy_asprintf("missing value in column '%s'", t->cols[miss].name);
+            if (!dr->reason) {
+                free(used); free(ri);
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            }
+        } else {
+            d->row[d->n] = i;
+            d->line[d->n] = t->line[i];
+            d->n++;
+        }
+    }
+    free(used);
+    size_t n = d->n;
+    if (n == 0) {
+        free(ri);
+        return sturdy_fail(err, STURDY_EDATA,
+                           "%s: no rows left: all %zu rows have a missing value in a column "
+                           "the model uses",
+                           t->source, t->nrows);
+    }
+
+    /* responses and covariates, exactly converted */
+    d->nresp = nr;
+    d->resp_names = calloc(nr, sizeof *d->resp_names);
+    d->y = malloc(n * nr * sizeof *d->y);
+    d->y_ref = malloc(nr * sizeof *d->y_ref);
+    d->ncov = nc;
+    d->cov_names = calloc(nc ? nc : 1, sizeof *d->cov_names);
+    d->cov = malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
+    if (!d->resp_names || !d->y || !d->y_ref || !d->cov_names || !d->cov) {
+        free(ri);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t r = 0; r < nr; r++) {
+        d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name);
+        if ((st = sturdy_table_numeric(t, (size_t)ri[r], d->row, n, d->y + r * n,
+                                       &d->y_ref[r], err))) {
+            free(ri);
+            return st;
+        }
+    }
+    for (size_t c = 0; c < nc; c++) {
+        double ref, *x = d->cov + c * n;
+        d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name);
+        if ((st = sturdy_table_numeric(t, (size_t)ci[c], d->row, n, x, &ref, err))) {
+            free(ri);
+            return st;
+        }
+        /* centre (two passes) so the coded columns are well conditioned */
+        double mean = 0.0;
+        for (size_t i = 0; i < n; i++) mean += x[i];
+        mean /= (double)n;
+        double corr = 0.0;
+        for (size_t i = 0; i < n; i++) corr += x[i] - mean;
+        mean += corr / (double)n;
+        int constant = 1;
+        for (size_t i = 0; i < n; i++) {
+            x[i] -= mean;
+            if (x[i] != x[0]) constant = 0;
+        }
+        if (constant) {
+            free(ri);
+            return sturdy_fail(err, STURDY_EMODEL,
+                               "%s: covariate '%s' is constant in the rows used", t->source,
+                               d->cov_names[c]);
+        }
+    }
+
+    /* factors and block */
+    d->nfactors = nf;
+    d->factors = sturdy_calloc(nf, sizeof *d->factors);
+    d->level = sturdy_calloc(n * nf, sizeof *d->level);
+    if (!d->factors || !d->level) {
+        free(ri);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t f = 0; f < nf; f++)
+        if ((st = make_factor(t, fi[f], d, max_levels, "factor", &d->factors[f],
+                              d->level + f, nf, err))) {
+            free(ri);
+            return st;
+        }
+    if (*bi >= 0) {
+        d->has_block = 1;
+        d->block_level = malloc(n * sizeof *d->block_level);
+        if (!d->block_level) {
+            free(ri);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+        if ((st = make_factor(t, *bi, d, max_levels, "block", &d->block, d->block_level, 1,
+                              err))) {
+            free(ri);
+            return st;
+        }
+    }
+    free(ri);
+
+    /* cells */
+    double possible = 1.0;
+    for (size_t f = 0; f < nf; f++)
+        possible *= (double)d->factors[f].nlevels;
+    d->ncells_possible = possible < 1e18 ? (size_t)possible : (size_t)-1;
+    size_t *first;
+    d->cell = malloc(n * sizeof *d->cell);
+    if (!d->cell)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if ((st = group_rows(n, d->level, nf, d->cell, &d->ncells, &first, err)))
+        return st;
+    d->cell_count = calloc(d->ncells, sizeof *d->cell_count);
+    d->cell_levels = sturdy_calloc(d->ncells * nf, sizeof *d->cell_levels);
+    if (!d->cell_count || !d->cell_levels) {
+        free(first);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t c = 0; c < d->ncells; c++)
+        memcpy(d->cell_levels + c * nf, d->level + first[c] * nf, nf * sizeof(size_t));
+    free(first);
+    for (size_t i = 0; i < n; i++)
+        d->cell_count[d->cell[i]]++;
+    d->min_cell = (size_t)-1;
+    d->max_cell = 0;
+    for (size_t c = 0; c < d->ncells; c++) {
+        if (d->cell_count[c] < d->min_cell) d->min_cell = d->cell_count[c];
+        if (d->cell_count[c] > d->max_cell) d->max_cell = d->cell_count[c];
+    }
+    d->balanced = d->ncells == d->ncells_possible && d->min_cell == d->max_cell;
+
+    /* groups: rows sharing every coded column */
+    d->group = malloc(n * sizeof *d->group);
+    if (!d->group)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (nc > 0) {
+        d->ngroups = n;
+        first = malloc(n * sizeof *first);
+        if (!first)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        for (size_t i = 0; i < n; i++)
+            d->group[i] = first[i] = i;
+    } else {
+        size_t *keys = malloc(n * 2 * sizeof *keys);
+        if (!keys)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        for (size_t i = 0; i < n; i++) {
+            keys[2 * i] = d->cell[i];
+            keys[2 * i + 1] = d->has_block ? d->block_level[i] : 0;
+        }
+        st = group_rows(n, keys, 2, d->group, &d->ngroups, &first, err);
+        free(keys);
+        if (st)
+            return st;
+    }
+    d->group_count = calloc(d->ngroups, sizeof *d->group_count);
+    if (!d->group_count) {
+        free(first);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t i = 0; i < n; i++)
+        d->group_count[d->group[i]]++;
+
+    if ((st = make_terms(d, s->order, max_columns, err))) {
+        free(first);
+        return st;
+    }
+    d->Xg = malloc(d->ngroups * d->p * sizeof *d->Xg);
+    if (!d->Xg) {
+        free(first);
+        return sturdy_fail(err, STURDY_EINTERNAL,
+                           "out of memory for the %zu × %zu coded design", d->ngroups, d->p);
+    }
+    fill_columns(d, first);
+    free(first);
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_design_build(const sturdy_table *t, const sturdy_model_spec *s,
+                                  sturdy_design **out, char *err)
+{
+    *out = NULL;
+    sturdy_design *d = calloc(1, sizeof *d);
+    if (!d)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    sturdy_status st = build(t, s, d, err);
+    if (st) {
+        sturdy_design_free(d);
+        return st;
+    }
+    *out = d;
+    return STURDY_OK;
+}

@@ -1,0 +1,302 @@
+/* fit.c — orthonormal bases for the full model and each term's reduced-vs-augmented
+ * comparison, in group space (see fit.h), by pivoted Householder QR (LAPACK). */
+#include <lapacke.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+#include "sturdy/fit.h"
+
+/* Orthonormal basis of the span of the columns of A (K × k, column-major, overwritten):
+ * columns are scaled to unit length first, so that the rank decision does not depend
+ * on the units of a covariate; a column whose pivoted |R_jj| falls below
+ * STURDY_RANK_TOL is dependent. `ref_norm[j]`, when given, replaces the norm used for
+ * scaling column j (for residualised columns: their norm before residualising, so that
+ * a column that vanished in the projection is recognised as dependent).
+ * On success *U (K × *rank, owned) holds the basis; *U is NULL when the rank is 0. */
+static sturdy_status orth_basis(double *A, size_t K, size_t k, const double *ref_norm,
+                                double **U, size_t *rank, char *err)
+{
+    *U = NULL;
+    *rank = 0;
+    if (k == 0)
+        return STURDY_OK;
+    for (size_t j = 0; j < k; j++) {
+        double nrm = 0.0;
+        if (ref_norm) {
+            nrm = ref_norm[j];
+        } else {
+            for (size_t g = 0; g < K; g++)
+                nrm += A[j * K + g] * A[j * K + g];
+            nrm = sqrt(nrm);
+        }
+        if (nrm > 0.0)
+            for (size_t g = 0; g < K; g++)
+                A[j * K + g] /= nrm;
+    }
+    size_t mn = K < k ? K : k;
+    lapack_int *jpvt = calloc(k, sizeof *jpvt);
+    double *tau = malloc(mn * sizeof *tau);
+    if (!jpvt || !tau) {
+        free(jpvt); free(tau);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    lapack_int info = LAPACKE_dgeqp3(LAPACK_COL_MAJOR, (lapack_int)K, (lapack_int)k, A,
+                                     (lapack_int)K, jpvt, tau);
+    free(jpvt);
+    if (info != 0) {
+        free(tau);
+        return sturdy_fail(err, STURDY_EINTERNAL, "QR factorisation failed (info %d)",
+                           (int)info);
+    }
+    size_t r = 0;
+    while (r < mn && fabs(A[r * K + r]) > STURDY_RANK_TOL)
+        r++;
+    if (r == 0) {
+        free(tau);
+        return STURDY_OK;
+    }
+    info = LAPACKE_dorgqr(LAPACK_COL_MAJOR, (lapack_int)K, (lapack_int)r, (lapack_int)r, A,
+                          (lapack_int)K, tau);
+    free(tau);
+    if (info != 0)
+        return sturdy_fail(err, STURDY_EINTERNAL, "forming Q failed (info %d)", (int)info);
+    double *Q = malloc(K * r * sizeof *Q);
+    if (!Q)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    memcpy(Q, A, K * r * sizeof *Q);
+    *U = Q;
+    *rank = r;
+    return STURDY_OK;
+}
+
+/* Columns [col0, col0+ncols) of the weighted design √n_g·X_g appended to A at column k. */
+static void take_columns(const sturdy_design *d, const double *sq, size_t col0,
+                         size_t ncols, double *A, size_t k)
+{
+    size_t K = d->ngroups;
+    for (size_t j = 0; j < ncols; j++)
+        for (size_t g = 0; g < K; g++)
+            A[(k + j) * K + g] = d->Xg[(col0 + j) * K + g] * sq[g];
+}
+
+/* Does term b contain term a (a's factors are a proper subset of b's)? Only factor
+ * terms contain one another. */
+static int contains(const sturdy_term *b, const sturdy_term *a)
+{
+    return a->kind == STURDY_TERM_FACTORS && b->kind == STURDY_TERM_FACTORS &&
+           a->mask != b->mask && (a->mask & b->mask) == a->mask;
+}
+
+/* Is term j in the reduced model of term t under the SS type? */
+static int in_reduced(const sturdy_design *d, int ss_type, size_t t, size_t j)
+{
+    if (j == t)
+        return 0;
+    switch (ss_type) {
+    case 1: return j < t;
+    case 2: return !contains(&d->terms[j], &d->terms[t]);
+    default: return 1;
+    }
+}
+
+static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                double *A, sturdy_term_basis *tb, char *err)
+{
+    size_t K = d->ngroups;
+    const sturdy_term *term = &d->terms[t];
+    /* reduced model: intercept + the terms the SS type keeps */
+    size_t k = 0;
+    take_columns(d, m->sqrt_count, 0, 1, A, k++);
+    for (size_t j = 0; j < d->nterms; j++)
+        if (in_reduced(d, m->ss_type, t, j)) {
+            take_columns(d, m->sqrt_count, d->terms[j].col0, d->terms[j].ncols, A, k);
+            k += d->terms[j].ncols;
+        }
+    sturdy_status st = orth_basis(A, K, k, NULL, &tb->Ured, &tb->rank_red, err);
+    if (st)
+        return st;
+    /* the term's columns, residualised twice against the reduced basis (one pass of
+     * classical Gram–Schmidt loses orthogonality when columns are nearly dependent) */
+    size_t c = term->ncols;
+    double *Z = A, *nrm = malloc(c * sizeof *nrm);
+    if (!nrm)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    take_columns(d, m->sqrt_count, term->col0, c, Z, 0);
+    for (size_t j = 0; j < c; j++) {
+        double s = 0.0;
+        for (size_t g = 0; g < K; g++)
+            s += Z[j * K + g] * Z[j * K + g];
+        nrm[j] = sqrt(s);
+    }
+    for (int pass = 0; pass < 2; pass++)
+        for (size_t j = 0; j < c; j++)
+            for (size_t q = 0; q < tb->rank_red; q++) {
+                const double *u = tb->Ured + q * K;
+                double dot = 0.0;
+                for (size_t g = 0; g < K; g++)
+                    dot += u[g] * Z[j * K + g];
+                for (size_t g = 0; g < K; g++)
+                    Z[j * K + g] -= dot * u[g];
+            }
+    st = orth_basis(Z, K, c, nrm, &tb->Uterm, &tb->df, err);
+    free(nrm);
+    if (st)
+        return st;
+    tb->df_nominal = c;
+    tb->testable = 1;
+    if (tb->df == 0) {
+        tb->testable = 0;
+        tb->why_not = sturdy_asprintf(
+            "not testable: '%s' is completely confounded with the other terms (empty "
+            "cells or collinear covariates)", term->label);
+    } else if (tb->df < c) {
+        tb->testable = 0;
+        tb->why_not = sturdy_asprintf(
+            "not testable: empty cells or collinearity leave '%s' only %zu of its %zu "
+            "degrees of freedom; drop the highest interactions (--order) or fill the cells",
+            term->label, tb->df, c);
+    }
+    if (!tb->testable && !tb->why_not)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    return STURDY_OK;
+}
+
+void sturdy_model_free(sturdy_model *m)
+{
+    if (!m)
+        return;
+    free(m->U);
+    free(m->sqrt_count);
+    free(m->leverage);
+    for (size_t t = 0; t < m->nterms; t++) {
+        free(m->terms[t].why_not);
+        free(m->terms[t].Ured);
+        free(m->terms[t].Uterm);
+    }
+    free(m->terms);
+    free(m);
+}
+
+static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
+{
+    size_t K = d->ngroups, p = d->p;
+    m->n = d->n;
+    m->K = K;
+    m->nterms = d->nterms;
+    m->sqrt_count = calloc(K, sizeof *m->sqrt_count);
+    m->leverage = malloc(K * sizeof *m->leverage);
+    m->terms = calloc(d->nterms ? d->nterms : 1, sizeof *m->terms);
+    double *A = malloc(K * p * sizeof *A);
+    if (!m->sqrt_count || !m->leverage || !m->terms || !A) {
+        free(A);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory (design of %zu × %zu)", K, p);
+    }
+    for (size_t g = 0; g < K; g++)
+        m->sqrt_count[g] = sqrt((double)d->group_count[g]);
+    take_columns(d, m->sqrt_count, 0, p, A, 0);
+    sturdy_status st = orth_basis(A, K, p, NULL, &m->U, &m->rank, err);
+    if (st) {
+        free(A);
+        return st;
+    }
+    m->df_error = d->n - m->rank;
+    for (size_t g = 0; g < K; g++) {
+        double h = 0.0;
+        for (size_t q = 0; q < m->rank; q++)
+            h += m->U[q * K + g] * m->U[q * K + g];
+        m->leverage[g] = h / (double)d->group_count[g];
+    }
+    for (size_t t = 0; t < d->nterms; t++)
+        if ((st = term_basis(d, m, t, A, &m->terms[t], err))) {
+            free(A);
+            return st;
+        }
+    free(A);
+    /* Type III with an inestimable term: the hypotheses of the terms it contains are
+     * defined through the means of its empty cells, so they are not tested either. */
+    if (m->ss_type == 3)
+        for (size_t t = 0; t < d->nterms; t++) {
+            if (!m->terms[t].testable || d->terms[t].kind != STURDY_TERM_FACTORS)
+                continue;
+            for (size_t b = 0; b < d->nterms; b++)
+                if (m->terms[b].df < m->terms[b].df_nominal && contains(&d->terms[b], &d->terms[t])) {
+                    m->terms[t].testable = 0;
+                    m->terms[t].why_not = sturdy_asprintf(
+                        "not testable under Type III: its hypothesis involves the means of "
+                        "empty cells of '%s'; use --ss 1 or 2, or drop that interaction "
+                        "(--order)", d->terms[b].label);
+                    if (!m->terms[t].why_not)
+                        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+                    break;
+                }
+        }
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_model **out,
+                                 char *err)
+{
+    *out = NULL;
+    if (ss_type < 1 || ss_type > 3)
+        return sturdy_fail(err, STURDY_EUSAGE, "sums of squares type must be 1, 2 or 3");
+    sturdy_model *m = calloc(1, sizeof *m);
+    if (!m)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    m->ss_type = ss_type;
+    sturdy_status st = build(d, m, err);
+    if (st) {
+        sturdy_model_free(m);
+        return st;
+    }
+    *out = m;
+    return STURDY_OK;
+}
+
+void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
+                               const double *v, double *s)
+{
+    size_t K = m->K;
+    memset(s, 0, K * sizeof *s);
+    for (size_t i = 0; i < d->n; i++)
+        s[d->group[i]] += v[i];
+    for (size_t g = 0; g < K; g++)
+        s[g] /= m->sqrt_count[g];
+}
+
+double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s)
+{
+    double total = 0.0;
+    for (size_t q = 0; q < r; q++) {
+        const double *u = U + q * K;
+        double dot = 0.0;
+        for (size_t g = 0; g < K; g++)
+            dot += u[g] * s[g];
+        total += dot * dot;
+    }
+    return total;
+}
+
+void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const double *U,
+                          size_t r, const double *s, double *work, double *out)
+{
+    size_t K = m->K;
+    double *coef = work, *gval = work + r;
+    for (size_t q = 0; q < r; q++) {
+        const double *u = U + q * K;
+        double dot = 0.0;
+        for (size_t g = 0; g < K; g++)
+            dot += u[g] * s[g];
+        coef[q] = dot;
+    }
+    /* group value = (U c)_g / √n_g, then spread to rows */
+    for (size_t g = 0; g < K; g++) {
+        double v = 0.0;
+        for (size_t q = 0; q < r; q++)
+            v += U[q * K + g] * coef[q];
+        gval[g] = v / m->sqrt_count[g];
+    }
+    for (size_t i = 0; i < d->n; i++)
+        out[i] = gval[d->group[i]];
+}
