@@ -540,7 +540,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     d->group = malloc(n * sizeof *d->group);
     if (!d->group)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    if (nc > 0) {
+    if (nc > 0 || s->row_groups) {
         d->ngroups = n;
         first = malloc(n * sizeof *first);
         if (!first)

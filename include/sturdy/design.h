@@ -25,6 +25,9 @@ typedef struct {
     int order;                  /* highest interaction order; 0 = all */
     size_t max_levels;          /* per factor; 0 = STURDY_DEFAULT_MAX_LEVELS */
     size_t max_columns;         /* coded columns in all; 0 = STURDY_DEFAULT_MAX_COLUMNS */
+    int row_groups;             /* 1: every row its own group, even without covariates —
+                                   the straightforward n-row path that the tests compare
+                                   the cell-sum path against (same results, slower) */
 } sturdy_model_spec;
 
 void sturdy_model_spec_init(sturdy_model_spec *s);

@@ -1,0 +1,360 @@
+/* analysis.c — runs the stages of a check in order and turns the resampling counts and
+ * replicates into p-values, intervals and verdicts. */
+#include <cblas.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "engine.h"
+#include "internal.h"
+#include "sturdy/dist.h"
+#include "sturdy/pcg.h"
+
+/* Level of the Monte Carlo interval around p_perm (DESIGN.md: 99% Clopper–Pearson). */
+#define PERM_CI_LEVEL 0.99
+
+void sturdy_options_init(sturdy_options *o)
+{
+    memset(o, 0, sizeof *o);
+    sturdy_model_spec_init(&o->model);
+    o->ss_type = 3;
+    o->permutations = 9999;
+    o->bootstrap = 2000;
+    o->method = STURDY_METHOD_FREEDMAN_LANE;
+    o->boot_scheme = STURDY_BOOT_DEFAULT;
+    o->conf = 0.95;
+    o->alpha = 0.05;
+    o->seed = STURDY_DEFAULT_SEED;
+    o->resample = 1;
+}
+
+sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
+{
+    if (o->ss_type < 1 || o->ss_type > 3)
+        return sturdy_fail(err, STURDY_EUSAGE, "--ss must be 1, 2 or 3 (got %d)", o->ss_type);
+    if (!(o->conf > 0 && o->conf < 1))
+        return sturdy_fail(err, STURDY_EUSAGE, "--conf must lie strictly between 0 and 1");
+    if (!(o->alpha > 0 && o->alpha < 1))
+        return sturdy_fail(err, STURDY_EUSAGE, "--alpha must lie strictly between 0 and 1");
+    if (o->method < STURDY_METHOD_FREEDMAN_LANE || o->method > STURDY_METHOD_RAW)
+        return sturdy_fail(err, STURDY_EUSAGE, "unknown --method");
+    if (o->boot_scheme < STURDY_BOOT_DEFAULT || o->boot_scheme > STURDY_BOOT_CELLS)
+        return sturdy_fail(err, STURDY_EUSAGE, "unknown --bootstrap-scheme");
+    if (o->permutations > (uint64_t)1 << 40)
+        return sturdy_fail(err, STURDY_EUSAGE, "--permutations is larger than 2^40");
+    if (o->bootstrap > (uint64_t)1 << 28)
+        return sturdy_fail(err, STURDY_EUSAGE, "--bootstrap is larger than 2^28");
+    if (o->bootstrap == 1)
+        return sturdy_fail(err, STURDY_EUSAGE, "--bootstrap needs at least 2 replicates (or 0)");
+    if (o->threads < 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "--threads must be 0 (all) or more");
+    if (o->shard_count == 0 ? o->shard_index != 0
+                            : (o->shard_index < 1 || o->shard_index > o->shard_count))
+        return sturdy_fail(err, STURDY_EUSAGE, "--shard I/N needs 1 ≤ I ≤ N");
+    if (o->model.order < 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "--order must be 1 or more");
+    return STURDY_OK;
+}
+
+/* [lo, hi) of slice i (1-based) of n over total items: an even split. */
+static void slice_range(uint64_t total, uint64_t i, uint64_t n, uint64_t *lo, uint64_t *hi)
+{
+    if (n == 0) {
+        *lo = 0;
+        *hi = total;
+        return;
+    }
+    *lo = (uint64_t)((sturdy_u128)total * (i - 1) / n);
+    *hi = (uint64_t)((sturdy_u128)total * i / n);
+}
+
+/* FNV-1a (Fowler, Noll & Vo) over the used columns' names and text, so that shards of
+ * different data are told apart. */
+static uint64_t data_checksum(const sturdy_table *t, const sturdy_design *d)
+{
+    uint64_t h = 1469598103934665603ull;
+    const unsigned char sep = 0x1f;
+    for (size_t c = 0; c < t->ncols; c++) {
+        const char *name = t->cols[c].name;
+        int used = 0;
+        for (size_t r = 0; r < d->nresp; r++) used |= !strcmp(name, d->resp_names[r]);
+        for (size_t f = 0; f < d->nfactors; f++) used |= !strcmp(name, d->factors[f].name);
+        for (size_t k = 0; k < d->ncov; k++) used |= !strcmp(name, d->cov_names[k]);
+        if (d->has_block) used |= !strcmp(name, d->block.name);
+        if (!used)
+            continue;
+        for (size_t i = 0; i <= t->nrows; i++) {
+            const char *s = i == 0 ? name : t->cols[c].text[i - 1];
+            for (; *s; s++) {
+                h ^= (unsigned char)*s;
+                h *= 1099511628211ull;
+            }
+            h ^= sep;
+            h *= 1099511628211ull;
+        }
+    }
+    return h;
+}
+
+static sturdy_status add_note(sturdy_result *r, char *text, char *err)
+{
+    if (!text)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    char **n = realloc(r->notes, (r->nnotes + 1) * sizeof *n);
+    if (!n) {
+        free(text);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    r->notes = n;
+    r->notes[r->nnotes++] = text;
+    return STURDY_OK;
+}
+
+static sturdy_status run_notes(sturdy_result *r, char *err)
+{
+    const sturdy_design *d = r->design;
+    sturdy_status st = STURDY_OK;
+    if (r->nboot && r->boot_scheme == STURDY_BOOT_CELLS && d->min_cell < STURDY_CELLS_WARN_ROWS)
+        st = add_note(r, sturdy_asprintf(
+            "the cells bootstrap resamples rows within cells; with only %zu rows in the "
+            "smallest cell it shrinks the error variance by (n-1)/n and its intervals are "
+            "biased; prefer --bootstrap-scheme residual", d->min_cell), err);
+    if (!st && r->exact)
+        st = add_note(r, sturdy_asprintf(
+            "all %llu distinct rearrangements were enumerated, so the permutation p-values "
+            "are exact (no Monte Carlo error)", (unsigned long long)r->nperm), err);
+    if (!st && d->ncells < d->ncells_possible)
+        st = add_note(r, sturdy_asprintf(
+            "%zu of the %zu possible cells are empty", d->ncells_possible - d->ncells,
+            d->ncells_possible), err);
+    if (!st && d->has_block && !r->opts.flip && r->nperm)
+        st = add_note(r, sturdy_asprintf(
+            "rows are rearranged only within levels of the block '%s'", d->block.name), err);
+    return st;
+}
+
+void sturdy_result_free(sturdy_result *r)
+{
+    if (!r)
+        return;
+    for (size_t ri = 0; ri < r->nresp; ri++) {
+        sturdy_response_result *rr = &r->resp[ri];
+        for (size_t t = 0; t < rr->nterms; t++) {
+            sturdy_term_result *tr = &rr->terms[t];
+            free(tr->label);
+            for (size_t f = 0; f < tr->nfactors; f++)
+                free(tr->factors[f]);
+            free(tr->factors);
+            free(tr->note);
+            free(tr->perm_note);
+            free(tr->boot);
+            free(tr->boot_note);
+            free(tr->verdict_reason);
+        }
+        free(rr->terms);
+        free(rr->name);
+        free(rr->error_note);
+        free(rr->cell_mean);
+        free(rr->cell_sd);
+        free(rr->fitted);
+        free(rr->residual);
+        free(rr->diag.sw_note);
+        free(rr->diag.bf_note);
+        free(rr->diag.vr_note);
+        free(rr->diag.outliers);
+        free(rr->diag.studentized);
+        free(rr->diag.leverage);
+    }
+    free(r->resp);
+    for (size_t i = 0; i < r->nnotes; i++)
+        free(r->notes[i]);
+    free(r->notes);
+    sturdy_design_free(r->design);
+    free(r);
+}
+
+static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
+{
+    sturdy_status st;
+    sturdy_model *m = NULL;
+    const sturdy_options *o = &r->opts;
+    if ((st = sturdy_design_build(t, &o->model, &r->design, err)))
+        return st;
+    const sturdy_design *d = r->design;
+    if (r->boot_scheme == STURDY_BOOT_CELLS && d->ncov > 0)
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "--bootstrap-scheme cells needs a model without covariates (rows "
+                           "are resampled within cells); use residual or wild");
+    if ((st = sturdy_model_build(d, o->ss_type, &m, err)))
+        return st;
+    r->nresp = d->nresp;
+    r->resp = calloc(d->nresp, sizeof *r->resp);
+    if (!r->resp) {
+        sturdy_model_free(m);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t ri = 0; ri < d->nresp && !st; ri++)
+        st = sturdy_anova_response(d, m, ri, o->conf, &r->resp[ri], err);
+    if (st) {
+        sturdy_model_free(m);
+        return st;
+    }
+    uint64_t count = sturdy_permute_count(d, o->flip);
+    r->exact = o->permutations > 0 && count <= o->permutations;
+    r->nperm = r->exact ? count : o->permutations;
+    r->nboot = m->df_error > 0 ? o->bootstrap : 0;
+    r->data_checksum = data_checksum(t, d);
+    if (o->resample) {
+        slice_range(r->nperm, o->shard_index, o->shard_count, &r->perm_begin, &r->perm_end);
+        slice_range(r->nboot, o->shard_index, o->shard_count, &r->boot_begin, &r->boot_end);
+    }
+    /* BLAS runs single-threaded inside our own OpenMP threads */
+    openblas_set_num_threads(1);
+    if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(d, m, r, err)) &&
+        !(st = sturdy_bootstrap_run(d, m, r, err))) {
+        r->perm_done = r->perm_end - r->perm_begin;
+        r->boot_done = r->boot_end - r->boot_begin;
+        for (size_t ri = 0; ri < d->nresp && !st; ri++)
+            st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+    }
+    sturdy_model_free(m);
+    return st;
+}
+
+sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
+                             sturdy_result **out, char *err)
+{
+    *out = NULL;
+    sturdy_status st = sturdy_options_validate(o, err);
+    if (st)
+        return st;
+    sturdy_result *r = calloc(1, sizeof *r);
+    if (!r)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    r->opts = *o;
+    r->ss_type = o->ss_type;
+    r->method = o->method;
+    r->boot_scheme = o->boot_scheme != STURDY_BOOT_DEFAULT
+                         ? o->boot_scheme
+                         : (o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL);
+    st = analyze(t, r, err);
+    if (!st && o->shard_count == 0 && o->resample)
+        st = sturdy_result_finish(r, err);
+    if (st) {
+        sturdy_result_free(r);
+        return st;
+    }
+    *out = r;
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, char *err)
+{
+    if (s->nresp != r->nresp || (r->nresp && s->nterms != r->resp[0].nterms))
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the part has %zu responses × %zu terms; the analysis has %zu × %zu",
+                           s->nresp, s->nterms, r->nresp, r->nresp ? r->resp[0].nterms : 0);
+    if (s->perm_begin > s->perm_end || s->perm_end > r->nperm ||
+        s->boot_begin > s->boot_end || s->boot_end > r->nboot)
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the part's ranges do not fit the analysis (%llu rearrangements, "
+                           "%llu replicates)", (unsigned long long)r->nperm,
+                           (unsigned long long)r->nboot);
+    uint64_t nb = s->boot_end - s->boot_begin;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < s->nterms; t++) {
+            sturdy_term_result *tr = &r->resp[ri].terms[t];
+            size_t k = ri * s->nterms + t;
+            tr->exceed += s->exceed[k];
+            tr->exceed_fwer += s->exceed_fwer[k];
+            if (tr->boot && nb)
+                memcpy(tr->boot + s->boot_begin * STURDY_NES,
+                       s->boot + k * nb * STURDY_NES, nb * STURDY_NES * sizeof(double));
+        }
+    r->perm_done += s->perm_end - s->perm_begin;
+    r->boot_done += nb;
+    return STURDY_OK;
+}
+
+/* Holm (1979) step-down adjustment of the permutation p-values over the family. */
+static sturdy_status holm(sturdy_result *r, char *err)
+{
+    size_t cap = 0, k = 0;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        cap += r->resp[ri].nterms;
+    sturdy_term_result **fam = malloc((cap ? cap : 1) * sizeof *fam);
+    if (!fam)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++)
+            if (!isnan(r->resp[ri].terms[t].p_perm))
+                fam[k++] = &r->resp[ri].terms[t];
+    /* insertion sort, stable: the family is small */
+    for (size_t i = 1; i < k; i++) {
+        sturdy_term_result *x = fam[i];
+        size_t j = i;
+        while (j > 0 && fam[j - 1]->p_perm > x->p_perm) {
+            fam[j] = fam[j - 1];
+            j--;
+        }
+        fam[j] = x;
+    }
+    double run = 0.0;
+    for (size_t i = 0; i < k; i++) {
+        double adj = fmin(1.0, (double)(k - i) * fam[i]->p_perm);
+        run = fmax(run, adj);
+        fam[i]->p_perm_holm = run;
+    }
+    free(fam);
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
+{
+    sturdy_status st;
+    if (r->perm_done != r->nperm || r->boot_done != r->nboot)
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "incomplete: %llu of %llu rearrangements and %llu of %llu "
+                           "replicates are present",
+                           (unsigned long long)r->perm_done, (unsigned long long)r->nperm,
+                           (unsigned long long)r->boot_done, (unsigned long long)r->nboot);
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++) {
+            sturdy_term_result *tr = &r->resp[ri].terms[t];
+            if (!tr->perm_note && r->nperm == 0 &&
+                !(tr->perm_note = sturdy_strdup("no rearrangements were asked for (-B 0)")))
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            if (!tr->perm_note) {
+                double B = (double)r->nperm;
+                if (r->exact) {
+                    tr->p_perm = (double)tr->exceed / B;
+                    tr->p_perm_fwer = (double)tr->exceed_fwer / B;
+                    tr->p_perm_ci.lo = tr->p_perm_ci.hi = tr->p_perm;
+                } else {
+                    /* Phipson & Smyth (2010): the observed arrangement counts once */
+                    tr->p_perm = (1.0 + (double)tr->exceed) / (1.0 + B);
+                    tr->p_perm_fwer = (1.0 + (double)tr->exceed_fwer) / (1.0 + B);
+                    sturdy_clopper_pearson(tr->exceed, r->nperm, PERM_CI_LEVEL,
+                                           &tr->p_perm_ci.lo, &tr->p_perm_ci.hi);
+                }
+                tr->p_perm_fwer = fmax(tr->p_perm_fwer, tr->p_perm);
+            }
+            const char *why_no_boot =
+                !(tr->f >= 0) ? (tr->note ? tr->note : "no effect size to resample")
+                : r->nboot == 0 ? "no bootstrap replicates were asked for (--bootstrap 0)"
+                                : NULL;
+            if (!tr->boot_note && why_no_boot && !(tr->boot_note = sturdy_strdup(why_no_boot)))
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            if ((st = sturdy_bootstrap_intervals(r, tr, err)))
+                return st;
+        }
+    if ((st = holm(r, err)))
+        return st;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++)
+            if ((st = sturdy_verdict_term(&r->resp[ri], &r->resp[ri].terms[t], r->opts.alpha,
+                                          err)))
+                return st;
+    r->finished = 1;
+    return STURDY_OK;
+}

@@ -1,0 +1,429 @@
+/* bootstrap.c — bootstrap replicates of every term's effect sizes with the design held
+ * fixed, the jackknife acceleration, and percentile and BCa intervals (Efron 1987).
+ *
+ * Schemes (Davison & Hinkley 1997, §6.2.3): `residual` adds resampled, centred,
+ * leverage-adjusted residuals e/√(1−h) to the fitted values; `wild` multiplies each
+ * adjusted residual by a Rademacher sign (Wu 1986; Mammen 1993); `cells` resamples rows
+ * within cells (with a block: within cell × block), which for a factor-only model is
+ * the same as resampling the raw residuals within each group, since the fitted value is
+ * the group mean. Replicate b uses generator sturdy_pcg_for(seed, BOOTSTRAP, b) only,
+ * and draws the responses in order, so any split of the replicates gives the same bits.
+ *
+ * Each replicate y* = f + r* is evaluated without refitting: with s = group sums (÷√n_g)
+ * SS_t* = ‖U_tᵀ(s_f + s_r)‖², SSE* = ‖r*‖² − ‖U_fullᵀ s_r‖² (f lies in the model space),
+ * SST* = ‖f_c‖² + 2 f_cᵀr* + ‖r*‖² − (Σr*)²/n with f_c the centred fitted values. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+#include "engine.h"
+#include "internal.h"
+#include "sturdy/dist.h"
+#include "sturdy/pcg.h"
+
+/* A row whose leverage is within this of 1 is alone in its group: its residual is 0 and
+ * its leave-one-out fit is undefined, so it is left out of the residual pool and of the
+ * jackknife. */
+#define LEVERAGE_ONE_TOL 1e-10
+
+typedef struct {
+    double *fc;        /* n: centred fitted values */
+    double *sf;        /* K: group sums of fc */
+    double ff;         /* ‖fc‖² */
+    double *a;         /* n: adjusted residuals (residual, wild) or raw residuals (cells) */
+    size_t *pool;      /* residual scheme: rows with leverage < 1 */
+    size_t npool;
+} resp_boot;
+
+typedef struct {
+    const sturdy_design *d;
+    const sturdy_model *m;
+    sturdy_result *r;
+    resp_boot *rb;
+    size_t *grp_start, *grp_rows; /* cells scheme: rows of each group */
+} boot_ctx;
+
+static double full_norm2(const sturdy_model *m, const double *s)
+{
+    if (m->rank == m->K) {
+        double t = 0.0;
+        for (size_t g = 0; g < m->K; g++)
+            t += s[g] * s[g];
+        return t;
+    }
+    return sturdy_proj_norm2(m->U, m->K, m->rank, s);
+}
+
+static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr, double *s,
+                          signed char *sign)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t n = d->n, K = m->K;
+    sturdy_pcg64 g;
+    sturdy_pcg_for(&g, c->r->opts.seed, STURDY_STREAM_BOOTSTRAP, b);
+    for (size_t ri = 0; ri < c->r->nresp; ri++) {
+        const resp_boot *rb = &c->rb[ri];
+        switch (c->r->boot_scheme) {
+        case STURDY_BOOT_WILD:
+            sturdy_pcg_signs(&g, sign, n);
+            for (size_t i = 0; i < n; i++)
+                rs[i] = sign[i] * rb->a[i];
+            break;
+        case STURDY_BOOT_CELLS:
+            for (size_t i = 0; i < n; i++) {
+                size_t gi = d->group[i], lo = c->grp_start[gi];
+                size_t k = (size_t)sturdy_pcg_bounded(&g, c->grp_start[gi + 1] - lo);
+                rs[i] = rb->a[c->grp_rows[lo + k]];
+            }
+            break;
+        default:
+            for (size_t i = 0; i < n; i++)
+                rs[i] = rb->a[rb->pool[sturdy_pcg_bounded(&g, rb->npool)]];
+        }
+        double rr = 0.0, sum = 0.0, fr = 0.0;
+        for (size_t i = 0; i < n; i++) {
+            rr += rs[i] * rs[i];
+            sum += rs[i];
+            fr += rb->fc[i] * rs[i];
+        }
+        sturdy_model_group_scaled(d, m, rs, sr);
+        double sse = rr - full_norm2(m, sr);
+        double sst = rb->ff + 2.0 * fr + rr - sum * sum / (double)n;
+        for (size_t q = 0; q < K; q++)
+            s[q] = rb->sf[q] + sr[q];
+        sturdy_response_result *resp = &c->r->resp[ri];
+        for (size_t t = 0; t < resp->nterms; t++) {
+            sturdy_term_result *tr = &resp->terms[t];
+            if (!tr->boot)
+                continue;
+            double *out = tr->boot + (b - c->r->boot_begin) * STURDY_NES;
+            const sturdy_term_basis *tb = &m->terms[t];
+            double ss = sturdy_proj_norm2(tb->Uterm, K, tb->df, s);
+            sturdy_effect_sizes(ss, (double)tb->df, sse, (double)m->df_error, sst,
+                                (double)n, out);
+        }
+    }
+}
+
+/* Leave-one-out effect sizes of term t by the deletion formula RSS(−i) = RSS −
+ * e_i²/(1 − h_i) for the reduced, augmented and full models, and the acceleration
+ * â = Σu³ / (6 (Σu²)^{3/2}) with u_i = θ̄ − θ_(i) (Efron 1987). For the cells scheme the
+ * jackknife runs within each group, as for a stratified bootstrap (the form used by
+ * scipy.stats.bootstrap for several samples). */
+static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *err)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t n = d->n, K = m->K;
+    const sturdy_term_basis *tb = &m->terms[t];
+    sturdy_response_result *resp = &c->r->resp[ri];
+    sturdy_term_result *tr = &resp->terms[t];
+    const double *y = d->y + ri * n;
+    double *s = malloc(K * sizeof *s), *work = malloc((m->rank + K) * sizeof *work);
+    double *ered = malloc(n * sizeof *ered), *eaug = malloc(n * sizeof *eaug);
+    double *hred = calloc(K, sizeof *hred), *haug = calloc(K, sizeof *haug);
+    double *jack = malloc(n * STURDY_NES * sizeof *jack);
+    if (!s || !work || !ered || !eaug || !hred || !haug || !jack) {
+        free(s); free(work); free(ered); free(eaug); free(hred); free(haug); free(jack);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    sturdy_model_group_scaled(d, m, y, s);
+    sturdy_model_project(d, m, tb->Ured, tb->rank_red, s, work, ered);
+    sturdy_model_project(d, m, tb->Uterm, tb->df, s, work, eaug);
+    double rss_red = 0.0, rss_aug = 0.0, mean = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        ered[i] = y[i] - ered[i];
+        eaug[i] = ered[i] - eaug[i];
+        rss_red += ered[i] * ered[i];
+        rss_aug += eaug[i] * eaug[i];
+        mean += y[i];
+    }
+    mean /= (double)n;
+    for (size_t g = 0; g < K; g++) {
+        for (size_t q = 0; q < tb->rank_red; q++)
+            hred[g] += tb->Ured[q * K + g] * tb->Ured[q * K + g];
+        double ht = 0.0;
+        for (size_t q = 0; q < tb->df; q++)
+            ht += tb->Uterm[q * K + g] * tb->Uterm[q * K + g];
+        hred[g] /= (double)d->group_count[g];
+        haug[g] = hred[g] + ht / (double)d->group_count[g];
+    }
+    double sse = resp->ss_error, sst = resp->ss_total, dfe = resp->df_error;
+    for (size_t i = 0; i < n; i++) {
+        size_t g = d->group[i];
+        double hf = m->leverage[g];
+        double *out = jack + i * STURDY_NES;
+        if (hf >= 1 - LEVERAGE_ONE_TOL || haug[g] >= 1 - LEVERAGE_ONE_TOL ||
+            hred[g] >= 1 - LEVERAGE_ONE_TOL) {
+            for (int e = 0; e < STURDY_NES; e++)
+                out[e] = NAN;
+            continue;
+        }
+        double ei = resp->residual[i];
+        double rred = rss_red - ered[i] * ered[i] / (1 - hred[g]);
+        double raug = rss_aug - eaug[i] * eaug[i] / (1 - haug[g]);
+        double rfull = sse - ei * ei / (1 - hf);
+        double dy = y[i] - mean;
+        double sst_i = sst - (double)n / (double)(n - 1) * dy * dy;
+        sturdy_effect_sizes(rred - raug, tr->df, rfull, dfe - 1, sst_i, (double)(n - 1), out);
+    }
+    for (int e = 0; e < STURDY_NES; e++) {
+        int cells = c->r->boot_scheme == STURDY_BOOT_CELLS;
+        size_t ngrp = cells ? K : 1;
+        double num = 0.0, den = 0.0;
+        int usable = 0;
+        for (size_t gi = 0; gi < ngrp; gi++) {
+            /* mean of the jackknife values in the stratum */
+            double tbar = 0.0;
+            size_t cnt = 0;
+            for (size_t i = 0; i < n; i++) {
+                if (cells && d->group[i] != gi)
+                    continue;
+                double v = jack[i * STURDY_NES + e];
+                if (isfinite(v)) { tbar += v; cnt++; }
+            }
+            if (cnt < 2)
+                continue;
+            tbar /= (double)cnt;
+            double s2 = 0.0, s3 = 0.0;
+            for (size_t i = 0; i < n; i++) {
+                if (cells && d->group[i] != gi)
+                    continue;
+                double v = jack[i * STURDY_NES + e];
+                if (!isfinite(v))
+                    continue;
+                double u = (double)(cnt - 1) * (tbar - v);
+                s2 += u * u;
+                s3 += u * u * u;
+            }
+            num += s3 / ((double)cnt * cnt * cnt);
+            den += s2 / ((double)cnt * cnt);
+            usable = 1;
+        }
+        tr->accel[e] = (usable && den > 0) ? num / (6.0 * pow(den, 1.5)) : NAN;
+    }
+    free(s); free(work); free(ered); free(eaug); free(hred); free(haug); free(jack);
+    return STURDY_OK;
+}
+
+static void ctx_free(boot_ctx *c)
+{
+    if (c->rb)
+        for (size_t ri = 0; ri < c->r->nresp; ri++) {
+            free(c->rb[ri].fc); free(c->rb[ri].sf); free(c->rb[ri].a); free(c->rb[ri].pool);
+        }
+    free(c->rb);
+    free(c->grp_start);
+    free(c->grp_rows);
+}
+
+static sturdy_status setup(boot_ctx *c, char *err)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t n = d->n, K = m->K;
+    c->rb = calloc(c->r->nresp, sizeof *c->rb);
+    if (!c->rb)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (c->r->boot_scheme == STURDY_BOOT_CELLS) {
+        c->grp_start = calloc(K + 1, sizeof *c->grp_start);
+        c->grp_rows = malloc(n * sizeof *c->grp_rows);
+        size_t *fill = calloc(K, sizeof *fill);
+        if (!c->grp_start || !c->grp_rows || !fill) {
+            free(fill);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+        for (size_t i = 0; i < n; i++)
+            c->grp_start[d->group[i] + 1]++;
+        for (size_t g = 0; g < K; g++)
+            c->grp_start[g + 1] += c->grp_start[g];
+        for (size_t i = 0; i < n; i++)
+            c->grp_rows[c->grp_start[d->group[i]] + fill[d->group[i]]++] = i;
+        free(fill);
+    }
+    for (size_t ri = 0; ri < c->r->nresp; ri++) {
+        resp_boot *rb = &c->rb[ri];
+        const sturdy_response_result *resp = &c->r->resp[ri];
+        const double *y = d->y + ri * n;
+        rb->fc = malloc(n * sizeof *rb->fc);
+        rb->sf = malloc(K * sizeof *rb->sf);
+        rb->a = malloc(n * sizeof *rb->a);
+        rb->pool = malloc(n * sizeof *rb->pool);
+        if (!rb->fc || !rb->sf || !rb->a || !rb->pool)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        double mean = 0.0;
+        for (size_t i = 0; i < n; i++)
+            mean += y[i];
+        mean /= (double)n;
+        rb->ff = 0.0;
+        for (size_t i = 0; i < n; i++) {
+            rb->fc[i] = y[i] - resp->residual[i] - mean;
+            rb->ff += rb->fc[i] * rb->fc[i];
+        }
+        sturdy_model_group_scaled(d, m, rb->fc, rb->sf);
+        if (c->r->boot_scheme == STURDY_BOOT_CELLS) {
+            memcpy(rb->a, resp->residual, n * sizeof *rb->a);
+            continue;
+        }
+        double abar = 0.0;
+        rb->npool = 0;
+        for (size_t i = 0; i < n; i++) {
+            double h = m->leverage[d->group[i]];
+            if (h < 1 - LEVERAGE_ONE_TOL) {
+                rb->a[i] = resp->residual[i] / sqrt(1 - h);
+                rb->pool[rb->npool++] = i;
+                abar += rb->a[i];
+            } else {
+                rb->a[i] = 0.0;
+            }
+        }
+        if (rb->npool == 0)
+            return sturdy_fail(err, STURDY_EMODEL,
+                               "no residual can be resampled: every row is alone in its cell");
+        if (c->r->boot_scheme == STURDY_BOOT_RESIDUAL) {
+            abar /= (double)rb->npool;
+            for (size_t k = 0; k < rb->npool; k++)
+                rb->a[rb->pool[k]] -= abar;
+        }
+    }
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m,
+                                   sturdy_result *r, char *err)
+{
+    boot_ctx c = {d, m, r, NULL, NULL, NULL};
+    size_t n = d->n, K = m->K;
+    uint64_t b0 = r->boot_begin, b1 = r->boot_end;
+    sturdy_status st = STURDY_OK;
+    if (m->df_error == 0)
+        return STURDY_OK;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++) {
+            sturdy_term_result *tr = &r->resp[ri].terms[t];
+            for (int e = 0; e < STURDY_NES; e++)
+                tr->accel[e] = NAN;
+            if (!(tr->f >= 0))
+                continue;
+            if (b1 > b0) {
+                tr->boot = malloc((size_t)(b1 - b0) * STURDY_NES * sizeof *tr->boot);
+                if (!tr->boot)
+                    return sturdy_fail(err, STURDY_EINTERNAL,
+                                       "out of memory for the bootstrap replicates");
+            }
+        }
+    if ((st = setup(&c, err)))
+        goto done;
+    for (size_t ri = 0; ri < r->nresp && !st; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms && !st; t++)
+            if (r->resp[ri].terms[t].f >= 0)
+                st = acceleration(&c, ri, t, err);
+    if (st || b1 <= b0)
+        goto done;
+    int nthreads = r->opts.threads;
+#ifdef _OPENMP
+    if (nthreads <= 0)
+        nthreads = omp_get_max_threads();
+#else
+    nthreads = 1;
+#endif
+    int failed = 0;
+    int64_t count = (int64_t)(b1 - b0);
+#pragma omp parallel num_threads(nthreads)
+    {
+        double *rs = malloc(n * sizeof *rs), *sr = malloc(K * sizeof *sr);
+        double *s = malloc(K * sizeof *s);
+        signed char *sign = malloc(n);
+        int ok = rs && sr && s && sign;
+        if (!ok) {
+#pragma omp atomic write
+            failed = 1;
+        }
+#pragma omp for schedule(dynamic, 16)
+        for (int64_t k = 0; k < count; k++)
+            if (ok)
+                one_replicate(&c, b0 + (uint64_t)k, rs, sr, s, sign);
+        free(rs); free(sr); free(s); free(sign);
+    }
+    if (failed)
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for bootstrap workspaces");
+done:
+    ctx_free(&c);
+    return st;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : (x > y);
+}
+
+/* Quantile with linear interpolation between order statistics, position (B−1)·q
+ * (Hyndman & Fan 1996, definition 7; numpy's default, which scipy.stats.bootstrap uses). */
+static double quantile_sorted(const double *x, size_t B, double q)
+{
+    if (B == 0 || !(q >= 0 && q <= 1))
+        return NAN;
+    double h = (double)(B - 1) * q;
+    size_t lo = (size_t)floor(h);
+    if (lo >= B - 1)
+        return x[B - 1];
+    return x[lo] + (h - (double)lo) * (x[lo + 1] - x[lo]);
+}
+
+sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_result *t,
+                                         char *err)
+{
+    uint64_t B = r->nboot;
+    if (!t->boot || B == 0)
+        return STURDY_OK;
+    double *x = malloc((size_t)B * sizeof *x);
+    if (!x)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    double a2 = (1 - r->opts.conf) / 2;
+    int bca_failed = 0;
+    for (int e = 0; e < STURDY_NES; e++) {
+        size_t k = 0, below = 0;
+        double theta = t->es[e];
+        for (uint64_t b = 0; b < B; b++) {
+            double v = t->boot[b * STURDY_NES + e];
+            if (isfinite(v)) {
+                x[k++] = v;
+                if (v < theta)
+                    below++;
+            }
+        }
+        t->ci_pct[e].lo = t->ci_pct[e].hi = t->ci_bca[e].lo = t->ci_bca[e].hi = NAN;
+        if (k < 2 || !isfinite(theta))
+            continue;
+        qsort(x, k, sizeof *x, cmp_double);
+        t->ci_pct[e].lo = quantile_sorted(x, k, a2);
+        t->ci_pct[e].hi = quantile_sorted(x, k, 1 - a2);
+        /* BCa (Efron 1987): bias correction z0 from the share of replicates below the
+         * estimate, acceleration from the jackknife */
+        double frac = (double)below / (double)k, acc = t->accel[e];
+        if (frac <= 0 || frac >= 1 || !isfinite(acc)) {
+            bca_failed = 1;
+            continue;
+        }
+        double z0 = sturdy_norm_ppf(frac);
+        double zl = z0 + sturdy_norm_ppf(a2), zh = z0 + sturdy_norm_ppf(1 - a2);
+        double pl = sturdy_norm_cdf(z0 + zl / (1 - acc * zl));
+        double ph = sturdy_norm_cdf(z0 + zh / (1 - acc * zh));
+        t->ci_bca[e].lo = quantile_sorted(x, k, pl);
+        t->ci_bca[e].hi = quantile_sorted(x, k, ph);
+    }
+    free(x);
+    if (bca_failed && !t->boot_note) {
+        t->boot_note = sturdy_strdup(
+            "some BCa intervals are absent: every replicate fell on one side of the "
+            "estimate, or the jackknife acceleration is undefined");
+        if (!t->boot_note)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    return STURDY_OK;
+}

@@ -1,0 +1,473 @@
+/* permute.c — permutation and sign-flipping tests for every term (Freedman & Lane 1983;
+ * ter Braak 1992; raw data, Manly 1997; sign flipping, Winkler et al. 2014), with
+ * exchangeability blocks, exact enumeration, and the Westfall–Young (1993) single-step
+ * min-p count across all terms and responses.
+ *
+ * Design. Term t of response r is tested by rearranging a vector v (Freedman–Lane: the
+ * residuals of t's reduced model; ter Braak: the full model's residuals; raw: the centred
+ * response). Since the reduced model's fitted values lie inside every model compared,
+ *     F* = (‖U_tᵀ s*‖² / df) / ((‖v‖² − ‖U_fullᵀ s*‖²) / df_error),
+ * where s* are the group sums (÷√n_g) of the rearranged v (fit.h). ‖v‖² is invariant
+ * under rearrangement, so each rearrangement costs one gather of n rows (all terms' v
+ * stored side by side, so one row read serves every term) plus small products with the
+ * group-space bases, done for a block of rearrangements at once with dgemm. For
+ * factor-only models the groups are the cells, so nothing of size n × p is ever formed.
+ *
+ * Reproducibility: rearrangement b uses generator sturdy_pcg_for(seed, PERMUTE, b) only
+ * (or, when enumerating, the b-th rearrangement in a fixed order); counts are integers
+ * summed per thread, so any split over threads, shards or ranks gives the same counts. */
+#include <cblas.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+#include "engine.h"
+#include "internal.h"
+#include "sturdy/dist.h"
+#include "sturdy/pcg.h"
+
+/* Work per thread and block is bounded by this many bytes of group sums. */
+#define PERM_BLOCK_BYTES (16u << 20)
+#define PERM_BLOCK_MAX 64
+
+typedef struct {
+    size_t resp, term;
+    const double *U;     /* K × df basis of the term's hypothesis space */
+    size_t df;
+    double vv;           /* ‖v‖² */
+    double c;            /* count b when num* ≥ c·den*:  c = F_obs·df/df_error·(1−tol) */
+} member;
+
+typedef struct {
+    const sturdy_design *d;
+    const sturdy_model *m;
+    size_t M;            /* members */
+    member *mem;
+    double *V;           /* n × M row-major: the vectors to rearrange */
+    double *thr;         /* M × M: thr[t·M + j] = c-factor of member t at p_j */
+    int flip, exact;
+    uint64_t seed;
+    /* exchangeability blocks: rows listed block by block */
+    size_t nblk;
+    size_t *blk_start;   /* nblk + 1 */
+    size_t *blk_rows;    /* n */
+    size_t nb;           /* rearrangements per dgemm block */
+} perm_ctx;
+
+static uint64_t factorial_sat(size_t k)
+{
+    uint64_t f = 1;
+    for (size_t i = 2; i <= k; i++) {
+        if (f > UINT64_MAX / i)
+            return UINT64_MAX;
+        f *= i;
+    }
+    return f;
+}
+
+uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
+{
+    if (flip)
+        return d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
+    if (!d->has_block)
+        return factorial_sat(d->n);
+    size_t *cnt = calloc(d->block.nlevels, sizeof *cnt);
+    if (!cnt)
+        return UINT64_MAX;
+    for (size_t i = 0; i < d->n; i++)
+        cnt[d->block_level[i]]++;
+    uint64_t total = 1;
+    for (size_t k = 0; k < d->block.nlevels; k++) {
+        uint64_t f = factorial_sat(cnt[k]);
+        if (f == UINT64_MAX || (f && total > UINT64_MAX / f)) {
+            total = UINT64_MAX;
+            break;
+        }
+        total *= f;
+    }
+    free(cnt);
+    return total;
+}
+
+/* The b-th permutation in enumeration order: mixed radix over blocks, each block's digit
+ * decoded as a Lehmer code (factorial number system); b = 0 is the identity. */
+static void unrank(const perm_ctx *c, uint64_t b, size_t *perm, size_t *pool)
+{
+    for (size_t k = 0; k < c->nblk; k++) {
+        size_t lo = c->blk_start[k], m = c->blk_start[k + 1] - lo;
+        uint64_t f = factorial_sat(m);
+        uint64_t idx = b % f;
+        b /= f;
+        for (size_t i = 0; i < m; i++)
+            pool[i] = c->blk_rows[lo + i];
+        for (size_t i = 0; i < m; i++) {
+            uint64_t fi = factorial_sat(m - 1 - i);
+            size_t dgt = (size_t)(idx / fi);
+            idx %= fi;
+            perm[c->blk_rows[lo + i]] = pool[dgt];
+            memmove(pool + dgt, pool + dgt + 1, (m - i - 1 - dgt) * sizeof *pool);
+        }
+    }
+}
+
+/* Rearrangement b: perm[i] = source row of destination row i, or signs. */
+static void rearrangement(const perm_ctx *c, uint64_t b, size_t *perm, signed char *sign,
+                          size_t *pool)
+{
+    size_t n = c->d->n;
+    if (c->flip) {
+        if (c->exact) {
+            for (size_t i = 0; i < n; i++)
+                sign[i] = (b >> i) & 1 ? -1 : 1;
+        } else {
+            sturdy_pcg64 g;
+            sturdy_pcg_for(&g, c->seed, STURDY_STREAM_PERMUTE, b);
+            sturdy_pcg_signs(&g, sign, n);
+        }
+        return;
+    }
+    if (c->exact) {
+        unrank(c, b, perm, pool);
+        return;
+    }
+    sturdy_pcg64 g;
+    sturdy_pcg_for(&g, c->seed, STURDY_STREAM_PERMUTE, b);
+    for (size_t k = 0; k < c->nblk; k++) {
+        size_t lo = c->blk_start[k], m = c->blk_start[k + 1] - lo;
+        for (size_t i = 0; i < m; i++)
+            pool[i] = c->blk_rows[lo + i];
+        sturdy_pcg_shuffle(&g, pool, m);
+        for (size_t i = 0; i < m; i++)
+            perm[c->blk_rows[lo + i]] = pool[i];
+    }
+}
+
+typedef struct {
+    size_t *perm, *pool;
+    signed char *sign;
+    double *tmp;         /* K × M: group sums of one rearrangement, row-major */
+    double *S;           /* M blocks of K × nb */
+    double *C;           /* max(df, rank) × nb */
+    double *num, *den;   /* M × nb */
+    uint64_t *exceed, *fwer;
+} perm_work;
+
+static void work_free(perm_work *w)
+{
+    if (!w)
+        return;
+    free(w->perm); free(w->pool); free(w->sign); free(w->tmp); free(w->S); free(w->C);
+    free(w->num); free(w->den); free(w->exceed); free(w->fwer);
+}
+
+static int work_alloc(const perm_ctx *c, perm_work *w)
+{
+    size_t n = c->d->n, K = c->m->K, M = c->M, nb = c->nb, maxdf = c->m->rank;
+    for (size_t j = 0; j < M; j++)
+        if (c->mem[j].df > maxdf)
+            maxdf = c->mem[j].df;
+    memset(w, 0, sizeof *w);
+    w->perm = malloc(n * sizeof *w->perm);
+    w->pool = malloc(n * sizeof *w->pool);
+    w->sign = malloc(n);
+    w->tmp = calloc(K * M, sizeof *w->tmp);
+    w->S = malloc(M * K * nb * sizeof *w->S);
+    w->C = malloc(maxdf * nb * sizeof *w->C);
+    w->num = malloc(M * nb * sizeof *w->num);
+    w->den = malloc(M * nb * sizeof *w->den);
+    w->exceed = calloc(M, sizeof *w->exceed);
+    w->fwer = calloc(M, sizeof *w->fwer);
+    return w->perm && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
+           w->exceed && w->fwer;
+}
+
+/* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
+static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t n = d->n, K = m->K, M = c->M, nb = cnt;
+    for (size_t bb = 0; bb < nb; bb++) {
+        rearrangement(c, b0 + bb, w->perm, w->sign, w->pool);
+        double *tmp = w->tmp;
+        if (c->flip) {
+            for (size_t i = 0; i < n; i++) {
+                const double *row = c->V + i * M;
+                double *dst = tmp + d->group[i] * M;
+                double sg = (double)w->sign[i];
+                for (size_t j = 0; j < M; j++)
+                    dst[j] += sg * row[j];
+            }
+        } else {
+            for (size_t i = 0; i < n; i++) {
+                const double *row = c->V + w->perm[i] * M;
+                double *dst = tmp + d->group[i] * M;
+                for (size_t j = 0; j < M; j++)
+                    dst[j] += row[j];
+            }
+        }
+        for (size_t g = 0; g < K; g++) {
+            double inv = 1.0 / m->sqrt_count[g];
+            for (size_t j = 0; j < M; j++) {
+                w->S[(j * nb + bb) * K + g] = tmp[g * M + j] * inv;
+                tmp[g * M + j] = 0.0;
+            }
+        }
+    }
+    for (size_t j = 0; j < M; j++) {
+        const member *mj = &c->mem[j];
+        const double *S = w->S + j * nb * K;
+        cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, (int)mj->df, (int)nb, (int)K,
+                    1.0, mj->U, (int)K, S, (int)K, 0.0, w->C, (int)mj->df);
+        for (size_t bb = 0; bb < nb; bb++) {
+            double s2 = 0.0;
+            for (size_t q = 0; q < mj->df; q++)
+                s2 += w->C[bb * mj->df + q] * w->C[bb * mj->df + q];
+            w->num[j * nb + bb] = s2;
+        }
+        if (m->rank == K) { /* the full model spans group space: ‖U_fullᵀ s‖ = ‖s‖ */
+            for (size_t bb = 0; bb < nb; bb++) {
+                double s2 = 0.0;
+                for (size_t g = 0; g < K; g++)
+                    s2 += S[bb * K + g] * S[bb * K + g];
+                w->den[j * nb + bb] = mj->vv - s2;
+            }
+        } else {
+            cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, (int)m->rank, (int)nb,
+                        (int)K, 1.0, m->U, (int)K, S, (int)K, 0.0, w->C, (int)m->rank);
+            for (size_t bb = 0; bb < nb; bb++) {
+                double s2 = 0.0;
+                for (size_t q = 0; q < m->rank; q++)
+                    s2 += w->C[bb * m->rank + q] * w->C[bb * m->rank + q];
+                w->den[j * nb + bb] = mj->vv - s2;
+            }
+        }
+    }
+    for (size_t bb = 0; bb < nb; bb++) {
+        for (size_t j = 0; j < M; j++)
+            if (w->num[j * nb + bb] >= c->mem[j].c * w->den[j * nb + bb])
+                w->exceed[j]++;
+        /* Westfall–Young: is the smallest p* over the family ≤ p_j? */
+        for (size_t j = 0; j < M; j++)
+            for (size_t t = 0; t < M; t++)
+                if (w->num[t * nb + bb] >= c->thr[t * M + j] * w->den[t * nb + bb]) {
+                    w->fwer[j]++;
+                    break;
+                }
+    }
+}
+
+static sturdy_status set_note(char **slot, const char *text, char *err)
+{
+    if (*slot)
+        return STURDY_OK;
+    *slot = sturdy_strdup(text);
+    return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
+/* Choose the members and their vectors. */
+static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t n = d->n, K = m->K;
+    sturdy_status st;
+    c->mem = calloc(r->nresp * d->nterms + 1, sizeof *c->mem);
+    if (!c->mem)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < d->nterms; t++) {
+            sturdy_term_result *tr = &r->resp[ri].terms[t];
+            const char *why = NULL;
+            if (d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip)
+                why = "no permutation p-value for the block term: rearranging within "
+                      "blocks leaves it unchanged, so it cannot be tested that way";
+            else if (!(tr->f >= 0))
+                why = tr->note ? tr->note : "no F statistic to compare";
+            if (why) {
+                if ((st = set_note(&tr->perm_note, why, err)))
+                    return st;
+                continue;
+            }
+            member *mb = &c->mem[c->M++];
+            mb->resp = ri;
+            mb->term = t;
+            mb->U = m->terms[t].Uterm;
+            mb->df = m->terms[t].df;
+            mb->c = tr->f * (double)mb->df / (double)m->df_error * (1.0 - STURDY_TIE_RTOL);
+        }
+    size_t M = c->M;
+    if (M == 0)
+        return STURDY_OK;
+    c->V = malloc(n * M * sizeof *c->V);
+    c->thr = malloc(M * M * sizeof *c->thr);
+    double *v = malloc(n * sizeof *v), *s = malloc(K * sizeof *s);
+    double *work = malloc((m->rank + K) * sizeof *work), *fit = malloc(n * sizeof *fit);
+    if (!c->V || !c->thr || !v || !s || !work || !fit) {
+        free(v); free(s); free(work); free(fit);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t j = 0; j < M; j++) {
+        member *mb = &c->mem[j];
+        const double *y = d->y + mb->resp * n;
+        const sturdy_response_result *rr = &r->resp[mb->resp];
+        if (r->method == STURDY_METHOD_TER_BRAAK) {
+            for (size_t i = 0; i < n; i++)
+                v[i] = rr->residual[i];
+        } else if (r->method == STURDY_METHOD_RAW) {
+            double mean = 0.0;
+            for (size_t i = 0; i < n; i++)
+                mean += y[i];
+            mean /= (double)n;
+            for (size_t i = 0; i < n; i++)
+                v[i] = y[i] - mean;
+        } else { /* Freedman–Lane: residuals of the reduced model */
+            const sturdy_term_basis *tb = &m->terms[mb->term];
+            sturdy_model_group_scaled(d, m, y, s);
+            sturdy_model_project(d, m, tb->Ured, tb->rank_red, s, work, fit);
+            for (size_t i = 0; i < n; i++)
+                v[i] = y[i] - fit[i];
+        }
+        double vv = 0.0;
+        for (size_t i = 0; i < n; i++) {
+            c->V[i * M + j] = v[i];
+            vv += v[i] * v[i];
+        }
+        mb->vv = vv;
+    }
+    free(v); free(s); free(work); free(fit);
+    /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
+    for (size_t t = 0; t < M; t++)
+        for (size_t j = 0; j < M; j++) {
+            const member *mt = &c->mem[t];
+            if (t == j) {
+                c->thr[t * M + j] = mt->c;
+                continue;
+            }
+            double pj = r->resp[c->mem[j].resp].terms[c->mem[j].term].p;
+            double q = sturdy_f_isf(pj, (double)mt->df, (double)m->df_error);
+            c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
+                                (1.0 - STURDY_TIE_RTOL);
+        }
+    /* exchangeability blocks */
+    c->nblk = (d->has_block && !c->flip) ? d->block.nlevels : 1;
+    c->blk_start = calloc(c->nblk + 1, sizeof *c->blk_start);
+    c->blk_rows = malloc(n * sizeof *c->blk_rows);
+    if (!c->blk_start || !c->blk_rows)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++)
+        c->blk_start[(c->nblk > 1 ? d->block_level[i] : 0) + 1]++;
+    for (size_t k = 0; k < c->nblk; k++)
+        c->blk_start[k + 1] += c->blk_start[k];
+    size_t *fill = calloc(c->nblk, sizeof *fill);
+    if (!fill)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++) {
+        size_t k = c->nblk > 1 ? d->block_level[i] : 0;
+        c->blk_rows[c->blk_start[k] + fill[k]++] = i;
+    }
+    free(fill);
+    size_t nb = PERM_BLOCK_BYTES / (M * K * sizeof(double) + 1);
+    c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
+    return STURDY_OK;
+}
+
+static double now_seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
+                                 sturdy_result *r, char *err)
+{
+    perm_ctx c;
+    memset(&c, 0, sizeof c);
+    c.d = d;
+    c.m = m;
+    c.flip = r->opts.flip;
+    c.exact = r->exact;
+    c.seed = r->opts.seed;
+    sturdy_status st = setup(&c, r, err);
+    uint64_t b0 = r->perm_begin, b1 = r->perm_end;
+    if (st || c.M == 0 || b1 <= b0)
+        goto done;
+    uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
+    int64_t nblocks = (int64_t)(last_blk - first_blk);
+    uint64_t *exceed = calloc(c.M, sizeof *exceed), *fwer = calloc(c.M, sizeof *fwer);
+    int failed = 0;
+    uint64_t done_count = 0;
+    double last_report = now_seconds();
+    int nthreads = r->opts.threads > 0 ? r->opts.threads : 0;
+    if (!exceed || !fwer) {
+        free(exceed); free(fwer);
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+#ifdef _OPENMP
+    if (nthreads == 0)
+        nthreads = omp_get_max_threads();
+#else
+    nthreads = 1;
+#endif
+#pragma omp parallel num_threads(nthreads)
+    {
+        perm_work w;
+        int ok = work_alloc(&c, &w);
+        if (!ok) {
+#pragma omp atomic write
+            failed = 1;
+        }
+#pragma omp for schedule(dynamic, 1)
+        for (int64_t k = 0; k < nblocks; k++) {
+            if (!ok)
+                continue;
+            uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
+            if (lo < b0) lo = b0;
+            if (hi > b1) hi = b1;
+            run_block(&c, lo, (size_t)(hi - lo), &w);
+            if (r->opts.progress) {
+#pragma omp critical(sturdy_progress)
+                {
+                    done_count += hi - lo;
+                    double t = now_seconds();
+                    if (t - last_report > 0.2 || done_count == b1 - b0) {
+                        last_report = t;
+                        r->opts.progress(r->opts.progress_ctx, done_count, b1 - b0);
+                    }
+                }
+            }
+        }
+        if (ok) {
+#pragma omp critical(sturdy_perm_reduce)
+            for (size_t j = 0; j < c.M; j++) {
+                exceed[j] += w.exceed[j];
+                fwer[j] += w.fwer[j];
+            }
+        }
+        work_free(&w);
+    }
+    if (failed) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for permutation workspaces");
+    } else {
+        for (size_t j = 0; j < c.M; j++) {
+            sturdy_term_result *tr = &r->resp[c.mem[j].resp].terms[c.mem[j].term];
+            tr->exceed += exceed[j];
+            tr->exceed_fwer += fwer[j];
+        }
+    }
+    free(exceed);
+    free(fwer);
+done:
+    free(c.mem);
+    free(c.V);
+    free(c.thr);
+    free(c.blk_start);
+    free(c.blk_rows);
+    return st;
+}

@@ -1,0 +1,169 @@
+/* residuals.c — diagnostics of one response's residuals (normality, moments, equal
+ * variances across cells, studentized outliers) and the verdict of each term. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "engine.h"
+#include "internal.h"
+#include "sturdy/diagnose.h"
+
+/* Shapiro–Wilk (Royston 1995) is defined for 3 ≤ n ≤ 5000. */
+#define SW_MAX_N 5000
+/* |externally studentized residual| above this marks a row (common practice: 3). */
+#define OUTLIER_LIMIT 3.0
+/* Level at which a diagnostic test is called "failed" in verdict reasons (common
+ * practice: 0.05, the same as the default alpha, independent of --alpha). */
+#define DIAG_LEVEL 0.05
+
+static sturdy_status note(char **slot, char *text, char *err)
+{
+    *slot = text;
+    return text ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
+sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
+                                       sturdy_response_result *resp, char *err)
+{
+    size_t n = d->n;
+    sturdy_diagnostics *dg = &resp->diag;
+    const double *e = resp->residual;
+    char msg[STURDY_ERR_LEN];
+    sturdy_status st;
+    dg->sw_w = dg->sw_p = dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
+    dg->variance_ratio = NAN;
+    dg->studentized = malloc(n * sizeof *dg->studentized);
+    dg->leverage = malloc(n * sizeof *dg->leverage);
+    double *internal = malloc(n * sizeof *internal);
+    if (!dg->studentized || !dg->leverage || !internal) {
+        free(internal);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    sturdy_moments(e, n, &dg->skewness, &dg->excess_kurtosis);
+
+    if (m->df_error == 0) {
+        free(internal);
+        for (size_t i = 0; i < n; i++)
+            dg->studentized[i] = dg->leverage[i] = NAN;
+        const char *why = "no residual degrees of freedom: residuals carry no information";
+        if ((st = note(&dg->sw_note, sturdy_strdup(why), err)) ||
+            (st = note(&dg->bf_note, sturdy_strdup(why), err)))
+            return st;
+        return note(&dg->vr_note, sturdy_strdup(why), err);
+    }
+    if (n > SW_MAX_N) {
+        st = note(&dg->sw_note, sturdy_asprintf(
+                 "Shapiro-Wilk is defined for 3 to %d rows and %zu are used; judge "
+                 "normality from the skewness and excess kurtosis", SW_MAX_N, n), err);
+    } else if (sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg) != STURDY_OK) {
+        dg->sw_w = dg->sw_p = NAN;
+        st = note(&dg->sw_note, sturdy_strdup(msg), err);
+    } else {
+        st = STURDY_OK;
+    }
+    if (st) {
+        free(internal);
+        return st;
+    }
+    if (sturdy_brown_forsythe(e, d->cell, n, d->ncells, &dg->bf_f, &dg->bf_df1, &dg->bf_df2,
+                              &dg->bf_p, msg) != STURDY_OK) {
+        dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
+        if ((st = note(&dg->bf_note, sturdy_strdup(msg), err))) {
+            free(internal);
+            return st;
+        }
+    }
+    /* variance ratio over cells with at least two rows */
+    double vmax = -1, vmin = INFINITY;
+    for (size_t c = 0; c < d->ncells; c++) {
+        double sd = resp->cell_sd[c];
+        if (isnan(sd))
+            continue;
+        vmax = fmax(vmax, sd * sd);
+        vmin = fmin(vmin, sd * sd);
+    }
+    if (vmax < 0)
+        st = note(&dg->vr_note, sturdy_strdup("no cell has two rows"), err);
+    else if (!(vmin > 0))
+        st = note(&dg->vr_note, sturdy_strdup("a cell has zero variance"), err);
+    else
+        dg->variance_ratio = vmax / vmin;
+    if (st) {
+        free(internal);
+        return st;
+    }
+    for (size_t i = 0; i < n; i++)
+        dg->leverage[i] = m->leverage[d->group[i]];
+    sturdy_studentize(e, dg->leverage, n, m->df_error, internal, dg->studentized);
+    free(internal);
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        if (fabs(dg->studentized[i]) > OUTLIER_LIMIT)
+            k++;
+    dg->outliers = calloc(k ? k : 1, sizeof *dg->outliers);
+    if (!dg->outliers)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++)
+        if (fabs(dg->studentized[i]) > OUTLIER_LIMIT) {
+            sturdy_outlier *o = &dg->outliers[dg->noutliers++];
+            o->row = d->row[i] + 1;
+            o->line = d->line[i];
+            o->cell = d->cell[i];
+            o->studentized = dg->studentized[i];
+        }
+    return STURDY_OK;
+}
+
+/* The diagnostic most likely behind a disagreement, as one line. */
+static char *reason_from_diagnostics(const sturdy_response_result *resp,
+                                     const sturdy_term_result *t)
+{
+    const sturdy_diagnostics *dg = &resp->diag;
+    if (dg->noutliers > 0)
+        return sturdy_asprintf("%zu row%s with |studentized residual| > 3 pull the F-test",
+                               dg->noutliers, dg->noutliers == 1 ? "" : "s");
+    if (dg->bf_p < DIAG_LEVEL)
+        return sturdy_asprintf("cell variances differ (Brown-Forsythe p = %.2g, largest/"
+                               "smallest %.3g); consider --flip", dg->bf_p,
+                               dg->variance_ratio);
+    if (dg->sw_p < DIAG_LEVEL)
+        return sturdy_asprintf("residuals are not normal (Shapiro-Wilk p = %.2g, skewness "
+                               "%.2f), so the F distribution is only approximate",
+                               dg->sw_p, dg->skewness);
+    return sturdy_asprintf("both p-values lie near alpha (F-test %.3g, permutation %.3g)",
+                           t->p, t->p_perm);
+}
+
+sturdy_status sturdy_verdict_term(const sturdy_response_result *resp, sturdy_term_result *t,
+                                  double alpha, char *err)
+{
+    t->verdict = STURDY_VERDICT_NONE;
+    t->straddles = 0;
+    if (isnan(t->p) || isnan(t->p_perm))
+        return STURDY_OK;
+    int classical = t->p <= alpha, resampling = t->p_perm <= alpha;
+    t->verdict = classical && resampling   ? STURDY_VERDICT_BOTH
+                 : !classical && !resampling ? STURDY_VERDICT_NEITHER
+                 : classical                 ? STURDY_VERDICT_CLASSICAL_ONLY
+                                             : STURDY_VERDICT_RESAMPLING_ONLY;
+    t->straddles = t->p_perm_ci.lo <= alpha && alpha <= t->p_perm_ci.hi &&
+                   t->p_perm_ci.lo < t->p_perm_ci.hi;
+    char *reason = NULL;
+    if (classical != resampling)
+        reason = reason_from_diagnostics(resp, t);
+    if (t->straddles) {
+        char *more = sturdy_asprintf(
+            "%s%sthe Monte Carlo interval of the permutation p [%.3g, %.3g] contains alpha; "
+            "run more rearrangements (-B)", reason ? reason : "", reason ? "; " : "",
+            t->p_perm_ci.lo, t->p_perm_ci.hi);
+        free(reason);
+        reason = more;
+        if (!reason)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    if ((classical != resampling) && !reason)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    free(t->verdict_reason);
+    t->verdict_reason = reason;
+    return STURDY_OK;
+}
