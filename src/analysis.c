@@ -199,6 +199,16 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         sturdy_model_free(m);
         return st;
     }
+    for (size_t t = 0; t < d->nterms && !st; t++)
+        if (m->terms[t].deficient && m->terms[t].testable)
+            st = add_note(r, sturdy_asprintf(
+                "'%s' is tested with %zu of its %zu degrees of freedom: empty cells or "
+                "collinearity took the rest", d->terms[t].label, m->terms[t].df,
+                m->terms[t].df_nominal), err);
+    if (st) {
+        sturdy_model_free(m);
+        return st;
+    }
     uint64_t count = sturdy_permute_count(d, o->flip);
     r->exact = o->permutations > 0 && count <= o->permutations;
     r->nperm = r->exact ? count : o->permutations;

@@ -423,13 +423,29 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     free(used);
     size_t n = d->n;
     if (n == 0) {
+        /* name the column that empties the table the most */
+        size_t worst = 0, worst_count = 0;
+        for (size_t c = 0; c < t->ncols; c++) {
+            size_t k = 0;
+            int is_used = 0;
+            for (size_t j = 0; j < nr + nf + nc + 1; j++)
+                is_used |= ri[j] == (long)c;
+            if (!is_used)
+                continue;
+            for (size_t i = 0; i < t->nrows; i++)
+                k += t->cols[c].missing[i];
+            if (k > worst_count) {
+                worst_count = k;
+                worst = c;
+            }
+        }
+        sturdy_fail(err, STURDY_EDATA,
+                    "%s: no rows left: every one of the %zu rows has a missing value in a "
+                    "column the model uses (column '%s' is missing in %zu rows)",
+                    t->source, t->nrows, t->cols[worst].name, worst_count);
         free(ri);
-        return sturdy_fail(err, STURDY_EDATA,
-                           "%s: no rows left: all %zu rows have a missing value in a column "
-                           "the model uses",
-                           t->source, t->nrows);
+        return STURDY_EDATA;
     }
-
     /* responses and covariates, exactly converted */
     d->nresp = nr;
     d->resp_names = calloc(nr, sizeof *d->resp_names);

@@ -152,11 +152,14 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
             "not testable: '%s' is completely confounded with the other terms (empty "
             "cells or collinear covariates)", term->label);
     } else if (tb->df < c) {
-        tb->testable = 0;
-        tb->why_not = sturdy_asprintf(
-            "not testable: empty cells or collinearity leave '%s' only %zu of its %zu "
-            "degrees of freedom; drop the highest interactions (--order) or fill the cells",
-            term->label, tb->df, c);
+        tb->deficient = 1;
+        if (m->ss_type == 3) {
+            tb->testable = 0;
+            tb->why_not = sturdy_asprintf(
+                "not testable under Type III: empty cells or collinearity leave '%s' only "
+                "%zu of its %zu degrees of freedom; use --ss 1 or 2, drop the highest "
+                "interactions (--order) or fill the cells", term->label, tb->df, c);
+        }
     }
     if (!tb->testable && !tb->why_not)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -221,7 +224,7 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
             if (!m->terms[t].testable || d->terms[t].kind != STURDY_TERM_FACTORS)
                 continue;
             for (size_t b = 0; b < d->nterms; b++)
-                if (m->terms[b].df < m->terms[b].df_nominal && contains(&d->terms[b], &d->terms[t])) {
+                if (m->terms[b].deficient && contains(&d->terms[b], &d->terms[t])) {
                     m->terms[t].testable = 0;
                     m->terms[t].why_not = sturdy_asprintf(
                         "not testable under Type III: its hypothesis involves the means of "

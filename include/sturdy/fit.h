@@ -24,6 +24,11 @@ typedef struct {
     size_t df;              /* rank the term adds to R (0 when fully confounded) */
     size_t df_nominal;      /* its coded columns */
     int testable;           /* 0: F, p and effect sizes are not computed */
+    int deficient;          /* df < df_nominal: empty cells or collinearity took some
+                               degrees of freedom (tested under Types I and II with the
+                               df that remain, as a sequential comparison allows; under
+                               Type III not tested, since its hypothesis would involve
+                               the means of empty cells) */
     char *why_not;          /* reason when !testable (owned), else NULL */
     size_t rank_red;        /* rank of R */
     double *Ured;           /* K × rank_red basis of R */
@@ -43,9 +48,9 @@ typedef struct {
 } sturdy_model;
 
 /* Build every basis for `ss_type` (1, 2 or 3). Terms that cannot be tested are marked
- * with a reason (empty cells leave a term fewer degrees of freedom than it has coded
- * columns; under Type III such a term and every term it contains are untestable,
- * since their hypotheses would involve the means of empty cells). A model without
+ * with a reason: a term with no degrees of freedom left; under Type III also a term that
+ * empty cells leave fewer degrees of freedom than it has coded columns, and every term
+ * it contains, since their hypotheses would involve the means of empty cells. A model without
  * residual degrees of freedom is still built (the classical stage says what is missing).
  * *out is owned by the caller. */
 sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_model **out,
