@@ -100,7 +100,7 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
             sturdy_term_result *tr = &resp->terms[t];
             if (!tr->boot)
                 continue;
-            double *out = tr->boot + (b - c->r->boot_begin) * STURDY_NES;
+            double *out = tr->boot + b * STURDY_NES;
             const sturdy_term_basis *tb = &m->terms[t];
             double ss = sturdy_proj_norm2(tb->Uterm, K, tb->df, s);
             sturdy_effect_sizes(ss, (double)tb->df, sse, (double)m->df_error, sst,
@@ -309,11 +309,16 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
                 tr->accel[e] = NAN;
             if (!(tr->f >= 0))
                 continue;
-            if (b1 > b0) {
-                tr->boot = malloc((size_t)(b1 - b0) * STURDY_NES * sizeof *tr->boot);
+            if (r->nboot > 0) {
+                /* indexed over the whole run; slices computed elsewhere stay NaN until
+                   added (sturdy_result_add_slice) */
+                size_t cnt = (size_t)r->nboot * STURDY_NES;
+                tr->boot = malloc(cnt * sizeof *tr->boot);
                 if (!tr->boot)
                     return sturdy_fail(err, STURDY_EINTERNAL,
                                        "out of memory for the bootstrap replicates");
+                for (size_t k = 0; k < cnt; k++)
+                    tr->boot[k] = NAN;
             }
         }
     if ((st = setup(&c, err)))
@@ -418,6 +423,20 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         t->ci_bca[e].hi = quantile_sorted(x, k, ph);
     }
     free(x);
+    /* BCa's bias correction follows the replicates: for an effect near zero nearly all of
+     * them lie above the estimate and the interval can end below it. Say so. */
+    int excludes = 0;
+    for (int e = 0; e < STURDY_NES; e++)
+        if (t->es[e] < t->ci_bca[e].lo || t->es[e] > t->ci_bca[e].hi)
+            excludes = 1;
+    if (excludes && !t->boot_note) {
+        t->boot_note = sturdy_strdup(
+            "a BCa interval excludes its own estimate: nearly all replicates lie on one "
+            "side of it, as happens for effects near zero; prefer the percentile or "
+            "noncentral-F interval here");
+        if (!t->boot_note)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
     if (bca_failed && !t->boot_note) {
         t->boot_note = sturdy_strdup(
             "some BCa intervals are absent: every replicate fell on one side of the "

@@ -120,8 +120,9 @@ static char *reason_from_diagnostics(const sturdy_response_result *resp,
 {
     const sturdy_diagnostics *dg = &resp->diag;
     if (dg->noutliers > 0)
-        return sturdy_asprintf("%zu row%s with |studentized residual| > 3 pull the F-test",
-                               dg->noutliers, dg->noutliers == 1 ? "" : "s");
+        return sturdy_asprintf("%zu row%s with |studentized residual| > 3 pull%s the F-test",
+                               dg->noutliers, dg->noutliers == 1 ? "" : "s",
+                               dg->noutliers == 1 ? "s" : "");
     if (dg->bf_p < DIAG_LEVEL)
         return sturdy_asprintf("cell variances differ (Brown-Forsythe p = %.2g, largest/"
                                "smallest %.3g); consider --flip", dg->bf_p,

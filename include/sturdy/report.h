@@ -12,6 +12,9 @@
  *   [partial only: shard{index, count, perm_range, boot_range}, data_checksum],
  *   notes[], responses[{response, terms[...], error{df, ss, ms, note}, total{df, ss},
  *   cells[{mean, sd}], diagnostics{...}}].
+ * With `partial` (a shard) each term also carries raw{exceed, exceed_fwer, boot}: the
+ * slice's counts, and one [5 effect sizes] row per replicate in [boot_begin, boot_end)
+ * (null when the term has no replicates), for `sturdy merge` to add up.
  * Row numbers ("row") are 1-based data rows (the first record after the header is row
  * 1); "line" is the file line. The thread count never appears, so results of any split
  * of the work compare byte for byte. */
@@ -63,6 +66,10 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
  * integral values below 1e17 as plain digits ("12"); otherwise the fewest of 15, 16 or
  * 17 significant digits that read back (strtod) to the same double. buf ≥ 32 bytes. */
 void sturdy_format_double(double v, char *buf);
+
+/* Bytes of the well-formed UTF-8 sequence starting at p (1 for ASCII), or 0 when the
+ * bytes there are not valid UTF-8 (overlong, surrogate, truncated, beyond U+10FFFF). */
+size_t sturdy_utf8_len(const char *p);
 
 /* Append "A=a1, B=b2" for design cell `cell` (an index into d->cell_levels). */
 void sturdy_report_cell_label(const sturdy_design *d, size_t cell, sturdy_buf *out);

@@ -1,0 +1,128 @@
+/* buf.c — the writers' growing output buffer, number formatting and cell labels. */
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "sturdy/report.h"
+
+/* First allocation; doubling from here keeps appends amortised O(1). */
+#define BUF_MIN_CAP 256
+
+void sturdy_buf_init(sturdy_buf *b)
+{
+    b->data = NULL;
+    b->len = b->cap = 0;
+    b->failed = 0;
+}
+
+void sturdy_buf_free(sturdy_buf *b)
+{
+    if (!b) return;
+    free(b->data);
+    sturdy_buf_init(b);
+}
+
+/* Make room for `extra` more bytes plus the terminating NUL. */
+static int buf_reserve(sturdy_buf *b, size_t extra)
+{
+    if (b->failed) return 0;
+    if (extra > (size_t)-1 / 2 - b->len) { b->failed = 1; return 0; }
+    size_t need = b->len + extra + 1;
+    if (need <= b->cap) return 1;
+    size_t cap = b->cap ? b->cap : BUF_MIN_CAP;
+    while (cap < need) cap *= 2;
+    char *p = realloc(b->data, cap);
+    if (!p) { b->failed = 1; return 0; }
+    b->data = p;
+    b->cap = cap;
+    return 1;
+}
+
+void sturdy_buf_put(sturdy_buf *b, const char *s, size_t len)
+{
+    if (!buf_reserve(b, len)) return;
+    if (len) memcpy(b->data + b->len, s, len);
+    b->len += len;
+    b->data[b->len] = '\0';
+}
+
+void sturdy_buf_puts(sturdy_buf *b, const char *s)
+{
+    sturdy_buf_put(b, s, strlen(s));
+}
+
+void sturdy_buf_printf(sturdy_buf *b, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    int n = vsnprintf(NULL, 0, fmt, ap);
+    va_end(ap);
+    if (n < 0) { b->failed = 1; return; }
+    if (!buf_reserve(b, (size_t)n)) return;
+    va_start(ap, fmt);
+    vsnprintf(b->data + b->len, (size_t)n + 1, fmt, ap);
+    va_end(ap);
+    b->len += (size_t)n;
+}
+
+void sturdy_report_opts_init(sturdy_report_opts *o)
+{
+    o->color = 0;
+    o->width = 100;
+    o->partial = 0;
+}
+
+/* Integral values below this magnitude print in plain digits ("12", "9999"): every
+ * integer-valued double under 1e17 has at most 17 digits, so "%.0f" is exact. */
+#define FORMAT_PLAIN_INT_LIMIT 1e17
+
+void sturdy_format_double(double v, char *buf)
+{
+    if (!isfinite(v)) { strcpy(buf, "null"); return; }
+    if (fabs(v) < FORMAT_PLAIN_INT_LIMIT && v == trunc(v)) {
+        snprintf(buf, 32, "%.0f", v);
+        return;
+    }
+    /* The fewest significant digits (15, 16 or 17) that read back to the same double:
+     * 17 always do for IEEE binary64, and glibc's printf and strtod round correctly, so
+     * the text is the same on every machine and 0.95 stays "0.95". */
+    for (int prec = 15; prec <= 17; prec++) {
+        snprintf(buf, 32, "%.*g", prec, v);
+        if (prec == 17 || strtod(buf, NULL) == v) return;
+    }
+}
+
+size_t sturdy_utf8_len(const char *s)
+{
+    const unsigned char *p = (const unsigned char *)s;
+    unsigned c = p[0];
+    if (c < 0x80) return 1;
+    size_t len;
+    unsigned cp, min;
+    if (c >= 0xc2 && c <= 0xdf) { len = 2; min = 0x80; cp = c & 0x1f; }
+    else if (c >= 0xe0 && c <= 0xef) { len = 3; min = 0x800; cp = c & 0x0f; }
+    else if (c >= 0xf0 && c <= 0xf4) { len = 4; min = 0x10000; cp = c & 0x07; }
+    else return 0;
+    for (size_t k = 1; k < len; k++) {
+        if ((p[k] & 0xc0) != 0x80) return 0;
+        cp = (cp << 6) | (p[k] & 0x3f);
+    }
+    if (cp < min || cp > 0x10ffff || (cp >= 0xd800 && cp <= 0xdfff)) return 0;
+    return len;
+}
+
+void sturdy_report_cell_label(const sturdy_design *d, size_t cell, sturdy_buf *out)
+{
+    if (!d || cell >= d->ncells || !d->cell_levels) {
+        sturdy_buf_puts(out, "?");
+        return;
+    }
+    for (size_t f = 0; f < d->nfactors; f++) {
+        const sturdy_factor *fa = &d->factors[f];
+        size_t lv = d->cell_levels[cell * d->nfactors + f];
+        sturdy_buf_printf(out, "%s%s=%s", f ? ", " : "", fa->name,
+                          lv < fa->nlevels ? fa->levels[lv] : "?");
+    }
+}

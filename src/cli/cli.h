@@ -1,0 +1,80 @@
+/* cli.h — the command-line program's internal interface: option parsing, running a
+ * check, writing output files atomically, and the subcommands. Uses libsturdy only
+ * through its public headers. */
+#ifndef STURDY_CLI_H
+#define STURDY_CLI_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "sturdy/sturdy.h"
+
+/* Exit status of a usage error and of `--help`/`--version` handled during parsing. */
+#define CLI_EXIT_USAGE 2
+#define CLI_DONE (-1)   /* parsing printed help or version: exit 0 */
+
+typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV } cli_format;
+
+/* A list option (-y A,B -y C): owned copies of the names. */
+typedef struct {
+    char **items;
+    size_t n;
+} cli_list;
+
+/* Everything `check` and `demo` take from the command line. */
+typedef struct {
+    const char *command;         /* "check" or "demo" (for messages) */
+    int demo;
+    sturdy_options opts;         /* its model spec points into the lists below */
+    sturdy_table_opts topts;
+    const char *data;            /* DATA.csv or "-" (check) */
+    cli_list responses, factors, covariates, missing;
+    int missing_given;
+    cli_format format;
+    int format_given;
+    const char *out_path;        /* NULL: standard output */
+    int quiet;
+} cli_check;
+
+/* Parse `argv` (argv[0] is the subcommand name). Returns 0, CLI_DONE after printing
+ * help or the version, or CLI_EXIT_USAGE after printing the problem. Free with
+ * cli_check_free in every case. */
+int cli_check_parse(int argc, char **argv, int demo, cli_check *c);
+void cli_check_free(cli_check *c);
+
+/* Load, analyse, render and write; returns the exit status. */
+int cli_check_run(cli_check *c);
+
+/* Print "sturdy: <message>" and "try 'sturdy <command> --help'" to stderr; returns 2. */
+int cli_usage_error(const char *command, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+
+/* Strict parsers for option values: the whole text must be the number. Return 1 on
+ * success. u64: decimal digits only (no sign, no blanks); double: finite. */
+int cli_parse_u64(const char *s, uint64_t *v);
+int cli_parse_double(const char *s, double *v);
+
+/* Split "a,b,c" and append the parts to `l`; keep_empty keeps empty parts (for
+ * --missing), else an empty part is an error. Returns 0, or -1 on an empty part, or
+ * -2 when memory ran out. */
+int cli_list_add(cli_list *l, const char *text, int keep_empty);
+void cli_list_free(cli_list *l);
+
+/* Write `len` bytes to `path`, or to standard output when path is NULL or "-". A file is
+ * written to "PATH.tmp.XXXXXX" in the same folder, synced and renamed over PATH, so a
+ * reader never sees a partial result; on failure the temporary file is removed.
+ * Returns 0, or STURDY_EOUTPUT after printing a message naming the file. */
+int cli_write_output(const char *path, const char *data, size_t len);
+
+/* The built-in dataset of `sturdy demo` (demo_data.c) and its model. */
+extern const char sturdy_demo_csv[];
+extern const size_t sturdy_demo_csv_len;
+#define CLI_DEMO_NAME "demo (built in)"
+#define CLI_DEMO_RESPONSE "build_min"
+#define CLI_DEMO_FACTORS "runner,cache,tests"
+
+/* Subcommands implemented elsewhere: argv[0] is the subcommand name. */
+int sturdy_cli_merge(int argc, char **argv);
+int sturdy_cli_batch(int argc, char **argv);
+
+#endif

@@ -1,0 +1,57 @@
+/* main.c — the `sturdy` program: picks the subcommand and hands over to it. The
+ * program uses libsturdy only through its public headers; it alone prints and exits. */
+#include <signal.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+
+static const char main_help[] =
+"sturdy " STURDY_VERSION " — does a factorial ANOVA still hold without its assumptions?\n"
+"\n"
+"Usage\n"
+"  sturdy check DATA.csv -y RESPONSE -f A,B,... [options]  analyse one table\n"
+"  sturdy demo [options]                                   the same on built-in data\n"
+"  sturdy merge PART.json... [-o FILE]                     combine the parts of a\n"
+"                                                          split run (--shard)\n"
+"  sturdy batch PLAN.csv [--resume] [-o DIR]               many analyses from a plan\n"
+"\n"
+"'sturdy COMMAND --help' describes each command; 'sturdy --version' prints the version.\n";
+
+static int check_or_demo(int argc, char **argv, int demo)
+{
+    cli_check c;
+    int rc = cli_check_parse(argc, argv, demo, &c);
+    if (rc == CLI_DONE) rc = 0;
+    else if (rc == 0) rc = cli_check_run(&c);
+    cli_check_free(&c);
+    return rc;
+}
+
+int main(int argc, char **argv)
+{
+#ifdef SIGXFSZ
+    /* past a file-size limit, let write() fail with EFBIG, so that the output code can
+     * remove its temporary file and report, instead of the process being killed */
+    signal(SIGXFSZ, SIG_IGN);
+#endif
+    if (argc < 2) {
+        fputs(main_help, stderr);
+        return CLI_EXIT_USAGE;
+    }
+    const char *cmd = argv[1];
+    if (!strcmp(cmd, "check")) return check_or_demo(argc - 1, argv + 1, 0);
+    if (!strcmp(cmd, "demo")) return check_or_demo(argc - 1, argv + 1, 1);
+    if (!strcmp(cmd, "merge")) return sturdy_cli_merge(argc - 1, argv + 1);
+    if (!strcmp(cmd, "batch")) return sturdy_cli_batch(argc - 1, argv + 1);
+    if (!strcmp(cmd, "--help") || !strcmp(cmd, "-h") || !strcmp(cmd, "help")) {
+        fputs(main_help, stdout);
+        return 0;
+    }
+    if (!strcmp(cmd, "--version")) {
+        puts("sturdy " STURDY_VERSION);
+        return 0;
+    }
+    fprintf(stderr, "sturdy: unknown command '%s'\ntry 'sturdy --help'\n", cmd);
+    return CLI_EXIT_USAGE;
+}

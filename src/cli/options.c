@@ -1,0 +1,410 @@
+/* options.c — the options of `sturdy check` and `sturdy demo`: GNU-style long options,
+ * strict number parsing, and the help text. */
+#include <errno.h>
+#include <getopt.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+/* Long-only options get codes above the byte range. */
+enum {
+    OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
+    OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
+    OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION
+};
+
+static const struct option long_options[] = {
+    { "response", required_argument, NULL, 'y' },
+    { "factors", required_argument, NULL, 'f' },
+    { "covariates", required_argument, NULL, OPT_COVARIATES },
+    { "block", required_argument, NULL, OPT_BLOCK },
+    { "order", required_argument, NULL, OPT_ORDER },
+    { "ss", required_argument, NULL, OPT_SS },
+    { "permutations", required_argument, NULL, 'B' },
+    { "bootstrap", required_argument, NULL, OPT_BOOTSTRAP },
+    { "method", required_argument, NULL, OPT_METHOD },
+    { "flip", no_argument, NULL, OPT_FLIP },
+    { "bootstrap-scheme", required_argument, NULL, OPT_SCHEME },
+    { "conf", required_argument, NULL, OPT_CONF },
+    { "alpha", required_argument, NULL, OPT_ALPHA },
+    { "seed", required_argument, NULL, OPT_SEED },
+    { "threads", required_argument, NULL, OPT_THREADS },
+    { "shard", required_argument, NULL, OPT_SHARD },
+    { "format", required_argument, NULL, OPT_FORMAT },
+    { "output", required_argument, NULL, 'o' },
+    { "quiet", no_argument, NULL, 'q' },
+    { "delimiter", required_argument, NULL, OPT_DELIMITER },
+    { "missing", required_argument, NULL, OPT_MISSING },
+    { "max-levels", required_argument, NULL, OPT_MAX_LEVELS },
+    { "max-columns", required_argument, NULL, OPT_MAX_COLUMNS },
+    { "help", no_argument, NULL, 'h' },
+    { "version", no_argument, NULL, OPT_VERSION },
+    { NULL, 0, NULL, 0 }
+};
+
+static const char check_help[] =
+"Usage: sturdy check DATA.csv -y RESPONSE[,RESPONSE...] -f FACTOR[,FACTOR...] [options]\n"
+"\n"
+"Fits the full factorial model to the table, prints the classical ANOVA table, and\n"
+"checks every term with a permutation test, bootstrap intervals for its effect sizes\n"
+"and residual diagnostics, with a plain verdict where the two kinds of test disagree.\n"
+"DATA.csv may be '-' for standard input.\n"
+"\n"
+"Model\n"
+"  -y, --response COL[,COL...]  response column(s); several share one design\n"
+"  -f, --factors A[,B...]       factor columns (at most 16)\n"
+"      --covariates X[,Y...]    numeric nuisance columns to adjust for\n"
+"      --block COL              additive block; rearrangements stay within blocks\n"
+"      --order K                highest interaction order (default: all)\n"
+"      --ss 1|2|3               type of sums of squares (default 3)\n"
+"\n"
+"Resampling\n"
+"  -B, --permutations N         rearrangements per test (default 9999; 0 = none)\n"
+"      --bootstrap N            bootstrap replicates (default 2000; 0 = none)\n"
+"      --method NAME            freedman-lane (default), ter-braak or raw\n"
+"      --flip                   flip residual signs instead of permuting them\n"
+"                               (copes with unequal variances)\n"
+"      --bootstrap-scheme NAME  residual (default), wild (default with --flip) or cells\n"
+"      --conf LEVEL             interval level, between 0 and 1 (default 0.95)\n"
+"      --alpha LEVEL            significance level of the verdicts (default 0.05)\n"
+"      --seed N                 random seed (default 20261201)\n"
+"      --threads N              threads to use (default 0 = all cores); the results are\n"
+"                               the same for any number\n"
+"      --shard I/N              compute only part I of N, as JSON for 'sturdy merge'\n"
+"\n"
+"Input\n"
+"      --delimiter C            field separator (default ','; 'tab' for tabs)\n"
+"      --missing TOKEN[,...]    values meaning missing (default: empty field and NA)\n"
+"      --max-levels N           refuse a factor with more levels (default 1000)\n"
+"      --max-columns N          refuse a design with more coded columns (default 4000)\n"
+"\n"
+"Output\n"
+"      --format text|json|csv   report format (default text, or as -o FILE.json/.csv)\n"
+"  -o, --output FILE            write to FILE (complete or not at all) instead of\n"
+"                               standard output\n"
+"  -q, --quiet                  no work estimate or progress on standard error\n"
+"  -h, --help                   show this help\n"
+"      --version                show the version\n"
+"\n"
+"Example\n"
+"  sturdy check loaves.csv -y rise_mm -f proofing,flour,rack -B 19999 -o rise.json\n"
+"\n"
+"Exit status: 0 done, 1 internal error, 2 usage error, 3 bad input data,\n"
+"4 model cannot be tested as asked, 5 output could not be written.\n";
+
+static const char demo_help[] =
+"Usage: sturdy demo [options]\n"
+"\n"
+"Runs 'sturdy check' on a built-in invented dataset: build times (minutes) of a\n"
+"continuous-integration pipeline on three runner sizes, with the dependency cache off\n"
+"or on, and tests run serially or in parallel (examples/demo.csv holds the same data).\n"
+"It is the same as\n"
+"  sturdy check examples/demo.csv -y build_min -f runner,cache,tests\n"
+"\n"
+"Options: those of 'sturdy check' (see 'sturdy check --help') except the ones that\n"
+"describe the data (-y, -f, --covariates, --block, --delimiter, --missing), e.g.\n"
+"  -B N, --bootstrap N, --seed N, --threads N, --format text|json|csv, -o FILE, --quiet\n";
+
+int cli_usage_error(const char *command, const char *fmt, ...)
+{
+    va_list ap;
+    fputs("sturdy: ", stderr);
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    va_end(ap);
+    fprintf(stderr, "\ntry 'sturdy %s --help'\n", command ? command : "");
+    return CLI_EXIT_USAGE;
+}
+
+int cli_parse_u64(const char *s, uint64_t *v)
+{
+    if (!s || *s < '0' || *s > '9') return 0;   /* strtoull would accept "-1" and " 1" */
+    char *end;
+    errno = 0;
+    unsigned long long x = strtoull(s, &end, 10);
+    if (errno || *end) return 0;
+    *v = (uint64_t)x;
+    return 1;
+}
+
+int cli_parse_double(const char *s, double *v)
+{
+    if (!s || !*s || *s == ' ' || *s == '\t') return 0;
+    char *end;
+    errno = 0;
+    double x = strtod(s, &end);
+    if (errno == ERANGE || *end || x != x || x - x != 0) return 0;   /* NaN or infinite */
+    *v = x;
+    return 1;
+}
+
+int cli_list_add(cli_list *l, const char *text, int keep_empty)
+{
+    const char *p = text;
+    for (;;) {
+        size_t len = strcspn(p, ",");
+        if (len == 0 && !keep_empty) return -1;
+        char **items = realloc(l->items, (l->n + 1) * sizeof *items);
+        if (!items) return -2;
+        l->items = items;
+        char *item = malloc(len + 1);
+        if (!item) return -2;
+        memcpy(item, p, len);
+        item[len] = '\0';
+        l->items[l->n++] = item;
+        if (!p[len]) return 0;
+        p += len + 1;
+    }
+}
+
+void cli_list_free(cli_list *l)
+{
+    for (size_t i = 0; i < l->n; i++) free(l->items[i]);
+    free(l->items);
+    l->items = NULL;
+    l->n = 0;
+}
+
+void cli_check_free(cli_check *c)
+{
+    cli_list_free(&c->responses);
+    cli_list_free(&c->factors);
+    cli_list_free(&c->covariates);
+    cli_list_free(&c->missing);
+}
+
+/* Option value helpers: each returns 0 or prints a usage error and returns 2. */
+static int want_u64(const cli_check *c, const char *opt, const char *arg, uint64_t min,
+                    uint64_t *v)
+{
+    if (!cli_parse_u64(arg, v))
+        return cli_usage_error(c->command, "%s wants a whole number, not '%s'", opt, arg);
+    if (*v < min)
+        return cli_usage_error(c->command, "%s must be at least %llu (got %s)", opt,
+                               (unsigned long long)min, arg);
+    return 0;
+}
+
+static int want_level(const cli_check *c, const char *opt, const char *arg, double *v)
+{
+    if (!cli_parse_double(arg, v) || !(*v > 0 && *v < 1))
+        return cli_usage_error(c->command, "%s wants a number strictly between 0 and 1 "
+                               "(e.g. 0.95), not '%s'", opt, arg);
+    return 0;
+}
+
+static int want_list(const cli_check *c, cli_list *l, const char *opt, const char *arg,
+                     int keep_empty)
+{
+    int rc = cli_list_add(l, arg, keep_empty);
+    if (rc == -1)
+        return cli_usage_error(c->command, "%s has an empty name in '%s'", opt, arg);
+    if (rc == -2) {
+        fputs("sturdy: out of memory\n", stderr);
+        return STURDY_EINTERNAL;
+    }
+    return 0;
+}
+
+static int parse_shard(const cli_check *c, const char *arg, uint64_t *i, uint64_t *n)
+{
+    const char *slash = strchr(arg, '/');
+    char head[32];
+    size_t len = slash ? (size_t)(slash - arg) : 0;
+    if (!slash || len == 0 || len >= sizeof head) goto bad;
+    memcpy(head, arg, len);
+    head[len] = '\0';
+    if (!cli_parse_u64(head, i) || !cli_parse_u64(slash + 1, n)) goto bad;
+    if (*n < 1 || *i < 1 || *i > *n)
+        return cli_usage_error(c->command, "--shard I/N needs 1 ≤ I ≤ N (got '%s')", arg);
+    return 0;
+bad:
+    return cli_usage_error(c->command, "--shard wants I/N, e.g. 3/8, not '%s'", arg);
+}
+
+static int parse_delimiter(const cli_check *c, const char *arg, char *d)
+{
+    if (strcmp(arg, "tab") == 0 || strcmp(arg, "\\t") == 0) { *d = '\t'; return 0; }
+    if (strlen(arg) != 1 || arg[0] == '"' || arg[0] == '\n' || arg[0] == '\r')
+        return cli_usage_error(c->command, "--delimiter wants one character other than a "
+                               "quote or line break (or 'tab'), not '%s'", arg);
+    *d = arg[0];
+    return 0;
+}
+
+/* The format a file name's extension asks for, or -1. */
+static int format_of_path(const char *path)
+{
+    size_t n = strlen(path);
+    if (n > 5 && strcmp(path + n - 5, ".json") == 0) return CLI_FMT_JSON;
+    if (n > 4 && strcmp(path + n - 4, ".csv") == 0) return CLI_FMT_CSV;
+    return -1;
+}
+
+/* Options that describe the data make no sense for the built-in demo. */
+static int demo_forbids(int opt)
+{
+    return opt == 'y' || opt == 'f' || opt == OPT_COVARIATES || opt == OPT_BLOCK ||
+           opt == OPT_DELIMITER || opt == OPT_MISSING;
+}
+
+/* One option; returns 0 or an exit status. */
+static int apply_option(cli_check *c, int opt, const char *arg, const char *spelled)
+{
+    sturdy_options *o = &c->opts;
+    uint64_t u;
+    if (c->demo && demo_forbids(opt))
+        return cli_usage_error(c->command, "%s does not apply to demo: its data are built "
+                               "in (use 'sturdy check examples/demo.csv' to vary them)",
+                               spelled);
+    switch (opt) {
+    case 'y': return want_list(c, &c->responses, "--response", arg, 0);
+    case 'f': return want_list(c, &c->factors, "--factors", arg, 0);
+    case OPT_COVARIATES: return want_list(c, &c->covariates, "--covariates", arg, 0);
+    case OPT_MISSING:
+        c->missing_given = 1;
+        return want_list(c, &c->missing, "--missing", arg, 1);
+    case OPT_BLOCK:
+        if (!*arg) return cli_usage_error(c->command, "--block wants a column name");
+        o->model.block = arg;
+        return 0;
+    case OPT_ORDER:
+        if (want_u64(c, "--order", arg, 1, &u)) return CLI_EXIT_USAGE;
+        o->model.order = u > STURDY_MAX_FACTORS ? STURDY_MAX_FACTORS : (int)u;
+        return 0;
+    case OPT_SS:
+        if (strcmp(arg, "1") && strcmp(arg, "2") && strcmp(arg, "3"))
+            return cli_usage_error(c->command, "--ss wants 1, 2 or 3, not '%s'", arg);
+        o->ss_type = arg[0] - '0';
+        return 0;
+    case 'B': return want_u64(c, "--permutations", arg, 0, &o->permutations);
+    case OPT_BOOTSTRAP: return want_u64(c, "--bootstrap", arg, 0, &o->bootstrap);
+    case OPT_METHOD:
+        if (!strcmp(arg, "freedman-lane")) o->method = STURDY_METHOD_FREEDMAN_LANE;
+        else if (!strcmp(arg, "ter-braak")) o->method = STURDY_METHOD_TER_BRAAK;
+        else if (!strcmp(arg, "raw")) o->method = STURDY_METHOD_RAW;
+        else return cli_usage_error(c->command, "--method wants freedman-lane, ter-braak or "
+                                    "raw, not '%s'", arg);
+        return 0;
+    case OPT_FLIP: o->flip = 1; return 0;
+    case OPT_SCHEME:
+        if (!strcmp(arg, "residual")) o->boot_scheme = STURDY_BOOT_RESIDUAL;
+        else if (!strcmp(arg, "wild")) o->boot_scheme = STURDY_BOOT_WILD;
+        else if (!strcmp(arg, "cells")) o->boot_scheme = STURDY_BOOT_CELLS;
+        else return cli_usage_error(c->command, "--bootstrap-scheme wants residual, wild or "
+                                    "cells, not '%s'", arg);
+        return 0;
+    case OPT_CONF: return want_level(c, "--conf", arg, &o->conf);
+    case OPT_ALPHA: return want_level(c, "--alpha", arg, &o->alpha);
+    case OPT_SEED: return want_u64(c, "--seed", arg, 0, &o->seed);
+    case OPT_THREADS:
+        if (want_u64(c, "--threads", arg, 0, &u)) return CLI_EXIT_USAGE;
+        if (u > 4096)
+            return cli_usage_error(c->command, "--threads %s is more than 4096", arg);
+        o->threads = (int)u;
+        return 0;
+    case OPT_SHARD: return parse_shard(c, arg, &o->shard_index, &o->shard_count);
+    case OPT_FORMAT:
+        if (!strcmp(arg, "text")) c->format = CLI_FMT_TEXT;
+        else if (!strcmp(arg, "json")) c->format = CLI_FMT_JSON;
+        else if (!strcmp(arg, "csv")) c->format = CLI_FMT_CSV;
+        else return cli_usage_error(c->command, "--format wants text, json or csv, not '%s'",
+                                    arg);
+        c->format_given = 1;
+        return 0;
+    case 'o':
+        if (!*arg) return cli_usage_error(c->command, "--output wants a file name");
+        c->out_path = strcmp(arg, "-") ? arg : NULL;
+        return 0;
+    case 'q': c->quiet = 1; return 0;
+    case OPT_DELIMITER: return parse_delimiter(c, arg, &c->topts.delimiter);
+    case OPT_MAX_LEVELS:
+        if (want_u64(c, "--max-levels", arg, 1, &u)) return CLI_EXIT_USAGE;
+        o->model.max_levels = (size_t)u;
+        return 0;
+    case OPT_MAX_COLUMNS:
+        if (want_u64(c, "--max-columns", arg, 1, &u)) return CLI_EXIT_USAGE;
+        o->model.max_columns = (size_t)u;
+        return 0;
+    }
+    return cli_usage_error(c->command, "unhandled option %s", spelled);
+}
+
+/* Checks that need all options, and the model spec pointing into the lists. */
+static int finish(cli_check *c)
+{
+    sturdy_options *o = &c->opts;
+    if (c->demo) {
+        if (want_list(c, &c->responses, "--response", CLI_DEMO_RESPONSE, 0) ||
+            want_list(c, &c->factors, "--factors", CLI_DEMO_FACTORS, 0))
+            return STURDY_EINTERNAL;
+    } else {
+        if (!c->responses.n)
+            return cli_usage_error(c->command, "name the response column(s) with -y");
+        if (!c->factors.n)
+            return cli_usage_error(c->command, "name the factor column(s) with -f");
+        if (c->factors.n > STURDY_MAX_FACTORS)
+            return cli_usage_error(c->command, "at most %d factors (got %zu)",
+                                   STURDY_MAX_FACTORS, c->factors.n);
+    }
+    o->model.responses = (const char *const *)c->responses.items;
+    o->model.nresponses = c->responses.n;
+    o->model.factors = (const char *const *)c->factors.items;
+    o->model.nfactors = c->factors.n;
+    o->model.covariates = (const char *const *)c->covariates.items;
+    o->model.ncovariates = c->covariates.n;
+    if (c->missing_given) {
+        c->topts.missing = (const char *const *)c->missing.items;
+        c->topts.nmissing = c->missing.n;
+    }
+    if (!c->format_given && c->out_path && format_of_path(c->out_path) >= 0)
+        c->format = (cli_format)format_of_path(c->out_path);
+    if (o->shard_count) {
+        if (c->format_given && c->format != CLI_FMT_JSON)
+            return cli_usage_error(c->command, "--shard writes JSON for 'sturdy merge'; "
+                                   "leave out --format or use --format json");
+        c->format = CLI_FMT_JSON;
+    }
+    return 0;
+}
+
+int cli_check_parse(int argc, char **argv, int demo, cli_check *c)
+{
+    memset(c, 0, sizeof *c);
+    c->command = demo ? "demo" : "check";
+    c->demo = demo;
+    sturdy_options_init(&c->opts);
+    sturdy_table_opts_init(&c->topts);
+    c->format = CLI_FMT_TEXT;
+    opterr = 0;      /* our own messages */
+    optind = 1;
+    int opt, rc;
+    while ((opt = getopt_long(argc, argv, ":y:f:B:o:qh", long_options, NULL)) != -1) {
+        const char *spelled = argv[optind - 1];
+        if (opt == 'h') { fputs(demo ? demo_help : check_help, stdout); return CLI_DONE; }
+        if (opt == OPT_VERSION) { puts("sturdy " STURDY_VERSION); return CLI_DONE; }
+        if (opt == '?') {
+            if (optopt) return cli_usage_error(c->command, "unknown option '-%c'", optopt);
+            return cli_usage_error(c->command, "unknown or ambiguous option '%s'", spelled);
+        }
+        if (opt == ':')
+            return cli_usage_error(c->command, "option '%s' needs a value", spelled);
+        /* "--opt=value" spells itself in one word; "-B 99" in two */
+        if (optarg && spelled == optarg && optind >= 2) spelled = argv[optind - 2];
+        if ((rc = apply_option(c, opt, optarg, spelled))) return rc;
+    }
+    int npos = argc - optind;
+    if (demo && npos > 0)
+        return cli_usage_error(c->command, "demo takes no file (got '%s')", argv[optind]);
+    if (!demo) {
+        if (npos == 0) return cli_usage_error(c->command, "name the data file (or '-')");
+        if (npos > 1)
+            return cli_usage_error(c->command, "one data file only (got '%s' and '%s')",
+                                   argv[optind], argv[optind + 1]);
+        c->data = argv[optind];
+    }
+    return finish(c);
+}

@@ -1,0 +1,170 @@
+/* run.c — one `check` (or `demo`): load the table, analyse it, render the report and
+ * write it; the work estimate and progress go to standard error only. */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "cli.h"
+
+/* Progress lines at most this often (seconds), i.e. about 5 a second. */
+#define PROGRESS_INTERVAL 0.2
+/* Only runs predicted to take longer than this (seconds) show progress at all. */
+#define PROGRESS_MIN_RUN 1.0
+
+typedef struct {
+    double t0, last;
+    int shown;
+    int width;      /* characters of the last progress line, to blank it out */
+} progress_state;
+
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+/* Called by the library from one thread at a time; writes only to stderr. */
+static void progress(void *ctx, uint64_t done, uint64_t total)
+{
+    progress_state *p = ctx;
+    double t = now_s(), elapsed = t - p->t0;
+    if (done == 0 || total == 0 || done >= total) return;
+    if (t - p->last < PROGRESS_INTERVAL || elapsed < PROGRESS_INTERVAL) return;
+    double rate = (double)done / elapsed;
+    double left = (double)(total - done) / rate;
+    if (!p->shown && elapsed + left < PROGRESS_MIN_RUN) return;
+    p->last = t;
+    p->shown = 1;
+    int n = fprintf(stderr, "\r rearrangements %llu/%llu  %.0f/s  ~%.0fs left ",
+                    (unsigned long long)done, (unsigned long long)total, rate, left + 0.5);
+    if (n < p->width) fprintf(stderr, "%*s", p->width - n, "");
+    if (n > p->width) p->width = n;
+}
+
+static void progress_clear(progress_state *p)
+{
+    if (p->shown) fprintf(stderr, "\r%*s\r", p->width, "");
+}
+
+/* Number of model terms the options ask for: all factor subsets up to the order, plus
+ * covariates and the block (as design.c builds them). */
+static uint64_t count_terms(const sturdy_model_spec *m)
+{
+    uint64_t F = m->nfactors, K = m->order > 0 && (uint64_t)m->order < F ? (uint64_t)m->order
+                                                                        : F;
+    uint64_t terms = 0, choose = 1;
+    for (uint64_t k = 1; k <= K; k++) {
+        choose = choose * (F - k + 1) / k;       /* C(F, k), exact at each step */
+        terms += choose;
+    }
+    return terms + m->ncovariates + (m->block ? 1 : 0);
+}
+
+static void work_estimate(const cli_check *c, const sturdy_table *t)
+{
+    const sturdy_options *o = &c->opts;
+    uint64_t per = o->shard_count ? (o->permutations + o->shard_count - 1) / o->shard_count
+                                  : o->permutations;
+    fprintf(stderr, "sturdy: work: %llu rearrangements × %llu terms × %zu rows",
+            (unsigned long long)per, (unsigned long long)count_terms(&o->model), t->nrows);
+    if (c->responses.n > 1) fprintf(stderr, " × %zu responses", c->responses.n);
+    if (o->bootstrap)
+        fprintf(stderr, ", and %llu bootstrap replicates", (unsigned long long)o->bootstrap);
+    if (o->shard_count)
+        fprintf(stderr, " (shard %llu of %llu)", (unsigned long long)o->shard_index,
+                (unsigned long long)o->shard_count);
+    fputc('\n', stderr);
+}
+
+static void achieved(const sturdy_result *r, double seconds)
+{
+    uint64_t perms = r->perm_end - r->perm_begin, boots = r->boot_end - r->boot_begin;
+    fprintf(stderr, "sturdy: done in %.2f s", seconds);
+    if (perms && seconds > 0)
+        fprintf(stderr, "; %.0f rearrangements/s", (double)perms / seconds);
+    else if (boots && seconds > 0)
+        fprintf(stderr, "; %.0f bootstrap replicates/s", (double)boots / seconds);
+    fputc('\n', stderr);
+}
+
+static int use_color(const cli_check *c)
+{
+    const char *term = getenv("TERM");
+    return c->format == CLI_FMT_TEXT && !c->out_path && isatty(STDOUT_FILENO) &&
+           getenv("NO_COLOR") == NULL && !(term && strcmp(term, "dumb") == 0);
+}
+
+static int render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
+{
+    sturdy_report_opts ro;
+    sturdy_report_opts_init(&ro);
+    ro.color = use_color(c);
+    ro.partial = c->opts.shard_count > 0;
+    switch (c->format) {
+    case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
+    case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);
+    case CLI_FMT_TEXT: break;
+    }
+    return sturdy_report_text(r, &ro, out);
+}
+
+int cli_check_run(cli_check *c)
+{
+    char err[STURDY_ERR_LEN] = "";
+    sturdy_status st = sturdy_options_validate(&c->opts, err);
+    if (st) {
+        if (st == STURDY_EUSAGE) return cli_usage_error(c->command, "%s", err);
+        fprintf(stderr, "sturdy: %s\n", err);
+        return (int)st;
+    }
+    sturdy_table *t = NULL;
+    if (c->demo)
+        st = sturdy_table_load_buffer(CLI_DEMO_NAME, sturdy_demo_csv, sturdy_demo_csv_len,
+                                      &c->topts, &t, err);
+    else
+        st = sturdy_table_load(c->data, &c->topts, &t, err);
+    if (st) {
+        fprintf(stderr, "sturdy: %s\n", err);
+        return (int)st;
+    }
+    int talk = !c->quiet && isatty(STDERR_FILENO);
+    progress_state ps = { .t0 = now_s() };
+    if (talk) {
+        work_estimate(c, t);
+        c->opts.progress = progress;
+        c->opts.progress_ctx = &ps;
+    }
+    ps.t0 = now_s();
+    sturdy_result *r = NULL;
+    st = sturdy_analyze(t, &c->opts, &r, err);
+    double seconds = now_s() - ps.t0;
+    progress_clear(&ps);
+    c->opts.progress = NULL;
+    c->opts.progress_ctx = NULL;
+    if (st) {
+        if (st == STURDY_EUSAGE) cli_usage_error(c->command, "%s", err);
+        else fprintf(stderr, "sturdy: %s\n", err);
+        sturdy_table_free(t);
+        return (int)st;
+    }
+    sturdy_buf out;
+    sturdy_buf_init(&out);
+    int rc = 0;
+    if (render(c, r, &out) != STURDY_OK || !out.data) {
+        fputs("sturdy: out of memory while writing the report\n", stderr);
+        rc = STURDY_EINTERNAL;
+    } else {
+        rc = cli_write_output(c->out_path, out.data, out.len);
+    }
+    if (!rc && talk) achieved(r, seconds);
+    /* CSV has no place for the run's notes; keep them visible */
+    if (!rc && !c->quiet && c->format == CLI_FMT_CSV)
+        for (size_t i = 0; i < r->nnotes; i++) fprintf(stderr, "sturdy: note: %s\n", r->notes[i]);
+    sturdy_buf_free(&out);
+    sturdy_result_free(r);
+    sturdy_table_free(t);
+    return rc;
+}

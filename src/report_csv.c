@@ -1,0 +1,115 @@
+/* report_csv.c — the result as CSV: a header, then one row per response × term. */
+#include <inttypes.h>
+#include <math.h>
+#include <string.h>
+
+#include "sturdy/report.h"
+
+/* A text field, quoted (RFC 4180: quotes doubled) when it holds the delimiter, a quote,
+ * a line break, or leading/trailing blanks that a reader would trim. */
+static void csv_text(sturdy_buf *b, const char *s)
+{
+    if (!s) return;
+    size_t n = strlen(s);
+    int quote = n && (s[0] == ' ' || s[0] == '\t' || s[n - 1] == ' ' || s[n - 1] == '\t');
+    if (strpbrk(s, ",\"\r\n")) quote = 1;
+    if (!quote) { sturdy_buf_put(b, s, n); return; }
+    sturdy_buf_put(b, "\"", 1);
+    for (const char *p = s; *p; p++) {
+        if (*p == '"') sturdy_buf_put(b, "\"\"", 2);
+        else sturdy_buf_put(b, p, 1);
+    }
+    sturdy_buf_put(b, "\"", 1);
+}
+
+static void csv_num(sturdy_buf *b, double v)
+{
+    char s[32];
+    sturdy_buf_put(b, ",", 1);
+    if (!isfinite(v)) return;           /* null → empty field */
+    sturdy_format_double(v, s);
+    sturdy_buf_puts(b, s);
+}
+
+/* Notes of a term joined with "; " into one field. */
+static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
+{
+    const char *parts[3] = { t->note, t->perm_note, t->boot_note };
+    sturdy_buf joined;
+    sturdy_buf_init(&joined);
+    for (int i = 0; i < 3; i++) {
+        if (!parts[i]) continue;
+        if (joined.len) sturdy_buf_puts(&joined, "; ");
+        sturdy_buf_puts(&joined, parts[i]);
+    }
+    sturdy_buf_put(b, ",", 1);
+    if (joined.failed) b->failed = 1;
+    if (joined.len) csv_text(b, joined.data);
+    sturdy_buf_free(&joined);
+}
+
+static void write_header(sturdy_buf *b)
+{
+    sturdy_buf_puts(b, "response,term,df,ss,ms,f,p,p_perm,p_perm_lo,p_perm_hi,"
+                       "p_perm_fwer,p_perm_holm");
+    for (int e = 0; e < STURDY_NES; e++) sturdy_buf_printf(b, ",%s", sturdy_es_names[e]);
+    for (int e = 0; e < STURDY_NES; e++) {
+        const char *n = sturdy_es_names[e];
+        sturdy_buf_printf(b, ",%s_pct_lo,%s_pct_hi,%s_bca_lo,%s_bca_hi", n, n, n, n);
+        if (e == STURDY_ES_PARTIAL_ETA2)
+            sturdy_buf_printf(b, ",%s_ncf_lo,%s_ncf_hi", n, n);
+    }
+    sturdy_buf_puts(b, ",exceed,verdict,p_perm_straddles_alpha,verdict_reason,note\n");
+}
+
+static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
+                      const sturdy_term_result *t)
+{
+    csv_text(b, rr->name);
+    sturdy_buf_put(b, ",", 1);
+    csv_text(b, t->label);
+    csv_num(b, t->df);
+    csv_num(b, t->ss);
+    csv_num(b, t->ms);
+    csv_num(b, t->f);
+    csv_num(b, t->p);
+    csv_num(b, t->p_perm);
+    csv_num(b, t->p_perm_ci.lo);
+    csv_num(b, t->p_perm_ci.hi);
+    csv_num(b, t->p_perm_fwer);
+    csv_num(b, t->p_perm_holm);
+    for (int e = 0; e < STURDY_NES; e++) csv_num(b, t->es[e]);
+    for (int e = 0; e < STURDY_NES; e++) {
+        csv_num(b, t->ci_pct[e].lo);
+        csv_num(b, t->ci_pct[e].hi);
+        csv_num(b, t->ci_bca[e].lo);
+        csv_num(b, t->ci_bca[e].hi);
+        if (e == STURDY_ES_PARTIAL_ETA2) {
+            csv_num(b, t->ncf.lo);
+            csv_num(b, t->ncf.hi);
+        }
+    }
+    int has_perm = !isnan(t->p_perm);
+    sturdy_buf_put(b, ",", 1);
+    if (has_perm) sturdy_buf_printf(b, "%" PRIu64, t->exceed);
+    sturdy_buf_put(b, ",", 1);
+    const char *v = sturdy_verdict_name(t->verdict);
+    if (v) sturdy_buf_puts(b, v);
+    sturdy_buf_put(b, ",", 1);
+    if (has_perm) sturdy_buf_puts(b, t->straddles ? "true" : "false");
+    sturdy_buf_put(b, ",", 1);
+    csv_text(b, t->verdict_reason);
+    csv_notes(b, t);
+    sturdy_buf_put(b, "\n", 1);
+}
+
+sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts *o,
+                                sturdy_buf *out)
+{
+    (void)o;   /* CSV has no presentation options */
+    write_header(out);
+    for (size_t i = 0; i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++)
+            write_row(out, &r->resp[i], &r->resp[i].terms[k]);
+    return out->failed ? STURDY_EINTERNAL : STURDY_OK;
+}

@@ -1,0 +1,409 @@
+/* report_json.c — the result as JSON, contract "version": 1 (see report.h for the layout).
+ *
+ * Output is deterministic: fixed key order, fixed indentation, numbers through
+ * sturdy_format_double, and nothing that depends on the thread count or the clock. */
+#include <inttypes.h>
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "sturdy/report.h"
+
+/* Nesting the writer supports; the contract needs 6 levels. */
+#define JW_MAX_DEPTH 16
+
+typedef struct {
+    sturdy_buf *b;
+    int depth;
+    int items[JW_MAX_DEPTH];   /* items written so far at each open level */
+} jw;
+
+/* A JSON string: escapes quotes, backslashes and control characters; valid UTF-8
+ * passes through; bytes that are not valid UTF-8 become U+FFFD so the output stays
+ * valid JSON whatever the input file's encoding. */
+static void jw_string_raw(sturdy_buf *b, const char *s)
+{
+    const unsigned char *p = (const unsigned char *)s;
+    sturdy_buf_put(b, "\"", 1);
+    while (*p) {
+        unsigned c = *p;
+        if (c == '"' || c == '\\') {
+            char esc[2] = { '\\', (char)c };
+            sturdy_buf_put(b, esc, 2);
+            p++;
+        } else if (c == '\n') { sturdy_buf_put(b, "\\n", 2); p++; }
+        else if (c == '\r') { sturdy_buf_put(b, "\\r", 2); p++; }
+        else if (c == '\t') { sturdy_buf_put(b, "\\t", 2); p++; }
+        else if (c < 0x20 || c == 0x7f) { sturdy_buf_printf(b, "\\u%04x", c); p++; }
+        else if (c < 0x80) { sturdy_buf_put(b, (const char *)p, 1); p++; }
+        else {
+            size_t len = sturdy_utf8_len((const char *)p);
+            if (len) { sturdy_buf_put(b, (const char *)p, len); p += len; }
+            else { sturdy_buf_puts(b, "\\ufffd"); p++; }
+        }
+    }
+    sturdy_buf_put(b, "\"", 1);
+}
+
+/* Start an item at the current level: comma, newline, indent, and the key if any. */
+static void jw_item(jw *w, const char *key)
+{
+    if (w->items[w->depth]++) sturdy_buf_put(w->b, ",", 1);
+    sturdy_buf_put(w->b, "\n", 1);
+    for (int i = 0; i < w->depth; i++) sturdy_buf_put(w->b, "  ", 2);
+    if (key) {
+        jw_string_raw(w->b, key);
+        sturdy_buf_put(w->b, ": ", 2);
+    }
+}
+
+static void jw_open(jw *w, const char *key, char bracket)
+{
+    jw_item(w, key);
+    sturdy_buf_put(w->b, &bracket, 1);
+    if (w->depth + 1 < JW_MAX_DEPTH) w->depth++;
+    w->items[w->depth] = 0;
+}
+
+static void jw_close(jw *w, char bracket)
+{
+    int had = w->items[w->depth];
+    if (w->depth > 0) w->depth--;
+    if (had) {
+        sturdy_buf_put(w->b, "\n", 1);
+        for (int i = 0; i < w->depth; i++) sturdy_buf_put(w->b, "  ", 2);
+    }
+    sturdy_buf_put(w->b, &bracket, 1);
+}
+
+static void jw_num(jw *w, const char *key, double v)
+{
+    char s[32];
+    sturdy_format_double(v, s);
+    jw_item(w, key);
+    sturdy_buf_puts(w->b, s);
+}
+
+static void jw_u64(jw *w, const char *key, uint64_t v)
+{
+    jw_item(w, key);
+    sturdy_buf_printf(w->b, "%" PRIu64, v);
+}
+
+static void jw_bool(jw *w, const char *key, int v)
+{
+    jw_item(w, key);
+    sturdy_buf_puts(w->b, v ? "true" : "false");
+}
+
+static void jw_null(jw *w, const char *key)
+{
+    jw_item(w, key);
+    sturdy_buf_puts(w->b, "null");
+}
+
+/* A string, or null for NULL. */
+static void jw_str(jw *w, const char *key, const char *s)
+{
+    jw_item(w, key);
+    if (s) jw_string_raw(w->b, s);
+    else sturdy_buf_puts(w->b, "null");
+}
+
+/* Arrays of scalars stay on one line: [a, b, c]. */
+static void jw_nums_inline(jw *w, const char *key, const double *v, size_t n)
+{
+    char s[32];
+    jw_item(w, key);
+    sturdy_buf_put(w->b, "[", 1);
+    for (size_t i = 0; i < n; i++) {
+        sturdy_format_double(v[i], s);
+        sturdy_buf_printf(w->b, "%s%s", i ? ", " : "", s);
+    }
+    sturdy_buf_put(w->b, "]", 1);
+}
+
+static void jw_pair(jw *w, const char *key, sturdy_pair p)
+{
+    double v[2] = { p.lo, p.hi };
+    jw_nums_inline(w, key, v, 2);
+}
+
+static void jw_strs_inline(jw *w, const char *key, char *const *s, size_t n)
+{
+    jw_item(w, key);
+    sturdy_buf_put(w->b, "[", 1);
+    for (size_t i = 0; i < n; i++) {
+        if (i) sturdy_buf_puts(w->b, ", ");
+        jw_string_raw(w->b, s[i] ? s[i] : "");
+    }
+    sturdy_buf_put(w->b, "]", 1);
+}
+
+static const char *method_name(sturdy_method m)
+{
+    switch (m) {
+    case STURDY_METHOD_FREEDMAN_LANE: return "freedman-lane";
+    case STURDY_METHOD_TER_BRAAK: return "ter-braak";
+    case STURDY_METHOD_RAW: return "raw";
+    }
+    return "unknown";
+}
+
+static const char *scheme_name(sturdy_boot_scheme s)
+{
+    switch (s) {
+    case STURDY_BOOT_RESIDUAL: return "residual";
+    case STURDY_BOOT_WILD: return "wild";
+    case STURDY_BOOT_CELLS: return "cells";
+    case STURDY_BOOT_DEFAULT: break;
+    }
+    return "default";
+}
+
+static void write_input(jw *w, const sturdy_result *r)
+{
+    const sturdy_design *d = r->design;
+    jw_open(w, "input", '{');
+    jw_str(w, "file", d ? d->source : NULL);
+    jw_u64(w, "rows_read", d ? d->rows_read : 0);
+    jw_u64(w, "rows_used", d ? d->n : 0);
+    jw_open(w, "rows_dropped", '[');
+    for (size_t i = 0; d && i < d->ndropped; i++) {
+        jw_open(w, NULL, '{');
+        jw_u64(w, "row", d->dropped[i].row + 1);
+        jw_u64(w, "line", d->dropped[i].line);
+        jw_str(w, "reason", d->dropped[i].reason);
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    jw_close(w, '}');
+}
+
+static void write_factor(jw *w, const char *key, const sturdy_factor *f)
+{
+    jw_open(w, key, '{');
+    jw_str(w, "name", f->name);
+    jw_strs_inline(w, "levels", f->levels, f->nlevels);
+    jw_close(w, '}');
+}
+
+static void write_design(jw *w, const sturdy_design *d)
+{
+    if (!d) { jw_null(w, "design"); return; }
+    jw_open(w, "design", '{');
+    jw_open(w, "factors", '[');
+    for (size_t f = 0; f < d->nfactors; f++) write_factor(w, NULL, &d->factors[f]);
+    jw_close(w, ']');
+    if (d->has_block) write_factor(w, "block", &d->block);
+    else jw_null(w, "block");
+    jw_strs_inline(w, "covariates", d->cov_names, d->ncov);
+    jw_open(w, "cells", '[');
+    for (size_t c = 0; c < d->ncells; c++) {
+        jw_open(w, NULL, '{');
+        jw_item(w, "levels");
+        sturdy_buf_put(w->b, "[", 1);
+        for (size_t f = 0; f < d->nfactors; f++) {
+            const sturdy_factor *fa = &d->factors[f];
+            size_t lv = d->cell_levels[c * d->nfactors + f];
+            if (f) sturdy_buf_puts(w->b, ", ");
+            jw_string_raw(w->b, lv < fa->nlevels ? fa->levels[lv] : "?");
+        }
+        sturdy_buf_put(w->b, "]", 1);
+        jw_u64(w, "count", d->cell_count[c]);
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    jw_u64(w, "cells_possible", d->ncells_possible);
+    jw_u64(w, "cells_empty", d->ncells_possible - d->ncells);
+    jw_bool(w, "balanced", d->balanced);
+    jw_u64(w, "min_cell", d->min_cell);
+    jw_u64(w, "max_cell", d->max_cell);
+    jw_close(w, '}');
+}
+
+static void write_settings(jw *w, const sturdy_result *r)
+{
+    jw_open(w, "settings", '{');
+    jw_u64(w, "ss_type", (uint64_t)r->ss_type);
+    jw_str(w, "method", method_name(r->method));
+    jw_bool(w, "flip", r->opts.flip);
+    jw_u64(w, "permutations", r->nperm);
+    jw_bool(w, "exact", r->exact);
+    jw_u64(w, "bootstrap", r->nboot);
+    jw_str(w, "bootstrap_scheme", scheme_name(r->boot_scheme));
+    jw_u64(w, "seed", r->opts.seed);
+    jw_num(w, "conf", r->opts.conf);
+    jw_num(w, "alpha", r->opts.alpha);
+    jw_close(w, '}');
+}
+
+static void write_shard(jw *w, const sturdy_result *r)
+{
+    jw_open(w, "shard", '{');
+    jw_u64(w, "index", r->opts.shard_index);
+    jw_u64(w, "count", r->opts.shard_count);
+    jw_item(w, "perm_range");
+    sturdy_buf_printf(w->b, "[%" PRIu64 ", %" PRIu64 "]", r->perm_begin, r->perm_end);
+    jw_item(w, "boot_range");
+    sturdy_buf_printf(w->b, "[%" PRIu64 ", %" PRIu64 "]", r->boot_begin, r->boot_end);
+    jw_close(w, '}');
+    jw_item(w, "data_checksum");
+    sturdy_buf_printf(w->b, "\"%016" PRIx64 "\"", r->data_checksum);
+}
+
+static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *t,
+                       const sturdy_report_opts *o)
+{
+    jw_open(w, NULL, '{');
+    jw_str(w, "term", t->label);
+    jw_strs_inline(w, "factors", t->factors, t->nfactors);
+    jw_num(w, "df", t->df);
+    jw_num(w, "ss", t->ss);
+    jw_num(w, "ms", t->ms);
+    jw_num(w, "f", t->f);
+    jw_num(w, "p", t->p);
+    jw_str(w, "note", t->note);
+    int has_perm = !isnan(t->p_perm);
+    jw_num(w, "p_perm", t->p_perm);
+    jw_pair(w, "p_perm_ci", t->p_perm_ci);
+    jw_num(w, "p_perm_fwer", t->p_perm_fwer);
+    jw_num(w, "p_perm_holm", t->p_perm_holm);
+    if (has_perm) jw_u64(w, "exceed", t->exceed); else jw_null(w, "exceed");
+    if (has_perm && !isnan(t->p_perm_fwer)) jw_u64(w, "exceed_fwer", t->exceed_fwer);
+    else jw_null(w, "exceed_fwer");
+    jw_str(w, "perm_note", t->perm_note);
+    for (int e = 0; e < STURDY_NES; e++) jw_num(w, sturdy_es_names[e], t->es[e]);
+    jw_open(w, "ci", '{');
+    for (int e = 0; e < STURDY_NES; e++) {
+        jw_open(w, sturdy_es_names[e], '{');
+        jw_pair(w, "percentile", t->ci_pct[e]);
+        jw_pair(w, "bca", t->ci_bca[e]);
+        if (e == STURDY_ES_PARTIAL_ETA2) jw_pair(w, "noncentral_f", t->ncf);
+        jw_close(w, '}');
+    }
+    jw_close(w, '}');
+    jw_str(w, "boot_note", t->boot_note);
+    jw_str(w, "verdict", sturdy_verdict_name(t->verdict));
+    jw_str(w, "verdict_reason", t->verdict_reason);
+    if (has_perm) jw_bool(w, "p_perm_straddles_alpha", t->straddles);
+    else jw_null(w, "p_perm_straddles_alpha");
+    if (o->partial) {
+        /* The slice's raw material, which sturdy merge adds up across shards. */
+        jw_open(w, "raw", '{');
+        jw_u64(w, "exceed", t->exceed);
+        jw_u64(w, "exceed_fwer", t->exceed_fwer);
+        if (!t->boot) {
+            jw_null(w, "boot");
+        } else {
+            jw_open(w, "boot", '[');
+            /* t->boot is indexed over the whole run; this slice's rows only */
+            for (uint64_t i = r->boot_begin; i < r->boot_end; i++)
+                jw_nums_inline(w, NULL, t->boot + i * STURDY_NES, STURDY_NES);
+            jw_close(w, ']');
+        }
+        jw_close(w, '}');
+    }
+    jw_close(w, '}');
+}
+
+static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagnostics *g)
+{
+    jw_open(w, "diagnostics", '{');
+    jw_open(w, "shapiro_wilk", '{');
+    jw_num(w, "w", g->sw_w);
+    jw_num(w, "p", g->sw_p);
+    jw_str(w, "note", g->sw_note);
+    jw_close(w, '}');
+    jw_num(w, "skewness", g->skewness);
+    jw_num(w, "excess_kurtosis", g->excess_kurtosis);
+    jw_open(w, "brown_forsythe", '{');
+    jw_num(w, "f", g->bf_f);
+    jw_num(w, "df1", g->bf_df1);
+    jw_num(w, "df2", g->bf_df2);
+    jw_num(w, "p", g->bf_p);
+    jw_str(w, "note", g->bf_note);
+    jw_close(w, '}');
+    jw_num(w, "variance_ratio", g->variance_ratio);
+    jw_str(w, "variance_ratio_note", g->vr_note);
+    jw_open(w, "outliers", '[');
+    sturdy_buf cell;
+    sturdy_buf_init(&cell);
+    for (size_t i = 0; i < g->noutliers; i++) {
+        const sturdy_outlier *ot = &g->outliers[i];
+        cell.len = 0;
+        sturdy_report_cell_label(d, ot->cell, &cell);
+        if (cell.failed) w->b->failed = 1;
+        jw_open(w, NULL, '{');
+        jw_u64(w, "row", ot->row);
+        jw_u64(w, "line", ot->line);
+        jw_str(w, "cell", cell.data ? cell.data : "?");
+        jw_num(w, "studentized", ot->studentized);
+        jw_close(w, '}');
+    }
+    sturdy_buf_free(&cell);
+    jw_close(w, ']');
+    if (d) {
+        jw_u64(w, "min_cell", d->min_cell);
+        jw_bool(w, "balanced", d->balanced);
+    } else {
+        jw_null(w, "min_cell");
+        jw_null(w, "balanced");
+    }
+    jw_close(w, '}');
+}
+
+static void write_response(jw *w, const sturdy_result *r, const sturdy_response_result *rr,
+                           const sturdy_report_opts *o)
+{
+    const sturdy_design *d = r->design;
+    jw_open(w, NULL, '{');
+    jw_str(w, "response", rr->name);
+    jw_open(w, "terms", '[');
+    for (size_t k = 0; k < rr->nterms; k++) write_term(w, r, &rr->terms[k], o);
+    jw_close(w, ']');
+    jw_open(w, "error", '{');
+    jw_num(w, "df", rr->df_error);
+    jw_num(w, "ss", rr->ss_error);
+    jw_num(w, "ms", rr->ms_error);
+    jw_str(w, "note", rr->error_note);
+    jw_close(w, '}');
+    jw_open(w, "total", '{');
+    jw_num(w, "df", rr->df_total);
+    jw_num(w, "ss", rr->ss_total);
+    jw_close(w, '}');
+    jw_open(w, "cells", '[');
+    for (size_t c = 0; d && c < d->ncells && rr->cell_mean; c++) {
+        jw_open(w, NULL, '{');
+        jw_num(w, "mean", rr->cell_mean[c]);
+        jw_num(w, "sd", rr->cell_sd ? rr->cell_sd[c] : NAN);
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    write_diagnostics(w, d, &rr->diag);
+    jw_close(w, '}');
+}
+
+sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opts *o,
+                                 sturdy_buf *out)
+{
+    sturdy_report_opts defaults;
+    if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
+    jw w = { .b = out, .depth = 0 };
+    memset(w.items, 0, sizeof w.items);
+    sturdy_buf_put(out, "{", 1);
+    w.depth = 1;
+    jw_u64(&w, "version", 1);
+    write_input(&w, r);
+    write_design(&w, r->design);
+    write_settings(&w, r);
+    if (o->partial) write_shard(&w, r);
+    jw_open(&w, "notes", '[');
+    for (size_t i = 0; i < r->nnotes; i++) jw_str(&w, NULL, r->notes[i]);
+    jw_close(&w, ']');
+    jw_open(&w, "responses", '[');
+    for (size_t i = 0; i < r->nresp; i++) write_response(&w, r, &r->resp[i], o);
+    jw_close(&w, ']');
+    sturdy_buf_puts(out, "\n}\n");
+    return out->failed ? STURDY_EINTERNAL : STURDY_OK;
+}

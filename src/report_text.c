@@ -1,0 +1,547 @@
+/* report_text.c — the readable report: a headline, then per response the tests, the
+ * effect sizes and the residual checks with plain advice, then the run's notes.
+ *
+ * Layout rules: tables are at most 99 columns wide, prose wraps at the report width,
+ * absent values print as "—" with the reason in a numbered footnote, and nothing
+ * depends on the terminal except the optional colour. Shared drawing helpers live in
+ * report_textfmt.c. */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "report_text.h"
+
+/* Column widths of the tests table (2 + 20+1+5+1+9+1+9+1+9+2+8+2+11+2+16 = 99); SS, MS
+ * and F never take more than 9 characters in tw_fmt_num's format. */
+enum { W_TERM = 20, W_DF = 5, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11 };
+/* Effect-size table: a narrower term column, then five columns of this width, each after
+ * two blanks (2 + 18 + 5·16 = 100); "4.4e-05–0.0015" is 14 characters. */
+enum { W_ES_TERM = 18, W_ES = 14 };
+/* Indent of the lines under a term row. */
+enum { DETAIL_INDENT = 6 };
+/* A no-break space: tw_para never breaks a line there (it prints as a plain space). */
+#define NBSP "\xc2\xa0"
+/* How many outliers and dropped rows are listed by row before "and N more". */
+enum { LIST_MAX = 8 };
+
+/* |skewness| above 1 is the usual rule of thumb for a highly skewed distribution
+ * (Bulmer 1979, Principles of Statistics). */
+#define SKEW_STRONG 1.0
+/* Largest/smallest cell variance above 4 is a common rule-of-thumb warning level for
+ * unequal variances; the Brown–Forsythe p is the formal test beside it. */
+#define VARIANCE_RATIO_WARN 4.0
+/* Cells with fewer rows than this leave little to estimate spread or shape from. */
+#define SMALL_CELL 3
+
+static void verdict_words(const sturdy_term_result *t, const char **words, int *disagree)
+{
+    *disagree = 0;
+    switch (t->verdict) {
+    case STURDY_VERDICT_BOTH: *words = "both tests"; return;
+    case STURDY_VERDICT_NEITHER: *words = "neither"; return;
+    case STURDY_VERDICT_CLASSICAL_ONLY: *words = "F-test only"; *disagree = 1; return;
+    case STURDY_VERDICT_RESAMPLING_ONLY: *words = "resampling only"; *disagree = 1; return;
+    case STURDY_VERDICT_NONE: break;
+    }
+    *words = "n/a";
+}
+
+/* Why the resampling numbers of a term are absent. */
+static const char *perm_reason(const sturdy_result *r, const sturdy_term_result *t)
+{
+    if (t->perm_note) return t->perm_note;
+    if (r->nperm == 0) return "no rearrangements were asked for (-B 0)";
+    if (!r->finished) return "this is one shard of a split run; 'sturdy merge' completes it";
+    return "not computed";
+}
+
+static const char *boot_reason(const sturdy_result *r, const sturdy_term_result *t)
+{
+    if (t->boot_note) return t->boot_note;
+    if (r->nboot == 0) return "no bootstrap was asked for (--bootstrap 0)";
+    if (!r->finished) return "this is one shard of a split run; 'sturdy merge' completes it";
+    return "not computed";
+}
+
+/* Why the verdict of a term is absent. */
+static const char *verdict_reason_absent(const sturdy_result *r, const sturdy_term_result *t)
+{
+    if (isnan(t->p)) return t->note ? t->note : "the F-test could not be computed";
+    if (isnan(t->p_perm)) return perm_reason(r, t);
+    return t->verdict_reason ? t->verdict_reason : "not decided";
+}
+
+/* A term is named "cache", or "cache (build_min)" when there are several responses:
+ * TERM_NAME_FMT with TERM_NAME_ARGS. */
+#define TERM_NAME_FMT "%s%s%s%s"
+#define TERM_NAME_ARGS(w, rr, t) (t)->label, (w)->r->nresp > 1 ? " (" : "", \
+    (w)->r->nresp > 1 && (rr)->name ? (rr)->name : "", (w)->r->nresp > 1 ? ")" : ""
+
+static void headline(tw *w)
+{
+    const sturdy_result *r = w->r;
+    size_t avail = 0, agree = 0, both = 0;
+    for (size_t i = 0; i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++) {
+            sturdy_verdict v = r->resp[i].terms[k].verdict;
+            if (v == STURDY_VERDICT_NONE) continue;
+            avail++;
+            if (v == STURDY_VERDICT_BOTH || v == STURDY_VERDICT_NEITHER) agree++;
+            if (v == STURDY_VERDICT_BOTH) both++;
+        }
+    char a[32], s[512];
+    tw_fmt_g(r->opts.alpha, 3, a);
+    tw_heading(w, "In short");
+    if (!r->finished) {
+        tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
+                         "and verdicts appear once 'sturdy merge' has combined all shards.");
+    } else if (r->nperm == 0) {
+        tw_para(w, 2, 2, "No resampling test was run (-B 0), so only the F-tests are shown. "
+                         "Rerun with -B 9999 to check them.");
+    } else if (avail == 0) {
+        tw_para(w, 2, 2, "No term could be compared between the F-test and resampling; the "
+                         "footnotes below say why.");
+    } else if (agree == avail) {
+        snprintf(s, sizeof s, "All %zu tested terms reach the same conclusion with the F-test "
+                 "and with resampling at α = %s (%zu significant by both, %zu by neither).",
+                 avail, a, both, avail - both);
+        tw_para(w, 2, 2, s);
+    } else {
+        snprintf(s, sizeof s, "%zu of %zu tested terms reach the same conclusion with the "
+                 "F-test and with resampling at α = %s; %zu %s not:", agree, avail, a,
+                 avail - agree, avail - agree == 1 ? "does" : "do");
+        tw_para(w, 2, 2, s);
+        for (size_t i = 0; i < r->nresp; i++)
+            for (size_t k = 0; k < r->resp[i].nterms; k++) {
+                const sturdy_term_result *t = &r->resp[i].terms[k];
+                const char *words;
+                int dis;
+                verdict_words(t, &words, &dis);
+                if (!dis) continue;
+                const char *why = t->verdict_reason ? t->verdict_reason : "";
+                size_t wl = strlen(why);
+                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": significant by the %s only%s%s%s",
+                         TERM_NAME_ARGS(w, &r->resp[i], t),
+                         t->verdict == STURDY_VERDICT_CLASSICAL_ONLY ? "F-test"
+                                                                     : "resampling test",
+                         wl ? " — " : "", why, wl && why[wl - 1] == '.' ? "" : ".");
+            }
+    }
+    for (size_t i = 0; r->finished && !r->exact && i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++) {
+            const sturdy_term_result *t = &r->resp[i].terms[k];
+            /* a disagreeing term is listed above, and its reason covers the interval */
+            if (!t->straddles || isnan(t->p_perm) || t->verdict == STURDY_VERDICT_CLASSICAL_ONLY ||
+                t->verdict == STURDY_VERDICT_RESAMPLING_ONLY)
+                continue;
+            char p[32], lo[32], hi[32];
+            tw_fmt_p(t->p_perm, p);
+            tw_fmt_pr(t->p_perm_ci.lo, lo);
+            tw_fmt_pr(t->p_perm_ci.hi, hi);
+            tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": the resampled p, %s (99%% range %s–%s), is "
+                     "too close to α" NBSP "=" NBSP "%s to call; run more rearrangements (-B"
+                     NBSP "%llu).", TERM_NAME_ARGS(w, &r->resp[i], t), p, lo, hi,
+                     a, (unsigned long long)(r->nperm >= UINT64_MAX / 10 - 10
+                                             ? r->nperm : (r->nperm + 1) * 10 - 1));
+        }
+    tw_nl(w);
+}
+
+static void about(tw *w)
+{
+    const sturdy_result *r = w->r;
+    const sturdy_design *d = r->design;
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    char c[32];
+    tw_fmt_g(r->opts.conf * 100, 4, c);
+    tw_heading(w, "The run");
+    if (d) {
+        sturdy_buf_printf(&s, "%s: %zu of %zu rows used", d->source ? d->source : "?", d->n,
+                          d->rows_read);
+        if (d->ndropped)
+            sturdy_buf_printf(&s, "; %zu left out (see the notes)", d->ndropped);
+        tw_labelled(w, "data", s.data);
+        s.len = 0;
+        for (size_t f = 0; f < d->nfactors; f++)
+            sturdy_buf_printf(&s, "%s%s (%zu%s)", f ? " × " : "", d->factors[f].name,
+                              d->factors[f].nlevels, f ? "" : " levels");
+        if (d->has_block)
+            sturdy_buf_printf(&s, "; block %s (%zu levels)", d->block.name,
+                              d->block.nlevels);
+        for (size_t k = 0; k < d->ncov; k++)
+            sturdy_buf_printf(&s, "%s%s", k ? ", " : "; covariates ", d->cov_names[k]);
+        sturdy_buf_printf(&s, ". %zu of %zu cells filled, %zu–%zu rows each, %s.", d->ncells,
+                          d->ncells_possible, d->min_cell, d->max_cell,
+                          d->balanced ? "balanced" : "unbalanced");
+        tw_labelled(w, "design", s.data);
+        s.len = 0;
+    }
+    static const char *const ss_words[] = { "", "Type I (sequential)",
+                                            "Type II (hierarchical)",
+                                            "Type III (each term adjusted for all others)" };
+    sturdy_buf_printf(&s, "sums of squares of %s",
+                      r->ss_type >= 1 && r->ss_type <= 3 ? ss_words[r->ss_type] : "?");
+    if (r->opts.model.order > 0)
+        sturdy_buf_printf(&s, "; interactions up to order %d", r->opts.model.order);
+    tw_labelled(w, "model", s.data);
+    s.len = 0;
+    static const char *const method_words[] = {
+        "Freedman–Lane (Freedman & Lane 1983)", "ter Braak (1992)", "raw-data"
+    };
+    if (r->nperm == 0) {
+        sturdy_buf_puts(&s, "none (-B 0)");
+    } else {
+        sturdy_buf_printf(&s, "%s %s, %llu %s", (unsigned)r->method <= 2 ? method_words[r->method]
+                                                                     : "?",
+                          r->opts.flip ? "sign-flipping" : "permutation",
+                          (unsigned long long)r->nperm,
+                          r->exact ? "rearrangements, all there are (exact)"
+                                   : "random rearrangements");
+        if (d && d->has_block) sturdy_buf_printf(&s, ", within levels of %s", d->block.name);
+    }
+    tw_labelled(w, "resampling", s.data);
+    s.len = 0;
+    static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
+                                                "wild (Wu 1986)", "cells" };
+    if (r->nboot == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
+    else
+        sturdy_buf_printf(&s, "%llu replicates, %s scheme; %s%% intervals",
+                          (unsigned long long)r->nboot,
+                          (unsigned)r->boot_scheme <= 2 ? scheme_words[r->boot_scheme] : "?",
+                          c);
+    char a[32];
+    tw_fmt_g(r->opts.alpha, 3, a);
+    tw_labelled(w, "bootstrap", s.data);
+    s.len = 0;
+    sturdy_buf_printf(&s, "α = %s; seed %llu (the same seed repeats the same random draws)",
+                      a, (unsigned long long)r->opts.seed);
+    tw_labelled(w, "level, seed", s.data);
+    if (s.failed) w->b->failed = 1;
+    sturdy_buf_free(&s);
+    tw_nl(w);
+}
+
+/* One row of the tests table; `label` NULL leaves the term cell blank. */
+static void tests_row(tw *w, const char *label, const char *df, const char *ss,
+                      const char *ms, const char *f, const char *p, const char *pp,
+                      const char *verdict, const char *color)
+{
+    tw_indent(w, 2);
+    tw_cell(w, label ? label : "", W_TERM, 0);
+    tw_put(w, " "); tw_cell(w, df, W_DF, 1);
+    tw_put(w, " "); tw_cell(w, ss, W_SS, 1);
+    tw_put(w, " "); tw_cell(w, ms, W_SS, 1);
+    tw_put(w, " "); tw_cell(w, f, W_F, 1);
+    tw_put(w, "  "); tw_cell(w, p, W_P, 1);
+    tw_put(w, "  "); tw_cell(w, pp, W_PP, 1);
+    if (verdict && *verdict) {
+        tw_put(w, "  ");
+        tw_style(w, color);
+        tw_put(w, verdict);
+        tw_style(w, color ? "0" : NULL);
+    }
+    tw_nl(w);
+}
+
+/* The term label, on its own line when it is wider than its column. */
+static const char *term_cell(tw *w, const char *label, int width)
+{
+    if (tw_width(label) <= (size_t)width) return label;
+    tw_para(w, 2, 4, label);
+    return NULL;
+}
+
+static void term_details(tw *w, const sturdy_term_result *t)
+{
+    const sturdy_result *r = w->r;
+    char s[600], x[TW_RANGE_LEN], y[32], z[32], c[32];
+    tw_fmt_g(r->opts.conf * 100, 4, c);
+    if (!isnan(t->p_perm)) {
+        int n = 0;
+        if (r->exact)
+            n = snprintf(s, sizeof s, "resampled p is exact (all %llu rearrangements)",
+                         (unsigned long long)r->nperm);
+        else {
+            tw_fmt_range(t->p_perm_ci, tw_fmt_pr, x);
+            n = snprintf(s, sizeof s, "resampled p: 99%% range %s", x);
+        }
+        if (!isnan(t->p_perm_fwer) && n > 0 && (size_t)n < sizeof s) {
+            tw_fmt_p(t->p_perm_fwer, y);
+            tw_fmt_p(t->p_perm_holm, z);
+            snprintf(s + n, sizeof s - (size_t)n, "; family-wise %s (Westfall–Young), %s (Holm)",
+                     y, z);
+        }
+        tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s);
+    }
+    if (!isnan(t->es[STURDY_ES_PARTIAL_ETA2])) {
+        char bca[TW_RANGE_LEN + 16], ncf[TW_RANGE_LEN];
+        tw_fmt_g(t->es[STURDY_ES_PARTIAL_ETA2], 3, x);
+        tw_fmt_range(t->ci_bca[STURDY_ES_PARTIAL_ETA2], tw_fmt_es, bca);
+        if (isnan(t->ci_bca[STURDY_ES_PARTIAL_ETA2].lo))
+            snprintf(bca + strlen(bca), sizeof bca - strlen(bca), " [%zu]",
+                     tw_footnote(w, boot_reason(r, t)));
+        tw_fmt_range(t->ncf, tw_fmt_es, ncf);
+        snprintf(s, sizeof s, "partial η² %s: %s%% BCa %s, noncentral F %s", x, c, bca, ncf);
+        tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s);
+    }
+}
+
+static void tests_table(tw *w, const sturdy_response_result *rr)
+{
+    char df[32], ss[32], ms[32], f[32], p[32], pp[32], v[64];
+    tw_indent(w, 2);
+    tw_style(w, "1");
+    tw_cell(w, "term", W_TERM, 0);
+    tw_put(w, " "); tw_cell(w, "df", W_DF, 1);
+    tw_put(w, " "); tw_cell(w, "SS", W_SS, 1);
+    tw_put(w, " "); tw_cell(w, "MS", W_SS, 1);
+    tw_put(w, " "); tw_cell(w, "F", W_F, 1);
+    tw_put(w, "  "); tw_cell(w, "p F-test", W_P, 1);
+    tw_put(w, "  "); tw_cell(w, "p resampled", W_PP, 1);
+    tw_put(w, "  significant by");
+    tw_style(w, "0");
+    tw_nl(w);
+    for (size_t k = 0; k < rr->nterms; k++) {
+        const sturdy_term_result *t = &rr->terms[k];
+        const char *words;
+        int dis;
+        verdict_words(t, &words, &dis);
+        if (t->verdict == STURDY_VERDICT_NONE)
+            snprintf(v, sizeof v, "n/a [%zu]", tw_footnote(w, verdict_reason_absent(w->r, t)));
+        else
+            snprintf(v, sizeof v, "%s", words);
+        tw_fmt_df(t->df, df);
+        tw_fmt_num(t->ss, ss);
+        tw_fmt_num(t->ms, ms);
+        tw_fmt_num(t->f, f);
+        tw_fmt_p(t->p, p);
+        tw_fmt_p(t->p_perm, pp);
+        tests_row(w, term_cell(w, t->label, W_TERM), df, ss, ms, f, p, pp, v, dis ? "33" : NULL);
+        term_details(w, t);
+    }
+    tw_fmt_df(rr->df_error, df);
+    tw_fmt_num(rr->ss_error, ss);
+    tw_fmt_num(rr->ms_error, ms);
+    v[0] = '\0';
+    if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
+    tests_row(w, "residual", df, ss, ms, "", "", "", v, NULL);
+    tw_fmt_df(rr->df_total, df);
+    tw_fmt_num(rr->ss_total, ss);
+    tests_row(w, "total", df, ss, "", "", "", "", NULL, NULL);
+    tw_footnotes(w);
+}
+
+static void effects_table(tw *w, const sturdy_response_result *rr)
+{
+    static const char *const heads[STURDY_NES] = { "η²", "partial η²", "ω²", "partial ω²",
+                                                   "Cohen's f" };
+    char s[160], c[32], x[TW_RANGE_LEN + 16];
+    tw_fmt_g(w->r->opts.conf * 100, 4, c);
+    snprintf(s, sizeof s, "Effect sizes, with the %s%% BCa bootstrap interval under each "
+             "(percentile intervals: JSON/CSV)", c);
+    tw_para(w, 2, 2, s);
+    tw_indent(w, 2);
+    tw_style(w, "1");
+    tw_cell(w, "term", W_ES_TERM, 0);
+    for (int e = 0; e < STURDY_NES; e++) { tw_put(w, "  "); tw_cell(w, heads[e], W_ES, 1); }
+    tw_style(w, "0");
+    tw_nl(w);
+    for (size_t k = 0; k < rr->nterms; k++) {
+        const sturdy_term_result *t = &rr->terms[k];
+        const char *label = term_cell(w, t->label, W_ES_TERM);
+        tw_indent(w, 2);
+        tw_cell(w, label ? label : "", W_ES_TERM, 0);
+        for (int e = 0; e < STURDY_NES; e++) {
+            tw_fmt_g(t->es[e], 3, x);
+            tw_put(w, "  ");
+            tw_cell(w, x, W_ES, 1);
+        }
+        tw_nl(w);
+        if (isnan(t->es[STURDY_ES_PARTIAL_ETA2])) continue;
+        tw_indent(w, 2);
+        tw_cell(w, "", W_ES_TERM, 0);
+        for (int e = 0; e < STURDY_NES; e++) {
+            tw_fmt_range(t->ci_bca[e], tw_fmt_es, x);
+            if (isnan(t->ci_bca[e].lo) && !isnan(t->es[e]))
+                snprintf(x + strlen(x), sizeof x - strlen(x), " [%zu]",
+                         tw_footnote(w, boot_reason(w->r, t)));
+            tw_put(w, "  ");
+            tw_cell(w, x, W_ES, 1);
+        }
+        tw_nl(w);
+    }
+    tw_footnotes(w);
+}
+
+static void check_outliers(tw *w, const sturdy_diagnostics *g)
+{
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    if (g->noutliers == 0) {
+        sturdy_buf_puts(&s, "no studentized residual beyond ±3.");
+    } else {
+        for (size_t i = 0; i < g->noutliers && i < LIST_MAX; i++) {
+            char z[32];
+            tw_fmt_g(g->outliers[i].studentized, 3, z);
+            sturdy_buf_printf(&s, "%srow %zu (line %zu; ", i ? "; " : "", g->outliers[i].row,
+                              g->outliers[i].line);
+            sturdy_report_cell_label(w->r->design, g->outliers[i].cell, &s);
+            sturdy_buf_printf(&s, ") at %s", z);
+        }
+        if (g->noutliers > LIST_MAX)
+            sturdy_buf_printf(&s, "; and %zu more (see the JSON output)",
+                              g->noutliers - LIST_MAX);
+        sturdy_buf_printf(&s, ". → Check %s for recording errors; the resampling test leans "
+                          "on single rows less than the F-test does.",
+                          g->noutliers == 1 ? "this row" : "these rows");
+    }
+    tw_labelled(w, "outliers", s.data ? s.data : "");
+    if (s.failed) w->b->failed = 1;
+    sturdy_buf_free(&s);
+}
+
+/* "p = 0.0123" or "p < 0.0001". */
+static void p_words(sturdy_buf *b, double p)
+{
+    char q[32];
+    tw_fmt_p(p, q);
+    if (q[0] == '<') sturdy_buf_printf(b, "p < %s", q + 1);
+    else sturdy_buf_printf(b, "p = %s", q);
+}
+
+static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
+{
+    char x[32];
+    s->len = 0;
+    if (!isnan(g->sw_p)) {
+        tw_fmt_g(g->sw_w, 3, x);
+        sturdy_buf_printf(s, "Shapiro–Wilk W = %s, ", x);
+        p_words(s, g->sw_p);
+    } else {
+        sturdy_buf_printf(s, "Shapiro–Wilk not available (%s)",
+                          g->sw_note ? g->sw_note : "not computed");
+    }
+    tw_fmt_g(g->skewness, 3, x);
+    sturdy_buf_printf(s, "; skewness %s%s", x,
+                      !(fabs(g->skewness) > SKEW_STRONG) ? ""
+                      : g->skewness > 0 ? " (strongly right-skewed)" : " (strongly left-skewed)");
+    tw_fmt_g(g->excess_kurtosis, 3, x);
+    sturdy_buf_printf(s, ", excess kurtosis %s.", x);
+    if (!isnan(g->sw_p))
+        sturdy_buf_puts(s, g->sw_p < w->r->opts.alpha
+                               ? " → The residuals are not normal; rely on the resampling "
+                                 "column."
+                               : " → No clear sign of non-normal residuals.");
+    tw_labelled(w, "normality", s->data);
+}
+
+static void check_spread(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
+{
+    char x[32], y[32], z[32];
+    s->len = 0;
+    if (!isnan(g->bf_p)) {
+        tw_fmt_g(g->bf_f, 3, x);
+        tw_fmt_df(g->bf_df1, y);
+        tw_fmt_df(g->bf_df2, z);
+        sturdy_buf_printf(s, "Brown–Forsythe F = %s on %s and %s df, ", x, y, z);
+        p_words(s, g->bf_p);
+    } else {
+        sturdy_buf_printf(s, "Brown–Forsythe not available (%s)",
+                          g->bf_note ? g->bf_note : "not computed");
+    }
+    if (!isnan(g->variance_ratio)) {
+        tw_fmt_g(g->variance_ratio, 3, x);
+        sturdy_buf_printf(s, "; the largest cell variance is %s × the smallest.", x);
+    } else {
+        sturdy_buf_printf(s, "; variance ratio not available (%s).",
+                          g->vr_note ? g->vr_note : "not computed");
+    }
+    int unequal = (!isnan(g->bf_p) && g->bf_p < w->r->opts.alpha) ||
+                  (!isnan(g->variance_ratio) && g->variance_ratio > VARIANCE_RATIO_WARN);
+    if (unequal)
+        sturdy_buf_puts(s, w->r->opts.flip
+                               ? " → Cell variances differ; --flip is already on, which copes "
+                                 "with that."
+                               : " → Cell variances differ; rerun with --flip (sign-flipping "
+                                 "copes with unequal variances).");
+    else if (!isnan(g->bf_p))
+        sturdy_buf_puts(s, " → No clear sign of unequal variances.");
+    tw_labelled(w, "equal spread", s->data);
+}
+
+static void checks(tw *w, const sturdy_response_result *rr)
+{
+    const sturdy_result *r = w->r;
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    tw_para(w, 2, 2, "Checks on the residuals");
+    check_normality(w, &rr->diag, &s);
+    check_spread(w, &rr->diag, &s);
+    check_outliers(w, &rr->diag);
+    /* precision of the resampled p-values */
+    s.len = 0;
+    for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)
+        if (rr->terms[k].straddles && !isnan(rr->terms[k].p_perm))
+            sturdy_buf_printf(&s, "%s%s", s.len ? ", " : "", rr->terms[k].label);
+    if (s.len)
+        tw_labelledf(w, "precision", "the 99%% range of the resampled p of %s contains α. → "
+                     "Run more rearrangements (-B) before deciding.", s.data);
+    const sturdy_design *d = r->design;
+    if (d && d->min_cell < SMALL_CELL)
+        tw_labelledf(w, "cell sizes", "the smallest cell has %zu row%s. → Such small cells "
+                     "make every test fragile; add runs there if you can.", d->min_cell,
+                     d->min_cell == 1 ? "" : "s");
+    if (s.failed) w->b->failed = 1;
+    sturdy_buf_free(&s);
+    tw_nl(w);
+}
+
+static void notes(tw *w)
+{
+    const sturdy_result *r = w->r;
+    const sturdy_design *d = r->design;
+    if (r->nnotes == 0 && (!d || d->ndropped == 0)) return;
+    tw_heading(w, "Notes");
+    if (d && d->ndropped) {
+        tw_paraf(w, 2, 4, "• %zu row%s left out of the analysis:", d->ndropped,
+                 d->ndropped == 1 ? " was" : "s were");
+        for (size_t i = 0; i < d->ndropped && i < LIST_MAX; i++)
+            tw_paraf(w, 4, 6, "row %zu (line %zu): %s", d->dropped[i].row + 1,
+                     d->dropped[i].line, d->dropped[i].reason ? d->dropped[i].reason : "?");
+        if (d->ndropped > LIST_MAX)
+            tw_paraf(w, 4, 6, "and %zu more (see the JSON output)", d->ndropped - LIST_MAX);
+    }
+    for (size_t i = 0; i < r->nnotes; i++)
+        tw_paraf(w, 2, 4, "• %s", r->notes[i] ? r->notes[i] : "");
+}
+
+sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opts *o,
+                                 sturdy_buf *out)
+{
+    sturdy_report_opts defaults;
+    if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
+    tw w;
+    tw_init(&w, r, o, out);
+    tw_style(&w, "1");
+    tw_put(&w, "sturdy " STURDY_VERSION " · factorial ANOVA, checked by resampling");
+    tw_style(&w, "0");
+    tw_nl(&w);
+    tw_nl(&w);
+    headline(&w);
+    about(&w);
+    for (size_t i = 0; i < r->nresp; i++) {
+        const sturdy_response_result *rr = &r->resp[i];
+        sturdy_buf title;
+        sturdy_buf_init(&title);
+        sturdy_buf_printf(&title, "Response %s", rr->name ? rr->name : "?");
+        tw_rule(&w, title.data ? title.data : "Response");
+        if (title.failed) out->failed = 1;
+        sturdy_buf_free(&title);
+        tests_table(&w, rr);
+        effects_table(&w, rr);
+        checks(&w, rr);
+    }
+    notes(&w);
+    return out->failed ? STURDY_EINTERNAL : STURDY_OK;
+}

@@ -1,0 +1,68 @@
+/* report_text.h — drawing helpers of the text report (private to report_text*.c). */
+#ifndef STURDY_REPORT_TEXT_H
+#define STURDY_REPORT_TEXT_H
+
+#include "sturdy/report.h"
+
+/* Footnotes one table may carry; beyond that the last one points to the JSON output. */
+#define TW_MAX_FOOTNOTES 32
+/* Narrowest prose width honoured, whatever the options ask. */
+#define TW_MIN_WIDTH 60
+/* Label column of tw_labelled, after a 2-blank indent. */
+#define TW_LABEL_WIDTH 14
+/* Right edge of the section rules (the widest table is 99 columns). */
+#define TW_RULE_WIDTH 99
+
+typedef struct {
+    sturdy_buf *b;
+    const sturdy_result *r;
+    int width;                 /* prose wraps at this many columns */
+    int color;
+    size_t col;                /* display column of the line being written */
+    size_t nfn;
+    const char *fn[TW_MAX_FOOTNOTES];
+} tw;
+
+void tw_init(tw *w, const sturdy_result *r, const sturdy_report_opts *o, sturdy_buf *out);
+
+/* Display columns of a UTF-8 string: code points, not counting ANSI escape sequences. */
+size_t tw_width(const char *s);
+
+void tw_put(tw *w, const char *s);
+void tw_nl(tw *w);
+void tw_indent(tw *w, int n);
+/* `s` padded to `width` columns, right-aligned when `right`. */
+void tw_cell(tw *w, const char *s, int width, int right);
+/* ANSI SGR `code` ("1" bold, "33" yellow, "0" reset) when colour is on; NULL: nothing. */
+void tw_style(tw *w, const char *code);
+/* A wrapped paragraph: the first line indented by `first`, the others by `rest`. */
+void tw_para(tw *w, int first, int rest, const char *text);
+/* The same with printf formatting (no length limit). */
+void tw_paraf(tw *w, int first, int rest, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+/* "  label         text…" with the text wrapped under itself. */
+void tw_labelled(tw *w, const char *label, const char *text);
+void tw_labelledf(tw *w, const char *label, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+void tw_heading(tw *w, const char *title);
+/* "── title ─────…" across the report. */
+void tw_rule(tw *w, const char *title);
+/* Number (1-based) of the footnote carrying `reason`, added if new. */
+size_t tw_footnote(tw *w, const char *reason);
+/* Print the footnotes collected since the last call, then forget them. */
+void tw_footnotes(tw *w);
+
+/* Number formats; each writes "—" for NaN into `out` (≥ 32 bytes; TW_RANGE_LEN for a
+ * range "lo–hi"). */
+#define TW_RANGE_LEN 72
+void tw_fmt_g(double v, int prec, char *out);
+void tw_fmt_num(double v, char *out);    /* SS, MS, F: 4 significant digits, no exponent
+                                            below 1e9 */
+void tw_fmt_p(double v, char *out);      /* p-values: "<0.0001", "0.00034", "0.0123" */
+void tw_fmt_pr(double v, char *out);     /* a bound of a p-value range: as p, but 0 as
+                                            "0" and tiny values as "2.5e-05" */
+void tw_fmt_es(double v, char *out);     /* interval bounds: 2 significant digits */
+void tw_fmt_df(double v, char *out);
+void tw_fmt_range(sturdy_pair p, void (*fmt)(double, char *), char *out);
+
+#endif
