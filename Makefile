@@ -7,8 +7,13 @@ CPPFLAGS += -Iinclude -Isrc
 LDLIBS  := -lcsv -llapacke -lopenblas -lgsl -lm
 OMP     := -fopenmp
 PREFIX  ?= /usr/local
+ifeq ($(MPI),1)
+BUILD   ?= build-mpi
+else
 BUILD   ?= build
-BIN     ?= sturdy
+endif
+# the program is linked in the build folder and copied to ./sturdy by `make`
+PROG    := $(BUILD)/sturdy
 
 ifeq ($(MPI),1)
 CC      := mpicc
@@ -31,11 +36,14 @@ ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libp
                 libopenmpi-dev openmpi-bin valgrind g++
 MPI_PKGS     := libopenmpi-dev openmpi-bin
 
-.PHONY: all deps deps-test demo check test-bins sanitize install clean bench
+.PHONY: all sturdy deps deps-test demo check test-bins sanitize install clean bench
 
-all: $(BIN)
+all: sturdy
 
-$(BIN): $(BUILD)/libsturdy.a $(CLI_OBJ)
+sturdy: $(PROG)
+	@cmp -s $(PROG) sturdy || cp $(PROG) sturdy
+
+$(PROG): $(BUILD)/libsturdy.a $(CLI_OBJ)
 	$(CC) $(CFLAGS) $(OMP) -o $@ $(CLI_OBJ) $(BUILD)/libsturdy.a $(LDLIBS)
 
 $(BUILD)/libsturdy.a: $(LIB_OBJ)
@@ -83,7 +91,7 @@ check: deps-test
 
 # ASan + UBSan build of everything, then the same test suite.
 sanitize: deps-test
-	$(MAKE) BUILD=build-san BIN=build-san/sturdy \
+	$(MAKE) BUILD=build-san \
 	  OPT="-O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=all" \
 	  build-san/sturdy test-bins
 	STURDY_BIN=./build-san/sturdy STURDY_BUILD=build-san STURDY_QUICK=1 \
@@ -99,4 +107,4 @@ bench: deps-test sturdy
 	bash bench/run.sh
 
 clean:
-	rm -rf build build-san sturdy
+	rm -rf build build-san build-mpi sturdy

@@ -69,6 +69,7 @@ void sturdy_buf_printf(sturdy_buf *b, const char *fmt, ...)
 
 void sturdy_report_opts_init(sturdy_report_opts *o)
 {
+    memset(o, 0, sizeof *o);
     o->color = 0;
     o->width = 100;
     o->partial = 0;

@@ -33,6 +33,11 @@
 /* Work per thread and block is bounded by this many bytes of group sums. */
 #define PERM_BLOCK_BYTES (16u << 20)
 #define PERM_BLOCK_MAX 64
+/* A rearranged vector whose residual part is below this fraction of ‖v‖² has no residual
+ * variation left (it happens with sign flips of tiny cells): its F* is +∞ when the term
+ * part is not also that small, and undefined (never counted) when it is. 1e-12 is far
+ * above the rounding of the norms (≈1e-15·‖v‖²) and far below any real residual. */
+#define PERM_ZERO_RTOL 1e-12
 
 typedef struct {
     size_t resp, term;
@@ -185,6 +190,16 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
            w->exceed && w->fwer;
 }
 
+/* Is F* = (num/df)/(den/df_err) at least the threshold that `c` encodes (num ≥ c·den)?
+ * The tie rule of the whole engine, with the zero-residual cases of PERM_ZERO_RTOL. */
+static inline int at_least(double num, double den, double c, double vv)
+{
+    double zero = PERM_ZERO_RTOL * vv;
+    if (den <= zero)
+        return num > zero;
+    return num >= c * den;
+}
+
 /* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
 static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
 {
@@ -249,12 +264,14 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     }
     for (size_t bb = 0; bb < nb; bb++) {
         for (size_t j = 0; j < M; j++)
-            if (w->num[j * nb + bb] >= c->mem[j].c * w->den[j * nb + bb])
+            if (at_least(w->num[j * nb + bb], w->den[j * nb + bb], c->mem[j].c,
+                         c->mem[j].vv))
                 w->exceed[j]++;
         /* Westfall–Young: is the smallest p* over the family ≤ p_j? */
         for (size_t j = 0; j < M; j++)
             for (size_t t = 0; t < M; t++)
-                if (w->num[t * nb + bb] >= c->thr[t * M + j] * w->den[t * nb + bb]) {
+                if (at_least(w->num[t * nb + bb], w->den[t * nb + bb], c->thr[t * M + j],
+                             c->mem[t].vv)) {
                     w->fwer[j]++;
                     break;
                 }

@@ -238,9 +238,14 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_close(w, '}');
 }
 
-static void write_shard(jw *w, const sturdy_result *r)
+static void write_shard(jw *w, const sturdy_result *r, const sturdy_report_opts *o)
 {
     jw_open(w, "shard", '{');
+    jw_strs_inline(w, "args", (char *const *)o->args, o->args ? o->nargs : 0);
+    if (o->cwd)
+        jw_str(w, "cwd", o->cwd);
+    else
+        jw_null(w, "cwd");
     jw_u64(w, "index", r->opts.shard_index);
     jw_u64(w, "count", r->opts.shard_count);
     jw_item(w, "perm_range");
@@ -397,7 +402,7 @@ sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opt
     write_input(&w, r);
     write_design(&w, r->design);
     write_settings(&w, r);
-    if (o->partial) write_shard(&w, r);
+    if (o->partial) write_shard(&w, r, o);
     jw_open(&w, "notes", '[');
     for (size_t i = 0; i < r->nnotes; i++) jw_str(&w, NULL, r->notes[i]);
     jw_close(&w, ']');

@@ -46,6 +46,9 @@ typedef struct {
     int width;       /* text width for wrapped prose; default 100, at least 60 is used.
                         The tables are at most 100 columns wide. */
     int partial;     /* JSON: include the raw slice material (shards) */
+    const char *const *args; size_t nargs; /* partial JSON: the command's arguments and */
+    const char *cwd;                       /* working folder, so a merge can repeat the
+                                              set-up; NULL/0 when unknown */
 } sturdy_report_opts;
 
 void sturdy_report_opts_init(sturdy_report_opts *o);

@@ -27,7 +27,12 @@ typedef struct {
     int demo;
     sturdy_options opts;         /* its model spec points into the lists below */
     sturdy_table_opts topts;
-    const char *data;            /* DATA.csv or "-" (check) */
+    const char *data;            /* DATA.csv or "-" (check), as given and reported */
+    const char *data_path;       /* where to read it when not `data` itself (merge reads
+                                    the data relative to the shard's folder), or NULL */
+    int argc; char **argv;       /* the command's arguments (argv[0] = command), recorded
+                                    in shard parts so that merge can repeat the set-up */
+    const char *cwd;             /* working folder at parse time (owned), for shards */
     cli_list responses, factors, covariates, missing;
     int missing_given;
     cli_format format;
@@ -42,8 +47,24 @@ typedef struct {
 int cli_check_parse(int argc, char **argv, int demo, cli_check *c);
 void cli_check_free(cli_check *c);
 
+/* Load and analyse (under MPI: this rank's slice, combined on rank 0). Returns 0 and
+ * the result, or the status with the message in err (nothing printed). */
+int cli_check_compute(cli_check *c, sturdy_result **out, char *err);
+
+/* Render the result in the chosen format (shard parts carry args and cwd). */
+int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out);
+
 /* Load, analyse, render and write; returns the exit status. */
 int cli_check_run(cli_check *c);
+
+/* MPI (built with `make MPI=1`; otherwise one rank of one). cli_mpi_combine sums the
+ * ranks' counts and gathers their replicates on rank 0, which finishes the result; any
+ * rank's failure fails all ranks, with the first failing status. */
+int cli_mpi_init(int *argc, char ***argv);
+void cli_mpi_finalize(void);
+int cli_mpi_rank(void);
+int cli_mpi_size(void);
+sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err);
 
 /* Print "sturdy: <message>" and "try 'sturdy <command> --help'" to stderr; returns 2. */
 int cli_usage_error(const char *command, const char *fmt, ...)

@@ -28,7 +28,20 @@ static int check_or_demo(int argc, char **argv, int demo)
     return rc;
 }
 
+static int dispatch(int argc, char **argv);
+
 int main(int argc, char **argv)
+{
+    if (cli_mpi_init(&argc, &argv) != 0) {
+        fputs("sturdy: MPI could not be started\n", stderr);
+        return STURDY_EINTERNAL;
+    }
+    int rc = dispatch(argc, argv);
+    cli_mpi_finalize();
+    return rc;
+}
+
+static int dispatch(int argc, char **argv)
 {
 #ifdef SIGXFSZ
     /* past a file-size limit, let write() fail with EFBIG, so that the output code can

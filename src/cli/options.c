@@ -6,6 +6,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "cli.h"
 
@@ -170,6 +171,11 @@ void cli_list_free(cli_list *l)
 
 void cli_check_free(cli_check *c)
 {
+    if (c->argv)
+        for (int i = 0; i < c->argc; i++)
+            free(c->argv[i]);
+    free(c->argv);
+    free((char *)c->cwd);
     cli_list_free(&c->responses);
     cli_list_free(&c->factors);
     cli_list_free(&c->covariates);
@@ -379,6 +385,19 @@ int cli_check_parse(int argc, char **argv, int demo, cli_check *c)
     sturdy_options_init(&c->opts);
     sturdy_table_opts_init(&c->topts);
     c->format = CLI_FMT_TEXT;
+    /* a copy of the arguments before getopt reorders them, and the working folder, for
+       shard parts (merge repeats the set-up from them) */
+    c->argv = calloc((size_t)argc + 1, sizeof *c->argv);
+    c->cwd = getcwd(NULL, 0);
+    if (!c->argv || !c->cwd) {
+        fputs("sturdy: out of memory\n", stderr);
+        return STURDY_EINTERNAL;
+    }
+    for (c->argc = 0; c->argc < argc; c->argc++)
+        if (!(c->argv[c->argc] = strdup(argv[c->argc]))) {
+            fputs("sturdy: out of memory\n", stderr);
+            return STURDY_EINTERNAL;
+        }
     opterr = 0;      /* our own messages */
     optind = 1;
     int opt, rc;

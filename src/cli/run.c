@@ -97,12 +97,15 @@ static int use_color(const cli_check *c)
            getenv("NO_COLOR") == NULL && !(term && strcmp(term, "dumb") == 0);
 }
 
-static int render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
+int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
 {
     sturdy_report_opts ro;
     sturdy_report_opts_init(&ro);
     ro.color = use_color(c);
     ro.partial = c->opts.shard_count > 0;
+    ro.args = (const char *const *)c->argv;
+    ro.nargs = (size_t)c->argc;
+    ro.cwd = c->cwd;
     switch (c->format) {
     case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
     case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);
@@ -111,60 +114,94 @@ static int render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
     return sturdy_report_text(r, &ro, out);
 }
 
-int cli_check_run(cli_check *c)
+int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
 {
-    char err[STURDY_ERR_LEN] = "";
+    *out = NULL;
     sturdy_status st = sturdy_options_validate(&c->opts, err);
-    if (st) {
-        if (st == STURDY_EUSAGE) return cli_usage_error(c->command, "%s", err);
-        fprintf(stderr, "sturdy: %s\n", err);
+    if (st)
         return (int)st;
-    }
     sturdy_table *t = NULL;
     if (c->demo)
         st = sturdy_table_load_buffer(CLI_DEMO_NAME, sturdy_demo_csv, sturdy_demo_csv_len,
                                       &c->topts, &t, err);
     else
-        st = sturdy_table_load(c->data, &c->topts, &t, err);
-    if (st) {
-        fprintf(stderr, "sturdy: %s\n", err);
+        st = sturdy_table_load(c->data_path ? c->data_path : c->data, &c->topts, &t, err);
+    if (st)
         return (int)st;
+    if (c->data_path) { /* loaded from elsewhere (merge), reported as given */
+        free(t->source);
+        t->source = strdup(c->data);
+        if (!t->source) {
+            sturdy_table_free(t);
+            snprintf(err, STURDY_ERR_LEN, "out of memory");
+            return STURDY_EINTERNAL;
+        }
     }
-    int talk = !c->quiet && isatty(STDERR_FILENO);
+    int talk = !c->quiet && isatty(STDERR_FILENO) && cli_mpi_rank() == 0;
     progress_state ps = { .t0 = now_s() };
+    sturdy_options opts = c->opts;
     if (talk) {
         work_estimate(c, t);
-        c->opts.progress = progress;
-        c->opts.progress_ctx = &ps;
+        opts.progress = progress;
+        opts.progress_ctx = &ps;
+    }
+    if (cli_mpi_size() > 1) {
+        if (opts.shard_count) {
+            sturdy_table_free(t);
+            snprintf(err, STURDY_ERR_LEN, "--shard cannot be combined with MPI ranks: each "
+                                          "rank already computes its own slice");
+            return STURDY_EUSAGE;
+        }
+        opts.shard_index = (uint64_t)cli_mpi_rank() + 1;
+        opts.shard_count = (uint64_t)cli_mpi_size();
     }
     ps.t0 = now_s();
     sturdy_result *r = NULL;
-    st = sturdy_analyze(t, &c->opts, &r, err);
+    st = sturdy_analyze(t, &opts, &r, err);
+    if (cli_mpi_size() > 1)
+        st = cli_mpi_combine(r, st, err);
     double seconds = now_s() - ps.t0;
     progress_clear(&ps);
-    c->opts.progress = NULL;
-    c->opts.progress_ctx = NULL;
+    sturdy_table_free(t);
     if (st) {
-        if (st == STURDY_EUSAGE) cli_usage_error(c->command, "%s", err);
-        else fprintf(stderr, "sturdy: %s\n", err);
-        sturdy_table_free(t);
+        sturdy_result_free(r);
         return (int)st;
+    }
+    if (talk)
+        achieved(r, seconds);
+    *out = r;
+    return 0;
+}
+
+int cli_check_run(cli_check *c)
+{
+    char err[STURDY_ERR_LEN] = "";
+    sturdy_result *r = NULL;
+    int st = cli_check_compute(c, &r, err);
+    if (st) {
+        if (cli_mpi_rank() == 0 || st != STURDY_EUSAGE) {
+            if (st == STURDY_EUSAGE) cli_usage_error(c->command, "%s", err);
+            else fprintf(stderr, "sturdy: %s\n", err);
+        }
+        return st;
+    }
+    if (cli_mpi_rank() != 0) { /* only rank 0 writes */
+        sturdy_result_free(r);
+        return 0;
     }
     sturdy_buf out;
     sturdy_buf_init(&out);
     int rc = 0;
-    if (render(c, r, &out) != STURDY_OK || !out.data) {
+    if (cli_render(c, r, &out) != STURDY_OK || !out.data) {
         fputs("sturdy: out of memory while writing the report\n", stderr);
         rc = STURDY_EINTERNAL;
     } else {
         rc = cli_write_output(c->out_path, out.data, out.len);
     }
-    if (!rc && talk) achieved(r, seconds);
     /* CSV has no place for the run's notes; keep them visible */
     if (!rc && !c->quiet && c->format == CLI_FMT_CSV)
         for (size_t i = 0; i < r->nnotes; i++) fprintf(stderr, "sturdy: note: %s\n", r->notes[i]);
     sturdy_buf_free(&out);
     sturdy_result_free(r);
-    sturdy_table_free(t);
     return rc;
 }
