@@ -181,9 +181,17 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         }
         tr->f = tr->ms / out->ms_error;
         tr->p = sturdy_f_sf(tr->f, tr->df, dfe);
-        if (sturdy_ncf_eta2_interval(tr->f, tr->df, dfe, conf, &tr->ncf.lo, &tr->ncf.hi,
-                                     NULL, NULL) != STURDY_OK)
+        /* Steiger (2004): an interval for the noncentrality λ = N·f² inverted from the
+         * noncentral F; partial η² = f²/(1+f²) = λ/(λ + N) with N the rows used (in a
+         * one-way design N = df1 + df2 + 1, the form often quoted) */
+        double lam_lo, lam_hi, eta_lo, eta_hi;
+        if (sturdy_ncf_eta2_interval(tr->f, tr->df, dfe, conf, &eta_lo, &eta_hi, &lam_lo,
+                                     &lam_hi) == STURDY_OK) {
+            tr->ncf.lo = lam_lo / (lam_lo + (double)n);
+            tr->ncf.hi = lam_hi / (lam_hi + (double)n);
+        } else {
             tr->ncf.lo = tr->ncf.hi = NAN;
+        }
     }
     free(s);
     free(work);

@@ -15,7 +15,7 @@ Checks and tolerances (the reference is named on every line):
   * eta2, partial_eta2, omega2, partial_omega2, cohens_f against the textbook formulas
     (Hays 1963; Olejnik & Algina 2003) evaluated on the reference SS, relative 1e-8;
   * the noncentral-F interval for partial eta2 (Steiger 2004): each bound's
-    λ = η²/(1−η²)·(df1+df2+1) plugged into scipy.stats.ncf.cdf at the observed F gives
+    λ = η²/(1−η²)·N (N = rows used) plugged into scipy.stats.ncf.cdf at the observed F gives
     1−(1−conf)/2 (lower) and (1−conf)/2 (upper) to absolute 1e-6; a bound of 0 needs
     the central F cdf at F_obs to be at most its target;
   * empty cells under Type III: the terms that cannot be tested have null F/p and a
@@ -263,7 +263,7 @@ def effect_sizes(ss, df, sse, dfe, sst, n):
             "cohens_f": np.sqrt(peta / (1.0 - peta))}
 
 
-def check_ncf(tag, term, f, df1, df2, conf):
+def check_ncf(tag, term, f, df1, df2, conf, n_rows):
     """Steiger (2004): the interval's λ bounds solve ncf.cdf(F_obs; λ) = targets."""
     src = "scipy.stats.ncf.cdf, Steiger 2004"
     ci = (term.get("ci") or {}).get("partial_eta2") or {}
@@ -279,7 +279,7 @@ def check_ncf(tag, term, f, df1, df2, conf):
                    "at F_obs %.10g must be <= %.4f (source: scipy.stats.f.cdf, Steiger "
                    "2004)" % (tag, side, c0, target))
             continue
-        lam = eta / (1 - eta) * (df1 + df2 + 1)
+        lam = eta / (1 - eta) * n_rows
         c = st.ncf.cdf(f, df1, df2, lam)
         report(abs(c - target) <= NCF_TOL, "%s: noncentral_f %s bound eta2 %r (lambda "
                "%.10g): cdf at F_obs observed %.10g expected %.4f tol abs %.0e (source: "
@@ -334,7 +334,7 @@ def compare(ds, path, ss, ref, source, untestable=()):
         for k, v in es.items():
             close("%s %s" % (t, k), term[k], v, REL, ES_FLOOR,
                   "formula on statsmodels SS (Hays 1963; Olejnik & Algina 2003)")
-        check_ncf(t, term, f, df, dfe, conf)
+        check_ncf(t, term, f, df, dfe, conf, n)
 
 
 def write(ds, folder):
