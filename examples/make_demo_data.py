@@ -21,17 +21,19 @@ import math
 import os
 import random
 
-# Picked among seeds by checking the data with statsmodels (Type III, sum coding) and a
-# numpy Freedman–Lane loop: runner p < 1e-4, tests and all interactions p > 0.15, and
-# cache on either side of 0.05 (F-test p ≈ 0.056, permutation p ≈ 0.043).
-SEED = 2331
+# Picked among seeds 1-800 by running sturdy (Type III, Freedman–Lane, B = 9999):
+# runner p < 0.001, tests and every interaction p > 0.08 both ways, and cache on either
+# side of 0.05 (F-test p ≈ 0.051, permutation p ≈ 0.044 with its 99% Monte Carlo
+# interval below 0.05). Disagreements are rare by nature: the two p-values share the
+# same F statistic and differ only through the non-normal errors.
+SEED = 650
 BASE_MIN = 12.0                                   # median build of a small runner
 RUNNER = {"small": 0.0, "medium": -0.30, "large": -0.50}   # log-scale effects
-CACHE = {"off": 0.0, "on": -0.12}
+CACHE = {"off": 0.0, "on": -0.22}
 TESTS = {"serial": 0.0, "parallel": 0.0}
 SIGMA = 0.30                                      # log-normal spread
-STALL_PROB = 0.08                                 # chance of a mirror stall
-STALL_MEAN_MIN = 6.0                              # mean extra minutes of a stall
+STALL_PROB = 0.12                                 # chance of a mirror stall
+STALL_MEAN_MIN = 10.0                              # mean extra minutes of a stall
 # rows per cell, in cell order runner × cache × tests (4 to 8, slightly unbalanced)
 COUNTS = [6, 5, 6, 7, 5, 6, 4, 6, 8, 5, 6, 6]
 CANCELLED = 17                                    # this build (1-based) has no time
