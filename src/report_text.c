@@ -457,14 +457,21 @@ static void check_spread(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
         sturdy_buf_printf(s, "; variance ratio not available (%s).",
                           g->vr_note ? g->vr_note : "not computed");
     }
-    int unequal = (!isnan(g->bf_p) && g->bf_p < w->r->opts.alpha) ||
-                  (!isnan(g->variance_ratio) && g->variance_ratio > VARIANCE_RATIO_WARN);
-    if (unequal)
+    int tested = !isnan(g->bf_p) && g->bf_p < w->r->opts.alpha;
+    int wide = !isnan(g->variance_ratio) && g->variance_ratio > VARIANCE_RATIO_WARN;
+    if (tested)
         sturdy_buf_puts(s, w->r->opts.flip
                                ? " → Cell variances differ; --flip is already on, which copes "
                                  "with that."
                                : " → Cell variances differ; rerun with --flip (sign-flipping "
                                  "copes with unequal variances).");
+    else if (wide)
+        sturdy_buf_puts(s, w->r->opts.flip
+                               ? " → The cell variances spread widely, though the test does "
+                                 "not flag it; --flip is already on."
+                               : " → The cell variances spread widely, though the test does "
+                                 "not flag it (small cells make both noisy); if in doubt, "
+                                 "rerun with --flip.");
     else if (!isnan(g->bf_p))
         sturdy_buf_puts(s, " → No clear sign of unequal variances.");
     tw_labelled(w, "equal spread", s->data);
