@@ -374,6 +374,51 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
     tw_footnotes(w);
 }
 
+/* Cells listed in the text report; the JSON output has them all. */
+#define CELLS_SHOWN 24
+
+static void cells_table(tw *w, const sturdy_response_result *rr)
+{
+    const sturdy_design *d = w->r->design;
+    size_t shown = d->ncells < CELLS_SHOWN ? d->ncells : CELLS_SHOWN;
+    tw_para(w, 2, 2, "Cells: rows, mean and standard deviation of the response");
+    tw_indent(w, 2);
+    tw_style(w, "1");
+    tw_cell(w, "cell", 60, 0);
+    tw_cell(w, "rows", 6, 1);
+    tw_cell(w, "mean", 12, 1);
+    tw_cell(w, "SD", 12, 1);
+    tw_style(w, "0");
+    tw_nl(w);
+    sturdy_buf label;
+    sturdy_buf_init(&label);
+    for (size_t c = 0; c < shown; c++) {
+        char n[32], m[32], sd[32];
+        label.len = 0;
+        if (label.data) label.data[0] = '\0';
+        sturdy_report_cell_label(d, c, &label);
+        const char *text = label.data ? label.data : "";
+        snprintf(n, sizeof n, "%zu", d->cell_count[c]);
+        tw_fmt_g(rr->cell_mean[c], 4, m);
+        tw_fmt_g(rr->cell_sd[c], 4, sd);
+        const char *shown_label = term_cell(w, text, 60);
+        tw_indent(w, 2);
+        tw_cell(w, shown_label ? shown_label : "", 60, 0);
+        tw_cell(w, n, 6, 1);
+        tw_cell(w, m, 12, 1);
+        tw_cell(w, sd, 12, 1);
+        tw_nl(w);
+    }
+    if (label.failed) w->b->failed = 1;
+    sturdy_buf_free(&label);
+    if (d->ncells > shown)
+        tw_paraf(w, 4, 4, "and %zu more cells (see the JSON output)", d->ncells - shown);
+    if (d->ncells < d->ncells_possible)
+        tw_paraf(w, 4, 4, "%zu of %zu possible cells are empty", d->ncells_possible - d->ncells,
+                 d->ncells_possible);
+    tw_nl(w);
+}
+
 static void check_outliers(tw *w, const sturdy_diagnostics *g)
 {
     sturdy_buf s;
@@ -547,6 +592,7 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
         sturdy_buf_free(&title);
         tests_table(&w, rr);
         effects_table(&w, rr);
+        cells_table(&w, rr);
         checks(&w, rr);
     }
     notes(&w);
