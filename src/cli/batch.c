@@ -1,34 +1,878 @@
-/* batch.c — `sturdy batch PLAN.csv [--resume] [-o DIR]`: many analyses from a plan file.
- * A stub that parses its options; the real batch replaces this file. */
+/* batch.c — `sturdy batch PLAN.csv`: many analyses from a plan file, each run in process
+ * as the equivalent `check`, one result file each (complete or absent), resumable after
+ * an interruption, and a summary with the verdict changes against an earlier run.
+ *
+ * Everything that reaches the summary is read back from the result's JSON, for computed
+ * and resumed analyses alike, so that an interrupted and resumed batch writes the same
+ * summary bytes as an uninterrupted one. */
+#include <dirent.h>
+#include <errno.h>
 #include <getopt.h>
+#include <stdarg.h>
 #include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+#include <sys/stat.h>
+#include <time.h>
+#include <unistd.h>
 
 #include "cli.h"
+#include "json_read.h"
+
+/* Exit status when some analyses failed and the others completed (DESIGN.md). */
+#define BATCH_EXIT_SOME_FAILED 6
+/* Longest analysis name: NAME.json.tmp.XXXXXX must stay under the usual 255-byte limit
+ * of a file name. */
+#define BATCH_NAME_MAX 200
+/* mkstemp's suffix after "NAME.json.tmp.": six letters or digits. */
+#define TMP_RANDOM_LEN 6
 
 static const char batch_help[] =
-"Usage: sturdy batch PLAN.csv [--resume] [-o DIR]\n"
+"Usage: sturdy batch PLAN.csv [-o DIR] [--resume] [--compare OLD_DIR] [--threads N]\n"
+"                    [--quiet]\n"
 "\n"
-"Runs one analysis per row of the plan file, writes one result file each into DIR and a\n"
-"summary; --resume skips analyses whose result is already there.\n";
+"Runs one analysis per row of the plan, each as the equivalent 'sturdy check ... --format\n"
+"json', and writes DIR/NAME.json for each (complete or not at all), then DIR/summary.csv\n"
+"and DIR/summary.txt. A failing analysis is recorded and the others go on.\n"
+"\n"
+"  -o, --output DIR       results folder (default: the plan's name without .csv, plus\n"
+"                         '.results', beside the plan); created when missing\n"
+"      --resume           keep results already in DIR that match their plan row (same\n"
+"                         data file, settings and responses, not older than the data)\n"
+"      --compare OLD_DIR  list every term whose verdict differs from OLD_DIR/NAME.json\n"
+"      --threads N        threads for each analysis (default 0 = all cores)\n"
+"  -q, --quiet            no work estimates or rates on standard error\n"
+"  -h, --help             show this help\n"
+"\n"
+"Plan columns (a CSV file, header first; one analysis per row)\n"
+"  name       required: result file name (letters, digits, '.', '_', '-'; no leading '.')\n"
+"  data       required: data file, relative to the plan's folder unless absolute\n"
+"  response   required: response column(s), comma-separated inside a quoted field\n"
+"  factors    required: factor columns, likewise\n"
+"  optional, as the 'check' options of the same name: covariates, block, order, ss,\n"
+"  permutations, bootstrap, method, flip (yes/no/true/false/1/0), bootstrap-scheme,\n"
+"  conf, alpha, seed, delimiter, missing, max-levels, max-columns.\n"
+"  An empty field leaves the option at its default. threads, shard, format, output and\n"
+"  quiet belong to the batch and cannot be columns.\n"
+"\n"
+"Example plan (nightly.csv)\n"
+"  name,data,response,factors,covariates,ss,permutations,flip\n"
+"  rise,loaves.csv,rise_mm,\"proofing,flour\",,3,19999,\n"
+"  crumb,loaves.csv,\"crumb,crust\",\"proofing,flour,rack\",oven_temp,2,9999,yes\n"
+"  sturdy batch nightly.csv --resume      # results in nightly.results/\n"
+"\n"
+"Summary: summary.csv has name,status,exit_code,message,terms,disagreements,changed\n"
+"(terms: tested response × term pairs; disagreements: of those, verdict classical-only\n"
+"or resampling-only; changed: verdicts that differ from OLD_DIR). summary.txt says the\n"
+"same in words and lists the verdict changes.\n"
+"\n"
+"Exit status: 0 all done, 2 usage error, 3 plan error (nothing run), 5 a result or the\n"
+"summary could not be written, 6 some analyses failed and the others completed.\n";
+
+static const char *const required_cols[] = { "name", "data", "response", "factors" };
+enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
+/* Plan columns passed on as `check` long options of the same name. */
+static const char *const option_cols[] = {
+    "covariates", "block", "order", "ss", "permutations", "bootstrap", "method", "flip",
+    "bootstrap-scheme", "conf", "alpha", "seed", "delimiter", "missing", "max-levels",
+    "max-columns"
+};
+#define NOPTION_COLS (sizeof option_cols / sizeof *option_cols)
+/* `check` options that belong to the batch as a whole. */
+static const char *const batch_cols[] = { "threads", "shard", "format", "output", "quiet" };
+#define NBATCH_COLS (sizeof batch_cols / sizeof *batch_cols)
+
+typedef struct {
+    const char *plan_path, *dir, *old_dir, *threads;
+    int resume, quiet, lead;     /* lead: this process writes and talks (MPI rank 0) */
+    char *plan_dir;              /* folder of the plan, or NULL when it has no '/' */
+    sturdy_table *plan;
+    long req[NREQUIRED];         /* plan columns of the required fields */
+    long opt[NOPTION_COLS];      /* plan columns of the options, or -1 */
+} batch;
+
+/* One analysis as the summary reports it. */
+typedef struct {
+    int exit_code;
+    char *message;               /* failure message, or NULL */
+    size_t terms, disagree;
+    int compared;                /* an earlier result was found and compared */
+    size_t changed;
+    sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
+} outcome;
+
+static char *str_cat3(const char *a, const char *b, const char *c)
+{
+    size_t la = strlen(a), lb = strlen(b), lc = strlen(c);
+    char *s = malloc(la + lb + lc + 1);
+    if (!s) return NULL;
+    memcpy(s, a, la);
+    memcpy(s + la, b, lb);
+    memcpy(s + la + lb, c, lc + 1);
+    return s;
+}
+
+static char *str_printf(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+static char *str_printf(const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    int n = vsnprintf(NULL, 0, fmt, ap);
+    va_end(ap);
+    char *s = n >= 0 ? malloc((size_t)n + 1) : NULL;
+    if (!s) return NULL;
+    va_start(ap, fmt);
+    vsnprintf(s, (size_t)n + 1, fmt, ap);
+    va_end(ap);
+    return s;
+}
+
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static char *read_file(const char *path, size_t *len)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f) return NULL;
+    size_t cap = 1 << 16, n = 0;
+    char *buf = malloc(cap);
+    while (buf) {
+        n += fread(buf + n, 1, cap - n, f);
+        if (n < cap) break;
+        char *grown = realloc(buf, cap *= 2);
+        if (!grown) free(buf);
+        buf = grown;
+    }
+    if (ferror(f)) { free(buf); buf = NULL; }
+    fclose(f);
+    *len = n;
+    return buf;
+}
+
+/* A result file parsed, or NULL when it is absent or not JSON. */
+static jv *read_json(const char *path)
+{
+    size_t len = 0;
+    char *text = read_file(path, &len);
+    if (!text) return NULL;
+    jv *doc = jv_parse(text, len, NULL, 0);
+    free(text);
+    return doc;
+}
+
+/* --- standard error captured around calls that print their own messages ---------- */
+
+typedef struct { int saved; FILE *tmp; } capture;
+
+static void capture_begin(capture *cp)
+{
+    fflush(stderr);
+    cp->tmp = tmpfile();
+    cp->saved = cp->tmp ? dup(STDERR_FILENO) : -1;
+    if (cp->saved < 0 || dup2(fileno(cp->tmp), STDERR_FILENO) < 0) {
+        if (cp->saved >= 0) close(cp->saved);
+        if (cp->tmp) fclose(cp->tmp);
+        cp->tmp = NULL;          /* not captured: the messages go to stderr as usual */
+    }
+}
+
+/* Restore stderr; the first captured line, without "sturdy: ", goes to msg. */
+static void capture_end(capture *cp, char *msg, size_t len)
+{
+    msg[0] = '\0';
+    if (!cp->tmp) return;
+    fflush(stderr);
+    dup2(cp->saved, STDERR_FILENO);
+    close(cp->saved);
+    rewind(cp->tmp);
+    if (fgets(msg, (int)len, cp->tmp)) {
+        msg[strcspn(msg, "\n")] = '\0';
+        if (!strncmp(msg, "sturdy: ", 8)) memmove(msg, msg + 8, strlen(msg + 8) + 1);
+    }
+    fclose(cp->tmp);
+}
+
+/* --- the plan -------------------------------------------------------------------- */
+
+static int plan_error(const batch *b, size_t line, long col, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+static int plan_error(const batch *b, size_t line, long col, const char *fmt, ...)
+{
+    va_list ap;
+    fprintf(stderr, "sturdy: %s: line %zu", b->plan_path, line);
+    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, b->plan->cols[col].name);
+    fputs(": ", stderr);
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    va_end(ap);
+    fputs("\nnothing was run\n", stderr);
+    return STURDY_EDATA;
+}
+
+/* File line of the header: the loader skips blank lines (and a byte-order mark). */
+static size_t header_line(const char *path)
+{
+    FILE *f = fopen(path, "rb");
+    size_t line = 1;
+    unsigned char bom[3];
+    int ch, prev = 0;
+    if (!f) return line;
+    if (fread(bom, 1, 3, f) != 3 || bom[0] != 0xEF || bom[1] != 0xBB || bom[2] != 0xBF)
+        rewind(f);
+    /* LF, CRLF and a lone CR each end a line, as the loader counts them */
+    for (; (ch = getc(f)) != EOF && (ch == '\n' || ch == ' ' || ch == '\t' || ch == '\r');
+         prev = ch)
+        line += ch == '\r' || (ch == '\n' && prev != '\r');
+    fclose(f);
+    return line;
+}
+
+static int name_is_safe(const char *s)
+{
+    if (!*s || *s == '.' || strlen(s) > BATCH_NAME_MAX) return 0;
+    for (; *s; s++)
+        if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || (*s >= '0' && *s <= '9') ||
+              *s == '.' || *s == '_' || *s == '-'))
+            return 0;
+    return 1;
+}
+
+static const char *cell(const batch *b, long col, size_t row)
+{
+    return col < 0 ? "" : b->plan->cols[col].text[row];
+}
+
+/* Load and check the plan; returns 0 or an exit status after the message. */
+static int plan_load(batch *b)
+{
+    char err[STURDY_ERR_LEN] = "";
+    static const char *const nothing_missing[1] = { NULL };
+    sturdy_table_opts to;
+    sturdy_table_opts_init(&to);
+    to.missing = nothing_missing;   /* every field as written; empty = not given */
+    to.nmissing = 0;
+    if (sturdy_table_load(b->plan_path, &to, &b->plan, err)) {
+        fprintf(stderr, "sturdy: %s\nnothing was run\n", err);
+        return STURDY_EDATA;
+    }
+    const sturdy_table *t = b->plan;
+    size_t hline = header_line(b->plan_path);
+    for (size_t k = 0; k < NREQUIRED; k++) b->req[k] = -1;
+    for (size_t k = 0; k < NOPTION_COLS; k++) b->opt[k] = -1;
+    for (size_t j = 0; j < t->ncols; j++) {
+        const char *h = t->cols[j].name;
+        int known = 0;
+        for (size_t k = 0; k < NREQUIRED; k++)
+            if (!strcmp(h, required_cols[k])) { b->req[k] = (long)j; known = 1; }
+        for (size_t k = 0; k < NOPTION_COLS; k++)
+            if (!strcmp(h, option_cols[k])) { b->opt[k] = (long)j; known = 1; }
+        for (size_t k = 0; k < NBATCH_COLS; k++)
+            if (!strcmp(h, batch_cols[k]))
+                return plan_error(b, hline, (long)j, "'%s' is an option of the whole batch "
+                                  "and cannot be set per analysis", h);
+        if (!known)
+            return plan_error(b, hline, (long)j, "unknown column (see 'sturdy batch --help' "
+                              "for the plan columns)");
+    }
+    for (size_t k = 0; k < NREQUIRED; k++)
+        if (b->req[k] < 0)
+            return plan_error(b, hline, -1, "the required column '%s' is missing",
+                              required_cols[k]);
+    const sturdy_column *names = &t->cols[b->req[COL_NAME]];
+    for (size_t i = 0; i < t->nrows; i++) {
+        if (!name_is_safe(names->text[i]))
+            return plan_error(b, t->line[i], b->req[COL_NAME], "'%s' is not a safe name: use "
+                              "letters, digits, '.', '_' and '-', not a leading '.', at most "
+                              "%d characters", names->text[i], BATCH_NAME_MAX);
+        for (size_t k = 0; k < i; k++)
+            if (!strcmp(names->text[k], names->text[i]))
+                return plan_error(b, t->line[i], b->req[COL_NAME], "the name '%s' is already "
+                                  "used on line %zu", names->text[i], t->line[k]);
+    }
+    return 0;
+}
+
+/* --- one analysis ---------------------------------------------------------------- */
+
+typedef struct { char **v; int n; int failed; } argvec;
+
+static void arg_push(argvec *a, const char *s)
+{
+    char **v = realloc(a->v, (size_t)(a->n + 2) * sizeof *v);
+    char *copy = strdup(s);
+    if (v) a->v = v;
+    if (!v || !copy) { free(copy); a->failed = 1; return; }
+    a->v[a->n++] = copy;
+    a->v[a->n] = NULL;
+}
+
+static void arg_free(argvec *a)
+{
+    for (int i = 0; i < a->n; i++) free(a->v[i]);
+    free(a->v);
+}
+
+/* A name list with the blanks around its commas removed ("a, b" → "a,b"). */
+static void push_list(argvec *a, const char *s)
+{
+    char *out = malloc(strlen(s) + 1), *o = out;
+    if (!out) { a->failed = 1; return; }
+    while (*s) {
+        while (*s == ' ' || *s == '\t') s++;
+        size_t len = strcspn(s, ",");
+        size_t keep = len;
+        while (keep && (s[keep - 1] == ' ' || s[keep - 1] == '\t')) keep--;
+        memcpy(o, s, keep);
+        o += keep;
+        s += len;
+        if (*s == ',') *o++ = *s++;
+    }
+    *o = '\0';
+    arg_push(a, out);
+    free(out);
+}
+
+/* The argument vector of the row's equivalent `check`; returns 0, or 2 with msg. */
+static int row_argv(const batch *b, size_t row, argvec *a, char *msg, size_t len)
+{
+    for (size_t k = COL_DATA; k < NREQUIRED; k++)
+        if (!*cell(b, b->req[k], row)) {
+            snprintf(msg, len, "the '%s' field is empty", required_cols[k]);
+            return CLI_EXIT_USAGE;
+        }
+    if (!strcmp(cell(b, b->req[COL_DATA], row), "-")) {
+        snprintf(msg, len, "a plan cannot read standard input ('-'); name the data file");
+        return CLI_EXIT_USAGE;
+    }
+    arg_push(a, "check");
+    arg_push(a, "--response");
+    push_list(a, cell(b, b->req[COL_RESPONSE], row));
+    arg_push(a, "--factors");
+    push_list(a, cell(b, b->req[COL_FACTORS], row));
+    for (size_t k = 0; k < NOPTION_COLS; k++) {
+        const char *v = cell(b, b->opt[k], row);
+        if (!*v) continue;
+        if (!strcmp(option_cols[k], "flip")) {
+            int yes = !strcasecmp(v, "yes") || !strcasecmp(v, "true") || !strcmp(v, "1");
+            int no = !strcasecmp(v, "no") || !strcasecmp(v, "false") || !strcmp(v, "0");
+            if (!yes && !no) {
+                snprintf(msg, len, "flip wants yes, no, true, false, 1 or 0, not '%s'", v);
+                return CLI_EXIT_USAGE;
+            }
+            if (yes) arg_push(a, "--flip");
+            continue;
+        }
+        char opt[32];
+        snprintf(opt, sizeof opt, "--%s", option_cols[k]);
+        arg_push(a, opt);
+        if (!strcmp(option_cols[k], "covariates")) push_list(a, v);
+        else arg_push(a, v);
+    }
+    if (b->threads) { arg_push(a, "--threads"); arg_push(a, b->threads); }
+    arg_push(a, "--format");
+    arg_push(a, "json");
+    arg_push(a, "--quiet");
+    arg_push(a, "--");           /* the data file is never read as an option */
+    arg_push(a, cell(b, b->req[COL_DATA], row));
+    if (a->failed) {
+        snprintf(msg, len, "out of memory");
+        return STURDY_EINTERNAL;
+    }
+    return 0;
+}
+
+/* Model terms the options ask for, as design.c builds them (and run.c counts them). */
+static uint64_t count_terms(const sturdy_model_spec *m)
+{
+    uint64_t F = m->nfactors, K = m->order > 0 && (uint64_t)m->order < F ? (uint64_t)m->order
+                                                                        : F;
+    uint64_t terms = 0, choose = 1;
+    for (uint64_t k = 1; k <= K; k++) {
+        choose = choose * (F - k + 1) / k;
+        terms += choose;
+    }
+    return terms + m->ncovariates + (m->block ? 1 : 0);
+}
+
+static int jv_is_str(const jv *v, const char *s)
+{
+    return v && v->kind == JV_STRING && s && !strcmp(v->text, s);
+}
+
+static int jv_is_u64(const jv *v, uint64_t want)
+{
+    int ok = 0;
+    uint64_t got = jv_u64(v, &ok);
+    return ok && got == want;
+}
+
+/* Names in a JSON array (of strings, or of objects' "name") equal `names`. */
+static int names_match(const jv *arr, const char *const *names, size_t n, const char *key)
+{
+    if (!arr || arr->kind != JV_ARRAY || arr->n != n) return 0;
+    for (size_t i = 0; i < n; i++) {
+        const jv *item = jv_at(arr, i);
+        if (!jv_is_str(key ? jv_get(item, key) : item, names[i])) return 0;
+    }
+    return 1;
+}
+
+static const char *const method_names[] = { "freedman-lane", "ter-braak", "raw" };
+static const char *const scheme_names[] = { "residual", "wild", "cells" };
+
+/* A result already in place that the row would reproduce: same data file (not changed
+ * since), settings, responses and model terms. Returns the parsed result or NULL. */
+static jv *resumable(const cli_check *c, const char *out_path, const char *data_path)
+{
+    struct stat rs, ds;
+    if (stat(out_path, &rs) != 0 || stat(data_path, &ds) != 0) return NULL;
+    if (ds.st_mtim.tv_sec > rs.st_mtim.tv_sec ||
+        (ds.st_mtim.tv_sec == rs.st_mtim.tv_sec && ds.st_mtim.tv_nsec > rs.st_mtim.tv_nsec))
+        return NULL;             /* the data were edited after the result was written */
+    jv *doc = read_json(out_path);
+    const sturdy_options *o = &c->opts;
+    const jv *s = jv_get(doc, "settings"), *d = jv_get(doc, "design");
+    const jv *exact = jv_get(s, "exact"), *perms = jv_get(s, "permutations");
+    int ok = 0;
+    uint64_t n = jv_u64(perms, &ok);
+    int scheme = o->boot_scheme != STURDY_BOOT_DEFAULT ? (int)o->boot_scheme
+                 : o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL;
+    /* an exhaustive enumeration is what any B at least as large gives too */
+    int perms_ok = ok && (exact && exact->kind == JV_TRUE ? n <= o->permutations
+                                                          : n == o->permutations);
+    const jv *block = jv_get(d, "block");
+    int block_ok = o->model.block ? jv_is_str(jv_get(block, "name"), o->model.block)
+                                  : block && block->kind == JV_NULL;
+    const jv *flip = jv_get(s, "flip"), *resp = jv_get(doc, "responses");
+    int match = doc && jv_is_u64(jv_get(doc, "version"), 1) &&
+        jv_is_str(jv_get(jv_get(doc, "input"), "file"), c->data) &&
+        jv_is_u64(jv_get(s, "seed"), o->seed) &&
+        jv_is_u64(jv_get(s, "ss_type"), (uint64_t)o->ss_type) &&
+        jv_is_str(jv_get(s, "method"), method_names[o->method]) &&
+        flip && flip->kind == (o->flip ? JV_TRUE : JV_FALSE) &&
+        jv_is_str(jv_get(s, "bootstrap_scheme"), scheme_names[scheme]) && perms_ok &&
+        jv_is_u64(jv_get(s, "bootstrap"), o->bootstrap) &&
+        jv_double(jv_get(s, "conf")) == o->conf && jv_double(jv_get(s, "alpha")) == o->alpha &&
+        names_match(resp, o->model.responses, o->model.nresponses, "response") &&
+        names_match(jv_get(d, "factors"), o->model.factors, o->model.nfactors, "name") &&
+        names_match(jv_get(d, "covariates"), o->model.covariates, o->model.ncovariates, NULL) &&
+        block_ok;
+    for (size_t i = 0; match && i < resp->n; i++) {
+        const jv *terms = jv_get(jv_at(resp, i), "terms");
+        match = terms && terms->kind == JV_ARRAY && terms->n == count_terms(&o->model);
+    }
+    if (!match) { jv_free(doc); return NULL; }
+    return doc;
+}
+
+/* Terms and classical/resampling disagreements, from a result. */
+static void tally(const jv *doc, outcome *oc)
+{
+    const jv *resp = jv_get(doc, "responses");
+    for (size_t i = 0; resp && i < resp->n; i++) {
+        const jv *terms = jv_get(jv_at(resp, i), "terms");
+        for (size_t k = 0; terms && k < terms->n; k++) {
+            const char *v = jv_str(jv_get(jv_at(terms, k), "verdict"));
+            oc->terms++;
+            if (v && (!strcmp(v, "classical-only") || !strcmp(v, "resampling-only")))
+                oc->disagree++;
+        }
+    }
+}
+
+static const jv *find_by(const jv *arr, const char *key, const char *value)
+{
+    for (size_t i = 0; arr && value && i < arr->n; i++)
+        if (jv_is_str(jv_get(jv_at(arr, i), key), value)) return jv_at(arr, i);
+    return NULL;
+}
+
+/* Verdict of `term` in response `resp` of a result: "absent" when there is no such
+ * term, "none" when it has no verdict. */
+static const char *verdict_of(const jv *doc, const char *resp, const char *term)
+{
+    const jv *r = find_by(jv_get(doc, "responses"), "response", resp);
+    const jv *t = r ? find_by(jv_get(r, "terms"), "term", term) : NULL;
+    if (!t) return "absent";
+    const char *v = jv_str(jv_get(t, "verdict"));
+    return v ? v : "none";
+}
+
+/* Every (response, term) of `a` whose verdict in `b` differs, as "old → new" (a_is_new
+ * says which is which); skip_present keeps only the pairs that `b` lacks. */
+static void diff_verdicts(const char *name, const jv *a, const jv *b, int a_is_new,
+                          int skip_present, outcome *oc)
+{
+    const jv *resp = jv_get(a, "responses");
+    for (size_t i = 0; resp && i < resp->n; i++) {
+        const char *rn = jv_str(jv_get(jv_at(resp, i), "response"));
+        const jv *terms = jv_get(jv_at(resp, i), "terms");
+        for (size_t k = 0; rn && terms && k < terms->n; k++) {
+            const char *tn = jv_str(jv_get(jv_at(terms, k), "term"));
+            if (!tn) continue;
+            const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
+            if (!strcmp(va, vb) || (skip_present && strcmp(vb, "absent"))) continue;
+            sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name, rn, tn,
+                              a_is_new ? vb : va, a_is_new ? va : vb);
+            oc->changed++;
+        }
+    }
+}
+
+static void compare(const char *name, const jv *old, const jv *now, outcome *oc)
+{
+    if (!old) return;
+    oc->compared = 1;
+    diff_verdicts(name, now, old, 1, 0, oc);
+    diff_verdicts(name, old, now, 0, 1, oc);   /* terms the new result no longer has */
+}
+
+/* A message about `path` (the resolved data path) naming the file as the plan does. */
+static char *plan_message(const char *msg, const char *path, const char *shown)
+{
+    size_t n = path ? strlen(path) : 0;
+    if (n && !strncmp(msg, path, n)) return str_cat3(shown, msg + n, "");
+    return strdup(msg);
+}
+
+typedef struct {
+    size_t done, resumed, failed;
+    uint64_t perms;              /* rearrangements computed (not resumed) */
+    double seconds;
+    int eoutput;                 /* a result could not be written */
+} totals;
+
+/* Run (or resume) row `i`; fills `oc`. */
+static void run_row(const batch *b, size_t i, totals *tot, outcome *oc)
+{
+    const char *name = cell(b, b->req[COL_NAME], i), *data = cell(b, b->req[COL_DATA], i);
+    size_t nrows = b->plan->nrows;
+    char msg[STURDY_ERR_LEN] = "";
+    argvec a = { 0 };
+    cli_check c;
+    int parsed = 0;
+    char *out_path = str_printf("%s/%s.json", b->dir, name);
+    char *data_path = b->plan_dir && data[0] != '/' ? str_cat3(b->plan_dir, "/", data) : NULL;
+    sturdy_result *r = NULL;
+    jv *doc = NULL, *old = NULL;
+    /* read before the new result is written: OLD_DIR may be DIR itself */
+    char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
+    if (old_path) old = read_json(old_path);
+    free(old_path);
+    int rc = out_path && (data_path || !b->plan_dir || data[0] == '/') ? 0 : STURDY_EINTERNAL;
+    /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
+    if (rc) snprintf(msg, sizeof msg, "out of memory");
+    if (!rc) rc = row_argv(b, i, &a, msg, sizeof msg);
+    if (!rc) {
+        capture cp;
+        capture_begin(&cp);
+        rc = cli_check_parse(a.n, a.v, 0, &c);
+        capture_end(&cp, msg, sizeof msg);
+        parsed = 1;
+        if (rc == CLI_DONE) rc = CLI_EXIT_USAGE;
+        if (rc && !msg[0]) snprintf(msg, sizeof msg, "invalid options");
+        c.data_path = data_path;
+    }
+    if (!rc && b->resume && (doc = resumable(&c, out_path, data_path ? data_path : c.data))) {
+        tot->resumed++;
+        if (!b->quiet && b->lead)
+            fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
+                    nrows, name);
+    } else if (!rc) {
+        if (!b->quiet && b->lead) {
+            const sturdy_options *o = &c.opts;
+            sturdy_table *t = NULL;
+            char err[STURDY_ERR_LEN];
+            uint64_t nt = count_terms(&o->model);
+            fprintf(stderr, "[%zu/%zu] %s: %llu rearrangements × %llu term%s", i + 1, nrows,
+                    name, (unsigned long long)o->permutations, (unsigned long long)nt,
+                    nt == 1 ? "" : "s");
+            if (!sturdy_table_load(data_path ? data_path : c.data, &c.topts, &t, err))
+                fprintf(stderr, " × %zu rows", t->nrows);
+            sturdy_table_free(t);
+            if (c.responses.n > 1) fprintf(stderr, " × %zu responses", c.responses.n);
+            if (o->bootstrap)
+                fprintf(stderr, ", %llu bootstrap replicates", (unsigned long long)o->bootstrap);
+            fputs(" ...\n", stderr);
+        }
+        double t0 = now_s();
+        rc = cli_check_compute(&c, &r, msg);
+        double seconds = now_s() - t0;
+        if (!rc && b->lead) {    /* under MPI only rank 0 holds the finished result */
+            sturdy_buf out;
+            sturdy_buf_init(&out);
+            if (cli_render(&c, r, &out) != STURDY_OK || !out.data || out.failed) {
+                rc = STURDY_EINTERNAL;
+                snprintf(msg, sizeof msg, "out of memory while writing the result");
+            } else {
+                capture cp;
+                capture_begin(&cp);
+                rc = cli_write_output(out_path, out.data, out.len);
+                capture_end(&cp, msg, sizeof msg);
+                if (rc) tot->eoutput = 1;
+            }
+            if (!rc && !(doc = jv_parse(out.data, out.len, NULL, 0))) {
+                rc = STURDY_EINTERNAL;
+                snprintf(msg, sizeof msg, "the result could not be read back");
+            }
+            sturdy_buf_free(&out);
+        }
+        if (!rc) {
+            uint64_t perms = r->perm_end - r->perm_begin;
+            tot->done++;
+            tot->perms += perms;
+            tot->seconds += seconds;
+            if (!b->quiet && b->lead) {
+                fprintf(stderr, "[%zu/%zu] %s: ok in %.2f s", i + 1, nrows, name, seconds);
+                if (perms && seconds > 0)
+                    fprintf(stderr, ", %.0f rearrangements/s", (double)perms / seconds);
+                fputc('\n', stderr);
+            }
+        }
+        sturdy_result_free(r);
+    }
+    oc->exit_code = rc;
+    if (rc) {
+        oc->message = plan_message(msg, data_path, data);
+        tot->failed++;
+        if (b->lead)
+            fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
+                    oc->message ? oc->message : msg);
+    } else {
+        tally(doc, oc);
+        compare(name, old, doc, oc);
+    }
+    jv_free(doc);
+    jv_free(old);
+    if (parsed) cli_check_free(&c);
+    arg_free(&a);
+    free(out_path);
+    free(data_path);
+}
+
+/* --- results folder and summary ------------------------------------------------- */
+
+/* Remove "NAME.json.tmp.XXXXXX" (and the summaries' temporaries) left by a run that was
+ * interrupted between creating and renaming them. */
+static void remove_stale(const batch *b)
+{
+    DIR *d = opendir(b->dir);
+    struct dirent *e;
+    if (!d) return;
+    while ((e = readdir(d))) {
+        const char *n = e->d_name;
+        size_t len = strlen(n), suffix = sizeof ".tmp." - 1 + TMP_RANDOM_LEN;
+        if (len <= suffix || strncmp(n + len - suffix, ".tmp.", 5)) continue;
+        size_t stem = len - suffix;
+        int ours = stem == 11 && (!strncmp(n, "summary.csv", 11) ||
+                                  !strncmp(n, "summary.txt", 11));
+        for (size_t i = 0; !ours && stem > 5 && i < b->plan->nrows; i++) {
+            const char *name = cell(b, b->req[COL_NAME], i);
+            ours = strlen(name) == stem - 5 && !strncmp(n, name, stem - 5) &&
+                   !strncmp(n + stem - 5, ".json", 5);
+        }
+        if (!ours) continue;
+        char *path = str_cat3(b->dir, "/", n);
+        if (path && unlink(path) == 0 && !b->quiet)
+            fprintf(stderr, "sturdy: removed '%s', left by an interrupted run\n", path);
+        free(path);
+    }
+    closedir(d);
+}
+
+static void csv_field(sturdy_buf *o, const char *s)
+{
+    if (!s[strcspn(s, ",\"\r\n")] && s[0] != ' ' && (!*s || s[strlen(s) - 1] != ' ')) {
+        sturdy_buf_puts(o, s);
+        return;
+    }
+    sturdy_buf_put(o, "\"", 1);
+    for (; *s; s++) {
+        if (*s == '"') sturdy_buf_put(o, "\"", 1);
+        sturdy_buf_put(o, s, 1);
+    }
+    sturdy_buf_put(o, "\"", 1);
+}
+
+static int write_summary(const batch *b, const outcome *oc)
+{
+    sturdy_buf csv, txt;
+    sturdy_buf_init(&csv);
+    sturdy_buf_init(&txt);
+    size_t n = b->plan->nrows, failed = 0, changed = 0, width = 0;
+    for (size_t i = 0; i < n; i++) {
+        size_t w = strlen(cell(b, b->req[COL_NAME], i));
+        if (w > width) width = w;
+        failed += oc[i].exit_code != 0;
+        changed += oc[i].changed;
+    }
+    const char *base = strrchr(b->plan_path, '/');
+    base = base ? base + 1 : b->plan_path;
+    sturdy_buf_printf(&txt, "Plan %s: %zu analyses, %zu ok, %zu failed\n\n", base, n,
+                      n - failed, failed);
+    sturdy_buf_puts(&csv, "name,status,exit_code,message,terms,disagreements,changed\n");
+    for (size_t i = 0; i < n; i++) {
+        const char *name = cell(b, b->req[COL_NAME], i);
+        const outcome *o = &oc[i];
+        csv_field(&csv, name);
+        if (o->exit_code) {
+            sturdy_buf_printf(&csv, ",failed,%d,", o->exit_code);
+            csv_field(&csv, o->message ? o->message : "");
+            sturdy_buf_puts(&csv, ",,,\n");
+            sturdy_buf_printf(&txt, "  %-*s  failed (exit %d): %s\n", (int)width, name,
+                              o->exit_code, o->message ? o->message : "");
+            continue;
+        }
+        sturdy_buf_printf(&csv, ",ok,0,,%zu,%zu,", o->terms, o->disagree);
+        if (o->compared) sturdy_buf_printf(&csv, "%zu", o->changed);
+        sturdy_buf_puts(&csv, "\n");
+        sturdy_buf_printf(&txt, "  %-*s  ok: %zu term%s, %zu where classical and resampling "
+                          "disagree\n", (int)width, name, o->terms, o->terms == 1 ? "" : "s",
+                          o->disagree);
+    }
+    if (b->old_dir) {
+        sturdy_buf_printf(&txt, "\nVerdict changes against %s: %zu\n", b->old_dir, changed);
+        for (size_t i = 0; i < n; i++) {
+            if (oc[i].changes.data) sturdy_buf_puts(&txt, oc[i].changes.data);
+            if (!oc[i].exit_code && !oc[i].compared)
+                sturdy_buf_printf(&txt, "  %s: no earlier result to compare\n",
+                                  cell(b, b->req[COL_NAME], i));
+        }
+    }
+    int rc = 0;
+    char *pc = str_cat3(b->dir, "/", "summary.csv"), *pt = str_cat3(b->dir, "/", "summary.txt");
+    if (!pc || !pt || csv.failed || txt.failed) {
+        fputs("sturdy: out of memory while writing the summary\n", stderr);
+        rc = STURDY_EOUTPUT;
+    } else if (cli_write_output(pc, csv.data, csv.len) ||
+               cli_write_output(pt, txt.data, txt.len)) {
+        rc = STURDY_EOUTPUT;
+    }
+    free(pc);
+    free(pt);
+    sturdy_buf_free(&csv);
+    sturdy_buf_free(&txt);
+    return rc;
+}
+
+/* The default results folder: the plan's path without ".csv", plus ".results". */
+static char *default_dir(const char *plan)
+{
+    size_t n = strlen(plan);
+    const char *slash = strrchr(plan, '/');
+    size_t stem = n > 4 && !strcmp(plan + n - 4, ".csv") && (!slash || plan + n - 4 > slash + 1)
+                  ? n - 4 : n;
+    char *s = malloc(stem + sizeof ".results");
+    if (!s) return NULL;
+    memcpy(s, plan, stem);
+    memcpy(s + stem, ".results", sizeof ".results");
+    return s;
+}
+
+static int make_dir(const char *dir)
+{
+    struct stat sb;
+    if (mkdir(dir, 0777) == 0 || (errno == EEXIST && stat(dir, &sb) == 0 && S_ISDIR(sb.st_mode)))
+        return 0;
+    fprintf(stderr, "sturdy: cannot create the results folder '%s': %s\n", dir,
+            errno == EEXIST ? "a file of that name is in the way" : strerror(errno));
+    return STURDY_EOUTPUT;
+}
+
+static int run_batch(batch *b)
+{
+    int rc = plan_load(b);
+    if (rc) return rc;
+    const char *slash = strrchr(b->plan_path, '/');
+    if (slash && !(b->plan_dir = strndup(b->plan_path, slash == b->plan_path ? 1
+                                                : (size_t)(slash - b->plan_path))))
+        return STURDY_EINTERNAL;
+    if ((rc = make_dir(b->dir))) return rc;
+    if (b->lead) remove_stale(b);
+    size_t n = b->plan->nrows;
+    outcome *oc = calloc(n, sizeof *oc);
+    if (!oc) return STURDY_EINTERNAL;
+    totals tot = { 0 };
+    for (size_t i = 0; i < n; i++) {
+        sturdy_buf_init(&oc[i].changes);
+        run_row(b, i, &tot, &oc[i]);
+    }
+    int wrote = b->lead ? write_summary(b, oc) : 0;
+    if (!b->quiet && b->lead) {
+        fprintf(stderr, "sturdy: batch: %zu analyses: %zu computed, %zu kept, %zu failed",
+                n, tot.done, tot.resumed, tot.failed);
+        if (tot.perms && tot.seconds > 0)
+            fprintf(stderr, "; %llu rearrangements in %.2f s (%.0f/s)",
+                    (unsigned long long)tot.perms, tot.seconds, (double)tot.perms / tot.seconds);
+        fprintf(stderr, "\nsturdy: summary in %s/summary.txt\n", b->dir);
+    }
+    for (size_t i = 0; i < n; i++) {
+        free(oc[i].message);
+        sturdy_buf_free(&oc[i].changes);
+    }
+    free(oc);
+    if (wrote || tot.eoutput) return STURDY_EOUTPUT;
+    return tot.failed ? BATCH_EXIT_SOME_FAILED : 0;
+}
 
 int sturdy_cli_batch(int argc, char **argv)
 {
+    enum { OPT_RESUME = 256, OPT_COMPARE, OPT_THREADS };
     static const struct option opts[] = {
-        { "resume", no_argument, NULL, 'r' },
         { "output", required_argument, NULL, 'o' },
+        { "resume", no_argument, NULL, OPT_RESUME },
+        { "compare", required_argument, NULL, OPT_COMPARE },
+        { "threads", required_argument, NULL, OPT_THREADS },
         { "quiet", no_argument, NULL, 'q' },
         { "help", no_argument, NULL, 'h' },
         { NULL, 0, NULL, 0 }
     };
+    batch b = { 0 };
+    b.lead = cli_mpi_rank() == 0;
     int opt;
+    uint64_t u;
+    struct stat sb;
     opterr = 0;
     optind = 1;
     while ((opt = getopt_long(argc, argv, ":o:qh", opts, NULL)) != -1) {
-        if (opt == 'h') { fputs(batch_help, stdout); return 0; }
-        if (opt == '?' || opt == ':')
-            return cli_usage_error("batch", "bad or incomplete option '%s'", argv[optind - 1]);
+        switch (opt) {
+        case 'h': fputs(batch_help, stdout); return 0;
+        case 'o':
+            if (!*optarg) return cli_usage_error("batch", "--output wants a folder name");
+            b.dir = optarg;
+            break;
+        case OPT_RESUME: b.resume = 1; break;
+        case OPT_COMPARE:
+            if (stat(optarg, &sb) != 0 || !S_ISDIR(sb.st_mode))
+                return cli_usage_error("batch", "--compare wants a folder of earlier results; "
+                                       "'%s' is not one", optarg);
+            b.old_dir = optarg;
+            break;
+        case OPT_THREADS:
+            if (!cli_parse_u64(optarg, &u) || u > 4096)
+                return cli_usage_error("batch", "--threads wants a whole number up to 4096, "
+                                       "not '%s'", optarg);
+            b.threads = optarg;
+            break;
+        case 'q': b.quiet = 1; break;
+        case ':':
+            return cli_usage_error("batch", "option '%s' needs a value", argv[optind - 1]);
+        default:
+            return cli_usage_error("batch", "unknown option '%s'", argv[optind - 1]);
+        }
     }
     if (argc - optind != 1) return cli_usage_error("batch", "name one plan file");
-    fputs("sturdy: batch is not yet implemented\n", stderr);
-    return 1;
+    b.plan_path = argv[optind];
+    char *dir = NULL;
+    if (!b.dir && !(b.dir = dir = default_dir(b.plan_path))) return STURDY_EINTERNAL;
+    int rc = run_batch(&b);
+    sturdy_table_free(b.plan);
+    free(b.plan_dir);
+    free(dir);
+    return rc;
 }

@@ -14,7 +14,7 @@ static const char main_help[] =
 "  sturdy demo [options]                                   the same on built-in data\n"
 "  sturdy merge PART.json... [-o FILE]                     combine the parts of a\n"
 "                                                          split run (--shard)\n"
-"  sturdy batch PLAN.csv [--resume] [-o DIR]               many analyses from a plan\n"
+"  sturdy batch PLAN.csv [--resume] [-o DIR] [--compare OLD]  many analyses from a plan\n"
 "\n"
 "'sturdy COMMAND --help' describes each command; 'sturdy --version' prints the version.\n";
 

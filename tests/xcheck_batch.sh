@@ -1,0 +1,237 @@
+#!/usr/bin/env bash
+# xcheck_batch.sh — `sturdy batch`: a plan of analyses run in process, one result file
+# each, exit 6 when some fail; results complete or absent when the run is killed (-9) at
+# any moment, and a --resume run then gives every result and both summaries byte for byte
+# as an uninterrupted run; --compare lists exactly the terms whose verdict changed; plan
+# errors stop everything (exit 3, no results folder).
+# References: the batch contract in the brief/README (exit codes, file names, resume
+# rules); the expected verdict changes follow from the construction of the data (an
+# added main effect in a balanced design leaves every other term's F, and its
+# Freedman–Lane rearrangements, unchanged), and are also read from the two runs' JSON
+# with Python's json module as an independent check.
+# Prints "ok  ..." or "FAIL ..." per check and "N passed, N failed" last; exit 1 on any
+# failure.
+set -u
+cd "$(dirname "$0")/.."
+BIN="${STURDY_BIN:-./sturdy}"
+PY="${PYTHON:-/usr/bin/python3}"
+pass=0; fail=0
+ok()   { echo "ok   $1"; pass=$((pass + 1)); }
+bad()  { echo "FAIL $1"; fail=$((fail + 1)); }
+check() { if [ "$2" = "$3" ]; then ok "$1 ($2)"; else bad "$1: got '$2', expected '$3'"; fi; }
+give_up() { bad "$1"; echo "$pass passed, $fail failed"; exit 1; }
+
+[ -x "$BIN" ] || give_up "binary $BIN not built (make sturdy)"
+[ -x "$PY" ] || give_up "python $PY missing (needed to write the test data and read JSON)"
+BIN=$(cd "$(dirname "$BIN")" && pwd)/$(basename "$BIN")
+T=$(mktemp -d) || give_up "mktemp failed"
+trap 'rm -rf "$T"' EXIT
+mkdir -p "$T/plans" "$T/data"
+
+# Invented data, fixed seeds, standard-library random only: a 3×2×2 factorial with two
+# responses, a covariate and a block; a 6-row table (exact enumeration); a ragged file;
+# and a pair of 2×3×2 tables that differ only by a shift between the levels of P.
+"$PY" - "$T" <<'PY' || give_up "could not write the test data"
+import random, sys
+out = sys.argv[1]
+r = random.Random(20240917)
+with open(out + "/data/trial.csv", "w") as fh:
+    fh.write("A,B,C,site,dose,y1,y2\n")
+    for a in ("a1", "a2", "a3"):
+        for b in ("b1", "b2"):
+            for c in ("c1", "c2"):
+                for k in range(6):
+                    x = r.uniform(0, 4)
+                    y1 = 5 + 0.9 * (a == "a3") + 0.5 * x + r.expovariate(1.0)
+                    y2 = 2 + 0.7 * (b == "b2") * (c == "c1") + r.gauss(0, 1)
+                    fh.write("%s,%s,%s,s%d,%.4f,%.5f,%.5f\n" % (a, b, c, k % 3, x, y1, y2))
+with open(out + "/data/tiny.csv", "w") as fh:
+    fh.write("g,y\n" + "".join("%s,%.3f\n" % (g, r.gauss(0, 1)) for g in "aabbbc"))
+with open(out + "/data/ragged.csv", "w") as fh:
+    fh.write("g,y\na,1\nb,2,9\na,3\n")
+noise = [r.gauss(0, 1) for _ in range(2 * 3 * 2 * 5)]
+for name, shift in (("before", 0.0), ("after", 3.0)):
+    with open(out + "/data/%s.csv" % name, "w") as fh:
+        fh.write("P,Q,R,z,w\n")
+        i = 0
+        for p in ("p1", "p2"):
+            for q in ("q1", "q2", "q3"):
+                for rr in ("r1", "r2"):
+                    for k in range(5):
+                        z = 10 + 4.0 * (q == "q3") + shift * (p == "p2") + noise[i]
+                        w = 1 + 3.0 * (rr == "r2") + noise[(i * 7) % len(noise)]
+                        fh.write("%s,%s,%s,%.6f,%.6f\n" % (p, q, rr, z, w))
+                        i += 1
+PY
+
+# Enough rearrangements for the clean run to take a few seconds, so that the kills land
+# inside it (fewer in the quick tier: sanitizer builds are several times slower).
+B=500000; [ "${STURDY_QUICK:-0}" = 1 ] && B=150000
+cat > "$T/plans/nightly.csv" <<EOF
+name,data,response,factors,covariates,block,ss,permutations,method,flip,bootstrap-scheme,conf,alpha,seed,order,bootstrap
+main3,../data/trial.csv,y1,"A,B,C",,,3,$B,,,,,,,,500
+two-resp,../data/trial.csv,"y1, y2","A,B",,,2,$B,,,,,,,,500
+with-dose,../data/trial.csv,y1,"A,B",dose,,1,$B,,,,,,,,500
+blocked,../data/trial.csv,y2,"B,C",,site,3,$B,ter-braak,,,,,,,500
+flipped,../data/trial.csv,y2,"A,B,C",,,3,$B,,yes,wild,,,,2,500
+raw.a,../data/trial.csv,y1,A,,,3,$B,raw,no,,0.9,0.1,,,500
+cells_bc,../data/trial.csv,y2,"B,C",,,2,$B,,,cells,,,7,,500
+broken,../data/ragged.csv,y,g,,,,,,,,,,,,
+exact,$T/data/tiny.csv,y,g,,,,5000,,,,,,,,200
+bad-method,../data/trial.csv,y1,A,,,,,sideways,,,,,,,
+EOF
+NAMES="main3 two-resp with-dose blocked flipped raw.a cells_bc exact"
+
+# --- the clean run ----------------------------------------------------------------
+t0=$(date +%s.%N)
+"$BIN" batch "$T/plans/nightly.csv" -o "$T/A" 2>"$T/a.err"; rc=$?
+t1=$(date +%s.%N)
+dur=$("$PY" -c "print(round($t1 - $t0, 3))")
+check "clean run: exit 6 when one analysis fails" "$rc" 6
+ok_all=1; for n in $NAMES; do [ -s "$T/A/$n.json" ] || ok_all=0; done
+check "clean run: every good analysis has its result file" "$ok_all" 1
+check "clean run: no result for the broken rows" \
+    "$(ls "$T/A" | grep -c -e '^broken' -e '^bad-method')" 0
+"$PY" - "$T/A" > "$T/statuses" <<'PY'
+import csv, json, sys
+rows = list(csv.DictReader(open(sys.argv[1] + "/summary.csv", newline="")))
+print(" ".join("%s:%s:%s" % (r["name"], r["status"], r["exit_code"]) for r in rows))
+bad = [r["name"] for r in rows if r["status"] == "ok" and
+       int(r["terms"]) != sum(len(x["terms"]) for x in
+                              json.load(open(sys.argv[1] + "/" + r["name"] + ".json"))["responses"])]
+print("terms-mismatch:" + ",".join(bad))
+PY
+check "summary.csv: every row once, in plan order, with status and exit code" \
+    "$(head -n 1 "$T/statuses")" \
+    "main3:ok:0 two-resp:ok:0 with-dose:ok:0 blocked:ok:0 flipped:ok:0 raw.a:ok:0 cells_bc:ok:0 broken:failed:3 exact:ok:0 bad-method:failed:2"
+check "summary.csv: terms column = response × term pairs in each JSON" \
+    "$(tail -n 1 "$T/statuses")" "terms-mismatch:"
+check "stderr: the failing rows say 'NAME: failed (exit N)'" \
+    "$(grep -c -e 'broken: failed (exit 3): ../data/ragged.csv: line 3' \
+               -e "bad-method: failed (exit 2): --method wants" "$T/a.err")" 2
+check "stderr: no generic 'try --help' line for a row's usage error" \
+    "$(grep -c "try 'sturdy" "$T/a.err")" 0
+check "stderr: a cost line per computed analysis" \
+    "$(grep -c -E "rearrangements × [0-9]+ terms? × 72 rows" "$T/a.err")" 7
+check "result = the equivalent 'sturdy check' output, byte for byte" \
+    "$(cd "$T/plans" && "$BIN" check ../data/trial.csv -y y1,y2 -f A,B --ss 2 -B $B \
+        --bootstrap 500 --format json -q | cmp - "$T/A/two-resp.json" && echo same)" same
+grep -q 'exact.*ok' "$T/A/summary.txt" && [ "$(grep -c '"exact": true' "$T/A/exact.json")" = 1 ] \
+    && ok "exact enumeration row computed" || bad "exact enumeration row"
+echo "     (clean run: $dur s)"
+
+# --- kill -9 at three moments, then --resume --------------------------------------
+# one kill in each third of the clean run's duration, at a random point within it
+RANDOM=4242
+for third in 0 1 2; do
+    u=$RANDOM      # drawn here: a command substitution would reseed its own $RANDOM
+    frac=$("$PY" -c "print(round(($third + 0.1 + 0.7 * $u / 32767) / 3, 3))")
+    delay=$("$PY" -c "print(round($frac * $dur, 3))")
+    rm -rf "$T/B"
+    "$BIN" batch "$T/plans/nightly.csv" -o "$T/B" --quiet 2>/dev/null &
+    pid=$!
+    sleep "$delay"
+    kill -9 "$pid" 2>/dev/null && killed=killed || killed="finished first"
+    wait "$pid" 2>/dev/null
+    present=0; intact=1
+    for n in $NAMES; do
+        if [ -e "$T/B/$n.json" ]; then
+            present=$((present + 1))
+            cmp -s "$T/B/$n.json" "$T/A/$n.json" || intact=0
+        fi
+    done
+    temps=$(ls "$T/B" 2>/dev/null | grep -c '\.tmp\.')
+    check "kill at ${frac} of the run (${delay} s, $killed): each result there is complete" "$intact" 1
+    mkdir -p "$T/B"
+    : > "$T/B/main3.json.tmp.AbC123"       # as if a write had been cut off
+    "$BIN" batch "$T/plans/nightly.csv" -o "$T/B" --resume 2>"$T/b.err"; rc=$?
+    kept=$(grep -c ': kept ' "$T/b.err")
+    echo "     (killed with $present of 8 results and $temps temporary files; resume kept $kept)"
+    check "resume after kill $((third + 1)): exit 6" "$rc" 6
+    check "resume after kill $((third + 1)): kept exactly the results that were there" \
+        "$kept" "$present"
+    same=1; for n in $NAMES; do cmp -s "$T/B/$n.json" "$T/A/$n.json" || same=0; done
+    check "resume after kill $((third + 1)): every result byte-identical to the clean run" "$same" 1
+    check "resume after kill $((third + 1)): same files, none left over" \
+        "$(ls "$T/B" | tr '\n' ' ')" "$(ls "$T/A" | tr '\n' ' ')"
+    cmp -s "$T/B/summary.csv" "$T/A/summary.csv" && cmp -s "$T/B/summary.txt" "$T/A/summary.txt" \
+        && ok "resume after kill $((third + 1)): summaries byte-identical" \
+        || bad "resume after kill $((third + 1)): summaries differ"
+done
+
+# --- resume recomputes what does not match ----------------------------------------
+printf '{"version": 1, "input": {"file": ' > "$T/B/main3.json"          # cut short
+"$BIN" batch "$T/plans/nightly.csv" -o "$T/B" --resume 2>"$T/c.err"
+check "resume: a truncated result is computed again" \
+    "$(grep -c '^\[1/10\] main3: kept' "$T/c.err"):$(cmp -s "$T/B/main3.json" "$T/A/main3.json" && echo same)" "0:same"
+sed 's/^exact,\(.*\),200$/exact,\1,300/' "$T/plans/nightly.csv" > "$T/plans/edited.csv"
+cp -r "$T/B" "$T/C"
+"$BIN" batch "$T/plans/edited.csv" -o "$T/C" --resume 2>"$T/d.err"
+check "resume: a row whose settings changed (bootstrap 200→300) is computed again" \
+    "$(grep -c ': kept ' "$T/d.err"):$(grep -c '^\[9/10\] exact: kept' "$T/d.err")" "7:0"
+check "the changed row's result has the new setting" \
+    "$(grep -c '"bootstrap": 300,' "$T/C/exact.json")" 1
+
+# --- --compare --------------------------------------------------------------------
+mkdir -p "$T/old" "$T/new"
+printf 'name,data,response,factors,permutations,bootstrap\nshift,../data/before.csv,"z,w","P,Q,R",4999,0\nsame,../data/after.csv,z,"Q,R",4999,0\n' \
+    > "$T/old/plan.csv"
+printf 'name,data,response,factors,permutations,bootstrap\nshift,../data/after.csv,"z,w","P,Q,R",4999,0\nsame,../data/after.csv,z,"Q,R",4999,0\nfresh,../data/after.csv,w,R,999,0\n' \
+    > "$T/new/plan.csv"
+"$BIN" batch "$T/old/plan.csv" -q; rc1=$?
+"$BIN" batch "$T/new/plan.csv" -q --compare "$T/old/plan.results"; rc2=$?
+check "compare runs: exit 0 both" "$rc1:$rc2" "0:0"
+expected=$("$PY" - "$T/old/plan.results" "$T/new/plan.results" <<'PY'
+import json, sys
+for name in ("shift", "same"):
+    o, n = (json.load(open("%s/%s.json" % (d, name))) for d in sys.argv[1:3])
+    for ro, rn in zip(o["responses"], n["responses"]):
+        for to, tn in zip(ro["terms"], rn["terms"]):
+            if to["verdict"] != tn["verdict"]:
+                print("  %s / %s / %s: %s → %s" % (name, rn["response"], tn["term"],
+                                                   to["verdict"], tn["verdict"]))
+PY
+)
+check "compare: Python finds only z's term P changed (neither → both)" \
+    "$expected" "  shift / z / P: neither → both"
+listed=$(sed -n '/^Verdict changes/,$p' "$T/new/plan.results/summary.txt" | grep ' → ')
+check "compare: summary.txt lists exactly that change" "$listed" "$expected"
+check "compare: changed column (shift 1, same 0, fresh empty)" \
+    "$(cut -d, -f1,7 "$T/new/plan.results/summary.csv" | tail -n +2 | tr '\n' ' ')" \
+    "shift,1 same,0 fresh, "
+check "compare: an analysis without an earlier result says so" \
+    "$(grep -c 'fresh: no earlier result' "$T/new/plan.results/summary.txt")" 1
+
+# --- plan errors: exit 3, nothing run, no folder ----------------------------------
+plan_error() {   # label, plan text, expected message fragment
+    printf '%s' "$2" > "$T/plans/err.csv"
+    rm -rf "$T/plans/err.results"
+    "$BIN" batch "$T/plans/err.csv" -q 2>"$T/e.err"; local rc=$?
+    local named; named=$(grep -c -F -- "$3" "$T/e.err")
+    local made; [ -e "$T/plans/err.results" ] && made=made || made=none
+    check "plan error, $1: exit 3, message, no folder" "$rc:$named:$made" "3:1:none"
+}
+plan_error "unknown column" $'name,data,response,factors,colour\nx,../data/tiny.csv,y,g,red\n' \
+    "err.csv: line 1, column 5 ('colour'): unknown column"
+plan_error "duplicate name" $'name,data,response,factors\nx,../data/tiny.csv,y,g\nx,../data/tiny.csv,y,g\n' \
+    "err.csv: line 3, column 1 ('name'): the name 'x' is already used on line 2"
+plan_error "unsafe name" $'name,data,response,factors\n../x,../data/tiny.csv,y,g\n' \
+    "err.csv: line 2, column 1 ('name'): '../x' is not a safe name"
+plan_error "hidden name" $'name,data,response,factors\n.x,../data/tiny.csv,y,g\n' \
+    "'.x' is not a safe name"
+plan_error "missing column" $'name,data,response\nx,../data/tiny.csv,y\n' \
+    "the required column 'factors' is missing"
+plan_error "batch-wide option as a column" $'name,data,response,factors,threads\nx,../data/tiny.csv,y,g,2\n' \
+    "column 5 ('threads'): 'threads' is an option of the whole batch"
+
+# --- usage ------------------------------------------------------------------------
+"$BIN" batch 2>/dev/null; check "no plan: usage error" "$?" 2
+"$BIN" batch "$T/plans/nightly.csv" --threads x 2>/dev/null; check "bad --threads: usage error" "$?" 2
+check "--help lists the plan columns and an example" \
+    "$("$BIN" batch --help | grep -c -e '^Plan columns' -e '^Example plan')" 2
+mkdir -p "$T/ro"; : > "$T/ro/blocker"
+"$BIN" batch "$T/plans/nightly.csv" -o "$T/ro/blocker" -q 2>/dev/null
+check "results folder cannot be made: exit 5" "$?" 5
+
+echo "$pass passed, $fail failed"
+[ "$fail" = 0 ]
