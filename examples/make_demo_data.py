@@ -21,19 +21,19 @@ import math
 import os
 import random
 
-# Picked among seeds 1-800 by running sturdy (Type III, Freedman–Lane, B = 9999):
-# runner p < 0.001, tests and every interaction p > 0.08 both ways, and cache on either
-# side of 0.05 (F-test p ≈ 0.051, permutation p ≈ 0.044 with its 99% Monte Carlo
-# interval below 0.05). Disagreements are rare by nature: the two p-values share the
-# same F statistic and differ only through the non-normal errors.
-SEED = 650
+# Picked among seeds 1-400 by running sturdy (Type III, Freedman–Lane, B = 9999): the
+# mirror stalls are rare but long, so the residuals are very skewed and the F-test loses
+# power; runner is significant both ways, cache only by the permutation test (F-test
+# p ≈ 0.059, permutation p ≈ 0.02, its 99% Monte Carlo interval well below 0.05), and
+# tests and every interaction are not significant either way.
+SEED = 22
 BASE_MIN = 12.0                                   # median build of a small runner
 RUNNER = {"small": 0.0, "medium": -0.30, "large": -0.50}   # log-scale effects
-CACHE = {"off": 0.0, "on": -0.22}
+CACHE = {"off": 0.0, "on": -0.30}
 TESTS = {"serial": 0.0, "parallel": 0.0}
 SIGMA = 0.30                                      # log-normal spread
-STALL_PROB = 0.12                                 # chance of a mirror stall
-STALL_MEAN_MIN = 10.0                              # mean extra minutes of a stall
+STALL_PROB = 0.10                                 # chance of a mirror stall
+STALL_MEAN_MIN = 20.0                              # mean extra minutes of a stall
 # rows per cell, in cell order runner × cache × tests (4 to 8, slightly unbalanced)
 COUNTS = [6, 5, 6, 7, 5, 6, 4, 6, 8, 5, 6, 6]
 CANCELLED = 17                                    # this build (1-based) has no time

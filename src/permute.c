@@ -52,7 +52,9 @@ typedef struct {
     const sturdy_model *m;
     size_t M;            /* members */
     member *mem;
-    double *V;           /* n × M row-major: the vectors to rearrange */
+    double *V;           /* n × M row-major: the vectors to rearrange, rows in block
+                            order (position k holds row blk_rows[k]) */
+    uint32_t *lab0;      /* n: group of the row at each position, in block order */
     double *thr;         /* M × M: thr[t·M + j] = c-factor of member t at p_j */
     int flip, exact;
     uint64_t seed;
@@ -98,30 +100,43 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
     return total;
 }
 
+/* Durstenfeld's shuffle of x[0..m): for i = m−1 down to 1 swap x[i] with x[j], j drawn
+ * uniformly from 0..i by Lemire's method (the order of sturdy_pcg_shuffle). */
+static void shuffle_labels(sturdy_pcg64 *g, uint32_t *x, size_t m)
+{
+    for (size_t i = m; i > 1; i--) {
+        size_t j = (size_t)sturdy_pcg_bounded(g, i);
+        uint32_t t = x[i - 1];
+        x[i - 1] = x[j];
+        x[j] = t;
+    }
+}
+
 /* The b-th permutation in enumeration order: mixed radix over blocks, each block's digit
  * decoded as a Lehmer code (factorial number system); b = 0 is the identity. */
-static void unrank(const perm_ctx *c, uint64_t b, size_t *perm, size_t *pool)
+static void unrank(const perm_ctx *c, uint64_t b, uint32_t *lab, uint32_t *pool)
 {
     for (size_t k = 0; k < c->nblk; k++) {
         size_t lo = c->blk_start[k], m = c->blk_start[k + 1] - lo;
         uint64_t f = factorial_sat(m);
         uint64_t idx = b % f;
         b /= f;
-        for (size_t i = 0; i < m; i++)
-            pool[i] = c->blk_rows[lo + i];
+        memcpy(pool, c->lab0 + lo, m * sizeof *pool);
         for (size_t i = 0; i < m; i++) {
             uint64_t fi = factorial_sat(m - 1 - i);
             size_t dgt = (size_t)(idx / fi);
             idx %= fi;
-            perm[c->blk_rows[lo + i]] = pool[dgt];
+            lab[lo + i] = pool[dgt];
             memmove(pool + dgt, pool + dgt + 1, (m - i - 1 - dgt) * sizeof *pool);
         }
     }
 }
 
-/* Rearrangement b: perm[i] = source row of destination row i, or signs. */
-static void rearrangement(const perm_ctx *c, uint64_t b, size_t *perm, signed char *sign,
-                          size_t *pool)
+/* Rearrangement b, as the group labels of the positions (a permutation of the labels
+ * within each block — equivalent to permuting the values, and it lets the gather read
+ * the values in order), or as signs. */
+static void rearrangement(const perm_ctx *c, uint64_t b, uint32_t *lab, signed char *sign,
+                          uint32_t *pool)
 {
     size_t n = c->d->n;
     if (c->flip) {
@@ -136,23 +151,20 @@ static void rearrangement(const perm_ctx *c, uint64_t b, size_t *perm, signed ch
         return;
     }
     if (c->exact) {
-        unrank(c, b, perm, pool);
+        unrank(c, b, lab, pool);
         return;
     }
     sturdy_pcg64 g;
     sturdy_pcg_for(&g, c->seed, STURDY_STREAM_PERMUTE, b);
+    memcpy(lab, c->lab0, n * sizeof *lab);
     for (size_t k = 0; k < c->nblk; k++) {
-        size_t lo = c->blk_start[k], m = c->blk_start[k + 1] - lo;
-        for (size_t i = 0; i < m; i++)
-            pool[i] = c->blk_rows[lo + i];
-        sturdy_pcg_shuffle(&g, pool, m);
-        for (size_t i = 0; i < m; i++)
-            perm[c->blk_rows[lo + i]] = pool[i];
+        size_t lo = c->blk_start[k];
+        shuffle_labels(&g, lab + lo, c->blk_start[k + 1] - lo);
     }
 }
 
 typedef struct {
-    size_t *perm, *pool;
+    uint32_t *lab, *pool;
     signed char *sign;
     double *tmp;         /* K × M: group sums of one rearrangement, row-major */
     double *S;           /* M blocks of K × nb */
@@ -165,7 +177,7 @@ static void work_free(perm_work *w)
 {
     if (!w)
         return;
-    free(w->perm); free(w->pool); free(w->sign); free(w->tmp); free(w->S); free(w->C);
+    free(w->lab); free(w->pool); free(w->sign); free(w->tmp); free(w->S); free(w->C);
     free(w->num); free(w->den); free(w->exceed); free(w->fwer);
 }
 
@@ -176,7 +188,7 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
         if (c->mem[j].df > maxdf)
             maxdf = c->mem[j].df;
     memset(w, 0, sizeof *w);
-    w->perm = malloc(n * sizeof *w->perm);
+    w->lab = malloc(n * sizeof *w->lab);
     w->pool = malloc(n * sizeof *w->pool);
     w->sign = malloc(n);
     w->tmp = calloc(K * M, sizeof *w->tmp);
@@ -186,7 +198,7 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->den = malloc(M * nb * sizeof *w->den);
     w->exceed = calloc(M, sizeof *w->exceed);
     w->fwer = calloc(M, sizeof *w->fwer);
-    return w->perm && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
+    return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer;
 }
 
@@ -207,20 +219,18 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K, M = c->M, nb = cnt;
     for (size_t bb = 0; bb < nb; bb++) {
-        rearrangement(c, b0 + bb, w->perm, w->sign, w->pool);
+        rearrangement(c, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
-        if (c->flip) {
-            for (size_t i = 0; i < n; i++) {
-                const double *row = c->V + i * M;
-                double *dst = tmp + d->group[i] * M;
-                double sg = (double)w->sign[i];
+        /* the values in order, each added to the group its position now carries */
+        const uint32_t *lab = c->flip ? c->lab0 : w->lab;
+        for (size_t k = 0; k < n; k++) {
+            const double *row = c->V + k * M;
+            double *dst = tmp + (size_t)lab[k] * M;
+            if (c->flip) {
+                double sg = (double)w->sign[k];
                 for (size_t j = 0; j < M; j++)
                     dst[j] += sg * row[j];
-            }
-        } else {
-            for (size_t i = 0; i < n; i++) {
-                const double *row = c->V + w->perm[i] * M;
-                double *dst = tmp + d->group[i] * M;
+            } else {
                 for (size_t j = 0; j < M; j++)
                     dst[j] += row[j];
             }
@@ -320,6 +330,29 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
     size_t M = c->M;
     if (M == 0)
         return STURDY_OK;
+    /* exchangeability blocks */
+    c->nblk = (d->has_block && !c->flip) ? d->block.nlevels : 1;
+    c->blk_start = calloc(c->nblk + 1, sizeof *c->blk_start);
+    c->blk_rows = malloc(n * sizeof *c->blk_rows);
+    if (!c->blk_start || !c->blk_rows)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++)
+        c->blk_start[(c->nblk > 1 ? d->block_level[i] : 0) + 1]++;
+    for (size_t k = 0; k < c->nblk; k++)
+        c->blk_start[k + 1] += c->blk_start[k];
+    size_t *fill = calloc(c->nblk, sizeof *fill);
+    if (!fill)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++) {
+        size_t k = c->nblk > 1 ? d->block_level[i] : 0;
+        c->blk_rows[c->blk_start[k] + fill[k]++] = i;
+    }
+    free(fill);
+    c->lab0 = malloc(n * sizeof *c->lab0);
+    if (!c->lab0)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t k = 0; k < n; k++)
+        c->lab0[k] = (uint32_t)d->group[c->blk_rows[k]];
     c->V = malloc(n * M * sizeof *c->V);
     c->thr = malloc(M * M * sizeof *c->thr);
     double *v = malloc(n * sizeof *v), *s = malloc(K * sizeof *s);
@@ -350,9 +383,10 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
                 v[i] = y[i] - fit[i];
         }
         double vv = 0.0;
-        for (size_t i = 0; i < n; i++) {
-            c->V[i * M + j] = v[i];
-            vv += v[i] * v[i];
+        for (size_t k = 0; k < n; k++) {
+            double x = v[c->blk_rows[k]];
+            c->V[k * M + j] = x;
+            vv += x * x;
         }
         mb->vv = vv;
     }
@@ -370,24 +404,6 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
             c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
                                 (1.0 - STURDY_TIE_RTOL);
         }
-    /* exchangeability blocks */
-    c->nblk = (d->has_block && !c->flip) ? d->block.nlevels : 1;
-    c->blk_start = calloc(c->nblk + 1, sizeof *c->blk_start);
-    c->blk_rows = malloc(n * sizeof *c->blk_rows);
-    if (!c->blk_start || !c->blk_rows)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++)
-        c->blk_start[(c->nblk > 1 ? d->block_level[i] : 0) + 1]++;
-    for (size_t k = 0; k < c->nblk; k++)
-        c->blk_start[k + 1] += c->blk_start[k];
-    size_t *fill = calloc(c->nblk, sizeof *fill);
-    if (!fill)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++) {
-        size_t k = c->nblk > 1 ? d->block_level[i] : 0;
-        c->blk_rows[c->blk_start[k] + fill[k]++] = i;
-    }
-    free(fill);
     size_t nb = PERM_BLOCK_BYTES / (M * K * sizeof(double) + 1);
     c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
     return STURDY_OK;
@@ -486,5 +502,6 @@ done:
     free(c.thr);
     free(c.blk_start);
     free(c.blk_rows);
+    free(c.lab0);
     return st;
 }
