@@ -26,11 +26,6 @@ int sturdy_level_compare(const char *a, const char *b)
     return strcmp(a, b);
 }
 
-static int cmp_str_natural(const void *a, const void *b)
-{
-    return sturdy_level_compare(*(const char *const *)a, *(const char *const *)b);
-}
-
 /* Sort key for grouping rows by a tuple of level indices. */
 typedef struct {
     const size_t *key;
@@ -115,7 +110,25 @@ static sturdy_status find_columns(const sturdy_table *t, const char *const *name
     return STURDY_OK;
 }
 
-/* Levels of a text column over the used rows, in natural order, and each row's index. */
+static int cmp_str_bytes(const void *a, const void *b)
+{
+    return strcmp(*(const char *const *)a, *(const char *const *)b);
+}
+
+/* A distinct level in bytewise order with its index in natural order. */
+typedef struct {
+    const char *text;
+    size_t natural;
+} level_ref;
+
+static int cmp_level_natural(const void *a, const void *b)
+{
+    return sturdy_level_compare(((const level_ref *)a)->text, ((const level_ref *)b)->text);
+}
+
+/* Levels of a text column over the used rows, in natural order, and each row's index.
+ * The rows are sorted bytewise (cheap) to find the distinct values; only those few are
+ * sorted naturally, which parses numbers in every comparison. */
 static sturdy_status make_factor(const sturdy_table *t, long col, const sturdy_design *d,
                                  size_t max_levels, const char *role, sturdy_factor *f,
                                  size_t *lev, size_t stride, char *err)
@@ -126,7 +139,7 @@ static sturdy_status make_factor(const sturdy_table *t, long col, const sturdy_d
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < n; i++)
         vals[i] = t->cols[col].text[d->row[i]];
-    qsort(vals, n, sizeof *vals, cmp_str_natural);
+    qsort(vals, n, sizeof *vals, cmp_str_bytes);
     size_t nl = 0;
     for (size_t i = 0; i < n; i++)
         if (i == 0 || strcmp(vals[i], vals[i - 1]) != 0)
@@ -147,29 +160,38 @@ static sturdy_status make_factor(const sturdy_table *t, long col, const sturdy_d
                            "really a factor? (raise the limit with --max-levels)",
                            t->source, role, t->cols[col].name, nl, max_levels);
     }
+    level_ref *nat = malloc(nl * sizeof *nat);
+    size_t *rank = malloc(nl * sizeof *rank);
     f->nlevels = nl;
     f->levels = calloc(nl, sizeof *f->levels);
-    if (!f->levels || !f->name) {
-        free(vals);
+    if (!nat || !rank || !f->levels || !f->name) {
+        free(vals); free(nat); free(rank);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
-    for (size_t j = 0; j < nl; j++)
-        if (!(f->levels[j] = sturdy_strdup(vals[j]))) {
-            free(vals);
+    for (size_t j = 0; j < nl; j++) {
+        nat[j].text = vals[j];
+        nat[j].natural = j; /* here: the bytewise index */
+    }
+    qsort(nat, nl, sizeof *nat, cmp_level_natural);
+    for (size_t j = 0; j < nl; j++) {
+        rank[nat[j].natural] = j; /* bytewise index → natural index */
+        if (!(f->levels[j] = sturdy_strdup(nat[j].text))) {
+            free(vals); free(nat); free(rank);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
-    free(vals);
+    }
     for (size_t i = 0; i < n; i++) {
         const char *v = t->cols[col].text[d->row[i]];
-        size_t lo = 0, hi = nl; /* binary search in natural order */
+        size_t lo = 0, hi = nl; /* binary search among the bytewise-sorted levels */
         while (lo < hi) {
             size_t mid = (lo + hi) / 2;
-            int c = sturdy_level_compare(f->levels[mid], v);
+            int c = strcmp(vals[mid], v);
             if (c == 0) { lo = mid; break; }
             if (c < 0) lo = mid + 1; else hi = mid;
         }
-        lev[i * stride] = lo;
+        lev[i * stride] = rank[lo];
     }
+    free(vals); free(nat); free(rank);
     return STURDY_OK;
 }
 

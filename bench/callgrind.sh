@@ -1,0 +1,36 @@
+#!/usr/bin/env bash
+# callgrind.sh — instruction count of the permutation stage, the regression baseline.
+# Counts instructions (valgrind --tool=callgrind) of `sturdy check` on the balanced
+# 2×5×8 design (n = 2000, 7 terms) with -B $CG_B and with -B 0, one thread, no
+# bootstrap, and prints (Ir(B) − Ir(0)) / (B · 7 · 2000): instructions per
+# rearrangement·term·observation, then the hottest functions of the B run.
+# Instruction counts do not depend on the machine's load, unlike wall time.
+# OpenBLAS is pinned to one thread and the Haswell kernel so the count is reproducible.
+set -eu
+cd "$(dirname "$0")/.."
+STURDY="${STURDY_BIN:-./sturdy}"
+CG_B="${CG_B:-999}"
+BASELINE=19.53   # instructions per rearrangement·term·observation, measured 2026-12-01 (README)
+OUT=bench/out
+command -v valgrind >/dev/null || { echo "FAIL valgrind not installed (Debian package valgrind)"; exit 1; }
+[ -f $OUT/bal2000.csv ] || /usr/bin/python3 bench/gen_designs.py >/dev/null
+
+ir_of() {   # ir_of B  -> total instructions, profile left in $OUT/callgrind.B.out
+    OPENBLAS_NUM_THREADS=1 OPENBLAS_CORETYPE=Haswell valgrind --tool=callgrind \
+        --callgrind-out-file="$OUT/callgrind.$1.out" "$STURDY" check $OUT/bal2000.csv \
+        -y hours -f treatment,adhesive,cure -B "$1" --bootstrap 0 --threads 1 --quiet \
+        --format json -o "$OUT/callgrind.$1.json" 2>"$OUT/callgrind.$1.log"
+    sed -n 's/.*Collected : *\([0-9]*\).*/\1/p' "$OUT/callgrind.$1.log" | tail -n 1
+}
+ir0=$(ir_of 0)
+irb=$(ir_of "$CG_B")
+[ -n "$ir0" ] && [ -n "$irb" ] || { echo "FAIL callgrind gave no instruction count"; exit 1; }
+echo "callgrind: Ir at -B 0 = $ir0, at -B $CG_B = $irb"
+awk -v a="$ir0" -v b="$irb" -v B="$CG_B" -v base="$BASELINE" 'BEGIN {
+    x = (b - a) / (B * 7 * 2000)
+    printf "instructions per rearrangement*term*observation: %.3f (B=%d, 7 terms, n=2000)\n", x, B
+    printf "regression baseline %.3f (bench/README.md): now %.2fx of it%s\n", base, x / base,
+           (x > base * 1.1) ? "  <-- more than 10% above: a slowdown" : "" }'
+echo "hottest functions at -B $CG_B (self instructions, whole run):"
+callgrind_annotate "$OUT/callgrind.$CG_B.out" 2>/dev/null |
+    grep -E '^ *[0-9,]+ \([ 0-9.]+%\) ' | head -n 8
