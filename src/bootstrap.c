@@ -22,7 +22,7 @@
 #include "engine.h"
 #include "internal.h"
 #include "sturdy/dist.h"
-#include "sturdy/pcg.h"
+#include "pcg_inline.h"
 
 /* A row whose leverage is within this of 1 is alone in its group: its residual is 0 and
  * its leave-one-out fit is undefined, so it is left out of the residual pool and of the
@@ -76,13 +76,13 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
         case STURDY_BOOT_CELLS:
             for (size_t i = 0; i < n; i++) {
                 size_t gi = d->group[i], lo = c->grp_start[gi];
-                size_t k = (size_t)sturdy_pcg_bounded(&g, c->grp_start[gi + 1] - lo);
+                size_t k = (size_t)pcg_bounded_inline(&g, c->grp_start[gi + 1] - lo);
                 rs[i] = rb->a[c->grp_rows[lo + k]];
             }
             break;
         default:
             for (size_t i = 0; i < n; i++)
-                rs[i] = rb->a[rb->pool[sturdy_pcg_bounded(&g, rb->npool)]];
+                rs[i] = rb->a[rb->pool[pcg_bounded_inline(&g, rb->npool)]];
         }
         double rr = 0.0, sum = 0.0, fr = 0.0;
         for (size_t i = 0; i < n; i++) {
@@ -323,7 +323,7 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
         }
     if ((st = setup(&c, err)))
         goto done;
-    for (size_t ri = 0; ri < r->nresp && !st; ri++)
+    for (size_t ri = 0; ri < r->nresp && !st && r->nboot > 0; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms && !st; t++)
             if (r->resp[ri].terms[t].f >= 0)
                 st = acceleration(&c, ri, t, err);

@@ -1,24 +1,9 @@
 /* pcg.c — PCG-XSL-RR 128/64 with selectable stream (O'Neill 2014), jump-ahead (Brown
  * 1994), unbiased bounded integers (Lemire 2019), unit doubles, shuffles and signs. */
-#include "sturdy/pcg.h"
-
-/* The reference library's 128-bit LCG multiplier (pcg_detail::default_multiplier for
- * pcg128_t): 0x2360ED051FC65DA4_4385DF649FCCF645. */
-#define PCG_MULT_HI UINT64_C(0x2360ED051FC65DA4)
-#define PCG_MULT_LO UINT64_C(0x4385DF649FCCF645)
+#include "pcg_inline.h"
 
 /* 2^−53: turns the top 53 bits of an output into a double in [0, 1) exactly. */
 #define PCG_UNIT_SCALE (1.0 / 9007199254740992.0)
-
-static sturdy_u128 pcg_mult(void)
-{
-    return ((sturdy_u128)PCG_MULT_HI << 64) | PCG_MULT_LO;
-}
-
-static void pcg_step(sturdy_pcg64 *g)
-{
-    g->state = g->state * pcg_mult() + g->inc;
-}
 
 void sturdy_pcg_seed(sturdy_pcg64 *g, uint64_t seed_hi, uint64_t seed_lo,
                      uint64_t stream_hi, uint64_t stream_lo)
@@ -34,10 +19,7 @@ void sturdy_pcg_seed(sturdy_pcg64 *g, uint64_t seed_hi, uint64_t seed_lo,
 
 uint64_t sturdy_pcg_next(sturdy_pcg64 *g)
 {
-    pcg_step(g); /* 128-bit state: the reference outputs the new state */
-    uint64_t x = (uint64_t)(g->state >> 64) ^ (uint64_t)g->state;
-    unsigned rot = (unsigned)(g->state >> 122);
-    return (x >> rot) | (x << ((64u - rot) & 63u));
+    return pcg_next_inline(g);
 }
 
 /* Brown (1994): square the affine map x → m·x + c repeatedly and compose the powers
@@ -58,20 +40,9 @@ void sturdy_pcg_advance(sturdy_pcg64 *g, sturdy_u128 delta)
     g->state = acc_mult * g->state + acc_plus;
 }
 
-/* Lemire (2019), Algorithm 5: the division is only paid when the low half falls below
- * bound, which is rare for small bounds. */
 uint64_t sturdy_pcg_bounded(sturdy_pcg64 *g, uint64_t bound)
 {
-    sturdy_u128 m = (sturdy_u128)sturdy_pcg_next(g) * bound;
-    uint64_t low = (uint64_t)m;
-    if (low < bound) {
-        uint64_t threshold = (0u - bound) % bound; /* (2^64 − bound) mod bound */
-        while (low < threshold) {
-            m = (sturdy_u128)sturdy_pcg_next(g) * bound;
-            low = (uint64_t)m;
-        }
-    }
-    return (uint64_t)(m >> 64);
+    return pcg_bounded_inline(g, bound);
 }
 
 double sturdy_pcg_unit(sturdy_pcg64 *g)

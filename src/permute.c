@@ -28,7 +28,7 @@
 #include "engine.h"
 #include "internal.h"
 #include "sturdy/dist.h"
-#include "sturdy/pcg.h"
+#include "pcg_inline.h"
 
 /* Work per thread and block is bounded by this many bytes of group sums. */
 #define PERM_BLOCK_BYTES (16u << 20)
@@ -51,6 +51,9 @@ typedef struct {
     const sturdy_design *d;
     const sturdy_model *m;
     size_t M;            /* members */
+    size_t Mp;           /* M rounded up to a multiple of 4: rows of V and of the group
+                            sums are padded with zeros so the gather adds whole groups
+                            of 4, which the compiler turns into vector adds */
     member *mem;
     double *V;           /* n × M row-major: the vectors to rearrange, rows in block
                             order (position k holds row blk_rows[k]) */
@@ -105,7 +108,7 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
 static void shuffle_labels(sturdy_pcg64 *g, uint32_t *x, size_t m)
 {
     for (size_t i = m; i > 1; i--) {
-        size_t j = (size_t)sturdy_pcg_bounded(g, i);
+        size_t j = (size_t)pcg_bounded_inline(g, i);
         uint32_t t = x[i - 1];
         x[i - 1] = x[j];
         x[j] = t;
@@ -191,7 +194,7 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->lab = malloc(n * sizeof *w->lab);
     w->pool = malloc(n * sizeof *w->pool);
     w->sign = malloc(n);
-    w->tmp = calloc(K * M, sizeof *w->tmp);
+    w->tmp = calloc(K * c->Mp, sizeof *w->tmp);
     w->S = malloc(M * K * nb * sizeof *w->S);
     w->C = malloc(maxdf * nb * sizeof *w->C);
     w->num = malloc(M * nb * sizeof *w->num);
@@ -223,24 +226,37 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
         double *tmp = w->tmp;
         /* the values in order, each added to the group its position now carries */
         const uint32_t *lab = c->flip ? c->lab0 : w->lab;
-        for (size_t k = 0; k < n; k++) {
-            const double *row = c->V + k * M;
-            double *dst = tmp + (size_t)lab[k] * M;
-            if (c->flip) {
+        size_t Mp = c->Mp;
+        if (c->flip) {
+            for (size_t k = 0; k < n; k++) {
+                const double *row = c->V + k * Mp;
+                double *dst = tmp + (size_t)lab[k] * Mp;
                 double sg = (double)w->sign[k];
-                for (size_t j = 0; j < M; j++)
+                for (size_t j = 0; j < Mp; j += 4) {
                     dst[j] += sg * row[j];
-            } else {
-                for (size_t j = 0; j < M; j++)
+                    dst[j + 1] += sg * row[j + 1];
+                    dst[j + 2] += sg * row[j + 2];
+                    dst[j + 3] += sg * row[j + 3];
+                }
+            }
+        } else {
+            for (size_t k = 0; k < n; k++) {
+                const double *row = c->V + k * Mp;
+                double *dst = tmp + (size_t)lab[k] * Mp;
+                for (size_t j = 0; j < Mp; j += 4) {
                     dst[j] += row[j];
+                    dst[j + 1] += row[j + 1];
+                    dst[j + 2] += row[j + 2];
+                    dst[j + 3] += row[j + 3];
+                }
             }
         }
         for (size_t g = 0; g < K; g++) {
             double inv = 1.0 / m->sqrt_count[g];
-            for (size_t j = 0; j < M; j++) {
-                w->S[(j * nb + bb) * K + g] = tmp[g * M + j] * inv;
-                tmp[g * M + j] = 0.0;
-            }
+            for (size_t j = 0; j < M; j++)
+                w->S[(j * nb + bb) * K + g] = tmp[g * Mp + j] * inv;
+            for (size_t j = 0; j < Mp; j++)
+                tmp[g * Mp + j] = 0.0;
         }
     }
     for (size_t j = 0; j < M; j++) {
@@ -330,6 +346,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
     size_t M = c->M;
     if (M == 0)
         return STURDY_OK;
+    c->Mp = (M + 3) & ~(size_t)3;
     /* exchangeability blocks */
     c->nblk = (d->has_block && !c->flip) ? d->block.nlevels : 1;
     c->blk_start = calloc(c->nblk + 1, sizeof *c->blk_start);
@@ -353,7 +370,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t k = 0; k < n; k++)
         c->lab0[k] = (uint32_t)d->group[c->blk_rows[k]];
-    c->V = malloc(n * M * sizeof *c->V);
+    c->V = calloc(n * c->Mp, sizeof *c->V);
     c->thr = malloc(M * M * sizeof *c->thr);
     double *v = malloc(n * sizeof *v), *s = malloc(K * sizeof *s);
     double *work = malloc((m->rank + K) * sizeof *work), *fit = malloc(n * sizeof *fit);
@@ -385,7 +402,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
         double vv = 0.0;
         for (size_t k = 0; k < n; k++) {
             double x = v[c->blk_rows[k]];
-            c->V[k * M + j] = x;
+            c->V[k * c->Mp + j] = x;
             vv += x * x;
         }
         mb->vv = vv;
@@ -404,7 +421,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
             c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
                                 (1.0 - STURDY_TIE_RTOL);
         }
-    size_t nb = PERM_BLOCK_BYTES / (M * K * sizeof(double) + 1);
+    size_t nb = PERM_BLOCK_BYTES / (c->Mp * K * sizeof(double) + 1);
     c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
     return STURDY_OK;
 }
