@@ -344,6 +344,8 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
         jw_u64(w, "line", ot->line);
         jw_str(w, "cell", cell.data ? cell.data : "?");
         jw_num(w, "studentized", ot->studentized);
+        jw_num(w, "studentized_internal", ot->internal);
+        jw_num(w, "leverage", ot->leverage);
         jw_close(w, '}');
     }
     sturdy_buf_free(&cell);

@@ -95,14 +95,15 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     for (size_t i = 0; i < n; i++)
         dg->leverage[i] = m->leverage[d->group[i]];
     sturdy_studentize(e, dg->leverage, n, m->df_error, internal, dg->studentized);
-    free(internal);
     size_t k = 0;
     for (size_t i = 0; i < n; i++)
         if (fabs(dg->studentized[i]) > OUTLIER_LIMIT)
             k++;
     dg->outliers = calloc(k ? k : 1, sizeof *dg->outliers);
-    if (!dg->outliers)
+    if (!dg->outliers) {
+        free(internal);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
     for (size_t i = 0; i < n; i++)
         if (fabs(dg->studentized[i]) > OUTLIER_LIMIT) {
             sturdy_outlier *o = &dg->outliers[dg->noutliers++];
@@ -110,7 +111,10 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
             o->line = d->line[i];
             o->cell = d->cell[i];
             o->studentized = dg->studentized[i];
+            o->internal = internal[i];
+            o->leverage = dg->leverage[i];
         }
+    free(internal);
     return STURDY_OK;
 }
 

@@ -110,7 +110,9 @@ typedef struct {
 
 typedef struct {
     size_t row, line, cell;      /* 1-based data row, file line, cell index */
-    double studentized;          /* externally studentized residual */
+    double studentized;          /* externally studentized residual (the one tested) */
+    double internal;             /* internally studentized residual */
+    double leverage;             /* the row's leverage */
 } sturdy_outlier;
 
 typedef struct {
