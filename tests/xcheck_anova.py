@@ -30,7 +30,9 @@ import subprocess
 import sys
 import tempfile
 
-results = {"pass": 0, "fail": 0}
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import finish, missing_library, need_binary, report  # noqa: E402
+
 REL = 1e-8          # the brief's tolerance for every classical number
 # Sums of squares are computed from data of size ~SST, so a term whose SS is tiny can
 # only be matched to ~1e-13·SST in absolute terms (rounding of doubles times a few
@@ -42,16 +44,6 @@ ES_FLOOR = 1e-12
 NCF_TOL = 1e-6      # the brief's tolerance on the cdf at the interval's λ bounds
 
 
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
-
-
 try:
     import numpy as np
     import pandas as pd
@@ -60,13 +52,9 @@ try:
     import statsmodels.formula.api as smf
     from statsmodels.stats.anova import anova_lm
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "reference library missing: %s (install python3-statsmodels)" % exc)
-    finish()
+    missing_library(exc, "python3-statsmodels")
 
-BIN = os.environ.get("STURDY_BIN", "./sturdy")
-if not os.access(BIN, os.X_OK):
-    report(False, "binary %s not built (make sturdy)" % BIN)
-    finish()
+BIN = need_binary()
 
 
 def close(what, obs, exp, rel, floor, source):

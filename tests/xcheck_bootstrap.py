@@ -40,17 +40,8 @@ import subprocess
 import sys
 import tempfile
 
-results = {"pass": 0, "fail": 0}
-
-
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import QUICK, abort, finish, missing_library, need_binary, report  # noqa: E402
 
 
 try:
@@ -58,19 +49,13 @@ try:
     import scipy.special as sp
     import scipy.stats as st
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "reference library missing: %s (install python3-scipy)" % exc)
-    finish()
+    missing_library(exc, "python3-scipy")
 
 if not hasattr(st, "bootstrap"):
-    report(False, "scipy.stats.bootstrap missing (scipy >= 1.7 needed)")
-    finish()
+    abort("scipy.stats.bootstrap missing (scipy >= 1.7 needed)")
 
-BIN = os.environ.get("STURDY_BIN", "./sturdy")
-if not os.access(BIN, os.X_OK):
-    report(False, "binary %s not built (make sturdy)" % BIN)
-    finish()
+BIN = need_binary()
 
-QUICK = os.environ.get("STURDY_QUICK") == "1"
 B = 10000 if QUICK else 20000   # replicates per run, on both sides
 M = 5 if QUICK else 8           # independent seeds per side
 CONF = 0.95
@@ -93,15 +78,13 @@ def run_sturdy(csv, factors, scheme, ss, seed, nboot=B):
            "--seed", str(seed), "--format", "json", "--threads", "2"]
     proc = subprocess.run(cmd, capture_output=True, text=True, timeout=300)
     if proc.returncode != 0:
-        report(False, "sturdy exited %d: %s (%s)" % (proc.returncode, proc.stderr.strip(),
-                                                     " ".join(cmd)))
-        finish()
+        abort("sturdy exited %d: %s (%s)" % (proc.returncode, proc.stderr.strip(),
+                                             " ".join(cmd)))
     try:
         doc = json.loads(proc.stdout)
         return {t["term"]: t for t in doc["responses"][0]["terms"]}
     except (ValueError, KeyError, IndexError) as exc:
-        report(False, "sturdy JSON unreadable (%s): %s" % (exc, " ".join(cmd)))
-        finish()
+        abort("sturdy JSON unreadable (%s): %s" % (exc, " ".join(cmd)))
 
 
 def compare(name, st_vals, ref_vals, source):

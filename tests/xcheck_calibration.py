@@ -26,17 +26,8 @@ import subprocess
 import sys
 import tempfile
 
-results = {"pass": 0, "fail": 0}
-
-
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import QUICK, finish, missing_library, need_binary, report  # noqa: E402
 
 
 try:
@@ -46,16 +37,10 @@ try:
     import statsmodels.formula.api as smf
     from statsmodels.stats.anova import anova_lm
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "reference library missing: %s (install python3-scipy "
-           "python3-statsmodels)" % exc)
-    finish()
+    missing_library(exc, "python3-scipy python3-statsmodels")
 
-BIN = os.environ.get("STURDY_BIN", "./sturdy")
-if not os.access(BIN, os.X_OK):
-    report(False, "binary %s not built (make sturdy)" % BIN)
-    finish()
+BIN = need_binary()
 
-QUICK = os.environ.get("STURDY_QUICK") == "1"
 NDATA = 120 if QUICK else 400
 ALPHA = 0.05
 LEVEL = 0.99           # central binomial interval of every check

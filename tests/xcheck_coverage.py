@@ -36,31 +36,17 @@ import subprocess
 import sys
 import tempfile
 
-results = {"pass": 0, "fail": 0}
-
-
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import QUICK, abort, finish, need_binary, report  # noqa: E402
 
 
 try:
     import numpy as np
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "numpy missing: %s (install python3-numpy)" % exc)
-    finish()
+    abort("numpy missing: %s (install python3-numpy)" % exc)
 
-BIN = os.environ.get("STURDY_BIN", "./sturdy")
-if not os.access(BIN, os.X_OK):
-    report(False, "binary %s not built (make sturdy)" % BIN)
-    finish()
+BIN = need_binary()
 
-QUICK = os.environ.get("STURDY_QUICK") == "1"
 NBOOT = 1000
 CONF = 0.95
 POP_PETA2 = 0.15          # population partial η² of A (definition in the docstring)
@@ -133,9 +119,8 @@ def run_config(cfg_id, rows, errors, ndata, with_cells, pool):
     outs = [j.result() for j in jobs + cjobs]
     errs = [e for _, e in outs if e]
     if errs:
-        report(False, "sturdy failed on %d of %d runs (%s errors), first: %s"
-               % (len(errs), len(outs), errors, errs[0]))
-        finish()
+        abort("sturdy failed on %d of %d runs (%s errors), first: %s"
+              % (len(errs), len(outs), errors, errs[0]))
     res = [o for o, _ in outs]
     resid, cells = res[:len(jobs)], res[len(jobs):]
     n = rows * LEVELS[0] * LEVELS[1] * LEVELS[2]

@@ -29,17 +29,8 @@ import os
 import subprocess
 import sys
 
-results = {"pass": 0, "fail": 0}
-
-
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import abort, close, finish, missing_library, need_probe, report  # noqa: E402
 
 
 try:
@@ -48,41 +39,14 @@ try:
     from statsmodels.regression.linear_model import OLS
     from statsmodels.stats.outliers_influence import OLSInfluence
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "reference library missing: %s (install python3-scipy, "
-           "python3-statsmodels)" % exc)
-    finish()
+    missing_library(exc, "python3-scipy, python3-statsmodels")
 
-PROBE = os.path.join(os.environ.get("STURDY_BUILD", "build"), "tests", "probe_diagnose")
-if not os.access(PROBE, os.X_OK):
-    report(False, "probe %s not built (make test-bins)" % PROBE)
-    finish()
-
-
-def probe(lines):
-    proc = subprocess.run([PROBE], input="\n".join(lines) + "\n", capture_output=True,
-                          text=True, timeout=120)
-    out = proc.stdout.splitlines()
-    if proc.returncode != 0 or len(out) != len(lines):
-        report(False, "probe failed (exit %d, %d of %d answers): %s"
-               % (proc.returncode, len(out), len(lines), proc.stderr.strip()))
-        finish()
-    return out
+# probe(lines): the query lines to the probe, its answer lines back, one per query
+probe = need_probe("probe_diagnose")
 
 
 def nums(values):
     return " ".join(repr(float(v)) for v in values)
-
-
-def close(name, obs, exp, tol, rel, source, floor=0.0):
-    """rel: |obs-exp| <= tol*|exp|, or <= floor when |exp| is that small."""
-    if math.isnan(exp) or math.isnan(obs):
-        ok = math.isnan(exp) and math.isnan(obs)
-    elif rel:
-        ok = abs(obs - exp) <= max(tol * abs(exp), floor)
-    else:
-        ok = abs(obs - exp) <= tol
-    report(ok, "%s: observed %.17g expected %.17g %s tol %.0e [%s]"
-           % (name, obs, exp, "rel" if rel else "abs", tol, source))
 
 
 # ---------------- Shapiro–Wilk ----------------
@@ -114,8 +78,7 @@ try:
 except FileNotFoundError:
     rproc = None
 if rproc is None or rproc.returncode != 0:
-    report(False, "reference R (Rscript) missing or failed: install r-base-core")
-    finish()
+    abort("reference R (Rscript) missing or failed: install r-base-core")
 r_ref = [tuple(float(v) for v in line.split()) for line in rproc.stdout.splitlines()]
 
 for (n, name, x), o, (rw, rp) in zip(cases, out, r_ref):

@@ -32,17 +32,8 @@ import os
 import subprocess
 import sys
 
-results = {"pass": 0, "fail": 0}
-
-
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import abort, close, finish, missing_library, need_probe, report  # noqa: E402
 
 
 try:
@@ -50,25 +41,10 @@ try:
     import scipy.optimize as so
     import scipy.stats as st
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "reference library missing: %s (install python3-scipy)" % exc)
-    finish()
+    missing_library(exc, "python3-scipy")
 
-PROBE = os.path.join(os.environ.get("STURDY_BUILD", "build"), "tests", "probe_dist")
-if not os.access(PROBE, os.X_OK):
-    report(False, "probe %s not built (make test-bins)" % PROBE)
-    finish()
-
-
-def probe(lines):
-    """Feeds the query lines to the probe; returns its output lines, one per query."""
-    proc = subprocess.run([PROBE], input="\n".join(lines) + "\n", capture_output=True,
-                          text=True, timeout=120)
-    out = proc.stdout.splitlines()
-    if proc.returncode != 0 or len(out) != len(lines):
-        report(False, "probe failed (exit %d, %d of %d answers): %s"
-               % (proc.returncode, len(out), len(lines), proc.stderr.strip()))
-        finish()
-    return out
+# probe(lines): the query lines to the probe, its answer lines back, one per query
+probe = need_probe("probe_dist")
 
 
 def r_eval(exprs):
@@ -81,24 +57,9 @@ def r_eval(exprs):
     except FileNotFoundError:
         proc = None
     if proc is None or proc.returncode != 0:
-        report(False, "reference R (Rscript) missing or failed: install r-base-core %s"
-               % ("" if proc is None else proc.stderr.strip()[:200]))
-        finish()
+        abort("reference R (Rscript) missing or failed: install r-base-core %s"
+              % ("" if proc is None else proc.stderr.strip()[:200]))
     return [float(v) for v in proc.stdout.split()]
-
-
-def close(name, obs, exp, tol, rel, source):
-    if rel:
-        scale = max(abs(exp), 1e-300)
-        ok = abs(obs - exp) <= tol * scale
-    else:
-        ok = abs(obs - exp) <= tol
-    if math.isnan(exp) or math.isnan(obs):
-        ok = math.isnan(exp) and math.isnan(obs)
-    if math.isinf(exp) or math.isinf(obs):
-        ok = obs == exp
-    report(ok, "%s: observed %.17g expected %.17g %s tol %.0e [%s]"
-           % (name, obs, exp, "rel" if rel else "abs", tol, source))
 
 
 # ---------------- central F ----------------

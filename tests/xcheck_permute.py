@@ -37,30 +37,17 @@ import subprocess
 import sys
 import tempfile
 
-results = {"pass": 0, "fail": 0}
-
-
-def report(ok, text):
-    results["pass" if ok else "fail"] += 1
-    print(("ok   " if ok else "FAIL ") + text)
-
-
-def finish():
-    print("%d passed, %d failed" % (results["pass"], results["fail"]))
-    sys.exit(1 if results["fail"] else 0)
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import finish, missing_library, need_binary, report  # noqa: E402
 
 
 try:
     import numpy as np
     import scipy.stats as st
 except ImportError as exc:  # a missing oracle is a failure, never a skip
-    report(False, "reference library missing: %s (install python3-numpy python3-scipy)" % exc)
-    finish()
+    missing_library(exc, "python3-numpy python3-scipy")
 
-BIN = os.environ.get("STURDY_BIN", "./sturdy")
-if not os.access(BIN, os.X_OK):
-    report(False, "binary %s not built (make sturdy)" % BIN)
-    finish()
+BIN = need_binary()
 
 # The exceedance rule of the contract: count when F* ≥ F_obs·(1 − TIE_RTOL).
 TIE_RTOL = 1e-10

@@ -20,17 +20,10 @@ import tempfile
 import numpy as np
 import scipy.stats as st
 
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from harness import finish, report  # noqa: E402
+
 BIN = os.environ.get("STURDY_BIN", "./sturdy")
-passed = failed = 0
-
-
-def report(ok, text):
-    global passed, failed
-    if ok:
-        passed += 1
-    else:
-        failed += 1
-    print(("ok   " if ok else "FAIL ") + text)
 
 
 def run(args):
@@ -134,8 +127,7 @@ def main():
         head = text.split("The run")[0]
         report(len(dis) >= 1 and all(t in head for t in dis) and "does not" in head,
                "demo: the headline names the disagreeing term(s) %r" % dis)
-    print("%d passed, %d failed" % (passed, failed))
-    sys.exit(1 if failed else 0)
+    finish()
 
 
 if __name__ == "__main__":

@@ -4,7 +4,8 @@
  *
  * Everything that reaches the summary is read back from the result's JSON, for computed
  * and resumed analyses alike, so that an interrupted and resumed batch writes the same
- * summary bytes as an uninterrupted one. */
+ * summary bytes as an uninterrupted one. Reading results back (resume, --compare) and
+ * writing the summary live in batch_results.c. */
 #include <dirent.h>
 #include <errno.h>
 #include <getopt.h>
@@ -92,27 +93,6 @@ typedef struct {
     long opt[NOPTION_COLS];      /* plan columns of the options, or -1 */
 } batch;
 
-/* One analysis as the summary reports it. */
-typedef struct {
-    int exit_code;
-    char *message;               /* failure message, or NULL */
-    size_t terms, disagree;
-    int compared;                /* an earlier result was found and compared */
-    size_t changed;
-    sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
-} outcome;
-
-static char *str_cat3(const char *a, const char *b, const char *c)
-{
-    size_t la = strlen(a), lb = strlen(b), lc = strlen(c);
-    char *s = malloc(la + lb + lc + 1);
-    if (!s) return NULL;
-    memcpy(s, a, la);
-    memcpy(s + la, b, lb);
-    memcpy(s + la + lb, c, lc + 1);
-    return s;
-}
-
 static char *str_printf(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 static char *str_printf(const char *fmt, ...)
 {
@@ -133,36 +113,6 @@ static double now_s(void)
     struct timespec ts;
     clock_gettime(CLOCK_MONOTONIC, &ts);
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-static char *read_file(const char *path, size_t *len)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f) return NULL;
-    size_t cap = 1 << 16, n = 0;
-    char *buf = malloc(cap);
-    while (buf) {
-        n += fread(buf + n, 1, cap - n, f);
-        if (n < cap) break;
-        char *grown = realloc(buf, cap *= 2);
-        if (!grown) free(buf);
-        buf = grown;
-    }
-    if (ferror(f)) { free(buf); buf = NULL; }
-    fclose(f);
-    *len = n;
-    return buf;
-}
-
-/* A result file parsed, or NULL when it is absent or not JSON. */
-static jv *read_json(const char *path)
-{
-    size_t len = 0;
-    char *text = read_file(path, &len);
-    if (!text) return NULL;
-    jv *doc = jv_parse(text, len, NULL, 0);
-    free(text);
-    return doc;
 }
 
 /* --- standard error captured around calls that print their own messages ---------- */
@@ -386,157 +336,11 @@ static int row_argv(const batch *b, size_t row, argvec *a, char *msg, size_t len
     return 0;
 }
 
-/* Model terms the options ask for, as design.c builds them (and run.c counts them). */
-static uint64_t count_terms(const sturdy_model_spec *m)
-{
-    uint64_t F = m->nfactors, K = m->order > 0 && (uint64_t)m->order < F ? (uint64_t)m->order
-                                                                        : F;
-    uint64_t terms = 0, choose = 1;
-    for (uint64_t k = 1; k <= K; k++) {
-        choose = choose * (F - k + 1) / k;
-        terms += choose;
-    }
-    return terms + m->ncovariates + (m->block ? 1 : 0);
-}
-
-static int jv_is_str(const jv *v, const char *s)
-{
-    return v && v->kind == JV_STRING && s && !strcmp(v->text, s);
-}
-
-static int jv_is_u64(const jv *v, uint64_t want)
-{
-    int ok = 0;
-    uint64_t got = jv_u64(v, &ok);
-    return ok && got == want;
-}
-
-/* Names in a JSON array (of strings, or of objects' "name") equal `names`. */
-static int names_match(const jv *arr, const char *const *names, size_t n, const char *key)
-{
-    if (!arr || arr->kind != JV_ARRAY || arr->n != n) return 0;
-    for (size_t i = 0; i < n; i++) {
-        const jv *item = jv_at(arr, i);
-        if (!jv_is_str(key ? jv_get(item, key) : item, names[i])) return 0;
-    }
-    return 1;
-}
-
-static const char *const method_names[] = { "freedman-lane", "ter-braak", "raw" };
-static const char *const scheme_names[] = { "residual", "wild", "cells" };
-
-/* A result already in place that the row would reproduce: same data file (not changed
- * since), settings, responses and model terms. Returns the parsed result or NULL. */
-static jv *resumable(const cli_check *c, const char *out_path, const char *data_path)
-{
-    struct stat rs, ds;
-    if (stat(out_path, &rs) != 0 || stat(data_path, &ds) != 0) return NULL;
-    if (ds.st_mtim.tv_sec > rs.st_mtim.tv_sec ||
-        (ds.st_mtim.tv_sec == rs.st_mtim.tv_sec && ds.st_mtim.tv_nsec > rs.st_mtim.tv_nsec))
-        return NULL;             /* the data were edited after the result was written */
-    jv *doc = read_json(out_path);
-    const sturdy_options *o = &c->opts;
-    const jv *s = jv_get(doc, "settings"), *d = jv_get(doc, "design");
-    const jv *exact = jv_get(s, "exact"), *perms = jv_get(s, "permutations");
-    int ok = 0;
-    uint64_t n = jv_u64(perms, &ok);
-    int scheme = o->boot_scheme != STURDY_BOOT_DEFAULT ? (int)o->boot_scheme
-                 : o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL;
-    /* an exhaustive enumeration is what any B at least as large gives too */
-    int perms_ok = ok && (exact && exact->kind == JV_TRUE ? n <= o->permutations
-                                                          : n == o->permutations);
-    const jv *block = jv_get(d, "block");
-    int block_ok = o->model.block ? jv_is_str(jv_get(block, "name"), o->model.block)
-                                  : block && block->kind == JV_NULL;
-    const jv *flip = jv_get(s, "flip"), *resp = jv_get(doc, "responses");
-    int match = doc && jv_is_u64(jv_get(doc, "version"), 1) &&
-        jv_is_str(jv_get(jv_get(doc, "input"), "file"), c->data) &&
-        jv_is_u64(jv_get(s, "seed"), o->seed) &&
-        jv_is_u64(jv_get(s, "ss_type"), (uint64_t)o->ss_type) &&
-        jv_is_str(jv_get(s, "method"), method_names[o->method]) &&
-        flip && flip->kind == (o->flip ? JV_TRUE : JV_FALSE) &&
-        jv_is_str(jv_get(s, "bootstrap_scheme"), scheme_names[scheme]) && perms_ok &&
-        jv_is_u64(jv_get(s, "bootstrap"), o->bootstrap) &&
-        jv_double(jv_get(s, "conf")) == o->conf && jv_double(jv_get(s, "alpha")) == o->alpha &&
-        names_match(resp, o->model.responses, o->model.nresponses, "response") &&
-        names_match(jv_get(d, "factors"), o->model.factors, o->model.nfactors, "name") &&
-        names_match(jv_get(d, "covariates"), o->model.covariates, o->model.ncovariates, NULL) &&
-        block_ok;
-    for (size_t i = 0; match && i < resp->n; i++) {
-        const jv *terms = jv_get(jv_at(resp, i), "terms");
-        match = terms && terms->kind == JV_ARRAY && terms->n == count_terms(&o->model);
-    }
-    if (!match) { jv_free(doc); return NULL; }
-    return doc;
-}
-
-/* Terms and classical/resampling disagreements, from a result. */
-static void tally(const jv *doc, outcome *oc)
-{
-    const jv *resp = jv_get(doc, "responses");
-    for (size_t i = 0; resp && i < resp->n; i++) {
-        const jv *terms = jv_get(jv_at(resp, i), "terms");
-        for (size_t k = 0; terms && k < terms->n; k++) {
-            const char *v = jv_str(jv_get(jv_at(terms, k), "verdict"));
-            oc->terms++;
-            if (v && (!strcmp(v, "classical-only") || !strcmp(v, "resampling-only")))
-                oc->disagree++;
-        }
-    }
-}
-
-static const jv *find_by(const jv *arr, const char *key, const char *value)
-{
-    for (size_t i = 0; arr && value && i < arr->n; i++)
-        if (jv_is_str(jv_get(jv_at(arr, i), key), value)) return jv_at(arr, i);
-    return NULL;
-}
-
-/* Verdict of `term` in response `resp` of a result: "absent" when there is no such
- * term, "none" when it has no verdict. */
-static const char *verdict_of(const jv *doc, const char *resp, const char *term)
-{
-    const jv *r = find_by(jv_get(doc, "responses"), "response", resp);
-    const jv *t = r ? find_by(jv_get(r, "terms"), "term", term) : NULL;
-    if (!t) return "absent";
-    const char *v = jv_str(jv_get(t, "verdict"));
-    return v ? v : "none";
-}
-
-/* Every (response, term) of `a` whose verdict in `b` differs, as "old → new" (a_is_new
- * says which is which); skip_present keeps only the pairs that `b` lacks. */
-static void diff_verdicts(const char *name, const jv *a, const jv *b, int a_is_new,
-                          int skip_present, outcome *oc)
-{
-    const jv *resp = jv_get(a, "responses");
-    for (size_t i = 0; resp && i < resp->n; i++) {
-        const char *rn = jv_str(jv_get(jv_at(resp, i), "response"));
-        const jv *terms = jv_get(jv_at(resp, i), "terms");
-        for (size_t k = 0; rn && terms && k < terms->n; k++) {
-            const char *tn = jv_str(jv_get(jv_at(terms, k), "term"));
-            if (!tn) continue;
-            const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
-            if (!strcmp(va, vb) || (skip_present && strcmp(vb, "absent"))) continue;
-            sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name, rn, tn,
-                              a_is_new ? vb : va, a_is_new ? va : vb);
-            oc->changed++;
-        }
-    }
-}
-
-static void compare(const char *name, const jv *old, const jv *now, outcome *oc)
-{
-    if (!old) return;
-    oc->compared = 1;
-    diff_verdicts(name, now, old, 1, 0, oc);
-    diff_verdicts(name, old, now, 0, 1, oc);   /* terms the new result no longer has */
-}
-
 /* A message about `path` (the resolved data path) naming the file as the plan does. */
 static char *plan_message(const char *msg, const char *path, const char *shown)
 {
     size_t n = path ? strlen(path) : 0;
-    if (n && !strncmp(msg, path, n)) return str_cat3(shown, msg + n, "");
+    if (n && !strncmp(msg, path, n)) return cli_str_cat3(shown, msg + n, "");
     return strdup(msg);
 }
 
@@ -548,7 +352,7 @@ typedef struct {
 } totals;
 
 /* Run (or resume) row `i`; fills `oc`. */
-static void run_row(const batch *b, size_t i, totals *tot, outcome *oc)
+static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc)
 {
     const char *name = cell(b, b->req[COL_NAME], i), *data = cell(b, b->req[COL_DATA], i);
     size_t nrows = b->plan->nrows;
@@ -557,12 +361,13 @@ static void run_row(const batch *b, size_t i, totals *tot, outcome *oc)
     cli_check c;
     int parsed = 0;
     char *out_path = str_printf("%s/%s.json", b->dir, name);
-    char *data_path = b->plan_dir && data[0] != '/' ? str_cat3(b->plan_dir, "/", data) : NULL;
+    char *data_path = b->plan_dir && data[0] != '/' ? cli_str_cat3(b->plan_dir, "/", data)
+                                                    : NULL;
     sturdy_result *r = NULL;
     jv *doc = NULL, *old = NULL;
     /* read before the new result is written: OLD_DIR may be DIR itself */
     char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
-    if (old_path) old = read_json(old_path);
+    if (old_path) old = cli_batch_read_json(old_path);
     free(old_path);
     int rc = out_path && (data_path || !b->plan_dir || data[0] == '/') ? 0 : STURDY_EINTERNAL;
     /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
@@ -578,7 +383,8 @@ static void run_row(const batch *b, size_t i, totals *tot, outcome *oc)
         if (rc && !msg[0]) snprintf(msg, sizeof msg, "invalid options");
         c.data_path = data_path;
     }
-    if (!rc && b->resume && (doc = resumable(&c, out_path, data_path ? data_path : c.data))) {
+    if (!rc && b->resume &&
+        (doc = cli_batch_resumable(&c, out_path, data_path ? data_path : c.data))) {
         tot->resumed++;
         if (!b->quiet && b->lead)
             fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
@@ -588,7 +394,7 @@ static void run_row(const batch *b, size_t i, totals *tot, outcome *oc)
             const sturdy_options *o = &c.opts;
             sturdy_table *t = NULL;
             char err[STURDY_ERR_LEN];
-            uint64_t nt = count_terms(&o->model);
+            uint64_t nt = cli_count_terms(&o->model);
             fprintf(stderr, "[%zu/%zu] %s: %llu rearrangements × %llu term%s", i + 1, nrows,
                     name, (unsigned long long)o->permutations, (unsigned long long)nt,
                     nt == 1 ? "" : "s");
@@ -644,8 +450,8 @@ static void run_row(const batch *b, size_t i, totals *tot, outcome *oc)
             fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
                     oc->message ? oc->message : msg);
     } else {
-        tally(doc, oc);
-        compare(name, old, doc, oc);
+        cli_batch_tally(doc, oc);
+        cli_batch_compare(name, old, doc, oc);
     }
     jv_free(doc);
     jv_free(old);
@@ -677,87 +483,12 @@ static void remove_stale(const batch *b)
                    !strncmp(n + stem - 5, ".json", 5);
         }
         if (!ours) continue;
-        char *path = str_cat3(b->dir, "/", n);
+        char *path = cli_str_cat3(b->dir, "/", n);
         if (path && unlink(path) == 0 && !b->quiet)
             fprintf(stderr, "sturdy: removed '%s', left by an interrupted run\n", path);
         free(path);
     }
     closedir(d);
-}
-
-static void csv_field(sturdy_buf *o, const char *s)
-{
-    if (!s[strcspn(s, ",\"\r\n")] && s[0] != ' ' && (!*s || s[strlen(s) - 1] != ' ')) {
-        sturdy_buf_puts(o, s);
-        return;
-    }
-    sturdy_buf_put(o, "\"", 1);
-    for (; *s; s++) {
-        if (*s == '"') sturdy_buf_put(o, "\"", 1);
-        sturdy_buf_put(o, s, 1);
-    }
-    sturdy_buf_put(o, "\"", 1);
-}
-
-static int write_summary(const batch *b, const outcome *oc)
-{
-    sturdy_buf csv, txt;
-    sturdy_buf_init(&csv);
-    sturdy_buf_init(&txt);
-    size_t n = b->plan->nrows, failed = 0, changed = 0, width = 0;
-    for (size_t i = 0; i < n; i++) {
-        size_t w = strlen(cell(b, b->req[COL_NAME], i));
-        if (w > width) width = w;
-        failed += oc[i].exit_code != 0;
-        changed += oc[i].changed;
-    }
-    const char *base = strrchr(b->plan_path, '/');
-    base = base ? base + 1 : b->plan_path;
-    sturdy_buf_printf(&txt, "Plan %s: %zu analyses, %zu ok, %zu failed\n\n", base, n,
-                      n - failed, failed);
-    sturdy_buf_puts(&csv, "name,status,exit_code,message,terms,disagreements,changed\n");
-    for (size_t i = 0; i < n; i++) {
-        const char *name = cell(b, b->req[COL_NAME], i);
-        const outcome *o = &oc[i];
-        csv_field(&csv, name);
-        if (o->exit_code) {
-            sturdy_buf_printf(&csv, ",failed,%d,", o->exit_code);
-            csv_field(&csv, o->message ? o->message : "");
-            sturdy_buf_puts(&csv, ",,,\n");
-            sturdy_buf_printf(&txt, "  %-*s  failed (exit %d): %s\n", (int)width, name,
-                              o->exit_code, o->message ? o->message : "");
-            continue;
-        }
-        sturdy_buf_printf(&csv, ",ok,0,,%zu,%zu,", o->terms, o->disagree);
-        if (o->compared) sturdy_buf_printf(&csv, "%zu", o->changed);
-        sturdy_buf_puts(&csv, "\n");
-        sturdy_buf_printf(&txt, "  %-*s  ok: %zu term%s, %zu where classical and resampling "
-                          "disagree\n", (int)width, name, o->terms, o->terms == 1 ? "" : "s",
-                          o->disagree);
-    }
-    if (b->old_dir) {
-        sturdy_buf_printf(&txt, "\nVerdict changes against %s: %zu\n", b->old_dir, changed);
-        for (size_t i = 0; i < n; i++) {
-            if (oc[i].changes.data) sturdy_buf_puts(&txt, oc[i].changes.data);
-            if (!oc[i].exit_code && !oc[i].compared)
-                sturdy_buf_printf(&txt, "  %s: no earlier result to compare\n",
-                                  cell(b, b->req[COL_NAME], i));
-        }
-    }
-    int rc = 0;
-    char *pc = str_cat3(b->dir, "/", "summary.csv"), *pt = str_cat3(b->dir, "/", "summary.txt");
-    if (!pc || !pt || csv.failed || txt.failed) {
-        fputs("sturdy: out of memory while writing the summary\n", stderr);
-        rc = STURDY_EOUTPUT;
-    } else if (cli_write_output(pc, csv.data, csv.len) ||
-               cli_write_output(pt, txt.data, txt.len)) {
-        rc = STURDY_EOUTPUT;
-    }
-    free(pc);
-    free(pt);
-    sturdy_buf_free(&csv);
-    sturdy_buf_free(&txt);
-    return rc;
 }
 
 /* The default results folder: the plan's path without ".csv", plus ".results". */
@@ -795,14 +526,16 @@ static int run_batch(batch *b)
     if ((rc = make_dir(b->dir))) return rc;
     if (b->lead) remove_stale(b);
     size_t n = b->plan->nrows;
-    outcome *oc = calloc(n, sizeof *oc);
+    cli_batch_outcome *oc = calloc(n, sizeof *oc);
     if (!oc) return STURDY_EINTERNAL;
     totals tot = { 0 };
     for (size_t i = 0; i < n; i++) {
         sturdy_buf_init(&oc[i].changes);
         run_row(b, i, &tot, &oc[i]);
     }
-    int wrote = b->lead ? write_summary(b, oc) : 0;
+    int wrote = b->lead ? cli_batch_write_summary(b->plan_path, b->dir, b->old_dir,
+                                                  b->plan->cols[b->req[COL_NAME]].text, oc, n)
+                        : 0;
     if (!b->quiet && b->lead) {
         fprintf(stderr, "sturdy: batch: %zu analyses: %zu computed, %zu kept, %zu failed",
                 n, tot.done, tot.resumed, tot.failed);

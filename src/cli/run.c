@@ -49,9 +49,7 @@ static void progress_clear(progress_state *p)
     if (p->shown) fprintf(stderr, "\r%*s\r", p->width, "");
 }
 
-/* Number of model terms the options ask for: all factor subsets up to the order, plus
- * covariates and the block (as design.c builds them). */
-static uint64_t count_terms(const sturdy_model_spec *m)
+uint64_t cli_count_terms(const sturdy_model_spec *m)
 {
     uint64_t F = m->nfactors, K = m->order > 0 && (uint64_t)m->order < F ? (uint64_t)m->order
                                                                         : F;
@@ -69,7 +67,7 @@ static void work_estimate(const cli_check *c, const sturdy_table *t)
     uint64_t per = o->shard_count ? (o->permutations + o->shard_count - 1) / o->shard_count
                                   : o->permutations;
     fprintf(stderr, "sturdy: work: %llu rearrangements × %llu terms × %zu rows",
-            (unsigned long long)per, (unsigned long long)count_terms(&o->model), t->nrows);
+            (unsigned long long)per, (unsigned long long)cli_count_terms(&o->model), t->nrows);
     if (c->responses.n > 1) fprintf(stderr, " × %zu responses", c->responses.n);
     if (o->bootstrap)
         fprintf(stderr, ", and %llu bootstrap replicates", (unsigned long long)o->bootstrap);
