@@ -218,8 +218,6 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         slice_range(r->nperm, o->shard_index, o->shard_count, &r->perm_begin, &r->perm_end);
         slice_range(r->nboot, o->shard_index, o->shard_count, &r->boot_begin, &r->boot_end);
     }
-    /* BLAS runs single-threaded inside our own OpenMP threads */
-    openblas_set_num_threads(1);
     if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(d, m, r, err)) &&
         !(st = sturdy_bootstrap_run(d, m, r, err))) {
         r->perm_done = r->perm_end - r->perm_begin;
@@ -238,6 +236,10 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
     sturdy_status st = sturdy_options_validate(o, err);
     if (st)
         return st;
+    /* BLAS runs single-threaded, inside our own OpenMP threads; set before the first
+     * LAPACK call, so that OpenBLAS never wakes its own thread pool, whose waiting
+     * threads would otherwise spin on the cores our threads need */
+    openblas_set_num_threads(1);
     sturdy_result *r = calloc(1, sizeof *r);
     if (!r)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");

@@ -2,7 +2,9 @@
  * program uses libsturdy only through its public headers; it alone prints and exits. */
 #include <signal.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "cli.h"
 
@@ -32,6 +34,16 @@ static int dispatch(int argc, char **argv);
 
 int main(int argc, char **argv)
 {
+    /* OpenBLAS starts a pool of threads when it is loaded, unless OPENBLAS_NUM_THREADS
+     * says otherwise. sturdy runs BLAS single-threaded inside its own threads, and the
+     * idle pool costs tens of milliseconds of system time per run and competes for the
+     * cores. The variable is read only at load time, so set it and start once more
+     * (an explicit setting of the user's is left alone). */
+    if (!getenv("OPENBLAS_NUM_THREADS")) {
+        setenv("OPENBLAS_NUM_THREADS", "1", 1);
+        execv("/proc/self/exe", argv);
+        /* no /proc: carry on with the pool */
+    }
     if (cli_mpi_init(&argc, &argv) != 0) {
         fputs("sturdy: MPI could not be started\n", stderr);
         return STURDY_EINTERNAL;
