@@ -10,7 +10,7 @@ set -eu
 cd "$(dirname "$0")/.."
 STURDY="${STURDY_BIN:-./sturdy}"
 CG_B="${CG_B:-999}"
-BASELINE=19.53   # instructions per rearrangement·term·observation, measured 2026-12-01 (README)
+BASELINE=11.96   # instructions per rearrangement·term·observation, measured 2026-12-01 (README)
 OUT=bench/out
 command -v valgrind >/dev/null || { echo "FAIL valgrind not installed (Debian package valgrind)"; exit 1; }
 [ -f $OUT/bal2000.csv ] || /usr/bin/python3 bench/gen_designs.py >/dev/null
