@@ -133,7 +133,7 @@ static char *f_dose[] = { "dose" }, *f_mix[] = { "mix" }, *f_both[] = { "dose", 
 static char *notes[] = { "cells scheme with fewer than 10 rows per cell: intervals biased",
                          "odd bytes: \001 and \377 and a \"quote\"" };
 static double mean1[] = { 1, 2, 3, 4 }, sd1[] = { 0.5, NAN, 0.25, 1 };
-static sturdy_outlier outl[] = { { 3, 4, 1, 3.4 }, { 11, 13, 3, -3.9 } };
+static sturdy_outlier outl[] = { { 3, 4, 1, 3.4, 2.9, 0.25 }, { 11, 13, 3, -3.9, -3.2, 0.25 } };
 static double boot_vals[5 * STURDY_NES];   /* replicates 0–4; the shard has 2–4 */
 
 static const double ONE_THIRD = 1.0 / 3.0;
