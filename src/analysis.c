@@ -9,6 +9,9 @@
 #include "internal.h"
 #include "sturdy/dist.h"
 #include "sturdy/pcg.h"
+#ifdef _OPENMP
+#include <omp.h>
+#endif
 
 /* Level of the Monte Carlo interval around p_perm (DESIGN.md: 99% Clopper–Pearson). */
 #define PERM_CI_LEVEL 0.99
@@ -54,6 +57,16 @@ sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
     if (o->model.order < 0)
         return sturdy_fail(err, STURDY_EUSAGE, "--order must be 1 or more");
     return STURDY_OK;
+}
+
+int sturdy_thread_count(const sturdy_options *o)
+{
+#ifdef _OPENMP
+    return o->threads > 0 ? o->threads : omp_get_max_threads();
+#else
+    (void)o;
+    return 1;
+#endif
 }
 
 /* [lo, hi) of slice i (1-based) of n over total items: an even split. */
@@ -194,7 +207,8 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t ri = 0; ri < d->nresp && !st; ri++)
-        st = sturdy_anova_response(d, m, ri, o->conf, &r->resp[ri], err);
+        st = sturdy_anova_response(d, m, ri, o->conf, sturdy_thread_count(o), &r->resp[ri],
+                                   err);
     if (st) {
         sturdy_model_free(m);
         return st;

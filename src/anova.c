@@ -78,7 +78,8 @@ static sturdy_status set_note(char **slot, const char *text, char *err)
 }
 
 sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *m, size_t r,
-                                    double conf, sturdy_response_result *out, char *err)
+                                    double conf, int threads, sturdy_response_result *out,
+                                    char *err)
 {
     size_t n = d->n, K = m->K;
     const double *y = d->y + r * n;
@@ -181,16 +182,22 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         }
         tr->f = tr->ms / out->ms_error;
         tr->p = sturdy_f_sf(tr->f, tr->df, dfe);
-        /* Steiger (2004): an interval for the noncentrality λ = N·f² inverted from the
-         * noncentral F; partial η² = f²/(1+f²) = λ/(λ + N) with N the rows used (in a
-         * one-way design N = df1 + df2 + 1, the form often quoted) */
+    }
+    /* Steiger (2004): an interval for the noncentrality λ = N·f² inverted from the
+     * noncentral F; partial η² = f²/(1+f²) = λ/(λ + N) with N the rows used (in a
+     * one-way design N = df1 + df2 + 1, the form often quoted). Each term's root search
+     * is independent and costs many noncentral-F evaluations: one thread per term. */
+    int64_t nterms = (int64_t)d->nterms;
+#pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
+    for (int64_t t = 0; t < nterms; t++) {
+        sturdy_term_result *tr = &out->terms[t];
         double lam_lo, lam_hi, eta_lo, eta_hi;
+        if (!(tr->f >= 0))
+            continue;
         if (sturdy_ncf_eta2_interval(tr->f, tr->df, dfe, conf, &eta_lo, &eta_hi, &lam_lo,
                                      &lam_hi) == STURDY_OK) {
             tr->ncf.lo = lam_lo / (lam_lo + (double)n);
             tr->ncf.hi = lam_hi / (lam_hi + (double)n);
-        } else {
-            tr->ncf.lo = tr->ncf.hi = NAN;
         }
     }
     free(s);

@@ -15,9 +15,6 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#ifdef _OPENMP
-#include <omp.h>
-#endif
 
 #include "engine.h"
 #include "internal.h"
@@ -323,19 +320,22 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
         }
     if ((st = setup(&c, err)))
         goto done;
-    for (size_t ri = 0; ri < r->nresp && !st && r->nboot > 0; ri++)
-        for (size_t t = 0; t < r->resp[ri].nterms && !st; t++)
-            if (r->resp[ri].terms[t].f >= 0)
-                st = acceleration(&c, ri, t, err);
+    /* the jackknife of each (response, term) is independent: one thread each */
+    int64_t njack = r->nboot > 0 ? (int64_t)(r->nresp * d->nterms) : 0;
+    int jack_failed = 0;
+#pragma omp parallel for schedule(dynamic, 1) num_threads(sturdy_thread_count(&r->opts))
+    for (int64_t k = 0; k < njack; k++) {
+        size_t ri = (size_t)k / d->nterms, t = (size_t)k % d->nterms;
+        if (r->resp[ri].terms[t].f >= 0 && acceleration(&c, ri, t, NULL) != STURDY_OK) {
+#pragma omp atomic write
+            jack_failed = 1;
+        }
+    }
+    if (jack_failed)
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory in the jackknife");
     if (st || b1 <= b0)
         goto done;
-    int nthreads = r->opts.threads;
-#ifdef _OPENMP
-    if (nthreads <= 0)
-        nthreads = omp_get_max_threads();
-#else
-    nthreads = 1;
-#endif
+    int nthreads = sturdy_thread_count(&r->opts);
     int failed = 0;
     int64_t count = (int64_t)(b1 - b0);
 #pragma omp parallel num_threads(nthreads)

@@ -15,9 +15,14 @@
 #define STURDY_TIE_RTOL 1e-10
 
 /* Classical table of response r: SS, df, F, p, effect sizes and the noncentral-F
- * interval per term; error and total; fitted values and residuals; cell means/SDs. */
+ * interval per term; error and total; fitted values and residuals; cell means/SDs.
+ * `threads` (> 0) bounds the threads of the per-term interval searches. */
 sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *m, size_t r,
-                                    double conf, sturdy_response_result *out, char *err);
+                                    double conf, int threads, sturdy_response_result *out,
+                                    char *err);
+
+/* Threads to use: --threads, or all the OpenMP runtime offers when it is 0. */
+int sturdy_thread_count(const sturdy_options *o);
 
 /* Effect sizes from a term's SS and df and the error and total SS and df. Entries that
  * cannot be computed are NaN. */

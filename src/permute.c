@@ -21,9 +21,6 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
-#ifdef _OPENMP
-#include <omp.h>
-#endif
 
 #include "engine.h"
 #include "internal.h"
@@ -453,18 +450,12 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = now_seconds();
-    int nthreads = r->opts.threads > 0 ? r->opts.threads : 0;
+    int nthreads = sturdy_thread_count(&r->opts);
     if (!exceed || !fwer) {
         free(exceed); free(fwer);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
-#ifdef _OPENMP
-    if (nthreads == 0)
-        nthreads = omp_get_max_threads();
-#else
-    nthreads = 1;
-#endif
 #pragma omp parallel num_threads(nthreads)
     {
         perm_work w;
