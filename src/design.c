@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "internal.h"
+#include "terms.h"
 #include "sturdy/design.h"
 
 void sturdy_model_spec_init(sturdy_model_spec *s)
@@ -193,162 +194,6 @@ static sturdy_status make_factor(const sturdy_table *t, long col, const sturdy_d
     }
     free(vals); free(nat); free(rank);
     return STURDY_OK;
-}
-
-/* Number of factor subsets of size k of m factors, enumerated as bitmasks in
- * lexicographic order of their factor indices. Returns the next mask after `mask`
- * with the same popcount (Gosper's hack), or 0 past the last. */
-static uint32_t next_combination(uint32_t mask, size_t m)
-{
-    uint32_t c = mask & (uint32_t)-(int32_t)mask;
-    uint32_t r = mask + c;
-    uint32_t next = (((r ^ mask) >> 2) / c) | r;
-    return next < (1u << m) ? next : 0;
-}
-
-/* Reverse the bit order of a mask over m bits, so that Gosper order (ascending integer)
- * becomes lexicographic order of factor index lists. */
-static uint32_t reverse_bits(uint32_t x, size_t m)
-{
-    uint32_t r = 0;
-    for (size_t i = 0; i < m; i++)
-        if (x & (1u << i))
-            r |= 1u << (m - 1 - i);
-    return r;
-}
-
-static int cmp_u32_desc(const void *a, const void *b)
-{
-    uint32_t x = *(const uint32_t *)a, y = *(const uint32_t *)b;
-    return x < y ? 1 : (x > y ? -1 : 0);
-}
-
-static sturdy_status make_terms(sturdy_design *d, int order, size_t max_columns, char *err)
-{
-    size_t m = d->nfactors;
-    size_t maxord = (order <= 0 || (size_t)order > m) ? m : (size_t)order;
-    size_t cap = (d->has_block ? 1 : 0) + d->ncov + ((size_t)1 << m);
-    d->terms = calloc(cap, sizeof *d->terms);
-    if (!d->terms)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    size_t p = 1, nt = 0;
-    if (d->has_block) {
-        sturdy_term *t = &d->terms[nt++];
-        t->kind = STURDY_TERM_BLOCK;
-        t->label = sturdy_strdup(d->block.name);
-        t->order = 1;
-        t->col0 = p;
-        t->ncols = d->block.nlevels - 1;
-        p += t->ncols;
-    }
-    for (size_t c = 0; c < d->ncov; c++) {
-        sturdy_term *t = &d->terms[nt++];
-        t->kind = STURDY_TERM_COVARIATE;
-        t->label = sturdy_strdup(d->cov_names[c]);
-        t->order = 1;
-        t->col0 = p;
-        t->ncols = 1;
-        p += 1;
-    }
-    uint32_t *masks = malloc(((size_t)1 << m) * sizeof *masks);
-    if (!masks)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t k = 1; k <= maxord; k++) {
-        size_t nk = 0;
-        for (uint32_t mask = (1u << k) - 1; mask; mask = next_combination(mask, m))
-            masks[nk++] = reverse_bits(mask, m);
-        /* reversed masks in descending order = lexicographic factor lists */
-        qsort(masks, nk, sizeof *masks, cmp_u32_desc);
-        for (size_t j = 0; j < nk; j++) {
-            uint32_t mask = reverse_bits(masks[j], m);
-            sturdy_term *t = &d->terms[nt++];
-            t->kind = STURDY_TERM_FACTORS;
-            t->mask = mask;
-            t->order = k;
-            size_t cols = 1, len = 0;
-            for (size_t f = 0; f < m; f++)
-                if (mask & (1u << f)) {
-                    cols *= d->factors[f].nlevels - 1;
-                    len += strlen(d->factors[f].name) + 2;
-                    if (cols > max_columns)
-                        break;
-                }
-            t->ncols = cols;
-            t->col0 = p;
-            p += cols;
-            if (cols > max_columns || p > max_columns + 1) {
-                free(masks);
-                return sturdy_fail(err, STURDY_EMODEL,
-                                   "the model needs more than %zu coded columns (at term "
-                                   "%zu of order %zu); lower --order or raise --max-columns",
-                                   max_columns, nt, k);
-            }
-            t->label = malloc(len + 1);
-            if (!t->label) {
-                free(masks);
-                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            }
-            t->label[0] = '\0';
-            for (size_t f = 0; f < m; f++)
-                if (mask & (1u << f)) {
-                    if (t->label[0])
-                        strcat(t->label, "\xc3\x97"); /* U+00D7 multiplication sign */
-                    strcat(t->label, d->factors[f].name);
-                }
-        }
-    }
-    free(masks);
-    d->nterms = nt;
-    d->p = p;
-    for (size_t i = 0; i < nt; i++)
-        if (!d->terms[i].label)
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    return STURDY_OK;
-}
-
-/* Sum-to-zero (deviation) code of level `lev` of an L-level factor in column j < L−1. */
-static double sum_code(size_t lev, size_t L, size_t j)
-{
-    if (lev == L - 1)
-        return -1.0;
-    return lev == j ? 1.0 : 0.0;
-}
-
-static void fill_columns(sturdy_design *d, const size_t *rep)
-{
-    size_t K = d->ngroups, m = d->nfactors;
-    double *X = d->Xg;
-    for (size_t g = 0; g < K; g++)
-        X[g] = 1.0;
-    for (size_t ti = 0; ti < d->nterms; ti++) {
-        const sturdy_term *t = &d->terms[ti];
-        for (size_t g = 0; g < K; g++) {
-            size_t i = rep[g];
-            if (t->kind == STURDY_TERM_BLOCK) {
-                for (size_t j = 0; j < t->ncols; j++)
-                    X[(t->col0 + j) * K + g] =
-                        sum_code(d->block_level[i], d->block.nlevels, j);
-            } else if (t->kind == STURDY_TERM_COVARIATE) {
-                size_t c = ti - (d->has_block ? 1 : 0);
-                X[t->col0 * K + g] = d->cov[c * d->n + i];
-            } else {
-                /* columns enumerate (j_f1, j_f2, ...) with the first factor fastest */
-                for (size_t col = 0; col < t->ncols; col++) {
-                    size_t rest = col;
-                    double v = 1.0;
-                    for (size_t f = 0; f < m; f++) {
-                        if (!(t->mask & (1u << f)))
-                            continue;
-                        size_t L = d->factors[f].nlevels;
-                        size_t j = rest % (L - 1);
-                        rest /= L - 1;
-                        v *= sum_code(d->level[i * m + f], L, j);
-                    }
-                    X[(t->col0 + col) * K + g] = v;
-                }
-            }
-        }
-    }
 }
 
 /* Assign group ids to rows by sorting tuples of `len` keys per row. */
@@ -606,7 +451,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     for (size_t i = 0; i < n; i++)
         d->group_count[d->group[i]]++;
 
-    if ((st = make_terms(d, s->order, max_columns, err))) {
+    if ((st = sturdy_terms_make(d, s->order, max_columns, err))) {
         free(first);
         return st;
     }
@@ -616,7 +461,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         return sturdy_fail(err, STURDY_EINTERNAL,
                            "out of memory for the %zu × %zu coded design", d->ngroups, d->p);
     }
-    fill_columns(d, first);
+    sturdy_terms_fill_columns(d, first);
     free(first);
     return STURDY_OK;
 }
