@@ -108,13 +108,6 @@ static char *str_printf(const char *fmt, ...)
     return s;
 }
 
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 /* --- standard error captured around calls that print their own messages ---------- */
 
 typedef struct { int saved; FILE *tmp; } capture;
@@ -406,9 +399,9 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
                 fprintf(stderr, ", %llu bootstrap replicates", (unsigned long long)o->bootstrap);
             fputs(" ...\n", stderr);
         }
-        double t0 = now_s();
+        double t0 = cli_now();
         rc = cli_check_compute(&c, &r, msg);
-        double seconds = now_s() - t0;
+        double seconds = cli_now() - t0;
         if (!rc && b->lead) {    /* under MPI only rank 0 holds the finished result */
             sturdy_buf out;
             sturdy_buf_init(&out);

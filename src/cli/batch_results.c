@@ -20,29 +20,10 @@ char *cli_str_cat3(const char *a, const char *b, const char *c)
     return s;
 }
 
-static char *read_file(const char *path, size_t *len)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f) return NULL;
-    size_t cap = 1 << 16, n = 0;
-    char *buf = malloc(cap);
-    while (buf) {
-        n += fread(buf + n, 1, cap - n, f);
-        if (n < cap) break;
-        char *grown = realloc(buf, cap *= 2);
-        if (!grown) free(buf);
-        buf = grown;
-    }
-    if (ferror(f)) { free(buf); buf = NULL; }
-    fclose(f);
-    *len = n;
-    return buf;
-}
-
 jv *cli_batch_read_json(const char *path)
 {
     size_t len = 0;
-    char *text = read_file(path, &len);
+    char *text = cli_read_file(path, &len);
     if (!text) return NULL;
     jv *doc = jv_parse(text, len, NULL, 0);
     free(text);

@@ -87,6 +87,13 @@ void cli_list_free(cli_list *l);
  * Returns 0, or STURDY_EOUTPUT after printing a message naming the file. */
 int cli_write_output(const char *path, const char *data, size_t len);
 
+/* The whole file at `path` in a malloc-ed buffer (not NUL-terminated), its size in
+ * *len; NULL when it cannot be read. */
+char *cli_read_file(const char *path, size_t *len);
+
+/* Monotonic clock in seconds, for rates and progress. */
+double cli_now(void);
+
 /* The built-in dataset of `sturdy demo` (demo_data.c) and its model. */
 extern const char sturdy_demo_csv[];
 extern const size_t sturdy_demo_csv_len;

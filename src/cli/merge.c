@@ -41,29 +41,6 @@ typedef struct {
     uint64_t index, count;
 } part;
 
-static char *slurp(const char *path, size_t *len)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return NULL;
-    size_t cap = 1 << 16, n = 0;
-    char *buf = malloc(cap);
-    while (buf) {
-        size_t got = fread(buf + n, 1, cap - n, f);
-        n += got;
-        if (n < cap)
-            break;
-        char *grown = realloc(buf, cap *= 2);
-        if (!grown) { free(buf); buf = NULL; }
-        buf = grown;
-    }
-    int bad = ferror(f);
-    fclose(f);
-    if (bad) { free(buf); return NULL; }
-    *len = n;
-    return buf;
-}
-
 static int jv_equal(const jv *a, const jv *b)
 {
     if (!a || !b)
@@ -92,7 +69,7 @@ static int load_part(part *p)
 {
     char err[256];
     size_t len = 0;
-    p->text = slurp(p->path, &len);
+    p->text = cli_read_file(p->path, &len);
     if (!p->text)
         return fail(p->path, "cannot read the part file", STURDY_EDATA);
     p->doc = jv_parse(p->text, len, err, sizeof err);

@@ -149,3 +149,22 @@ int cli_write_output(const char *path, const char *data, size_t len)
     free(resolved);
     return rc;
 }
+
+char *cli_read_file(const char *path, size_t *len)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f) return NULL;
+    size_t cap = 1 << 16, n = 0;
+    char *buf = malloc(cap);
+    while (buf) {
+        n += fread(buf + n, 1, cap - n, f);
+        if (n < cap) break;
+        char *grown = realloc(buf, cap *= 2);
+        if (!grown) free(buf);
+        buf = grown;
+    }
+    if (ferror(f)) { free(buf); buf = NULL; }
+    fclose(f);
+    *len = n;
+    return buf;
+}

@@ -19,7 +19,7 @@ typedef struct {
     int width;      /* characters of the last progress line, to blank it out */
 } progress_state;
 
-static double now_s(void)
+double cli_now(void)
 {
     struct timespec ts;
     clock_gettime(CLOCK_MONOTONIC, &ts);
@@ -30,7 +30,7 @@ static double now_s(void)
 static void progress(void *ctx, uint64_t done, uint64_t total)
 {
     progress_state *p = ctx;
-    double t = now_s(), elapsed = t - p->t0;
+    double t = cli_now(), elapsed = t - p->t0;
     if (done == 0 || total == 0 || done >= total) return;
     if (t - p->last < PROGRESS_INTERVAL || elapsed < PROGRESS_INTERVAL) return;
     double rate = (double)done / elapsed;
@@ -136,7 +136,7 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
         }
     }
     int talk = !c->quiet && isatty(STDERR_FILENO) && cli_mpi_rank() == 0;
-    progress_state ps = { .t0 = now_s() };
+    progress_state ps = { .t0 = cli_now() };
     sturdy_options opts = c->opts;
     if (talk) {
         work_estimate(c, t);
@@ -153,12 +153,12 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
         opts.shard_index = (uint64_t)cli_mpi_rank() + 1;
         opts.shard_count = (uint64_t)cli_mpi_size();
     }
-    ps.t0 = now_s();
+    ps.t0 = cli_now();
     sturdy_result *r = NULL;
     st = sturdy_analyze(t, &opts, &r, err);
     if (cli_mpi_size() > 1)
         st = cli_mpi_combine(r, st, err);
-    double seconds = now_s() - ps.t0;
+    double seconds = cli_now() - ps.t0;
     progress_clear(&ps);
     sturdy_table_free(t);
     if (st) {
