@@ -25,7 +25,7 @@
 #include "engine.h"
 #include "internal.h"
 #include "sturdy/dist.h"
-#include "pcg_inline.h"
+#include "rearrange.h"
 
 /* Work per thread and block is bounded by this many bytes of group sums. */
 #define PERM_BLOCK_BYTES (16u << 20)
@@ -53,35 +53,19 @@ typedef struct {
                             of 4, which the compiler turns into vector adds */
     member *mem;
     double *V;           /* n × M row-major: the vectors to rearrange, rows in block
-                            order (position k holds row blk_rows[k]) */
-    uint32_t *lab0;      /* n: group of the row at each position, in block order */
+                            order (position k holds row ra.blk_rows[k]) */
     double *thr;         /* M × M: thr[t·M + j] = c-factor of member t at p_j */
-    int flip, exact;
-    uint64_t seed;
-    /* exchangeability blocks: rows listed block by block */
-    size_t nblk;
-    size_t *blk_start;   /* nblk + 1 */
-    size_t *blk_rows;    /* n */
+    int flip;
+    sturdy_rearranger ra; /* rows in block order and the rearrangements */
     size_t nb;           /* rearrangements per dgemm block */
 } perm_ctx;
-
-static uint64_t factorial_sat(size_t k)
-{
-    uint64_t f = 1;
-    for (size_t i = 2; i <= k; i++) {
-        if (f > UINT64_MAX / i)
-            return UINT64_MAX;
-        f *= i;
-    }
-    return f;
-}
 
 uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
 {
     if (flip)
         return d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
     if (!d->has_block)
-        return factorial_sat(d->n);
+        return sturdy_factorial_sat(d->n);
     size_t *cnt = calloc(d->block.nlevels, sizeof *cnt);
     if (!cnt)
         return UINT64_MAX;
@@ -89,7 +73,7 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
         cnt[d->block_level[i]]++;
     uint64_t total = 1;
     for (size_t k = 0; k < d->block.nlevels; k++) {
-        uint64_t f = factorial_sat(cnt[k]);
+        uint64_t f = sturdy_factorial_sat(cnt[k]);
         if (f == UINT64_MAX || (f && total > UINT64_MAX / f)) {
             total = UINT64_MAX;
             break;
@@ -98,69 +82,6 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
     }
     free(cnt);
     return total;
-}
-
-/* Durstenfeld's shuffle of x[0..m): for i = m−1 down to 1 swap x[i] with x[j], j drawn
- * uniformly from 0..i by Lemire's method (the order of sturdy_pcg_shuffle). */
-static void shuffle_labels(sturdy_pcg64 *g, uint32_t *x, size_t m)
-{
-    for (size_t i = m; i > 1; i--) {
-        size_t j = (size_t)pcg_bounded_inline(g, i);
-        uint32_t t = x[i - 1];
-        x[i - 1] = x[j];
-        x[j] = t;
-    }
-}
-
-/* The b-th permutation in enumeration order: mixed radix over blocks, each block's digit
- * decoded as a Lehmer code (factorial number system); b = 0 is the identity. */
-static void unrank(const perm_ctx *c, uint64_t b, uint32_t *lab, uint32_t *pool)
-{
-    for (size_t k = 0; k < c->nblk; k++) {
-        size_t lo = c->blk_start[k], m = c->blk_start[k + 1] - lo;
-        uint64_t f = factorial_sat(m);
-        uint64_t idx = b % f;
-        b /= f;
-        memcpy(pool, c->lab0 + lo, m * sizeof *pool);
-        for (size_t i = 0; i < m; i++) {
-            uint64_t fi = factorial_sat(m - 1 - i);
-            size_t dgt = (size_t)(idx / fi);
-            idx %= fi;
-            lab[lo + i] = pool[dgt];
-            memmove(pool + dgt, pool + dgt + 1, (m - i - 1 - dgt) * sizeof *pool);
-        }
-    }
-}
-
-/* Rearrangement b, as the group labels of the positions (a permutation of the labels
- * within each block — equivalent to permuting the values, and it lets the gather read
- * the values in order), or as signs. */
-static void rearrangement(const perm_ctx *c, uint64_t b, uint32_t *lab, signed char *sign,
-                          uint32_t *pool)
-{
-    size_t n = c->d->n;
-    if (c->flip) {
-        if (c->exact) {
-            for (size_t i = 0; i < n; i++)
-                sign[i] = (b >> i) & 1 ? -1 : 1;
-        } else {
-            sturdy_pcg64 g;
-            sturdy_pcg_for(&g, c->seed, STURDY_STREAM_PERMUTE, b);
-            sturdy_pcg_signs(&g, sign, n);
-        }
-        return;
-    }
-    if (c->exact) {
-        unrank(c, b, lab, pool);
-        return;
-    }
-    sturdy_pcg64 g;
-    sturdy_pcg_for(&g, c->seed, STURDY_STREAM_PERMUTE, b);
-    memcpy(lab, c->lab0, n * sizeof *lab);
-    for (size_t k = 0; k < c->nblk; k++) {
-        size_t lo = c->blk_start[k];
-        shuffle_labels(&g, lab + lo, c->blk_start[k + 1] - lo);
-    }
 }
 
 typedef struct {
@@ -219,10 +140,10 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K, M = c->M, nb = cnt;
     for (size_t bb = 0; bb < nb; bb++) {
-        rearrangement(c, b0 + bb, w->lab, w->sign, w->pool);
+        sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
         /* the values in order, each added to the group its position now carries */
-        const uint32_t *lab = c->flip ? c->lab0 : w->lab;
+        const uint32_t *lab = c->flip ? c->ra.lab0 : w->lab;
         size_t Mp = c->Mp;
         if (c->flip) {
             for (size_t k = 0; k < n; k++) {
@@ -344,29 +265,8 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
     if (M == 0)
         return STURDY_OK;
     c->Mp = (M + 3) & ~(size_t)3;
-    /* exchangeability blocks */
-    c->nblk = (d->has_block && !c->flip) ? d->block.nlevels : 1;
-    c->blk_start = calloc(c->nblk + 1, sizeof *c->blk_start);
-    c->blk_rows = malloc(n * sizeof *c->blk_rows);
-    if (!c->blk_start || !c->blk_rows)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++)
-        c->blk_start[(c->nblk > 1 ? d->block_level[i] : 0) + 1]++;
-    for (size_t k = 0; k < c->nblk; k++)
-        c->blk_start[k + 1] += c->blk_start[k];
-    size_t *fill = calloc(c->nblk, sizeof *fill);
-    if (!fill)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++) {
-        size_t k = c->nblk > 1 ? d->block_level[i] : 0;
-        c->blk_rows[c->blk_start[k] + fill[k]++] = i;
-    }
-    free(fill);
-    c->lab0 = malloc(n * sizeof *c->lab0);
-    if (!c->lab0)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t k = 0; k < n; k++)
-        c->lab0[k] = (uint32_t)d->group[c->blk_rows[k]];
+    if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, r->exact, r->opts.seed, err)))
+        return st;
     c->V = calloc(n * c->Mp, sizeof *c->V);
     c->thr = malloc(M * M * sizeof *c->thr);
     double *v = malloc(n * sizeof *v), *s = malloc(K * sizeof *s);
@@ -398,7 +298,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
         }
         double vv = 0.0;
         for (size_t k = 0; k < n; k++) {
-            double x = v[c->blk_rows[k]];
+            double x = v[c->ra.blk_rows[k]];
             c->V[k * c->Mp + j] = x;
             vv += x * x;
         }
@@ -438,8 +338,6 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
     c.d = d;
     c.m = m;
     c.flip = r->opts.flip;
-    c.exact = r->exact;
-    c.seed = r->opts.seed;
     sturdy_status st = setup(&c, r, err);
     uint64_t b0 = r->perm_begin, b1 = r->perm_end;
     if (st || c.M == 0 || b1 <= b0)
@@ -508,8 +406,6 @@ done:
     free(c.mem);
     free(c.V);
     free(c.thr);
-    free(c.blk_start);
-    free(c.blk_rows);
-    free(c.lab0);
+    sturdy_rearranger_free(&c.ra);
     return st;
 }
