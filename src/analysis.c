@@ -43,6 +43,8 @@ sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown --method");
     if (o->boot_scheme < STURDY_BOOT_DEFAULT || o->boot_scheme > STURDY_BOOT_CELLS)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown --bootstrap-scheme");
+    if (o->spread_scheme < STURDY_SPREAD_WILD || o->spread_scheme > STURDY_SPREAD_PERMUTATION)
+        return sturdy_fail(err, STURDY_EUSAGE, "unknown --spread-scheme");
     if (o->permutations > (uint64_t)1 << 40)
         return sturdy_fail(err, STURDY_EUSAGE, "--permutations is larger than 2^40");
     if (o->bootstrap > (uint64_t)1 << 28)
@@ -163,6 +165,8 @@ void sturdy_result_free(sturdy_result *r)
             free(tr->boot);
             free(tr->boot_note);
             free(tr->verdict_reason);
+            free(tr->uv.note);
+            free(tr->uv.perm_note);
         }
         free(rr->terms);
         free(rr->name);
@@ -174,6 +178,7 @@ void sturdy_result_free(sturdy_result *r)
         free(rr->diag.sw_note);
         free(rr->diag.bf_note);
         free(rr->diag.vr_note);
+        free(rr->diag.spread_reason);
         free(rr->diag.outliers);
         free(rr->diag.studentized);
         free(rr->diag.leverage);
@@ -206,9 +211,11 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         sturdy_model_free(m);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
+    r->uv_hc3 = sturdy_uv_uses_hc3(d);
     for (size_t ri = 0; ri < d->nresp && !st; ri++)
-        st = sturdy_anova_response(d, m, ri, o->conf, sturdy_thread_count(o), &r->resp[ri],
-                                   err);
+        if (!(st = sturdy_anova_response(d, m, ri, o->conf, sturdy_thread_count(o),
+                                         &r->resp[ri], err)))
+            st = sturdy_uv_response(d, m, ri, &r->resp[ri], err);
     if (st) {
         sturdy_model_free(m);
         return st;
@@ -233,7 +240,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         slice_range(r->nboot, o->shard_index, o->shard_count, &r->boot_begin, &r->boot_end);
     }
     if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(d, m, r, err)) &&
-        !(st = sturdy_bootstrap_run(d, m, r, err))) {
+        !(st = sturdy_uv_run(d, m, r, err)) && !(st = sturdy_bootstrap_run(d, m, r, err))) {
         r->perm_done = r->perm_end - r->perm_begin;
         r->boot_done = r->boot_end - r->boot_begin;
         for (size_t ri = 0; ri < d->nresp && !st; ri++)
@@ -260,6 +267,7 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
     r->opts = *o;
     r->ss_type = o->ss_type;
     r->method = o->method;
+    r->spread_scheme = o->spread_scheme;
     r->boot_scheme = o->boot_scheme != STURDY_BOOT_DEFAULT
                          ? o->boot_scheme
                          : (o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL);
@@ -293,6 +301,8 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             size_t k = ri * s->nterms + t;
             tr->exceed += s->exceed[k];
             tr->exceed_fwer += s->exceed_fwer[k];
+            if (s->uv_exceed_wild) tr->uv.exceed_wild += s->uv_exceed_wild[k];
+            if (s->uv_exceed_perm) tr->uv.exceed_perm += s->uv_exceed_perm[k];
             if (tr->boot && nb)
                 memcpy(tr->boot + s->boot_begin * STURDY_NES,
                        s->boot + k * nb * STURDY_NES, nb * STURDY_NES * sizeof(double));
@@ -371,7 +381,8 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
                                 : NULL;
             if (!tr->boot_note && why_no_boot && !(tr->boot_note = sturdy_strdup(why_no_boot)))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            if ((st = sturdy_bootstrap_intervals(r, tr, err)))
+            if ((st = sturdy_bootstrap_intervals(r, tr, err)) ||
+                (st = sturdy_uv_finish(r, tr, err)))
                 return st;
         }
     if ((st = holm(r, err)))

@@ -48,6 +48,23 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
 sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_result *t,
                                          char *err);
 
+/* Unequal-variance tests (unequal.c). 1 when the test uses HC3 (covariates, a block, or
+ * rows as groups), 0 when it uses the cell variances (factor-only). */
+int sturdy_uv_uses_hc3(const sturdy_design *d);
+
+/* Classical part for every term of response r (needs the term's F and the model):
+ * W, Johansen's approximate F or F(df, residual df), the ANOVA-type statistic. */
+sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                 sturdy_response_result *out, char *err);
+
+/* Resampling part: adds to uv.exceed_wild (and uv.exceed_perm under the permutation
+ * scheme) over the rearrangement slice [r->perm_begin, r->perm_end). */
+sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturdy_result *r,
+                            char *err);
+
+/* p-values of a finished run from the counts. */
+sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, char *err);
+
 /* Diagnostics of response r (needs fitted/residual). */
 sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
                                        sturdy_response_result *resp, char *err);

@@ -232,6 +232,8 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_bool(w, "exact", r->exact);
     jw_u64(w, "bootstrap", r->nboot);
     jw_str(w, "bootstrap_scheme", scheme_name(r->boot_scheme));
+    jw_str(w, "spread_scheme", r->spread_scheme == STURDY_SPREAD_PERMUTATION ? "permutation"
+                                                                             : "wild-bootstrap");
     jw_u64(w, "seed", r->opts.seed);
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
@@ -255,6 +257,45 @@ static void write_shard(jw *w, const sturdy_result *r, const sturdy_report_opts 
     jw_close(w, '}');
     jw_item(w, "data_checksum");
     sturdy_buf_printf(w->b, "\"%016" PRIx64 "\"", r->data_checksum);
+}
+
+/* The unequal-variance test of a term (unequal.c). */
+static void write_uv(jw *w, const sturdy_result *r, const sturdy_uv_result *u)
+{
+    jw_open(w, "unequal_variance", '{');
+    jw_num(w, "wald", u->wald);
+    jw_num(w, "statistic", u->stat);
+    jw_num(w, "df1", u->df1);
+    jw_num(w, "df2", u->df2);
+    jw_num(w, "p", u->p);
+    jw_str(w, "reference", isnan(u->wald) ? NULL : u->johansen ? "johansen" : "residual-df");
+    jw_str(w, "covariance", r->uv_hc3 ? "HC3" : "cell-variances");
+    jw_str(w, "scheme", r->spread_scheme == STURDY_SPREAD_PERMUTATION ? "permutation"
+                                                                      : "wild-bootstrap");
+    int has = !isnan(u->p_perm);
+    jw_num(w, "p_perm", u->p_perm);
+    jw_pair(w, "p_perm_ci", u->p_perm_ci);
+    if (has)
+        jw_u64(w, "exceed", r->spread_scheme == STURDY_SPREAD_PERMUTATION ? u->exceed_perm
+                                                                          : u->exceed_wild);
+    else
+        jw_null(w, "exceed");
+    jw_u64(w, "replicates", r->nperm);
+    jw_num(w, "p_wild", u->p_wild);
+    jw_num(w, "p_permuted", u->p_permuted);
+    if (isnan(u->ats)) {
+        jw_null(w, "ats");
+    } else {
+        jw_open(w, "ats", '{');
+        jw_num(w, "statistic", u->ats);
+        jw_num(w, "df1", u->ats_df1);
+        jw_num(w, "df2", u->ats_df2);
+        jw_num(w, "p", u->ats_p);
+        jw_close(w, '}');
+    }
+    jw_str(w, "note", u->note);
+    jw_str(w, "perm_note", u->perm_note);
+    jw_close(w, '}');
 }
 
 static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *t,
@@ -293,11 +334,14 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     jw_str(w, "verdict_reason", t->verdict_reason);
     if (has_perm) jw_bool(w, "p_perm_straddles_alpha", t->straddles);
     else jw_null(w, "p_perm_straddles_alpha");
+    write_uv(w, r, &t->uv);
     if (o->partial) {
         /* The slice's raw material, which sturdy merge adds up across shards. */
         jw_open(w, "raw", '{');
         jw_u64(w, "exceed", t->exceed);
         jw_u64(w, "exceed_fwer", t->exceed_fwer);
+        jw_u64(w, "uv_exceed_wild", t->uv.exceed_wild);
+        jw_u64(w, "uv_exceed_perm", t->uv.exceed_perm);
         if (!t->boot) {
             jw_null(w, "boot");
         } else {

@@ -24,6 +24,14 @@ typedef enum {
     STURDY_BOOT_CELLS = 2
 } sturdy_boot_scheme;
 
+/* Resampling scheme of the unequal-variance test (its p_perm). */
+typedef enum {
+    STURDY_SPREAD_WILD = 0,          /* wild bootstrap, Rademacher weights (Davidson &
+                                        Flachaire 2008) */
+    STURDY_SPREAD_PERMUTATION = 1    /* permutation of the studentised statistic (Janssen
+                                        1997; Pauly, Brunner & Konietschke 2015) */
+} sturdy_spread_scheme;
+
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
 typedef void (*sturdy_progress_fn)(void *ctx, uint64_t done, uint64_t total);
 
@@ -35,6 +43,7 @@ typedef struct {
     sturdy_method method;        /* default Freedman–Lane */
     int flip;                    /* sign-flipping instead of permuting */
     sturdy_boot_scheme boot_scheme;
+    sturdy_spread_scheme spread_scheme; /* default wild */
     double conf;                 /* default 0.95 */
     double alpha;                /* default 0.05 */
     uint64_t seed;               /* default STURDY_DEFAULT_SEED */
@@ -80,6 +89,25 @@ const char *sturdy_verdict_name(sturdy_verdict v);
  * matching *_note (owned string) says why. */
 typedef struct { double lo, hi; } sturdy_pair;
 
+/* The term's test that holds its level when cell variances differ: the Welch–James
+ * Wald-type statistic W = zᵀ(U_tᵀ Ω U_t)⁻¹z with a heteroscedasticity-consistent Ω (cell
+ * variances for factor-only models, HC3 otherwise), referred to Johansen's (1980)
+ * approximate F (factor-only) or to F(df, residual df); its resampling p-values; and the
+ * ANOVA-type statistic with Box's approximation (Brunner, Dette & Munk 1997). */
+typedef struct {
+    double wald;                 /* W, on the χ² scale */
+    double stat, df1, df2, p;    /* approximate F = W / c (Johansen) or W / df1 */
+    int johansen;                /* 1: Johansen's reference; 0: F(df1, residual df) */
+    double ats, ats_df1, ats_df2, ats_p; /* NaN unless factor-only */
+    uint64_t exceed_wild;        /* wild replicates with W* ≥ W */
+    uint64_t exceed_perm;        /* rearrangements with W* ≥ W (permutation scheme) */
+    double p_wild, p_permuted;   /* the two resampling p-values (NaN: not computed) */
+    double p_perm;               /* the run's scheme's p (one of the two) */
+    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson of p_perm */
+    char *note;                  /* why W (and everything) is absent, else NULL */
+    char *perm_note;             /* why p_perm is absent, else NULL */
+} sturdy_uv_result;
+
 typedef struct {
     char *label;                 /* "A×B" */
     sturdy_term_kind kind;
@@ -106,6 +134,7 @@ typedef struct {
     sturdy_verdict verdict;
     char *verdict_reason;        /* one line, or NULL */
     int straddles;               /* the p_perm interval contains alpha */
+    sturdy_uv_result uv;         /* unequal-variance test */
 } sturdy_term_result;
 
 typedef struct {
@@ -121,6 +150,9 @@ typedef struct {
     double bf_f, bf_df1, bf_df2, bf_p; char *bf_note;
     double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
     size_t noutliers; sturdy_outlier *outliers;
+    int spread_differs;          /* the rule of unequal.c: cell spreads differ enough
+                                    that the unequal-variance test leads the report */
+    char *spread_reason;         /* one line saying why (owned), or NULL */
     double *studentized;         /* n externally studentized residuals (owned) */
     double *leverage;            /* n */
 } sturdy_diagnostics;
@@ -142,6 +174,9 @@ typedef struct {
     int ss_type;
     sturdy_method method;
     sturdy_boot_scheme boot_scheme;  /* resolved (never DEFAULT) */
+    sturdy_spread_scheme spread_scheme;
+    int uv_hc3;                  /* the unequal-variance test uses HC3 (covariates or a
+                                    block), not the cell variances */
     int exact;                   /* rearrangements were enumerated exhaustively */
     uint64_t nperm;              /* rearrangements in the whole run (enumeration: all) */
     uint64_t nboot;              /* bootstrap replicates in the whole run */
@@ -166,6 +201,8 @@ typedef struct {
     uint64_t perm_begin, perm_end, boot_begin, boot_end;
     size_t nresp, nterms;
     const uint64_t *exceed, *exceed_fwer; /* nresp × nterms, row-major */
+    const uint64_t *uv_exceed_wild, *uv_exceed_perm; /* the same, for the unequal-variance
+                                    test over the rearrangement range (may be NULL: 0) */
     const double *boot;          /* nresp × nterms × (boot_end − boot_begin) × STURDY_NES;
                                     entries of terms without replicates are ignored */
 } sturdy_slice;

@@ -65,7 +65,7 @@ void sturdy_pcg_shuffle(sturdy_pcg64 *g, size_t *idx, size_t n);
 void sturdy_pcg_signs(sturdy_pcg64 *g, signed char *s, size_t n);
 
 /* Purposes keep the permutation and bootstrap streams of one seed apart. */
-enum { STURDY_STREAM_PERMUTE = 1, STURDY_STREAM_BOOTSTRAP = 2 };
+enum { STURDY_STREAM_PERMUTE = 1, STURDY_STREAM_BOOTSTRAP = 2, STURDY_STREAM_WILD_TEST = 3 };
 
 /* The generator of rearrangement/replicate `index` for `purpose`: seed = `seed` (high
  * half 0), stream = purpose·2^64 + index, i.e. sturdy_pcg_seed(g, 0, seed, purpose,

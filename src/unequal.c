@@ -1,0 +1,625 @@
+/* unequal.c — tests of every term that hold their level when cell variances differ.
+ *
+ * F, and every rearrangement of F, assumes one error variance: with unequal cell
+ * variances and unequal cell sizes their null rejection rates stray far from α. Here each
+ * term gets the Welch–James Wald-type statistic (Welch 1951; James 1951; Johansen 1980)
+ *     W = zᵀ (U_tᵀ Ω U_t)⁻¹ z,   z = U_tᵀ s,
+ * in group space (fit.h): s_g = (Σ_{i∈g} y_i)/√n_g, U_t the term's basis (the same
+ * hypothesis as its F-test under the chosen SS type) and Ω_g = Σ_{i∈g} e_i² / (n_g
+ * (1 − h_g)^δ) an estimate of var(s_g) from the full model's residuals. For factor-only
+ * models the groups are the cells, h_g = 1/n_g and δ = 1, so Ω_g is the cell's sample
+ * variance and W is the Welch–James statistic on the cell means (HC2 in a cell-means
+ * regression); with covariates or a block δ = 2 (HC3; Long & Ervin 2000).
+ *
+ * Reference distributions: Johansen's approximate F (factor-only; it reduces to Welch's
+ * one-way test), else F(df, residual df) for W/df; the ANOVA-type statistic with Box's
+ * approximation (Brunner, Dette & Munk 1997; factor-only); and two resampling p-values:
+ *   wild bootstrap — y* = f̃ + w·ẽ/√(1 − h), f̃ the fit under the term's hypothesis
+ *     (the full model less the term's own projection), ẽ = y − f̃, w Rademacher signs
+ *     (Davidson & Flachaire 2008); replicate b draws from sturdy_pcg_for(seed,
+ *     STURDY_STREAM_WILD_TEST, b), the same signs for every term;
+ *   permutation — ẽ rearranged by the run's rearrangements (rearrange.c) and added to f̃
+ *     (the studentised statistic, Janssen 1997; Pauly, Brunner & Konietschke 2015).
+ * In both, W* depends only on the group sums A_g = Σ v_i and Q_g = Σ v_i² of the
+ * perturbation v = y* − f̃, because f̃ lies in the full model and U_t ⊥ f̃:
+ *     z* = U_tᵀ a (a_g = A_g/√n_g), d = the full fit of v per group,
+ *     RSS_g = Q_g − 2 d_g A_g + n_g d_g²,  Ω*_g = RSS_g / (n_g (1 − h_g)^δ).
+ * So each replicate costs one pass over the rows plus small products, and counts are
+ * integers: any split over threads, shards or ranks gives the same counts. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "engine.h"
+#include "internal.h"
+#include "pcg_inline.h"
+#include "rearrange.h"
+#include "sturdy/dist.h"
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+/* A row whose leverage is within this of 1 is fitted exactly: its residual carries no
+ * variance information, and HC weights 1/(1 − h) blow up. 1e-10 is far above the
+ * rounding of leverages (≈1e-15) and far below 1 − h of any row with a neighbour. */
+#define UV_LEVERAGE_TOL 1e-10
+
+typedef struct {
+    const sturdy_design *d;
+    const sturdy_model *m;
+    size_t K, T;         /* groups; members (testable terms of one response) */
+    int saturated;       /* the full model spans group space: its fit is the group mean */
+    double *ng;          /* K: n_g */
+    double *hw;          /* K: 1 / (n_g (1 − h_g)^δ) */
+    double *scale;       /* K: 1 / √(1 − h_g), the wild bootstrap's residual scaling */
+} uv_ctx;
+
+/* Cholesky factor of the n × n SPD matrix a (column-major, lower part used) in place;
+ * 0 when a is not numerically positive definite. */
+static int cholesky(double *a, size_t n)
+{
+    for (size_t j = 0; j < n; j++) {
+        double s = a[j * n + j];
+        for (size_t k = 0; k < j; k++)
+            s -= a[k * n + j] * a[k * n + j];
+        if (!(s > 0))
+            return 0;
+        double l = sqrt(s);
+        a[j * n + j] = l;
+        for (size_t i = j + 1; i < n; i++) {
+            double t = a[j * n + i];
+            for (size_t k = 0; k < j; k++)
+                t -= a[k * n + i] * a[k * n + j];
+            a[j * n + i] = t / l;
+        }
+    }
+    return 1;
+}
+
+/* x ← L⁻¹ x for the Cholesky factor L of cholesky(). */
+static void forward(const double *l, size_t n, double *x)
+{
+    for (size_t i = 0; i < n; i++) {
+        double t = x[i];
+        for (size_t k = 0; k < i; k++)
+            t -= l[k * n + i] * x[k];
+        x[i] = t / l[i * n + i];
+    }
+}
+
+/* Workspace doubles that wald() needs for a term of `df` degrees of freedom. */
+static size_t wald_work(const uv_ctx *c, size_t df)
+{
+    return 3 * c->K + c->m->rank + df * df + df;
+}
+
+/* W from the perturbation's group sums A and sums of squares Q; Ω (K) and V⁻¹'s Cholesky
+ * factor are left in the workspace for the classical extras: omega = work + K,
+ * chol = work + 3K + rank. NaN when U_tᵀΩU_t is singular. */
+static double wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
+                   const double *Q, double *work)
+{
+    const sturdy_model *m = c->m;
+    size_t K = c->K, rank = m->rank;
+    double *a = work, *om = work + K, *dfit = work + 2 * K, *cf = work + 3 * K;
+    double *V = cf + rank, *z = V + df * df;
+    for (size_t g = 0; g < K; g++)
+        a[g] = A[g] / m->sqrt_count[g];
+    if (c->saturated) {
+        for (size_t g = 0; g < K; g++)
+            dfit[g] = A[g] / c->ng[g];
+    } else {
+        for (size_t q = 0; q < rank; q++) {
+            const double *u = m->U + q * K;
+            double t = 0.0;
+            for (size_t g = 0; g < K; g++)
+                t += u[g] * a[g];
+            cf[q] = t;
+        }
+        for (size_t g = 0; g < K; g++) {
+            double t = 0.0;
+            for (size_t q = 0; q < rank; q++)
+                t += m->U[q * K + g] * cf[q];
+            dfit[g] = t / m->sqrt_count[g];
+        }
+    }
+    for (size_t g = 0; g < K; g++) {
+        double rss = Q[g] - 2.0 * dfit[g] * A[g] + c->ng[g] * dfit[g] * dfit[g];
+        om[g] = (rss > 0 ? rss : 0.0) * c->hw[g];
+    }
+    for (size_t j = 0; j < df; j++) {
+        const double *uj = Ut + j * K;
+        double t = 0.0;
+        for (size_t g = 0; g < K; g++)
+            t += uj[g] * a[g];
+        z[j] = t;
+        for (size_t i = j; i < df; i++) {
+            const double *ui = Ut + i * K;
+            double v = 0.0;
+            for (size_t g = 0; g < K; g++)
+                v += ui[g] * om[g] * uj[g];
+            V[j * df + i] = v;
+        }
+    }
+    if (!cholesky(V, df))
+        return NAN;
+    forward(V, df, z);
+    double w = 0.0;
+    for (size_t j = 0; j < df; j++)
+        w += z[j] * z[j];
+    return w;
+}
+
+static sturdy_status set_note(char **slot, const char *text, char *err)
+{
+    if (*slot)
+        return STURDY_OK;
+    *slot = sturdy_strdup(text);
+    return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
+static void uv_ctx_free(uv_ctx *c)
+{
+    free(c->ng);
+    free(c->hw);
+    free(c->scale);
+}
+
+/* Group weights; a reason (static text) when the test cannot be done at all. */
+static sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model *m,
+                                 int hc3, const char **why, char *err)
+{
+    size_t K = m->K;
+    memset(c, 0, sizeof *c);
+    c->d = d;
+    c->m = m;
+    c->K = K;
+    c->saturated = m->rank == K;
+    *why = NULL;
+    c->ng = malloc(K * sizeof *c->ng);
+    c->hw = malloc(K * sizeof *c->hw);
+    c->scale = malloc(K * sizeof *c->scale);
+    if (!c->ng || !c->hw || !c->scale) {
+        uv_ctx_free(c);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    if (m->df_error == 0)
+        *why = "no residual degrees of freedom: no variance can be estimated";
+    for (size_t g = 0; g < K; g++) {
+        double n = (double)d->group_count[g], h = m->leverage[g];
+        c->ng[g] = n;
+        if (!(1.0 - h > UV_LEVERAGE_TOL)) {
+            if (!*why)
+                *why = hc3 ? "a row is fitted exactly (leverage 1), so its variance cannot "
+                             "be estimated"
+                           : "a cell has one row, so its variance cannot be estimated; the "
+                             "unequal-variance test needs at least 2 rows in every cell";
+            c->hw[g] = c->scale[g] = 0.0;
+            continue;
+        }
+        c->hw[g] = 1.0 / (n * (hc3 ? (1.0 - h) * (1.0 - h) : 1.0 - h));
+        c->scale[g] = 1.0 / sqrt(1.0 - h);
+    }
+    return STURDY_OK;
+}
+
+/* The perturbation base v = y − f̃ of a term (f̃: the full fit less the term's own
+ * projection), with its group sums A and sums of squares Q. ft: n scratch; s: K;
+ * work: rank + K. */
+static void restricted_residuals(const uv_ctx *c, const double *y, const double *Ut, size_t df,
+                                 double *v, double *ft, double *A, double *Q, double *s,
+                                 double *work)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t K = c->K, n = d->n;
+    sturdy_model_group_scaled(d, m, y, s);
+    /* f̃ = Q_full Q_fullᵀ y − Q_t Q_tᵀ y, both as row vectors */
+    sturdy_model_project(d, m, m->U, m->rank, s, work, v);
+    sturdy_model_project(d, m, Ut, df, s, work, ft);
+    for (size_t i = 0; i < n; i++)
+        v[i] = y[i] - (v[i] - ft[i]);
+    memset(A, 0, K * sizeof *A);
+    memset(Q, 0, K * sizeof *Q);
+    for (size_t i = 0; i < n; i++) {
+        A[d->group[i]] += v[i];
+        Q[d->group[i]] += v[i] * v[i];
+    }
+}
+
+/* Johansen's (1980) approximate F and the ANOVA-type statistic from the observed Ω
+ * (cell variances) left in `work` by wald(). */
+static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
+                             double *work, sturdy_uv_result *u)
+{
+    size_t K = c->K;
+    const double *om = work + K, *L = work + 3 * K + c->m->rank;
+    double r = (double)df;
+    /* M_gg = Ω_g (U_t V⁻¹ U_tᵀ)_gg, with V⁻¹ = L⁻ᵀL⁻¹: (U_t V⁻¹ U_tᵀ)_gg = ‖L⁻¹ U_t,g·‖² */
+    double *x = malloc((df ? df : 1) * sizeof *x);
+    double *G = malloc((df ? df * df : 1) * sizeof *G);
+    double *P = malloc(K * K * sizeof *P);
+    if (!x || !G || !P) {
+        free(x); free(G); free(P);
+        return; /* leaves NaN: an out-of-memory here is not worth failing the run */
+    }
+    double A = 0.0;
+    for (size_t g = 0; g < K; g++) {
+        for (size_t j = 0; j < df; j++)
+            x[j] = Ut[j * K + g];
+        forward(L, df, x);
+        double q = 0.0;
+        for (size_t j = 0; j < df; j++)
+            q += x[j] * x[j];
+        double mgg = om[g] * q;
+        A += mgg * mgg / (c->ng[g] - 1.0);
+    }
+    double cc = r + 2.0 * A - 6.0 * A / (r + 2.0);
+    u->johansen = 1;
+    u->stat = W / cc;
+    u->df1 = r;
+    u->df2 = A > 0 ? r * (r + 2.0) / (3.0 * A) : INFINITY;
+    u->p = isinf(u->df2) ? sturdy_f_sf(u->stat, r, 1e300) : sturdy_f_sf(u->stat, r, u->df2);
+    /* ATS: G = U_tᵀ D U_t, P = U_t G⁻¹ U_tᵀ (K × K), z = U_tᵀ s */
+    for (size_t j = 0; j < df; j++)
+        for (size_t i = j; i < df; i++) {
+            double t = 0.0;
+            for (size_t g = 0; g < K; g++)
+                t += Ut[i * K + g] * c->ng[g] * Ut[j * K + g];
+            G[j * df + i] = t;
+        }
+    if (!cholesky(G, df)) {
+        free(x); free(G); free(P);
+        return;
+    }
+    /* rows of L_G⁻¹ U_tᵀ: column g of U_tᵀ solved */
+    double *Y = malloc(df * K * sizeof *Y);
+    if (!Y) {
+        free(x); free(G); free(P);
+        return;
+    }
+    for (size_t g = 0; g < K; g++) {
+        for (size_t j = 0; j < df; j++)
+            x[j] = Ut[j * K + g];
+        forward(G, df, x);
+        memcpy(Y + g * df, x, df * sizeof *x);
+    }
+    for (size_t g = 0; g < K; g++)
+        for (size_t h = 0; h < K; h++) {
+            double t = 0.0;
+            for (size_t j = 0; j < df; j++)
+                t += Y[g * df + j] * Y[h * df + j];
+            P[g * K + h] = t;
+        }
+    double num = 0.0, tr = 0.0, tr2 = 0.0, den2 = 0.0;
+    /* zᵀG⁻¹z = ‖L_G⁻¹ z‖², z = U_tᵀ s; s is not at hand, but z = Σ_g U_t,g· s_g and
+     * L_G⁻¹ z = Σ_g Y_g s_g, with s_g = √n_g · mean_g held in work (a) — see caller */
+    const double *a = work; /* a_g = A_g/√n_g of the observed perturbation: U_tᵀa = z */
+    for (size_t j = 0; j < df; j++) {
+        double t = 0.0;
+        for (size_t g = 0; g < K; g++)
+            t += Y[g * df + j] * a[g];
+        num += t * t;
+    }
+    for (size_t g = 0; g < K; g++) {
+        tr += om[g] * P[g * K + g];
+        den2 += P[g * K + g] * P[g * K + g] * om[g] * om[g] / (c->ng[g] - 1.0);
+        for (size_t h = 0; h < K; h++)
+            tr2 += P[g * K + h] * P[g * K + h] * om[g] * om[h];
+    }
+    if (tr > 0 && tr2 > 0 && den2 > 0) {
+        u->ats = num / tr;
+        u->ats_df1 = tr * tr / tr2;
+        u->ats_df2 = tr * tr / den2;
+        u->ats_p = sturdy_f_sf(u->ats, u->ats_df1, u->ats_df2);
+    }
+    free(x); free(G); free(P); free(Y);
+}
+
+static void uv_init_result(sturdy_uv_result *u)
+{
+    u->wald = u->stat = u->df1 = u->df2 = u->p = NAN;
+    u->ats = u->ats_df1 = u->ats_df2 = u->ats_p = NAN;
+    u->p_wild = u->p_permuted = u->p_perm = NAN;
+    u->p_perm_ci.lo = u->p_perm_ci.hi = NAN;
+}
+
+int sturdy_uv_uses_hc3(const sturdy_design *d)
+{
+    return d->ncov > 0 || d->has_block || d->ngroups != d->ncells;
+}
+
+sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                  sturdy_response_result *out, char *err)
+{
+    int hc3 = sturdy_uv_uses_hc3(d);
+    uv_ctx c;
+    const char *why;
+    sturdy_status st = uv_ctx_init(&c, d, m, hc3, &why, err);
+    if (st)
+        return st;
+    size_t n = d->n, K = c.K;
+    size_t maxdf = 0;
+    for (size_t t = 0; t < out->nterms; t++)
+        if (m->terms[t].df > maxdf)
+            maxdf = m->terms[t].df;
+    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
+    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
+    double *work = malloc(wald_work(&c, maxdf) * sizeof *work), *ft = malloc(n * sizeof *ft);
+    if (!v || !A || !Q || !s || !pw || !work || !ft) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    for (size_t t = 0; t < out->nterms && !st; t++) {
+        sturdy_term_result *tr = &out->terms[t];
+        sturdy_uv_result *u = &tr->uv;
+        uv_init_result(u);
+        const sturdy_term_basis *tb = &m->terms[t];
+        if (why) { st = set_note(&u->note, why, err); continue; }
+        if (!(tr->f >= 0)) {
+            st = set_note(&u->note, tr->note ? tr->note : "the term has no test", err);
+            continue;
+        }
+        restricted_residuals(&c, d->y + r * n, tb->Uterm, tb->df, v, ft, A, Q, s, pw);
+        double W = wald(&c, tb->Uterm, tb->df, A, Q, work);
+        if (isnan(W)) {
+            st = set_note(&u->note, "the cell variances leave the term's covariance "
+                          "singular (cells without spread)", err);
+            continue;
+        }
+        u->wald = W;
+        u->df1 = (double)tb->df;
+        if (!hc3) {
+            factor_only_refs(&c, tb->Uterm, tb->df, W, work, u);
+        } else {
+            u->johansen = 0;
+            u->stat = W / (double)tb->df;
+            u->df2 = (double)m->df_error;
+            u->p = sturdy_f_sf(u->stat, u->df1, u->df2);
+        }
+    }
+done:
+    free(v); free(A); free(Q); free(s); free(pw); free(work); free(ft);
+    uv_ctx_free(&c);
+    return st;
+}
+
+/* ---- resampling ---- */
+
+typedef struct {
+    size_t resp, term;
+    const double *Ut;
+    size_t df;
+    double thr;          /* count W* ≥ thr */
+    int perm_ok;         /* the permutation scheme can test it (not the block term) */
+} uv_member;
+
+typedef struct {
+    uv_ctx c;
+    size_t M;
+    uv_member *mem;
+    double *E;           /* n × M row-major, rows in position order: wild: ẽ/√(1 − h);
+                            permutation: ẽ */
+    double *Qw;          /* K × M: Σ (ẽ/√(1−h))² per group (the wild scheme's Q) */
+    size_t maxdf;
+} uv_run;
+
+static void uv_run_free(uv_run *u)
+{
+    uv_ctx_free(&u->c);
+    free(u->mem);
+    free(u->E);
+    free(u->Qw);
+}
+
+/* One pass of replicates [b0, b1) of one scheme; counts into cnt (M). */
+static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uint64_t seed,
+                     uint64_t b0, uint64_t b1, uint64_t *cnt, int nthreads)
+{
+    const sturdy_design *d = u->c.d;
+    size_t n = d->n, K = u->c.K, M = u->M;
+    int failed = 0;
+    int64_t nrep = (int64_t)(b1 - b0);
+#pragma omp parallel num_threads(nthreads)
+    {
+        double *A = malloc(K * M * sizeof *A), *Q = malloc(K * M * sizeof *Q);
+        double *Ak = malloc(K * sizeof *Ak), *Qk = malloc(K * sizeof *Qk);
+        double *work = malloc(wald_work(&u->c, u->maxdf) * sizeof *work);
+        uint32_t *lab = malloc(n * sizeof *lab), *pool = malloc(n * sizeof *pool);
+        signed char *sign = malloc(n ? n : 1);
+        uint64_t *mine = calloc(M, sizeof *mine);
+        int ok = A && Q && Ak && Qk && work && lab && pool && sign && mine;
+        if (!ok) {
+#pragma omp atomic write
+            failed = 1;
+        }
+#pragma omp for schedule(dynamic, 16)
+        for (int64_t k = 0; k < nrep; k++) {
+            if (!ok)
+                continue;
+            uint64_t b = b0 + (uint64_t)k;
+            memset(A, 0, K * M * sizeof *A);
+            if (wild) {
+                sturdy_pcg64 g;
+                sturdy_pcg_for(&g, seed, STURDY_STREAM_WILD_TEST, b);
+                sturdy_pcg_signs(&g, sign, n);
+                for (size_t i = 0; i < n; i++) {
+                    double *dst = A + d->group[i] * M;
+                    const double *e = u->E + i * M;
+                    double sg = (double)sign[i];
+                    for (size_t j = 0; j < M; j++)
+                        dst[j] += sg * e[j];
+                }
+                memcpy(Q, u->Qw, K * M * sizeof *Q);
+            } else {
+                memset(Q, 0, K * M * sizeof *Q);
+                sturdy_rearrange(ra, b, lab, sign, pool);
+                for (size_t p = 0; p < n; p++) {
+                    size_t g = ra->flip ? ra->lab0[p] : lab[p];
+                    double sg = ra->flip ? (double)sign[p] : 1.0;
+                    const double *e = u->E + p * M;
+                    double *da = A + g * M, *dq = Q + g * M;
+                    for (size_t j = 0; j < M; j++) {
+                        da[j] += sg * e[j];
+                        dq[j] += e[j] * e[j];
+                    }
+                }
+            }
+            for (size_t j = 0; j < M; j++) {
+                const uv_member *mb = &u->mem[j];
+                if (!wild && !mb->perm_ok)
+                    continue;
+                for (size_t g = 0; g < K; g++) {
+                    Ak[g] = A[g * M + j];
+                    Qk[g] = Q[g * M + j];
+                }
+                double W = wald(&u->c, mb->Ut, mb->df, Ak, Qk, work);
+                if (W >= mb->thr)
+                    mine[j]++;
+            }
+        }
+        if (ok) {
+#pragma omp critical(sturdy_uv_reduce)
+            for (size_t j = 0; j < M; j++)
+                cnt[j] += mine[j];
+        }
+        free(A); free(Q); free(Ak); free(Qk); free(work); free(lab); free(pool); free(sign);
+        free(mine);
+    }
+    return !failed;
+}
+
+/* The members and their perturbation bases, for one scheme (wild: scaled, in row order;
+ * permutation: unscaled, in the rearranger's position order). */
+static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild, char *err)
+{
+    const sturdy_design *d = u->c.d;
+    const sturdy_model *m = u->c.m;
+    size_t n = d->n, K = u->c.K, M = u->M;
+    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
+    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
+    double *ft = malloc(n * sizeof *ft);
+    if (!v || !A || !Q || !s || !pw || !ft) {
+        free(v); free(A); free(Q); free(s); free(pw); free(ft);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    if (wild)
+        memset(u->Qw, 0, K * M * sizeof *u->Qw);
+    for (size_t j = 0; j < M; j++) {
+        const uv_member *mb = &u->mem[j];
+        restricted_residuals(&u->c, d->y + mb->resp * n, mb->Ut, mb->df, v, ft, A, Q, s, pw);
+        for (size_t p = 0; p < n; p++) {
+            if (wild) {
+                double e = v[p] * u->c.scale[d->group[p]];
+                u->E[p * M + j] = e;
+                u->Qw[d->group[p] * M + j] += e * e;
+            } else {
+                u->E[p * M + j] = v[ra->blk_rows[p]];
+            }
+        }
+    }
+    free(v); free(A); free(Q); free(s); free(pw); free(ft);
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturdy_result *r,
+                            char *err)
+{
+    uint64_t b0 = r->perm_begin, b1 = r->perm_end;
+    uv_run u;
+    memset(&u, 0, sizeof u);
+    const char *why;
+    sturdy_status st = uv_ctx_init(&u.c, d, m, r->uv_hc3, &why, err);
+    if (st)
+        return st;
+    sturdy_rearranger ra;
+    memset(&ra, 0, sizeof ra);
+    size_t n = d->n, K = u.c.K;
+    u.mem = calloc(r->nresp * d->nterms + 1, sizeof *u.mem);
+    if (!u.mem) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < d->nterms; t++) {
+            sturdy_uv_result *uv = &r->resp[ri].terms[t].uv;
+            if (isnan(uv->wald))
+                continue;
+            if (r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
+                d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip &&
+                (st = set_note(&uv->perm_note, "no permutation p-value for the block term: "
+                               "rearranging within blocks leaves it unchanged", err)))
+                goto done;
+            uv_member *mb = &u.mem[u.M++];
+            mb->resp = ri;
+            mb->term = t;
+            mb->Ut = m->terms[t].Uterm;
+            mb->df = m->terms[t].df;
+            mb->thr = uv->wald * (1.0 - STURDY_TIE_RTOL);
+            mb->perm_ok = !uv->perm_note;
+            if (mb->df > u.maxdf)
+                u.maxdf = mb->df;
+        }
+    if (u.M == 0 || b1 <= b0)
+        goto done;
+    u.E = malloc(n * u.M * sizeof *u.E);
+    u.Qw = malloc(K * u.M * sizeof *u.Qw);
+    uint64_t *cnt = calloc(u.M, sizeof *cnt);
+    if (!u.E || !u.Qw || !cnt) {
+        free(cnt);
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    int nthreads = sturdy_thread_count(&r->opts);
+    /* wild bootstrap: always */
+    if (!(st = fill_bases(&u, NULL, 1, err))) {
+        if (!run_range(&u, NULL, 1, r->opts.seed, b0, b1, cnt, nthreads))
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the wild bootstrap");
+        for (size_t j = 0; j < u.M && !st; j++)
+            r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_wild += cnt[j];
+    }
+    /* permutation of the studentised statistic: when it is the run's scheme */
+    if (!st && r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
+        !(st = sturdy_rearranger_init(&ra, d, r->opts.flip, r->exact, r->opts.seed, err)) &&
+        !(st = fill_bases(&u, &ra, 0, err))) {
+        memset(cnt, 0, u.M * sizeof *cnt);
+        if (!run_range(&u, &ra, 0, r->opts.seed, b0, b1, cnt, nthreads))
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the permutations");
+        for (size_t j = 0; j < u.M && !st; j++)
+            r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_perm += cnt[j];
+    }
+    free(cnt);
+done:
+    sturdy_rearranger_free(&ra);
+    uv_run_free(&u);
+    return st;
+}
+
+sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, char *err)
+{
+    sturdy_uv_result *u = &t->uv;
+    if (isnan(u->wald))
+        return STURDY_OK;
+    if (r->nperm == 0)
+        return set_note(&u->perm_note, "no resampling was asked for (-B 0)", err);
+    double B = (double)r->nperm;
+    /* the wild bootstrap is a random draw even when the rearrangements are enumerated */
+    u->p_wild = (1.0 + (double)u->exceed_wild) / (1.0 + B);
+    uint64_t k = u->exceed_wild;
+    if (r->spread_scheme == STURDY_SPREAD_PERMUTATION) {
+        if (u->perm_note)
+            return STURDY_OK;
+        u->p_permuted = r->exact ? (double)u->exceed_perm / B
+                                 : (1.0 + (double)u->exceed_perm) / (1.0 + B);
+        u->p_perm = u->p_permuted;
+        k = u->exceed_perm;
+        if (r->exact) {
+            u->p_perm_ci.lo = u->p_perm_ci.hi = u->p_perm;
+            return STURDY_OK;
+        }
+    } else {
+        u->p_perm = u->p_wild;
+    }
+    sturdy_clopper_pearson(k, r->nperm, 0.99, &u->p_perm_ci.lo, &u->p_perm_ci.hi);
+    return STURDY_OK;
+}
