@@ -59,7 +59,9 @@ static void write_header(sturdy_buf *b)
         if (e == STURDY_ES_PARTIAL_ETA2)
             sturdy_buf_printf(b, ",%s_ncf_lo,%s_ncf_hi", n, n);
     }
-    sturdy_buf_puts(b, ",exceed,verdict,p_perm_straddles_alpha,verdict_reason,note\n");
+    sturdy_buf_puts(b, ",exceed,verdict,p_perm_straddles_alpha,verdict_reason,note");
+    sturdy_buf_puts(b, ",uv_wald,uv_statistic,uv_df1,uv_df2,uv_p,uv_p_perm,uv_p_perm_lo,"
+                       "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p\n");
 }
 
 static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
@@ -100,6 +102,11 @@ static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
     sturdy_buf_put(b, ",", 1);
     csv_text(b, t->verdict_reason);
     csv_notes(b, t);
+    const sturdy_uv_result *u = &t->uv;
+    const double uv[] = { u->wald, u->stat, u->df1, u->df2, u->p, u->p_perm, u->p_perm_ci.lo,
+                          u->p_perm_ci.hi, u->ats, u->ats_df1, u->ats_df2, u->ats_p };
+    for (size_t i = 0; i < sizeof uv / sizeof *uv; i++)
+        csv_num(b, uv[i]);
     sturdy_buf_put(b, "\n", 1);
 }
 

@@ -53,6 +53,7 @@ static const char batch_help[] =
 "  factors    required: factor columns, likewise\n"
 "  optional, as the 'check' options of the same name: covariates, block, order, ss,\n"
 "  permutations, bootstrap, method, flip (yes/no/true/false/1/0), bootstrap-scheme,\n"
+"  spread-scheme,\n"
 "  conf, alpha, seed, delimiter, missing, max-levels, max-columns.\n"
 "  An empty field leaves the option at its default. threads, shard, format, output and\n"
 "  quiet belong to the batch and cannot be columns.\n"
@@ -76,7 +77,7 @@ enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
 /* Plan columns passed on as `check` long options of the same name. */
 static const char *const option_cols[] = {
     "covariates", "block", "order", "ss", "permutations", "bootstrap", "method", "flip",
-    "bootstrap-scheme", "conf", "alpha", "seed", "delimiter", "missing", "max-levels",
+    "bootstrap-scheme", "spread-scheme", "conf", "alpha", "seed", "delimiter", "missing", "max-levels",
     "max-columns"
 };
 #define NOPTION_COLS (sizeof option_cols / sizeof *option_cols)

@@ -146,7 +146,7 @@ static int add_part(const part *p, sturdy_result *r)
         return fail(p->path, "its responses do not match the data", STURDY_EDATA);
     s.nresp = r->nresp;
     s.nterms = nt;
-    uint64_t *cnt = calloc(2 * r->nresp * nt + 1, sizeof *cnt);
+    uint64_t *cnt = calloc(4 * r->nresp * nt + 1, sizeof *cnt);
     double *boot = malloc((r->nresp * nt * nb * STURDY_NES + 1) * sizeof *boot);
     if (!cnt || !boot) {
         free(cnt); free(boot);
@@ -169,6 +169,8 @@ static int add_part(const part *p, sturdy_result *r)
             }
             cnt[k] = jv_u64(jv_get(raw, "exceed"), &okc);
             cnt[r->nresp * nt + k] = jv_u64(jv_get(raw, "exceed_fwer"), &okc);
+            cnt[2 * r->nresp * nt + k] = jv_u64(jv_get(raw, "uv_exceed_wild"), &okc);
+            cnt[3 * r->nresp * nt + k] = jv_u64(jv_get(raw, "uv_exceed_perm"), &okc);
             const jv *b = jv_get(raw, "boot");
             double *dst = boot + k * nb * STURDY_NES;
             for (size_t q = 0; q < nb * STURDY_NES; q++)
@@ -195,6 +197,8 @@ static int add_part(const part *p, sturdy_result *r)
         char err[STURDY_ERR_LEN];
         s.exceed = cnt;
         s.exceed_fwer = cnt + r->nresp * nt;
+        s.uv_exceed_wild = cnt + 2 * r->nresp * nt;
+        s.uv_exceed_perm = cnt + 3 * r->nresp * nt;
         s.boot = boot;
         if (sturdy_result_add_slice(r, &s, err) != STURDY_OK)
             rc = fail(p->path, err, STURDY_EDATA);

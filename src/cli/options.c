@@ -14,7 +14,7 @@
 enum {
     OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
-    OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION
+    OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD
 };
 
 static const struct option long_options[] = {
@@ -29,6 +29,7 @@ static const struct option long_options[] = {
     { "method", required_argument, NULL, OPT_METHOD },
     { "flip", no_argument, NULL, OPT_FLIP },
     { "bootstrap-scheme", required_argument, NULL, OPT_SCHEME },
+    { "spread-scheme", required_argument, NULL, OPT_SPREAD },
     { "conf", required_argument, NULL, OPT_CONF },
     { "alpha", required_argument, NULL, OPT_ALPHA },
     { "seed", required_argument, NULL, OPT_SEED },
@@ -69,6 +70,8 @@ static const char check_help[] =
 "      --flip                   flip residual signs instead of permuting them\n"
 "                               (copes with unequal variances)\n"
 "      --bootstrap-scheme NAME  residual (default), wild (default with --flip) or cells\n"
+"      --spread-scheme NAME     resampling of the unequal-variance test: wild (wild\n"
+"                               bootstrap, default) or permutation\n"
 "      --conf LEVEL             interval level, between 0 and 1 (default 0.95)\n"
 "      --alpha LEVEL            significance level of the verdicts (default 0.05)\n"
 "      --seed N                 random seed (default 20261201)\n"
@@ -302,6 +305,12 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         else if (!strcmp(arg, "cells")) o->boot_scheme = STURDY_BOOT_CELLS;
         else return cli_usage_error(c->command, "--bootstrap-scheme wants residual, wild or "
                                     "cells, not '%s'", arg);
+        return 0;
+    case OPT_SPREAD:
+        if (!strcmp(arg, "wild")) o->spread_scheme = STURDY_SPREAD_WILD;
+        else if (!strcmp(arg, "permutation")) o->spread_scheme = STURDY_SPREAD_PERMUTATION;
+        else return cli_usage_error(c->command, "--spread-scheme wants wild or permutation, "
+                                    "not '%s'", arg);
         return 0;
     case OPT_CONF: return want_level(c, "--conf", arg, &o->conf);
     case OPT_ALPHA: return want_level(c, "--alpha", arg, &o->alpha);
