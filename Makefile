@@ -41,7 +41,7 @@ MPI_PKGS     := libopenmpi-dev openmpi-bin
 all: sturdy
 
 sturdy: $(PROG)
-	@cmp -s $(PROG) sturdy || cp $(PROG) sturdy
+	@cmp -s $(PROG) sturdy || { cp $(PROG) sturdy.tmp && mv -f sturdy.tmp sturdy; }
 
 $(PROG): $(BUILD)/libsturdy.a $(CLI_OBJ)
 	$(CC) $(CFLAGS) $(OMP) -o $@ $(CLI_OBJ) $(BUILD)/libsturdy.a $(LDLIBS)

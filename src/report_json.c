@@ -373,6 +373,8 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_num(w, "p", g->bf_p);
     jw_str(w, "note", g->bf_note);
     jw_close(w, '}');
+    jw_bool(w, "spread_differs", g->spread_differs);
+    jw_str(w, "spread_reason", g->spread_reason);
     jw_num(w, "variance_ratio", g->variance_ratio);
     jw_str(w, "variance_ratio_note", g->vr_note);
     jw_open(w, "outliers", '[');

@@ -11,9 +11,10 @@
 
 #include "report_text.h"
 
-/* Column widths of the tests table (2 + 20+1+5+1+9+1+9+1+9+2+8+2+11+2+16 = 99); SS, MS
- * and F never take more than 9 characters in tw_fmt_num's format. */
-enum { W_TERM = 20, W_DF = 5, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11 };
+/* Column widths of the tests table (2 + 18+1+4+1+9+1+9+2+8+2+11+2+13+2+14 = 99); SS and
+ * F never take more than 9 characters in tw_fmt_num's format. MS is left to JSON and CSV
+ * to make room for the unequal-variance test. */
+enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13 };
 /* Effect-size table: a narrower term column, then five columns of this width, each after
  * two blanks (2 + 18 + 5·16 = 100); "4.4e-05–0.0015" is 14 characters. */
 enum { W_ES_TERM = 18, W_ES = 14 };
@@ -27,11 +28,17 @@ enum { LIST_MAX = 8 };
 /* |skewness| above 1 is the usual rule of thumb for a highly skewed distribution
  * (Bulmer 1979, Principles of Statistics). */
 #define SKEW_STRONG 1.0
-/* Largest/smallest cell variance above 4 is a common rule-of-thumb warning level for
- * unequal variances; the Brown–Forsythe p is the formal test beside it. */
-#define VARIANCE_RATIO_WARN 4.0
 /* Cells with fewer rows than this leave little to estimate spread or shape from. */
 #define SMALL_CELL 3
+
+/* "p = 0.0123" or "p < 0.0001". */
+static void p_words(sturdy_buf *b, double p)
+{
+    char q[32];
+    tw_fmt_p(p, q);
+    if (q[0] == '<') sturdy_buf_printf(b, "p < %s", q + 1);
+    else sturdy_buf_printf(b, "p = %s", q);
+}
 
 static void verdict_words(const sturdy_term_result *t, const char **words, int *disagree)
 {
@@ -40,7 +47,7 @@ static void verdict_words(const sturdy_term_result *t, const char **words, int *
     case STURDY_VERDICT_BOTH: *words = "both tests"; return;
     case STURDY_VERDICT_NEITHER: *words = "neither"; return;
     case STURDY_VERDICT_CLASSICAL_ONLY: *words = "F-test only"; *disagree = 1; return;
-    case STURDY_VERDICT_RESAMPLING_ONLY: *words = "resampling only"; *disagree = 1; return;
+    case STURDY_VERDICT_RESAMPLING_ONLY: *words = "resampled only"; *disagree = 1; return;
     case STURDY_VERDICT_NONE: break;
     }
     *words = "n/a";
@@ -77,21 +84,97 @@ static const char *verdict_reason_absent(const sturdy_result *r, const sturdy_te
 #define TERM_NAME_ARGS(w, rr, t) (t)->label, (w)->r->nresp > 1 ? " (" : "", \
     (w)->r->nresp > 1 && (rr)->name ? (rr)->name : "", (w)->r->nresp > 1 ? ")" : ""
 
+/* The unequal-variance p a term is judged by: resampled, else approximate F. */
+static double uv_p(const sturdy_uv_result *u)
+{
+    return !isnan(u->p_perm) ? u->p_perm : u->p;
+}
+
+/* When a response's cell spreads differ (diagnostics.spread_differs), the headline leads
+ * with it and with the unequal-variance test's conclusions, since the F-test and every
+ * rearrangement of F then miss their level (README, calibration table). */
+static void spread_headline(tw *w)
+{
+    const sturdy_result *r = w->r;
+    char a[32];
+    tw_fmt_g(r->opts.alpha, 3, a);
+    for (size_t i = 0; i < r->nresp; i++) {
+        const sturdy_response_result *rr = &r->resp[i];
+        if (!rr->diag.spread_differs) continue;
+        sturdy_buf s;
+        sturdy_buf_init(&s);
+        size_t tested = 0, sig = 0;
+        for (size_t k = 0; k < rr->nterms; k++) {
+            double p = uv_p(&rr->terms[k].uv);
+            if (isnan(p)) continue;
+            tested++;
+            if (p <= r->opts.alpha) sig++;
+        }
+        sturdy_buf_printf(&s, "The cell spreads of %s differ (%s). The F-test and its "
+                          "rearrangements can then reject far too often or too rarely, so "
+                          "read the unequal-variance test (p unequal var)",
+                          rr->name ? rr->name : "?",
+                          rr->diag.spread_reason ? rr->diag.spread_reason : "");
+        if (tested == 0) {
+            sturdy_buf_puts(&s, "; it could not be computed here (see the footnotes).");
+        } else {
+            sturdy_buf_printf(&s, ": %zu of %zu terms significant at α" NBSP "=" NBSP "%s",
+                              sig, tested, a);
+            size_t shown = 0;
+            for (size_t k = 0; k < rr->nterms; k++) {
+                const sturdy_term_result *t = &rr->terms[k];
+                double p = uv_p(&t->uv);
+                if (isnan(p) || p > r->opts.alpha) continue;
+                sturdy_buf_printf(&s, "%s%s (", shown++ ? ", " : " — ", t->label);
+                p_words(&s, p);
+                sturdy_buf_puts(&s, ")");
+            }
+            sturdy_buf_puts(&s, ".");
+        }
+        tw_para(w, 2, 2, s.data ? s.data : "");
+        if (s.failed) w->b->failed = 1;
+        sturdy_buf_free(&s);
+    }
+}
+
+/* Which of the three tests find a term at alpha, as "the F-test and resampling"; 0 tests:
+ * NULL. `uv` < 0: the unequal-variance test is absent. */
+static const char *tests_finding(int f, int r, int uv)
+{
+    static const char *const names[8] = {
+        NULL, "the unequal-variance test", "resampling", "resampling and the unequal-variance test",
+        "the F-test", "the F-test and the unequal-variance test", "the F-test and resampling",
+        "all three tests"
+    };
+    int k = (f ? 4 : 0) | (r ? 2 : 0) | (uv > 0 ? 1 : 0);
+    if (uv < 0 && k == 6) return "both the F-test and resampling";
+    return names[k];
+}
+
 static void headline(tw *w)
 {
     const sturdy_result *r = w->r;
-    size_t avail = 0, agree = 0, both = 0;
+    size_t avail = 0, agree = 0, both = 0, with_uv = 0;
+    double alpha = r->opts.alpha;
     for (size_t i = 0; i < r->nresp; i++)
         for (size_t k = 0; k < r->resp[i].nterms; k++) {
-            sturdy_verdict v = r->resp[i].terms[k].verdict;
-            if (v == STURDY_VERDICT_NONE) continue;
+            const sturdy_term_result *t = &r->resp[i].terms[k];
+            if (t->verdict == STURDY_VERDICT_NONE) continue;
             avail++;
-            if (v == STURDY_VERDICT_BOTH || v == STURDY_VERDICT_NEITHER) agree++;
-            if (v == STURDY_VERDICT_BOTH) both++;
+            double pu = uv_p(&t->uv);
+            int uv_ok = isnan(pu) || (pu <= alpha) == (t->p <= alpha);
+            if (!isnan(pu)) with_uv++;
+            if ((t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_NEITHER) &&
+                uv_ok)
+                agree++;
+            if (t->verdict == STURDY_VERDICT_BOTH && uv_ok) both++;
         }
     char a[32], s[512];
-    tw_fmt_g(r->opts.alpha, 3, a);
+    const char *which = with_uv ? "the F-test, resampling and the unequal-variance test"
+                                : "the F-test and with resampling";
+    tw_fmt_g(alpha, 3, a);
     tw_heading(w, "In short");
+    if (r->finished) spread_headline(w);
     if (!r->finished) {
         tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
                          "and verdicts appear once 'sturdy merge' has combined all shards.");
@@ -102,29 +185,40 @@ static void headline(tw *w)
         tw_para(w, 2, 2, "No term could be compared between the F-test and resampling; the "
                          "footnotes below say why.");
     } else if (agree == avail) {
-        snprintf(s, sizeof s, "All %zu tested terms reach the same conclusion with the F-test "
-                 "and with resampling at α = %s (%zu significant by both, %zu by neither).",
-                 avail, a, both, avail - both);
+        snprintf(s, sizeof s, "All %zu tested terms reach the same conclusion with %s at "
+                 "α = %s (%zu significant by %s, %zu by none).", avail, which, a, both,
+                 with_uv ? "all" : "both", avail - both);
         tw_para(w, 2, 2, s);
     } else {
-        snprintf(s, sizeof s, "%zu of %zu tested terms reach the same conclusion with the "
-                 "F-test and with resampling at α = %s; %zu %s not:", agree, avail, a,
-                 avail - agree, avail - agree == 1 ? "does" : "do");
+        snprintf(s, sizeof s, "%zu of %zu tested terms reach the same conclusion with %s at "
+                 "α = %s; %zu %s not:", agree, avail, which, a, avail - agree,
+                 avail - agree == 1 ? "does" : "do");
         tw_para(w, 2, 2, s);
         for (size_t i = 0; i < r->nresp; i++)
             for (size_t k = 0; k < r->resp[i].nterms; k++) {
                 const sturdy_term_result *t = &r->resp[i].terms[k];
-                const char *words;
-                int dis;
-                verdict_words(t, &words, &dis);
-                if (!dis) continue;
-                const char *why = t->verdict_reason ? t->verdict_reason : "";
+                if (t->verdict == STURDY_VERDICT_NONE) continue;
+                double pu = uv_p(&t->uv);
+                int f = t->p <= alpha, rs = t->p_perm <= alpha;
+                int u = isnan(pu) ? -1 : pu <= alpha;
+                if (f == rs && (u < 0 || u == f)) continue;
+                const char *why = f != rs && t->verdict_reason ? t->verdict_reason
+                                  : r->resp[i].diag.spread_differs
+                                      ? "the cell spreads differ, and only the "
+                                        "unequal-variance test holds α then"
+                                      : "";
                 size_t wl = strlen(why);
-                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": significant by the %s only%s%s%s",
-                         TERM_NAME_ARGS(w, &r->resp[i], t),
-                         t->verdict == STURDY_VERDICT_CLASSICAL_ONLY ? "F-test"
-                                                                     : "resampling test",
-                         wl ? " — " : "", why, wl && why[wl - 1] == '.' ? "" : ".");
+                const char *by = tests_finding(f, rs, u);
+                char pw[40] = "";
+                if (u >= 0) {
+                    tw_fmt_p(pu, pw + 2);
+                    memcpy(pw, "p ", 2);
+                }
+                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": significant by %s%s%s%s%s%s%s%s",
+                         TERM_NAME_ARGS(w, &r->resp[i], t), by ? by : "none of the tests",
+                         by ? " only" : "", u >= 0 ? " (unequal-variance " : "", pw,
+                         u >= 0 ? ")" : "", wl ? " — " : "", why,
+                         wl && why[wl - 1] == '.' ? "" : ".");
             }
     }
     for (size_t i = 0; r->finished && !r->exact && i < r->nresp; i++)
@@ -202,6 +296,22 @@ static void about(tw *w)
     }
     tw_labelled(w, "resampling", s.data);
     s.len = 0;
+    sturdy_buf_printf(&s, "Welch–James statistic with %s (Welch 1951; "
+                      "Johansen 1980), ", r->uv_hc3 ? "HC3 variances (Long & Ervin 2000)"
+                                                    : "each cell's own variance");
+    if (r->nperm == 0)
+        sturdy_buf_printf(&s, "p from %s (marked *)", r->uv_hc3 ? "F(df, residual df)"
+                                                              : "Johansen's approximate F");
+    else if (r->spread_scheme == STURDY_SPREAD_PERMUTATION)
+        sturdy_buf_puts(&s, "p by the same rearrangements (Pauly, Brunner & Konietschke "
+                            "2015)");
+    else
+        sturdy_buf_printf(&s, "p by %llu wild-bootstrap replicates (Davidson & Flachaire "
+                          "2008)", (unsigned long long)r->nperm);
+    sturdy_buf_puts(&s, "; it holds α when cell variances differ, where F and its "
+                        "rearrangements do not");
+    tw_labelled(w, "unequal var", s.data);
+    s.len = 0;
     static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
                                                 "wild (Wu 1986)", "cells" };
     if (r->nboot == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
@@ -224,17 +334,17 @@ static void about(tw *w)
 
 /* One row of the tests table; `label` NULL leaves the term cell blank. */
 static void tests_row(tw *w, const char *label, const char *df, const char *ss,
-                      const char *ms, const char *f, const char *p, const char *pp,
+                      const char *f, const char *p, const char *pp, const char *puv,
                       const char *verdict, const char *color)
 {
     tw_indent(w, 2);
     tw_cell(w, label ? label : "", W_TERM, 0);
     tw_put(w, " "); tw_cell(w, df, W_DF, 1);
     tw_put(w, " "); tw_cell(w, ss, W_SS, 1);
-    tw_put(w, " "); tw_cell(w, ms, W_SS, 1);
     tw_put(w, " "); tw_cell(w, f, W_F, 1);
     tw_put(w, "  "); tw_cell(w, p, W_P, 1);
     tw_put(w, "  "); tw_cell(w, pp, W_PP, 1);
+    tw_put(w, "  "); tw_cell(w, puv, W_UV, 1);
     if (verdict && *verdict) {
         tw_put(w, "  ");
         tw_style(w, color);
@@ -250,6 +360,50 @@ static const char *term_cell(tw *w, const char *label, int width)
     if (tw_width(label) <= (size_t)width) return label;
     tw_para(w, 2, 4, label);
     return NULL;
+}
+
+/* The unequal-variance p of the table: the resampled one (the run's scheme), else the
+ * approximate-F one, marked "*" (its footnote-free legend is in "The run"), else "—". */
+static void uv_p_cell(tw *w, const sturdy_term_result *t, char *out)
+{
+    const sturdy_uv_result *u = &t->uv;
+    if (!isnan(u->p_perm)) {
+        tw_fmt_p(u->p_perm, out);
+    } else if (!isnan(u->p)) {
+        tw_fmt_p(u->p, out);
+        strcat(out, "*");
+    } else if (u->note && !isnan(t->p)) {
+        snprintf(out, 32, "— [%zu]", tw_footnote(w, u->note));
+    } else {
+        tw_fmt_p(NAN, out);
+    }
+}
+
+/* One line under a term: the unequal-variance test's statistic and its p-values. */
+static void uv_details(tw *w, const sturdy_term_result *t)
+{
+    const sturdy_uv_result *u = &t->uv;
+    if (isnan(u->wald)) return;
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    char a[32], b[32], c[32], x[TW_RANGE_LEN];
+    tw_fmt_g(u->stat, 4, a);
+    tw_fmt_df(u->df1, b);
+    tw_fmt_g(u->df2, 3, c);
+    sturdy_buf_printf(&s, "unequal var: Welch–James F %s on %s and %s df (%s), ", a, b, c,
+                      u->johansen ? "Johansen" : "residual df");
+    p_words(&s, u->p);
+    if (!isnan(u->ats_p)) {
+        sturdy_buf_puts(&s, "; ANOVA-type ");
+        p_words(&s, u->ats_p);
+    }
+    if (!isnan(u->p_perm) && !w->r->exact) {
+        tw_fmt_range(u->p_perm_ci, tw_fmt_pr, x);
+        sturdy_buf_printf(&s, "; resampled p: 99%% range %s", x);
+    }
+    tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s.data ? s.data : "");
+    if (s.failed) w->b->failed = 1;
+    sturdy_buf_free(&s);
 }
 
 static void term_details(tw *w, const sturdy_term_result *t)
@@ -274,6 +428,7 @@ static void term_details(tw *w, const sturdy_term_result *t)
         }
         tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s);
     }
+    uv_details(w, t);
     if (!isnan(t->es[STURDY_ES_PARTIAL_ETA2])) {
         char bca[TW_RANGE_LEN + 16], ncf[TW_RANGE_LEN];
         tw_fmt_g(t->es[STURDY_ES_PARTIAL_ETA2], 3, x);
@@ -289,16 +444,16 @@ static void term_details(tw *w, const sturdy_term_result *t)
 
 static void tests_table(tw *w, const sturdy_response_result *rr)
 {
-    char df[32], ss[32], ms[32], f[32], p[32], pp[32], v[64];
+    char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], v[64];
     tw_indent(w, 2);
     tw_style(w, "1");
     tw_cell(w, "term", W_TERM, 0);
     tw_put(w, " "); tw_cell(w, "df", W_DF, 1);
     tw_put(w, " "); tw_cell(w, "SS", W_SS, 1);
-    tw_put(w, " "); tw_cell(w, "MS", W_SS, 1);
     tw_put(w, " "); tw_cell(w, "F", W_F, 1);
     tw_put(w, "  "); tw_cell(w, "p F-test", W_P, 1);
     tw_put(w, "  "); tw_cell(w, "p resampled", W_PP, 1);
+    tw_put(w, "  "); tw_cell(w, "p unequal var", W_UV, 1);
     tw_put(w, "  significant by");
     tw_style(w, "0");
     tw_nl(w);
@@ -313,11 +468,12 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
             snprintf(v, sizeof v, "%s", words);
         tw_fmt_df(t->df, df);
         tw_fmt_num(t->ss, ss);
-        tw_fmt_num(t->ms, ms);
         tw_fmt_num(t->f, f);
         tw_fmt_p(t->p, p);
         tw_fmt_p(t->p_perm, pp);
-        tests_row(w, term_cell(w, t->label, W_TERM), df, ss, ms, f, p, pp, v, dis ? "33" : NULL);
+        uv_p_cell(w, t, puv);
+        tests_row(w, term_cell(w, t->label, W_TERM), df, ss, f, p, pp, puv, v,
+                  dis ? "33" : NULL);
         term_details(w, t);
     }
     tw_fmt_df(rr->df_error, df);
@@ -325,10 +481,13 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_fmt_num(rr->ms_error, ms);
     v[0] = '\0';
     if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
-    tests_row(w, "residual", df, ss, ms, "", "", "", v, NULL);
+    tests_row(w, "residual", df, ss, "", "", "", "", v, NULL);
     tw_fmt_df(rr->df_total, df);
     tw_fmt_num(rr->ss_total, ss);
     tests_row(w, "total", df, ss, "", "", "", "", NULL, NULL);
+    if (!isnan(rr->ms_error))
+        tw_paraf(w, 2, 4, "residual mean square %s (SS/df); the mean squares of the terms "
+                 "are in the JSON and CSV output", ms);
     tw_footnotes(w);
 }
 
@@ -446,15 +605,6 @@ static void check_outliers(tw *w, const sturdy_diagnostics *g)
     sturdy_buf_free(&s);
 }
 
-/* "p = 0.0123" or "p < 0.0001". */
-static void p_words(sturdy_buf *b, double p)
-{
-    char q[32];
-    tw_fmt_p(p, q);
-    if (q[0] == '<') sturdy_buf_printf(b, "p < %s", q + 1);
-    else sturdy_buf_printf(b, "p = %s", q);
-}
-
 static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
 {
     char x[32];
@@ -473,11 +623,16 @@ static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
                       : g->skewness > 0 ? " (strongly right-skewed)" : " (strongly left-skewed)");
     tw_fmt_g(g->excess_kurtosis, 3, x);
     sturdy_buf_printf(s, ", excess kurtosis %s.", x);
+    /* Freedman–Lane keeps its level under non-normal errors of equal spread; with unequal
+     * spreads no rearrangement of F does, so the advice follows the spread check. */
     if (!isnan(g->sw_p))
-        sturdy_buf_puts(s, g->sw_p < w->r->opts.alpha
-                               ? " → The residuals are not normal; rely on the resampling "
-                                 "column."
-                               : " → No clear sign of non-normal residuals.");
+        sturdy_buf_puts(s, !(g->sw_p < w->r->opts.alpha)
+                               ? " → No clear sign of non-normal residuals."
+                           : g->spread_differs
+                               ? " → The residuals are not normal and the cell spreads differ; "
+                                 "read the unequal-variance column."
+                               : " → The residuals are not normal; rely on the resampling "
+                                 "column.");
     tw_labelled(w, "normality", s->data);
 }
 
@@ -502,23 +657,15 @@ static void check_spread(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
         sturdy_buf_printf(s, "; variance ratio not available (%s).",
                           g->vr_note ? g->vr_note : "not computed");
     }
-    int tested = !isnan(g->bf_p) && g->bf_p < w->r->opts.alpha;
-    int wide = !isnan(g->variance_ratio) && g->variance_ratio > VARIANCE_RATIO_WARN;
-    if (tested)
-        sturdy_buf_puts(s, w->r->opts.flip
-                               ? " → Cell variances differ; --flip is already on, which copes "
-                                 "with that."
-                               : " → Cell variances differ; rerun with --flip (sign-flipping "
-                                 "copes with unequal variances).");
-    else if (wide)
-        sturdy_buf_puts(s, w->r->opts.flip
-                               ? " → The cell variances spread widely, though the test does "
-                                 "not flag it; --flip is already on."
-                               : " → The cell variances spread widely, though the test does "
-                                 "not flag it (small cells make both noisy); if in doubt, "
-                                 "rerun with --flip.");
+    /* Sign flipping does not hold α in small cells of unequal spread (README), so the
+     * advice is the unequal-variance column, never --flip. */
+    if (g->spread_differs)
+        sturdy_buf_puts(s, " → Cell variances differ; read the unequal-variance column (p "
+                           "unequal var), not the F-test or the resampled F.");
     else if (!isnan(g->bf_p))
-        sturdy_buf_puts(s, " → No clear sign of unequal variances.");
+        sturdy_buf_puts(s, " → No clear sign of unequal variances (small cells make this "
+                           "check weak; the unequal-variance column holds its level either "
+                           "way).");
     tw_labelled(w, "equal spread", s->data);
 }
 

@@ -82,6 +82,22 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
         vmax = fmax(vmax, sd * sd);
         vmin = fmin(vmin, sd * sd);
     }
+    /* The spread rule (README, "Unequal variances"): Brown–Forsythe at DIAG_LEVEL. Its
+     * firing rates on simulated equal- and unequal-spread data are measured by
+     * tests/xcheck_unequal_calibration.py. */
+    if (!isnan(dg->bf_p) && dg->bf_p < DIAG_LEVEL) {
+        dg->spread_differs = 1;
+        if (vmax > 0 && vmin > 0)
+            dg->spread_reason = sturdy_asprintf("Brown–Forsythe p = %.2g; the largest cell SD "
+                                                "is %.3g × the smallest", dg->bf_p,
+                                                sqrt(vmax / vmin));
+        else
+            dg->spread_reason = sturdy_asprintf("Brown–Forsythe p = %.2g", dg->bf_p);
+        if (!dg->spread_reason) {
+            free(internal);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+    }
     if (vmax < 0)
         st = note(&dg->vr_note, sturdy_strdup("no cell has two rows"), err);
     else if (!(vmin > 0))
@@ -118,19 +134,51 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     return STURDY_OK;
 }
 
+/* The spread rule, part two (part one, Brown–Forsythe, is in sturdy_diagnose_response):
+ * spreads also count as differing when, for some term, the unequal-variance test reaches
+ * the other conclusion at alpha than the F-test and the resampled F, which agree with each
+ * other — the pattern unequal spreads produce (README calibration table). */
+sturdy_status sturdy_spread_rule(sturdy_response_result *resp, double alpha, char *err)
+{
+    sturdy_diagnostics *dg = &resp->diag;
+    for (size_t k = 0; k < resp->nterms; k++) {
+        const sturdy_term_result *t = &resp->terms[k];
+        double pu = !isnan(t->uv.p_perm) ? t->uv.p_perm : t->uv.p;
+        if (isnan(pu) || isnan(t->p) || isnan(t->p_perm))
+            continue;
+        int f = t->p <= alpha, r = t->p_perm <= alpha, u = pu <= alpha;
+        if (f != r || u == f)
+            continue;
+        char *why = sturdy_asprintf(
+            "%s%sthe unequal-variance test %s %s while the F-test and the resampled F %s",
+            dg->spread_reason ? dg->spread_reason : "", dg->spread_reason ? "; " : "",
+            u ? "finds" : "does not find", t->label, f ? "do" : "do not");
+        if (!why)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        free(dg->spread_reason);
+        dg->spread_reason = why;
+        dg->spread_differs = 1;
+        break;
+    }
+    return STURDY_OK;
+}
+
 /* The diagnostic most likely behind a disagreement, as one line. */
 static char *reason_from_diagnostics(const sturdy_response_result *resp,
                                      const sturdy_term_result *t)
 {
     const sturdy_diagnostics *dg = &resp->diag;
+    /* Unequal spreads first: they move F and its rearrangements together and also make
+     * rows of the noisy cells look like outliers under the pooled SD. */
+    if (dg->spread_differs)
+        return sturdy_asprintf("cell variances differ (%s), which neither test allows for; "
+                               "the unequal-variance test gives p = %.3g",
+                               dg->spread_reason ? dg->spread_reason : "",
+                               !isnan(t->uv.p_perm) ? t->uv.p_perm : t->uv.p);
     if (dg->noutliers > 0)
         return sturdy_asprintf("%zu row%s with |studentized residual| > 3 pull%s the F-test",
                                dg->noutliers, dg->noutliers == 1 ? "" : "s",
                                dg->noutliers == 1 ? "s" : "");
-    if (dg->bf_p < DIAG_LEVEL)
-        return sturdy_asprintf("cell variances differ (Brown-Forsythe p = %.2g, largest/"
-                               "smallest %.3g); consider --flip", dg->bf_p,
-                               dg->variance_ratio);
     if (dg->sw_p < DIAG_LEVEL)
         return sturdy_asprintf("residuals are not normal (Shapiro-Wilk p = %.2g, skewness "
                                "%.2f), so the F distribution is only approximate",
