@@ -162,7 +162,9 @@ static void headline(tw *w)
             if (t->verdict == STURDY_VERDICT_NONE) continue;
             avail++;
             double pu = uv_p(&t->uv);
-            int uv_ok = isnan(pu) || (pu <= alpha) == (t->p <= alpha);
+            int f = t->verdict == STURDY_VERDICT_BOTH ||
+                    t->verdict == STURDY_VERDICT_CLASSICAL_ONLY;
+            int uv_ok = isnan(pu) || (pu <= alpha) == f;
             if (!isnan(pu)) with_uv++;
             if ((t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_NEITHER) &&
                 uv_ok)
@@ -199,7 +201,10 @@ static void headline(tw *w)
                 const sturdy_term_result *t = &r->resp[i].terms[k];
                 if (t->verdict == STURDY_VERDICT_NONE) continue;
                 double pu = uv_p(&t->uv);
-                int f = t->p <= alpha, rs = t->p_perm <= alpha;
+                int f = t->verdict == STURDY_VERDICT_BOTH ||
+                        t->verdict == STURDY_VERDICT_CLASSICAL_ONLY;
+                int rs = t->verdict == STURDY_VERDICT_BOTH ||
+                         t->verdict == STURDY_VERDICT_RESAMPLING_ONLY;
                 int u = isnan(pu) ? -1 : pu <= alpha;
                 if (f == rs && (u < 0 || u == f)) continue;
                 const char *why = f != rs && t->verdict_reason ? t->verdict_reason

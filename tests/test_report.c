@@ -166,6 +166,11 @@ static void fill_term(sturdy_term_result *t, char *label, char **fac, size_t nf,
     t->p_perm_holm = 0.04;
     t->verdict = STURDY_VERDICT_BOTH;
     t->boot = boot_vals;
+    t->uv = (sturdy_uv_result){ .wald = 6.25, .stat = 6.25, .df1 = df, .df2 = 7.5,
+                                .p = 0.037, .johansen = 1, .ats = 5.5, .ats_df1 = df,
+                                .ats_df2 = 6.5, .ats_p = 0.041, .exceed_wild = 20,
+                                .p_wild = 0.0021, .p_permuted = NAN, .p_perm = 0.0021,
+                                .p_perm_ci = { 0.0011, 0.0035 } };
 }
 
 static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result resp[2],
@@ -210,6 +215,11 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     terms1[2].ncf = (sturdy_pair){ NAN, NAN };
     terms1[2].verdict = STURDY_VERDICT_NONE;
     terms1[2].boot = NULL;
+    terms1[2].uv = (sturdy_uv_result){ .wald = NAN, .stat = NAN, .df1 = NAN, .df2 = NAN,
+                                       .p = NAN, .ats = NAN, .ats_df1 = NAN, .ats_df2 = NAN,
+                                       .ats_p = NAN, .p_wild = NAN, .p_permuted = NAN,
+                                       .p_perm = NAN, .p_perm_ci = { NAN, NAN },
+                                       .note = "cannot be tested: no residual df" };
 
     for (int k = 0; k < 3; k++) {
         terms2[k] = terms1[k];
@@ -218,6 +228,8 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
         terms2[k].straddles = 0;
         for (int e = 0; e < STURDY_NES; e++) terms2[k].ci_bca[e] = (sturdy_pair){ NAN, NAN };
         terms2[k].boot_note = "jackknife values are all equal";
+        terms2[k].uv = terms1[2].uv;
+        terms2[k].uv.note = "no residual degrees of freedom";
     }
     terms2[2].verdict = STURDY_VERDICT_NONE;
 
@@ -237,6 +249,7 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     g->skewness = 1.9; g->excess_kurtosis = 4.2;
     g->bf_f = 5.1; g->bf_df1 = 3; g->bf_df2 = 9; g->bf_p = 0.01;
     g->variance_ratio = 9.5;
+    g->spread_differs = 1; g->spread_reason = "Brown–Forsythe p = 0.01";
     g->noutliers = 2; g->outliers = outl;
 
     resp[1] = resp[0];
@@ -248,6 +261,7 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     g->sw_w = g->sw_p = NAN; g->sw_note = "fewer than 3 residuals";
     g->bf_f = g->bf_df1 = g->bf_df2 = g->bf_p = NAN; g->bf_note = "all deviations are zero";
     g->variance_ratio = NAN; g->vr_note = "a cell has one row";
+    g->spread_differs = 0; g->spread_reason = NULL;
     g->noutliers = 0; g->outliers = NULL;
 
     memset(r, 0, sizeof *r);
@@ -480,10 +494,21 @@ static void test_text(sturdy_result *r)
     CHECK("text: no colour by default", !esc);
     CHECK("text headline counts agreement", strstr(s, "3 of 4 tested terms") != NULL);
     CHECK("text headline names the disagreement with its reason",
-          strstr(s, "dose (yield): significant by the F-test only — residuals are") != NULL);
+          strstr(s, "dose (yield): significant by the F-test and the unequal-variance test "
+                    "only (unequal-variance p 0.0021) — residuals are") != NULL);
+    CHECK("text headline leads with unequal spreads",
+          strstr(s, "In short The cell spreads of yield differ (Brown–Forsythe p = 0.01).") &&
+          strstr(s, "2 of 2 terms significant at α = 0.05 — dose (p = 0.0021), mix"));
+    CHECK("text: unequal-variance column and its details",
+          strstr(s, "p unequal var") && strstr(s, "Welch–James F 6.25 on 1 and 7.5 df "
+                                               "(Johansen), p = 0.037; ANOVA-type p = 0.041"));
     CHECK("text: straddle advice -B", strstr(s, "-B 99999") && strstr(s, "(-B) before"));
-    CHECK("text: unequal variances → --flip", strstr(s, "rerun with --flip") != NULL);
-    CHECK("text: not normal → resampling", strstr(s, "rely on the resampling column") != NULL);
+    CHECK("text: unequal variances → the unequal-variance column, never --flip",
+          strstr(s, "Cell variances differ; read the unequal-variance column") &&
+          !strstr(s, "--flip"));
+    CHECK("text: not normal with unequal spreads → not the resampling column",
+          strstr(s, "The residuals are not normal and the cell spreads differ; read the "
+                    "unequal-variance column.") && !strstr(s, "rely on the resampling"));
     CHECK("text: outliers by row", strstr(s, "row 3 (line 4; dose=low, mix=a×b) at 3.4") &&
           strstr(s, "row 11 (line 13; dose=high, mix=a×b) at -3.9"));
     CHECK("text: absent values as —", strstr(s, "—") != NULL);
@@ -589,7 +614,7 @@ static void test_csv(const sturdy_result *r)
     int ok;
     CHECK_INT("csv records: header + 2 responses × 3 terms", csv_records(s, &nf, &ok), 7);
     CHECK("csv every record has the header's field count", ok);
-    CHECK_INT("csv fields per record", nf, 44);
+    CHECK_INT("csv fields per record", nf, 56);
     CHECK("csv quotes a field with a comma", strstr(s, "\n\"time, s\",dose,") != NULL);
     CHECK("csv quotes doubled and line break kept inside quotes",
           strstr(s, "\"cannot be tested:\nno \"\"residual\"\" df; not rearranged\"") != NULL);

@@ -3,11 +3,13 @@ and the robustness report). Invented property-test data with fixed seeds:
 
   unequal  3×2 design, 30 rows per cell, one cell with 8× the SD of the others: the
            Brown–Forsythe test (scipy.stats.levene(center='median') on the same cells,
-           live) must flag it and the text must advise --flip;
+           live) must flag it, the JSON must set diagnostics.spread_differs, and the
+           text must lead with the unequal spread and point to the unequal-variance
+           column, never to --flip (sign flipping does not hold α there);
   outlier  2×2 design, 10 rows per cell, two planted gross errors at known rows: the
            JSON must list exactly those rows (|externally studentized residual| > 3,
            common practice) with their lines and cells, and the text must name them;
-  clean    normal errors, equal variances: no --flip advice, no outliers, and the
+  clean    normal errors, equal variances: no spread advice, no outliers, and the
            headline says every term agrees;
   demo     the built-in demo: the headline names the disagreeing term and its verdict.
 """
@@ -65,12 +67,15 @@ def main():
                % bf["p"])
         rc, text, err = run(["check", path, "-y", "y", "-f", "a,b", "-B", "999",
                              "--bootstrap", "0"])
-        report(rc == 0 and "rerun with --flip" in text,
-               "unequal: the text advises 'rerun with --flip' (exit %d)" % rc)
-        rc, text, err = run(["check", path, "-y", "y", "-f", "a,b", "-B", "999",
-                             "--bootstrap", "0", "--flip"])
-        report(rc == 0 and "--flip is already on" in text and "rerun with --flip" not in text,
-               "unequal + --flip: the text says --flip is already on")
+        flat = " ".join(text.split())
+        report(rc == 0 and d["responses"][0]["diagnostics"]["spread_differs"] is True,
+               "unequal: JSON diagnostics.spread_differs is true (exit %d)" % rc)
+        head = flat.split("The run")[0]
+        report("The cell spreads of y differ" in head and "unequal-variance test" in head,
+               "unequal: the headline leads with the unequal spread and the unequal-variance "
+               "test")
+        report("read the unequal-variance column" in flat and "--flip" not in flat,
+               "unequal: the spread advice points to the unequal-variance column, not --flip")
 
         # --- planted outliers at data rows 7 and 23
         rows = []
@@ -115,8 +120,9 @@ def main():
                              "--bootstrap", "0"])
         report(agree and "All 3 tested terms reach the same conclusion" in text,
                "clean: every verdict agrees and the headline says all 3 agree")
-        report("rerun with --flip" not in text and not d["diagnostics"]["outliers"],
-               "clean: no --flip advice and no outliers")
+        report("cell spreads" not in text and "--flip" not in text and
+               d["diagnostics"]["spread_differs"] is False and not d["diagnostics"]["outliers"],
+               "clean: no spread advice and no outliers")
 
         # --- the demo's disagreement
         rc, js, err = run(["demo", "--format", "json"])
