@@ -39,12 +39,14 @@ Checks (the reference is named on every line):
      still there.
   6. Resampling (-B 20000; 2000 under STURDY_QUICK=1) on one 2x3 heteroscedastic
      dataset, --ss 3 and --ss 2 (whose main effects have another reduced model):
-     "p_wild" against an independent numpy wild bootstrap of W (Rademacher
-     signs on the reduced model's residuals / sqrt(1 - 1/n_c), added to the reduced
-     fit, W* with the cell variances of y*), "p_permuted" against a numpy Freedman–Lane
-     permutation of W (reduced-model residuals permuted over all rows), each with its
-     own RNG: agreement within a 99.9% two-sample binomial tolerance (printed); p_perm
-     is the p of the named scheme, replicates = B, p_perm = (1+exceed)/(1+B), p_perm_ci
+     "p_wild" (default run, and again under --spread-scheme permutation) against an
+     independent numpy wild bootstrap of W (Rademacher signs on the reduced model's
+     residuals / sqrt(1 - 1/n_c), added to the reduced fit, W* with the cell variances
+     of y*); "p_permuted" (run with --spread-scheme permutation, the only run that
+     computes it) against a numpy Freedman–Lane permutation of W (reduced-model
+     residuals permuted over all rows, added to the reduced fit); each with its own
+     RNG: agreement within a 99.9% two-sample binomial tolerance (printed). p_perm is
+     the p of the named scheme, replicates = B, p_perm = (1+exceed)/(1+B), p_perm_ci
      the 99% Clopper–Pearson interval of exceed out of B (scipy beta quantiles).
 The binary is $STURDY_BIN (default ./sturdy). One line per check, "N passed, N failed"
 last, exit 1 on any failure. A missing reference tool (Rscript, numpy, scipy, pandas,
@@ -138,9 +140,9 @@ def write_csv(df, folder, name, factors, block=None):
 
 # ---------------------------------------------------------------- running sturdy
 
-def run_sturdy(path, y, factors, ss=3, covs=(), block=None, B=0):
+def run_sturdy(path, y, factors, ss=3, covs=(), block=None, B=0, extra=()):
     args = [BIN, "check", path, "-y", y, "-f", ",".join(factors), "--format", "json",
-            "-B", str(B), "--bootstrap", "0", "--ss", str(ss)]
+            "-B", str(B), "--bootstrap", "0", "--ss", str(ss)] + list(extra)
     if covs:
         args += ["--covariates", ",".join(covs)]
     if block:
@@ -690,83 +692,91 @@ def check_resampling(folder):
     df, _ = make_factorial(637, factors, levels, 3, 9, yname="height", effect=0.9,
                            sd_range=(0.3, 3.0))
     path, df = write_csv(df, folder, name, factors)
+    cells = Cells(df, factors, "height")
+    terms = factor_terms(2)
+    n = len(df)
+    sq = np.sqrt(1.0 - 1.0 / cells.n[cells.idx])
+    N = np.diag(cells.n)
     for ss in (3, 2):  # Type II main effects have another reduced model
-        out, why, _ = run_sturdy(path, "height", factors, ss=ss, B=B_MC)
-        if out is None:
-            report(False, "%s --ss %d -B %d: sturdy failed: %s" % (name, ss, B_MC, why))
-            continue
-        uv = uv_terms(out, name)
-        cells = Cells(df, factors, "height")
-        terms = factor_terms(2)
-        n = len(df)
-        sq = np.sqrt(1.0 - 1.0 / cells.n[cells.idx])
+        # the default run (--spread-scheme wild) and one with the studentised permutation
+        runs = {}
+        for scheme in ("wild", "permutation"):
+            extra = ("--spread-scheme", scheme) if scheme != "wild" else ()  # wild: default
+            out, why, _ = run_sturdy(path, "height", factors, ss=ss, B=B_MC, extra=extra)
+            if out is None:
+                report(False, "%s --ss %d -B %d %s: sturdy failed: %s"
+                       % (name, ss, B_MC, " ".join(extra), why))
+                continue
+            runs[scheme] = uv_terms(out, "%s %s" % (name, " ".join(extra)))
         rng = np.random.default_rng(60600 + ss)
         for t in terms:
             tn = term_name(factors, t)
-            tag = "%s --ss %d -B %d %s unequal_variance" % (name, ss, B_MC, tn)
             L, XR = hypothesis_rows(cells, terms, t, ss)
-            S0 = cells.s2 / cells.n
-            W = float(wald_cells(L, cells.ybar[None], S0[None])[0])
-            # reduced (restricted) fit in cell space, N-weighted
-            N = np.diag(cells.n)
-            fitc = XR @ np.linalg.solve(XR.T @ N @ XR, XR.T @ N @ cells.ybar)
-            fit = fitc[cells.idx]
+            W = float(wald_cells(L, cells.ybar[None], (cells.s2 / cells.n)[None])[0])
+            # the reduced (restricted) model's fit: cell space, cell-size weighted
+            fit = (XR @ np.linalg.solve(XR.T @ N @ XR, XR.T @ N @ cells.ybar))[cells.idx]
             e = cells.y - fit
             signs = rng.choice([-1.0, 1.0], size=(B_MC, n))
-            Ystar = fit[None] + signs * (e / sq)[None]
-            yb, s2 = cells.summaries(Ystar)
+            yb, s2 = cells.summaries(fit[None] + signs * (e / sq)[None])
             Wb = wald_cells(L, yb, s2 / cells.n)
             p_wild = (1 + int(np.sum(Wb >= W * (1 - TIE_RTOL)))) / (1 + B_MC)
             perm = np.argsort(rng.random((B_MC, n)), axis=1)
-            Ystar = fit[None] + e[perm]
-            yb, s2 = cells.summaries(Ystar)
+            yb, s2 = cells.summaries(fit[None] + e[perm])
             Wp = wald_cells(L, yb, s2 / cells.n)
             p_fl = (1 + int(np.sum(Wp >= W * (1 - TIE_RTOL)))) / (1 + B_MC)
-            if tn not in uv:
-                report(False, "%s: term missing from sturdy's output" % tag)
-                continue
-            _, u = uv[tn]
-            if u is None:  # reported by uv_terms
-                continue
-            close(tag + " wald", u.get("wald"), W,
-                  "numpy cell-space W, Type %s" % ("I" * ss))
-            for key, mine, src in (
-                    ("p_wild", p_wild, "numpy wild bootstrap, Rademacher, restricted "
-                     "residuals/sqrt(1-1/n_c)"),
-                    ("p_permuted", p_fl, "numpy Freedman-Lane permutation of W")):
-                obs = u.get(key)
-                if not isinstance(obs, float):
-                    report(False, "%s %s: observed %r, expected about %r [%s]"
-                           % (tag, key, obs, mine, src))
+            for scheme, uv in runs.items():
+                tag = "%s --ss %d -B %d %s %s unequal_variance" \
+                    % (name, ss, B_MC, "(default scheme)" if scheme == "wild" else
+                       "--spread-scheme " + scheme, tn)
+                if tn not in uv:
+                    report(False, "%s: term missing from sturdy's output" % tag)
                     continue
-                # two independent estimates (1+X)/(1+B), X ~ Bin(B, p): the difference has
-                # sd sqrt(2 p (1-p) / B)·B/(1+B); p estimated by the pooled value
-                pbar = (obs + mine) / 2
-                tol = MC_Z * math.sqrt(2 * pbar * (1 - pbar) / B_MC) * B_MC / (1 + B_MC)
-                report(abs(obs - mine) <= tol,
-                       "%s %s: observed %r expected %r |diff| %.3g tol %.3g "
-                       "(99.9%% two-sample binomial, z=%.4f, B=%d each) [%s]"
-                       % (tag, key, obs, mine, abs(obs - mine), tol, MC_Z, B_MC, src))
-            scheme = u.get("scheme")
-            exact(tag + " replicates", u.get("replicates"), B_MC, "-B")
-            want = {"wild-bootstrap": u.get("p_wild"), "permutation": u.get("p_permuted")}
-            report(scheme in want and u.get("p_perm") == want[scheme],
-                   "%s p_perm: observed %r scheme %r p_wild %r p_permuted %r; expected "
-                   "p_perm = the named scheme's p [notes/uv_schema.md]"
-                   % (tag, u.get("p_perm"), scheme, u.get("p_wild"), u.get("p_permuted")))
-            k = u.get("exceed")
-            if isinstance(k, int):
-                close(tag + " p_perm = (1+exceed)/(1+B)", u.get("p_perm"),
-                      (1 + k) / (1 + B_MC), "Phipson & Smyth 2010", rel=1e-12)
-                lo = 0.0 if k == 0 else float(st.beta.ppf(0.005, k, B_MC - k + 1))
-                hi = 1.0 if k == B_MC else float(st.beta.ppf(0.995, k + 1, B_MC - k))
-                ci = u.get("p_perm_ci") or [None, None]
-                close(tag + " p_perm_ci lo", ci[0], lo, "99% Clopper-Pearson, scipy beta.ppf",
-                      rel=1e-8, floor=1e-12)
-                close(tag + " p_perm_ci hi", ci[1], hi, "99% Clopper-Pearson, scipy beta.ppf",
-                      rel=1e-8, floor=1e-12)
-            else:
-                report(False, "%s exceed: observed %r, expected an integer" % (tag, k))
+                _, u = uv[tn]
+                if u is None:  # reported by uv_terms
+                    continue
+                close(tag + " wald", u.get("wald"), W,
+                      "numpy cell-space W, Type %s" % ("I" * ss))
+                checks = [("p_wild", p_wild, "numpy wild bootstrap, Rademacher, restricted "
+                           "residuals/sqrt(1-1/n_c)")]
+                if scheme == "permutation":
+                    checks.append(("p_permuted", p_fl,
+                                   "numpy Freedman-Lane permutation of W"))
+                for key, mine, src in checks:
+                    obs = u.get(key)
+                    if not isinstance(obs, float):
+                        report(False, "%s %s: observed %r, expected about %r [%s]"
+                               % (tag, key, obs, mine, src))
+                        continue
+                    # two independent estimates (1+X)/(1+B), X ~ Bin(B, p): the
+                    # difference has sd sqrt(2 p (1-p) / B)·B/(1+B); p by the pooled value
+                    pbar = (obs + mine) / 2
+                    tol = MC_Z * math.sqrt(2 * pbar * (1 - pbar) / B_MC) * B_MC / (1 + B_MC)
+                    report(abs(obs - mine) <= tol,
+                           "%s %s: observed %r expected %r |diff| %.3g tol %.3g "
+                           "(99.9%% two-sample binomial, z=%.4f, B=%d each) [%s]"
+                           % (tag, key, obs, mine, abs(obs - mine), tol, MC_Z, B_MC, src))
+                exact(tag + " replicates", u.get("replicates"), B_MC, "-B")
+                key = {"wild": "p_wild", "permutation": "p_permuted"}[scheme]
+                label = {"wild": "wild-bootstrap", "permutation": "permutation"}[scheme]
+                report(u.get("scheme") == label and u.get("p_perm") is not None and
+                       u.get("p_perm") == u.get(key),
+                       "%s p_perm: observed %r scheme %r %s %r; expected scheme %r and "
+                       "p_perm = %s [notes/uv_schema.md, --spread-scheme]"
+                       % (tag, u.get("p_perm"), u.get("scheme"), key, u.get(key), label,
+                          key))
+                k = u.get("exceed")
+                if isinstance(k, int):
+                    close(tag + " p_perm = (1+exceed)/(1+B)", u.get("p_perm"),
+                          (1 + k) / (1 + B_MC), "Phipson & Smyth 2010", rel=1e-12)
+                    lo = 0.0 if k == 0 else float(st.beta.ppf(0.005, k, B_MC - k + 1))
+                    hi = 1.0 if k == B_MC else float(st.beta.ppf(0.995, k + 1, B_MC - k))
+                    ci = u.get("p_perm_ci") or [None, None]
+                    close(tag + " p_perm_ci lo", ci[0], lo,
+                          "99% Clopper-Pearson, scipy beta.ppf", rel=1e-8, floor=1e-12)
+                    close(tag + " p_perm_ci hi", ci[1], hi,
+                          "99% Clopper-Pearson, scipy beta.ppf", rel=1e-8, floor=1e-12)
+                else:
+                    report(False, "%s exceed: observed %r, expected an integer" % (tag, k))
 
 
 def main():
