@@ -177,6 +177,7 @@ void sturdy_result_free(sturdy_result *r)
         free(rr->residual);
         free(rr->diag.sw_note);
         free(rr->diag.bf_note);
+        free(rr->diag.bfm_note);
         free(rr->diag.vr_note);
         free(rr->diag.spread_reason);
         free(rr->diag.outliers);
@@ -387,9 +388,6 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
         }
     if ((st = holm(r, err)))
         return st;
-    for (size_t ri = 0; ri < r->nresp; ri++)
-        if ((st = sturdy_spread_rule(&r->resp[ri], r->opts.alpha, err)))
-            return st;
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if ((st = sturdy_verdict_term(&r->resp[ri], &r->resp[ri].terms[t], r->opts.alpha,

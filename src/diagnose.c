@@ -226,9 +226,11 @@ static double median_sorted_in_place(double *v, size_t m)
     return m % 2 ? v[m / 2] : (v[m / 2 - 1] + v[m / 2]) / 2.0;
 }
 
-sturdy_status sturdy_brown_forsythe(const double *x, const size_t *group, size_t n,
-                                    size_t ngroups, double *f, double *df1, double *df2,
-                                    double *p, char *err)
+/* Both forms; drop_zero removes, in each group of odd size, one row equal to the median
+ * (its deviation is 0 by construction). */
+static sturdy_status bf_core(const double *x, const size_t *group, size_t n, size_t ngroups,
+                             int drop_zero, double *f, double *df1, double *df2, double *p,
+                             char *err)
 {
     char msg[STURDY_ERR_LEN];
     if (ngroups == 0) {
@@ -279,26 +281,62 @@ sturdy_status sturdy_brown_forsythe(const double *x, const size_t *group, size_t
         st = STURDY_EMODEL;
         goto done;
     }
-    /* One-way ANOVA on z = |x − median of its group| (Brown & Forsythe 1974). */
+    /* One-way ANOVA on z = |x − median of its group| (Brown & Forsythe 1974), without
+     * the structural zeros when drop_zero. */
+    size_t *cnt = calloc(ngroups, sizeof *cnt);
+    unsigned char *skip = calloc(n ? n : 1, 1), *dropped = calloc(ngroups, 1);
+    if (!cnt || !skip || !dropped) {
+        free(cnt); free(skip); free(dropped);
+        set_err(err, "Brown-Forsythe: out of memory");
+        st = STURDY_EINTERNAL;
+        goto done;
+    }
+    for (size_t i = 0; i < n; i++) {
+        size_t g = group[i], m = start[g + 1] - start[g];
+        if (drop_zero && m % 2 == 1 && !dropped[g] && x[i] == med[g]) {
+            dropped[g] = 1;
+            skip[i] = 1;
+            continue;
+        }
+        cnt[g]++;
+    }
+    size_t nn = 0, kk = 0;
+    for (size_t g = 0; g < ngroups; g++) {
+        nn += cnt[g];
+        kk += cnt[g] > 0;
+    }
     double ztot = 0.0;
     for (size_t i = 0; i < n; i++) {
+        if (fabs(x[i]) > xmax) xmax = fabs(x[i]);
+        if (skip[i]) continue;
         double z = fabs(x[i] - med[group[i]]);
         zsum[group[i]] += z;
         ztot += z;
-        if (fabs(x[i]) > xmax) xmax = fabs(x[i]);
     }
-    double zbar = ztot / (double)n, ssb = 0.0, ssw = 0.0;
+    double ssb = 0.0, ssw = 0.0, zbar = nn ? ztot / (double)nn : 0.0;
     for (size_t g = 0; g < ngroups; g++) {
-        size_t m = start[g + 1] - start[g];
-        if (m == 0) continue;
-        double d = zsum[g] / (double)m - zbar;
-        ssb += (double)m * d * d;
+        if (cnt[g] == 0) continue;
+        double d = zsum[g] / (double)cnt[g] - zbar;
+        ssb += (double)cnt[g] * d * d;
     }
     for (size_t i = 0; i < n; i++) {
+        if (skip[i]) continue;
         size_t g = group[i];
-        double d = fabs(x[i] - med[g]) - zsum[g] / (double)(start[g + 1] - start[g]);
+        double d = fabs(x[i] - med[g]) - zsum[g] / (double)cnt[g];
         ssw += d * d;
     }
+    free(cnt); free(skip); free(dropped);
+    if (kk < 2 || nn <= kk) {
+        snprintf(msg, sizeof msg,
+                 "Brown-Forsythe needs at least 2 non-empty groups and more rows than "
+                 "groups (%zu groups, %zu rows%s)", kk, nn,
+                 drop_zero ? " once the zero deviations are set aside" : "");
+        set_err(err, msg);
+        st = STURDY_EMODEL;
+        goto done;
+    }
+    n = nn;
+    k = kk;
     double noise = BF_NOISE * xmax;
     if (ssw <= (double)n * noise * noise) {
         set_err(err, "Brown-Forsythe: the deviations from the group medians do not vary "
@@ -320,6 +358,20 @@ done:
     free(med);
     free(zsum);
     return st;
+}
+
+sturdy_status sturdy_brown_forsythe(const double *x, const size_t *group, size_t n,
+                                    size_t ngroups, double *f, double *df1, double *df2,
+                                    double *p, char *err)
+{
+    return bf_core(x, group, n, ngroups, 0, f, df1, df2, p, err);
+}
+
+sturdy_status sturdy_brown_forsythe_modified(const double *x, const size_t *group, size_t n,
+                                             size_t ngroups, double *f, double *df1,
+                                             double *df2, double *p, char *err)
+{
+    return bf_core(x, group, n, ngroups, 1, f, df1, df2, p, err);
 }
 
 /* ---------------- studentized residuals ---------------- */

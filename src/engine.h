@@ -69,9 +69,6 @@ sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, ch
 sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
                                        sturdy_response_result *resp, char *err);
 
-/* The second part of the spread rule (residuals.c), once every p-value is in. */
-sturdy_status sturdy_spread_rule(sturdy_response_result *resp, double alpha, char *err);
-
 /* Verdict of a finished term at level alpha, with its one-line reason. */
 sturdy_status sturdy_verdict_term(const sturdy_response_result *resp, sturdy_term_result *t,
                                   double alpha, char *err);

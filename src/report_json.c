@@ -373,6 +373,13 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_num(w, "p", g->bf_p);
     jw_str(w, "note", g->bf_note);
     jw_close(w, '}');
+    jw_open(w, "brown_forsythe_modified", '{');
+    jw_num(w, "f", g->bfm_f);
+    jw_num(w, "df1", g->bfm_df1);
+    jw_num(w, "df2", g->bfm_df2);
+    jw_num(w, "p", g->bfm_p);
+    jw_str(w, "note", g->bfm_note);
+    jw_close(w, '}');
     jw_bool(w, "spread_differs", g->spread_differs);
     jw_str(w, "spread_reason", g->spread_reason);
     jw_num(w, "variance_ratio", g->variance_ratio);

@@ -84,10 +84,12 @@ static const char *verdict_reason_absent(const sturdy_result *r, const sturdy_te
 #define TERM_NAME_ARGS(w, rr, t) (t)->label, (w)->r->nresp > 1 ? " (" : "", \
     (w)->r->nresp > 1 && (rr)->name ? (rr)->name : "", (w)->r->nresp > 1 ? ")" : ""
 
-/* The unequal-variance p a term is judged by: resampled, else approximate F. */
+/* The unequal-variance p a term is judged by: the approximate-F p (Johansen 1980 for
+ * factor-only models), the best calibrated of the unequal-variance tests in the README's
+ * table; the resampled versions run liberal in cells of three rows. */
 static double uv_p(const sturdy_uv_result *u)
 {
-    return !isnan(u->p_perm) ? u->p_perm : u->p;
+    return u->p;
 }
 
 /* When a response's cell spreads differ (diagnostics.spread_differs), the headline leads
@@ -211,7 +213,11 @@ static void headline(tw *w)
                                   : r->resp[i].diag.spread_differs
                                       ? "the cell spreads differ, and only the "
                                         "unequal-variance test holds α then"
-                                      : "";
+                                      : "only the unequal-variance test allows for unequal "
+                                        "cell variances; the spread check does not flag "
+                                        "them, but it misses many in small cells, while "
+                                        "with equal spreads the F-based tests are the "
+                                        "more exact";
                 size_t wl = strlen(why);
                 const char *by = tests_finding(f, rs, u);
                 char pw[40] = "";
@@ -304,17 +310,16 @@ static void about(tw *w)
     sturdy_buf_printf(&s, "Welch–James statistic with %s (Welch 1951; "
                       "Johansen 1980), ", r->uv_hc3 ? "HC3 variances (Long & Ervin 2000)"
                                                     : "each cell's own variance");
-    if (r->nperm == 0)
-        sturdy_buf_printf(&s, "p from %s (marked *)", r->uv_hc3 ? "F(df, residual df)"
-                                                              : "Johansen's approximate F");
-    else if (r->spread_scheme == STURDY_SPREAD_PERMUTATION)
-        sturdy_buf_puts(&s, "p by the same rearrangements (Pauly, Brunner & Konietschke "
-                            "2015)");
-    else
-        sturdy_buf_printf(&s, "p by %llu wild-bootstrap replicates (Davidson & Flachaire "
-                          "2008)", (unsigned long long)r->nperm);
-    sturdy_buf_puts(&s, "; it holds α when cell variances differ, where F and its "
-                        "rearrangements do not");
+    sturdy_buf_printf(&s, "p from %s; it holds α when cell variances differ, where F and "
+                      "its rearrangements do not", r->uv_hc3 ? "F(df, residual df)"
+                                                             : "Johansen's approximate F");
+    if (r->nperm > 0)
+        sturdy_buf_printf(&s, ". Under each term also its %s p (%s), which runs liberal in "
+                          "cells of 3 rows", r->spread_scheme == STURDY_SPREAD_PERMUTATION
+                                                 ? "permuted" : "wild-bootstrap",
+                          r->spread_scheme == STURDY_SPREAD_PERMUTATION
+                              ? "Pauly, Brunner & Konietschke 2015"
+                              : "Davidson & Flachaire 2008");
     tw_labelled(w, "unequal var", s.data);
     s.len = 0;
     static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
@@ -367,16 +372,12 @@ static const char *term_cell(tw *w, const char *label, int width)
     return NULL;
 }
 
-/* The unequal-variance p of the table: the resampled one (the run's scheme), else the
- * approximate-F one, marked "*" (its footnote-free legend is in "The run"), else "—". */
+/* The unequal-variance p of the table (uv_p), or "—" with the reason in a footnote. */
 static void uv_p_cell(tw *w, const sturdy_term_result *t, char *out)
 {
     const sturdy_uv_result *u = &t->uv;
-    if (!isnan(u->p_perm)) {
-        tw_fmt_p(u->p_perm, out);
-    } else if (!isnan(u->p)) {
+    if (!isnan(u->p)) {
         tw_fmt_p(u->p, out);
-        strcat(out, "*");
     } else if (u->note && !isnan(t->p)) {
         snprintf(out, 32, "— [%zu]", tw_footnote(w, u->note));
     } else {
@@ -402,9 +403,14 @@ static void uv_details(tw *w, const sturdy_term_result *t)
         sturdy_buf_puts(&s, "; ANOVA-type ");
         p_words(&s, u->ats_p);
     }
-    if (!isnan(u->p_perm) && !w->r->exact) {
-        tw_fmt_range(u->p_perm_ci, tw_fmt_pr, x);
-        sturdy_buf_printf(&s, "; resampled p: 99%% range %s", x);
+    if (!isnan(u->p_perm)) {
+        sturdy_buf_printf(&s, "; %s ", w->r->spread_scheme == STURDY_SPREAD_PERMUTATION
+                                           ? "permuted" : "wild-bootstrap");
+        p_words(&s, u->p_perm);
+        if (!(w->r->exact && w->r->spread_scheme == STURDY_SPREAD_PERMUTATION)) {
+            tw_fmt_range(u->p_perm_ci, tw_fmt_pr, x);
+            sturdy_buf_printf(&s, " (99%% range %s)", x);
+        }
     }
     tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s.data ? s.data : "");
     if (s.failed) w->b->failed = 1;
@@ -654,6 +660,10 @@ static void check_spread(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
     } else {
         sturdy_buf_printf(s, "Brown–Forsythe not available (%s)",
                           g->bf_note ? g->bf_note : "not computed");
+    }
+    if (!isnan(g->bfm_p)) {
+        sturdy_buf_puts(s, "; without structural zeros (Hines & O'Hara Hines 2000) ");
+        p_words(s, g->bfm_p);
     }
     if (!isnan(g->variance_ratio)) {
         tw_fmt_g(g->variance_ratio, 3, x);

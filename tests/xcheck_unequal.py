@@ -167,7 +167,7 @@ def uv_terms(out, tag):
         uv = t.get("unequal_variance")
         if not isinstance(uv, dict):
             report(False, "%s %s: no unequal_variance object in the JSON (%r) [schema, "
-                   "notes/uv_schema.md]" % (tag, t["term"], uv))
+                   "README, JSON schema]" % (tag, t["term"], uv))
             uv = None
         res[t["term"]] = (t, uv)
     return res
@@ -457,7 +457,7 @@ def check_one_factor(folder):
                   "statsmodels anova_oneway use_var='unequal'", floor=fl)
         close(tag + " wald", u.get("wald"), hc2, "statsmodels OLS wald_test HC2")
         exact(tag + " reference/covariance", (u.get("reference"), u.get("covariance")),
-              ("johansen", "cell-variances"), "notes/uv_schema.md, factor-only")
+              ("johansen", "cell-variances"), "README, JSON schema, factor-only")
 
 
 # ---------------------------------------------------------------- checks 2 and 3
@@ -520,7 +520,7 @@ def check_factorial(folder):
                       "Johansen 1980 r(r+2)/(3A), numpy")
                 close_p(tag + " p", u.get("p"), ref["p"], "scipy.stats.f.sf at Johansen F")
                 exact(tag + " reference/covariance", (u.get("reference"), u.get("covariance")),
-                      ("johansen", "cell-variances"), "notes/uv_schema.md, factor-only")
+                      ("johansen", "cell-variances"), "README, JSON schema, factor-only")
                 if ss == 3:
                     a = ats(cells, t)
                     got = u.get("ats")
@@ -601,7 +601,7 @@ def check_hc3(folder):
                 close_p(tag + " p", u.get("p"), float(st.f.sf(W / r, r, dfe)),
                         "scipy.stats.f.sf(W/df1, df1, residual df)")
                 exact(tag + " reference/covariance", (u.get("reference"), u.get("covariance")),
-                      ("residual-df", "HC3"), "notes/uv_schema.md, with covariates")
+                      ("residual-df", "HC3"), "README, JSON schema, with covariates")
 
     # an additive block (firing lot) beside two factors
     name, factors = "mulch_block", ["mulch", "feed"]
@@ -641,7 +641,7 @@ def check_hc3(folder):
         close_p(tag + " p", u.get("p"), float(st.f.sf(Wsm / r, r, dfe)),
                 "scipy.stats.f.sf(W/df1, df1, residual df)")
         exact(tag + " reference/covariance", (u.get("reference"), u.get("covariance")),
-              ("residual-df", "HC3"), "notes/uv_schema.md, with a block")
+              ("residual-df", "HC3"), "README, JSON schema, with a block")
 
 
 # ---------------------------------------------------------------- check 5: declines
@@ -761,7 +761,7 @@ def check_resampling(folder):
                 report(u.get("scheme") == label and u.get("p_perm") is not None and
                        u.get("p_perm") == u.get(key),
                        "%s p_perm: observed %r scheme %r %s %r; expected scheme %r and "
-                       "p_perm = %s [notes/uv_schema.md, --spread-scheme]"
+                       "p_perm = %s [README, JSON schema, --spread-scheme]"
                        % (tag, u.get("p_perm"), u.get("scheme"), key, u.get(key), label,
                           key))
                 k = u.get("exceed")
@@ -779,8 +779,47 @@ def check_resampling(folder):
                     report(False, "%s exceed: observed %r, expected an integer" % (tag, k))
 
 
+def check_bf_modified(folder):
+    """diagnostics.brown_forsythe_modified against scipy.stats.f_oneway on the absolute
+    deviations from each cell's median with, in each cell of odd size, the one zero
+    deviation of its median value set aside (Hines & O'Hara Hines 2000); plain
+    brown_forsythe against scipy.stats.levene(center='median')."""
+    for seed, levels, lo, hi in ((31, [["a1", "a2"], ["b1", "b2", "b3"]], 2, 9),
+                                 (32, [["p", "q", "r"], ["u", "v"]], 3, 8),
+                                 (33, [["x1", "x2"], ["y1", "y2"]], 1, 5)):
+        df, _ = make_factorial(seed, ["A", "B"], levels, lo, hi)
+        path, df = write_csv(df, folder, "bfm%d" % seed, ["A", "B"])
+        out, why, _ = run_sturdy(path, "y", ["A", "B"])
+        tag = "Brown-Forsythe seed %d" % seed
+        if out is None:
+            report(False, "%s: sturdy failed: %s" % (tag, why))
+            continue
+        dg = out["responses"][0]["diagnostics"]
+        groups, reduced = [], []
+        for _, g in df.groupby(["A", "B"]):
+            v = np.sort(g["y"].to_numpy(dtype=float))
+            groups.append(v)
+            z = np.abs(v - np.median(v))
+            if len(v) % 2 == 1:
+                z = np.delete(z, len(v) // 2)
+            if len(z):
+                reduced.append(z)
+        ref = st.levene(*groups, center="median")
+        close(tag + " plain F", dg["brown_forsythe"]["f"], ref.statistic,
+              "scipy.stats.levene center='median'", rel=1e-9)
+        ref = st.f_oneway(*reduced)
+        close(tag + " without structural zeros F", dg["brown_forsythe_modified"]["f"],
+              ref.statistic, "scipy.stats.f_oneway on |y - cell median|, the median's zero "
+              "set aside per odd cell", rel=1e-9)
+        close(tag + " without structural zeros p", dg["brown_forsythe_modified"]["p"],
+              ref.pvalue, "scipy.stats.f_oneway", rel=1e-8, floor=1e-12)
+        exact(tag + " spread_differs follows p < 0.05", dg["spread_differs"],
+              bool(ref.pvalue < 0.05), "the documented rule")
+
+
 def main():
     with tempfile.TemporaryDirectory() as folder:
+        check_bf_modified(folder)
         check_one_factor(folder)
         check_factorial(folder)
         check_hc3(folder)

@@ -148,6 +148,7 @@ typedef struct {
     double sw_w, sw_p; char *sw_note;
     double skewness, excess_kurtosis;
     double bf_f, bf_df1, bf_df2, bf_p; char *bf_note;
+    double bfm_f, bfm_df1, bfm_df2, bfm_p; char *bfm_note; /* without structural zeros */
     double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
     size_t noutliers; sturdy_outlier *outliers;
     int spread_differs;          /* the rule of unequal.c: cell spreads differ enough

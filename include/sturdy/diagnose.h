@@ -34,6 +34,15 @@ sturdy_status sturdy_brown_forsythe(const double *x, const size_t *group, size_t
                                     size_t ngroups, double *f, double *df1, double *df2,
                                     double *p, char *err);
 
+/* The same test with the structural zeros removed (Hines & O'Hara Hines 2000, Biometrics
+ * 56): in each group of odd size one row equal to the group's median, whose deviation is
+ * 0 by construction, is set aside before the ANOVA (a group of one row then drops out).
+ * Those zeros pull the small groups' mean deviations down and cost the test power in
+ * small cells. Same outputs and statuses as sturdy_brown_forsythe. */
+sturdy_status sturdy_brown_forsythe_modified(const double *x, const size_t *group, size_t n,
+                                             size_t ngroups, double *f, double *df1,
+                                             double *df2, double *p, char *err);
+
 /* Internally and externally studentized residuals from residuals e, leverages h and the
  * residual degrees of freedom df (= n − rank):
  *   s² = Σe²/df,  r_i = e_i / (s √(1−h_i)),
