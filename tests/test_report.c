@@ -495,13 +495,15 @@ static void test_text(sturdy_result *r)
     CHECK("text headline counts agreement", strstr(s, "3 of 4 tested terms") != NULL);
     CHECK("text headline names the disagreement with its reason",
           strstr(s, "dose (yield): significant by the F-test and the unequal-variance test "
-                    "only (unequal-variance p 0.0021) — residuals are") != NULL);
+                    "only (unequal-variance p 0.037) — residuals are") != NULL);
     CHECK("text headline leads with unequal spreads",
           strstr(s, "In short The cell spreads of yield differ (Brown–Forsythe p = 0.01).") &&
-          strstr(s, "2 of 2 terms significant at α = 0.05 — dose (p = 0.0021), mix"));
+          strstr(s, "2 of 2 terms significant at α = 0.05 — dose (p = 0.037), mix"));
     CHECK("text: unequal-variance column and its details",
           strstr(s, "p unequal var") && strstr(s, "Welch–James F 6.25 on 1 and 7.5 df "
-                                               "(Johansen), p = 0.037; ANOVA-type p = 0.041"));
+                                               "(Johansen), p = 0.037; ANOVA-type p = 0.041; "
+                                               "wild-bootstrap p = 0.0021 (99% range "
+                                               "0.0011–0.0035)"));
     CHECK("text: straddle advice -B", strstr(s, "-B 99999") && strstr(s, "(-B) before"));
     CHECK("text: unequal variances → the unequal-variance column, never --flip",
           strstr(s, "Cell variances differ; read the unequal-variance column") &&
