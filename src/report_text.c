@@ -215,9 +215,7 @@ static void headline(tw *w)
                                         "unequal-variance test holds α then"
                                       : "only the unequal-variance test allows for unequal "
                                         "cell variances; the spread check does not flag "
-                                        "them, but it misses many in small cells, while "
-                                        "with equal spreads the F-based tests are the "
-                                        "more exact";
+                                        "them here, though it misses many in small cells";
                 size_t wl = strlen(why);
                 const char *by = tests_finding(f, rs, u);
                 char pw[40] = "";
@@ -465,7 +463,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_put(w, "  "); tw_cell(w, "p F-test", W_P, 1);
     tw_put(w, "  "); tw_cell(w, "p resampled", W_PP, 1);
     tw_put(w, "  "); tw_cell(w, "p unequal var", W_UV, 1);
-    tw_put(w, "  significant by");
+    tw_put(w, "  F vs resampled");
     tw_style(w, "0");
     tw_nl(w);
     for (size_t k = 0; k < rr->nterms; k++) {

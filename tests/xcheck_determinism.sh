@@ -91,6 +91,7 @@ for d in three cov; do
         compare_threads "$d-ter-braak" $args --method ter-braak
         compare_threads "$d-raw" $args --method raw
         compare_threads "$d-flip" $args --flip
+        compare_threads "$d-spread-perm" $args --spread-scheme permutation
         # cells needs a model without covariates: the covariate set uses wild instead
         if [ "$d" = three ]; then
             compare_threads "$d-cells" $args --bootstrap-scheme cells

@@ -47,6 +47,8 @@ run_case() { # name data args...
 run_case demo demo.csv -y build_min -f runner,cache,tests -B 2999 --bootstrap 300
 run_case cov cov.csv -y wear,gloss -f site,coat --covariates thick --block lot -B 1999 --bootstrap 250 --ss 2
 run_case flip demo.csv -y build_min -f runner,cache,tests -B 999 --bootstrap 200 --flip --method ter-braak
+# the unequal-variance test permuted with the run's rearrangements (blocks, covariate: HC3)
+run_case spread-perm cov.csv -y wear,gloss -f site,coat --covariates thick --block lot -B 999 --bootstrap 0 --spread-scheme permutation
 
 # refusals: each names the offending file, exits 2 and writes nothing
 refuse() { # label expected-fragment parts...

@@ -46,7 +46,8 @@ sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err)
         return st ? st : (sturdy_status)worst;
     }
     size_t nt = r->nresp ? r->resp[0].nterms : 0, k = r->nresp * nt;
-    uint64_t *mine_c = calloc(2 * k + 1, sizeof *mine_c), *sum = calloc(2 * k + 1, sizeof *sum);
+    /* four counts per term: exceed, exceed_fwer, and the unequal-variance test's two */
+    uint64_t *mine_c = calloc(4 * k + 1, sizeof *mine_c), *sum = calloc(4 * k + 1, sizeof *sum);
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
     int ok = mine_c && sum && counts && displs, all_ok = 0;
@@ -60,8 +61,10 @@ sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err)
         for (size_t t = 0; t < nt; t++) {
             mine_c[ri * nt + t] = r->resp[ri].terms[t].exceed;
             mine_c[k + ri * nt + t] = r->resp[ri].terms[t].exceed_fwer;
+            mine_c[2 * k + ri * nt + t] = r->resp[ri].terms[t].uv.exceed_wild;
+            mine_c[3 * k + ri * nt + t] = r->resp[ri].terms[t].uv.exceed_perm;
         }
-    MPI_Reduce(mine_c, sum, (int)(2 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
+    MPI_Reduce(mine_c, sum, (int)(4 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
     /* every rank's replicate slice, in rank order, lands at its own place on rank 0 */
     for (int q = 0; q < mpi_size_; q++) {
         uint64_t lo = (uint64_t)((sturdy_u128)r->nboot * (uint64_t)q / (uint64_t)mpi_size_);
@@ -89,6 +92,8 @@ sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err)
             for (size_t t = 0; t < nt; t++) {
                 r->resp[ri].terms[t].exceed = sum[ri * nt + t];
                 r->resp[ri].terms[t].exceed_fwer = sum[k + ri * nt + t];
+                r->resp[ri].terms[t].uv.exceed_wild = sum[2 * k + ri * nt + t];
+                r->resp[ri].terms[t].uv.exceed_perm = sum[3 * k + ri * nt + t];
             }
         r->perm_done = r->nperm;
         r->boot_done = r->nboot;
