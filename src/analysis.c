@@ -43,7 +43,7 @@ sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown --method");
     if (o->boot_scheme < STURDY_BOOT_DEFAULT || o->boot_scheme > STURDY_BOOT_CELLS)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown --bootstrap-scheme");
-    if (o->spread_scheme < STURDY_SPREAD_WILD || o->spread_scheme > STURDY_SPREAD_PERMUTATION)
+    if (o->spread_scheme < STURDY_SPREAD_NONE || o->spread_scheme > STURDY_SPREAD_PERMUTATION)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown --spread-scheme");
     if (o->permutations > (uint64_t)1 << 40)
         return sturdy_fail(err, STURDY_EUSAGE, "--permutations is larger than 2^40");

@@ -232,8 +232,7 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_bool(w, "exact", r->exact);
     jw_u64(w, "bootstrap", r->nboot);
     jw_str(w, "bootstrap_scheme", scheme_name(r->boot_scheme));
-    jw_str(w, "spread_scheme", r->spread_scheme == STURDY_SPREAD_PERMUTATION ? "permutation"
-                                                                             : "wild-bootstrap");
+    jw_str(w, "spread_scheme", sturdy_spread_scheme_name(r->spread_scheme));
     jw_u64(w, "seed", r->opts.seed);
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
@@ -270,8 +269,7 @@ static void write_uv(jw *w, const sturdy_result *r, const sturdy_uv_result *u)
     jw_num(w, "p", u->p);
     jw_str(w, "reference", isnan(u->wald) ? NULL : u->johansen ? "johansen" : "residual-df");
     jw_str(w, "covariance", r->uv_hc3 ? "HC3" : "cell-variances");
-    jw_str(w, "scheme", r->spread_scheme == STURDY_SPREAD_PERMUTATION ? "permutation"
-                                                                      : "wild-bootstrap");
+    jw_str(w, "scheme", sturdy_spread_scheme_name(r->spread_scheme));
     int has = !isnan(u->p_perm);
     jw_num(w, "p_perm", u->p_perm);
     jw_pair(w, "p_perm_ci", u->p_perm_ci);

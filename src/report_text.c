@@ -311,7 +311,7 @@ static void about(tw *w)
     sturdy_buf_printf(&s, "p from %s; it holds α when cell variances differ, where F and "
                       "its rearrangements do not", r->uv_hc3 ? "F(df, residual df)"
                                                              : "Johansen's approximate F");
-    if (r->nperm > 0)
+    if (r->nperm > 0 && r->spread_scheme != STURDY_SPREAD_NONE)
         sturdy_buf_printf(&s, ". Under each term also its %s p (%s), which runs liberal in "
                           "cells of 3 rows", r->spread_scheme == STURDY_SPREAD_PERMUTATION
                                                  ? "permuted" : "wild-bootstrap",

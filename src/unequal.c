@@ -238,9 +238,8 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
     /* M_gg = Ω_g (U_t V⁻¹ U_tᵀ)_gg, with V⁻¹ = L⁻ᵀL⁻¹: (U_t V⁻¹ U_tᵀ)_gg = ‖L⁻¹ U_t,g·‖² */
     double *x = malloc((df ? df : 1) * sizeof *x);
     double *G = malloc((df ? df * df : 1) * sizeof *G);
-    double *P = malloc(K * K * sizeof *P);
-    if (!x || !G || !P) {
-        free(x); free(G); free(P);
+    if (!x || !G) {
+        free(x); free(G);
         return; /* leaves NaN: an out-of-memory here is not worth failing the run */
     }
     double A = 0.0;
@@ -260,7 +259,9 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
     u->df1 = r;
     u->df2 = A > 0 ? r * (r + 2.0) / (3.0 * A) : INFINITY;
     u->p = isinf(u->df2) ? sturdy_f_sf(u->stat, r, 1e300) : sturdy_f_sf(u->stat, r, u->df2);
-    /* ATS: G = U_tᵀ D U_t, P = U_t G⁻¹ U_tᵀ (K × K), z = U_tᵀ s */
+    /* ATS: G = U_tᵀ D U_t = L_G L_Gᵀ, P = U_t G⁻¹ U_tᵀ = Y Yᵀ with row g of Y the solve
+     * L_G⁻¹ U_t,g·; then P_gg = ‖Y_g‖², tr(TΣ) = Σ Ω_g P_gg and tr(TΣTΣ) = Σ_gh P_gh² Ω_g Ω_h
+     * = ‖CᵀC‖²_F with C = diag(√Ω) Y — no K × K matrix is formed. */
     for (size_t j = 0; j < df; j++)
         for (size_t i = j; i < df; i++) {
             double t = 0.0;
@@ -268,14 +269,9 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
                 t += Ut[i * K + g] * c->ng[g] * Ut[j * K + g];
             G[j * df + i] = t;
         }
-    if (!cholesky(G, df)) {
-        free(x); free(G); free(P);
-        return;
-    }
-    /* rows of L_G⁻¹ U_tᵀ: column g of U_tᵀ solved */
     double *Y = malloc(df * K * sizeof *Y);
-    if (!Y) {
-        free(x); free(G); free(P);
+    if (!Y || !cholesky(G, df)) {
+        free(x); free(G); free(Y);
         return;
     }
     for (size_t g = 0; g < K; g++) {
@@ -284,17 +280,10 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         forward(G, df, x);
         memcpy(Y + g * df, x, df * sizeof *x);
     }
-    for (size_t g = 0; g < K; g++)
-        for (size_t h = 0; h < K; h++) {
-            double t = 0.0;
-            for (size_t j = 0; j < df; j++)
-                t += Y[g * df + j] * Y[h * df + j];
-            P[g * K + h] = t;
-        }
+    /* zᵀG⁻¹z = ‖L_G⁻¹z‖², and L_G⁻¹z = Σ_g Y_g a_g with a_g = A_g/√n_g of the observed
+     * perturbation (left in work by wald(); U_tᵀa = U_tᵀs since U_t ⊥ f̃) */
+    const double *a = work;
     double num = 0.0, tr = 0.0, tr2 = 0.0, den2 = 0.0;
-    /* zᵀG⁻¹z = ‖L_G⁻¹ z‖², z = U_tᵀ s; s is not at hand, but z = Σ_g U_t,g· s_g and
-     * L_G⁻¹ z = Σ_g Y_g s_g, with s_g = √n_g · mean_g held in work (a) — see caller */
-    const double *a = work; /* a_g = A_g/√n_g of the observed perturbation: U_tᵀa = z */
     for (size_t j = 0; j < df; j++) {
         double t = 0.0;
         for (size_t g = 0; g < K; g++)
@@ -302,18 +291,29 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         num += t * t;
     }
     for (size_t g = 0; g < K; g++) {
-        tr += om[g] * P[g * K + g];
-        den2 += P[g * K + g] * P[g * K + g] * om[g] * om[g] / (c->ng[g] - 1.0);
-        for (size_t h = 0; h < K; h++)
-            tr2 += P[g * K + h] * P[g * K + h] * om[g] * om[h];
+        double pgg = 0.0;
+        for (size_t j = 0; j < df; j++)
+            pgg += Y[g * df + j] * Y[g * df + j];
+        tr += om[g] * pgg;
+        den2 += pgg * pgg * om[g] * om[g] / (c->ng[g] - 1.0);
     }
+    /* CᵀC (df × df), C = diag(√Ω) Y, reusing G */
+    for (size_t j = 0; j < df; j++)
+        for (size_t i = 0; i < df; i++) {
+            double t = 0.0;
+            for (size_t g = 0; g < K; g++)
+                t += om[g] * Y[g * df + i] * Y[g * df + j];
+            G[j * df + i] = t;
+        }
+    for (size_t q = 0; q < df * df; q++)
+        tr2 += G[q] * G[q];
     if (tr > 0 && tr2 > 0 && den2 > 0) {
         u->ats = num / tr;
         u->ats_df1 = tr * tr / tr2;
         u->ats_df2 = tr * tr / den2;
         u->ats_p = sturdy_f_sf(u->ats, u->ats_df1, u->ats_df2);
     }
-    free(x); free(G); free(P); free(Y);
+    free(x); free(G); free(Y);
 }
 
 static void uv_init_result(sturdy_uv_result *u)
@@ -560,7 +560,7 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
             if (mb->df > u.maxdf)
                 u.maxdf = mb->df;
         }
-    if (u.M == 0 || b1 <= b0)
+    if (u.M == 0 || b1 <= b0 || r->spread_scheme == STURDY_SPREAD_NONE)
         goto done;
     u.E = malloc(n * u.M * sizeof *u.E);
     u.Qw = malloc(K * u.M * sizeof *u.Qw);
@@ -595,6 +595,16 @@ done:
     return st;
 }
 
+const char *sturdy_spread_scheme_name(sturdy_spread_scheme s)
+{
+    switch (s) {
+    case STURDY_SPREAD_WILD: return "wild-bootstrap";
+    case STURDY_SPREAD_PERMUTATION: return "permutation";
+    case STURDY_SPREAD_NONE: break;
+    }
+    return "none";
+}
+
 sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, char *err)
 {
     sturdy_uv_result *u = &t->uv;
@@ -602,6 +612,9 @@ sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, ch
         return STURDY_OK;
     if (r->nperm == 0)
         return set_note(&u->perm_note, "no resampling was asked for (-B 0)", err);
+    if (r->spread_scheme == STURDY_SPREAD_NONE)
+        return set_note(&u->perm_note, "the statistic was not resampled (its approximate F "
+                        "is the better calibrated p; --spread-scheme asks for it)", err);
     double B = (double)r->nperm;
     /* the wild bootstrap is a random draw even when the rearrangements are enumerated */
     u->p_wild = (1.0 + (double)u->exceed_wild) / (1.0 + B);

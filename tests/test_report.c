@@ -272,6 +272,7 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     r->ss_type = 3;
     r->method = STURDY_METHOD_FREEDMAN_LANE;
     r->boot_scheme = STURDY_BOOT_RESIDUAL;
+    r->spread_scheme = STURDY_SPREAD_WILD;
     r->nperm = 9999;
     r->nboot = 2000;
     r->perm_end = 9999;

@@ -39,7 +39,7 @@ Checks (the reference is named on every line):
      still there.
   6. Resampling (-B 20000; 2000 under STURDY_QUICK=1) on one 2x3 heteroscedastic
      dataset, --ss 3 and --ss 2 (whose main effects have another reduced model):
-     "p_wild" (default run, and again under --spread-scheme permutation) against an
+     "p_wild" (--spread-scheme wild, and again under --spread-scheme permutation) against an
      independent numpy wild bootstrap of W (Rademacher signs on the reduced model's
      residuals / sqrt(1 - 1/n_c), added to the reduced fit, W* with the cell variances
      of y*); "p_permuted" (run with --spread-scheme permutation, the only run that
@@ -698,10 +698,11 @@ def check_resampling(folder):
     sq = np.sqrt(1.0 - 1.0 / cells.n[cells.idx])
     N = np.diag(cells.n)
     for ss in (3, 2):  # Type II main effects have another reduced model
-        # the default run (--spread-scheme wild) and one with the studentised permutation
+        # the wild bootstrap and the studentised permutation (the default resamples
+        # nothing: checked in check_default_scheme)
         runs = {}
         for scheme in ("wild", "permutation"):
-            extra = ("--spread-scheme", scheme) if scheme != "wild" else ()  # wild: default
+            extra = ("--spread-scheme", scheme)
             out, why, _ = run_sturdy(path, "height", factors, ss=ss, B=B_MC, extra=extra)
             if out is None:
                 report(False, "%s --ss %d -B %d %s: sturdy failed: %s"
@@ -726,8 +727,7 @@ def check_resampling(folder):
             p_fl = (1 + int(np.sum(Wp >= W * (1 - TIE_RTOL)))) / (1 + B_MC)
             for scheme, uv in runs.items():
                 tag = "%s --ss %d -B %d %s %s unequal_variance" \
-                    % (name, ss, B_MC, "(default scheme)" if scheme == "wild" else
-                       "--spread-scheme " + scheme, tn)
+                    % (name, ss, B_MC, "--spread-scheme " + scheme, tn)
                 if tn not in uv:
                     report(False, "%s: term missing from sturdy's output" % tag)
                     continue
@@ -817,8 +817,27 @@ def check_bf_modified(folder):
               bool(ref.pvalue < 0.05), "the documented rule")
 
 
+def check_default_scheme(folder):
+    """Without --spread-scheme the statistic is not resampled: scheme "none", p_perm,
+    p_wild and p_permuted null with a perm_note, while p (Johansen) is there."""
+    df, _ = make_factorial(41, ["A", "B"], [["a1", "a2"], ["b1", "b2", "b3"]], 3, 8)
+    path, df = write_csv(df, folder, "default_scheme", ["A", "B"])
+    res = sturdy_or_fail("default scheme", path, "y", ["A", "B"], B=999)
+    for tn, (_, u) in (res or {}).items():
+        if u is None:
+            continue
+        report(u.get("scheme") == "none" and u.get("p_perm") is None and
+               u.get("p_wild") is None and u.get("p_permuted") is None and
+               bool(u.get("perm_note")) and u.get("p") is not None,
+               "default scheme %s: scheme %r, p_perm %r, p_wild %r, perm_note %r, p %r; "
+               "expected none/null/null/a note/a number [README, --spread-scheme]"
+               % (tn, u.get("scheme"), u.get("p_perm"), u.get("p_wild"),
+                  u.get("perm_note"), u.get("p")))
+
+
 def main():
     with tempfile.TemporaryDirectory() as folder:
+        check_default_scheme(folder)
         check_bf_modified(folder)
         check_one_factor(folder)
         check_factorial(folder)

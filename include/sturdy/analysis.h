@@ -24,13 +24,20 @@ typedef enum {
     STURDY_BOOT_CELLS = 2
 } sturdy_boot_scheme;
 
-/* Resampling scheme of the unequal-variance test (its p_perm). */
+/* Resampling of the unequal-variance statistic (its p_perm). The default is none: its
+ * approximate-F p is the best calibrated (README table), and resampling it costs several
+ * times the permutation test of F. */
 typedef enum {
-    STURDY_SPREAD_WILD = 0,          /* wild bootstrap, Rademacher weights (Davidson &
+    STURDY_SPREAD_NONE = 0,
+    STURDY_SPREAD_WILD = 1,          /* wild bootstrap, Rademacher weights (Davidson &
                                         Flachaire 2008) */
-    STURDY_SPREAD_PERMUTATION = 1    /* permutation of the studentised statistic (Janssen
-                                        1997; Pauly, Brunner & Konietschke 2015) */
+    STURDY_SPREAD_PERMUTATION = 2    /* permutation of the studentised statistic (Janssen
+                                        1997; Pauly, Brunner & Konietschke 2015); the
+                                        wild bootstrap is computed beside it */
 } sturdy_spread_scheme;
+
+/* "none", "wild-bootstrap" or "permutation" (the JSON names); never NULL. */
+const char *sturdy_spread_scheme_name(sturdy_spread_scheme s);
 
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
 typedef void (*sturdy_progress_fn)(void *ctx, uint64_t done, uint64_t total);
@@ -43,7 +50,7 @@ typedef struct {
     sturdy_method method;        /* default Freedman–Lane */
     int flip;                    /* sign-flipping instead of permuting */
     sturdy_boot_scheme boot_scheme;
-    sturdy_spread_scheme spread_scheme; /* default wild */
+    sturdy_spread_scheme spread_scheme; /* default none */
     double conf;                 /* default 0.95 */
     double alpha;                /* default 0.05 */
     uint64_t seed;               /* default STURDY_DEFAULT_SEED */

@@ -87,8 +87,7 @@ jv *cli_batch_resumable(const cli_check *c, const char *out_path, const char *da
         jv_is_str(jv_get(s, "method"), method_names[o->method]) &&
         flip && flip->kind == (o->flip ? JV_TRUE : JV_FALSE) &&
         jv_is_str(jv_get(s, "bootstrap_scheme"), scheme_names[scheme]) && perms_ok &&
-        jv_is_str(jv_get(s, "spread_scheme"), o->spread_scheme == STURDY_SPREAD_PERMUTATION
-                                                  ? "permutation" : "wild-bootstrap") &&
+        jv_is_str(jv_get(s, "spread_scheme"), sturdy_spread_scheme_name(o->spread_scheme)) &&
         jv_is_u64(jv_get(s, "bootstrap"), o->bootstrap) &&
         jv_double(jv_get(s, "conf")) == o->conf && jv_double(jv_get(s, "alpha")) == o->alpha &&
         names_match(resp, o->model.responses, o->model.nresponses, "response") &&

@@ -70,8 +70,9 @@ static const char check_help[] =
 "      --flip                   flip residual signs instead of permuting them\n"
 "                               (copes with unequal variances)\n"
 "      --bootstrap-scheme NAME  residual (default), wild (default with --flip) or cells\n"
-"      --spread-scheme NAME     resampling of the unequal-variance test: wild (wild\n"
-"                               bootstrap, default) or permutation\n"
+"      --spread-scheme NAME     resampling of the unequal-variance statistic: none\n"
+"                               (default; its approximate F is used), wild (wild\n"
+"                               bootstrap) or permutation (also reports the wild p)\n"
 "      --conf LEVEL             interval level, between 0 and 1 (default 0.95)\n"
 "      --alpha LEVEL            significance level of the verdicts (default 0.05)\n"
 "      --seed N                 random seed (default 20261201)\n"
@@ -307,9 +308,10 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
                                     "cells, not '%s'", arg);
         return 0;
     case OPT_SPREAD:
-        if (!strcmp(arg, "wild")) o->spread_scheme = STURDY_SPREAD_WILD;
+        if (!strcmp(arg, "none")) o->spread_scheme = STURDY_SPREAD_NONE;
+        else if (!strcmp(arg, "wild")) o->spread_scheme = STURDY_SPREAD_WILD;
         else if (!strcmp(arg, "permutation")) o->spread_scheme = STURDY_SPREAD_PERMUTATION;
-        else return cli_usage_error(c->command, "--spread-scheme wants wild or permutation, "
+        else return cli_usage_error(c->command, "--spread-scheme wants none, wild or permutation, "
                                     "not '%s'", arg);
         return 0;
     case OPT_CONF: return want_level(c, "--conf", arg, &o->conf);
