@@ -281,11 +281,11 @@ double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s)
     return total;
 }
 
-void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const double *U,
-                          size_t r, const double *s, double *work, double *out)
+void sturdy_model_group_projection(const sturdy_model *m, const double *U, size_t r,
+                                   const double *s, double *work, double *gval)
 {
     size_t K = m->K;
-    double *coef = work, *gval = work + r;
+    double *coef = work;
     for (size_t q = 0; q < r; q++) {
         const double *u = U + q * K;
         double dot = 0.0;
@@ -300,6 +300,13 @@ void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const d
             v += U[q * K + g] * coef[q];
         gval[g] = v / m->sqrt_count[g];
     }
+}
+
+void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const double *U,
+                          size_t r, const double *s, double *work, double *out)
+{
+    double *gval = work + r;
+    sturdy_model_group_projection(m, U, r, s, work, gval);
     for (size_t i = 0; i < d->n; i++)
         out[i] = gval[d->group[i]];
 }

@@ -25,34 +25,15 @@
  *     z* = U_tᵀ a (a_g = A_g/√n_g), d = the full fit of v per group,
  *     RSS_g = Q_g − 2 d_g A_g + n_g d_g²,  Ω*_g = RSS_g / (n_g (1 − h_g)^δ).
  * So each replicate costs one pass over the rows plus small products, and counts are
- * integers: any split over threads, shards or ranks gives the same counts. */
+ * integers: any split over threads, shards or ranks gives the same counts. This file
+ * holds the statistic and its classical references; unequal_resample.c the resampling. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "engine.h"
 #include "internal.h"
-#include "pcg_inline.h"
-#include "rearrange.h"
 #include "sturdy/dist.h"
-#ifdef _OPENMP
-#include <omp.h>
-#endif
-
-/* A row whose leverage is within this of 1 is fitted exactly: its residual carries no
- * variance information, and HC weights 1/(1 − h) blow up. 1e-10 is far above the
- * rounding of leverages (≈1e-15) and far below 1 − h of any row with a neighbour. */
-#define UV_LEVERAGE_TOL 1e-10
-
-typedef struct {
-    const sturdy_design *d;
-    const sturdy_model *m;
-    size_t K, T;         /* groups; members (testable terms of one response) */
-    int saturated;       /* the full model spans group space: its fit is the group mean */
-    double *ng;          /* K: n_g */
-    double *hw;          /* K: 1 / (n_g (1 − h_g)^δ) */
-    double *scale;       /* K: 1 / √(1 − h_g), the wild bootstrap's residual scaling */
-} uv_ctx;
+#include "unequal.h"
 
 /* Cholesky factor of the n × n SPD matrix a (column-major, lower part used) in place;
  * 0 when a is not numerically positive definite. */
@@ -87,8 +68,8 @@ static void forward(const double *l, size_t n, double *x)
     }
 }
 
-/* Workspace doubles that wald() needs for a term of `df` degrees of freedom. */
-static size_t wald_work(const uv_ctx *c, size_t df)
+/* Workspace doubles that uv_wald() needs for a term of `df` degrees of freedom. */
+size_t uv_wald_work(const uv_ctx *c, size_t df)
 {
     return 3 * c->K + c->m->rank + df * df + df;
 }
@@ -96,7 +77,7 @@ static size_t wald_work(const uv_ctx *c, size_t df)
 /* W from the perturbation's group sums A and sums of squares Q; Ω (K) and V⁻¹'s Cholesky
  * factor are left in the workspace for the classical extras: omega = work + K,
  * chol = work + 3K + rank. NaN when U_tᵀΩU_t is singular. */
-static double wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
+double uv_wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
                    const double *Q, double *work)
 {
     const sturdy_model *m = c->m;
@@ -109,19 +90,7 @@ static double wald(const uv_ctx *c, const double *Ut, size_t df, const double *A
         for (size_t g = 0; g < K; g++)
             dfit[g] = A[g] / c->ng[g];
     } else {
-        for (size_t q = 0; q < rank; q++) {
-            const double *u = m->U + q * K;
-            double t = 0.0;
-            for (size_t g = 0; g < K; g++)
-                t += u[g] * a[g];
-            cf[q] = t;
-        }
-        for (size_t g = 0; g < K; g++) {
-            double t = 0.0;
-            for (size_t q = 0; q < rank; q++)
-                t += m->U[q * K + g] * cf[q];
-            dfit[g] = t / m->sqrt_count[g];
-        }
+        sturdy_model_group_projection(m, m->U, rank, a, cf, dfit);
     }
     for (size_t g = 0; g < K; g++) {
         double rss = Q[g] - 2.0 * dfit[g] * A[g] + c->ng[g] * dfit[g] * dfit[g];
@@ -150,7 +119,7 @@ static double wald(const uv_ctx *c, const double *Ut, size_t df, const double *A
     return w;
 }
 
-static sturdy_status set_note(char **slot, const char *text, char *err)
+sturdy_status uv_set_note(char **slot, const char *text, char *err)
 {
     if (*slot)
         return STURDY_OK;
@@ -158,7 +127,7 @@ static sturdy_status set_note(char **slot, const char *text, char *err)
     return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
 
-static void uv_ctx_free(uv_ctx *c)
+void uv_ctx_free(uv_ctx *c)
 {
     free(c->ng);
     free(c->hw);
@@ -166,7 +135,7 @@ static void uv_ctx_free(uv_ctx *c)
 }
 
 /* Group weights; a reason (static text) when the test cannot be done at all. */
-static sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model *m,
+sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model *m,
                                  int hc3, const char **why, char *err)
 {
     size_t K = m->K;
@@ -206,7 +175,7 @@ static sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy
 /* The perturbation base v = y − f̃ of a term (f̃: the full fit less the term's own
  * projection), with its group sums A and sums of squares Q. ft: n scratch; s: K;
  * work: rank + K. */
-static void restricted_residuals(const uv_ctx *c, const double *y, const double *Ut, size_t df,
+void uv_restricted_residuals(const uv_ctx *c, const double *y, const double *Ut, size_t df,
                                  double *v, double *ft, double *A, double *Q, double *s,
                                  double *work)
 {
@@ -228,7 +197,7 @@ static void restricted_residuals(const uv_ctx *c, const double *y, const double 
 }
 
 /* Johansen's (1980) approximate F and the ANOVA-type statistic from the observed Ω
- * (cell variances) left in `work` by wald(). */
+ * (cell variances) left in `work` by uv_wald(). */
 static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
                              double *work, sturdy_uv_result *u)
 {
@@ -281,7 +250,7 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         memcpy(Y + g * df, x, df * sizeof *x);
     }
     /* zᵀG⁻¹z = ‖L_G⁻¹z‖², and L_G⁻¹z = Σ_g Y_g a_g with a_g = A_g/√n_g of the observed
-     * perturbation (left in work by wald(); U_tᵀa = U_tᵀs since U_t ⊥ f̃) */
+     * perturbation (left in work by uv_wald(); U_tᵀa = U_tᵀs since U_t ⊥ f̃) */
     const double *a = work;
     double num = 0.0, tr = 0.0, tr2 = 0.0, den2 = 0.0;
     for (size_t j = 0; j < df; j++) {
@@ -345,7 +314,7 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
             maxdf = m->terms[t].df;
     double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
     double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
-    double *work = malloc(wald_work(&c, maxdf) * sizeof *work), *ft = malloc(n * sizeof *ft);
+    double *work = malloc(uv_wald_work(&c, maxdf) * sizeof *work), *ft = malloc(n * sizeof *ft);
     if (!v || !A || !Q || !s || !pw || !work || !ft) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
@@ -355,15 +324,15 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         sturdy_uv_result *u = &tr->uv;
         uv_init_result(u);
         const sturdy_term_basis *tb = &m->terms[t];
-        if (why) { st = set_note(&u->note, why, err); continue; }
+        if (why) { st = uv_set_note(&u->note, why, err); continue; }
         if (!(tr->f >= 0)) {
-            st = set_note(&u->note, tr->note ? tr->note : "the term has no test", err);
+            st = uv_set_note(&u->note, tr->note ? tr->note : "the term has no test", err);
             continue;
         }
-        restricted_residuals(&c, d->y + r * n, tb->Uterm, tb->df, v, ft, A, Q, s, pw);
-        double W = wald(&c, tb->Uterm, tb->df, A, Q, work);
+        uv_restricted_residuals(&c, d->y + r * n, tb->Uterm, tb->df, v, ft, A, Q, s, pw);
+        double W = uv_wald(&c, tb->Uterm, tb->df, A, Q, work);
         if (isnan(W)) {
-            st = set_note(&u->note, "the cell variances leave the term's covariance "
+            st = uv_set_note(&u->note, "the cell variances leave the term's covariance "
                           "singular (cells without spread)", err);
             continue;
         }
@@ -384,217 +353,6 @@ done:
     return st;
 }
 
-/* ---- resampling ---- */
-
-typedef struct {
-    size_t resp, term;
-    const double *Ut;
-    size_t df;
-    double thr;          /* count W* ≥ thr */
-    int perm_ok;         /* the permutation scheme can test it (not the block term) */
-} uv_member;
-
-typedef struct {
-    uv_ctx c;
-    size_t M;
-    uv_member *mem;
-    double *E;           /* n × M row-major, rows in position order: wild: ẽ/√(1 − h);
-                            permutation: ẽ */
-    double *Qw;          /* K × M: Σ (ẽ/√(1−h))² per group (the wild scheme's Q) */
-    size_t maxdf;
-} uv_run;
-
-static void uv_run_free(uv_run *u)
-{
-    uv_ctx_free(&u->c);
-    free(u->mem);
-    free(u->E);
-    free(u->Qw);
-}
-
-/* One pass of replicates [b0, b1) of one scheme; counts into cnt (M). */
-static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uint64_t seed,
-                     uint64_t b0, uint64_t b1, uint64_t *cnt, int nthreads)
-{
-    const sturdy_design *d = u->c.d;
-    size_t n = d->n, K = u->c.K, M = u->M;
-    int failed = 0;
-    int64_t nrep = (int64_t)(b1 - b0);
-#pragma omp parallel num_threads(nthreads)
-    {
-        double *A = malloc(K * M * sizeof *A), *Q = malloc(K * M * sizeof *Q);
-        double *Ak = malloc(K * sizeof *Ak), *Qk = malloc(K * sizeof *Qk);
-        double *work = malloc(wald_work(&u->c, u->maxdf) * sizeof *work);
-        uint32_t *lab = malloc(n * sizeof *lab), *pool = malloc(n * sizeof *pool);
-        signed char *sign = malloc(n ? n : 1);
-        uint64_t *mine = calloc(M, sizeof *mine);
-        int ok = A && Q && Ak && Qk && work && lab && pool && sign && mine;
-        if (!ok) {
-#pragma omp atomic write
-            failed = 1;
-        }
-#pragma omp for schedule(dynamic, 16)
-        for (int64_t k = 0; k < nrep; k++) {
-            if (!ok)
-                continue;
-            uint64_t b = b0 + (uint64_t)k;
-            memset(A, 0, K * M * sizeof *A);
-            if (wild) {
-                sturdy_pcg64 g;
-                sturdy_pcg_for(&g, seed, STURDY_STREAM_WILD_TEST, b);
-                sturdy_pcg_signs(&g, sign, n);
-                for (size_t i = 0; i < n; i++) {
-                    double *dst = A + d->group[i] * M;
-                    const double *e = u->E + i * M;
-                    double sg = (double)sign[i];
-                    for (size_t j = 0; j < M; j++)
-                        dst[j] += sg * e[j];
-                }
-                memcpy(Q, u->Qw, K * M * sizeof *Q);
-            } else {
-                memset(Q, 0, K * M * sizeof *Q);
-                sturdy_rearrange(ra, b, lab, sign, pool);
-                for (size_t p = 0; p < n; p++) {
-                    size_t g = ra->flip ? ra->lab0[p] : lab[p];
-                    double sg = ra->flip ? (double)sign[p] : 1.0;
-                    const double *e = u->E + p * M;
-                    double *da = A + g * M, *dq = Q + g * M;
-                    for (size_t j = 0; j < M; j++) {
-                        da[j] += sg * e[j];
-                        dq[j] += e[j] * e[j];
-                    }
-                }
-            }
-            for (size_t j = 0; j < M; j++) {
-                const uv_member *mb = &u->mem[j];
-                if (!wild && !mb->perm_ok)
-                    continue;
-                for (size_t g = 0; g < K; g++) {
-                    Ak[g] = A[g * M + j];
-                    Qk[g] = Q[g * M + j];
-                }
-                double W = wald(&u->c, mb->Ut, mb->df, Ak, Qk, work);
-                if (W >= mb->thr)
-                    mine[j]++;
-            }
-        }
-        if (ok) {
-#pragma omp critical(sturdy_uv_reduce)
-            for (size_t j = 0; j < M; j++)
-                cnt[j] += mine[j];
-        }
-        free(A); free(Q); free(Ak); free(Qk); free(work); free(lab); free(pool); free(sign);
-        free(mine);
-    }
-    return !failed;
-}
-
-/* The members and their perturbation bases, for one scheme (wild: scaled, in row order;
- * permutation: unscaled, in the rearranger's position order). */
-static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild, char *err)
-{
-    const sturdy_design *d = u->c.d;
-    const sturdy_model *m = u->c.m;
-    size_t n = d->n, K = u->c.K, M = u->M;
-    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
-    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
-    double *ft = malloc(n * sizeof *ft);
-    if (!v || !A || !Q || !s || !pw || !ft) {
-        free(v); free(A); free(Q); free(s); free(pw); free(ft);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    if (wild)
-        memset(u->Qw, 0, K * M * sizeof *u->Qw);
-    for (size_t j = 0; j < M; j++) {
-        const uv_member *mb = &u->mem[j];
-        restricted_residuals(&u->c, d->y + mb->resp * n, mb->Ut, mb->df, v, ft, A, Q, s, pw);
-        for (size_t p = 0; p < n; p++) {
-            if (wild) {
-                double e = v[p] * u->c.scale[d->group[p]];
-                u->E[p * M + j] = e;
-                u->Qw[d->group[p] * M + j] += e * e;
-            } else {
-                u->E[p * M + j] = v[ra->blk_rows[p]];
-            }
-        }
-    }
-    free(v); free(A); free(Q); free(s); free(pw); free(ft);
-    return STURDY_OK;
-}
-
-sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturdy_result *r,
-                            char *err)
-{
-    uint64_t b0 = r->perm_begin, b1 = r->perm_end;
-    uv_run u;
-    memset(&u, 0, sizeof u);
-    const char *why;
-    sturdy_status st = uv_ctx_init(&u.c, d, m, r->uv_hc3, &why, err);
-    if (st)
-        return st;
-    sturdy_rearranger ra;
-    memset(&ra, 0, sizeof ra);
-    size_t n = d->n, K = u.c.K;
-    u.mem = calloc(r->nresp * d->nterms + 1, sizeof *u.mem);
-    if (!u.mem) {
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        goto done;
-    }
-    for (size_t ri = 0; ri < r->nresp; ri++)
-        for (size_t t = 0; t < d->nterms; t++) {
-            sturdy_uv_result *uv = &r->resp[ri].terms[t].uv;
-            if (isnan(uv->wald))
-                continue;
-            if (r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
-                d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip &&
-                (st = set_note(&uv->perm_note, "no permutation p-value for the block term: "
-                               "rearranging within blocks leaves it unchanged", err)))
-                goto done;
-            uv_member *mb = &u.mem[u.M++];
-            mb->resp = ri;
-            mb->term = t;
-            mb->Ut = m->terms[t].Uterm;
-            mb->df = m->terms[t].df;
-            mb->thr = uv->wald * (1.0 - STURDY_TIE_RTOL);
-            mb->perm_ok = !uv->perm_note;
-            if (mb->df > u.maxdf)
-                u.maxdf = mb->df;
-        }
-    if (u.M == 0 || b1 <= b0 || r->spread_scheme == STURDY_SPREAD_NONE)
-        goto done;
-    u.E = malloc(n * u.M * sizeof *u.E);
-    u.Qw = malloc(K * u.M * sizeof *u.Qw);
-    uint64_t *cnt = calloc(u.M, sizeof *cnt);
-    if (!u.E || !u.Qw || !cnt) {
-        free(cnt);
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        goto done;
-    }
-    int nthreads = sturdy_thread_count(&r->opts);
-    /* wild bootstrap: always */
-    if (!(st = fill_bases(&u, NULL, 1, err))) {
-        if (!run_range(&u, NULL, 1, r->opts.seed, b0, b1, cnt, nthreads))
-            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the wild bootstrap");
-        for (size_t j = 0; j < u.M && !st; j++)
-            r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_wild += cnt[j];
-    }
-    /* permutation of the studentised statistic: when it is the run's scheme */
-    if (!st && r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
-        !(st = sturdy_rearranger_init(&ra, d, r->opts.flip, r->exact, r->opts.seed, err)) &&
-        !(st = fill_bases(&u, &ra, 0, err))) {
-        memset(cnt, 0, u.M * sizeof *cnt);
-        if (!run_range(&u, &ra, 0, r->opts.seed, b0, b1, cnt, nthreads))
-            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the permutations");
-        for (size_t j = 0; j < u.M && !st; j++)
-            r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_perm += cnt[j];
-    }
-    free(cnt);
-done:
-    sturdy_rearranger_free(&ra);
-    uv_run_free(&u);
-    return st;
-}
-
 const char *sturdy_spread_scheme_name(sturdy_spread_scheme s)
 {
     switch (s) {
@@ -611,9 +369,9 @@ sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, ch
     if (isnan(u->wald))
         return STURDY_OK;
     if (r->nperm == 0)
-        return set_note(&u->perm_note, "no resampling was asked for (-B 0)", err);
+        return uv_set_note(&u->perm_note, "no resampling was asked for (-B 0)", err);
     if (r->spread_scheme == STURDY_SPREAD_NONE)
-        return set_note(&u->perm_note, "the statistic was not resampled (its approximate F "
+        return uv_set_note(&u->perm_note, "the statistic was not resampled (its approximate F "
                         "is the better calibrated p; --spread-scheme asks for it)", err);
     double B = (double)r->nperm;
     /* the wild bootstrap is a random draw even when the rearrangements are enumerated */

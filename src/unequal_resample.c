@@ -1,0 +1,225 @@
+/* unequal_resample.c — the resampled p-values of the unequal-variance statistic: the
+ * wild bootstrap (Davidson & Flachaire 2008; Rademacher signs from sturdy_pcg_for(seed,
+ * STURDY_STREAM_WILD_TEST, b), the same signs for every term) and the permutation of the
+ * studentised statistic with the run's rearrangements (Janssen 1997; Pauly, Brunner &
+ * Konietschke 2015). Each replicate is one pass over the rows into group sums, then W*
+ * per term (unequal.c); counts are integers summed per thread, so any split of the work
+ * gives the same counts. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+#include "pcg_inline.h"
+#include "rearrange.h"
+#include "unequal.h"
+
+typedef struct {
+    size_t resp, term;
+    const double *Ut;
+    size_t df;
+    double thr;          /* count W* ≥ thr */
+    int perm_ok;         /* the permutation scheme can test it (not the block term) */
+} uv_member;
+
+typedef struct {
+    uv_ctx c;
+    size_t M;
+    uv_member *mem;
+    double *E;           /* n × M row-major, rows in position order: wild: ẽ/√(1 − h);
+                            permutation: ẽ */
+    double *Qw;          /* K × M: Σ (ẽ/√(1−h))² per group (the wild scheme's Q) */
+    size_t maxdf;
+} uv_run;
+
+static void uv_run_free(uv_run *u)
+{
+    uv_ctx_free(&u->c);
+    free(u->mem);
+    free(u->E);
+    free(u->Qw);
+}
+
+/* One pass of replicates [b0, b1) of one scheme; counts into cnt (M). */
+static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uint64_t seed,
+                     uint64_t b0, uint64_t b1, uint64_t *cnt, int nthreads)
+{
+    const sturdy_design *d = u->c.d;
+    size_t n = d->n, K = u->c.K, M = u->M;
+    int failed = 0;
+    int64_t nrep = (int64_t)(b1 - b0);
+#pragma omp parallel num_threads(nthreads)
+    {
+        double *A = malloc(K * M * sizeof *A), *Q = malloc(K * M * sizeof *Q);
+        double *Ak = malloc(K * sizeof *Ak), *Qk = malloc(K * sizeof *Qk);
+        double *work = malloc(uv_wald_work(&u->c, u->maxdf) * sizeof *work);
+        uint32_t *lab = malloc(n * sizeof *lab), *pool = malloc(n * sizeof *pool);
+        signed char *sign = malloc(n ? n : 1);
+        uint64_t *mine = calloc(M, sizeof *mine);
+        int ok = A && Q && Ak && Qk && work && lab && pool && sign && mine;
+        if (!ok) {
+#pragma omp atomic write
+            failed = 1;
+        }
+#pragma omp for schedule(dynamic, 16)
+        for (int64_t k = 0; k < nrep; k++) {
+            if (!ok)
+                continue;
+            uint64_t b = b0 + (uint64_t)k;
+            memset(A, 0, K * M * sizeof *A);
+            if (wild) {
+                sturdy_pcg64 g;
+                sturdy_pcg_for(&g, seed, STURDY_STREAM_WILD_TEST, b);
+                sturdy_pcg_signs(&g, sign, n);
+                for (size_t i = 0; i < n; i++) {
+                    double *dst = A + d->group[i] * M;
+                    const double *e = u->E + i * M;
+                    double sg = (double)sign[i];
+                    for (size_t j = 0; j < M; j++)
+                        dst[j] += sg * e[j];
+                }
+                memcpy(Q, u->Qw, K * M * sizeof *Q);
+            } else {
+                memset(Q, 0, K * M * sizeof *Q);
+                sturdy_rearrange(ra, b, lab, sign, pool);
+                for (size_t p = 0; p < n; p++) {
+                    size_t g = ra->flip ? ra->lab0[p] : lab[p];
+                    double sg = ra->flip ? (double)sign[p] : 1.0;
+                    const double *e = u->E + p * M;
+                    double *da = A + g * M, *dq = Q + g * M;
+                    for (size_t j = 0; j < M; j++) {
+                        da[j] += sg * e[j];
+                        dq[j] += e[j] * e[j];
+                    }
+                }
+            }
+            for (size_t j = 0; j < M; j++) {
+                const uv_member *mb = &u->mem[j];
+                if (!wild && !mb->perm_ok)
+                    continue;
+                for (size_t g = 0; g < K; g++) {
+                    Ak[g] = A[g * M + j];
+                    Qk[g] = Q[g * M + j];
+                }
+                double W = uv_wald(&u->c, mb->Ut, mb->df, Ak, Qk, work);
+                if (W >= mb->thr)
+                    mine[j]++;
+            }
+        }
+        if (ok) {
+#pragma omp critical(sturdy_uv_reduce)
+            for (size_t j = 0; j < M; j++)
+                cnt[j] += mine[j];
+        }
+        free(A); free(Q); free(Ak); free(Qk); free(work); free(lab); free(pool); free(sign);
+        free(mine);
+    }
+    return !failed;
+}
+
+/* The members and their perturbation bases, for one scheme (wild: scaled, in row order;
+ * permutation: unscaled, in the rearranger's position order). */
+static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild, char *err)
+{
+    const sturdy_design *d = u->c.d;
+    const sturdy_model *m = u->c.m;
+    size_t n = d->n, K = u->c.K, M = u->M;
+    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
+    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
+    double *ft = malloc(n * sizeof *ft);
+    if (!v || !A || !Q || !s || !pw || !ft) {
+        free(v); free(A); free(Q); free(s); free(pw); free(ft);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    if (wild)
+        memset(u->Qw, 0, K * M * sizeof *u->Qw);
+    for (size_t j = 0; j < M; j++) {
+        const uv_member *mb = &u->mem[j];
+        uv_restricted_residuals(&u->c, d->y + mb->resp * n, mb->Ut, mb->df, v, ft, A, Q, s, pw);
+        for (size_t p = 0; p < n; p++) {
+            if (wild) {
+                double e = v[p] * u->c.scale[d->group[p]];
+                u->E[p * M + j] = e;
+                u->Qw[d->group[p] * M + j] += e * e;
+            } else {
+                u->E[p * M + j] = v[ra->blk_rows[p]];
+            }
+        }
+    }
+    free(v); free(A); free(Q); free(s); free(pw); free(ft);
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturdy_result *r,
+                            char *err)
+{
+    uint64_t b0 = r->perm_begin, b1 = r->perm_end;
+    uv_run u;
+    memset(&u, 0, sizeof u);
+    const char *why;
+    sturdy_status st = uv_ctx_init(&u.c, d, m, r->uv_hc3, &why, err);
+    if (st)
+        return st;
+    sturdy_rearranger ra;
+    memset(&ra, 0, sizeof ra);
+    size_t n = d->n, K = u.c.K;
+    u.mem = calloc(r->nresp * d->nterms + 1, sizeof *u.mem);
+    if (!u.mem) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < d->nterms; t++) {
+            sturdy_uv_result *uv = &r->resp[ri].terms[t].uv;
+            if (isnan(uv->wald))
+                continue;
+            if (r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
+                d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip &&
+                (st = uv_set_note(&uv->perm_note, "no permutation p-value for the block term: "
+                               "rearranging within blocks leaves it unchanged", err)))
+                goto done;
+            uv_member *mb = &u.mem[u.M++];
+            mb->resp = ri;
+            mb->term = t;
+            mb->Ut = m->terms[t].Uterm;
+            mb->df = m->terms[t].df;
+            mb->thr = uv->wald * (1.0 - STURDY_TIE_RTOL);
+            mb->perm_ok = !uv->perm_note;
+            if (mb->df > u.maxdf)
+                u.maxdf = mb->df;
+        }
+    if (u.M == 0 || b1 <= b0 || r->spread_scheme == STURDY_SPREAD_NONE)
+        goto done;
+    u.E = malloc(n * u.M * sizeof *u.E);
+    u.Qw = malloc(K * u.M * sizeof *u.Qw);
+    uint64_t *cnt = calloc(u.M, sizeof *cnt);
+    if (!u.E || !u.Qw || !cnt) {
+        free(cnt);
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    int nthreads = sturdy_thread_count(&r->opts);
+    /* wild bootstrap: always */
+    if (!(st = fill_bases(&u, NULL, 1, err))) {
+        if (!run_range(&u, NULL, 1, r->opts.seed, b0, b1, cnt, nthreads))
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the wild bootstrap");
+        for (size_t j = 0; j < u.M && !st; j++)
+            r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_wild += cnt[j];
+    }
+    /* permutation of the studentised statistic: when it is the run's scheme */
+    if (!st && r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
+        !(st = sturdy_rearranger_init(&ra, d, r->opts.flip, r->exact, r->opts.seed, err)) &&
+        !(st = fill_bases(&u, &ra, 0, err))) {
+        memset(cnt, 0, u.M * sizeof *cnt);
+        if (!run_range(&u, &ra, 0, r->opts.seed, b0, b1, cnt, nthreads))
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the permutations");
+        for (size_t j = 0; j < u.M && !st; j++)
+            r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_perm += cnt[j];
+    }
+    free(cnt);
+done:
+    sturdy_rearranger_free(&ra);
+    uv_run_free(&u);
+    return st;
+}
+
