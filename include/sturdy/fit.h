@@ -65,6 +65,11 @@ void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
 /* ‖Uᵀs‖² for a K × r basis U (column-major) and group vector s. */
 double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s);
 
+/* The same projection per group: gval_g = (U Uᵀ s)_g / √n_g, the value every row of group
+ * g gets. `work` has room for r doubles. */
+void sturdy_model_group_projection(const sturdy_model *m, const double *U, size_t r,
+                                   const double *s, double *work, double *gval);
+
 /* Row-space projection of v onto a basis: out = Q Qᵀ v (length n). `s` must be
  * sturdy_model_group_scaled(v). `work` has room for r + K doubles. */
 void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const double *U,
