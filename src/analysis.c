@@ -200,6 +200,12 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
     if ((st = sturdy_design_build(t, &o->model, &r->design, err)))
         return st;
     const sturdy_design *d = r->design;
+    /* the warnings about levels lead the notes (the text report also shows them under
+       its headline) */
+    for (size_t i = 0; i < d->nwarnings && !st; i++)
+        st = add_note(r, sturdy_strdup(d->warnings[i]), err);
+    if (st)
+        return st;
     if (r->boot_scheme == STURDY_BOOT_CELLS && d->ncov > 0)
         return sturdy_fail(err, STURDY_EUSAGE,
                            "--bootstrap-scheme cells needs a model without covariates (rows "

@@ -5,26 +5,14 @@
 #include <string.h>
 
 #include "internal.h"
+#include "levels.h"
 #include "terms.h"
 #include "sturdy/design.h"
+#include "sturdy/report.h"
 
 void sturdy_model_spec_init(sturdy_model_spec *s)
 {
     memset(s, 0, sizeof *s);
-}
-
-int sturdy_level_compare(const char *a, const char *b)
-{
-    double x, y;
-    int na = sturdy_parse_number(a, &x), nb = sturdy_parse_number(b, &y);
-    if (na && nb) {
-        if (x < y) return -1;
-        if (x > y) return 1;
-        return strcmp(a, b); /* "1" and "1.0": equal numbers, distinct levels */
-    }
-    if (na != nb)
-        return na ? -1 : 1;
-    return strcmp(a, b);
 }
 
 /* Sort key for grouping rows by a tuple of level indices. */
@@ -63,6 +51,9 @@ void sturdy_design_free(sturdy_design *d)
     for (size_t i = 0; i < d->ndropped; i++)
         free(d->dropped[i].reason);
     free(d->dropped);
+    for (size_t i = 0; i < d->nwarnings; i++)
+        free(d->warnings[i]);
+    free(d->warnings);
     for (size_t f = 0; f < d->nfactors; f++)
         factor_free(&d->factors[f]);
     free(d->factors);
@@ -91,6 +82,75 @@ void sturdy_design_free(sturdy_design *d)
     free(d);
 }
 
+/* A name this close to an unknown one (edit distance, ignoring case) is suggested:
+ * at most 2 edits, or a third of the name's length for longer names. */
+#define SUGGEST_MAX_EDITS 2
+#define SUGGEST_EDITS_PER_CHAR 3
+
+static char lower(char c) { return c >= 'A' && c <= 'Z' ? (char)(c - 'A' + 'a') : c; }
+
+/* Levenshtein distance ignoring ASCII case (Wagner & Fischer 1974), or SIZE_MAX when
+ * memory runs out. */
+static size_t edit_distance(const char *a, const char *b)
+{
+    size_t la = strlen(a), lb = strlen(b);
+    size_t *row = malloc((lb + 1) * sizeof *row);
+    if (!row) return (size_t)-1;
+    for (size_t j = 0; j <= lb; j++) row[j] = j;
+    for (size_t i = 1; i <= la; i++) {
+        size_t diag = row[0];
+        row[0] = i;
+        for (size_t j = 1; j <= lb; j++) {
+            size_t up = row[j];
+            size_t best = diag + (lower(a[i - 1]) != lower(b[j - 1]));
+            if (up + 1 < best) best = up + 1;
+            if (row[j - 1] + 1 < best) best = row[j - 1] + 1;
+            row[j] = best;
+            diag = up;
+        }
+    }
+    size_t d = row[lb];
+    free(row);
+    return d;
+}
+
+/* "no column named 'x' (the factor)", then the closest name, the delimiter hint when
+ * the header is one field, and the file's columns (as many as the message holds). */
+static sturdy_status unknown_column(const sturdy_table *t, const char *name, const char *role,
+                                    char *err)
+{
+    size_t best = (size_t)-1, best_col = 0, len = strlen(name);
+    size_t limit = len / SUGGEST_EDITS_PER_CHAR > SUGGEST_MAX_EDITS
+                       ? len / SUGGEST_EDITS_PER_CHAR : SUGGEST_MAX_EDITS;
+    for (size_t j = 0; j < t->ncols; j++) {
+        size_t dist = edit_distance(name, t->cols[j].name);
+        if (dist < best) { best = dist; best_col = j; }
+    }
+    const char *hint = sturdy_table_delimiter_hint(t);
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    sturdy_buf_printf(&b, "%s: no column named '%s' (the %s)", t->source, name, role);
+    if (hint)
+        sturdy_buf_printf(&b, "; the header is one field: %s", hint);
+    else if (best <= limit)
+        sturdy_buf_printf(&b, "; did you mean '%s'?", t->cols[best_col].name);
+    if (!hint) {
+        sturdy_buf_puts(&b, " The file's columns: ");
+        for (size_t j = 0; j < t->ncols; j++) {
+            /* keep room for " and N more" within the error buffer */
+            if (b.len + strlen(t->cols[j].name) + 24 >= STURDY_ERR_LEN) {
+                sturdy_buf_printf(&b, " and %zu more", t->ncols - j);
+                break;
+            }
+            sturdy_buf_printf(&b, "%s%s", j ? ", " : "", t->cols[j].name);
+        }
+    }
+    sturdy_status st = b.failed ? sturdy_fail(err, STURDY_EINTERNAL, "out of memory")
+                                : sturdy_fail(err, STURDY_EUSAGE, "%s", b.data);
+    sturdy_buf_free(&b);
+    return st;
+}
+
 /* Column lookup for the spec: unknown and repeated names are usage errors. */
 static sturdy_status find_columns(const sturdy_table *t, const char *const *names, size_t k,
                                   const char *role, long *idx, unsigned char *used,
@@ -99,8 +159,7 @@ static sturdy_status find_columns(const sturdy_table *t, const char *const *name
     for (size_t i = 0; i < k; i++) {
         long c = sturdy_table_find(t, names[i]);
         if (c < 0)
-            return sturdy_fail(err, STURDY_EUSAGE, "%s: no column named '%s' (the %s)",
-                               t->source, names[i], role);
+            return unknown_column(t, names[i], role, err);
         if (used[c])
             return sturdy_fail(err, STURDY_EUSAGE,
                                "%s: column '%s' is used twice in the model", t->source,
@@ -108,91 +167,6 @@ static sturdy_status find_columns(const sturdy_table *t, const char *const *name
         used[c] = 1;
         idx[i] = c;
     }
-    return STURDY_OK;
-}
-
-static int cmp_str_bytes(const void *a, const void *b)
-{
-    return strcmp(*(const char *const *)a, *(const char *const *)b);
-}
-
-/* A distinct level in bytewise order with its index in natural order. */
-typedef struct {
-    const char *text;
-    size_t natural;
-} level_ref;
-
-static int cmp_level_natural(const void *a, const void *b)
-{
-    return sturdy_level_compare(((const level_ref *)a)->text, ((const level_ref *)b)->text);
-}
-
-/* Levels of a text column over the used rows, in natural order, and each row's index.
- * The rows are sorted bytewise (cheap) to find the distinct values; only those few are
- * sorted naturally, which parses numbers in every comparison. */
-static sturdy_status make_factor(const sturdy_table *t, long col, const sturdy_design *d,
-                                 size_t max_levels, const char *role, sturdy_factor *f,
-                                 size_t *lev, size_t stride, char *err)
-{
-    size_t n = d->n;
-    const char **vals = malloc(n * sizeof *vals);
-    if (!vals)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++)
-        vals[i] = t->cols[col].text[d->row[i]];
-    qsort(vals, n, sizeof *vals, cmp_str_bytes);
-    size_t nl = 0;
-    for (size_t i = 0; i < n; i++)
-        if (i == 0 || strcmp(vals[i], vals[i - 1]) != 0)
-            vals[nl++] = vals[i];
-    f->name = sturdy_strdup(t->cols[col].name);
-    if (nl < 2) {
-        sturdy_fail(err, STURDY_EMODEL,
-                    "%s: %s '%s' has only one level ('%s') in the rows used; a term needs "
-                    "at least two",
-                    t->source, role, t->cols[col].name, nl ? vals[0] : "");
-        free(vals);
-        return STURDY_EMODEL;
-    }
-    if (nl > max_levels) {
-        free(vals);
-        return sturdy_fail(err, STURDY_EMODEL,
-                           "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
-                           "really a factor? (raise the limit with --max-levels)",
-                           t->source, role, t->cols[col].name, nl, max_levels);
-    }
-    level_ref *nat = malloc(nl * sizeof *nat);
-    size_t *rank = malloc(nl * sizeof *rank);
-    f->nlevels = nl;
-    f->levels = calloc(nl, sizeof *f->levels);
-    if (!nat || !rank || !f->levels || !f->name) {
-        free(vals); free(nat); free(rank);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    for (size_t j = 0; j < nl; j++) {
-        nat[j].text = vals[j];
-        nat[j].natural = j; /* here: the bytewise index */
-    }
-    qsort(nat, nl, sizeof *nat, cmp_level_natural);
-    for (size_t j = 0; j < nl; j++) {
-        rank[nat[j].natural] = j; /* bytewise index → natural index */
-        if (!(f->levels[j] = sturdy_strdup(nat[j].text))) {
-            free(vals); free(nat); free(rank);
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        }
-    }
-    for (size_t i = 0; i < n; i++) {
-        const char *v = t->cols[col].text[d->row[i]];
-        size_t lo = 0, hi = nl; /* binary search among the bytewise-sorted levels */
-        while (lo < hi) {
-            size_t mid = (lo + hi) / 2;
-            int c = strcmp(vals[mid], v);
-            if (c == 0) { lo = mid; break; }
-            if (c < 0) lo = mid + 1; else hi = mid;
-        }
-        lev[i * stride] = rank[lo];
-    }
-    free(vals); free(nat); free(rank);
     return STURDY_OK;
 }
 
@@ -249,7 +223,8 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     }
     long *fi = ri + nr, *ci = fi + nf, *bi = ci + nc;
     *bi = -1;
-    if ((st = find_columns(t, s->responses, nr, "response", ri, used, err)) ||
+    if ((st = sturdy_levels_check_orders(s, err)) ||
+        (st = find_columns(t, s->responses, nr, "response", ri, used, err)) ||
         (st = find_columns(t, s->factors, nf, "factor", fi, used, err)) ||
         (st = find_columns(t, s->covariates, nc, "covariate", ci, used, err)) ||
         (s->block && (st = find_columns(t, &s->block, 1, "block", bi, used, err)))) {
@@ -369,8 +344,8 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t f = 0; f < nf; f++)
-        if ((st = make_factor(t, fi[f], d, max_levels, "factor", &d->factors[f],
-                              d->level + f, nf, err))) {
+        if ((st = sturdy_levels_make(t, fi[f], d, s, max_levels, "factor", &d->factors[f],
+                                     d->level + f, nf, err))) {
             free(ri);
             return st;
         }
@@ -381,8 +356,8 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             free(ri);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
-        if ((st = make_factor(t, *bi, d, max_levels, "block", &d->block, d->block_level, 1,
-                              err))) {
+        if ((st = sturdy_levels_make(t, *bi, d, s, max_levels, "block", &d->block,
+                                     d->block_level, 1, err))) {
             free(ri);
             return st;
         }

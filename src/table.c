@@ -94,6 +94,26 @@ static void fail(loader *L, sturdy_status st, const char *fmt, ...)
     set_err(L->err, "%s: %s", L->t->source, msg);
 }
 
+/* The advice for a header read as one field `name` with delimiter `delim`, or NULL. */
+static const char *delimiter_hint(const char *name, char delim)
+{
+    size_t tabs = 0, semis = 0;
+    for (const char *p = name; *p; p++) {
+        tabs += *p == '\t';
+        semis += *p == ';';
+    }
+    if (tabs && tabs >= semis && delim != '\t')
+        return "this looks tab-separated: add --delimiter tab";
+    if (semis && delim != ';')
+        return "this looks semicolon-separated: add --delimiter ';'";
+    return NULL;
+}
+
+const char *sturdy_table_delimiter_hint(const sturdy_table *t)
+{
+    return t && t->ncols == 1 ? delimiter_hint(t->cols[0].name, t->delimiter) : NULL;
+}
+
 static void drop_record(loader *L)
 {
     size_t stored = L->have_header && L->nrec > L->t->ncols ? L->t->ncols : L->nrec;
@@ -203,8 +223,10 @@ static void on_record(int c, void *data)
     if (L->st) return;
     if (!L->have_header) { take_header(L); return; }
     if (L->nrec != t->ncols) {
-        fail(L, STURDY_EDATA, "line %zu (row %zu): %zu field%s, but the header has %zu",
-             L->rec_line, t->nrows + 1, L->nrec, L->nrec == 1 ? "" : "s", t->ncols);
+        const char *hint = sturdy_table_delimiter_hint(t);
+        fail(L, STURDY_EDATA, "line %zu (row %zu): %zu field%s, but the header has %zu%s%s",
+             L->rec_line, t->nrows + 1, L->nrec, L->nrec == 1 ? "" : "s", t->ncols,
+             hint ? "; " : "", hint ? hint : "");
         drop_record(L);
         return;
     }
@@ -294,6 +316,7 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     L.o = o;
     L.err = err;
     L.t = calloc(1, sizeof *L.t);
+    if (L.t) L.t->delimiter = o->delimiter;
     if (!L.t || !(L.t->source = strdup(name ? name : "<buffer>"))) {
         free(L.t);
         set_err(err, "%s: out of memory", name ? name : "<buffer>");
@@ -460,11 +483,12 @@ int sturdy_parse_number(const char *s, double *v)
     return 1;
 }
 
-/* Why field `s` is not a usable number, for messages. */
-static const char *not_number_reason(const char *s)
+/* Why field `s` is not a usable number, for messages: `buf` (SHOW_LEN + 160 bytes)
+ * receives the reason, with a hint at the likely cause. */
+static const char *not_number_reason(const char *s, char *buf)
 {
     size_t a, b, commas = 0, digits = 0, other = 0;
-    char *end;
+    char *end, shown[SHOW_LEN];
     trim_range(s, &a, &b);
     double x = strtod(s + a, &end);
     if ((size_t)(end - s) == b && b > a && !isfinite(x)) return "is not a finite number";
@@ -475,6 +499,29 @@ static const char *not_number_reason(const char *s)
     }
     if (commas == 1 && digits && !other)
         return "is not a number (the decimal separator must be '.')";
+    if (b > a && (s[a] == '<' || s[a] == '>' || !digits)) {
+        /* "<LOD", "n.d.", "-": a marker of an unmeasured value */
+        char tok[SHOW_LEN];
+        size_t n = b - a < SHOW_MAX ? b - a : SHOW_MAX;
+        memcpy(tok, s + a, n);
+        tok[n] = '\0';
+        show(shown, tok);
+        snprintf(buf, SHOW_LEN + 160, "is not a number; if it marks a value that was not "
+                 "measured, declare it missing with --missing '%s'", shown);
+        return buf;
+    }
+    if (end > s + a && (size_t)(end - s) < b) {
+        /* a number, then text: "4.94 MPa", "12%" */
+        const char *rest = end;
+        while (is_blank(*rest)) rest++;
+        unsigned char c = (unsigned char)*rest;
+        if ((c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || c == '%' || c >= 0x80) {
+            show(shown, rest);
+            snprintf(buf, SHOW_LEN + 160, "is not a number: text follows it ('%s'); give "
+                     "units in the column name, not in the cells", shown);
+            return buf;
+        }
+    }
     return "is not a number";
 }
 
@@ -565,7 +612,10 @@ sturdy_status sturdy_table_numeric(const sturdy_table *t, size_t col, const size
         }
         const char *s = t->cols[col].text[r];
         if (t->cols[col].missing[r]) return numeric_error(t, col, r, "", err);
-        if (!field_decimal(s, &d)) return numeric_error(t, col, r, not_number_reason(s), err);
+        if (!field_decimal(s, &d)) {
+            char why[SHOW_LEN + 160];
+            return numeric_error(t, col, r, not_number_reason(s, why), err);
+        }
         double x = strtod(s, NULL);
         if (!isfinite(x)) return numeric_error(t, col, r, "is out of range", err);
         if (i == 0) *ref = x;

@@ -17,6 +17,13 @@
 #define STURDY_DEFAULT_MAX_LEVELS 1000
 #define STURDY_DEFAULT_MAX_COLUMNS 4000
 
+/* The order of one factor's levels, as the user gives it (--levels FACTOR=a,b,c). */
+typedef struct {
+    const char *factor;          /* a factor of the spec, or its block */
+    const char *const *levels;   /* every level present in the rows used, each once */
+    size_t nlevels;
+} sturdy_level_order;
+
 typedef struct {
     const char *const *responses; size_t nresponses;   /* at least one */
     const char *const *factors; size_t nfactors;       /* at least one, at most 16 */
@@ -25,6 +32,9 @@ typedef struct {
     int order;                  /* highest interaction order; 0 = all */
     size_t max_levels;          /* per factor; 0 = STURDY_DEFAULT_MAX_LEVELS */
     size_t max_columns;         /* coded columns in all; 0 = STURDY_DEFAULT_MAX_COLUMNS */
+    const sturdy_level_order *level_orders; size_t nlevel_orders; /* NULL/0: natural */
+    int merge_numeric_levels;   /* 1: levels equal as numbers ("60", "60.0") are one level,
+                                   named by the first in natural order; a note says so */
     int row_groups;             /* 1: every row its own group, even without covariates —
                                    the straightforward n-row path that the tests compare
                                    the cell-sum path against (same results, slower) */
@@ -49,7 +59,7 @@ typedef struct {
 typedef struct {
     char *name;
     size_t nlevels;
-    char **levels;          /* in natural order: numbers numerically, then text bytewise */
+    char **levels;          /* in natural order (sturdy_level_compare) or the spec's */
 } sturdy_factor;
 
 typedef struct {
@@ -65,6 +75,8 @@ typedef struct {
     size_t *row;            /* n: 0-based table row of each used row */
     size_t *line;           /* n: file line of each used row */
     size_t ndropped; sturdy_dropped *dropped;
+    size_t nwarnings; char **warnings; /* about the levels: near-duplicates ("60" and
+                                          "60.0", "epoxy" and "Epoxy"), merged levels */
 
     size_t nfactors; sturdy_factor *factors;
     size_t *level;          /* n × nfactors, row-major: level of factor f in used row i */
@@ -97,7 +109,10 @@ typedef struct {
 } sturdy_design;
 
 /* Build the design. Rows with a missing value in any used column are dropped and listed
- * with a reason. Errors: unknown or repeated column (STURDY_EUSAGE), non-numeric
+ * with a reason. Errors: unknown or repeated column (STURDY_EUSAGE; the message lists
+ * the file's columns and suggests the closest name, or the delimiter when the header is
+ * one field holding tabs or semicolons), a level order naming an unknown factor or not
+ * listing exactly the levels present (STURDY_EUSAGE), non-numeric
  * response or covariate (STURDY_EDATA, naming file, row, line and column), fewer than
  * two levels in a factor or the block, no rows left, a factor or design beyond the
  * guards (STURDY_EMODEL, naming the limit and the option that changes it).
@@ -108,7 +123,9 @@ sturdy_status sturdy_design_build(const sturdy_table *t, const sturdy_model_spec
 void sturdy_design_free(sturdy_design *d);
 
 /* Natural comparison of level strings: both numbers → numeric order; a number sorts
- * before text; text compares bytewise. */
+ * before text; text compares with each run of digits taken as a whole number ("N40" <
+ * "N120"), the rest bytewise; texts equal that way (or equal numbers: "1", "1.0") are
+ * ordered bytewise, so that distinct strings never compare equal. */
 int sturdy_level_compare(const char *a, const char *b);
 
 #endif

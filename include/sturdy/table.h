@@ -29,6 +29,7 @@ typedef struct {
 
 typedef struct {
     char *source;            /* the file name as given; "<stdin>" for "-" */
+    char delimiter;          /* the field separator it was read with */
     size_t nrows, ncols;     /* data rows (header excluded) and columns */
     sturdy_column *cols;
     size_t *line;            /* nrows: file line (from 1) on which data row i starts; LF,
@@ -59,6 +60,12 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
 
 void sturdy_table_free(sturdy_table *t);  /* accepts NULL */
 
+/* When the header was read as one field that holds tabs or semicolons (a file with
+ * another separator read with the default ','), the advice "this looks tab-separated:
+ * add --delimiter tab" (or semicolon, ';'); else NULL. A static string. The loader adds
+ * the same advice to its message about a row with more fields than the header. */
+const char *sturdy_table_delimiter_hint(const sturdy_table *t);
+
 /* Index of the column named `name`, or -1. */
 long sturdy_table_find(const sturdy_table *t, const char *name);
 
@@ -72,7 +79,9 @@ long sturdy_table_find(const sturdy_table *t, const char *name);
  * double. Where a column's values do not fit the exact path (more than 36 significant
  * digits at the common scale) the conversion falls back to strtod minus the reference.
  * Returns STURDY_EDATA naming file, line, row and column and showing the field (cut to
- * 40 bytes) for a field that is missing or not a finite decimal number, or whose
+ * 40 bytes) for a field that is missing or not a finite decimal number (with a hint:
+ * a decimal comma; text after the number, such as units; a field with no digits or
+ * starting with '<' or '>', such as "<LOD", which --missing can declare missing), or whose
  * difference from the reference overflows; STURDY_EINTERNAL for an index out of range.
  * nrows = 0 is allowed (*ref = 0). Assumes the C numeric locale (strtod). */
 sturdy_status sturdy_table_numeric(const sturdy_table *t, size_t col, const size_t *rows,

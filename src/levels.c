@@ -1,0 +1,379 @@
+/* levels.c — the levels of a factor: natural order (numbers numerically, digits inside
+ * text as whole numbers), the user's order, merging levels equal as numbers, and
+ * warnings about levels that are probably one level written two ways. */
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+#include "levels.h"
+#include "sturdy/report.h"
+
+/* Near-duplicate pairs named in one warning; the rest are counted. */
+#define PAIRS_SHOWN 3
+/* Level names shown in one message before "and N more". */
+#define NAMES_SHOWN 8
+
+static int is_digit(char c) { return c >= '0' && c <= '9'; }
+
+/* Text order with runs of digits compared as whole numbers: "N0" < "N40" < "N120".
+ * Returns 0 for texts that differ only in leading zeros of a run ("N01", "N1"). */
+static int natural_text_compare(const char *a, const char *b)
+{
+    while (*a && *b) {
+        if (is_digit(*a) && is_digit(*b)) {
+            while (*a == '0') a++;
+            while (*b == '0') b++;
+            size_t la = 0, lb = 0;
+            while (is_digit(a[la])) la++;
+            while (is_digit(b[lb])) lb++;
+            if (la != lb) return la < lb ? -1 : 1;
+            int c = memcmp(a, b, la);
+            if (c) return c < 0 ? -1 : 1;
+            a += la;
+            b += lb;
+        } else {
+            if (*a != *b) return (unsigned char)*a < (unsigned char)*b ? -1 : 1;
+            a++;
+            b++;
+        }
+    }
+    return *a ? 1 : *b ? -1 : 0;
+}
+
+int sturdy_level_compare(const char *a, const char *b)
+{
+    double x, y;
+    int na = sturdy_parse_number(a, &x), nb = sturdy_parse_number(b, &y);
+    if (na && nb) {
+        if (x < y) return -1;
+        if (x > y) return 1;
+        return strcmp(a, b); /* "1" and "1.0": equal numbers, distinct levels */
+    }
+    if (na != nb)
+        return na ? -1 : 1;
+    int c = natural_text_compare(a, b);
+    return c ? c : strcmp(a, b);
+}
+
+sturdy_status sturdy_levels_check_orders(const sturdy_model_spec *s, char *err)
+{
+    for (size_t k = 0; k < s->nlevel_orders; k++) {
+        const char *name = s->level_orders[k].factor;
+        int found = s->block && name && !strcmp(s->block, name);
+        for (size_t f = 0; f < s->nfactors && !found; f++)
+            found = !strcmp(s->factors[f], name ? name : "");
+        if (!found)
+            return sturdy_fail(err, STURDY_EUSAGE,
+                               "--levels names '%s', which is not a factor (-f) or the block "
+                               "of the model", name ? name : "");
+        for (size_t j = 0; j < k; j++)
+            if (!strcmp(s->level_orders[j].factor, name))
+                return sturdy_fail(err, STURDY_EUSAGE,
+                                   "--levels gives the order of '%s' twice", name);
+    }
+    return STURDY_OK;
+}
+
+static int cmp_str_bytes(const void *a, const void *b)
+{
+    return strcmp(*(const char *const *)a, *(const char *const *)b);
+}
+
+/* A distinct level: its text, its index in bytewise order, its group (merged levels
+ * share one) and, for the near-duplicate check, its text folded to lower case and
+ * trimmed of blanks. */
+typedef struct {
+    const char *text;
+    size_t bytewise, group;
+    char *folded;
+} level_ref;
+
+static int cmp_level_natural(const void *a, const void *b)
+{
+    return sturdy_level_compare(((const level_ref *)a)->text, ((const level_ref *)b)->text);
+}
+
+static int cmp_level_folded(const void *a, const void *b)
+{
+    const level_ref *x = *(const level_ref *const *)a, *y = *(const level_ref *const *)b;
+    int c = strcmp(x->folded, y->folded);
+    return c ? c : strcmp(x->text, y->text);
+}
+
+static char *fold(const char *s)
+{
+    while (*s == ' ' || *s == '\t') s++;
+    size_t n = strlen(s);
+    while (n && (s[n - 1] == ' ' || s[n - 1] == '\t')) n--;
+    char *f = malloc(n + 1);
+    if (!f) return NULL;
+    for (size_t i = 0; i < n; i++)
+        f[i] = s[i] >= 'A' && s[i] <= 'Z' ? (char)(s[i] - 'A' + 'a') : s[i];
+    f[n] = '\0';
+    return f;
+}
+
+/* Equal once the blanks around each are removed? */
+static int trimmed_equal(const char *a, const char *b)
+{
+    a += strspn(a, " \t");
+    b += strspn(b, " \t");
+    size_t la = strlen(a), lb = strlen(b);
+    while (la && (a[la - 1] == ' ' || a[la - 1] == '\t')) la--;
+    while (lb && (b[lb - 1] == ' ' || b[lb - 1] == '\t')) lb--;
+    return la == lb && !memcmp(a, b, la);
+}
+
+static sturdy_status add_warning(sturdy_design *d, char *text, char *err)
+{
+    char **w = text ? realloc(d->warnings, (d->nwarnings + 1) * sizeof *w) : NULL;
+    if (!w) {
+        free(text);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    d->warnings = w;
+    d->warnings[d->nwarnings++] = text;
+    return STURDY_OK;
+}
+
+/* One warning per kind of near-duplicate: "ROLE 'NAME' has levels that WHAT: 'a' and
+ * 'b', ...; ADVICE" for pairs[0..npairs) of level texts. */
+static sturdy_status warn_pairs(sturdy_design *d, const char *role, const char *name,
+                                const char *what, const char *advice, const char **pairs,
+                                size_t npairs, char *err)
+{
+    sturdy_buf b;
+    if (!npairs) return STURDY_OK;
+    sturdy_buf_init(&b);
+    sturdy_buf_printf(&b, "%s '%s' has levels that %s: ", role, name, what);
+    for (size_t k = 0; k < npairs && k < PAIRS_SHOWN; k++)
+        sturdy_buf_printf(&b, "%s'%s' and '%s'", k ? ", " : "", pairs[2 * k],
+                          pairs[2 * k + 1]);
+    if (npairs > PAIRS_SHOWN) sturdy_buf_printf(&b, ", and %zu more pairs", npairs - PAIRS_SHOWN);
+    sturdy_buf_printf(&b, "; %s", advice);
+    char *text = b.failed ? NULL : sturdy_strdup(b.data);
+    sturdy_buf_free(&b);
+    return add_warning(d, text, err);
+}
+
+/* Warnings about near-duplicates among nat[0..nl) (natural order, groups assigned). */
+static sturdy_status near_duplicates(sturdy_design *d, const char *role, const char *name,
+                                     level_ref *nat, size_t nl, int merged, char *err)
+{
+    sturdy_status st = STURDY_OK;
+    const char **pairs = malloc(2 * nl * sizeof *pairs);
+    level_ref **by = malloc(nl * sizeof *by);
+    size_t np = 0;
+    double x, y;
+    if (!pairs || !by) {
+        free(pairs); free(by);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    /* equal numbers sort next to each other in natural order */
+    for (size_t j = 1; j < nl; j++)
+        if (sturdy_parse_number(nat[j - 1].text, &x) && sturdy_parse_number(nat[j].text, &y) &&
+            x == y) {
+            pairs[2 * np] = nat[j - 1].text;
+            pairs[2 * np + 1] = nat[j].text;
+            np++;
+        }
+    if (merged)
+        st = warn_pairs(d, role, name, "are equal as numbers", "each pair was merged into "
+                        "one level, named by the first (--merge-numeric-levels)", pairs, np,
+                        err);
+    else
+        st = warn_pairs(d, role, name, "are equal as numbers, yet count as different "
+                        "levels", "if they are the same, add --merge-numeric-levels or "
+                        "correct the data", pairs, np, err);
+    /* equal after folding case and trimming blanks: adjacent once sorted by the fold */
+    for (int kind = 0; kind < 2 && !st; kind++) {
+        for (size_t j = 0; j < nl; j++) by[j] = &nat[j];
+        qsort(by, nl, sizeof *by, cmp_level_folded);
+        np = 0;
+        for (size_t j = 1; j < nl; j++) {
+            const level_ref *a = by[j - 1], *b = by[j];
+            if (strcmp(a->folded, b->folded) || a->group == b->group) continue;
+            if (sturdy_parse_number(a->text, &x) && sturdy_parse_number(b->text, &y))
+                continue;                       /* reported (or merged) as numbers */
+            /* kind 0: only the blanks around them differ; 1: letter case (perhaps too) */
+            if (trimmed_equal(a->text, b->text) != (kind == 0)) continue;
+            pairs[2 * np] = a->text;
+            pairs[2 * np + 1] = b->text;
+            np++;
+        }
+        st = warn_pairs(d, role, name,
+                        kind == 0 ? "differ only in surrounding spaces, yet count as "
+                                    "different levels"
+                                  : "differ only in letter case, yet count as different "
+                                    "levels",
+                        "correct the data if they are one level", pairs, np, err);
+    }
+    free(pairs);
+    free(by);
+    return st;
+}
+
+/* "'a', 'b' and 3 more" for messages. */
+static void name_list(sturdy_buf *b, const char *const *names, size_t n)
+{
+    for (size_t k = 0; k < n && k < NAMES_SHOWN; k++)
+        sturdy_buf_printf(b, "%s'%s'", k ? ", " : "", names[k]);
+    if (n > NAMES_SHOWN) sturdy_buf_printf(b, " and %zu more", n - NAMES_SHOWN);
+}
+
+/* Does `want` (from --levels) name level text `have`? With merging, equal numbers do. */
+static int names_level(const char *want, const char *have, int merge)
+{
+    double x, y;
+    if (!strcmp(want, have)) return 1;
+    return merge && sturdy_parse_number(want, &x) && sturdy_parse_number(have, &y) && x == y;
+}
+
+/* pos[g] = place of group g in the user's order (ngroups groups; rep[g] is a level text
+ * of group g, members: nat[] with that group). */
+static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *nat, size_t nl,
+                                size_t ngroups, int merge, const char *role, size_t *pos,
+                                char *err)
+{
+    sturdy_status st = STURDY_OK;
+    const char **unknown = malloc((lo->nlevels + ngroups + 1) * sizeof *unknown);
+    const char **left = unknown + lo->nlevels;
+    size_t nunknown = 0, nleft = 0;
+    sturdy_buf b;
+    if (!unknown) return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t g = 0; g < ngroups; g++) pos[g] = (size_t)-1;
+    for (size_t k = 0; k < lo->nlevels; k++) {
+        size_t g = (size_t)-1;
+        for (size_t j = 0; j < nl && g == (size_t)-1; j++)
+            if (names_level(lo->levels[k], nat[j].text, merge)) g = nat[j].group;
+        if (g == (size_t)-1) { unknown[nunknown++] = lo->levels[k]; continue; }
+        if (pos[g] != (size_t)-1) {
+            free(unknown);
+            return sturdy_fail(err, STURDY_EUSAGE, "--levels for %s '%s' lists '%s' twice",
+                               role, lo->factor, lo->levels[k]);
+        }
+        pos[g] = k - nunknown;
+    }
+    for (size_t j = 0; j < nl; j++)
+        if (pos[nat[j].group] == (size_t)-1 && (j == 0 || nat[j - 1].group != nat[j].group))
+            left[nleft++] = nat[j].text;
+    if (nunknown || nleft) {
+        sturdy_buf_init(&b);
+        sturdy_buf_printf(&b, "--levels for %s '%s': ", role, lo->factor);
+        if (nunknown) {
+            name_list(&b, unknown, nunknown);
+            sturdy_buf_printf(&b, " %s not a level of it in the rows used%s",
+                              nunknown == 1 ? "is" : "are", nleft ? "; " : "");
+        }
+        if (nleft) {
+            sturdy_buf_puts(&b, "the order leaves out ");
+            name_list(&b, left, nleft);
+        }
+        sturdy_buf_puts(&b, " (list every level once, separated by commas)");
+        st = sturdy_fail(err, b.failed ? STURDY_EINTERNAL : STURDY_EUSAGE, "%s",
+                         b.failed ? "out of memory" : b.data);
+        sturdy_buf_free(&b);
+    }
+    free(unknown);
+    return st;
+}
+
+sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design *d,
+                                 const sturdy_model_spec *s, size_t max_levels,
+                                 const char *role, sturdy_factor *f, size_t *lev,
+                                 size_t stride, char *err)
+{
+    sturdy_status st = STURDY_OK;
+    size_t n = d->n, nl = 0, ng = 0;
+    const char *name = t->cols[col].name;
+    const sturdy_level_order *lo = NULL;
+    for (size_t k = 0; k < s->nlevel_orders; k++)
+        if (!strcmp(s->level_orders[k].factor, name)) lo = &s->level_orders[k];
+    f->name = sturdy_strdup(name);
+    const char **vals = malloc((n ? n : 1) * sizeof *vals);
+    if (!vals || !f->name) {
+        free(vals);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    /* distinct values: sorted bytewise (cheap); only those few are sorted naturally,
+       which parses numbers in every comparison */
+    for (size_t i = 0; i < n; i++)
+        vals[i] = t->cols[col].text[d->row[i]];
+    qsort(vals, n, sizeof *vals, cmp_str_bytes);
+    for (size_t i = 0; i < n; i++)
+        if (i == 0 || strcmp(vals[i], vals[i - 1]) != 0)
+            vals[nl++] = vals[i];
+    if (nl > max_levels) {
+        free(vals);
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
+                           "really a factor? (raise the limit with --max-levels)",
+                           t->source, role, name, nl, max_levels);
+    }
+    level_ref *nat = calloc(nl ? nl : 1, sizeof *nat);
+    size_t *rank = malloc((nl ? nl : 1) * sizeof *rank), *pos = NULL;
+    if (!nat || !rank) { st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory"); goto done; }
+    for (size_t j = 0; j < nl; j++) {
+        nat[j].text = vals[j];
+        nat[j].bytewise = j;
+        if (!(nat[j].folded = fold(vals[j]))) {
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            goto done;
+        }
+    }
+    qsort(nat, nl, sizeof *nat, cmp_level_natural);
+    /* groups: one per level, or levels equal as numbers (adjacent) merged */
+    for (size_t j = 0; j < nl; j++) {
+        double x, y;
+        int same = j > 0 && s->merge_numeric_levels &&
+                   sturdy_parse_number(nat[j - 1].text, &x) &&
+                   sturdy_parse_number(nat[j].text, &y) && x == y;
+        nat[j].group = same ? nat[j - 1].group : ng++;
+    }
+    if (ng < 2) {
+        st = sturdy_fail(err, STURDY_EMODEL,
+                         "%s: %s '%s' has only one level ('%s') in the rows used; a term "
+                         "needs at least two", t->source, role, name, nl ? nat[0].text : "");
+        goto done;
+    }
+    if ((st = near_duplicates(d, role, name, nat, nl, s->merge_numeric_levels, err)))
+        goto done;
+    if (!(pos = malloc(ng * sizeof *pos))) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    if (lo) {
+        if ((st = user_order(lo, nat, nl, ng, s->merge_numeric_levels, role, pos, err)))
+            goto done;
+    } else {
+        for (size_t g = 0; g < ng; g++) pos[g] = g;
+    }
+    f->nlevels = ng;
+    if (!(f->levels = calloc(ng, sizeof *f->levels))) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    for (size_t j = 0; j < nl; j++) {
+        size_t p = pos[nat[j].group];
+        rank[nat[j].bytewise] = p; /* bytewise index → level index */
+        if (!f->levels[p] && !(f->levels[p] = sturdy_strdup(nat[j].text))) {
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            goto done;
+        }
+    }
+    for (size_t i = 0; i < n; i++) {
+        const char *v = t->cols[col].text[d->row[i]];
+        size_t lo_i = 0, hi = nl; /* binary search among the bytewise-sorted values */
+        while (lo_i < hi) {
+            size_t mid = (lo_i + hi) / 2;
+            int c = strcmp(vals[mid], v);
+            if (c == 0) { lo_i = mid; break; }
+            if (c < 0) lo_i = mid + 1; else hi = mid;
+        }
+        lev[i * stride] = rank[lo_i];
+    }
+done:
+    for (size_t j = 0; nat && j < nl; j++) free(nat[j].folded);
+    free(vals); free(nat); free(rank); free(pos);
+    return st;
+}
