@@ -64,12 +64,33 @@ static void write_header(sturdy_buf *b)
                        "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p\n");
 }
 
+/* The ASCII joiner of factor names in term names. Not '×' (outside ASCII), and not ':',
+ * '*', '/' or '|', which are model-formula operators in other programs, where "A:B" or
+ * "A*B" would read as a formula rather than a name; "_by_" is a plain word that most
+ * spreadsheets and languages also accept inside an identifier. */
+#define ASCII_JOINER "_by_"
+
+static void term_name(sturdy_buf *b, const sturdy_term_result *t, int ascii)
+{
+    if (!ascii || t->kind != STURDY_TERM_FACTORS || t->nfactors < 2) {
+        csv_text(b, t->label);
+        return;
+    }
+    sturdy_buf joined;
+    sturdy_buf_init(&joined);
+    for (size_t f = 0; f < t->nfactors; f++)
+        sturdy_buf_printf(&joined, "%s%s", f ? ASCII_JOINER : "", t->factors[f]);
+    if (joined.failed) b->failed = 1;
+    else csv_text(b, joined.data);
+    sturdy_buf_free(&joined);
+}
+
 static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
-                      const sturdy_term_result *t)
+                      const sturdy_term_result *t, int ascii)
 {
     csv_text(b, rr->name);
     sturdy_buf_put(b, ",", 1);
-    csv_text(b, t->label);
+    term_name(b, t, ascii);
     csv_num(b, t->df);
     csv_num(b, t->ss);
     csv_num(b, t->ms);
@@ -113,10 +134,12 @@ static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
 sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts *o,
                                 sturdy_buf *out)
 {
-    (void)o;   /* CSV has no presentation options */
+    sturdy_report_opts defaults;
+    if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
+    if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
     write_header(out);
     for (size_t i = 0; i < r->nresp; i++)
         for (size_t k = 0; k < r->resp[i].nterms; k++)
-            write_row(out, &r->resp[i], &r->resp[i].terms[k]);
+            write_row(out, &r->resp[i], &r->resp[i].terms[k], o->ascii_terms);
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;
 }

@@ -178,6 +178,8 @@ static void headline(tw *w)
                                 : "the F-test and with resampling";
     tw_fmt_g(alpha, 3, a);
     tw_heading(w, "In short");
+    for (size_t i = 0; r->design && i < r->design->nwarnings; i++)
+        tw_paraf(w, 2, 4, "! %s.", r->design->warnings[i]);
     if (r->finished) spread_headline(w);
     if (!r->finished) {
         tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
@@ -476,8 +478,9 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         else
             snprintf(v, sizeof v, "%s", words);
         tw_fmt_df(t->df, df);
-        tw_fmt_num(t->ss, ss);
-        tw_fmt_num(t->f, f);
+        tw_fmt_num_scaled(t->ss, rr->ss_total, ss);
+        if (tw_is_noise(t->ss, rr->ss_total) && isfinite(t->f)) strcpy(f, "0");
+        else tw_fmt_num(t->f, f);
         tw_fmt_p(t->p, p);
         tw_fmt_p(t->p_perm, pp);
         uv_p_cell(w, t, puv);
@@ -486,8 +489,8 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         term_details(w, t);
     }
     tw_fmt_df(rr->df_error, df);
-    tw_fmt_num(rr->ss_error, ss);
-    tw_fmt_num(rr->ms_error, ms);
+    tw_fmt_num_scaled(rr->ss_error, rr->ss_total, ss);
+    tw_fmt_num_scaled(rr->ms_error, rr->ss_total, ms);
     v[0] = '\0';
     if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
     tests_row(w, "residual", df, ss, "", "", "", "", v, NULL);
@@ -521,7 +524,7 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
         tw_indent(w, 2);
         tw_cell(w, label ? label : "", W_ES_TERM, 0);
         for (int e = 0; e < STURDY_NES; e++) {
-            tw_fmt_g(t->es[e], 3, x);
+            tw_fmt_g(tw_is_noise(t->es[e], 1.0) ? 0.0 : t->es[e], 3, x);
             tw_put(w, "  ");
             tw_cell(w, x, W_ES, 1);
         }
@@ -626,11 +629,11 @@ static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
         sturdy_buf_printf(s, "Shapiro–Wilk not available (%s)",
                           g->sw_note ? g->sw_note : "not computed");
     }
-    tw_fmt_g(g->skewness, 3, x);
+    tw_fmt_g(tw_is_noise(g->skewness, 1.0) ? 0.0 : g->skewness, 3, x);
     sturdy_buf_printf(s, "; skewness %s%s", x,
                       !(fabs(g->skewness) > SKEW_STRONG) ? ""
                       : g->skewness > 0 ? " (strongly right-skewed)" : " (strongly left-skewed)");
-    tw_fmt_g(g->excess_kurtosis, 3, x);
+    tw_fmt_g(tw_is_noise(g->excess_kurtosis, 1.0) ? 0.0 : g->excess_kurtosis, 3, x);
     sturdy_buf_printf(s, ", excess kurtosis %s.", x);
     /* Freedman–Lane keeps its level under non-normal errors of equal spread; with unequal
      * spreads no rearrangement of F does, so the advice follows the spread check. */
@@ -709,11 +712,21 @@ static void checks(tw *w, const sturdy_response_result *rr)
     tw_nl(w);
 }
 
+/* Is the note one of the warnings about levels shown under the headline? */
+static int is_level_warning(const sturdy_design *d, const char *note)
+{
+    for (size_t i = 0; d && note && i < d->nwarnings; i++)
+        if (!strcmp(d->warnings[i], note)) return 1;
+    return 0;
+}
+
 static void notes(tw *w)
 {
     const sturdy_result *r = w->r;
     const sturdy_design *d = r->design;
-    if (r->nnotes == 0 && (!d || d->ndropped == 0)) return;
+    size_t shown = 0;
+    for (size_t i = 0; i < r->nnotes; i++) shown += !is_level_warning(d, r->notes[i]);
+    if (shown == 0 && (!d || d->ndropped == 0)) return;
     tw_heading(w, "Notes");
     if (d && d->ndropped) {
         tw_paraf(w, 2, 4, "• %zu row%s left out of the analysis:", d->ndropped,
@@ -725,7 +738,8 @@ static void notes(tw *w)
             tw_paraf(w, 4, 6, "and %zu more (see the JSON output)", d->ndropped - LIST_MAX);
     }
     for (size_t i = 0; i < r->nnotes; i++)
-        tw_paraf(w, 2, 4, "• %s", r->notes[i] ? r->notes[i] : "");
+        if (!is_level_warning(d, r->notes[i]))
+            tw_paraf(w, 2, 4, "• %s", r->notes[i] ? r->notes[i] : "");
 }
 
 sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opts *o,

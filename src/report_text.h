@@ -63,6 +63,16 @@ void tw_fmt_pr(double v, char *out);     /* a bound of a p-value range: as p, bu
                                             "0" and tiny values as "2.5e-05" */
 void tw_fmt_es(double v, char *out);     /* interval bounds: 2 significant digits */
 void tw_fmt_df(double v, char *out);
+/* Rounding noise printed as 0: sums of squares come from orthogonal projections whose
+ * rounding error is a few n·ε times the total sum of squares (ε = 2.2e-16; n = 1e5 rows
+ * give about 2e-11), so a value below TW_ZERO_REL of its scale (the response's total SS
+ * for SS and MS, 1 for ratios such as η², skewness and kurtosis) cannot be told from
+ * zero and prints as "0"; the fit's rank tolerance, 1e-9, is of the same order. JSON and
+ * CSV keep the computed values. */
+#define TW_ZERO_REL 1e-10
+int tw_is_noise(double v, double scale);
+/* tw_fmt_num, or "0" for noise relative to `scale`. */
+void tw_fmt_num_scaled(double v, double scale, char *out);
 void tw_fmt_range(sturdy_pair p, void (*fmt)(double, char *), char *out);
 
 #endif

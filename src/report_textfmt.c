@@ -271,6 +271,17 @@ void tw_fmt_df(double v, char *out)
     else tw_fmt_g(v, 3, out);
 }
 
+int tw_is_noise(double v, double scale)
+{
+    return isfinite(v) && isfinite(scale) && v != 0 && fabs(v) < TW_ZERO_REL * fabs(scale);
+}
+
+void tw_fmt_num_scaled(double v, double scale, char *out)
+{
+    if (tw_is_noise(v, scale)) strcpy(out, "0");
+    else tw_fmt_num(v, out);
+}
+
 void tw_fmt_range(sturdy_pair p, void (*fmt)(double, char *), char *out)
 {
     char lo[32], hi[32];

@@ -49,6 +49,10 @@ typedef struct {
     const char *const *args; size_t nargs; /* partial JSON: the command's arguments and */
     const char *cwd;                       /* working folder, so a merge can repeat the
                                               set-up; NULL/0 when unknown */
+    int ascii_terms; /* CSV: term names with the factor names joined by "_by_" (ASCII),
+                        not by '×' */
+    int bom;         /* CSV: begin with a UTF-8 byte-order mark, which some spreadsheet
+                        programs need to read UTF-8 */
 } sturdy_report_opts;
 
 void sturdy_report_opts_init(sturdy_report_opts *o);
@@ -59,7 +63,8 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
                                  sturdy_buf *out);
 sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opts *o,
                                  sturdy_buf *out);
-/* One row per response × term; a header row first. Numbers as sturdy_format_double,
+/* One row per response × term; a header row first (after a byte-order mark with
+ * o->bom; term names joined by "_by_" with o->ascii_terms). Numbers as sturdy_format_double,
  * an empty field for null; fields quoted (RFC 4180) when they hold a comma, a quote, a
  * line break or surrounding blanks; lines end in "\n". */
 sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts *o,
