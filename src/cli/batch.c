@@ -52,11 +52,13 @@ static const char batch_help[] =
 "  response   required: response column(s), comma-separated inside a quoted field\n"
 "  factors    required: factor columns, likewise\n"
 "  optional, as the 'check' options of the same name: covariates, block, order, ss,\n"
-"  permutations, bootstrap, method, flip (yes/no/true/false/1/0), bootstrap-scheme,\n"
-"  spread-scheme,\n"
-"  conf, alpha, seed, delimiter, missing, max-levels, max-columns.\n"
-"  An empty field leaves the option at its default. threads, shard, format, output and\n"
-"  quiet belong to the batch and cannot be columns.\n"
+"  levels, merge-numeric-levels, permutations, bootstrap, method, flip,\n"
+"  bootstrap-scheme, spread-scheme, conf, alpha, seed, delimiter, missing,\n"
+"  missing-only, max-levels, max-columns. Flags (flip, merge-numeric-levels) take\n"
+"  yes/no/true/false/1/0. A column may be named by a prefix of exactly one option, as\n"
+"  on the command line (perm = permutations). An empty field leaves the option at its\n"
+"  default. threads, shard, format, output, quiet, ascii-terms and csv-bom belong to\n"
+"  the batch and cannot be columns.\n"
 "\n"
 "Example plan (nightly.csv)\n"
 "  name,data,response,factors,covariates,ss,permutations,flip\n"
@@ -74,16 +76,14 @@ static const char batch_help[] =
 
 static const char *const required_cols[] = { "name", "data", "response", "factors" };
 enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
-/* Plan columns passed on as `check` long options of the same name. */
-static const char *const option_cols[] = {
-    "covariates", "block", "order", "ss", "permutations", "bootstrap", "method", "flip",
-    "bootstrap-scheme", "spread-scheme", "conf", "alpha", "seed", "delimiter", "missing", "max-levels",
-    "max-columns"
-};
-#define NOPTION_COLS (sizeof option_cols / sizeof *option_cols)
-/* `check` options that belong to the batch as a whole. */
-static const char *const batch_cols[] = { "threads", "shard", "format", "output", "quiet" };
+/* Other plan columns are `check` long options, named as on the command line: the full
+ * name or a prefix of exactly one (cli_option_lookup, the table getopt_long reads). These
+ * belong to the batch as a whole, or to CSV output, which a batch does not write. */
+static const char *const batch_cols[] = { "threads", "shard", "format", "output", "quiet",
+                                           "help", "version", "ascii-terms", "csv-bom" };
 #define NBATCH_COLS (sizeof batch_cols / sizeof *batch_cols)
+/* Room for the plan column of each `check` option (more than the table holds). */
+#define MAX_CHECK_OPTIONS 64
 
 typedef struct {
     const char *plan_path, *dir, *old_dir, *threads;
@@ -91,7 +91,7 @@ typedef struct {
     char *plan_dir;              /* folder of the plan, or NULL when it has no '/' */
     sturdy_table *plan;
     long req[NREQUIRED];         /* plan columns of the required fields */
-    long opt[NOPTION_COLS];      /* plan columns of the options, or -1 */
+    long opt[MAX_CHECK_OPTIONS]; /* plan column of each cli_check_options entry, or -1 */
 } batch;
 
 static char *str_printf(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
@@ -207,21 +207,38 @@ static int plan_load(batch *b)
     const sturdy_table *t = b->plan;
     size_t hline = header_line(b->plan_path);
     for (size_t k = 0; k < NREQUIRED; k++) b->req[k] = -1;
-    for (size_t k = 0; k < NOPTION_COLS; k++) b->opt[k] = -1;
+    for (size_t k = 0; k < MAX_CHECK_OPTIONS; k++) b->opt[k] = -1;
     for (size_t j = 0; j < t->ncols; j++) {
         const char *h = t->cols[j].name;
-        int known = 0;
-        for (size_t k = 0; k < NREQUIRED; k++)
-            if (!strcmp(h, required_cols[k])) { b->req[k] = (long)j; known = 1; }
-        for (size_t k = 0; k < NOPTION_COLS; k++)
-            if (!strcmp(h, option_cols[k])) { b->opt[k] = (long)j; known = 1; }
-        for (size_t k = 0; k < NBATCH_COLS; k++)
-            if (!strcmp(h, batch_cols[k]))
-                return plan_error(b, hline, (long)j, "'%s' is an option of the whole batch "
-                                  "and cannot be set per analysis", h);
-        if (!known)
+        long *slot = NULL;
+        int k = -1;
+        if (!strcmp(h, "name")) slot = &b->req[COL_NAME];
+        else if (!strcmp(h, "data")) slot = &b->req[COL_DATA];
+        else if ((k = cli_option_lookup(h, NULL)) == -2) {
+            char opts[256] = "";
+            for (int i = 0; cli_check_options[i].name; i++)
+                if (!strncmp(cli_check_options[i].name, h, strlen(h)) &&
+                    strlen(opts) + strlen(cli_check_options[i].name) + 3 < sizeof opts)
+                    snprintf(opts + strlen(opts), sizeof opts - strlen(opts), "%s%s",
+                             opts[0] ? ", " : "", cli_check_options[i].name);
+            return plan_error(b, hline, (long)j, "'%s' is the start of several option names "
+                              "(%s); spell it out", h, opts);
+        } else if (k < 0 || k >= MAX_CHECK_OPTIONS) {
             return plan_error(b, hline, (long)j, "unknown column (see 'sturdy batch --help' "
                               "for the plan columns)");
+        } else {
+            const char *full = cli_check_options[k].name;
+            for (size_t i = 0; i < NBATCH_COLS; i++)
+                if (!strcmp(full, batch_cols[i]))
+                    return plan_error(b, hline, (long)j, "'%s' is an option of the whole "
+                                      "batch and cannot be set per analysis", full);
+            slot = !strcmp(full, "response") ? &b->req[COL_RESPONSE]
+                   : !strcmp(full, "factors") ? &b->req[COL_FACTORS] : &b->opt[k];
+        }
+        if (*slot >= 0)
+            return plan_error(b, hline, (long)j, "this column and column %ld ('%s') set the "
+                              "same thing", *slot + 1, t->cols[*slot].name);
+        *slot = (long)j;
     }
     for (size_t k = 0; k < NREQUIRED; k++)
         if (b->req[k] < 0)
@@ -298,24 +315,23 @@ static int row_argv(const batch *b, size_t row, argvec *a, char *msg, size_t len
     push_list(a, cell(b, b->req[COL_RESPONSE], row));
     arg_push(a, "--factors");
     push_list(a, cell(b, b->req[COL_FACTORS], row));
-    for (size_t k = 0; k < NOPTION_COLS; k++) {
-        const char *v = cell(b, b->opt[k], row);
+    for (int k = 0; k < MAX_CHECK_OPTIONS && cli_check_options[k].name; k++) {
+        const char *v = cell(b, b->opt[k], row), *full = cli_check_options[k].name;
         if (!*v) continue;
-        if (!strcmp(option_cols[k], "flip")) {
+        char opt[64];
+        snprintf(opt, sizeof opt, "--%s", full);
+        if (cli_check_options[k].has_arg == no_argument) {
             int yes = !strcasecmp(v, "yes") || !strcasecmp(v, "true") || !strcmp(v, "1");
             int no = !strcasecmp(v, "no") || !strcasecmp(v, "false") || !strcmp(v, "0");
             if (!yes && !no) {
-                snprintf(msg, len, "flip wants yes, no, true, false, 1 or 0, not '%s'", v);
+                snprintf(msg, len, "%s wants yes, no, true, false, 1 or 0, not '%s'", full, v);
                 return CLI_EXIT_USAGE;
             }
-            if (yes) arg_push(a, "--flip");
+            if (yes) arg_push(a, opt);
             continue;
         }
-        char opt[32];
-        snprintf(opt, sizeof opt, "--%s", option_cols[k]);
         arg_push(a, opt);
-        if (!strcmp(option_cols[k], "covariates")) push_list(a, v);
-        else arg_push(a, v);
+        arg_push(a, v);
     }
     if (b->threads) { arg_push(a, "--threads"); arg_push(a, b->threads); }
     arg_push(a, "--format");

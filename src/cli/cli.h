@@ -4,6 +4,7 @@
 #ifndef STURDY_CLI_H
 #define STURDY_CLI_H
 
+#include <getopt.h>
 #include <stddef.h>
 #include <stdint.h>
 
@@ -21,6 +22,12 @@ typedef struct {
     size_t n;
 } cli_list;
 
+/* One --levels FACTOR=a,b,c: owned copies. */
+typedef struct {
+    char *factor;
+    cli_list levels;
+} cli_level_order;
+
 /* Everything `check` and `demo` take from the command line. */
 typedef struct {
     const char *command;         /* "check" or "demo" (for messages) */
@@ -34,12 +41,23 @@ typedef struct {
                                     in shard parts so that merge can repeat the set-up */
     const char *cwd;             /* working folder at parse time (owned), for shards */
     cli_list responses, factors, covariates, missing;
-    int missing_given;
+    int missing_only;            /* --missing-only: the tokens replace the defaults */
+    cli_level_order *levels; size_t nlevels;   /* --levels, in the order given */
+    sturdy_level_order *orders;  /* the same for the model spec (points into `levels`) */
+    int ascii_terms, csv_bom;    /* CSV presentation */
     cli_format format;
     int format_given;
     const char *out_path;        /* NULL: standard output */
     int quiet;
 } cli_check;
+
+/* The long options of `check` (getopt_long's table, ended by a zero entry). */
+extern const struct option cli_check_options[];
+
+/* Index in cli_check_options of the option `name` names (without dashes): its exact
+ * name, or a prefix of exactly one name, as getopt_long reads the command line. -1:
+ * none; -2: ambiguous. *has_arg (may be NULL) gets its getopt has_arg. */
+int cli_option_lookup(const char *name, int *has_arg);
 
 /* Parse `argv` (argv[0] is the subcommand name). Returns 0, CLI_DONE after printing
  * help or the version, or CLI_EXIT_USAGE after printing the problem. Free with

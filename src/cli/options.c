@@ -14,10 +14,14 @@
 enum {
     OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
-    OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD
+    OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
+    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM
 };
 
-static const struct option long_options[] = {
+/* The one table of `check`'s long options: getopt_long reads the command line with it
+ * (accepting unique prefixes), and batch plans name their columns by it the same way
+ * (cli_option_lookup). */
+const struct option cli_check_options[] = {
     { "response", required_argument, NULL, 'y' },
     { "factors", required_argument, NULL, 'f' },
     { "covariates", required_argument, NULL, OPT_COVARIATES },
@@ -40,6 +44,11 @@ static const struct option long_options[] = {
     { "quiet", no_argument, NULL, 'q' },
     { "delimiter", required_argument, NULL, OPT_DELIMITER },
     { "missing", required_argument, NULL, OPT_MISSING },
+    { "missing-only", required_argument, NULL, OPT_MISSING_ONLY },
+    { "levels", required_argument, NULL, OPT_LEVELS },
+    { "merge-numeric-levels", no_argument, NULL, OPT_MERGE_NUMERIC },
+    { "ascii-terms", no_argument, NULL, OPT_ASCII_TERMS },
+    { "csv-bom", no_argument, NULL, OPT_CSV_BOM },
     { "max-levels", required_argument, NULL, OPT_MAX_LEVELS },
     { "max-columns", required_argument, NULL, OPT_MAX_COLUMNS },
     { "help", no_argument, NULL, 'h' },
@@ -62,6 +71,9 @@ static const char check_help[] =
 "      --block COL              additive block; rearrangements stay within blocks\n"
 "      --order K                highest interaction order (default: all)\n"
 "      --ss 1|2|3               type of sums of squares (default 3)\n"
+"      --levels F=a,b,c         the order of factor F's levels (default: natural order,\n"
+"                               N0 N40 N120); repeatable, or 'F=a,b;G=x,y'\n"
+"      --merge-numeric-levels   levels equal as numbers (60 and 60.0) are one level\n"
 "\n"
 "Resampling\n"
 "  -B, --permutations N         rearrangements per test (default 9999; 0 = none)\n"
@@ -82,7 +94,9 @@ static const char check_help[] =
 "\n"
 "Input\n"
 "      --delimiter C            field separator (default ','; 'tab' for tabs)\n"
-"      --missing TOKEN[,...]    values meaning missing (default: empty field and NA)\n"
+"      --missing TOKEN[,...]    more values meaning missing, besides the defaults (the\n"
+"                               empty field and NA)\n"
+"      --missing-only TOKEN[,...]  values meaning missing, instead of the defaults\n"
 "      --max-levels N           refuse a factor with more levels (default 1000)\n"
 "      --max-columns N          refuse a design with more coded columns (default 4000)\n"
 "\n"
@@ -90,6 +104,9 @@ static const char check_help[] =
 "      --format text|json|csv   report format (default text, or as -o FILE.json/.csv)\n"
 "  -o, --output FILE            write to FILE (complete or not at all) instead of\n"
 "                               standard output\n"
+"      --ascii-terms            CSV: join factor names in term names with '_by_', not\n"
+"                               '\xc3\x97' (ASCII only)\n"
+"      --csv-bom                CSV: start with a UTF-8 byte-order mark (for spreadsheets)\n"
 "  -q, --quiet                  no work estimate or progress on standard error\n"
 "  -h, --help                   show this help\n"
 "      --version                show the version\n"
@@ -110,7 +127,8 @@ static const char demo_help[] =
 "  sturdy check examples/demo.csv -y build_min -f runner,cache,tests\n"
 "\n"
 "Options: those of 'sturdy check' (see 'sturdy check --help') except the ones that\n"
-"describe the data (-y, -f, --covariates, --block, --delimiter, --missing), e.g.\n"
+"describe the data (-y, -f, --covariates, --block, --delimiter, --missing,\n"
+"--missing-only), e.g.\n"
 "  -B N, --bootstrap N, --seed N, --threads N, --format text|json|csv, -o FILE, --quiet\n";
 
 int cli_usage_error(const char *command, const char *fmt, ...)
@@ -151,14 +169,18 @@ int cli_list_add(cli_list *l, const char *text, int keep_empty)
     const char *p = text;
     for (;;) {
         size_t len = strcspn(p, ",");
-        if (len == 0 && !keep_empty) return -1;
+        /* blanks around a name are not part of it ("-f a, b"), as in the table's header */
+        size_t a = 0, b = len;
+        while (a < b && (p[a] == ' ' || p[a] == '\t')) a++;
+        while (b > a && (p[b - 1] == ' ' || p[b - 1] == '\t')) b--;
+        if (a == b && !keep_empty) return -1;
         char **items = realloc(l->items, (l->n + 1) * sizeof *items);
         if (!items) return -2;
         l->items = items;
-        char *item = malloc(len + 1);
+        char *item = malloc(b - a + 1);
         if (!item) return -2;
-        memcpy(item, p, len);
-        item[len] = '\0';
+        memcpy(item, p + a, b - a);
+        item[b - a] = '\0';
         l->items[l->n++] = item;
         if (!p[len]) return 0;
         p += len + 1;
@@ -184,6 +206,28 @@ void cli_check_free(cli_check *c)
     cli_list_free(&c->factors);
     cli_list_free(&c->covariates);
     cli_list_free(&c->missing);
+    for (size_t k = 0; k < c->nlevels; k++) {
+        free(c->levels[k].factor);
+        cli_list_free(&c->levels[k].levels);
+    }
+    free(c->levels);
+    free(c->orders);
+}
+
+int cli_option_lookup(const char *name, int *has_arg)
+{
+    size_t len = strlen(name);
+    int exact = -1, prefix = -1, nprefix = 0;
+    if (!len) return -1;
+    for (int k = 0; cli_check_options[k].name; k++) {
+        const char *o = cli_check_options[k].name;
+        if (strncmp(o, name, len)) continue;
+        if (!o[len]) exact = k;
+        else if (nprefix++ == 0) prefix = k;
+    }
+    int found = exact >= 0 ? exact : nprefix == 1 ? prefix : nprefix ? -2 : -1;
+    if (found >= 0 && has_arg) *has_arg = cli_check_options[found].has_arg;
+    return found;
 }
 
 /* Option value helpers: each returns 0 or prints a usage error and returns 2. */
@@ -198,11 +242,12 @@ static int want_u64(const cli_check *c, const char *opt, const char *arg, uint64
     return 0;
 }
 
-static int want_level(const cli_check *c, const char *opt, const char *arg, double *v)
+static int want_level(const cli_check *c, const char *opt, const char *arg,
+                      const char *example, double *v)
 {
     if (!cli_parse_double(arg, v) || !(*v > 0 && *v < 1))
         return cli_usage_error(c->command, "%s wants a number strictly between 0 and 1 "
-                               "(e.g. 0.95), not '%s'", opt, arg);
+                               "(e.g. %s), not '%s'", opt, example, arg);
     return 0;
 }
 
@@ -254,11 +299,44 @@ static int format_of_path(const char *path)
     return -1;
 }
 
+/* --levels 'F=a,b,c' (several separated by ';'): each order parsed into c->levels. */
+static int parse_levels(cli_check *c, const char *arg)
+{
+    const char *p = arg;
+    for (;;) {
+        size_t len = strcspn(p, ";");
+        const char *eq = memchr(p, '=', len);
+        size_t a = 0, b = eq ? (size_t)(eq - p) : 0;
+        while (a < b && (p[a] == ' ' || p[a] == '\t')) a++;
+        while (b > a && (p[b - 1] == ' ' || p[b - 1] == '\t')) b--;
+        if (!eq || a == b)
+            return cli_usage_error(c->command, "--levels wants FACTOR=LEVEL,LEVEL,... (several "
+                                   "separated by ';'), not '%s'", arg);
+        cli_level_order *lv = realloc(c->levels, (c->nlevels + 1) * sizeof *lv);
+        if (!lv) { fputs("sturdy: out of memory\n", stderr); return STURDY_EINTERNAL; }
+        c->levels = lv;
+        lv = &c->levels[c->nlevels];
+        memset(lv, 0, sizeof *lv);
+        if (!(lv->factor = strndup(p + a, b - a))) {
+            fputs("sturdy: out of memory\n", stderr);
+            return STURDY_EINTERNAL;
+        }
+        c->nlevels++;
+        char *list = strndup(eq + 1, len - (size_t)(eq + 1 - p));
+        if (!list) { fputs("sturdy: out of memory\n", stderr); return STURDY_EINTERNAL; }
+        int rc = want_list(c, &lv->levels, "--levels", list, 0);
+        free(list);
+        if (rc) return rc;
+        if (!p[len]) return 0;
+        p += len + 1;
+    }
+}
+
 /* Options that describe the data make no sense for the built-in demo. */
 static int demo_forbids(int opt)
 {
     return opt == 'y' || opt == 'f' || opt == OPT_COVARIATES || opt == OPT_BLOCK ||
-           opt == OPT_DELIMITER || opt == OPT_MISSING;
+           opt == OPT_DELIMITER || opt == OPT_MISSING || opt == OPT_MISSING_ONLY;
 }
 
 /* One option; returns 0 or an exit status. */
@@ -274,9 +352,14 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
     case 'y': return want_list(c, &c->responses, "--response", arg, 0);
     case 'f': return want_list(c, &c->factors, "--factors", arg, 0);
     case OPT_COVARIATES: return want_list(c, &c->covariates, "--covariates", arg, 0);
-    case OPT_MISSING:
-        c->missing_given = 1;
-        return want_list(c, &c->missing, "--missing", arg, 1);
+    case OPT_MISSING: return want_list(c, &c->missing, "--missing", arg, 1);
+    case OPT_MISSING_ONLY:
+        c->missing_only = 1;
+        return want_list(c, &c->missing, "--missing-only", arg, 1);
+    case OPT_LEVELS: return parse_levels(c, arg);
+    case OPT_MERGE_NUMERIC: o->model.merge_numeric_levels = 1; return 0;
+    case OPT_ASCII_TERMS: c->ascii_terms = 1; return 0;
+    case OPT_CSV_BOM: c->csv_bom = 1; return 0;
     case OPT_BLOCK:
         if (!*arg) return cli_usage_error(c->command, "--block wants a column name");
         o->model.block = arg;
@@ -314,8 +397,8 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         else return cli_usage_error(c->command, "--spread-scheme wants none, wild or permutation, "
                                     "not '%s'", arg);
         return 0;
-    case OPT_CONF: return want_level(c, "--conf", arg, &o->conf);
-    case OPT_ALPHA: return want_level(c, "--alpha", arg, &o->alpha);
+    case OPT_CONF: return want_level(c, "--conf", arg, "0.95", &o->conf);
+    case OPT_ALPHA: return want_level(c, "--alpha", arg, "0.05", &o->alpha);
     case OPT_SEED: return want_u64(c, "--seed", arg, 0, &o->seed);
     case OPT_THREADS:
         if (want_u64(c, "--threads", arg, 0, &u)) return CLI_EXIT_USAGE;
@@ -373,12 +456,33 @@ static int finish(cli_check *c)
     o->model.nfactors = c->factors.n;
     o->model.covariates = (const char *const *)c->covariates.items;
     o->model.ncovariates = c->covariates.n;
-    if (c->missing_given) {
+    /* --missing adds to the defaults; --missing-only replaces them */
+    if (c->missing.n || c->missing_only) {
+        if (!c->missing_only &&
+            (want_list(c, &c->missing, "--missing", "", 1) ||
+             want_list(c, &c->missing, "--missing", "NA", 1)))
+            return STURDY_EINTERNAL;
         c->topts.missing = (const char *const *)c->missing.items;
         c->topts.nmissing = c->missing.n;
     }
+    if (c->nlevels) {
+        if (!(c->orders = calloc(c->nlevels, sizeof *c->orders))) {
+            fputs("sturdy: out of memory\n", stderr);
+            return STURDY_EINTERNAL;
+        }
+        for (size_t k = 0; k < c->nlevels; k++) {
+            c->orders[k].factor = c->levels[k].factor;
+            c->orders[k].levels = (const char *const *)c->levels[k].levels.items;
+            c->orders[k].nlevels = c->levels[k].levels.n;
+        }
+        o->model.level_orders = c->orders;
+        o->model.nlevel_orders = c->nlevels;
+    }
     if (!c->format_given && c->out_path && format_of_path(c->out_path) >= 0)
         c->format = (cli_format)format_of_path(c->out_path);
+    if ((c->ascii_terms || c->csv_bom) && (o->shard_count || c->format != CLI_FMT_CSV))
+        return cli_usage_error(c->command, "%s applies to CSV output: add --format csv (or "
+                               "-o FILE.csv)", c->ascii_terms ? "--ascii-terms" : "--csv-bom");
     if (o->shard_count) {
         if (c->format_given && c->format != CLI_FMT_JSON)
             return cli_usage_error(c->command, "--shard writes JSON for 'sturdy merge'; "
@@ -412,7 +516,7 @@ int cli_check_parse(int argc, char **argv, int demo, cli_check *c)
     opterr = 0;      /* our own messages */
     optind = 1;
     int opt, rc;
-    while ((opt = getopt_long(argc, argv, ":y:f:B:o:qh", long_options, NULL)) != -1) {
+    while ((opt = getopt_long(argc, argv, ":y:f:B:o:qh", cli_check_options, NULL)) != -1) {
         const char *spelled = argv[optind - 1];
         if (opt == 'h') { fputs(demo ? demo_help : check_help, stdout); return CLI_DONE; }
         if (opt == OPT_VERSION) { puts("sturdy " STURDY_VERSION); return CLI_DONE; }

@@ -104,6 +104,8 @@ int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
     ro.args = (const char *const *)c->argv;
     ro.nargs = (size_t)c->argc;
     ro.cwd = c->cwd;
+    ro.ascii_terms = c->ascii_terms;
+    ro.bom = c->csv_bom;
     switch (c->format) {
     case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
     case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);
