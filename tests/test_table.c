@@ -2,6 +2,7 @@
  * delimiters, missing tokens), its error messages, and exact numeric conversion
  * checked on NIST StRD SmLs09. Run from the repository root. */
 #include "check.h"
+#include "sturdy/design.h"
 #include "sturdy/table.h"
 
 #include <stdint.h>
@@ -472,6 +473,13 @@ static void test_bad_files(void)
         {"overflow_response.csv", "line 2 (row 1), column 'yield': '1e400' is out of range", 1},
         {"decimal_comma.csv", "line 5 (row 4), column 'yield': '5,3' is not a number", 1},
         {"all_missing_response.csv", "line 2 (row 1), column 'yield': the value is missing", 1},
+        {"semicolon_separated.csv", "line 2 (row 1): 2 fields, but the header has 1; this "
+                                    "looks semicolon-separated: add --delimiter ';'", 0},
+        {"below_detection.csv", "line 4 (row 3), column 'yield': '<LOD' is not a number; if "
+                                "it marks a value that was not measured, declare it missing "
+                                "with --missing '<LOD'", 1},
+        {"units_in_cell.csv", "line 6 (row 5), column 'yield': '3.8 MPa' is not a number: "
+                              "text follows it ('MPa'); give units in the column name", 1},
     };
     for (size_t k = 0; k < sizeof bad / sizeof bad[0]; k++) {
         char path[128], name[160];
@@ -492,8 +500,10 @@ static void test_bad_files(void)
         check_err(name, st, STURDY_EDATA, path, bad[k].frag, NULL);
         sturdy_table_free(t);
     }
-    static const char *const design_level[] = {"unknown_column.csv", "one_level.csv"};
-    for (size_t k = 0; k < 2; k++) {
+    static const char *const design_level[] = {"unknown_column.csv", "one_level.csv",
+                                               "column_case.csv", "tab_separated.csv",
+                                               "semicolon_no_comma.csv"};
+    for (size_t k = 0; k < sizeof design_level / sizeof *design_level; k++) {
         char path[128], name[160];
         sturdy_table *t = NULL;
         snprintf(path, sizeof path, "tests/data/bad/%s", design_level[k]);
@@ -501,8 +511,44 @@ static void test_bad_files(void)
         snprintf(name, sizeof name, "bad file %s is a valid table (design catches it)",
                  design_level[k]);
         CHECK(name, st == STURDY_OK && t && t->nrows == 8);
+        /* the header read as one field: the delimiter advice, and only then */
+        const char *hint = st == STURDY_OK ? sturdy_table_delimiter_hint(t) : NULL;
+        const char *want = k == 3 ? "this looks tab-separated: add --delimiter tab"
+                           : k == 4 ? "this looks semicolon-separated: add --delimiter ';'"
+                                    : NULL;
+        snprintf(name, sizeof name, "bad file %s: delimiter advice \"%s\" (want \"%s\")",
+                 design_level[k], hint ? hint : "none", want ? want : "none");
+        CHECK(name, want ? hint && !strcmp(hint, want) : hint == NULL);
         sturdy_table_free(t);
     }
+    /* read with the right delimiter, no advice */
+    sturdy_table_opts o;
+    sturdy_table_opts_init(&o);
+    o.delimiter = '\t';
+    sturdy_table *t = NULL;
+    sturdy_status st = sturdy_table_load("tests/data/bad/tab_separated.csv", &o, &t, err);
+    CHECK("tab_separated.csv with delimiter tab: 4 columns, no advice",
+          st == STURDY_OK && t && t->ncols == 4 && !sturdy_table_delimiter_hint(t));
+    sturdy_table_free(t);
+}
+
+/* Natural order of levels (README): numbers numerically, then text with runs of digits
+ * compared as whole numbers, never two distinct strings equal. */
+static void test_level_order(void)
+{
+    static const char *const sorted[] = {"-2", "0", "1", "1.0", "10", "1e2", "N0", "N01",
+                                         "N1", "N40", "N80", "N120", "N120b", "P2", "a",
+                                         "b9x", "b10"};
+    const size_t n = sizeof sorted / sizeof *sorted;
+    for (size_t k = 0; k + 1 < n; k++) {
+        char name[128];
+        snprintf(name, sizeof name, "level order: '%s' before '%s'", sorted[k], sorted[k + 1]);
+        CHECK(name, sturdy_level_compare(sorted[k], sorted[k + 1]) < 0 &&
+                        sturdy_level_compare(sorted[k + 1], sorted[k]) > 0);
+    }
+    CHECK("level order: 'N0' before 'N120' (not bytewise)", sturdy_level_compare("N0", "N120") < 0 &&
+          sturdy_level_compare("N40", "N120") < 0 && sturdy_level_compare("N80", "N120") < 0);
+    CHECK("level order: equal strings compare 0", sturdy_level_compare("N40", "N40") == 0);
 }
 
 static void test_status_names(void)
@@ -530,6 +576,7 @@ int main(void)
     test_numeric_random();
     test_smls09();
     test_bad_files();
+    test_level_order();
     test_status_names();
     return check_done();
 }
