@@ -15,6 +15,10 @@
  * F never take more than 9 characters in tw_fmt_num's format. MS is left to JSON and CSV
  * to make room for the unequal-variance test. */
 enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13 };
+/* A longer term label widens the term column of both tables (and the table beyond 99
+ * columns) up to this width, so that its numbers stay on its line; only longer labels
+ * get a line of their own. 40 holds a three-way term of 12-character names. */
+enum { W_TERM_MAX = 40 };
 /* Effect-size table: a narrower term column, then five columns of this width, each after
  * two blanks (2 + 18 + 5·16 = 100); "4.4e-05–0.0015" is 14 characters. */
 enum { W_ES_TERM = 18, W_ES = 14 };
@@ -65,7 +69,10 @@ static const char *perm_reason(const sturdy_result *r, const sturdy_term_result 
 static const char *boot_reason(const sturdy_result *r, const sturdy_term_result *t)
 {
     if (t->boot_note) return t->boot_note;
-    if (r->nboot == 0) return "no bootstrap was asked for (--bootstrap 0)";
+    if (r->nboot == 0 && r->opts.bootstrap == 0)
+        return "no bootstrap was asked for (--bootstrap 0)";
+    if (r->nboot == 0) return "no residual degrees of freedom: there are no residuals to "
+                              "resample";
     if (!r->finished) return "this is one shard of a split run; 'sturdy merge' completes it";
     return "not computed";
 }
@@ -153,6 +160,52 @@ static const char *tests_finding(int f, int r, int uv)
     return names[k];
 }
 
+/* A factor that reads like a replicate or run number, or NULL. */
+static const char *replicate_like(const sturdy_design *d)
+{
+    static const char *const words[] = { "rep", "run", "id", "replicate", "sample", "unit" };
+    for (size_t f = 0; d && f < d->nfactors; f++) {
+        const char *n = d->factors[f].name;
+        for (size_t k = 0; k < sizeof words / sizeof *words; k++) {
+            size_t l = strlen(words[k]), i = 0;
+            while (i < l && n[i] && (n[i] | 0x20) == words[k][i]) i++;
+            if (i == l && (n[l] == '\0' || n[l] == '_' || n[l] == '.' || n[l] == ' ' ||
+                           (n[l] >= '0' && n[l] <= '9') || l > 3))
+                return n;
+        }
+    }
+    return NULL;
+}
+
+/* When no term has an F-test (no residual degrees of freedom, or every term not
+ * testable), that one cause leads the report, once; the footnotes below only repeat its
+ * consequences. Returns 1 when it wrote the headline. */
+static int untested_cause(tw *w)
+{
+    const sturdy_result *r = w->r;
+    if (sturdy_result_tested_terms(r) > 0) return 0;
+    const sturdy_design *d = r->design;
+    const char *why = sturdy_result_untested_reason(r);
+    tw_paraf(w, 2, 2, "Nothing could be tested: %s.", why);
+    int no_df = 0;
+    for (size_t i = 0; i < r->nresp; i++) no_df |= r->resp[i].df_error == 0;
+    if (no_df && d && d->max_cell == 1 && d->ncov == 0) {
+        const char *rep = replicate_like(d);
+        if (rep)
+            tw_paraf(w, 2, 2, "Every cell holds a single row. If '%s' numbers the replicates "
+                     "or runs, it is not a factor of the experiment: leave it out of -f (or "
+                     "give it as --block if it groups runs), and the rows it told apart "
+                     "become the replicates.", rep);
+        else
+            tw_para(w, 2, 2, "Every cell holds a single row, so nothing is left to estimate "
+                    "the error from. If one of the -f columns numbers replicates or runs, "
+                    "leave it out; otherwise lower --order.");
+    }
+    tw_para(w, 2, 2, "No F-test, resampling test, interval or residual check below can be "
+                     "computed for this reason; the footnotes repeat it where it applies.");
+    return 1;
+}
+
 static void headline(tw *w)
 {
     const sturdy_result *r = w->r;
@@ -178,6 +231,10 @@ static void headline(tw *w)
                                 : "the F-test and with resampling";
     tw_fmt_g(alpha, 3, a);
     tw_heading(w, "In short");
+    if (untested_cause(w)) {
+        tw_nl(w);
+        return;
+    }
     if (r->finished) spread_headline(w);
     if (!r->finished) {
         tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
@@ -274,9 +331,12 @@ static void about(tw *w)
                               d->block.nlevels);
         for (size_t k = 0; k < d->ncov; k++)
             sturdy_buf_printf(&s, "%s%s", k ? ", " : "; covariates ", d->cov_names[k]);
-        sturdy_buf_printf(&s, ". %zu of %zu cells filled, %zu–%zu rows each, %s.", d->ncells,
-                          d->ncells_possible, d->min_cell, d->max_cell,
-                          d->balanced ? "balanced" : "unbalanced");
+        sturdy_buf_printf(&s, ". %zu of %zu cells filled, ", d->ncells, d->ncells_possible);
+        if (d->min_cell == d->max_cell)
+            sturdy_buf_printf(&s, "%zu row%s each", d->min_cell, d->min_cell == 1 ? "" : "s");
+        else
+            sturdy_buf_printf(&s, "%zu–%zu rows each", d->min_cell, d->max_cell);
+        sturdy_buf_printf(&s, ", %s.", d->balanced ? "balanced" : "unbalanced");
         tw_labelled(w, "design", s.data);
         s.len = 0;
     }
@@ -285,15 +345,24 @@ static void about(tw *w)
                                             "Type III (each term adjusted for all others)" };
     sturdy_buf_printf(&s, "sums of squares of %s",
                       r->ss_type >= 1 && r->ss_type <= 3 ? ss_words[r->ss_type] : "?");
-    if (r->opts.model.order > 0)
-        sturdy_buf_printf(&s, "; interactions up to order %d", r->opts.model.order);
+    if (r->opts.model.order == 1)
+        sturdy_buf_puts(&s, "; main effects only (--order 1)");
+    else if (r->opts.model.order > 1 && d && (size_t)r->opts.model.order < d->nfactors)
+        sturdy_buf_printf(&s, "; main effects and interactions of up to %d factors "
+                          "(--order %d)", r->opts.model.order, r->opts.model.order);
     tw_labelled(w, "model", s.data);
     s.len = 0;
     static const char *const method_words[] = {
         "Freedman–Lane (Freedman & Lane 1983)", "ter Braak (1992)", "raw-data"
     };
+    int no_df = 0;
+    for (size_t i = 0; i < r->nresp; i++) no_df |= r->resp[i].df_error == 0;
     if (r->nperm == 0) {
         sturdy_buf_puts(&s, "none (-B 0)");
+    } else if (no_df && sturdy_result_tested_terms(r) == 0) {
+        sturdy_buf_printf(&s, "none: with no residual degrees of freedom there is no F to "
+                          "rearrange (%llu rearrangements were asked for)",
+                          (unsigned long long)r->nperm);
     } else {
         sturdy_buf_printf(&s, "%s %s, %llu %s", (unsigned)r->method <= 2 ? method_words[r->method]
                                                                      : "?",
@@ -301,7 +370,12 @@ static void about(tw *w)
                           (unsigned long long)r->nperm,
                           r->exact ? "rearrangements, all there are (exact)"
                                    : "random rearrangements");
-        if (d && d->has_block) sturdy_buf_printf(&s, ", within levels of %s", d->block.name);
+        /* rearrange.c: with sign flips there is one block and the flips are row by row */
+        if (d && d->has_block && r->opts.flip)
+            sturdy_buf_printf(&s, ", row by row (the block '%s' does not restrict the flips; "
+                              "its term is tested like any other)", d->block.name);
+        else if (d && d->has_block)
+            sturdy_buf_printf(&s, ", within levels of %s", d->block.name);
     }
     tw_labelled(w, "resampling", s.data);
     s.len = 0;
@@ -322,7 +396,11 @@ static void about(tw *w)
     s.len = 0;
     static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
                                                 "wild (Wu 1986)", "cells" };
-    if (r->nboot == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
+    if (r->nboot == 0 && r->opts.bootstrap == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
+    else if (r->nboot == 0)
+        sturdy_buf_printf(&s, "none: with no residual degrees of freedom there are no "
+                          "residuals to resample (%llu replicates were asked for)",
+                          (unsigned long long)r->opts.bootstrap);
     else
         sturdy_buf_printf(&s, "%llu replicates, %s scheme; %s%% intervals",
                           (unsigned long long)r->nboot,
@@ -341,12 +419,12 @@ static void about(tw *w)
 }
 
 /* One row of the tests table; `label` NULL leaves the term cell blank. */
-static void tests_row(tw *w, const char *label, const char *df, const char *ss,
+static void tests_row(tw *w, int wterm, const char *label, const char *df, const char *ss,
                       const char *f, const char *p, const char *pp, const char *puv,
                       const char *verdict, const char *color)
 {
     tw_indent(w, 2);
-    tw_cell(w, label ? label : "", W_TERM, 0);
+    tw_cell(w, label ? label : "", wterm, 0);
     tw_put(w, " "); tw_cell(w, df, W_DF, 1);
     tw_put(w, " "); tw_cell(w, ss, W_SS, 1);
     tw_put(w, " "); tw_cell(w, f, W_F, 1);
@@ -451,12 +529,24 @@ static void term_details(tw *w, const sturdy_term_result *t)
     }
 }
 
+/* Width of the term column: the longest label, at least `base`, at most W_TERM_MAX. */
+static int term_width(const sturdy_response_result *rr, int base)
+{
+    int wt = base;
+    for (size_t k = 0; k < rr->nterms; k++) {
+        size_t l = rr->terms[k].label ? tw_width(rr->terms[k].label) : 0;
+        if (l > (size_t)wt) wt = l > W_TERM_MAX ? W_TERM_MAX : (int)l;
+    }
+    return wt;
+}
+
 static void tests_table(tw *w, const sturdy_response_result *rr)
 {
     char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], v[64];
+    int wt = term_width(rr, W_TERM);
     tw_indent(w, 2);
     tw_style(w, "1");
-    tw_cell(w, "term", W_TERM, 0);
+    tw_cell(w, "term", wt, 0);
     tw_put(w, " "); tw_cell(w, "df", W_DF, 1);
     tw_put(w, " "); tw_cell(w, "SS", W_SS, 1);
     tw_put(w, " "); tw_cell(w, "F", W_F, 1);
@@ -481,7 +571,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         tw_fmt_p(t->p, p);
         tw_fmt_p(t->p_perm, pp);
         uv_p_cell(w, t, puv);
-        tests_row(w, term_cell(w, t->label, W_TERM), df, ss, f, p, pp, puv, v,
+        tests_row(w, wt, term_cell(w, t->label, wt), df, ss, f, p, pp, puv, v,
                   dis ? "33" : NULL);
         term_details(w, t);
     }
@@ -490,10 +580,10 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_fmt_num(rr->ms_error, ms);
     v[0] = '\0';
     if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
-    tests_row(w, "residual", df, ss, "", "", "", "", v, NULL);
+    tests_row(w, wt, "residual", df, ss, "", "", "", "", v, NULL);
     tw_fmt_df(rr->df_total, df);
     tw_fmt_num(rr->ss_total, ss);
-    tests_row(w, "total", df, ss, "", "", "", "", NULL, NULL);
+    tests_row(w, wt, "total", df, ss, "", "", "", "", NULL, NULL);
     if (!isnan(rr->ms_error))
         tw_paraf(w, 2, 4, "residual mean square %s (SS/df); the mean squares of the terms "
                  "are in the JSON and CSV output", ms);
@@ -511,15 +601,16 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
     tw_para(w, 2, 2, s);
     tw_indent(w, 2);
     tw_style(w, "1");
-    tw_cell(w, "term", W_ES_TERM, 0);
+    int wt = term_width(rr, W_ES_TERM);
+    tw_cell(w, "term", wt, 0);
     for (int e = 0; e < STURDY_NES; e++) { tw_put(w, "  "); tw_cell(w, heads[e], W_ES, 1); }
     tw_style(w, "0");
     tw_nl(w);
     for (size_t k = 0; k < rr->nterms; k++) {
         const sturdy_term_result *t = &rr->terms[k];
-        const char *label = term_cell(w, t->label, W_ES_TERM);
+        const char *label = term_cell(w, t->label, wt);
         tw_indent(w, 2);
-        tw_cell(w, label ? label : "", W_ES_TERM, 0);
+        tw_cell(w, label ? label : "", wt, 0);
         for (int e = 0; e < STURDY_NES; e++) {
             tw_fmt_g(t->es[e], 3, x);
             tw_put(w, "  ");
@@ -528,7 +619,7 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
         tw_nl(w);
         if (isnan(t->es[STURDY_ES_PARTIAL_ETA2])) continue;
         tw_indent(w, 2);
-        tw_cell(w, "", W_ES_TERM, 0);
+        tw_cell(w, "", wt, 0);
         for (int e = 0; e < STURDY_NES; e++) {
             tw_fmt_range(t->ci_bca[e], tw_fmt_es, x);
             if (isnan(t->ci_bca[e].lo) && !isnan(t->es[e]))
@@ -582,16 +673,24 @@ static void cells_table(tw *w, const sturdy_response_result *rr)
     if (d->ncells > shown)
         tw_paraf(w, 4, 4, "and %zu more cells (see the JSON output)", d->ncells - shown);
     if (d->ncells < d->ncells_possible)
-        tw_paraf(w, 4, 4, "%zu of %zu possible cells are empty", d->ncells_possible - d->ncells,
-                 d->ncells_possible);
+        tw_paraf(w, 4, 4, "%zu of the %zu possible cells %s empty",
+                 d->ncells_possible - d->ncells, d->ncells_possible,
+                 d->ncells_possible - d->ncells == 1 ? "is" : "are");
     tw_nl(w);
 }
 
-static void check_outliers(tw *w, const sturdy_diagnostics *g)
+static void check_outliers(tw *w, const sturdy_response_result *rr)
 {
+    const sturdy_diagnostics *g = &rr->diag;
     sturdy_buf s;
     sturdy_buf_init(&s);
-    if (g->noutliers == 0) {
+    /* externally studentized residuals need a residual df beyond the one they drop */
+    if (g->noutliers == 0 && !(rr->df_error >= 2)) {
+        sturdy_buf_printf(&s, "check not available (%s): studentized residuals need at "
+                          "least 2 residual degrees of freedom.",
+                          rr->df_error == 0 ? "no residual degrees of freedom"
+                                            : "1 residual degree of freedom");
+    } else if (g->noutliers == 0) {
         sturdy_buf_puts(&s, "no studentized residual beyond ±3.");
     } else {
         for (size_t i = 0; i < g->noutliers && i < LIST_MAX; i++) {
@@ -690,7 +789,7 @@ static void checks(tw *w, const sturdy_response_result *rr)
     tw_para(w, 2, 2, "Checks on the residuals");
     check_normality(w, &rr->diag, &s);
     check_spread(w, &rr->diag, &s);
-    check_outliers(w, &rr->diag);
+    check_outliers(w, rr);
     /* precision of the resampled p-values */
     s.len = 0;
     for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)

@@ -224,6 +224,14 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
  * STURDY_EUSAGE when rearrangements or replicates are missing. */
 sturdy_status sturdy_result_finish(sturdy_result *r, char *err);
 
+/* Number of terms, over every response, that have an F-test (a finite F). A run where
+ * this is 0 tested nothing that was asked: the CLI then exits STURDY_EMODEL. */
+size_t sturdy_result_tested_terms(const sturdy_result *r);
+
+/* Why nothing could be tested: the first response's residual note, else the first term's
+ * note; never NULL (the string belongs to r). */
+const char *sturdy_result_untested_reason(const sturdy_result *r);
+
 void sturdy_result_free(sturdy_result *r);
 
 #endif

@@ -444,7 +444,13 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
             fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
                     oc->message ? oc->message : msg);
     } else {
-        cli_batch_tally(doc, oc);
+        if (cli_batch_tally(doc, oc)) {
+            tot->failed++;
+            if (b->lead)
+                fprintf(stderr, "sturdy: %s: %s (exit %d)\n", name, oc->message ? oc->message
+                                                                              : "untested",
+                        oc->exit_code);
+        }
         cli_batch_compare(name, old, doc, oc);
     }
     jv_free(doc);

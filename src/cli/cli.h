@@ -120,7 +120,7 @@ struct jv;   /* a parsed JSON document (json_read.h) */
 typedef struct {
     int exit_code;
     char *message;               /* failure message, or NULL */
-    size_t terms, disagree;
+    size_t terms, tested, disagree; /* terms of the model; those with an F-test */
     int compared;                /* an earlier result was found and compared */
     size_t changed;
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
@@ -135,8 +135,10 @@ struct jv *cli_batch_read_json(const char *path);
 struct jv *cli_batch_resumable(const cli_check *c, const char *out_path,
                                const char *data_path);
 
-/* Adds the result's tested terms and classical/resampling disagreements to oc. */
-void cli_batch_tally(const struct jv *doc, cli_batch_outcome *oc);
+/* Adds the result's terms, tested terms and classical/resampling disagreements to oc.
+ * A result with no tested term makes the row "untested": exit_code STURDY_EMODEL and a
+ * message saying why (as `check` exits). Returns 1 then, else 0. */
+int cli_batch_tally(const struct jv *doc, cli_batch_outcome *oc);
 
 /* Records in oc every verdict that differs between an earlier result `old` (nothing
  * when NULL) and `now`, terms present in only one of them included. */
