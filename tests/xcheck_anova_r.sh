@@ -41,7 +41,7 @@ specs <- list()
 out <- character()
 fmt <- function(v) ifelse(is.na(v), "NA", sprintf("%.17g", v))
 
-make <- function(name, seed, levels, resp, cov = NULL, block = NULL) {
+make <- function(name, seed, levels, resp, cov = NULL, block = NULL, order = NULL) {
   set.seed(seed)
   grid <- expand.grid(levels, stringsAsFactors = FALSE)
   counts <- sample(2:6, nrow(grid), replace = TRUE)        # unbalanced, no empty cell
@@ -67,11 +67,13 @@ make <- function(name, seed, levels, resp, cov = NULL, block = NULL) {
   d[[resp]] <- round(unname(y), 4)
   file <- file.path(dir, paste0(name, ".csv"))
   write.csv(d, file, row.names = FALSE, quote = FALSE)
-  tables(name, file, names(levels), resp, cov, block)
+  tables(name, file, names(levels), resp, cov, block, order)
 }
 
 # Base R's Type I and III tables of the CSV file `file` (terms in sturdy's order).
-tables <- function(name, file, f, resp, cov = NULL, block = NULL) {
+# `order` (sturdy's --term-order, labels with ":"): these terms first, then the others;
+# keep.order makes lm fit them in exactly that sequence.
+tables <- function(name, file, f, resp, cov = NULL, block = NULL, order = NULL) {
   # read back the text sturdy reads; factors (and the block) as factors
   fac <- c(f, block)
   nf <- length(f)
@@ -84,8 +86,12 @@ tables <- function(name, file, f, resp, cov = NULL, block = NULL) {
   terms <- c(block, cov)
   for (k in 1:nf) for (combo in combn(nf, k, simplify = FALSE))
     terms <- c(terms, paste(f[combo], collapse = ":"))
+  if (!is.null(order)) {
+    nuis <- setdiff(c(block, cov), order)
+    terms <- c(nuis, order, setdiff(terms, c(nuis, order)))
+  }
   form <- as.formula(paste(resp, "~", paste(terms, collapse = " + ")))
-  fit1 <- lm(form, data = d)
+  fit1 <- lm(terms(form, keep.order = TRUE), data = d)
   a <- anova(fit1)
   rn <- trimws(rownames(a))
   for (i in seq_len(nrow(a))) {
@@ -110,6 +116,8 @@ tables <- function(name, file, f, resp, cov = NULL, block = NULL) {
                                        if (is.null(cov)) "-" else cov,
                                        if (is.null(block)) "-" else block,
                                        paste(gsub(":", "\u00d7", terms), collapse = ","),
+                                       if (is.null(order)) "-"
+                                       else paste(gsub(":", "\u00d7", order), collapse = ","),
                                        sep = "\t")
 }
 
@@ -120,6 +128,10 @@ make("brew3", 12, list(grind = grind, water = c("soft", "hard"),
                        steep = c("h12", "h16", "h20")), "tds")
 make("brew4", 13, list(bean = c("arabica", "robusta"), grind = c("coarse", "fine"),
                        steep = c("h12", "h16", "h20"), vessel = c("glass", "steel")), "tds")
+# the same unbalanced four-factor trial, Type I in an order of the user's choosing
+make("brew4order", 13, list(bean = c("arabica", "robusta"), grind = c("coarse", "fine"),
+                            steep = c("h12", "h16", "h20"), vessel = c("glass", "steel")),
+     "tds", order = c("vessel", "steep", "grind", "bean", "steep:vessel", "bean:grind"))
 make("brewcov", 14, list(grind = grind, roast = c("light", "dark")), "tds",
      cov = "dose")
 make("brewblock", 15, list(grind = grind, steep = c("h12", "h16", "h20")), "tds",
@@ -150,14 +162,19 @@ def report(ok, text):
 def num(s):
     return None if s == "NA" else float(s)
 
+def key(term):
+    return term if term.startswith("(") else \
+        "\u00d7".join(sorted(term.replace(":", "\u00d7").split("\u00d7")))
+
 ref = {}
 for line in open(os.path.join(work, "ref.tsv"), encoding="utf-8"):
     name, ss, term, df, sq, f, p = line.rstrip("\n").split("\t")
-    ref.setdefault((name, int(ss)), {})[term.replace(":", "\u00d7")] = \
-        (num(df), num(sq), num(f), num(p))
+    # R names an interaction by its factors in the order they first appear in the
+    # formula ("steep:bean" after a custom order): key terms by their set of factors
+    ref.setdefault((name, int(ss)), {})[key(term)] = (num(df), num(sq), num(f), num(p))
 
 for line in open(os.path.join(work, "specs.tsv"), encoding="utf-8"):
-    name, resp, factors, cov, block, terms = line.rstrip("\n").split("\t")
+    name, resp, factors, cov, block, terms, order = line.rstrip("\n").split("\t")
     terms = terms.split(",")
     sst = ref[(name, 0)]["(total)"][1]
     for ss in (1, 3):
@@ -170,6 +187,8 @@ for line in open(os.path.join(work, "specs.tsv"), encoding="utf-8"):
             args += ["--covariates", cov]
         if block != "-":
             args += ["--block", block]
+        if order != "-":
+            args += ["--term-order", order]
         try:
             proc = subprocess.run(args, capture_output=True, text=True, timeout=60)
             out = json.loads(proc.stdout) if proc.returncode == 0 else None
@@ -189,7 +208,7 @@ for line in open(os.path.join(work, "specs.tsv"), encoding="utf-8"):
                    SS_FLOOR * sst),
                   ("total SS", r["total"]["ss"], sst, REL, SS_FLOOR * sst)]
         for t in r["terms"]:
-            e = table.get(t["term"])
+            e = table.get(key(t["term"]))
             if e is None and ss == 1:
                 # aliased in R's sequential fit (anova() leaves it out): sturdy must give
                 # it 0 df and no F, and name the block as the cause when there is one

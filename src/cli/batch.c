@@ -54,7 +54,7 @@ static const char batch_help[] =
 "  optional, as the 'check' options of the same name: covariates, block, order, ss,\n"
 "  permutations, bootstrap, method, flip (yes/no/true/false/1/0), bootstrap-scheme,\n"
 "  spread-scheme,\n"
-"  conf, alpha, seed, delimiter, missing, max-levels, max-columns.\n"
+"  conf, alpha, seed, delimiter, missing, max-levels, max-columns, term-order.\n"
 "  An empty field leaves the option at its default. threads, shard, format, output and\n"
 "  quiet belong to the batch and cannot be columns.\n"
 "\n"
@@ -78,7 +78,7 @@ enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
 static const char *const option_cols[] = {
     "covariates", "block", "order", "ss", "permutations", "bootstrap", "method", "flip",
     "bootstrap-scheme", "spread-scheme", "conf", "alpha", "seed", "delimiter", "missing", "max-levels",
-    "max-columns"
+    "max-columns", "term-order"
 };
 #define NOPTION_COLS (sizeof option_cols / sizeof *option_cols)
 /* `check` options that belong to the batch as a whole. */

@@ -137,15 +137,19 @@ static const jv *find_by(const jv *arr, const char *key, const char *value)
     return NULL;
 }
 
-/* Verdict of `term` in response `resp` of a result: "absent" when there is no such
- * term, "none" when it has no verdict. */
+/* Words of --compare for a term without a verdict; plain phrases, so that they cannot
+ * be read as a verdict ("neither" is one). */
+#define NO_SUCH_TERM "(term not in this result)"
+#define NO_VERDICT "(no verdict)"
+
+/* Verdict of `term` in response `resp` of a result, or one of the phrases above. */
 static const char *verdict_of(const jv *doc, const char *resp, const char *term)
 {
     const jv *r = find_by(jv_get(doc, "responses"), "response", resp);
     const jv *t = r ? find_by(jv_get(r, "terms"), "term", term) : NULL;
-    if (!t) return "absent";
+    if (!t) return NO_SUCH_TERM;
     const char *v = jv_str(jv_get(t, "verdict"));
-    return v ? v : "none";
+    return v ? v : NO_VERDICT;
 }
 
 /* Every (response, term) of `a` whose verdict in `b` differs, as "old → new" (a_is_new
@@ -161,7 +165,7 @@ static void diff_verdicts(const char *name, const jv *a, const jv *b, int a_is_n
             const char *tn = jv_str(jv_get(jv_at(terms, k), "term"));
             if (!tn) continue;
             const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
-            if (!strcmp(va, vb) || (skip_present && strcmp(vb, "absent"))) continue;
+            if (!strcmp(va, vb) || (skip_present && strcmp(vb, NO_SUCH_TERM))) continue;
             sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name, rn, tn,
                               a_is_new ? vb : va, a_is_new ? va : vb);
             oc->changed++;

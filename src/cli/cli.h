@@ -33,7 +33,7 @@ typedef struct {
     int argc; char **argv;       /* the command's arguments (argv[0] = command), recorded
                                     in shard parts so that merge can repeat the set-up */
     const char *cwd;             /* working folder at parse time (owned), for shards */
-    cli_list responses, factors, covariates, missing;
+    cli_list responses, factors, covariates, missing, term_order;
     int missing_given;
     cli_format format;
     int format_given;
@@ -110,6 +110,9 @@ int sturdy_cli_batch(int argc, char **argv);
 /* Number of model terms the options ask for: all factor subsets up to the order, plus
  * covariates and the block (as design.c builds them). run.c. */
 uint64_t cli_count_terms(const sturdy_model_spec *m);
+
+/* The format a file name's extension asks for (.json, .csv), or -1. options.c. */
+int cli_format_of_path(const char *path);
 
 /* a, b and c joined in a new string (the caller frees it), or NULL when memory ran out. */
 char *cli_str_cat3(const char *a, const char *b, const char *c);
