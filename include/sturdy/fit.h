@@ -70,8 +70,8 @@ void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
 /* ‖Uᵀs‖² for a K × r basis U (column-major) and group vector s. */
 double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s);
 
-/* Group-space projection of a group vector s onto a K × r basis U: gval (length K) holds
- * each group's fitted value (U Uᵀ s)_g / √n_g. `work` has room for r doubles. */
+/* The same projection per group: gval_g = (U Uᵀ s)_g / √n_g, the value every row of group
+ * g gets. `work` has room for r doubles. */
 void sturdy_model_group_projection(const sturdy_model *m, const double *U, size_t r,
                                    const double *s, double *work, double *gval);
 
