@@ -1,7 +1,8 @@
 /* report_text.c — the readable report: a headline, then per response the tests, the
  * effect sizes and the residual checks with plain advice, then the run's notes.
  *
- * Layout rules: tables are at most 99 columns wide, prose wraps at the report width,
+ * Layout rules: tables are at most 99 columns wide (plus the width by which term labels
+ * of 19 to W_TERM_MAX characters widen the term column), prose wraps at the report width,
  * absent values print as "—" with the reason in a numbered footnote, and nothing
  * depends on the terminal except the optional colour. Shared drawing helpers live in
  * report_textfmt.c. */
@@ -529,13 +530,14 @@ static void term_details(tw *w, const sturdy_term_result *t)
     }
 }
 
-/* Width of the term column: the longest label, at least `base`, at most W_TERM_MAX. */
+/* Width of the term column: the longest label up to W_TERM_MAX, at least `base`; a
+ * longer label takes a line of its own and does not widen the column. */
 static int term_width(const sturdy_response_result *rr, int base)
 {
     int wt = base;
     for (size_t k = 0; k < rr->nterms; k++) {
         size_t l = rr->terms[k].label ? tw_width(rr->terms[k].label) : 0;
-        if (l > (size_t)wt) wt = l > W_TERM_MAX ? W_TERM_MAX : (int)l;
+        if (l > (size_t)wt && l <= W_TERM_MAX) wt = (int)l;
     }
     return wt;
 }
