@@ -197,9 +197,10 @@ typedef struct {
     uint64_t data_checksum;      /* FNV-1a of the used columns' text, to match shards */
 } sturdy_result;
 
-/* Run the analysis of `t` with options `o`. Returns STURDY_EMODEL when no term can be
- * tested at all (e.g. no residual degrees of freedom and no resampling possible is NOT
- * an error: the table is still produced with reasons). *out owned by the caller. */
+/* Run the analysis of `t` with options `o`. A model where no term can be tested (e.g. no
+ * residual degrees of freedom) is not an error here: the result holds the table with the
+ * reasons, and sturdy_result_tested_terms says that nothing was tested (the CLI then
+ * exits STURDY_EMODEL). *out owned by the caller. */
 sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
                              sturdy_result **out, char *err);
 
