@@ -140,12 +140,36 @@ static sturdy_status run_notes(sturdy_result *r, char *err)
             "are exact (no Monte Carlo error)", (unsigned long long)r->nperm), err);
     if (!st && d->ncells < d->ncells_possible)
         st = add_note(r, sturdy_asprintf(
-            "%zu of the %zu possible cells are empty", d->ncells_possible - d->ncells,
-            d->ncells_possible), err);
+            "%zu of the %zu possible cells %s empty", d->ncells_possible - d->ncells,
+            d->ncells_possible, d->ncells_possible - d->ncells == 1 ? "is" : "are"), err);
     if (!st && d->has_block && !r->opts.flip && r->nperm)
         st = add_note(r, sturdy_asprintf(
             "rows are rearranged only within levels of the block '%s'", d->block.name), err);
+    /* rearrange.c: sign flips are drawn row by row over one block */
+    if (!st && d->has_block && r->opts.flip && r->nperm)
+        st = add_note(r, sturdy_asprintf(
+            "signs are flipped row by row: the block '%s' does not restrict the flips, so "
+            "its term is tested like any other", d->block.name), err);
     return st;
+}
+
+size_t sturdy_result_tested_terms(const sturdy_result *r)
+{
+    size_t n = 0;
+    for (size_t i = 0; r && i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++)
+            n += isfinite(r->resp[i].terms[k].f) != 0;
+    return n;
+}
+
+const char *sturdy_result_untested_reason(const sturdy_result *r)
+{
+    for (size_t i = 0; r && i < r->nresp; i++)
+        if (r->resp[i].error_note) return r->resp[i].error_note;
+    for (size_t i = 0; r && i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++)
+            if (r->resp[i].terms[k].note) return r->resp[i].terms[k].note;
+    return "no term has an F-test";
 }
 
 void sturdy_result_free(sturdy_result *r)
@@ -228,11 +252,8 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         return st;
     }
     for (size_t t = 0; t < d->nterms && !st; t++)
-        if (m->terms[t].deficient && m->terms[t].testable)
-            st = add_note(r, sturdy_asprintf(
-                "'%s' is tested with %zu of its %zu degrees of freedom: empty cells or "
-                "collinearity took the rest", d->terms[t].label, m->terms[t].df,
-                m->terms[t].df_nominal), err);
+        if (m->terms[t].deficient && m->terms[t].testable && m->terms[t].why_short)
+            st = add_note(r, sturdy_strdup(m->terms[t].why_short), err);
     if (st) {
         sturdy_model_free(m);
         return st;

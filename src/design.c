@@ -242,16 +242,49 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         free(used); free(ri);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
+    /* A row missing any used column leaves every response, so that all responses share
+     * one design (one set of rows, cells and rearrangements); its note names every
+     * used column it lacks, so a row missing only a second response says so. */
     for (size_t i = 0; i < t->nrows; i++) {
-        long miss = -1;
-        for (size_t c = 0; c < t->ncols && miss < 0; c++)
-            if (used[c] && t->cols[c].missing[i])
-                miss = (long)c;
-        if (miss >= 0) {
+        size_t nmiss = 0;
+        long first = -1;
+        for (size_t c = 0; c < t->ncols; c++)
+            if (used[c] && t->cols[c].missing[i]) {
+                if (first < 0) first = (long)c;
+                nmiss++;
+            }
+        if (nmiss) {
             sturdy_dropped *dr = &d->dropped[d->ndropped++];
             dr->row = i;
             dr->line = t->line[i];
-            dr->reason = sturdy_asprintf("missing value in column '%s'", t->cols[miss].name);
+            if (nmiss == 1) {
+                dr->reason = sturdy_asprintf("missing value in column '%s'",
+                                             t->cols[first].name);
+            } else {
+                sturdy_buf b;
+                sturdy_buf_init(&b);
+                sturdy_buf_puts(&b, "missing values in columns ");
+                for (size_t c = 0, k = 0; c < t->ncols; c++)
+                    if (used[c] && t->cols[c].missing[i]) {
+                        k++;
+                        sturdy_buf_printf(&b, "%s'%s'", k == 1 ? "" : k == nmiss ? " and "
+                                                                                 : ", ",
+                                          t->cols[c].name);
+                    }
+                dr->reason = b.failed ? NULL : sturdy_strdup(b.data);
+                sturdy_buf_free(&b);
+            }
+            int resp_missing = 0, resp_present = 0;
+            for (size_t j = 0; j < nr; j++) {
+                if (t->cols[ri[j]].missing[i]) resp_missing = 1;
+                else resp_present = 1;
+            }
+            if (dr->reason && resp_missing && resp_present) {
+                char *longer = sturdy_asprintf("%s; the row is left out of every response",
+                                               dr->reason);
+                free(dr->reason);
+                dr->reason = longer;
+            }
             if (!dr->reason) {
                 free(used); free(ri);
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -426,7 +459,8 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     for (size_t i = 0; i < n; i++)
         d->group_count[d->group[i]]++;
 
-    if ((st = sturdy_terms_make(d, s->order, max_columns, err))) {
+    if ((st = sturdy_terms_make(d, s->order, max_columns, err)) ||
+        (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err))) {
         free(first);
         return st;
     }

@@ -7,6 +7,7 @@
 
 #include "internal.h"
 #include "sturdy/fit.h"
+#include "sturdy/report.h"
 
 /* Orthonormal basis of the span of the columns of A (K × k, column-major, overwritten):
  * columns are scaled to unit length first, so that the rank decision does not depend
@@ -101,8 +102,11 @@ static int in_reduced(const sturdy_design *d, int ss_type, size_t t, size_t j)
     }
 }
 
-static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, size_t t,
-                                double *A, sturdy_term_basis *tb, char *err)
+/* The basis of term t against its reduced model, leaving term `skip` (an index, or
+ * nterms for none) out of the reduced model: tb's Ured, rank_red, Uterm and df. `A` has
+ * room for K × p doubles. */
+static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t t,
+                          size_t skip, double *A, sturdy_term_basis *tb, char *err)
 {
     size_t K = d->ngroups;
     const sturdy_term *term = &d->terms[t];
@@ -110,7 +114,7 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
     size_t k = 0;
     take_columns(d, m->sqrt_count, 0, 1, A, k++);
     for (size_t j = 0; j < d->nterms; j++)
-        if (in_reduced(d, m->ss_type, t, j)) {
+        if (j != skip && in_reduced(d, m->ss_type, t, j)) {
             take_columns(d, m->sqrt_count, d->terms[j].col0, d->terms[j].ncols, A, k);
             k += d->terms[j].ncols;
         }
@@ -142,25 +146,130 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
             }
     st = orth_basis(Z, K, c, nrm, &tb->Uterm, &tb->df, err);
     free(nrm);
+    return st;
+}
+
+/* Rank term t adds when term `skip` leaves its reduced model (*df), on a scratch basis. */
+static sturdy_status rank_without(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                  size_t skip, size_t *df, char *err)
+{
+    sturdy_term_basis tb = { 0 };
+    double *A = malloc(d->ngroups * d->p * sizeof *A);
+    if (!A)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    sturdy_status st = span(d, m, t, skip, A, &tb, err);
+    *df = tb.df;
+    free(A);
+    free(tb.Ured);
+    free(tb.Uterm);
+    return st;
+}
+
+/* A term that lost degrees of freedom: are they confounded with the block (for the
+ * block: with factor terms)? A 2^k trial in blocks that confound the highest interaction
+ * (a classic fractional blocking) loses nothing to empty cells: taking the block out of
+ * the reduced model gives the term its df back. On success *names lists the terms that
+ * took them ("" when none did alone; owned). */
+static sturdy_status block_cause(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                 size_t df, char **names, char *err)
+{
+    *names = NULL;
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    const sturdy_term *term = &d->terms[t];
+    for (size_t j = 0; j < d->nterms; j++) {
+        const sturdy_term *o = &d->terms[j];
+        int pair = term->kind == STURDY_TERM_BLOCK ? o->kind == STURDY_TERM_FACTORS
+                                                   : o->kind == STURDY_TERM_BLOCK;
+        if (!pair || !in_reduced(d, m->ss_type, t, j))
+            continue;
+        size_t without = 0;
+        sturdy_status st = rank_without(d, m, t, j, &without, err);
+        if (st) {
+            sturdy_buf_free(&b);
+            return st;
+        }
+        if (without > df)
+            sturdy_buf_printf(&b, "%s'%s'", b.len ? ", " : "", o->label);
+    }
+    if (b.failed) {
+        sturdy_buf_free(&b);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    *names = sturdy_strdup(b.data ? b.data : "");
+    sturdy_buf_free(&b);
+    return *names ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
+static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                double *A, sturdy_term_basis *tb, char *err)
+{
+    const sturdy_term *term = &d->terms[t];
+    size_t c = term->ncols;
+    sturdy_status st = span(d, m, t, d->nterms, A, tb, err);
     if (st)
         return st;
+    char *conf = NULL;     /* the terms that took the lost df, when it was the block */
+    if (tb->df < c && d->has_block && (st = block_cause(d, m, t, tb->df, &conf, err)))
+        return st;
+    if (conf && !*conf) {
+        free(conf);
+        conf = NULL;
+    }
+    int empty = d->ncells < d->ncells_possible;
+    const char *other = empty ? "empty cells" : d->ncov ? "collinear covariates"
+                                                        : "collinearity with other terms";
     tb->df_nominal = c;
     tb->testable = 1;
-    if (tb->df == 0) {
+    if (tb->df == 0 && conf && term->kind == STURDY_TERM_BLOCK) {
         tb->testable = 0;
         tb->why_not = sturdy_asprintf(
-            "not testable: '%s' is completely confounded with the other terms (empty "
-            "cells or collinear covariates)", term->label);
+            "not testable: every contrast of the block '%s' is confounded with %s",
+            term->label, conf);
+    } else if (tb->df == 0 && conf) {
+        tb->testable = 0;
+        tb->why_not = sturdy_asprintf(
+            "not testable: '%s' is confounded with the block %s (the design puts its "
+            "contrast between blocks, so the block effects carry it); the other terms are "
+            "estimated within blocks", term->label, conf);
+    } else if (tb->df == 0) {
+        tb->testable = 0;
+        tb->why_not = sturdy_asprintf(
+            "not testable: '%s' is completely confounded with the other terms (%s)",
+            term->label, other);
+    } else if (tb->df < c && conf && !empty) {
+        /* every cell is filled: the estimable df test a well-defined hypothesis under
+         * every SS type (as a reduced-versus-full comparison does) */
+        tb->deficient = 1;
+        tb->by_block = 1;
+        tb->why_short = term->kind == STURDY_TERM_BLOCK
+            ? sturdy_asprintf("'%s' is tested with %zu of its %zu degrees of freedom: the "
+                              "rest are confounded with %s", term->label, tb->df, c, conf)
+            : sturdy_asprintf("'%s' is tested with %zu of its %zu degrees of freedom: the "
+                              "rest are confounded with the block %s", term->label, tb->df,
+                              c, conf);
+        if (!tb->why_short) {
+            free(conf);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
     } else if (tb->df < c) {
         tb->deficient = 1;
+        tb->why_short = sturdy_asprintf("'%s' is tested with %zu of its %zu degrees of "
+                                        "freedom: %s took the rest", term->label, tb->df, c,
+                                        other);
+        if (!tb->why_short) {
+            free(conf);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
         if (m->ss_type == 3) {
             tb->testable = 0;
             tb->why_not = sturdy_asprintf(
-                "not testable under Type III: empty cells or collinearity leave '%s' only "
-                "%zu of its %zu degrees of freedom; use --ss 1 or 2, drop the highest "
-                "interactions (--order) or fill the cells", term->label, tb->df, c);
+                "not testable under Type III: %s leave '%s' only %zu of its %zu degrees "
+                "of freedom; use --ss 1 or 2, drop the highest interactions (--order)%s",
+                other, term->label, tb->df, c, empty ? " or fill the cells" : "");
         }
     }
+    free(conf);
     if (!tb->testable && !tb->why_not)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     return STURDY_OK;
@@ -175,6 +284,7 @@ void sturdy_model_free(sturdy_model *m)
     free(m->leverage);
     for (size_t t = 0; t < m->nterms; t++) {
         free(m->terms[t].why_not);
+        free(m->terms[t].why_short);
         free(m->terms[t].Ured);
         free(m->terms[t].Uterm);
     }
@@ -224,7 +334,8 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
             if (!m->terms[t].testable || d->terms[t].kind != STURDY_TERM_FACTORS)
                 continue;
             for (size_t b = 0; b < d->nterms; b++)
-                if (m->terms[b].deficient && contains(&d->terms[b], &d->terms[t])) {
+                if (m->terms[b].deficient && !m->terms[b].by_block &&
+                    contains(&d->terms[b], &d->terms[t])) {
                     m->terms[t].testable = 0;
                     m->terms[t].why_not = sturdy_asprintf(
                         "not testable under Type III: its hypothesis involves the means of "

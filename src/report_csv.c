@@ -1,4 +1,5 @@
-/* report_csv.c — the result as CSV: a header, then one row per response × term. */
+/* report_csv.c — the result as CSV: a header, then one row per response × term, and
+ * per response a "residual" and a "total" row (df, ss, ms; the rest empty). */
 #include <inttypes.h>
 #include <math.h>
 #include <string.h>
@@ -46,6 +47,39 @@ static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
     if (joined.failed) b->failed = 1;
     if (joined.len) csv_text(b, joined.data);
     sturdy_buf_free(&joined);
+}
+
+static void write_header(sturdy_buf *b);
+
+/* Columns of the header after response, term, df, ss, ms: each a comma, never a line
+ * break, so counting them from the header keeps the residual rows in step with it. */
+static size_t header_tail(void)
+{
+    sturdy_buf h;
+    sturdy_buf_init(&h);
+    write_header(&h);
+    size_t commas = 0;
+    for (size_t i = 0; i < h.len; i++) commas += h.data[i] == ',';
+    sturdy_buf_free(&h);
+    return commas > 4 ? commas - 4 : 0;
+}
+
+/* "residual" or "total" row: df, ss, ms (empty when NaN); `note` in the note column. */
+static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
+                            const char *what, double df, double ss, double ms,
+                            const char *note, size_t tail)
+{
+    csv_text(b, rr->name);
+    sturdy_buf_put(b, ",", 1);
+    sturdy_buf_puts(b, what);
+    csv_num(b, df);
+    csv_num(b, ss);
+    csv_num(b, ms);
+    for (size_t i = 0; i < tail; i++) {
+        sturdy_buf_put(b, ",", 1);
+        if (i + 1 == tail - 12 && note) csv_text(b, note);   /* 12 uv columns follow */
+    }
+    sturdy_buf_put(b, "\n", 1);
 }
 
 static void write_header(sturdy_buf *b)
@@ -138,8 +172,14 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
     write_header(out);
-    for (size_t i = 0; i < r->nresp; i++)
-        for (size_t k = 0; k < r->resp[i].nterms; k++)
-            write_row(out, &r->resp[i], &r->resp[i].terms[k], o->ascii_terms);
+    size_t tail = header_tail();
+    for (size_t i = 0; i < r->nresp; i++) {
+        const sturdy_response_result *rr = &r->resp[i];
+        for (size_t k = 0; k < rr->nterms; k++)
+            write_row(out, rr, &rr->terms[k], o->ascii_terms);
+        write_error_row(out, rr, "residual", rr->df_error, rr->ss_error, rr->ms_error,
+                        rr->error_note, tail);
+        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail);
+    }
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;
 }

@@ -1,7 +1,8 @@
 /* report_text.c — the readable report: a headline, then per response the tests, the
  * effect sizes and the residual checks with plain advice, then the run's notes.
  *
- * Layout rules: tables are at most 99 columns wide, prose wraps at the report width,
+ * Layout rules: tables are at most 99 columns wide (plus the width by which term labels
+ * of 19 to W_TERM_MAX characters widen the term column), prose wraps at the report width,
  * absent values print as "—" with the reason in a numbered footnote, and nothing
  * depends on the terminal except the optional colour. Shared drawing helpers live in
  * report_textfmt.c. */
@@ -11,10 +12,16 @@
 
 #include "report_text.h"
 
+/* The headline's untested cause and the run section are in report_run.c. */
+
 /* Column widths of the tests table (2 + 18+1+4+1+9+1+9+2+8+2+11+2+13+2+14 = 99); SS and
  * F never take more than 9 characters in tw_fmt_num's format. MS is left to JSON and CSV
  * to make room for the unequal-variance test. */
 enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13 };
+/* A longer term label widens the term column of both tables (and the table beyond 99
+ * columns) up to this width, so that its numbers stay on its line; only longer labels
+ * get a line of their own. 40 holds a three-way term of 12-character names. */
+enum { W_TERM_MAX = 40 };
 /* Effect-size table: a narrower term column, then five columns of this width, each after
  * two blanks (2 + 18 + 5·16 = 100); "4.4e-05–0.0015" is 14 characters. */
 enum { W_ES_TERM = 18, W_ES = 14 };
@@ -65,7 +72,10 @@ static const char *perm_reason(const sturdy_result *r, const sturdy_term_result 
 static const char *boot_reason(const sturdy_result *r, const sturdy_term_result *t)
 {
     if (t->boot_note) return t->boot_note;
-    if (r->nboot == 0) return "no bootstrap was asked for (--bootstrap 0)";
+    if (r->nboot == 0 && r->opts.bootstrap == 0)
+        return "no bootstrap was asked for (--bootstrap 0)";
+    if (r->nboot == 0) return "no residual degrees of freedom: there are no residuals to "
+                              "resample";
     if (!r->finished) return "this is one shard of a split run; 'sturdy merge' completes it";
     return "not computed";
 }
@@ -180,6 +190,10 @@ static void headline(tw *w)
     tw_heading(w, "In short");
     for (size_t i = 0; r->design && i < r->design->nwarnings; i++)
         tw_paraf(w, 2, 4, "! %s.", r->design->warnings[i]);
+    if (tw_untested_cause(w)) {
+        tw_nl(w);
+        return;
+    }
     if (r->finished) spread_headline(w);
     if (!r->finished) {
         tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
@@ -252,103 +266,13 @@ static void headline(tw *w)
     tw_nl(w);
 }
 
-static void about(tw *w)
-{
-    const sturdy_result *r = w->r;
-    const sturdy_design *d = r->design;
-    sturdy_buf s;
-    sturdy_buf_init(&s);
-    char c[32];
-    tw_fmt_g(r->opts.conf * 100, 4, c);
-    tw_heading(w, "The run");
-    if (d) {
-        sturdy_buf_printf(&s, "%s: %zu of %zu rows used", d->source ? d->source : "?", d->n,
-                          d->rows_read);
-        if (d->ndropped)
-            sturdy_buf_printf(&s, "; %zu left out (see the notes)", d->ndropped);
-        tw_labelled(w, "data", s.data);
-        s.len = 0;
-        for (size_t f = 0; f < d->nfactors; f++)
-            sturdy_buf_printf(&s, "%s%s (%zu%s)", f ? " × " : "", d->factors[f].name,
-                              d->factors[f].nlevels, f ? "" : " levels");
-        if (d->has_block)
-            sturdy_buf_printf(&s, "; block %s (%zu levels)", d->block.name,
-                              d->block.nlevels);
-        for (size_t k = 0; k < d->ncov; k++)
-            sturdy_buf_printf(&s, "%s%s", k ? ", " : "; covariates ", d->cov_names[k]);
-        sturdy_buf_printf(&s, ". %zu of %zu cells filled, %zu–%zu rows each, %s.", d->ncells,
-                          d->ncells_possible, d->min_cell, d->max_cell,
-                          d->balanced ? "balanced" : "unbalanced");
-        tw_labelled(w, "design", s.data);
-        s.len = 0;
-    }
-    static const char *const ss_words[] = { "", "Type I (sequential)",
-                                            "Type II (hierarchical)",
-                                            "Type III (each term adjusted for all others)" };
-    sturdy_buf_printf(&s, "sums of squares of %s",
-                      r->ss_type >= 1 && r->ss_type <= 3 ? ss_words[r->ss_type] : "?");
-    if (r->opts.model.order > 0)
-        sturdy_buf_printf(&s, "; interactions up to order %d", r->opts.model.order);
-    tw_labelled(w, "model", s.data);
-    s.len = 0;
-    static const char *const method_words[] = {
-        "Freedman–Lane (Freedman & Lane 1983)", "ter Braak (1992)", "raw-data"
-    };
-    if (r->nperm == 0) {
-        sturdy_buf_puts(&s, "none (-B 0)");
-    } else {
-        sturdy_buf_printf(&s, "%s %s, %llu %s", (unsigned)r->method <= 2 ? method_words[r->method]
-                                                                     : "?",
-                          r->opts.flip ? "sign-flipping" : "permutation",
-                          (unsigned long long)r->nperm,
-                          r->exact ? "rearrangements, all there are (exact)"
-                                   : "random rearrangements");
-        if (d && d->has_block) sturdy_buf_printf(&s, ", within levels of %s", d->block.name);
-    }
-    tw_labelled(w, "resampling", s.data);
-    s.len = 0;
-    sturdy_buf_printf(&s, "Welch–James statistic with %s (Welch 1951; "
-                      "Johansen 1980), ", r->uv_hc3 ? "HC3 variances (Long & Ervin 2000)"
-                                                    : "each cell's own variance");
-    sturdy_buf_printf(&s, "p from %s; it holds α when cell variances differ, where F and "
-                      "its rearrangements do not", r->uv_hc3 ? "F(df, residual df)"
-                                                             : "Johansen's approximate F");
-    if (r->nperm > 0 && r->spread_scheme != STURDY_SPREAD_NONE)
-        sturdy_buf_printf(&s, ". Under each term also its %s p (%s), which runs liberal in "
-                          "cells of 3 rows", r->spread_scheme == STURDY_SPREAD_PERMUTATION
-                                                 ? "permuted" : "wild-bootstrap",
-                          r->spread_scheme == STURDY_SPREAD_PERMUTATION
-                              ? "Pauly, Brunner & Konietschke 2015"
-                              : "Davidson & Flachaire 2008");
-    tw_labelled(w, "unequal var", s.data);
-    s.len = 0;
-    static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
-                                                "wild (Wu 1986)", "cells" };
-    if (r->nboot == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
-    else
-        sturdy_buf_printf(&s, "%llu replicates, %s scheme; %s%% intervals",
-                          (unsigned long long)r->nboot,
-                          (unsigned)r->boot_scheme <= 2 ? scheme_words[r->boot_scheme] : "?",
-                          c);
-    char a[32];
-    tw_fmt_g(r->opts.alpha, 3, a);
-    tw_labelled(w, "bootstrap", s.data);
-    s.len = 0;
-    sturdy_buf_printf(&s, "α = %s; seed %llu (the same seed repeats the same random draws)",
-                      a, (unsigned long long)r->opts.seed);
-    tw_labelled(w, "level, seed", s.data);
-    if (s.failed) w->b->failed = 1;
-    sturdy_buf_free(&s);
-    tw_nl(w);
-}
-
 /* One row of the tests table; `label` NULL leaves the term cell blank. */
-static void tests_row(tw *w, const char *label, const char *df, const char *ss,
+static void tests_row(tw *w, int wterm, const char *label, const char *df, const char *ss,
                       const char *f, const char *p, const char *pp, const char *puv,
                       const char *verdict, const char *color)
 {
     tw_indent(w, 2);
-    tw_cell(w, label ? label : "", W_TERM, 0);
+    tw_cell(w, label ? label : "", wterm, 0);
     tw_put(w, " "); tw_cell(w, df, W_DF, 1);
     tw_put(w, " "); tw_cell(w, ss, W_SS, 1);
     tw_put(w, " "); tw_cell(w, f, W_F, 1);
@@ -453,12 +377,25 @@ static void term_details(tw *w, const sturdy_term_result *t)
     }
 }
 
+/* Width of the term column: the longest label up to W_TERM_MAX, at least `base`; a
+ * longer label takes a line of its own and does not widen the column. */
+static int term_width(const sturdy_response_result *rr, int base)
+{
+    int wt = base;
+    for (size_t k = 0; k < rr->nterms; k++) {
+        size_t l = rr->terms[k].label ? tw_width(rr->terms[k].label) : 0;
+        if (l > (size_t)wt && l <= W_TERM_MAX) wt = (int)l;
+    }
+    return wt;
+}
+
 static void tests_table(tw *w, const sturdy_response_result *rr)
 {
     char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], v[64];
+    int wt = term_width(rr, W_TERM);
     tw_indent(w, 2);
     tw_style(w, "1");
-    tw_cell(w, "term", W_TERM, 0);
+    tw_cell(w, "term", wt, 0);
     tw_put(w, " "); tw_cell(w, "df", W_DF, 1);
     tw_put(w, " "); tw_cell(w, "SS", W_SS, 1);
     tw_put(w, " "); tw_cell(w, "F", W_F, 1);
@@ -484,7 +421,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         tw_fmt_p(t->p, p);
         tw_fmt_p(t->p_perm, pp);
         uv_p_cell(w, t, puv);
-        tests_row(w, term_cell(w, t->label, W_TERM), df, ss, f, p, pp, puv, v,
+        tests_row(w, wt, term_cell(w, t->label, wt), df, ss, f, p, pp, puv, v,
                   dis ? "33" : NULL);
         term_details(w, t);
     }
@@ -493,10 +430,10 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_fmt_num_scaled(rr->ms_error, rr->ss_total, ms);
     v[0] = '\0';
     if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
-    tests_row(w, "residual", df, ss, "", "", "", "", v, NULL);
+    tests_row(w, wt, "residual", df, ss, "", "", "", "", v, NULL);
     tw_fmt_df(rr->df_total, df);
     tw_fmt_num(rr->ss_total, ss);
-    tests_row(w, "total", df, ss, "", "", "", "", NULL, NULL);
+    tests_row(w, wt, "total", df, ss, "", "", "", "", NULL, NULL);
     if (!isnan(rr->ms_error))
         tw_paraf(w, 2, 4, "residual mean square %s (SS/df); the mean squares of the terms "
                  "are in the JSON and CSV output", ms);
@@ -514,15 +451,16 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
     tw_para(w, 2, 2, s);
     tw_indent(w, 2);
     tw_style(w, "1");
-    tw_cell(w, "term", W_ES_TERM, 0);
+    int wt = term_width(rr, W_ES_TERM);
+    tw_cell(w, "term", wt, 0);
     for (int e = 0; e < STURDY_NES; e++) { tw_put(w, "  "); tw_cell(w, heads[e], W_ES, 1); }
     tw_style(w, "0");
     tw_nl(w);
     for (size_t k = 0; k < rr->nterms; k++) {
         const sturdy_term_result *t = &rr->terms[k];
-        const char *label = term_cell(w, t->label, W_ES_TERM);
+        const char *label = term_cell(w, t->label, wt);
         tw_indent(w, 2);
-        tw_cell(w, label ? label : "", W_ES_TERM, 0);
+        tw_cell(w, label ? label : "", wt, 0);
         for (int e = 0; e < STURDY_NES; e++) {
             tw_fmt_g(tw_is_noise(t->es[e], 1.0) ? 0.0 : t->es[e], 3, x);
             tw_put(w, "  ");
@@ -531,7 +469,7 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
         tw_nl(w);
         if (isnan(t->es[STURDY_ES_PARTIAL_ETA2])) continue;
         tw_indent(w, 2);
-        tw_cell(w, "", W_ES_TERM, 0);
+        tw_cell(w, "", wt, 0);
         for (int e = 0; e < STURDY_NES; e++) {
             tw_fmt_range(t->ci_bca[e], tw_fmt_es, x);
             if (isnan(t->ci_bca[e].lo) && !isnan(t->es[e]))
@@ -585,16 +523,24 @@ static void cells_table(tw *w, const sturdy_response_result *rr)
     if (d->ncells > shown)
         tw_paraf(w, 4, 4, "and %zu more cells (see the JSON output)", d->ncells - shown);
     if (d->ncells < d->ncells_possible)
-        tw_paraf(w, 4, 4, "%zu of %zu possible cells are empty", d->ncells_possible - d->ncells,
-                 d->ncells_possible);
+        tw_paraf(w, 4, 4, "%zu of the %zu possible cells %s empty",
+                 d->ncells_possible - d->ncells, d->ncells_possible,
+                 d->ncells_possible - d->ncells == 1 ? "is" : "are");
     tw_nl(w);
 }
 
-static void check_outliers(tw *w, const sturdy_diagnostics *g)
+static void check_outliers(tw *w, const sturdy_response_result *rr)
 {
+    const sturdy_diagnostics *g = &rr->diag;
     sturdy_buf s;
     sturdy_buf_init(&s);
-    if (g->noutliers == 0) {
+    /* externally studentized residuals need a residual df beyond the one they drop */
+    if (g->noutliers == 0 && !(rr->df_error >= 2)) {
+        sturdy_buf_printf(&s, "check not available (%s): studentized residuals need at "
+                          "least 2 residual degrees of freedom.",
+                          rr->df_error == 0 ? "no residual degrees of freedom"
+                                            : "1 residual degree of freedom");
+    } else if (g->noutliers == 0) {
         sturdy_buf_puts(&s, "no studentized residual beyond ±3.");
     } else {
         for (size_t i = 0; i < g->noutliers && i < LIST_MAX; i++) {
@@ -693,7 +639,7 @@ static void checks(tw *w, const sturdy_response_result *rr)
     tw_para(w, 2, 2, "Checks on the residuals");
     check_normality(w, &rr->diag, &s);
     check_spread(w, &rr->diag, &s);
-    check_outliers(w, &rr->diag);
+    check_outliers(w, rr);
     /* precision of the resampled p-values */
     s.len = 0;
     for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)
@@ -755,7 +701,7 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
     tw_nl(&w);
     tw_nl(&w);
     headline(&w);
-    about(&w);
+    tw_run_section(&w);
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
         sturdy_buf title;

@@ -55,6 +55,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
     for (size_t c = 0; c < d->ncov; c++) {
         sturdy_term *t = &d->terms[nt++];
         t->kind = STURDY_TERM_COVARIATE;
+        t->index = c;
         t->label = sturdy_strdup(d->cov_names[c]);
         t->order = 1;
         t->col0 = p;
@@ -117,6 +118,100 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
     return STURDY_OK;
 }
 
+/* Does `name` (factor names joined by "×", in any order) name the factor term `mask`?
+ * A block or covariate term matches its own name. */
+static int names_term(const sturdy_design *d, const sturdy_term *t, const char *name)
+{
+    if (t->kind != STURDY_TERM_FACTORS)
+        return strcmp(t->label, name) == 0;
+    static const char times[] = "\xc3\x97";
+    uint32_t seen = 0;
+    const char *p = name;
+    for (;;) {
+        const char *end = strstr(p, times);
+        size_t len = end ? (size_t)(end - p) : strlen(p);
+        size_t f = 0;
+        while (f < d->nfactors &&
+               !(strlen(d->factors[f].name) == len && !strncmp(d->factors[f].name, p, len)))
+            f++;
+        if (f == d->nfactors || (seen & (1u << f)))
+            return 0;
+        seen |= 1u << f;
+        if (!end)
+            break;
+        p = end + sizeof times - 1;
+    }
+    return seen == t->mask;
+}
+
+static int term_contains(const sturdy_term *b, const sturdy_term *a)
+{
+    return a->kind == STURDY_TERM_FACTORS && b->kind == STURDY_TERM_FACTORS &&
+           a->mask != b->mask && (a->mask & b->mask) == a->mask;
+}
+
+sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, size_t count,
+                                   char *err)
+{
+    size_t nt = d->nterms;
+    if (count == 0)
+        return STURDY_OK;
+    size_t *pos = malloc(nt * sizeof *pos);
+    unsigned char *taken = calloc(nt, 1);
+    sturdy_term *sorted = malloc(nt * sizeof *sorted);
+    if (!pos || !taken || !sorted) {
+        free(pos); free(taken); free(sorted);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    size_t k = 0;
+    sturdy_status st = STURDY_OK;
+    /* a block or covariate not listed stays in front, adjusted for first under Type I */
+    for (size_t j = 0; j < nt; j++)
+        for (size_t i = 0; i < count && d->terms[j].kind != STURDY_TERM_FACTORS; i++)
+            if (names_term(d, &d->terms[j], names[i]))
+                taken[j] = 2;       /* listed: placed below */
+    for (size_t j = 0; j < nt; j++)
+        if (d->terms[j].kind != STURDY_TERM_FACTORS && !taken[j]) {
+            taken[j] = 1;
+            pos[k++] = j;
+        }
+    for (size_t j = 0; j < nt; j++)
+        if (taken[j] == 2) taken[j] = 0;
+    for (size_t i = 0; i < count && !st; i++) {
+        size_t j = 0;
+        while (j < nt && !names_term(d, &d->terms[j], names[i]))
+            j++;
+        if (j == nt)
+            st = sturdy_fail(err, STURDY_EUSAGE, "--term-order: the model has no term '%s' "
+                             "(name a term as its factors joined by '\xc3\x97', e.g. A\xc3\x97" "B, "
+                             "or a block or covariate by its name)", names[i]);
+        else if (taken[j])
+            st = sturdy_fail(err, STURDY_EUSAGE, "--term-order: '%s' is listed twice",
+                             names[i]);
+        else {
+            taken[j] = 1;
+            pos[k++] = j;
+        }
+    }
+    for (size_t j = 0; j < nt && !st; j++)
+        if (!taken[j])
+            pos[k++] = j;
+    /* marginality: a sequential fit of A×B before A would test A×B unadjusted for A */
+    for (size_t a = 0; a < nt && !st; a++)
+        for (size_t b = a + 1; b < nt && !st; b++)
+            if (term_contains(&d->terms[pos[a]], &d->terms[pos[b]]))
+                st = sturdy_fail(err, STURDY_EUSAGE, "--term-order puts '%s' before '%s', "
+                                 "which it contains; list a term after the terms it contains",
+                                 d->terms[pos[a]].label, d->terms[pos[b]].label);
+    if (!st) {
+        for (size_t i = 0; i < nt; i++)
+            sorted[i] = d->terms[pos[i]];
+        memcpy(d->terms, sorted, nt * sizeof *sorted);
+    }
+    free(pos); free(taken); free(sorted);
+    return st;
+}
+
 /* Sum-to-zero (deviation) code of level `lev` of an L-level factor in column j < L−1. */
 static double sum_code(size_t lev, size_t L, size_t j)
 {
@@ -140,8 +235,7 @@ void sturdy_terms_fill_columns(sturdy_design *d, const size_t *rep)
                     X[(t->col0 + j) * K + g] =
                         sum_code(d->block_level[i], d->block.nlevels, j);
             } else if (t->kind == STURDY_TERM_COVARIATE) {
-                size_t c = ti - (d->has_block ? 1 : 0);
-                X[t->col0 * K + g] = d->cov[c * d->n + i];
+                X[t->col0 * K + g] = d->cov[t->index * d->n + i];
             } else {
                 /* columns enumerate (j_f1, j_f2, ...) with the first factor fastest */
                 for (size_t col = 0; col < t->ncols; col++) {

@@ -9,6 +9,12 @@
  * factor lists) up to `order` (0 = all). STURDY_EMODEL past `max_columns`. */
 sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns, char *err);
 
+/* Put the terms named by `names` first, in that order, the others after them in their
+ * order (sturdy_model_spec.term_order); a block or covariate not named stays in front. STURDY_EUSAGE for a name that is no term of the
+ * model, a repeated one, or an order that puts a term before one it contains. */
+sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, size_t count,
+                                   char *err);
+
 /* Fill d->Xg (ngroups × p): intercept, then each term's sum-to-zero coded columns (the
  * last level coded −1; interactions as products, first factor fastest), evaluated at the
  * representative row rep[g] of each group. */

@@ -549,6 +549,23 @@ static void test_text(sturdy_result *r)
     CHECK_INT("text with a 150-character label: widest line ≤ 100",
               max_line_width(c.data, &esc) <= 100, 1);
     sturdy_buf_free(&c);
+    /* a 30-character label widens the term column: its numbers stay on its line */
+    memset(longname, 'y', 30);
+    longname[30] = '\0';
+    sturdy_buf_init(&c);
+    sturdy_report_text(r, NULL, &c);
+    {
+        char row[sizeof longname + 8];
+        snprintf(row, sizeof row, "\n  %s ", longname);
+        const char *at = c.data ? strstr(c.data, row) : NULL;
+        const char *eol = at ? strchr(at + 1, '\n') : NULL;
+        /* the row goes on with df, SS, F, p: more than the label on that line */
+        CHECK_INT("text with a 30-character label: the tests row keeps its numbers",
+                  at && eol && (size_t)(eol - at) > strlen(row) + 20, 1);
+        CHECK_INT("text with a 30-character label: widest line ≤ 100 + 12",
+                  max_line_width(c.data, &esc) <= 112, 1);
+    }
+    sturdy_buf_free(&c);
     r->resp[0].terms[0].label = saved;
     r->resp[0].terms[0].verdict_reason = saved_reason;
 
@@ -615,7 +632,8 @@ static void test_csv(const sturdy_result *r)
           strstr(s, "partial_eta2_ncf_lo,partial_eta2_ncf_hi") && strstr(s, ",verdict,"));
     size_t nf;
     int ok;
-    CHECK_INT("csv records: header + 2 responses × 3 terms", csv_records(s, &nf, &ok), 7);
+    CHECK_INT("csv records: header + 2 responses × (3 terms + residual + total)",
+              csv_records(s, &nf, &ok), 11);
     CHECK("csv every record has the header's field count", ok);
     CHECK_INT("csv fields per record", nf, 56);
     CHECK("csv quotes a field with a comma", strstr(s, "\n\"time, s\",dose,") != NULL);

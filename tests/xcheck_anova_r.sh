@@ -7,7 +7,10 @@
 # R invents the datasets itself (set.seed; unbalanced cold-brew coffee trials with 2, 3
 # and 4 factors, one with a numeric covariate, one with a block), writes them as CSV,
 # reads them back (so that R and sturdy see the same text) and writes its tables with
-# 17 significant digits. A Python step (/usr/bin/python3) runs sturdy on each file
+# 17 significant digits. Base R's `npk` data (a 2^3 trial in 6 blocks with N:P:K
+# confounded with blocks) is exported with write.csv and checked the same way: N×P×K must
+# have 0 df, no F and a note naming the block, and Type III must test the block on its 4
+# estimable df as drop1 does. A Python step (/usr/bin/python3) runs sturdy on each file
 # with -B 0 --bootstrap 0 --format json and compares every term's df (exact), SS, F
 # and p, and the residual df and SS, to relative 1e-8 (SS: plus 1e-13·SST absolute,
 # the rounding level of sums of squares). One line per check, "N passed, N failed"
@@ -38,7 +41,7 @@ specs <- list()
 out <- character()
 fmt <- function(v) ifelse(is.na(v), "NA", sprintf("%.17g", v))
 
-make <- function(name, seed, levels, resp, cov = NULL, block = NULL) {
+make <- function(name, seed, levels, resp, cov = NULL, block = NULL, order = NULL) {
   set.seed(seed)
   grid <- expand.grid(levels, stringsAsFactors = FALSE)
   counts <- sample(2:6, nrow(grid), replace = TRUE)        # unbalanced, no empty cell
@@ -64,20 +67,31 @@ make <- function(name, seed, levels, resp, cov = NULL, block = NULL) {
   d[[resp]] <- round(unname(y), 4)
   file <- file.path(dir, paste0(name, ".csv"))
   write.csv(d, file, row.names = FALSE, quote = FALSE)
+  tables(name, file, names(levels), resp, cov, block, order)
+}
 
+# Base R's Type I and III tables of the CSV file `file` (terms in sturdy's order).
+# `order` (sturdy's --term-order, labels with ":"): these terms first, then the others;
+# keep.order makes lm fit them in exactly that sequence.
+tables <- function(name, file, f, resp, cov = NULL, block = NULL, order = NULL) {
   # read back the text sturdy reads; factors (and the block) as factors
-  fac <- c(names(levels), block)
+  fac <- c(f, block)
+  nf <- length(f)
   d <- read.csv(file, colClasses = "character")
   for (v in fac) d[[v]] <- factor(d[[v]])
   for (v in c(cov, resp)) d[[v]] <- as.numeric(d[[v]])
 
   # terms in sturdy's order: block, covariates, main effects, then 2-way (lexicographic
   # factor index lists), 3-way, ...
-  f <- names(levels); terms <- c(block, cov)
+  terms <- c(block, cov)
   for (k in 1:nf) for (combo in combn(nf, k, simplify = FALSE))
     terms <- c(terms, paste(f[combo], collapse = ":"))
+  if (!is.null(order)) {
+    nuis <- setdiff(c(block, cov), order)
+    terms <- c(nuis, order, setdiff(terms, c(nuis, order)))
+  }
   form <- as.formula(paste(resp, "~", paste(terms, collapse = " + ")))
-  fit1 <- lm(form, data = d)
+  fit1 <- lm(terms(form, keep.order = TRUE), data = d)
   a <- anova(fit1)
   rn <- trimws(rownames(a))
   for (i in seq_len(nrow(a))) {
@@ -96,12 +110,14 @@ make <- function(name, seed, levels, resp, cov = NULL, block = NULL) {
   }
   out <<- c(out, paste(name, 3, "(residual)", fmt(fit3$df.residual),
                        fmt(sum(residuals(fit3)^2)), "NA", "NA", sep = "\t"))
-  out <<- c(out, paste(name, 0, "(total)", fmt(n - 1),
+  out <<- c(out, paste(name, 0, "(total)", fmt(nrow(d) - 1),
                        fmt(sum((d[[resp]] - mean(d[[resp]]))^2)), "NA", "NA", sep = "\t"))
   specs[[length(specs) + 1]] <<- paste(name, resp, paste(f, collapse = ","),
                                        if (is.null(cov)) "-" else cov,
                                        if (is.null(block)) "-" else block,
                                        paste(gsub(":", "\u00d7", terms), collapse = ","),
+                                       if (is.null(order)) "-"
+                                       else paste(gsub(":", "\u00d7", order), collapse = ","),
                                        sep = "\t")
 }
 
@@ -112,10 +128,19 @@ make("brew3", 12, list(grind = grind, water = c("soft", "hard"),
                        steep = c("h12", "h16", "h20")), "tds")
 make("brew4", 13, list(bean = c("arabica", "robusta"), grind = c("coarse", "fine"),
                        steep = c("h12", "h16", "h20"), vessel = c("glass", "steel")), "tds")
+# the same unbalanced four-factor trial, Type I in an order of the user's choosing
+make("brew4order", 13, list(bean = c("arabica", "robusta"), grind = c("coarse", "fine"),
+                            steep = c("h12", "h16", "h20"), vessel = c("glass", "steel")),
+     "tds", order = c("vessel", "steep", "grind", "bean", "steep:vessel", "bean:grind"))
 make("brewcov", 14, list(grind = grind, roast = c("light", "dark")), "tds",
      cov = "dose")
 make("brewblock", 15, list(grind = grind, steep = c("h12", "h16", "h20")), "tds",
      block = "day")
+# A 2^3 field trial in 6 blocks of 4 plots, N×P×K confounded with blocks: base R's own
+# `npk` data set, exported as it is. Type I: N×P×K is aliased (absent from anova());
+# Type III: drop1 tests the block on its 4 estimable df and N×P×K on 0.
+write.csv(npk, file.path(dir, "npk.csv"), row.names = FALSE)
+tables("npk", file.path(dir, "npk.csv"), c("N", "P", "K"), "yield", block = "block")
 writeLines(out, file.path(dir, "ref.tsv"), useBytes = FALSE)
 writeLines(unlist(specs), file.path(dir, "specs.tsv"))
 RSCRIPT
@@ -137,14 +162,19 @@ def report(ok, text):
 def num(s):
     return None if s == "NA" else float(s)
 
+def key(term):
+    return term if term.startswith("(") else \
+        "\u00d7".join(sorted(term.replace(":", "\u00d7").split("\u00d7")))
+
 ref = {}
 for line in open(os.path.join(work, "ref.tsv"), encoding="utf-8"):
     name, ss, term, df, sq, f, p = line.rstrip("\n").split("\t")
-    ref.setdefault((name, int(ss)), {})[term.replace(":", "\u00d7")] = \
-        (num(df), num(sq), num(f), num(p))
+    # R names an interaction by its factors in the order they first appear in the
+    # formula ("steep:bean" after a custom order): key terms by their set of factors
+    ref.setdefault((name, int(ss)), {})[key(term)] = (num(df), num(sq), num(f), num(p))
 
 for line in open(os.path.join(work, "specs.tsv"), encoding="utf-8"):
-    name, resp, factors, cov, block, terms = line.rstrip("\n").split("\t")
+    name, resp, factors, cov, block, terms, order = line.rstrip("\n").split("\t")
     terms = terms.split(",")
     sst = ref[(name, 0)]["(total)"][1]
     for ss in (1, 3):
@@ -157,6 +187,8 @@ for line in open(os.path.join(work, "specs.tsv"), encoding="utf-8"):
             args += ["--covariates", cov]
         if block != "-":
             args += ["--block", block]
+        if order != "-":
+            args += ["--term-order", order]
         try:
             proc = subprocess.run(args, capture_output=True, text=True, timeout=60)
             out = json.loads(proc.stdout) if proc.returncode == 0 else None
@@ -176,9 +208,23 @@ for line in open(os.path.join(work, "specs.tsv"), encoding="utf-8"):
                    SS_FLOOR * sst),
                   ("total SS", r["total"]["ss"], sst, REL, SS_FLOOR * sst)]
         for t in r["terms"]:
-            e = table.get(t["term"])
+            e = table.get(key(t["term"]))
+            if e is None and ss == 1:
+                # aliased in R's sequential fit (anova() leaves it out): sturdy must give
+                # it 0 df and no F, and name the block as the cause when there is one
+                e = (0.0, None, None, None)
             if e is None:
                 report(False, "%s %s: no such term in R's table (%s)" % (tag, t["term"], src))
+                continue
+            if e[0] == 0:
+                note = t.get("note") or ""
+                report(t["df"] == 0 and t["f"] is None and t["p"] is None,
+                       "%s %s: df %r F %r, expected 0 df and no F (%s)"
+                       % (tag, t["term"], t["df"], t["f"], src))
+                if block != "-":
+                    report("confounded with the block '%s'" % block in note,
+                           "%s %s: note %r names the block as the cause (source: base R "
+                           "alias(lm()) of the design)" % (tag, t["term"], note))
                 continue
             checks += [(t["term"] + " df", t["df"], e[0], 0, 0),
                        (t["term"] + " SS", t["ss"], e[1], REL, SS_FLOOR * sst),

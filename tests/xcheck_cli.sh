@@ -96,10 +96,11 @@ if "$PY" - "$T/out" <<'EOF'
 import csv, sys
 rows = list(csv.reader(open(sys.argv[1], newline="")))
 assert rows[0][:3] == ["response", "term", "df"], rows[0]
-assert len(rows) == 1 + 7, len(rows)          # 3 factors: 7 terms, one response
+assert len(rows) == 1 + 7 + 2, len(rows)      # 3 factors: 7 terms, residual, total
+assert [r[1] for r in rows[-2:]] == ["residual", "total"], rows[-2:]
 assert all(len(r) == len(rows[0]) for r in rows)
 EOF
-then ok "csv parses (python csv): header + 7 rows"; else bad "csv shape"; fi
+then ok "csv parses (python csv): header + 7 term rows + residual + total"; else bad "csv shape"; fi
 
 # shard output: partial JSON with raw material
 expect_rc "shard 1/2" 0 "$BIN" demo -B 199 --bootstrap 50 --shard 1/2

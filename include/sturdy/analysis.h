@@ -197,9 +197,10 @@ typedef struct {
     uint64_t data_checksum;      /* FNV-1a of the used columns' text, to match shards */
 } sturdy_result;
 
-/* Run the analysis of `t` with options `o`. Returns STURDY_EMODEL when no term can be
- * tested at all (e.g. no residual degrees of freedom and no resampling possible is NOT
- * an error: the table is still produced with reasons). *out owned by the caller. */
+/* Run the analysis of `t` with options `o`. A model where no term can be tested (e.g. no
+ * residual degrees of freedom) is not an error here: the result holds the table with the
+ * reasons, and sturdy_result_tested_terms says that nothing was tested (the CLI then
+ * exits STURDY_EMODEL). *out owned by the caller. */
 sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
                              sturdy_result **out, char *err);
 
@@ -223,6 +224,14 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
 /* Turn the raw material into p-values, intervals and verdicts once every slice is in.
  * STURDY_EUSAGE when rearrangements or replicates are missing. */
 sturdy_status sturdy_result_finish(sturdy_result *r, char *err);
+
+/* Number of terms, over every response, that have an F-test (a finite F). A run where
+ * this is 0 tested nothing that was asked: the CLI then exits STURDY_EMODEL. */
+size_t sturdy_result_tested_terms(const sturdy_result *r);
+
+/* Why nothing could be tested: the first response's residual note, else the first term's
+ * note; never NULL (the string belongs to r). */
+const char *sturdy_result_untested_reason(const sturdy_result *r);
 
 void sturdy_result_free(sturdy_result *r);
 

@@ -30,6 +30,13 @@ typedef struct {
     const char *const *covariates; size_t ncovariates; /* numeric nuisance terms */
     const char *block;          /* additive block factor, or NULL */
     int order;                  /* highest interaction order; 0 = all */
+    const char *const *term_order; size_t nterm_order; /* terms to put first, in this
+                                   order (labels: factor names joined by "×" in any
+                                   order, or a block or covariate name); the others
+                                   follow in the default order, but a block or
+                                   covariate not listed stays in front. Type I sums of
+                                   squares follow it; for Types II and III it is only
+                                   the order of the table. NULL: the default order */
     size_t max_levels;          /* per factor; 0 = STURDY_DEFAULT_MAX_LEVELS */
     size_t max_columns;         /* coded columns in all; 0 = STURDY_DEFAULT_MAX_COLUMNS */
     const sturdy_level_order *level_orders; size_t nlevel_orders; /* NULL/0: natural */
@@ -54,6 +61,7 @@ typedef struct {
     uint32_t mask;          /* FACTORS: bit f set for each factor f in the term */
     size_t order;           /* number of factors (1 for block and covariates) */
     size_t col0, ncols;     /* coded columns [col0, col0+ncols) of X */
+    size_t index;           /* COVARIATE: its index among the covariates */
 } sturdy_term;
 
 typedef struct {

@@ -29,7 +29,12 @@ typedef struct {
                                df that remain, as a sequential comparison allows; under
                                Type III not tested, since its hypothesis would involve
                                the means of empty cells) */
+    int by_block;           /* the lost df are confounded with the block (or, for the
+                               block, with factor terms), not lost to empty cells: with
+                               every cell filled Type III tests the estimable df */
     char *why_not;          /* reason when !testable (owned), else NULL */
+    char *why_short;        /* when testable with df < df_nominal: where the rest went
+                               (owned), else NULL */
     size_t rank_red;        /* rank of R */
     double *Ured;           /* K × rank_red basis of R */
     double *Uterm;          /* K × df basis of the part of A orthogonal to R */

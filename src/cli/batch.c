@@ -52,7 +52,7 @@ static const char batch_help[] =
 "  response   required: response column(s), comma-separated inside a quoted field\n"
 "  factors    required: factor columns, likewise\n"
 "  optional, as the 'check' options of the same name: covariates, block, order, ss,\n"
-"  levels, merge-numeric-levels, permutations, bootstrap, method, flip,\n"
+"  levels, merge-numeric-levels, term-order, permutations, bootstrap, method, flip,\n"
 "  bootstrap-scheme, spread-scheme, conf, alpha, seed, delimiter, missing,\n"
 "  missing-only, max-levels, max-columns. Flags (flip, merge-numeric-levels) take\n"
 "  yes/no/true/false/1/0. A column may be named by a prefix of exactly one option, as\n"
@@ -67,7 +67,8 @@ static const char batch_help[] =
 "  sturdy batch nightly.csv --resume      # results in nightly.results/\n"
 "\n"
 "Summary: summary.csv has name,status,exit_code,message,terms,disagreements,changed\n"
-"(terms: tested response × term pairs; disagreements: of those, verdict classical-only\n"
+"(status: ok, failed, or untested when no term could be tested (exit 4, counted as\n"
+"failed); terms: tested response × term pairs; disagreements: of those, verdict classical-only\n"
 "or resampling-only; changed: verdicts that differ from OLD_DIR). summary.txt says the\n"
 "same in words and lists the verdict changes.\n"
 "\n"
@@ -460,7 +461,13 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
             fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
                     oc->message ? oc->message : msg);
     } else {
-        cli_batch_tally(doc, oc);
+        if (cli_batch_tally(doc, oc)) {
+            tot->failed++;
+            if (b->lead)
+                fprintf(stderr, "sturdy: %s: %s (exit %d)\n", name, oc->message ? oc->message
+                                                                              : "untested",
+                        oc->exit_code);
+        }
         cli_batch_compare(name, old, doc, oc);
     }
     jv_free(doc);

@@ -104,18 +104,30 @@ jv *cli_batch_resumable(const cli_check *c, const char *out_path, const char *da
 
 /* --- tally and verdict comparison ------------------------------------------------- */
 
-void cli_batch_tally(const jv *doc, cli_batch_outcome *oc)
+int cli_batch_tally(const jv *doc, cli_batch_outcome *oc)
 {
     const jv *resp = jv_get(doc, "responses");
+    const char *why = NULL;
     for (size_t i = 0; resp && i < resp->n; i++) {
         const jv *terms = jv_get(jv_at(resp, i), "terms");
+        if (!why) why = jv_str(jv_get(jv_get(jv_at(resp, i), "error"), "note"));
         for (size_t k = 0; terms && k < terms->n; k++) {
-            const char *v = jv_str(jv_get(jv_at(terms, k), "verdict"));
+            const jv *t = jv_at(terms, k);
+            const char *v = jv_str(jv_get(t, "verdict"));
+            const jv *f = jv_get(t, "f");
             oc->terms++;
+            if (f && f->kind == JV_NUMBER) oc->tested++;
+            else if (!why) why = jv_str(jv_get(t, "note"));
             if (v && (!strcmp(v, "classical-only") || !strcmp(v, "resampling-only")))
                 oc->disagree++;
         }
     }
+    if (oc->tested > 0) return 0;
+    oc->exit_code = STURDY_EMODEL;
+    free(oc->message);
+    oc->message = cli_str_cat3("none of the requested terms could be tested: ",
+                               why ? why : "no term has an F-test", "");
+    return 1;
 }
 
 static const jv *find_by(const jv *arr, const char *key, const char *value)
@@ -125,15 +137,19 @@ static const jv *find_by(const jv *arr, const char *key, const char *value)
     return NULL;
 }
 
-/* Verdict of `term` in response `resp` of a result: "absent" when there is no such
- * term, "none" when it has no verdict. */
+/* Words of --compare for a term without a verdict; plain phrases, so that they cannot
+ * be read as a verdict ("neither" is one). */
+#define NO_SUCH_TERM "(term not in this result)"
+#define NO_VERDICT "(no verdict)"
+
+/* Verdict of `term` in response `resp` of a result, or one of the phrases above. */
 static const char *verdict_of(const jv *doc, const char *resp, const char *term)
 {
     const jv *r = find_by(jv_get(doc, "responses"), "response", resp);
     const jv *t = r ? find_by(jv_get(r, "terms"), "term", term) : NULL;
-    if (!t) return "absent";
+    if (!t) return NO_SUCH_TERM;
     const char *v = jv_str(jv_get(t, "verdict"));
-    return v ? v : "none";
+    return v ? v : NO_VERDICT;
 }
 
 /* Every (response, term) of `a` whose verdict in `b` differs, as "old → new" (a_is_new
@@ -149,7 +165,7 @@ static void diff_verdicts(const char *name, const jv *a, const jv *b, int a_is_n
             const char *tn = jv_str(jv_get(jv_at(terms, k), "term"));
             if (!tn) continue;
             const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
-            if (!strcmp(va, vb) || (skip_present && strcmp(vb, "absent"))) continue;
+            if (!strcmp(va, vb) || (skip_present && strcmp(vb, NO_SUCH_TERM))) continue;
             sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name, rn, tn,
                               a_is_new ? vb : va, a_is_new ? va : vb);
             oc->changed++;
@@ -187,22 +203,36 @@ int cli_batch_write_summary(const char *plan_path, const char *dir, const char *
     sturdy_buf csv, txt;
     sturdy_buf_init(&csv);
     sturdy_buf_init(&txt);
-    size_t failed = 0, changed = 0, width = 0;
+    size_t failed = 0, untested = 0, changed = 0, width = 0;
     for (size_t i = 0; i < n; i++) {
         size_t w = strlen(names[i]);
         if (w > width) width = w;
-        failed += oc[i].exit_code != 0;
+        failed += oc[i].exit_code != 0 && !oc[i].terms;
+        untested += oc[i].exit_code != 0 && oc[i].terms;
         changed += oc[i].changed;
     }
     const char *base = strrchr(plan_path, '/');
     base = base ? base + 1 : plan_path;
-    sturdy_buf_printf(&txt, "Plan %s: %zu analyses, %zu ok, %zu failed\n\n", base, n,
-                      n - failed, failed);
+    sturdy_buf_printf(&txt, "Plan %s: %zu analyses, %zu ok, %zu failed", base, n,
+                      n - failed - untested, failed);
+    if (untested) sturdy_buf_printf(&txt, ", %zu with no term tested", untested);
+    sturdy_buf_puts(&txt, "\n\n");
     sturdy_buf_puts(&csv, "name,status,exit_code,message,terms,disagreements,changed\n");
     for (size_t i = 0; i < n; i++) {
         const char *name = names[i];
         const cli_batch_outcome *o = &oc[i];
         csv_field(&csv, name);
+        if (o->exit_code && o->terms) {   /* a result without a tested term */
+            sturdy_buf_printf(&csv, ",untested,%d,", o->exit_code);
+            csv_field(&csv, o->message ? o->message : "");
+            sturdy_buf_printf(&csv, ",%zu,%zu,", o->tested, o->disagree);
+            if (o->compared) sturdy_buf_printf(&csv, "%zu", o->changed);
+            sturdy_buf_puts(&csv, "\n");
+            sturdy_buf_printf(&txt, "  %-*s  untested (exit %d): 0 of %zu terms tested: %s\n",
+                              (int)width, name, o->exit_code, o->terms,
+                              o->message ? o->message : "");
+            continue;
+        }
         if (o->exit_code) {
             sturdy_buf_printf(&csv, ",failed,%d,", o->exit_code);
             csv_field(&csv, o->message ? o->message : "");
@@ -211,11 +241,14 @@ int cli_batch_write_summary(const char *plan_path, const char *dir, const char *
                               o->exit_code, o->message ? o->message : "");
             continue;
         }
-        sturdy_buf_printf(&csv, ",ok,0,,%zu,%zu,", o->terms, o->disagree);
+        sturdy_buf_printf(&csv, ",ok,0,,%zu,%zu,", o->tested, o->disagree);
         if (o->compared) sturdy_buf_printf(&csv, "%zu", o->changed);
         sturdy_buf_puts(&csv, "\n");
-        sturdy_buf_printf(&txt, "  %-*s  ok: %zu term%s, %zu where classical and resampling "
-                          "disagree\n", (int)width, name, o->terms, o->terms == 1 ? "" : "s",
+        sturdy_buf_printf(&txt, "  %-*s  ok: %zu tested term%s", (int)width, name, o->tested,
+                          o->tested == 1 ? "" : "s");
+        if (o->tested < o->terms)
+            sturdy_buf_printf(&txt, " of %zu", o->terms);
+        sturdy_buf_printf(&txt, ", %zu where classical and resampling disagree\n",
                           o->disagree);
     }
     if (old_dir) {

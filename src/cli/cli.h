@@ -40,7 +40,7 @@ typedef struct {
     int argc; char **argv;       /* the command's arguments (argv[0] = command), recorded
                                     in shard parts so that merge can repeat the set-up */
     const char *cwd;             /* working folder at parse time (owned), for shards */
-    cli_list responses, factors, covariates, missing;
+    cli_list responses, factors, covariates, missing, term_order;
     int missing_only;            /* --missing-only: the tokens replace the defaults */
     cli_level_order *levels; size_t nlevels;   /* --levels, in the order given */
     sturdy_level_order *orders;  /* the same for the model spec (points into `levels`) */
@@ -129,6 +129,9 @@ int sturdy_cli_batch(int argc, char **argv);
  * covariates and the block (as design.c builds them). run.c. */
 uint64_t cli_count_terms(const sturdy_model_spec *m);
 
+/* The format a file name's extension asks for (.json, .csv), or -1. options.c. */
+int cli_format_of_path(const char *path);
+
 /* a, b and c joined in a new string (the caller frees it), or NULL when memory ran out. */
 char *cli_str_cat3(const char *a, const char *b, const char *c);
 
@@ -138,7 +141,7 @@ struct jv;   /* a parsed JSON document (json_read.h) */
 typedef struct {
     int exit_code;
     char *message;               /* failure message, or NULL */
-    size_t terms, disagree;
+    size_t terms, tested, disagree; /* terms of the model; those with an F-test */
     int compared;                /* an earlier result was found and compared */
     size_t changed;
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
@@ -153,8 +156,10 @@ struct jv *cli_batch_read_json(const char *path);
 struct jv *cli_batch_resumable(const cli_check *c, const char *out_path,
                                const char *data_path);
 
-/* Adds the result's tested terms and classical/resampling disagreements to oc. */
-void cli_batch_tally(const struct jv *doc, cli_batch_outcome *oc);
+/* Adds the result's terms, tested terms and classical/resampling disagreements to oc.
+ * A result with no tested term makes the row "untested": exit_code STURDY_EMODEL and a
+ * message saying why (as `check` exits). Returns 1 then, else 0. */
+int cli_batch_tally(const struct jv *doc, cli_batch_outcome *oc);
 
 /* Records in oc every verdict that differs between an earlier result `old` (nothing
  * when NULL) and `now`, terms present in only one of them included. */

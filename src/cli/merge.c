@@ -25,7 +25,8 @@ static const char merge_help[] =
 "repeated slices.\n"
 "\n"
 "  -o, --output FILE    write the result here (through a temporary file); default stdout\n"
-"      --format F       text, json (default) or csv\n"
+"      --format F       text, json or csv (default text, or as -o FILE.json/.csv\n"
+"                       says: the same rule as check)\n"
 "      --data FILE      read the data from FILE instead\n"
 "      --threads N      threads for the set-up (default all)\n"
 "  -q, --quiet          no remarks on standard error\n"
@@ -250,7 +251,8 @@ int sturdy_cli_merge(int argc, char **argv)
         { NULL, 0, NULL, 0 }
     };
     const char *out_path = NULL, *data = NULL;
-    cli_format format = CLI_FMT_JSON;
+    cli_format format = CLI_FMT_TEXT;
+    int format_given = 0;
     uint64_t threads = 0;
     int quiet = 0, opt;
     opterr = 0;
@@ -271,11 +273,15 @@ int sturdy_cli_merge(int argc, char **argv)
             else if (!strcmp(optarg, "csv")) format = CLI_FMT_CSV;
             else return cli_usage_error("merge", "--format wants text, json or csv, not '%s'",
                                         optarg);
+            format_given = 1;
             break;
         default:
             return cli_usage_error("merge", "bad or incomplete option '%s'", argv[optind - 1]);
         }
     }
+    /* as for check: text unless --format or the output file's extension says otherwise */
+    if (!format_given && out_path && cli_format_of_path(out_path) >= 0)
+        format = (cli_format)cli_format_of_path(out_path);
     int nparts = argc - optind;
     if (nparts < 1)
         return cli_usage_error("merge", "name the part files to merge");

@@ -15,7 +15,7 @@ enum {
     OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
-    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM
+    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER
 };
 
 /* The one table of `check`'s long options: getopt_long reads the command line with it
@@ -27,6 +27,7 @@ const struct option cli_check_options[] = {
     { "covariates", required_argument, NULL, OPT_COVARIATES },
     { "block", required_argument, NULL, OPT_BLOCK },
     { "order", required_argument, NULL, OPT_ORDER },
+    { "term-order", required_argument, NULL, OPT_TERM_ORDER },
     { "ss", required_argument, NULL, OPT_SS },
     { "permutations", required_argument, NULL, 'B' },
     { "bootstrap", required_argument, NULL, OPT_BOOTSTRAP },
@@ -74,6 +75,8 @@ static const char check_help[] =
 "      --levels F=a,b,c         the order of factor F's levels (default: natural order,\n"
 "                               N0 N40 N120); repeatable, or 'F=a,b;G=x,y'\n"
 "      --merge-numeric-levels   levels equal as numbers (60 and 60.0) are one level\n"
+"      --term-order T[,T...]    put these terms first, in this order (e.g. A,B,C,D,C×D);\n"
+"                               Type I sums of squares follow it\n"
 "\n"
 "Resampling\n"
 "  -B, --permutations N         rearrangements per test (default 9999; 0 = none)\n"
@@ -211,6 +214,7 @@ void cli_check_free(cli_check *c)
         cli_list_free(&c->levels[k].levels);
     }
     free(c->levels);
+    cli_list_free(&c->term_order);
     free(c->orders);
 }
 
@@ -290,8 +294,7 @@ static int parse_delimiter(const cli_check *c, const char *arg, char *d)
     return 0;
 }
 
-/* The format a file name's extension asks for, or -1. */
-static int format_of_path(const char *path)
+int cli_format_of_path(const char *path)
 {
     size_t n = strlen(path);
     if (n > 5 && strcmp(path + n - 5, ".json") == 0) return CLI_FMT_JSON;
@@ -352,6 +355,7 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
     case 'y': return want_list(c, &c->responses, "--response", arg, 0);
     case 'f': return want_list(c, &c->factors, "--factors", arg, 0);
     case OPT_COVARIATES: return want_list(c, &c->covariates, "--covariates", arg, 0);
+    case OPT_TERM_ORDER: return want_list(c, &c->term_order, "--term-order", arg, 0);
     case OPT_MISSING: return want_list(c, &c->missing, "--missing", arg, 1);
     case OPT_MISSING_ONLY:
         c->missing_only = 1;
@@ -456,6 +460,8 @@ static int finish(cli_check *c)
     o->model.nfactors = c->factors.n;
     o->model.covariates = (const char *const *)c->covariates.items;
     o->model.ncovariates = c->covariates.n;
+    o->model.term_order = (const char *const *)c->term_order.items;
+    o->model.nterm_order = c->term_order.n;
     /* --missing adds to the defaults; --missing-only replaces them */
     if (c->missing.n || c->missing_only) {
         if (!c->missing_only &&
@@ -478,12 +484,18 @@ static int finish(cli_check *c)
         o->model.level_orders = c->orders;
         o->model.nlevel_orders = c->nlevels;
     }
-    if (!c->format_given && c->out_path && format_of_path(c->out_path) >= 0)
-        c->format = (cli_format)format_of_path(c->out_path);
+    if (!c->format_given && c->out_path && cli_format_of_path(c->out_path) >= 0)
+        c->format = (cli_format)cli_format_of_path(c->out_path);
     if ((c->ascii_terms || c->csv_bom) && (o->shard_count || c->format != CLI_FMT_CSV))
         return cli_usage_error(c->command, "%s applies to CSV output: add --format csv (or "
                                "-o FILE.csv)", c->ascii_terms ? "--ascii-terms" : "--csv-bom");
     if (o->shard_count) {
+        /* a part is raw material for 'sturdy merge' (hundreds of KB of JSON), never
+         * something to read on a terminal; into a pipe or file it is fine */
+        if (!c->out_path && isatty(STDOUT_FILENO))
+            return cli_usage_error(c->command, "--shard writes a JSON part for 'sturdy "
+                                   "merge', not a report: give -o FILE.json (or redirect "
+                                   "standard output)");
         if (c->format_given && c->format != CLI_FMT_JSON)
             return cli_usage_error(c->command, "--shard writes JSON for 'sturdy merge'; "
                                    "leave out --format or use --format json");

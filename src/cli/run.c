@@ -198,6 +198,13 @@ int cli_check_run(cli_check *c)
     } else {
         rc = cli_write_output(c->out_path, out.data, out.len);
     }
+    /* The report is written (it says why for each term), but a run that could test none
+     * of the requested terms did not do what was asked (README: exit 4). */
+    if (!rc && sturdy_result_tested_terms(r) == 0) {
+        fprintf(stderr, "sturdy: none of the requested terms could be tested: %s\n",
+                sturdy_result_untested_reason(r));
+        rc = STURDY_EMODEL;
+    }
     /* CSV has no place for the run's notes; keep them visible */
     if (!rc && !c->quiet && c->format == CLI_FMT_CSV)
         for (size_t i = 0; i < r->nnotes; i++) fprintf(stderr, "sturdy: note: %s\n", r->notes[i]);
