@@ -37,8 +37,11 @@ def run(args, binary=True):
 
 
 def check_json(args):
+    """Runs check as JSON. Exit 4 (no requested term could be tested: the crafted files
+    with split levels or no residual df) still writes the whole result (README, exit
+    codes), so its JSON is read too."""
     rc, out, err = run(args + ["--format", "json"])
-    return rc, (json.loads(out) if rc == 0 else None), err
+    return rc, (json.loads(out) if rc in (0, 4) and out else None), err
 
 
 def natural_key(s):
@@ -221,6 +224,7 @@ def test_csv_options():
     rc, plain, _ = run(args + ["--format", "csv"])
     rc, ascii_, err = run(args + ["--format", "csv", "--ascii-terms"])
     terms = [r[1] for r in csv.reader(io.StringIO(ascii_.decode("ascii", "replace")))][1:]
+    terms = [t for t in terms if t not in ("residual", "total")]  # the error rows
     report(rc == 0 and terms == ["variety", "nitrogen", "variety_by_nitrogen"] and
            all(b < 128 for b in ascii_),
            "item 18: --ascii-terms: term names %s, every byte ASCII" % terms)
