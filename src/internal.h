@@ -12,6 +12,10 @@
 sturdy_status sturdy_fail(char *err, sturdy_status s, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 
+/* Sets *slot to a copy of `text` unless a note is there already (the first reason
+ * stands); STURDY_EINTERNAL with a message when out of memory. */
+sturdy_status sturdy_note_once(char **slot, const char *text, char *err);
+
 /* strdup that returns NULL on NULL input or allocation failure. */
 char *sturdy_strdup(const char *s);
 

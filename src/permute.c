@@ -222,14 +222,6 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     }
 }
 
-static sturdy_status set_note(char **slot, const char *text, char *err)
-{
-    if (*slot)
-        return STURDY_OK;
-    *slot = sturdy_strdup(text);
-    return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-}
-
 /* Choose the members and their vectors. */
 static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
 {
@@ -250,7 +242,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
             else if (!(tr->f >= 0))
                 why = tr->note ? tr->note : "no F statistic to compare";
             if (why) {
-                if ((st = set_note(&tr->perm_note, why, err)))
+                if ((st = sturdy_note_once(&tr->perm_note, why, err)))
                     return st;
                 continue;
             }

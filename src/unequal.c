@@ -119,14 +119,6 @@ double uv_wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
     return w;
 }
 
-sturdy_status uv_set_note(char **slot, const char *text, char *err)
-{
-    if (*slot)
-        return STURDY_OK;
-    *slot = sturdy_strdup(text);
-    return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-}
-
 void uv_ctx_free(uv_ctx *c)
 {
     free(c->ng);
@@ -324,15 +316,15 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         sturdy_uv_result *u = &tr->uv;
         uv_init_result(u);
         const sturdy_term_basis *tb = &m->terms[t];
-        if (why) { st = uv_set_note(&u->note, why, err); continue; }
+        if (why) { st = sturdy_note_once(&u->note, why, err); continue; }
         if (!(tr->f >= 0)) {
-            st = uv_set_note(&u->note, tr->note ? tr->note : "the term has no test", err);
+            st = sturdy_note_once(&u->note, tr->note ? tr->note : "the term has no test", err);
             continue;
         }
         uv_restricted_residuals(&c, d->y + r * n, tb->Uterm, tb->df, v, ft, A, Q, s, pw);
         double W = uv_wald(&c, tb->Uterm, tb->df, A, Q, work);
         if (isnan(W)) {
-            st = uv_set_note(&u->note, "the cell variances leave the term's covariance "
+            st = sturdy_note_once(&u->note, "the cell variances leave the term's covariance "
                           "singular (cells without spread)", err);
             continue;
         }
@@ -369,9 +361,9 @@ sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, ch
     if (isnan(u->wald))
         return STURDY_OK;
     if (r->nperm == 0)
-        return uv_set_note(&u->perm_note, "no resampling was asked for (-B 0)", err);
+        return sturdy_note_once(&u->perm_note, "no resampling was asked for (-B 0)", err);
     if (r->spread_scheme == STURDY_SPREAD_NONE)
-        return uv_set_note(&u->perm_note, "the statistic was not resampled (its approximate F "
+        return sturdy_note_once(&u->perm_note, "the statistic was not resampled (its approximate F "
                         "is the better calibrated p; --spread-scheme asks for it)", err);
     double B = (double)r->nperm;
     /* the wild bootstrap is a random draw even when the rearrangements are enumerated */

@@ -41,7 +41,4 @@ void uv_restricted_residuals(const uv_ctx *c, const double *y, const double *Ut,
                              double *v, double *ft, double *A, double *Q, double *s,
                              double *work);
 
-/* Sets *slot to a copy of text unless it is set already. */
-sturdy_status uv_set_note(char **slot, const char *text, char *err);
-
 #endif

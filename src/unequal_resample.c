@@ -154,6 +154,9 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
                             char *err)
 {
     uint64_t b0 = r->perm_begin, b1 = r->perm_end;
+    /* the default scheme resamples nothing: no set-up either */
+    if (r->spread_scheme == STURDY_SPREAD_NONE)
+        return STURDY_OK;
     uv_run u;
     memset(&u, 0, sizeof u);
     const char *why;
@@ -175,7 +178,7 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
                 continue;
             if (r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
                 d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip &&
-                (st = uv_set_note(&uv->perm_note, "no permutation p-value for the block term: "
+                (st = sturdy_note_once(&uv->perm_note, "no permutation p-value for the block term: "
                                "rearranging within blocks leaves it unchanged", err)))
                 goto done;
             uv_member *mb = &u.mem[u.M++];
@@ -188,7 +191,9 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
             if (mb->df > u.maxdf)
                 u.maxdf = mb->df;
         }
-    if (u.M == 0 || b1 <= b0 || r->spread_scheme == STURDY_SPREAD_NONE)
+    /* an empty slice (a merge sets up without resampling) still leaves the block term's
+     * note above */
+    if (u.M == 0 || b1 <= b0)
         goto done;
     u.E = malloc(n * u.M * sizeof *u.E);
     u.Qw = malloc(K * u.M * sizeof *u.Qw);

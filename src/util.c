@@ -27,6 +27,14 @@ char *sturdy_strdup(const char *s)
     return d;
 }
 
+sturdy_status sturdy_note_once(char **slot, const char *text, char *err)
+{
+    if (*slot)
+        return STURDY_OK;
+    *slot = sturdy_strdup(text);
+    return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
 char *sturdy_asprintf(const char *fmt, ...)
 {
     va_list ap;
