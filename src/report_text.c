@@ -158,9 +158,14 @@ static const char *tests_finding(int f, int r, int uv)
         "the F-test", "the F-test and the unequal-variance test", "the F-test and resampling",
         "all three tests"
     };
-    int k = (f ? 4 : 0) | (r ? 2 : 0) | (uv > 0 ? 1 : 0);
-    if (uv < 0 && k == 6) return "both the F-test and resampling";
-    return names[k];
+    return names[(f ? 4 : 0) | (r ? 2 : 0) | (uv > 0 ? 1 : 0)];
+}
+
+/* Does the F-test (*f) or the resampled F (*rs) find the term, as its verdict says? */
+static void verdict_finds(const sturdy_term_result *t, int *f, int *rs)
+{
+    *f = t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_CLASSICAL_ONLY;
+    *rs = t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_RESAMPLING_ONLY;
 }
 
 static void headline(tw *w)
@@ -174,14 +179,12 @@ static void headline(tw *w)
             if (t->verdict == STURDY_VERDICT_NONE) continue;
             avail++;
             double pu = uv_p(&t->uv);
-            int f = t->verdict == STURDY_VERDICT_BOTH ||
-                    t->verdict == STURDY_VERDICT_CLASSICAL_ONLY;
-            int uv_ok = isnan(pu) || (pu <= alpha) == f;
+            int f, rs;
+            verdict_finds(t, &f, &rs);
+            int same = f == rs && (isnan(pu) || (pu <= alpha) == f);
             if (!isnan(pu)) with_uv++;
-            if ((t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_NEITHER) &&
-                uv_ok)
-                agree++;
-            if (t->verdict == STURDY_VERDICT_BOTH && uv_ok) both++;
+            agree += same;
+            both += same && f;
         }
     char a[32], s[512];
     const char *which = with_uv ? "the F-test, resampling and the unequal-variance test"
@@ -219,10 +222,8 @@ static void headline(tw *w)
                 const sturdy_term_result *t = &r->resp[i].terms[k];
                 if (t->verdict == STURDY_VERDICT_NONE) continue;
                 double pu = uv_p(&t->uv);
-                int f = t->verdict == STURDY_VERDICT_BOTH ||
-                        t->verdict == STURDY_VERDICT_CLASSICAL_ONLY;
-                int rs = t->verdict == STURDY_VERDICT_BOTH ||
-                         t->verdict == STURDY_VERDICT_RESAMPLING_ONLY;
+                int f, rs;
+                verdict_finds(t, &f, &rs);
                 int u = isnan(pu) ? -1 : pu <= alpha;
                 if (f == rs && (u < 0 || u == f)) continue;
                 const char *why = f != rs && t->verdict_reason ? t->verdict_reason
