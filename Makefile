@@ -21,7 +21,10 @@ CC      := mpicc
 CPPFLAGS += -DSTURDY_MPI=1
 endif
 
-LIB_SRC := $(wildcard src/*.c)
+# The library's stages, lowest first (docs/ARCHITECTURE.md); the CLI is src/cli.
+STAGES  := core input model classical resampling checks analysis report
+LIB_SRC := $(foreach s,$(STAGES),$(wildcard src/$(s)/*.c))
+LIB_HDR := $(foreach s,$(STAGES),$(wildcard src/$(s)/*.h))
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/lib/%.o)
 CLI_OBJ := $(CLI_SRC:src/cli/%.c=$(BUILD)/cli/%.o)
@@ -50,7 +53,7 @@ $(PROG): $(BUILD)/libsturdy.a $(CLI_OBJ)
 $(BUILD)/libsturdy.a: $(LIB_OBJ)
 	ar rcs $@ $^
 
-$(BUILD)/lib/%.o: src/%.c $(wildcard include/sturdy/*.h src/*.h)
+$(BUILD)/lib/%.o: src/%.c $(wildcard include/sturdy/*.h) $(LIB_HDR)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(WARN) $(CFLAGS) $(OMP) -c -o $@ $<
 

@@ -1,4 +1,4 @@
-/* test_dist.c — closed forms and contract checks for src/dist.c (the grid against scipy
+/* test_dist.c — closed forms and contract checks for src/classical/dist.c (the grid against scipy
  * and R is tests/xcheck_dist.py). */
 #include <float.h>
 #include <math.h>

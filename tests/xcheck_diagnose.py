@@ -1,4 +1,4 @@
-"""xcheck_diagnose.py — sturdy's residual diagnostics (src/diagnose.c, through
+"""xcheck_diagnose.py — sturdy's residual diagnostics (src/checks/diagnose.c, through
 build/tests/probe_diagnose) against independent implementations, fixed numpy seeds.
 
 Checks and tolerances (the reference is named on every line):

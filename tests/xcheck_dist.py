@@ -1,4 +1,4 @@
-"""xcheck_dist.py — sturdy's distribution functions (src/dist.c, through
+"""xcheck_dist.py — sturdy's distribution functions (src/classical/dist.c, through
 build/tests/probe_dist) against scipy.stats.
 
 Checks and tolerances (the reference is named on every line):

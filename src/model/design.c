@@ -4,9 +4,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
-#include "levels.h"
-#include "terms.h"
+#include "core/core.h"
+#include "input/levels.h"
+#include "model/terms.h"
 #include "sturdy/design.h"
 #include "sturdy/report.h"
 

@@ -1,18 +1,18 @@
-/* report_text.c — the readable report: a headline, then per response the tests, the
+/* text.c — the readable report: a headline, then per response the tests, the
  * effect sizes and the residual checks with plain advice, then the run's notes.
  *
  * Layout rules: tables are at most 99 columns wide (plus the width by which term labels
  * of 19 to W_TERM_MAX characters widen the term column), prose wraps at the report width,
  * absent values print as "—" with the reason in a numbered footnote, and nothing
  * depends on the terminal except the optional colour. Shared drawing helpers live in
- * report_textfmt.c. */
+ * textfmt.c. */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
 
-#include "report_text.h"
+#include "report/text.h"
 
-/* The headline's untested cause and the run section are in report_run.c. */
+/* The headline's untested cause and the run section are in run.c. */
 
 /* Column widths of the tests table (2 + 18+1+4+1+9+1+9+2+8+2+11+2+13+2+14 = 99); SS and
  * F never take more than 9 characters in tw_fmt_num's format. MS is left to JSON and CSV

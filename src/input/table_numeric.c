@@ -7,7 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "table_internal.h"
+#include "input/table_internal.h"
 
 static int is_blank(char c) { return c == ' ' || c == '\t'; }
 

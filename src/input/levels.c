@@ -4,8 +4,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
-#include "levels.h"
+#include "core/core.h"
+#include "input/levels.h"
 #include "sturdy/report.h"
 
 /* Near-duplicate pairs named in one warning; the rest are counted. */

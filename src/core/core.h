@@ -1,4 +1,4 @@
-/* internal.h — helpers shared by the library's own files; not part of the public API. */
+/* core.h — helpers shared by the library's own files; not part of the public API. */
 #ifndef STURDY_INTERNAL_H
 #define STURDY_INTERNAL_H
 

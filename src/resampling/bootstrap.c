@@ -16,10 +16,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "engine.h"
-#include "internal.h"
+#include "analysis/engine.h"
+#include "core/core.h"
 #include "sturdy/dist.h"
-#include "pcg_inline.h"
+#include "resampling/pcg_inline.h"
 
 /* A row whose leverage is within this of 1 is alone in its group: its residual is 0 and
  * its leave-one-out fit is undefined, so it is left out of the residual pool and of the

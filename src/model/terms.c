@@ -3,8 +3,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
-#include "terms.h"
+#include "core/core.h"
+#include "model/terms.h"
 
 /* Number of factor subsets of size k of m factors, enumerated as bitmasks in
  * lexicographic order of their factor indices. Returns the next mask after `mask`

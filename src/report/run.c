@@ -1,11 +1,11 @@
-/* report_run.c — the text report's account of the run: the section "The run" (data,
+/* run.c — the text report's account of the run: the section "The run" (data,
  * design, model, resampling, bootstrap, level and seed) and, when no term could be
- * tested, the one cause that leads the headline. Drawing helpers: report_textfmt.c. */
+ * tested, the one cause that leads the headline. Drawing helpers: textfmt.c. */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
 
-#include "report_text.h"
+#include "report/text.h"
 
 /* A factor that reads like a replicate or run number, or NULL. */
 static const char *replicate_like(const sturdy_design *d)

@@ -1,4 +1,4 @@
-/* report_textfmt.c — drawing helpers of the text report: display width, padding,
+/* textfmt.c — drawing helpers of the text report: display width, padding,
  * wrapping, footnotes and number formats. */
 #include <math.h>
 #include <stdarg.h>
@@ -6,7 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "report_text.h"
+#include "report/text.h"
 
 void tw_init(tw *w, const sturdy_result *r, const sturdy_report_opts *o, sturdy_buf *out)
 {

@@ -5,9 +5,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
-#include "pcg_inline.h"
-#include "rearrange.h"
+#include "core/core.h"
+#include "resampling/pcg_inline.h"
+#include "resampling/rearrange.h"
 
 uint64_t sturdy_factorial_sat(size_t k)
 {

@@ -22,10 +22,10 @@
 #include <string.h>
 #include <time.h>
 
-#include "engine.h"
-#include "internal.h"
+#include "analysis/engine.h"
+#include "core/core.h"
 #include "sturdy/dist.h"
-#include "rearrange.h"
+#include "resampling/rearrange.h"
 
 /* Work per thread and block is bounded by this many bytes of group sums. */
 #define PERM_BLOCK_BYTES (16u << 20)

@@ -9,10 +9,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
-#include "pcg_inline.h"
-#include "rearrange.h"
-#include "unequal.h"
+#include "core/core.h"
+#include "resampling/pcg_inline.h"
+#include "resampling/rearrange.h"
+#include "classical/unequal.h"
 
 typedef struct {
     size_t resp, term;

@@ -1,6 +1,6 @@
 /* pcg.c — PCG-XSL-RR 128/64 with selectable stream (O'Neill 2014), jump-ahead (Brown
  * 1994), unbiased bounded integers (Lemire 2019), unit doubles, shuffles and signs. */
-#include "pcg_inline.h"
+#include "resampling/pcg_inline.h"
 
 /* 2^−53: turns the top 53 bits of an output into a double in [0, 1) exactly. */
 #define PCG_UNIT_SCALE (1.0 / 9007199254740992.0)

@@ -3,7 +3,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 sturdy_status sturdy_fail(char *err, sturdy_status s, const char *fmt, ...)
 {

@@ -52,10 +52,10 @@ size_t tw_footnote(tw *w, const char *reason);
 /* Print the footnotes collected since the last call, then forget them. */
 void tw_footnotes(tw *w);
 
-/* report_run.c: the headline's lead when no term has an F-test (no residual degrees of
+/* run.c: the headline's lead when no term has an F-test (no residual degrees of
  * freedom, or every term confounded): the one cause, once; returns 1 when it wrote it. */
 int tw_untested_cause(tw *w);
-/* report_run.c: the section "The run". */
+/* run.c: the section "The run". */
 void tw_run_section(tw *w);
 
 /* Number formats; each writes "—" for NaN into `out` (≥ 32 bytes; TW_RANGE_LEN for a

@@ -4,8 +4,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "engine.h"
-#include "internal.h"
+#include "analysis/engine.h"
+#include "core/core.h"
 #include "sturdy/dist.h"
 
 void sturdy_effect_sizes(double ss, double df, double sse, double dfe, double sst, double n,

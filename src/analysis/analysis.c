@@ -5,8 +5,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "engine.h"
-#include "internal.h"
+#include "analysis/engine.h"
+#include "core/core.h"
 #include "sturdy/dist.h"
 #include "sturdy/pcg.h"
 #ifdef _OPENMP

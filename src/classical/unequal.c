@@ -31,9 +31,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
+#include "core/core.h"
 #include "sturdy/dist.h"
-#include "unequal.h"
+#include "classical/unequal.h"
 
 /* Cholesky factor of the n × n SPD matrix a (column-major, lower part used) in place;
  * 0 when a is not numerically positive definite. */

@@ -4,8 +4,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "engine.h"
-#include "internal.h"
+#include "analysis/engine.h"
+#include "core/core.h"
 #include "sturdy/diagnose.h"
 
 /* Shapiro–Wilk (Royston 1995) is defined for 3 ≤ n ≤ 5000. */

@@ -7,7 +7,7 @@
  * Blank lines (nothing but spaces and tabs) outside quoted fields are skipped wherever
  * they are, since spreadsheets emit them; a line holding only delimiters is a row of
  * empty fields. The numeric conversion lives in table_numeric.c. */
-#include "table_internal.h"
+#include "input/table_internal.h"
 
 #include <csv.h>
 #include <errno.h>

@@ -1,4 +1,4 @@
-/* common.c — names of the status codes shared by every stage. */
+/* status.c — names of the status codes shared by every stage. */
 #include "sturdy/common.h"
 
 const char *sturdy_status_name(sturdy_status s)

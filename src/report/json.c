@@ -1,4 +1,4 @@
-/* report_json.c — the result as JSON, contract "version": 1 (see report.h for the layout).
+/* json.c — the result as JSON, contract "version": 1 (see report.h for the layout).
  *
  * Output is deterministic: fixed key order, fixed indentation, numbers through
  * sturdy_format_double, and nothing that depends on the thread count or the clock. */

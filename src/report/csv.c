@@ -1,4 +1,4 @@
-/* report_csv.c — the result as CSV: a header, then one row per response × term, and
+/* csv.c — the result as CSV: a header, then one row per response × term, and
  * per response a "residual" and a "total" row (df, ss, ms; the rest empty). */
 #include <inttypes.h>
 #include <math.h>

@@ -5,7 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
+#include "core/core.h"
 #include "sturdy/fit.h"
 #include "sturdy/report.h"
 
