@@ -3,6 +3,7 @@ CC      ?= cc
 OPT     ?= -O2
 CFLAGS  ?= $(OPT) -g
 WARN    := -std=c11 -Wall -Wextra -Wpedantic -Werror -D_POSIX_C_SOURCE=200809L
+CLI_CPPFLAGS := $(CPPFLAGS) -Iinclude $(if $(filter 1,$(MPI)),-DSTURDY_MPI=1)
 CPPFLAGS += -Iinclude -Isrc
 LDLIBS  := -lcsv -llapacke -lopenblas -lgsl -lm
 OMP     := -fopenmp
@@ -50,16 +51,19 @@ sturdy: $(PROG)
 $(PROG): $(BUILD)/libsturdy.a $(CLI_OBJ)
 	$(CC) $(CFLAGS) $(OMP) -o $@ $(CLI_OBJ) $(BUILD)/libsturdy.a $(LDLIBS)
 
+# rebuilt from scratch: `ar r` never drops members of files that were moved or removed
 $(BUILD)/libsturdy.a: $(LIB_OBJ)
+	@rm -f $@
 	ar rcs $@ $^
 
 $(BUILD)/lib/%.o: src/%.c $(wildcard include/sturdy/*.h) $(LIB_HDR)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(WARN) $(CFLAGS) $(OMP) -c -o $@ $<
 
+# The CLI sees the public headers only (no -Isrc): the build enforces the API boundary.
 $(BUILD)/cli/%.o: src/cli/%.c $(wildcard include/sturdy/*.h src/cli/*.h)
 	@mkdir -p $(dir $@)
-	$(CC) $(CPPFLAGS) $(WARN) $(CFLAGS) $(OMP) -c -o $@ $<
+	$(CC) $(CLI_CPPFLAGS) $(WARN) $(CFLAGS) $(OMP) -c -o $@ $<
 
 $(BUILD)/tests/%: tests/%.c tests/check.h $(BUILD)/libsturdy.a
 	@mkdir -p $(dir $@)

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "core/result.h"
 #include "sturdy/sturdy.h"
 
 /* Issue goal: 9 significant digits on every certified value. */
@@ -113,7 +114,7 @@ static sturdy_result *analyze(const char *name, const char *csv, const char *y,
     o.permutations = 0;
     o.bootstrap = 0;
     sturdy_result *r = NULL;
-    if (sturdy_analyze(t, &o, &r, err) != STURDY_OK)
+    if (sturdy_analyze(t, &o, NULL, &r, err) != STURDY_OK)
         printf("FAIL  %s: %s\n", name, err);
     sturdy_table_free(t);
     return r;

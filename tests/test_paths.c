@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "core/result.h"
 #include "sturdy/sturdy.h"
 
 /* Bootstrap endpoints of the two paths differ only by rounding in sums of different
@@ -64,9 +65,11 @@ static sturdy_result *run(const char *csv, int rows, int method, int flip, int s
     o.ss_type = ss;
     o.permutations = B;
     o.bootstrap = 300;
-    o.threads = 2;
+    sturdy_context ctx;
+    sturdy_context_init(&ctx);
+    ctx.threads = 2;
     sturdy_result *r = NULL;
-    if (sturdy_analyze(t, &o, &r, err))
+    if (sturdy_analyze(t, &o, &ctx, &r, err))
         printf("FAIL  analyze: %s\n", err);
     sturdy_table_free(t);
     return r;

@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "core/result.h"
 #include "sturdy/report.h"
 
 /* ---- a small JSON syntax checker (RFC 8259 grammar), independent of the writer ---- */

@@ -4,6 +4,7 @@
 #include "check.h"
 #include "sturdy/design.h"
 #include "sturdy/table.h"
+#include "input/table_layout.h"
 
 #include <stdint.h>
 #include <stdlib.h>

@@ -1,4 +1,5 @@
-/* analysis.h — the whole `check`: options, the result, and the calls that produce it.
+/* analysis.h — the whole `check`: options, the run context, the result, and the calls
+ * that produce and read it. Part of the stable tier (sturdy.h).
  *
  * sturdy_analyze runs every stage for one table: design, fit, classical table, effect
  * sizes, permutation tests, bootstrap intervals, diagnostics and verdicts. With a shard
@@ -9,7 +10,9 @@
 #ifndef STURDY_ANALYSIS_H
 #define STURDY_ANALYSIS_H
 
-#include "design.h"
+#include "common.h"
+#include "spec.h"
+#include "table.h"
 
 typedef enum {
     STURDY_METHOD_FREEDMAN_LANE = 0, /* Freedman & Lane 1983 */
@@ -40,7 +43,22 @@ typedef enum {
 const char *sturdy_spread_scheme_name(sturdy_spread_scheme s);
 
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
-typedef void (*sturdy_progress_fn)(void *ctx, uint64_t done, uint64_t total);
+typedef void (*sturdy_progress_fn)(void *arg, uint64_t done, uint64_t total);
+
+/* How a run may use the machine, separate from what it computes (the options): the
+ * same options give the same bits under any context. Resolved once at the start of a
+ * run and passed down to every stage. */
+typedef struct {
+    int threads;                 /* OpenMP threads; 0 = all the runtime offers */
+    sturdy_progress_fn progress; /* NULL: none */
+    void *progress_arg;
+    const volatile int *cancel;  /* polled between blocks of rearrangements and
+                                    replicates; nonzero stops the run with
+                                    STURDY_ECANCELLED (NULL: never) */
+} sturdy_context;
+
+/* Defaults: all threads, no progress, no cancellation. */
+void sturdy_context_init(sturdy_context *c);
 
 typedef struct {
     sturdy_model_spec model;
@@ -54,13 +72,11 @@ typedef struct {
     double conf;                 /* default 0.95 */
     double alpha;                /* default 0.05 */
     uint64_t seed;               /* default STURDY_DEFAULT_SEED */
-    int threads;                 /* 0 = all available */
     uint64_t shard_index;        /* 1-based; 0 with shard_count 0 = the whole run */
     uint64_t shard_count;
     int resample;                /* 1 (default): compute the slice's rearrangements and
                                     replicates; 0: leave the raw material empty, to be
                                     filled by sturdy_result_add_slice (merging shards) */
-    sturdy_progress_fn progress; void *progress_ctx;
 } sturdy_options;
 
 #define STURDY_DEFAULT_SEED 20261201u
@@ -70,7 +86,8 @@ typedef struct {
 
 void sturdy_options_init(sturdy_options *o);
 
-/* Check ranges and combinations; STURDY_EUSAGE with a message naming the option. */
+/* Check ranges and combinations; STURDY_EUSAGE with a message naming the setting (by
+ * its field name in this struct). */
 sturdy_status sturdy_options_validate(const sturdy_options *o, char *err);
 
 /* Effect sizes, in this order everywhere. */
@@ -92,117 +109,120 @@ typedef enum {
 /* "both", "neither", "classical-only", "resampling-only", or NULL for NONE. */
 const char *sturdy_verdict_name(sturdy_verdict v);
 
-/* A number that may be absent: NaN in the double fields below means "null", and the
- * matching *_note (owned string) says why. */
-typedef struct { double lo, hi; } sturdy_pair;
+/* The result of a run, or of reading one back (sturdy_result_read_json). Opaque: read it
+ * through the accessors below; every string and number belongs to the result and lives
+ * until sturdy_result_free. An absent number is NaN, and a note says why. */
+typedef struct sturdy_result sturdy_result;
 
-/* The term's test that holds its level when cell variances differ: the Welch–James
- * Wald-type statistic W = zᵀ(U_tᵀ Ω U_t)⁻¹z with a heteroscedasticity-consistent Ω (cell
- * variances for factor-only models, HC3 otherwise), referred to Johansen's (1980)
- * approximate F (factor-only) or to F(df, residual df); its resampling p-values; and the
- * ANOVA-type statistic with Box's approximation (Brunner, Dette & Munk 1997). */
-typedef struct {
-    double wald;                 /* W, on the χ² scale */
-    double stat, df1, df2, p;    /* approximate F = W / c (Johansen) or W / df1 */
-    int johansen;                /* 1: Johansen's reference; 0: F(df1, residual df) */
-    double ats, ats_df1, ats_df2, ats_p; /* NaN unless factor-only */
-    uint64_t exceed_wild;        /* wild replicates with W* ≥ W */
-    uint64_t exceed_perm;        /* rearrangements with W* ≥ W (permutation scheme) */
-    double p_wild, p_permuted;   /* the two resampling p-values (NaN: not computed) */
-    double p_perm;               /* the run's scheme's p (one of the two) */
-    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson of p_perm */
-    char *note;                  /* why W (and everything) is absent, else NULL */
-    char *perm_note;             /* why p_perm is absent, else NULL */
-} sturdy_uv_result;
-
-typedef struct {
-    char *label;                 /* "A×B" */
-    sturdy_term_kind kind;
-    size_t nfactors; char **factors; /* names (owned) */
-    /* classical */
-    double df, ss, ms, f, p;
-    char *note;                  /* why f/p (and effect sizes) are absent, else NULL */
-    double es[STURDY_NES];
-    sturdy_pair ncf;             /* noncentral-F interval for partial η² */
-    /* permutation */
-    uint64_t exceed;             /* rearrangements with F* ≥ F (tie rule in permute.c) */
-    uint64_t exceed_fwer;        /* rearrangements whose min-p over the family ≤ this p */
-    double p_perm, p_perm_fwer, p_perm_holm;
-    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson on exceed */
-    char *perm_note;
-    /* bootstrap */
-    double *boot;                /* nboot × STURDY_NES row-major replicate values, indexed
-                                    over the whole run; only the slices computed or added
-                                    so far are filled (owned; NULL when the term has none) */
-    double accel[STURDY_NES];    /* BCa acceleration from the jackknife (NaN: none) */
-    sturdy_pair ci_pct[STURDY_NES], ci_bca[STURDY_NES];
-    char *boot_note;
-    /* verdict */
-    sturdy_verdict verdict;
-    char *verdict_reason;        /* one line, or NULL */
-    int straddles;               /* the p_perm interval contains alpha */
-    sturdy_uv_result uv;         /* unequal-variance test */
-} sturdy_term_result;
-
-typedef struct {
-    size_t row, line, cell;      /* 1-based data row, file line, cell index */
-    double studentized;          /* externally studentized residual (the one tested) */
-    double internal;             /* internally studentized residual */
-    double leverage;             /* the row's leverage */
-} sturdy_outlier;
-
-typedef struct {
-    double sw_w, sw_p; char *sw_note;
-    double skewness, excess_kurtosis;
-    double bf_f, bf_df1, bf_df2, bf_p; char *bf_note;
-    double bfm_f, bfm_df1, bfm_df2, bfm_p; char *bfm_note; /* without structural zeros */
-    double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
-    size_t noutliers; sturdy_outlier *outliers;
-    int spread_differs;          /* the rule of unequal.c: cell spreads differ enough
-                                    that the unequal-variance test leads the report */
-    char *spread_reason;         /* one line saying why (owned), or NULL */
-    double *studentized;         /* n externally studentized residuals (owned) */
-    double *leverage;            /* n */
-} sturdy_diagnostics;
-
-typedef struct {
-    char *name;
-    size_t nterms; sturdy_term_result *terms;
-    double df_error, ss_error, ms_error;
-    double df_total, ss_total;
-    char *error_note;            /* e.g. no residual degrees of freedom */
-    double *cell_mean, *cell_sd; /* per non-empty cell (sd NaN for a single row) */
-    sturdy_diagnostics diag;
-    double *fitted, *residual;   /* n each (owned), on the response's own scale */
-} sturdy_response_result;
-
-typedef struct {
-    sturdy_options opts;         /* a copy; its string pointers refer to the design */
-    sturdy_design *design;       /* owned */
-    int ss_type;
-    sturdy_method method;
-    sturdy_boot_scheme boot_scheme;  /* resolved (never DEFAULT) */
-    sturdy_spread_scheme spread_scheme;
-    int uv_hc3;                  /* the unequal-variance test uses HC3 (covariates or a
-                                    block), not the cell variances */
-    int exact;                   /* rearrangements were enumerated exhaustively */
-    uint64_t nperm;              /* rearrangements in the whole run (enumeration: all) */
-    uint64_t nboot;              /* bootstrap replicates in the whole run */
-    uint64_t perm_begin, perm_end; /* the slice computed by this run */
-    uint64_t boot_begin, boot_end;
-    uint64_t perm_done, boot_done; /* rearrangements / replicates filled in so far */
-    int finished;                /* p-values and intervals computed (not a bare shard) */
-    size_t nresp; sturdy_response_result *resp;
-    size_t nnotes; char **notes; /* run-wide remarks (warnings) for the report */
-    uint64_t data_checksum;      /* FNV-1a of the used columns' text, to match shards */
-} sturdy_result;
-
-/* Run the analysis of `t` with options `o`. A model where no term can be tested (e.g. no
- * residual degrees of freedom) is not an error here: the result holds the table with the
- * reasons, and sturdy_result_tested_terms says that nothing was tested (the CLI then
- * exits STURDY_EMODEL). *out owned by the caller. */
+/* Run the analysis of `t` with options `o` under context `ctx` (NULL: defaults). A model
+ * where no term can be tested (e.g. no residual degrees of freedom) is not an error here:
+ * the result holds the table with the reasons, and sturdy_result_tested_terms says that
+ * nothing was tested (the CLI then exits STURDY_EMODEL). *out owned by the caller. */
 sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
-                             sturdy_result **out, char *err);
+                             const sturdy_context *ctx, sturdy_result **out, char *err);
+
+void sturdy_result_free(sturdy_result *r);   /* accepts NULL */
+
+/* --- reading a result ------------------------------------------------------------ */
+
+/* The settings the run used (for a result read back: those its file records; the model
+ * spec then names responses, factors, covariates and block only). Never NULL. */
+const sturdy_options *sturdy_result_options(const sturdy_result *r);
+
+typedef struct {
+    const char *input;           /* the table's source name (NULL when unknown) */
+    size_t rows_read, rows_used;
+    uint64_t nperm;              /* rearrangements of the whole run */
+    int exact;                   /* they were enumerated exhaustively */
+    uint64_t nboot;              /* bootstrap replicates of the whole run */
+    uint64_t perm_begin, perm_end, boot_begin, boot_end; /* this run's slice */
+    int finished;                /* p-values and intervals are computed */
+    uint64_t data_checksum;      /* FNV-1a of the used columns' text (0 when unknown) */
+} sturdy_run_info;
+
+void sturdy_result_info(const sturdy_result *r, sturdy_run_info *out);
+
+/* Run-wide notes (warnings), in order; NULL past the end. */
+size_t sturdy_result_nnotes(const sturdy_result *r);
+const char *sturdy_result_note(const sturdy_result *r, size_t i);
+
+/* Responses and terms. Every response has the same terms, in the table's order. */
+size_t sturdy_result_nresponses(const sturdy_result *r);
+const char *sturdy_result_response(const sturdy_result *r, size_t resp);  /* its name */
+size_t sturdy_result_nterms(const sturdy_result *r);
+const char *sturdy_result_term(const sturdy_result *r, size_t term);      /* "A×B" */
+
+/* Numbers of one term of one response. */
+typedef enum {
+    STURDY_TV_DF = 0, STURDY_TV_SS, STURDY_TV_MS, STURDY_TV_F, STURDY_TV_P,
+    STURDY_TV_P_PERM,            /* resampling p of the run's method */
+    STURDY_TV_P_PERM_LO, STURDY_TV_P_PERM_HI, /* its 99% Monte Carlo interval */
+    STURDY_TV_P_PERM_FWER,       /* family-wise (min-p over the family) */
+    STURDY_TV_P_PERM_HOLM,       /* Holm-adjusted */
+    STURDY_TV_UV_STAT,           /* unequal-variance test: approximate F */
+    STURDY_TV_UV_DF1, STURDY_TV_UV_DF2, STURDY_TV_UV_P,
+    STURDY_TV_UV_P_PERM,         /* its resampled p (when asked for) */
+    STURDY_TV_ATS_P,             /* ANOVA-type statistic, Box's approximation */
+    STURDY_TV_COUNT
+} sturdy_term_value;
+
+/* NaN when absent (see sturdy_term_note) or out of range. */
+double sturdy_term_get(const sturdy_result *r, size_t resp, size_t term, sturdy_term_value v);
+
+/* Effect size `es` (STURDY_ES_*) of a term; NaN when absent. */
+double sturdy_term_effect(const sturdy_result *r, size_t resp, size_t term, int es);
+
+typedef enum {
+    STURDY_CI_PERCENTILE = 0,    /* bootstrap percentile */
+    STURDY_CI_BCA = 1,           /* bootstrap BCa (Efron 1987) */
+    STURDY_CI_NONCENTRAL_F = 2   /* Steiger (2004); partial η² only */
+} sturdy_ci_method;
+
+/* Interval of effect size `es` by `method` at the run's confidence level; 1 and the
+ * ends when present, else 0 (and lo = hi = NaN). */
+int sturdy_term_interval(const sturdy_result *r, size_t resp, size_t term, int es,
+                         sturdy_ci_method method, double *lo, double *hi);
+
+typedef enum {
+    STURDY_NOTE_CLASSICAL = 0,   /* why F and p are absent */
+    STURDY_NOTE_RESAMPLING,      /* why the resampling p is absent */
+    STURDY_NOTE_BOOTSTRAP,       /* why the bootstrap intervals are absent */
+    STURDY_NOTE_UNEQUAL,         /* why the unequal-variance test is absent */
+    STURDY_NOTE_VERDICT          /* the verdict's one-line reason */
+} sturdy_note_kind;
+
+/* NULL when there is nothing to say. */
+const char *sturdy_term_note(const sturdy_result *r, size_t resp, size_t term,
+                             sturdy_note_kind kind);
+
+sturdy_verdict sturdy_term_verdict(const sturdy_result *r, size_t resp, size_t term);
+
+/* Error and total rows of a response's table, and its main checks. */
+typedef enum {
+    STURDY_RV_DF_ERROR = 0, STURDY_RV_SS_ERROR, STURDY_RV_MS_ERROR,
+    STURDY_RV_DF_TOTAL, STURDY_RV_SS_TOTAL,
+    STURDY_RV_NORMALITY_P,       /* Shapiro–Wilk on the studentized residuals */
+    STURDY_RV_SPREAD_P,          /* Brown–Forsythe (modified, without structural zeros) */
+    STURDY_RV_VARIANCE_RATIO,    /* largest / smallest cell variance */
+    STURDY_RV_OUTLIERS,          /* rows flagged as outliers */
+    STURDY_RV_COUNT
+} sturdy_response_value;
+
+double sturdy_response_get(const sturdy_result *r, size_t resp, sturdy_response_value v);
+
+/* Why the response's table has no error row (e.g. no residual degrees of freedom), or
+ * NULL. */
+const char *sturdy_response_note(const sturdy_result *r, size_t resp);
+
+/* Number of terms, over every response, that have an F-test (a finite F). A run where
+ * this is 0 tested nothing that was asked: the CLI then exits STURDY_EMODEL. */
+size_t sturdy_result_tested_terms(const sturdy_result *r);
+
+/* Why nothing could be tested: the first response's residual note, else the first term's
+ * note; never NULL (the string belongs to r). */
+const char *sturdy_result_untested_reason(const sturdy_result *r);
+
+/* --- splitting a run: parts ------------------------------------------------------ */
 
 /* The raw material of one slice of an analysis, as a shard's partial result carries it:
  * rearrangements [perm_begin, perm_end) and replicates [boot_begin, boot_end). */
@@ -217,22 +237,23 @@ typedef struct {
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and
- * settings). STURDY_EUSAGE when its shape or ranges do not fit. The caller makes sure
- * slices do not overlap; sturdy_result_finish checks that they add up. */
+ * settings, with resample = 0 or another slice). STURDY_EUSAGE when its shape or ranges
+ * do not fit, or a count exceeds its range. The caller makes sure slices do not overlap;
+ * sturdy_result_finish checks that they add up. */
 sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, char *err);
+
+/* A copy of the raw material this run computed (its own slice), for sending to another
+ * process. *out owned by the caller (sturdy_part_free). */
+typedef struct sturdy_part sturdy_part;
+sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char *err);
+
+/* Read-only view of a part's raw material (valid while the part lives). */
+const sturdy_slice *sturdy_part_slice(const sturdy_part *p);
+
+void sturdy_part_free(sturdy_part *p);   /* accepts NULL */
 
 /* Turn the raw material into p-values, intervals and verdicts once every slice is in.
  * STURDY_EUSAGE when rearrangements or replicates are missing. */
 sturdy_status sturdy_result_finish(sturdy_result *r, char *err);
-
-/* Number of terms, over every response, that have an F-test (a finite F). A run where
- * this is 0 tested nothing that was asked: the CLI then exits STURDY_EMODEL. */
-size_t sturdy_result_tested_terms(const sturdy_result *r);
-
-/* Why nothing could be tested: the first response's residual note, else the first term's
- * note; never NULL (the string belongs to r). */
-const char *sturdy_result_untested_reason(const sturdy_result *r);
-
-void sturdy_result_free(sturdy_result *r);
 
 #endif

@@ -11,6 +11,7 @@
 #include <stdint.h>
 
 #define STURDY_VERSION "0.1.0"
+#define STURDY_VERSION_NUMBER 100   /* major·10000 + minor·100 + patch */
 #define STURDY_ERR_LEN 512
 
 typedef enum {
@@ -19,8 +20,14 @@ typedef enum {
     STURDY_EUSAGE = 2,    /* options contradict each other or name unknown columns */
     STURDY_EDATA = 3,     /* the input table is malformed */
     STURDY_EMODEL = 4,    /* the model cannot be tested as asked */
-    STURDY_EOUTPUT = 5    /* a result could not be written */
+    STURDY_EOUTPUT = 5,   /* a result could not be written */
+    STURDY_ECANCELLED = 6 /* the caller's context asked the run to stop */
 } sturdy_status;
+
+/* The library's version at run time (the headers' STURDY_VERSION is the one compiled
+ * against): "0.1.0", and as major·10000 + minor·100 + patch. */
+const char *sturdy_version(void);
+int sturdy_version_number(void);
 
 /* A short name for a status ("ok", "bad input data", ...). Never NULL. */
 const char *sturdy_status_name(sturdy_status s);

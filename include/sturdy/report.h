@@ -22,23 +22,8 @@
 #define STURDY_REPORT_H
 
 #include "analysis.h"
+#include "buf.h"
 
-typedef struct {
-    char *data;      /* NUL-terminated once anything was written (NULL before); owned */
-    size_t len, cap;
-    int failed;      /* an allocation failed; contents are incomplete */
-} sturdy_buf;
-
-void sturdy_buf_init(sturdy_buf *b);
-/* Frees the data and leaves `b` empty and reusable. Accepts NULL. */
-void sturdy_buf_free(sturdy_buf *b);
-/* printf-style append; on allocation failure sets b->failed and keeps going. */
-void sturdy_buf_printf(sturdy_buf *b, const char *fmt, ...)
-    __attribute__((format(printf, 2, 3)));
-/* Append `len` bytes (len 0 still allocates, so data is non-NULL afterwards). */
-void sturdy_buf_put(sturdy_buf *b, const char *s, size_t len);
-/* Append a NUL-terminated string. */
-void sturdy_buf_puts(sturdy_buf *b, const char *s);
 
 typedef struct {
     int color;       /* ANSI colour in the text report (CLI: stdout is a terminal and
@@ -57,8 +42,8 @@ typedef struct {
 
 void sturdy_report_opts_init(sturdy_report_opts *o);
 
-/* Each appends to `out` and returns STURDY_EINTERNAL only when memory ran out.
- * `o` may be NULL (defaults). */
+/* Each appends to `out` and returns STURDY_EINTERNAL only when memory ran out, and
+ * STURDY_EUSAGE for a result read back from a file. `o` may be NULL (defaults). */
 sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opts *o,
                                  sturdy_buf *out);
 sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opts *o,
@@ -70,16 +55,45 @@ sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opt
 sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts *o,
                                 sturdy_buf *out);
 
+/* --- reading back ----------------------------------------------------------------- */
+
+/* Read a JSON result (contract "version": 1, as sturdy_report_json writes it) back into
+ * a result whose accessors (analysis.h) give what the file holds: the settings, the
+ * input's name and row counts, the run's counts, the notes, and per response and term
+ * the classical table, effect sizes and intervals, resampling p-values, the
+ * unequal-variance test, verdicts and notes. A result read back has no design, so the
+ * writers decline it (STURDY_EUSAGE). `name` is used in messages. STURDY_EDATA for text
+ * that is not such a result (the message says what is wrong and where). */
+sturdy_status sturdy_result_read_json(const char *name, const char *text, size_t len,
+                                      sturdy_result **out, char *err);
+
+/* Read a shard part (JSON written with sturdy_report_opts.partial) back: its envelope
+ * and its slice's raw material, checked for type and range against the part's own
+ * slice (counts within the rearrangements it holds, replicate rows of 5 numbers or
+ * null). STURDY_EDATA, naming `name` and the field, when anything does not fit. */
+sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t len,
+                                    sturdy_part **out, char *err);
+
+typedef struct {
+    uint64_t index, count;       /* shard I of N */
+    uint64_t data_checksum;
+    size_t nargs;
+    const char *const *args;     /* the command that wrote it ("check", ...) */
+    const char *cwd;             /* its working folder, or NULL */
+} sturdy_part_origin;
+
+void sturdy_part_origin_get(const sturdy_part *p, sturdy_part_origin *out);
+
+/* STURDY_OK when parts a and b come from the same analysis split the same way (data
+ * checksum, seed, settings, design, shard count); else STURDY_EUSAGE with a message
+ * saying how b differs from a. */
+sturdy_status sturdy_part_compatible(const sturdy_part *a, const sturdy_part *b, char *err);
+
 /* Format a double for JSON and CSV, round-trip exact: "null" for NaN or infinities;
  * integral values below 1e17 as plain digits ("12"); otherwise the fewest of 15, 16 or
  * 17 significant digits that read back (strtod) to the same double. buf ≥ 32 bytes. */
 void sturdy_format_double(double v, char *buf);
 
-/* Bytes of the well-formed UTF-8 sequence starting at p (1 for ASCII), or 0 when the
- * bytes there are not valid UTF-8 (overlong, surrogate, truncated, beyond U+10FFFF). */
-size_t sturdy_utf8_len(const char *p);
 
-/* Append "A=a1, B=b2" for design cell `cell` (an index into d->cell_levels). */
-void sturdy_report_cell_label(const sturdy_design *d, size_t cell, sturdy_buf *out);
 
 #endif

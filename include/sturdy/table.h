@@ -20,22 +20,9 @@ typedef struct {
 /* Fill `o` with the defaults. */
 void sturdy_table_opts_init(sturdy_table_opts *o);
 
-typedef struct {
-    char *name;              /* header text, trimmed of blanks even when quoted */
-    char **text;             /* nrows fields as read, owned: quotes removed; unquoted fields
-                                trimmed of spaces and tabs, quoted content kept verbatim */
-    unsigned char *missing;  /* nrows flags: 1 where the field is a missing token */
-} sturdy_column;
-
-typedef struct {
-    char *source;            /* the file name as given; "<stdin>" for "-" */
-    char delimiter;          /* the field separator it was read with */
-    size_t nrows, ncols;     /* data rows (header excluded) and columns */
-    sturdy_column *cols;
-    size_t *line;            /* nrows: file line (from 1) on which data row i starts; LF,
-                                CRLF and a lone CR each end a line, inside quoted fields
-                                too, and skipped blank lines count */
-} sturdy_table;
+/* A table read from CSV text: every field kept as text with a missing flag. Opaque:
+ * read it through the accessors below. */
+typedef struct sturdy_table sturdy_table;
 
 /* Read a CSV file (RFC 4180, through libcsv; "-" = standard input, named "<stdin>" in
  * messages). The first record is the header. Blank lines (only spaces and tabs) outside
@@ -58,7 +45,29 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
                                        const sturdy_table_opts *o, sturdy_table **out,
                                        char *err);
 
+/* A table from the caller's columns: `ncols` columns named names[j], each with `nrows`
+ * fields fields[j][i] (NUL-terminated text, read as a CSV field that was not quoted:
+ * surrounding spaces and tabs trimmed; NULL means missing). The library copies what it
+ * keeps; `source` names the table in messages (NULL: "<columns>"); `o` may be NULL (its
+ * missing tokens apply; the delimiter is unused). Errors: STURDY_EDATA for no columns,
+ * no rows, an empty or duplicated name; STURDY_EINTERNAL when out of memory. */
+sturdy_status sturdy_table_from_columns(const char *source, const char *const *names,
+                                        size_t ncols, const char *const *const *fields,
+                                        size_t nrows, const sturdy_table_opts *o,
+                                        sturdy_table **out, char *err);
+
 void sturdy_table_free(sturdy_table *t);  /* accepts NULL */
+
+/* Read-only accessors. Indices out of range give NULL, or 0 for line. */
+size_t sturdy_table_nrows(const sturdy_table *t);   /* data rows, header excluded */
+size_t sturdy_table_ncols(const sturdy_table *t);
+const char *sturdy_table_source(const sturdy_table *t);  /* "<stdin>" for "-" */
+const char *sturdy_table_column(const sturdy_table *t, size_t col);  /* header name */
+/* Field text as read (quotes removed; unquoted fields trimmed of spaces and tabs). */
+const char *sturdy_table_field(const sturdy_table *t, size_t row, size_t col);
+int sturdy_table_is_missing(const sturdy_table *t, size_t row, size_t col);
+/* File line on which data row `row` (0-based) starts. */
+size_t sturdy_table_line(const sturdy_table *t, size_t row);
 
 /* When the header was read as one field that holds tabs or semicolons (a file with
  * another separator read with the default ','), the advice "this looks tab-separated:

@@ -1,12 +1,14 @@
 /* analysis.c — runs the stages of a check in order and turns the resampling counts and
  * replicates into p-values, intervals and verdicts. */
-#include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "analysis/engine.h"
+#include "checks/checks.h"
+#include "classical/classical.h"
+#include "resampling/resampling.h"
 #include "core/core.h"
+#include "input/table_layout.h"
 #include "sturdy/dist.h"
 #include "sturdy/pcg.h"
 #ifdef _OPENMP
@@ -31,44 +33,47 @@ void sturdy_options_init(sturdy_options *o)
     o->resample = 1;
 }
 
+void sturdy_context_init(sturdy_context *c)
+{
+    memset(c, 0, sizeof *c);
+}
+
+int sturdy_context_threads(const sturdy_context *c)
+{
+#ifdef _OPENMP
+    return c && c->threads > 0 ? c->threads : omp_get_max_threads();
+#else
+    (void)c;
+    return 1;
+#endif
+}
+
 sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
 {
     if (o->ss_type < 1 || o->ss_type > 3)
-        return sturdy_fail(err, STURDY_EUSAGE, "--ss must be 1, 2 or 3 (got %d)", o->ss_type);
+        return sturdy_fail(err, STURDY_EUSAGE, "the type of sums of squares must be 1, 2 or 3 (got %d)", o->ss_type);
     if (!(o->conf > 0 && o->conf < 1))
-        return sturdy_fail(err, STURDY_EUSAGE, "--conf must lie strictly between 0 and 1");
+        return sturdy_fail(err, STURDY_EUSAGE, "the confidence level must lie strictly between 0 and 1");
     if (!(o->alpha > 0 && o->alpha < 1))
-        return sturdy_fail(err, STURDY_EUSAGE, "--alpha must lie strictly between 0 and 1");
+        return sturdy_fail(err, STURDY_EUSAGE, "the significance level alpha must lie strictly between 0 and 1");
     if (o->method < STURDY_METHOD_FREEDMAN_LANE || o->method > STURDY_METHOD_RAW)
-        return sturdy_fail(err, STURDY_EUSAGE, "unknown --method");
+        return sturdy_fail(err, STURDY_EUSAGE, "unknown resampling method");
     if (o->boot_scheme < STURDY_BOOT_DEFAULT || o->boot_scheme > STURDY_BOOT_CELLS)
-        return sturdy_fail(err, STURDY_EUSAGE, "unknown --bootstrap-scheme");
+        return sturdy_fail(err, STURDY_EUSAGE, "unknown bootstrap scheme");
     if (o->spread_scheme < STURDY_SPREAD_NONE || o->spread_scheme > STURDY_SPREAD_PERMUTATION)
-        return sturdy_fail(err, STURDY_EUSAGE, "unknown --spread-scheme");
+        return sturdy_fail(err, STURDY_EUSAGE, "unknown resampling scheme for the unequal-variance test");
     if (o->permutations > (uint64_t)1 << 40)
-        return sturdy_fail(err, STURDY_EUSAGE, "--permutations is larger than 2^40");
+        return sturdy_fail(err, STURDY_EUSAGE, "the number of rearrangements is larger than 2^40");
     if (o->bootstrap > (uint64_t)1 << 28)
-        return sturdy_fail(err, STURDY_EUSAGE, "--bootstrap is larger than 2^28");
+        return sturdy_fail(err, STURDY_EUSAGE, "the number of bootstrap replicates is larger than 2^28");
     if (o->bootstrap == 1)
-        return sturdy_fail(err, STURDY_EUSAGE, "--bootstrap needs at least 2 replicates (or 0)");
-    if (o->threads < 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "--threads must be 0 (all) or more");
+        return sturdy_fail(err, STURDY_EUSAGE, "the bootstrap needs at least 2 replicates (or 0 for none)");
     if (o->shard_count == 0 ? o->shard_index != 0
                             : (o->shard_index < 1 || o->shard_index > o->shard_count))
-        return sturdy_fail(err, STURDY_EUSAGE, "--shard I/N needs 1 ≤ I ≤ N");
+        return sturdy_fail(err, STURDY_EUSAGE, "shard I of N needs 1 ≤ I ≤ N");
     if (o->model.order < 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "--order must be 1 or more");
+        return sturdy_fail(err, STURDY_EUSAGE, "the interaction order must be 1 or more (0: all)");
     return STURDY_OK;
-}
-
-int sturdy_thread_count(const sturdy_options *o)
-{
-#ifdef _OPENMP
-    return o->threads > 0 ? o->threads : omp_get_max_threads();
-#else
-    (void)o;
-    return 1;
-#endif
 }
 
 /* [lo, hi) of slice i (1-based) of n over total items: an even split. */
@@ -133,7 +138,7 @@ static sturdy_status run_notes(sturdy_result *r, char *err)
         st = add_note(r, sturdy_asprintf(
             "the cells bootstrap resamples rows within cells; with only %zu rows in the "
             "smallest cell it shrinks the error variance by (n-1)/n and its intervals are "
-            "biased; prefer --bootstrap-scheme residual", d->min_cell), err);
+            "biased; prefer the residual scheme", d->min_cell), err);
     if (!st && r->exact)
         st = add_note(r, sturdy_asprintf(
             "all %llu distinct rearrangements were enumerated, so the permutation p-values "
@@ -213,14 +218,20 @@ void sturdy_result_free(sturdy_result *r)
         free(r->notes[i]);
     free(r->notes);
     sturdy_design_free(r->design);
+    free(r->input);
+    for (size_t i = 0; i < r->nowned; i++)
+        free(r->owned[i]);
+    free(r->owned);
     free(r);
 }
 
-static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
+/* Design, model and classical table of every response, with the design's and the
+ * model's notes; *m owned by the caller on success. */
+static sturdy_status classical_stage(const sturdy_table *t, const sturdy_run *run,
+                                     sturdy_result *r, sturdy_model **m, char *err)
 {
     sturdy_status st;
-    sturdy_model *m = NULL;
-    const sturdy_options *o = &r->opts;
+    const sturdy_options *o = &run->opts;
     if ((st = sturdy_design_build(t, &o->model, &r->design, err)))
         return st;
     const sturdy_design *d = r->design;
@@ -230,76 +241,106 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         st = add_note(r, sturdy_strdup(d->warnings[i]), err);
     if (st)
         return st;
-    if (r->boot_scheme == STURDY_BOOT_CELLS && d->ncov > 0)
+    if (o->boot_scheme == STURDY_BOOT_CELLS && d->ncov > 0)
         return sturdy_fail(err, STURDY_EUSAGE,
-                           "--bootstrap-scheme cells needs a model without covariates (rows "
-                           "are resampled within cells); use residual or wild");
-    if ((st = sturdy_model_build(d, o->ss_type, &m, err)))
+                           "the cells bootstrap needs a model without covariates (rows are "
+                           "resampled within cells); use the residual or wild scheme");
+    if ((st = sturdy_model_build(d, o->ss_type, m, err)))
         return st;
     r->nresp = d->nresp;
-    r->resp = calloc(d->nresp, sizeof *r->resp);
-    if (!r->resp) {
-        sturdy_model_free(m);
+    r->resp = sturdy_calloc(d->nresp, sizeof *r->resp);
+    if (!r->resp)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
     r->uv_hc3 = sturdy_uv_uses_hc3(d);
     for (size_t ri = 0; ri < d->nresp && !st; ri++)
-        if (!(st = sturdy_anova_response(d, m, ri, o->conf, sturdy_thread_count(o),
-                                         &r->resp[ri], err)))
-            st = sturdy_uv_response(d, m, ri, &r->resp[ri], err);
-    if (st) {
-        sturdy_model_free(m);
-        return st;
+        if (!(st = sturdy_anova_response(d, *m, ri, o->conf, run->threads, &r->resp[ri], err)))
+            st = sturdy_uv_response(d, *m, ri, &r->resp[ri], err);
+    for (size_t k = 0; k < d->nterms && !st; k++) {
+        const sturdy_term_basis *tb = &(*m)->terms[k];
+        if (tb->deficient && tb->testable && tb->why_short)
+            st = add_note(r, sturdy_strdup(tb->why_short), err);
     }
-    for (size_t t = 0; t < d->nterms && !st; t++)
-        if (m->terms[t].deficient && m->terms[t].testable && m->terms[t].why_short)
-            st = add_note(r, sturdy_strdup(m->terms[t].why_short), err);
-    if (st) {
-        sturdy_model_free(m);
-        return st;
-    }
+    return st;
+}
+
+/* The run's counts and this run's slice of them, resolved once from the options and the
+ * design; copied into the result for its readers. */
+static void plan_resampling(const sturdy_table *t, const sturdy_model *m, sturdy_run *run,
+                            sturdy_result *r)
+{
+    const sturdy_options *o = &run->opts;
+    const sturdy_design *d = r->design;
     uint64_t count = sturdy_permute_count(d, o->flip);
-    r->exact = o->permutations > 0 && count <= o->permutations;
-    r->nperm = r->exact ? count : o->permutations;
-    r->nboot = m->df_error > 0 ? o->bootstrap : 0;
-    r->data_checksum = data_checksum(t, d);
+    run->exact = o->permutations > 0 && count <= o->permutations;
+    run->nperm = run->exact ? count : o->permutations;
+    run->nboot = m->df_error > 0 ? o->bootstrap : 0;
     if (o->resample) {
-        slice_range(r->nperm, o->shard_index, o->shard_count, &r->perm_begin, &r->perm_end);
-        slice_range(r->nboot, o->shard_index, o->shard_count, &r->boot_begin, &r->boot_end);
+        slice_range(run->nperm, o->shard_index, o->shard_count, &run->perm_begin,
+                    &run->perm_end);
+        slice_range(run->nboot, o->shard_index, o->shard_count, &run->boot_begin,
+                    &run->boot_end);
     }
-    if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(d, m, r, err)) &&
-        !(st = sturdy_uv_run(d, m, r, err)) && !(st = sturdy_bootstrap_run(d, m, r, err))) {
-        r->perm_done = r->perm_end - r->perm_begin;
-        r->boot_done = r->boot_end - r->boot_begin;
-        for (size_t ri = 0; ri < d->nresp && !st; ri++)
-            st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+    r->exact = run->exact;
+    r->nperm = run->nperm;
+    r->nboot = run->nboot;
+    r->perm_begin = run->perm_begin;
+    r->perm_end = run->perm_end;
+    r->boot_begin = run->boot_begin;
+    r->boot_end = run->boot_end;
+    r->data_checksum = data_checksum(t, d);
+}
+
+static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_result *r,
+                             char *err)
+{
+    sturdy_model *m = NULL;
+    sturdy_status st = classical_stage(t, run, r, &m, err);
+    if (!st) {
+        plan_resampling(t, m, run, r);
+        const sturdy_design *d = r->design;
+        if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
+            !(st = sturdy_uv_run(run, d, m, r, err)) &&
+            !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
+            r->perm_done = run->perm_end - run->perm_begin;
+            r->boot_done = run->boot_end - run->boot_begin;
+            for (size_t ri = 0; ri < d->nresp && !st; ri++)
+                st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+        }
     }
     sturdy_model_free(m);
     return st;
 }
 
 sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
-                             sturdy_result **out, char *err)
+                             const sturdy_context *ctx, sturdy_result **out, char *err)
 {
     *out = NULL;
     sturdy_status st = sturdy_options_validate(o, err);
     if (st)
         return st;
-    /* BLAS runs single-threaded, inside our own OpenMP threads; set before the first
-     * LAPACK call, so that OpenBLAS never wakes its own thread pool, whose waiting
-     * threads would otherwise spin on the cores our threads need */
-    openblas_set_num_threads(1);
-    sturdy_result *r = calloc(1, sizeof *r);
+    if (ctx && ctx->threads < 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "the thread count must be 0 (all) or more");
+    sturdy_run run;
+    memset(&run, 0, sizeof run);
+    run.opts = *o;
+    run.opts.boot_scheme = o->boot_scheme != STURDY_BOOT_DEFAULT
+                               ? o->boot_scheme
+                               : (o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL);
+    run.threads = sturdy_context_threads(ctx);
+    if (ctx) {
+        run.progress = ctx->progress;
+        run.progress_arg = ctx->progress_arg;
+        run.cancel = ctx->cancel;
+    }
+    sturdy_result *r = sturdy_calloc(1, sizeof *r);
     if (!r)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    r->opts = *o;
+    r->opts = run.opts;
     r->ss_type = o->ss_type;
     r->method = o->method;
     r->spread_scheme = o->spread_scheme;
-    r->boot_scheme = o->boot_scheme != STURDY_BOOT_DEFAULT
-                         ? o->boot_scheme
-                         : (o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL);
-    st = analyze(t, r, err);
+    r->boot_scheme = run.opts.boot_scheme;
+    st = analyze(t, &run, r, err);
     if (!st && o->shard_count == 0 && o->resample)
         st = sturdy_result_finish(r, err);
     if (st) {
@@ -322,7 +363,14 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
                            "the part's ranges do not fit the analysis (%llu rearrangements, "
                            "%llu replicates)", (unsigned long long)r->nperm,
                            (unsigned long long)r->nboot);
-    uint64_t nb = s->boot_end - s->boot_begin;
+    uint64_t nb = s->boot_end - s->boot_begin, np = s->perm_end - s->perm_begin;
+    for (size_t k = 0; k < s->nresp * s->nterms; k++)
+        if (s->exceed[k] > np || s->exceed_fwer[k] > np ||
+            (s->uv_exceed_wild && s->uv_exceed_wild[k] > np) ||
+            (s->uv_exceed_perm && s->uv_exceed_perm[k] > np))
+            return sturdy_fail(err, STURDY_EUSAGE,
+                               "the part counts more exceedances than its %llu rearrangements",
+                               (unsigned long long)np);
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < s->nterms; t++) {
             sturdy_term_result *tr = &r->resp[ri].terms[t];
@@ -386,7 +434,7 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
         for (size_t t = 0; t < r->resp[ri].nterms; t++) {
             sturdy_term_result *tr = &r->resp[ri].terms[t];
             if (!tr->perm_note && r->nperm == 0 &&
-                !(tr->perm_note = sturdy_strdup("no rearrangements were asked for (-B 0)")))
+                !(tr->perm_note = sturdy_strdup("no rearrangements were asked for")))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             if (!tr->perm_note) {
                 double B = (double)r->nperm;
@@ -405,7 +453,7 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
             }
             const char *why_no_boot =
                 !(tr->f >= 0) ? (tr->note ? tr->note : "no effect size to resample")
-                : r->nboot == 0 ? "no bootstrap replicates were asked for (--bootstrap 0)"
+                : r->nboot == 0 ? "no bootstrap replicates were asked for"
                                 : NULL;
             if (!tr->boot_note && why_no_boot && !(tr->boot_note = sturdy_strdup(why_no_boot)))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");

@@ -4,7 +4,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "analysis/engine.h"
+#include "checks/checks.h"
+#include "classical/classical.h"
 #include "core/core.h"
 #include "sturdy/diagnose.h"
 

@@ -4,7 +4,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "analysis/engine.h"
+#include "classical/classical.h"
 #include "core/core.h"
 #include "sturdy/dist.h"
 

@@ -4,7 +4,7 @@
 #ifndef STURDY_UNEQUAL_H
 #define STURDY_UNEQUAL_H
 
-#include "analysis/engine.h"
+#include "classical/classical.h"
 
 /* A row whose leverage is within this of 1 is fitted exactly: its residual carries no
  * variance information, and HC weights 1/(1 − h) blow up. 1e-10 is far above the

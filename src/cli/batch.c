@@ -19,7 +19,6 @@
 #include <unistd.h>
 
 #include "cli.h"
-#include "json_read.h"
 
 /* Exit status when some analyses failed and the others completed (DESIGN.md). */
 #define BATCH_EXIT_SOME_FAILED 6
@@ -150,7 +149,7 @@ static int plan_error(const batch *b, size_t line, long col, const char *fmt, ..
 {
     va_list ap;
     fprintf(stderr, "sturdy: %s: line %zu", b->plan_path, line);
-    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, b->plan->cols[col].name);
+    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, sturdy_table_column(b->plan, (size_t)col));
     fputs(": ", stderr);
     va_start(ap, fmt);
     vfprintf(stderr, fmt, ap);
@@ -189,7 +188,7 @@ static int name_is_safe(const char *s)
 
 static const char *cell(const batch *b, long col, size_t row)
 {
-    return col < 0 ? "" : b->plan->cols[col].text[row];
+    return col < 0 ? "" : sturdy_table_field(b->plan, row, (size_t)col);
 }
 
 /* Load and check the plan; returns 0 or an exit status after the message. */
@@ -209,8 +208,8 @@ static int plan_load(batch *b)
     size_t hline = header_line(b->plan_path);
     for (size_t k = 0; k < NREQUIRED; k++) b->req[k] = -1;
     for (size_t k = 0; k < MAX_CHECK_OPTIONS; k++) b->opt[k] = -1;
-    for (size_t j = 0; j < t->ncols; j++) {
-        const char *h = t->cols[j].name;
+    for (size_t j = 0; j < sturdy_table_ncols(t); j++) {
+        const char *h = sturdy_table_column(t, j);
         long *slot = NULL;
         int k = -1;
         if (!strcmp(h, "name")) slot = &b->req[COL_NAME];
@@ -238,23 +237,24 @@ static int plan_load(batch *b)
         }
         if (*slot >= 0)
             return plan_error(b, hline, (long)j, "this column and column %ld ('%s') set the "
-                              "same thing", *slot + 1, t->cols[*slot].name);
+                              "same thing", *slot + 1, sturdy_table_column(t, (size_t)*slot));
         *slot = (long)j;
     }
     for (size_t k = 0; k < NREQUIRED; k++)
         if (b->req[k] < 0)
             return plan_error(b, hline, -1, "the required column '%s' is missing",
                               required_cols[k]);
-    const sturdy_column *names = &t->cols[b->req[COL_NAME]];
-    for (size_t i = 0; i < t->nrows; i++) {
-        if (!name_is_safe(names->text[i]))
-            return plan_error(b, t->line[i], b->req[COL_NAME], "'%s' is not a safe name: use "
-                              "letters, digits, '.', '_' and '-', not a leading '.', at most "
-                              "%d characters", names->text[i], BATCH_NAME_MAX);
+    for (size_t i = 0; i < sturdy_table_nrows(t); i++) {
+        const char *name = cell(b, b->req[COL_NAME], i);
+        if (!name_is_safe(name))
+            return plan_error(b, sturdy_table_line(t, i), b->req[COL_NAME], "'%s' is not a "
+                              "safe name: use letters, digits, '.', '_' and '-', not a leading "
+                              "'.', at most %d characters", name, BATCH_NAME_MAX);
         for (size_t k = 0; k < i; k++)
-            if (!strcmp(names->text[k], names->text[i]))
-                return plan_error(b, t->line[i], b->req[COL_NAME], "the name '%s' is already "
-                                  "used on line %zu", names->text[i], t->line[k]);
+            if (!strcmp(cell(b, b->req[COL_NAME], k), name))
+                return plan_error(b, sturdy_table_line(t, i), b->req[COL_NAME], "the name "
+                                  "'%s' is already used on line %zu", name,
+                                  sturdy_table_line(t, k));
     }
     return 0;
 }
@@ -366,7 +366,7 @@ typedef struct {
 static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc)
 {
     const char *name = cell(b, b->req[COL_NAME], i), *data = cell(b, b->req[COL_DATA], i);
-    size_t nrows = b->plan->nrows;
+    size_t nrows = sturdy_table_nrows(b->plan);
     char msg[STURDY_ERR_LEN] = "";
     argvec a = { 0 };
     cli_check c;
@@ -375,10 +375,10 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     char *data_path = b->plan_dir && data[0] != '/' ? cli_str_cat3(b->plan_dir, "/", data)
                                                     : NULL;
     sturdy_result *r = NULL;
-    jv *doc = NULL, *old = NULL;
+    sturdy_result *doc = NULL, *old = NULL;
     /* read before the new result is written: OLD_DIR may be DIR itself */
     char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
-    if (old_path) old = cli_batch_read_json(old_path);
+    if (old_path) old = cli_batch_read_result(old_path);
     free(old_path);
     int rc = out_path && (data_path || !b->plan_dir || data[0] == '/') ? 0 : STURDY_EINTERNAL;
     /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
@@ -405,12 +405,12 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
             const sturdy_options *o = &c.opts;
             sturdy_table *t = NULL;
             char err[STURDY_ERR_LEN];
-            uint64_t nt = cli_count_terms(&o->model);
+            uint64_t nt = sturdy_model_spec_terms(&o->model);
             fprintf(stderr, "[%zu/%zu] %s: %llu rearrangements × %llu term%s", i + 1, nrows,
                     name, (unsigned long long)o->permutations, (unsigned long long)nt,
                     nt == 1 ? "" : "s");
             if (!sturdy_table_load(data_path ? data_path : c.data, &c.topts, &t, err))
-                fprintf(stderr, " × %zu rows", t->nrows);
+                fprintf(stderr, " × %zu rows", sturdy_table_nrows(t));
             sturdy_table_free(t);
             if (c.responses.n > 1) fprintf(stderr, " × %zu responses", c.responses.n);
             if (o->bootstrap)
@@ -433,14 +433,16 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
                 capture_end(&cp, msg, sizeof msg);
                 if (rc) tot->eoutput = 1;
             }
-            if (!rc && !(doc = jv_parse(out.data, out.len, NULL, 0))) {
+            if (!rc && sturdy_result_read_json(out_path, out.data, out.len, &doc, NULL)) {
                 rc = STURDY_EINTERNAL;
                 snprintf(msg, sizeof msg, "the result could not be read back");
             }
             sturdy_buf_free(&out);
         }
         if (!rc) {
-            uint64_t perms = r->perm_end - r->perm_begin;
+            sturdy_run_info info;
+            sturdy_result_info(r, &info);
+            uint64_t perms = info.perm_end - info.perm_begin;
             tot->done++;
             tot->perms += perms;
             tot->seconds += seconds;
@@ -470,8 +472,8 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
         }
         cli_batch_compare(name, old, doc, oc);
     }
-    jv_free(doc);
-    jv_free(old);
+    sturdy_result_free(doc);
+    sturdy_result_free(old);
     if (parsed) cli_check_free(&c);
     arg_free(&a);
     free(out_path);
@@ -494,7 +496,7 @@ static void remove_stale(const batch *b)
         size_t stem = len - suffix;
         int ours = stem == 11 && (!strncmp(n, "summary.csv", 11) ||
                                   !strncmp(n, "summary.txt", 11));
-        for (size_t i = 0; !ours && stem > 5 && i < b->plan->nrows; i++) {
+        for (size_t i = 0; !ours && stem > 5 && i < sturdy_table_nrows(b->plan); i++) {
             const char *name = cell(b, b->req[COL_NAME], i);
             ours = strlen(name) == stem - 5 && !strncmp(n, name, stem - 5) &&
                    !strncmp(n + stem - 5, ".json", 5);
@@ -542,7 +544,7 @@ static int run_batch(batch *b)
         return STURDY_EINTERNAL;
     if ((rc = make_dir(b->dir))) return rc;
     if (b->lead) remove_stale(b);
-    size_t n = b->plan->nrows;
+    size_t n = sturdy_table_nrows(b->plan);
     cli_batch_outcome *oc = calloc(n, sizeof *oc);
     if (!oc) return STURDY_EINTERNAL;
     totals tot = { 0 };
@@ -550,9 +552,13 @@ static int run_batch(batch *b)
         sturdy_buf_init(&oc[i].changes);
         run_row(b, i, &tot, &oc[i]);
     }
-    int wrote = b->lead ? cli_batch_write_summary(b->plan_path, b->dir, b->old_dir,
-                                                  b->plan->cols[b->req[COL_NAME]].text, oc, n)
-                        : 0;
+    const char **names = calloc(n + 1, sizeof *names);
+    for (size_t i = 0; names && i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
+    int wrote = !names ? STURDY_EINTERNAL
+                : b->lead ? cli_batch_write_summary(b->plan_path, b->dir, b->old_dir, names,
+                                                    oc, n)
+                          : 0;
+    free(names);
     if (!b->quiet && b->lead) {
         fprintf(stderr, "sturdy: batch: %zu analyses: %zu computed, %zu kept, %zu failed",
                 n, tot.done, tot.resumed, tot.failed);

@@ -1,13 +1,13 @@
 /* batch_results.c — what `sturdy batch` reads back from result files: whether a result
  * already in place can be kept (--resume), the verdict changes against an earlier run
  * (--compare), and the summary files written from the outcomes. */
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 
 #include "cli.h"
-#include "json_read.h"
 
 char *cli_str_cat3(const char *a, const char *b, const char *c)
 {
@@ -20,105 +20,83 @@ char *cli_str_cat3(const char *a, const char *b, const char *c)
     return s;
 }
 
-jv *cli_batch_read_json(const char *path)
+sturdy_result *cli_batch_read_result(const char *path)
 {
     size_t len = 0;
     char *text = cli_read_file(path, &len);
     if (!text) return NULL;
-    jv *doc = jv_parse(text, len, NULL, 0);
+    sturdy_result *r = NULL;
+    if (sturdy_result_read_json(path, text, len, &r, NULL) != STURDY_OK) r = NULL;
     free(text);
-    return doc;
+    return r;
 }
 
 /* --- resume: does the result in place match the plan row? ------------------------ */
 
-static int jv_is_str(const jv *v, const char *s)
-{
-    return v && v->kind == JV_STRING && s && !strcmp(v->text, s);
-}
+static int str_eq(const char *a, const char *b) { return a && b && !strcmp(a, b); }
 
-static int jv_is_u64(const jv *v, uint64_t want)
+static int names_match(const char *const *a, size_t na, const char *const *b, size_t nb)
 {
-    int ok = 0;
-    uint64_t got = jv_u64(v, &ok);
-    return ok && got == want;
-}
-
-/* Names in a JSON array (of strings, or of objects' "name") equal `names`. */
-static int names_match(const jv *arr, const char *const *names, size_t n, const char *key)
-{
-    if (!arr || arr->kind != JV_ARRAY || arr->n != n) return 0;
-    for (size_t i = 0; i < n; i++) {
-        const jv *item = jv_at(arr, i);
-        if (!jv_is_str(key ? jv_get(item, key) : item, names[i])) return 0;
-    }
+    if (na != nb) return 0;
+    for (size_t i = 0; i < na; i++)
+        if (!str_eq(a[i], b[i])) return 0;
     return 1;
 }
 
-static const char *const method_names[] = { "freedman-lane", "ter-braak", "raw" };
-static const char *const scheme_names[] = { "residual", "wild", "cells" };
+/* Do the settings and model of a result read back match what `o` asks for? */
+static int settings_match(const sturdy_options *was, const sturdy_run_info *info,
+                          const sturdy_options *o)
+{
+    sturdy_boot_scheme scheme = o->boot_scheme != STURDY_BOOT_DEFAULT ? o->boot_scheme
+                                : o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL;
+    /* an exhaustive enumeration is what any B at least as large gives too */
+    int perms_ok = info->exact ? info->nperm <= o->permutations
+                               : info->nperm == o->permutations;
+    const sturdy_model_spec *a = &was->model, *b = &o->model;
+    return was->seed == o->seed && was->ss_type == o->ss_type && was->method == o->method &&
+           was->flip == o->flip && was->boot_scheme == scheme && perms_ok &&
+           was->spread_scheme == o->spread_scheme && info->nboot == o->bootstrap &&
+           was->conf == o->conf && was->alpha == o->alpha &&
+           names_match(a->responses, a->nresponses, b->responses, b->nresponses) &&
+           names_match(a->factors, a->nfactors, b->factors, b->nfactors) &&
+           names_match(a->covariates, a->ncovariates, b->covariates, b->ncovariates) &&
+           (b->block ? str_eq(a->block, b->block) : a->block == NULL);
+}
 
-jv *cli_batch_resumable(const cli_check *c, const char *out_path, const char *data_path)
+sturdy_result *cli_batch_resumable(const cli_check *c, const char *out_path,
+                                   const char *data_path)
 {
     struct stat rs, ds;
     if (stat(out_path, &rs) != 0 || stat(data_path, &ds) != 0) return NULL;
     if (ds.st_mtim.tv_sec > rs.st_mtim.tv_sec ||
         (ds.st_mtim.tv_sec == rs.st_mtim.tv_sec && ds.st_mtim.tv_nsec > rs.st_mtim.tv_nsec))
         return NULL;             /* the data were edited after the result was written */
-    jv *doc = cli_batch_read_json(out_path);
-    const sturdy_options *o = &c->opts;
-    const jv *s = jv_get(doc, "settings"), *d = jv_get(doc, "design");
-    const jv *exact = jv_get(s, "exact"), *perms = jv_get(s, "permutations");
-    int ok = 0;
-    uint64_t n = jv_u64(perms, &ok);
-    int scheme = o->boot_scheme != STURDY_BOOT_DEFAULT ? (int)o->boot_scheme
-                 : o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL;
-    /* an exhaustive enumeration is what any B at least as large gives too */
-    int perms_ok = ok && (exact && exact->kind == JV_TRUE ? n <= o->permutations
-                                                          : n == o->permutations);
-    const jv *block = jv_get(d, "block");
-    int block_ok = o->model.block ? jv_is_str(jv_get(block, "name"), o->model.block)
-                                  : block && block->kind == JV_NULL;
-    const jv *flip = jv_get(s, "flip"), *resp = jv_get(doc, "responses");
-    int match = doc && jv_is_u64(jv_get(doc, "version"), 1) &&
-        jv_is_str(jv_get(jv_get(doc, "input"), "file"), c->data) &&
-        jv_is_u64(jv_get(s, "seed"), o->seed) &&
-        jv_is_u64(jv_get(s, "ss_type"), (uint64_t)o->ss_type) &&
-        jv_is_str(jv_get(s, "method"), method_names[o->method]) &&
-        flip && flip->kind == (o->flip ? JV_TRUE : JV_FALSE) &&
-        jv_is_str(jv_get(s, "bootstrap_scheme"), scheme_names[scheme]) && perms_ok &&
-        jv_is_str(jv_get(s, "spread_scheme"), sturdy_spread_scheme_name(o->spread_scheme)) &&
-        jv_is_u64(jv_get(s, "bootstrap"), o->bootstrap) &&
-        jv_double(jv_get(s, "conf")) == o->conf && jv_double(jv_get(s, "alpha")) == o->alpha &&
-        names_match(resp, o->model.responses, o->model.nresponses, "response") &&
-        names_match(jv_get(d, "factors"), o->model.factors, o->model.nfactors, "name") &&
-        names_match(jv_get(d, "covariates"), o->model.covariates, o->model.ncovariates, NULL) &&
-        block_ok;
-    for (size_t i = 0; match && i < resp->n; i++) {
-        const jv *terms = jv_get(jv_at(resp, i), "terms");
-        match = terms && terms->kind == JV_ARRAY && terms->n == cli_count_terms(&o->model);
-    }
-    if (!match) { jv_free(doc); return NULL; }
-    return doc;
+    sturdy_result *r = cli_batch_read_result(out_path);
+    if (!r) return NULL;
+    sturdy_run_info info;
+    sturdy_result_info(r, &info);
+    /* a bootstrap asked for on a model without residual df runs no replicates */
+    int match = str_eq(info.input, c->data) &&
+                settings_match(sturdy_result_options(r), &info, &c->opts) &&
+                sturdy_result_nterms(r) == sturdy_model_spec_terms(&c->opts.model);
+    if (!match) { sturdy_result_free(r); return NULL; }
+    return r;
 }
 
 /* --- tally and verdict comparison ------------------------------------------------- */
 
-int cli_batch_tally(const jv *doc, cli_batch_outcome *oc)
+int cli_batch_tally(const sturdy_result *r, cli_batch_outcome *oc)
 {
-    const jv *resp = jv_get(doc, "responses");
     const char *why = NULL;
-    for (size_t i = 0; resp && i < resp->n; i++) {
-        const jv *terms = jv_get(jv_at(resp, i), "terms");
-        if (!why) why = jv_str(jv_get(jv_get(jv_at(resp, i), "error"), "note"));
-        for (size_t k = 0; terms && k < terms->n; k++) {
-            const jv *t = jv_at(terms, k);
-            const char *v = jv_str(jv_get(t, "verdict"));
-            const jv *f = jv_get(t, "f");
+    size_t nr = sturdy_result_nresponses(r), nt = sturdy_result_nterms(r);
+    for (size_t i = 0; i < nr; i++) {
+        if (!why) why = sturdy_response_note(r, i);
+        for (size_t k = 0; k < nt; k++) {
+            sturdy_verdict v = sturdy_term_verdict(r, i, k);
             oc->terms++;
-            if (f && f->kind == JV_NUMBER) oc->tested++;
-            else if (!why) why = jv_str(jv_get(t, "note"));
-            if (v && (!strcmp(v, "classical-only") || !strcmp(v, "resampling-only")))
+            if (isfinite(sturdy_term_get(r, i, k, STURDY_TV_F))) oc->tested++;
+            else if (!why) why = sturdy_term_note(r, i, k, STURDY_NOTE_CLASSICAL);
+            if (v == STURDY_VERDICT_CLASSICAL_ONLY || v == STURDY_VERDICT_RESAMPLING_ONLY)
                 oc->disagree++;
         }
     }
@@ -130,39 +108,37 @@ int cli_batch_tally(const jv *doc, cli_batch_outcome *oc)
     return 1;
 }
 
-static const jv *find_by(const jv *arr, const char *key, const char *value)
-{
-    for (size_t i = 0; arr && value && i < arr->n; i++)
-        if (jv_is_str(jv_get(jv_at(arr, i), key), value)) return jv_at(arr, i);
-    return NULL;
-}
-
 /* Words of --compare for a term without a verdict; plain phrases, so that they cannot
  * be read as a verdict ("neither" is one). */
 #define NO_SUCH_TERM "(term not in this result)"
 #define NO_VERDICT "(no verdict)"
 
 /* Verdict of `term` in response `resp` of a result, or one of the phrases above. */
-static const char *verdict_of(const jv *doc, const char *resp, const char *term)
+static const char *verdict_of(const sturdy_result *r, const char *resp, const char *term)
 {
-    const jv *r = find_by(jv_get(doc, "responses"), "response", resp);
-    const jv *t = r ? find_by(jv_get(r, "terms"), "term", term) : NULL;
-    if (!t) return NO_SUCH_TERM;
-    const char *v = jv_str(jv_get(t, "verdict"));
-    return v ? v : NO_VERDICT;
+    size_t nr = sturdy_result_nresponses(r), nt = sturdy_result_nterms(r);
+    for (size_t i = 0; i < nr; i++) {
+        if (!str_eq(sturdy_result_response(r, i), resp)) continue;
+        for (size_t k = 0; k < nt; k++) {
+            if (!str_eq(sturdy_result_term(r, k), term)) continue;
+            const char *v = sturdy_verdict_name(sturdy_term_verdict(r, i, k));
+            return v ? v : NO_VERDICT;
+        }
+        break;
+    }
+    return NO_SUCH_TERM;
 }
 
 /* Every (response, term) of `a` whose verdict in `b` differs, as "old → new" (a_is_new
  * says which is which); skip_present keeps only the pairs that `b` lacks. */
-static void diff_verdicts(const char *name, const jv *a, const jv *b, int a_is_new,
-                          int skip_present, cli_batch_outcome *oc)
+static void diff_verdicts(const char *name, const sturdy_result *a, const sturdy_result *b,
+                          int a_is_new, int skip_present, cli_batch_outcome *oc)
 {
-    const jv *resp = jv_get(a, "responses");
-    for (size_t i = 0; resp && i < resp->n; i++) {
-        const char *rn = jv_str(jv_get(jv_at(resp, i), "response"));
-        const jv *terms = jv_get(jv_at(resp, i), "terms");
-        for (size_t k = 0; rn && terms && k < terms->n; k++) {
-            const char *tn = jv_str(jv_get(jv_at(terms, k), "term"));
+    size_t nr = sturdy_result_nresponses(a), nt = sturdy_result_nterms(a);
+    for (size_t i = 0; i < nr; i++) {
+        const char *rn = sturdy_result_response(a, i);
+        for (size_t k = 0; rn && k < nt; k++) {
+            const char *tn = sturdy_result_term(a, k);
             if (!tn) continue;
             const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
             if (!strcmp(va, vb) || (skip_present && strcmp(vb, NO_SUCH_TERM))) continue;
@@ -173,7 +149,8 @@ static void diff_verdicts(const char *name, const jv *a, const jv *b, int a_is_n
     }
 }
 
-void cli_batch_compare(const char *name, const jv *old, const jv *now, cli_batch_outcome *oc)
+void cli_batch_compare(const char *name, const sturdy_result *old, const sturdy_result *now,
+                       cli_batch_outcome *oc)
 {
     if (!old) return;
     oc->compared = 1;
@@ -198,7 +175,8 @@ static void csv_field(sturdy_buf *o, const char *s)
 }
 
 int cli_batch_write_summary(const char *plan_path, const char *dir, const char *old_dir,
-                            char *const *names, const cli_batch_outcome *oc, size_t n)
+                            const char *const *names, const cli_batch_outcome *oc,
+                            size_t n)
 {
     sturdy_buf csv, txt;
     sturdy_buf_init(&csv);

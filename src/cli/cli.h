@@ -33,6 +33,7 @@ typedef struct {
     const char *command;         /* "check" or "demo" (for messages) */
     int demo;
     sturdy_options opts;         /* its model spec points into the lists below */
+    int threads;                 /* --threads; 0 = all (the run context's count) */
     sturdy_table_opts topts;
     const char *data;            /* DATA.csv or "-" (check), as given and reported */
     const char *data_path;       /* where to read it when not `data` itself (merge reads
@@ -125,17 +126,11 @@ int sturdy_cli_batch(int argc, char **argv);
 
 /* batch */
 
-/* Number of model terms the options ask for: all factor subsets up to the order, plus
- * covariates and the block (as design.c builds them). run.c. */
-uint64_t cli_count_terms(const sturdy_model_spec *m);
-
 /* The format a file name's extension asks for (.json, .csv), or -1. options.c. */
 int cli_format_of_path(const char *path);
 
 /* a, b and c joined in a new string (the caller frees it), or NULL when memory ran out. */
 char *cli_str_cat3(const char *a, const char *b, const char *c);
-
-struct jv;   /* a parsed JSON document (json_read.h) */
 
 /* One analysis of a batch as the summary reports it. */
 typedef struct {
@@ -147,28 +142,30 @@ typedef struct {
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
 } cli_batch_outcome;
 
-/* A result file parsed (free with jv_free), or NULL when it is absent or not JSON. */
-struct jv *cli_batch_read_json(const char *path);
+/* A JSON result file read back (sturdy_result_free), or NULL when it is absent or not a
+ * result. */
+sturdy_result *cli_batch_read_result(const char *path);
 
 /* The result at out_path when the parsed check `c` would reproduce it: same data file
  * (data_path, not changed since), settings, responses and model terms. Returns the
- * parsed result (free with jv_free) or NULL. */
-struct jv *cli_batch_resumable(const cli_check *c, const char *out_path,
-                               const char *data_path);
+ * result read back (sturdy_result_free) or NULL. */
+sturdy_result *cli_batch_resumable(const cli_check *c, const char *out_path,
+                                   const char *data_path);
 
 /* Adds the result's terms, tested terms and classical/resampling disagreements to oc.
  * A result with no tested term makes the row "untested": exit_code STURDY_EMODEL and a
  * message saying why (as `check` exits). Returns 1 then, else 0. */
-int cli_batch_tally(const struct jv *doc, cli_batch_outcome *oc);
+int cli_batch_tally(const sturdy_result *r, cli_batch_outcome *oc);
 
 /* Records in oc every verdict that differs between an earlier result `old` (nothing
  * when NULL) and `now`, terms present in only one of them included. */
-void cli_batch_compare(const char *name, const struct jv *old, const struct jv *now,
+void cli_batch_compare(const char *name, const sturdy_result *old, const sturdy_result *now,
                        cli_batch_outcome *oc);
 
 /* Writes dir/summary.csv and dir/summary.txt for the n analyses named `names`; old_dir
  * (or NULL) is the --compare folder. Returns 0, or STURDY_EOUTPUT after a message. */
 int cli_batch_write_summary(const char *plan_path, const char *dir, const char *old_dir,
-                            char *const *names, const cli_batch_outcome *oc, size_t n);
+                            const char *const *names, const cli_batch_outcome *oc,
+                            size_t n);
 
 #endif

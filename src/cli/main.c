@@ -1,5 +1,6 @@
 /* main.c — the `sturdy` program: picks the subcommand and hands over to it. The
  * program uses libsturdy only through its public headers; it alone prints and exits. */
+#include <cblas.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -44,6 +45,9 @@ int main(int argc, char **argv)
         execv("/proc/self/exe", argv);
         /* no /proc: carry on with the pool */
     }
+    /* BLAS threads are process-wide state, the application's to set (sturdy.h): the
+     * library calls LAPACK from inside its own threads, so BLAS runs single-threaded */
+    openblas_set_num_threads(1);
     if (cli_mpi_init(&argc, &argv) != 0) {
         fputs("sturdy: MPI could not be started\n", stderr);
         return STURDY_EINTERNAL;
@@ -74,7 +78,7 @@ static int dispatch(int argc, char **argv)
         return 0;
     }
     if (!strcmp(cmd, "--version")) {
-        puts("sturdy " STURDY_VERSION);
+        printf("sturdy %s\n", sturdy_version());
         return 0;
     }
     fprintf(stderr, "sturdy: unknown command '%s'\ntry 'sturdy --help'\n", cmd);

@@ -13,7 +13,6 @@
 #include <string.h>
 
 #include "cli.h"
-#include "json_read.h"
 
 static const char merge_help[] =
 "Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv] [--data FILE]\n"
@@ -37,27 +36,9 @@ static const char merge_help[] =
 
 typedef struct {
     const char *path;
-    char *text;
-    jv *doc;
-    uint64_t index, count;
+    sturdy_part *part;
+    sturdy_part_origin origin;
 } part;
-
-static int jv_equal(const jv *a, const jv *b)
-{
-    if (!a || !b)
-        return a == b;
-    if (a->kind != b->kind || a->n != b->n)
-        return 0;
-    if ((a->kind == JV_NUMBER || a->kind == JV_STRING) && strcmp(a->text, b->text) != 0)
-        return 0;
-    for (size_t i = 0; i < a->n; i++) {
-        if (a->kind == JV_OBJECT && strcmp(a->keys[i], b->keys[i]) != 0)
-            return 0;
-        if (!jv_equal(&a->items[i], &b->items[i]))
-            return 0;
-    }
-    return 1;
-}
 
 static int fail(const char *path, const char *what, int code)
 {
@@ -65,173 +46,68 @@ static int fail(const char *path, const char *what, int code)
     return code;
 }
 
-/* Read and check one part's envelope. */
+/* Read one part; the library checks its envelope and raw material. */
 static int load_part(part *p)
 {
-    char err[256];
+    char err[STURDY_ERR_LEN];
     size_t len = 0;
-    p->text = cli_read_file(p->path, &len);
-    if (!p->text)
+    char *text = cli_read_file(p->path, &len);
+    if (!text)
         return fail(p->path, "cannot read the part file", STURDY_EDATA);
-    p->doc = jv_parse(p->text, len, err, sizeof err);
-    if (!p->doc) {
-        char msg[320];
-        snprintf(msg, sizeof msg, "not valid JSON (%s)", err);
-        return fail(p->path, msg, STURDY_EDATA);
+    sturdy_status st = sturdy_part_read_json(p->path, text, len, &p->part, err);
+    free(text);
+    if (st) {
+        fprintf(stderr, "sturdy: %s\n", err);
+        if (strstr(err, "not a shard part"))
+            fputs("sturdy: parts are written by 'sturdy check ... --shard I/N'\n", stderr);
+        return (int)st;
     }
-    int ok1, ok2;
-    const jv *sh = jv_get(p->doc, "shard");
-    uint64_t version = jv_u64(jv_get(p->doc, "version"), &ok1);
-    if (!ok1 || version != 1)
-        return fail(p->path, "not a sturdy result of version 1", STURDY_EDATA);
-    if (!sh)
-        return fail(p->path, "not a shard part (no 'shard' section); write parts with "
-                             "'sturdy check ... --shard I/N'", STURDY_EDATA);
-    p->index = jv_u64(jv_get(sh, "index"), &ok1);
-    p->count = jv_u64(jv_get(sh, "count"), &ok2);
-    if (!ok1 || !ok2 || p->index < 1 || p->index > p->count)
-        return fail(p->path, "the shard section has no valid index/count", STURDY_EDATA);
+    sturdy_part_origin_get(p->part, &p->origin);
     return 0;
 }
 
 /* Do parts a and b come from the same analysis? */
 static int same_analysis(const part *a, const part *b)
 {
-    char msg[512];
-    const jv *sa = jv_get(a->doc, "settings"), *sb = jv_get(b->doc, "settings");
-    const char *ca = jv_str(jv_get(a->doc, "data_checksum"));
-    const char *cb = jv_str(jv_get(b->doc, "data_checksum"));
-    if (!ca || !cb || strcmp(ca, cb) != 0) {
-        snprintf(msg, sizeof msg, "does not belong with %s: it was computed on different "
-                                  "data (checksum %s, not %s)", a->path, cb ? cb : "none",
-                 ca ? ca : "none");
-        return fail(b->path, msg, STURDY_EUSAGE);
-    }
-    const jv *seed_a = jv_get(sa, "seed"), *seed_b = jv_get(sb, "seed");
-    if (!jv_equal(seed_a, seed_b)) {
-        snprintf(msg, sizeof msg, "does not belong with %s: seed %s, not %s", a->path,
-                 seed_b && seed_b->text ? seed_b->text : "?",
-                 seed_a && seed_a->text ? seed_a->text : "?");
-        return fail(b->path, msg, STURDY_EUSAGE);
-    }
-    if (!jv_equal(sa, sb) || !jv_equal(jv_get(a->doc, "design"), jv_get(b->doc, "design"))) {
-        snprintf(msg, sizeof msg, "does not belong with %s: different settings or model",
-                 a->path);
-        return fail(b->path, msg, STURDY_EUSAGE);
-    }
-    if (a->count != b->count) {
-        snprintf(msg, sizeof msg, "does not belong with %s: split into %llu parts, not %llu",
-                 a->path, (unsigned long long)b->count, (unsigned long long)a->count);
-        return fail(b->path, msg, STURDY_EUSAGE);
-    }
-    return 0;
+    char err[STURDY_ERR_LEN], msg[STURDY_ERR_LEN + 300];
+    if (sturdy_part_compatible(a->part, b->part, err) == STURDY_OK)
+        return 0;
+    snprintf(msg, sizeof msg, "does not belong with %s: %s", a->path, err);
+    return fail(b->path, msg, STURDY_EUSAGE);
 }
 
 /* The slice of one part, added to r. */
 static int add_part(const part *p, sturdy_result *r)
 {
-    const jv *sh = jv_get(p->doc, "shard");
-    const jv *pr = jv_get(sh, "perm_range"), *br = jv_get(sh, "boot_range");
-    int ok[4];
-    sturdy_slice s;
-    memset(&s, 0, sizeof s);
-    s.perm_begin = jv_u64(jv_at(pr, 0), &ok[0]);
-    s.perm_end = jv_u64(jv_at(pr, 1), &ok[1]);
-    s.boot_begin = jv_u64(jv_at(br, 0), &ok[2]);
-    s.boot_end = jv_u64(jv_at(br, 1), &ok[3]);
-    if (!ok[0] || !ok[1] || !ok[2] || !ok[3] || s.boot_end < s.boot_begin)
-        return fail(p->path, "the shard section has no valid ranges", STURDY_EDATA);
-    const jv *resps = jv_get(p->doc, "responses");
-    size_t nt = r->nresp ? r->resp[0].nterms : 0, nb = (size_t)(s.boot_end - s.boot_begin);
-    if (!resps || resps->kind != JV_ARRAY || resps->n != r->nresp)
-        return fail(p->path, "its responses do not match the data", STURDY_EDATA);
-    s.nresp = r->nresp;
-    s.nterms = nt;
-    uint64_t *cnt = calloc(4 * r->nresp * nt + 1, sizeof *cnt);
-    double *boot = malloc((r->nresp * nt * nb * STURDY_NES + 1) * sizeof *boot);
-    if (!cnt || !boot) {
-        free(cnt); free(boot);
-        return fail(p->path, "out of memory", STURDY_EINTERNAL);
-    }
-    int rc = 0;
-    for (size_t ri = 0; ri < r->nresp && !rc; ri++) {
-        const jv *terms = jv_get(jv_at(resps, ri), "terms");
-        if (!terms || terms->kind != JV_ARRAY || terms->n != nt) {
-            rc = fail(p->path, "its terms do not match the model", STURDY_EDATA);
-            break;
-        }
-        for (size_t t = 0; t < nt && !rc; t++) {
-            const jv *raw = jv_get(jv_at(terms, t), "raw");
-            size_t k = ri * nt + t;
-            int okc;
-            if (!raw) {
-                rc = fail(p->path, "a term has no 'raw' section", STURDY_EDATA);
-                break;
-            }
-            cnt[k] = jv_u64(jv_get(raw, "exceed"), &okc);
-            cnt[r->nresp * nt + k] = jv_u64(jv_get(raw, "exceed_fwer"), &okc);
-            cnt[2 * r->nresp * nt + k] = jv_u64(jv_get(raw, "uv_exceed_wild"), &okc);
-            cnt[3 * r->nresp * nt + k] = jv_u64(jv_get(raw, "uv_exceed_perm"), &okc);
-            const jv *b = jv_get(raw, "boot");
-            double *dst = boot + k * nb * STURDY_NES;
-            for (size_t q = 0; q < nb * STURDY_NES; q++)
-                dst[q] = NAN;
-            if (!b || b->kind == JV_NULL)
-                continue;
-            if (b->kind != JV_ARRAY || b->n != nb) {
-                rc = fail(p->path, "a term's replicates do not match its range", STURDY_EDATA);
-                break;
-            }
-            for (size_t q = 0; q < nb; q++) {
-                const jv *row = jv_at(b, q);
-                if (!row || row->kind != JV_ARRAY || row->n != STURDY_NES) {
-                    rc = fail(p->path, "a replicate row does not hold 5 effect sizes",
-                              STURDY_EDATA);
-                    break;
-                }
-                for (size_t e = 0; e < STURDY_NES; e++)
-                    dst[q * STURDY_NES + e] = jv_double(jv_at(row, e));
-            }
-        }
-    }
-    if (!rc) {
-        char err[STURDY_ERR_LEN];
-        s.exceed = cnt;
-        s.exceed_fwer = cnt + r->nresp * nt;
-        s.uv_exceed_wild = cnt + 2 * r->nresp * nt;
-        s.uv_exceed_perm = cnt + 3 * r->nresp * nt;
-        s.boot = boot;
-        if (sturdy_result_add_slice(r, &s, err) != STURDY_OK)
-            rc = fail(p->path, err, STURDY_EDATA);
-    }
-    free(cnt);
-    free(boot);
-    return rc;
+    char err[STURDY_ERR_LEN];
+    if (sturdy_result_add_slice(r, sturdy_part_slice(p->part), err) != STURDY_OK)
+        return fail(p->path, err, STURDY_EDATA);
+    return 0;
 }
 
 /* The check the parts came from, set up again from their recorded arguments. */
 static int setup_check(const part *p, cli_check *c)
 {
-    const jv *sh = jv_get(p->doc, "shard"), *args = jv_get(sh, "args");
-    if (!args || args->kind != JV_ARRAY || args->n < 1)
+    size_t nargs = p->origin.nargs;
+    if (nargs < 1)
         return fail(p->path, "the shard section does not record its command", STURDY_EDATA);
-    char **argv = calloc(args->n + 1, sizeof *argv);
+    char **argv = calloc(nargs + 1, sizeof *argv);
     if (!argv)
         return fail(p->path, "out of memory", STURDY_EINTERNAL);
-    for (size_t i = 0; i < args->n; i++)
-        argv[i] = (char *)jv_str(jv_at(args, i));
+    for (size_t i = 0; i < nargs; i++)
+        argv[i] = (char *)p->origin.args[i];
     const char *cmd = argv[0] ? argv[0] : "";
     int demo = !strcmp(cmd, "demo");
     if (!demo && strcmp(cmd, "check") != 0) {
         free(argv);
         return fail(p->path, "the recorded command is neither check nor demo", STURDY_EDATA);
     }
-    for (size_t i = 0; i < args->n; i++)
+    for (size_t i = 0; i < nargs; i++)
         if (!argv[i]) {
             free(argv);
             return fail(p->path, "the recorded command is malformed", STURDY_EDATA);
         }
-    int rc = cli_check_parse((int)args->n, argv, demo, c);
+    int rc = cli_check_parse((int)nargs, argv, demo, c);
     free(argv);
     if (rc)
         return rc == CLI_DONE ? fail(p->path, "the recorded command only asks for help",
@@ -295,25 +171,25 @@ int sturdy_cli_merge(int argc, char **argv)
         if (!rc && i > 0)
             rc = same_analysis(&parts[0], &parts[i]);
         for (int j = 0; j < i && !rc; j++)
-            if (parts[j].index == parts[i].index) {
+            if (parts[j].origin.index == parts[i].origin.index) {
                 char msg[256];
                 snprintf(msg, sizeof msg, "repeats slice %llu/%llu of %s",
-                         (unsigned long long)parts[i].index,
-                         (unsigned long long)parts[i].count, parts[j].path);
+                         (unsigned long long)parts[i].origin.index,
+                         (unsigned long long)parts[i].origin.count, parts[j].path);
                 rc = fail(parts[i].path, msg, STURDY_EUSAGE);
             }
     }
-    if (!rc && (uint64_t)nparts != parts[0].count) {
+    uint64_t count = parts[0].origin.count;
+    if (!rc && (uint64_t)nparts != count) {
         /* name the first missing slice */
-        for (uint64_t want = 1; want <= parts[0].count; want++) {
+        for (uint64_t want = 1; want <= count; want++) {
             int have = 0;
             for (int i = 0; i < nparts; i++)
-                have |= parts[i].index == want;
+                have |= parts[i].origin.index == want;
             if (!have) {
                 fprintf(stderr, "sturdy: merge: slice %llu/%llu is missing (the parts given "
                                 "cover %d of %llu)\n", (unsigned long long)want,
-                        (unsigned long long)parts[0].count, nparts,
-                        (unsigned long long)parts[0].count);
+                        (unsigned long long)count, nparts, (unsigned long long)count);
                 break;
             }
         }
@@ -327,12 +203,12 @@ int sturdy_cli_merge(int argc, char **argv)
     if (!rc) {
         c.opts.shard_index = c.opts.shard_count = 0;
         c.opts.resample = 0;
-        c.opts.threads = (int)threads;
+        c.threads = (int)threads;
         c.out_path = out_path;
         c.format = format;
         c.quiet = quiet;
         if (!c.demo) {
-            const char *cwd = jv_str(jv_get(jv_get(parts[0].doc, "shard"), "cwd"));
+            const char *cwd = parts[0].origin.cwd;
             if (data) {
                 c.data_path = data;
             } else if (!strcmp(c.data, "-")) {
@@ -357,10 +233,9 @@ int sturdy_cli_merge(int argc, char **argv)
             fprintf(stderr, "sturdy: merge: %s\n", err);
     }
     if (!rc) {
-        char sum[32];
-        snprintf(sum, sizeof sum, "%016llx", (unsigned long long)r->data_checksum);
-        const char *want = jv_str(jv_get(parts[0].doc, "data_checksum"));
-        if (!want || strcmp(want, sum) != 0)
+        sturdy_run_info info;
+        sturdy_result_info(r, &info);
+        if (info.data_checksum != parts[0].origin.data_checksum)
             rc = fail(c.data_path ? c.data_path : c.data,
                       "these data differ from the data the parts were computed on "
                       "(checksum mismatch)", STURDY_EDATA);
@@ -384,10 +259,8 @@ int sturdy_cli_merge(int argc, char **argv)
     sturdy_result_free(r);
     cli_check_free(&c);
     free(joined);
-    for (int i = 0; i < nparts; i++) {
-        free(parts[i].text);
-        jv_free(parts[i].doc);
-    }
+    for (int i = 0; i < nparts; i++)
+        sturdy_part_free(parts[i].part);
     free(parts);
     return rc;
 }

@@ -34,6 +34,71 @@ void cli_mpi_finalize(void)
 int cli_mpi_rank(void) { return mpi_rank_; }
 int cli_mpi_size(void) { return mpi_size_; }
 
+/* Every rank's (perm_begin, perm_end, boot_begin, boot_end) into all[4 × size]. */
+static void gather_ranges(const sturdy_result *r, uint64_t *all)
+{
+    sturdy_run_info info;
+    sturdy_result_info(r, &info);
+    uint64_t mine[4] = { info.perm_begin, info.perm_end, info.boot_begin, info.boot_end };
+    MPI_Allgather(mine, 4, MPI_UINT64_T, all, 4, MPI_UINT64_T, MPI_COMM_WORLD);
+}
+
+/* Rank 0 adds the slices of ranks 1..N-1 (contiguous, in rank order) as one slice: the
+ * counts summed, the replicates gathered into place. */
+static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
+                                  const uint64_t *ranges, char *err)
+{
+    size_t nt = own->nterms, k = own->nresp * nt;
+    uint64_t p0 = ranges[1], b0 = ranges[3];
+    uint64_t p1 = ranges[4 * (mpi_size_ - 1) + 1], b1 = ranges[4 * (mpi_size_ - 1) + 3];
+    uint64_t nb = b1 - b0;
+    int root = mpi_rank_ == 0;
+    uint64_t *mine_c = calloc(4 * k + 1, sizeof *mine_c), *sum = calloc(4 * k + 1, sizeof *sum);
+    double *boot = root ? malloc((k * nb * STURDY_NES + 1) * sizeof *boot) : NULL;
+    int *counts = calloc((size_t)mpi_size_, sizeof *counts);
+    int *displs = calloc((size_t)mpi_size_, sizeof *displs);
+    int ok = mine_c && sum && counts && displs && (boot || !root), all_ok = 0;
+    MPI_Allreduce(&ok, &all_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
+    sturdy_status st = STURDY_OK;
+    if (!all_ok) {
+        snprintf(err, STURDY_ERR_LEN, "out of memory while combining the MPI ranks");
+        st = STURDY_EINTERNAL;
+        goto done;
+    }
+    if (!root) /* rank 0's own counts are in r already */
+        for (size_t j = 0; j < k; j++) {
+            mine_c[j] = own->exceed[j];
+            mine_c[k + j] = own->exceed_fwer[j];
+            mine_c[2 * k + j] = own->uv_exceed_wild ? own->uv_exceed_wild[j] : 0;
+            mine_c[3 * k + j] = own->uv_exceed_perm ? own->uv_exceed_perm[j] : 0;
+        }
+    MPI_Reduce(mine_c, sum, (int)(4 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
+    for (int q = 0; q < mpi_size_; q++) {
+        uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
+        counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_NES);
+        displs[q] = q == 0 ? 0 : (int)((lo - b0) * STURDY_NES);
+    }
+    uint64_t own_nb = own->boot_end - own->boot_begin;
+    for (size_t j = 0; j < k; j++) {
+        const double *src = own->boot + j * own_nb * STURDY_NES;
+        MPI_Gatherv(root ? MPI_IN_PLACE : (void *)src, root ? 0 : (int)(own_nb * STURDY_NES),
+                    MPI_DOUBLE, root ? boot + j * nb * STURDY_NES : NULL, counts, displs,
+                    MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    }
+    if (root) {
+        sturdy_slice rest = { .perm_begin = p0, .perm_end = p1, .boot_begin = b0,
+                              .boot_end = b1, .nresp = own->nresp, .nterms = nt,
+                              .exceed = sum, .exceed_fwer = sum + k,
+                              .uv_exceed_wild = sum + 2 * k, .uv_exceed_perm = sum + 3 * k,
+                              .boot = boot };
+        if (!(st = sturdy_result_add_slice(r, &rest, err)))
+            st = sturdy_result_finish(r, err);
+    }
+done:
+    free(mine_c); free(sum); free(boot); free(counts); free(displs);
+    return st;
+}
+
 sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err)
 {
     /* one failing rank fails every rank: agree on the worst status first */
@@ -45,62 +110,20 @@ sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err)
                                           "was written", worst);
         return st ? st : (sturdy_status)worst;
     }
-    size_t nt = r->nresp ? r->resp[0].nterms : 0, k = r->nresp * nt;
-    /* four counts per term: exceed, exceed_fwer, and the unequal-variance test's two */
-    uint64_t *mine_c = calloc(4 * k + 1, sizeof *mine_c), *sum = calloc(4 * k + 1, sizeof *sum);
-    int *counts = calloc((size_t)mpi_size_, sizeof *counts);
-    int *displs = calloc((size_t)mpi_size_, sizeof *displs);
-    int ok = mine_c && sum && counts && displs, all_ok = 0;
+    sturdy_part *own = NULL;
+    uint64_t *ranges = calloc(4 * (size_t)mpi_size_, sizeof *ranges);
+    int ok = ranges && sturdy_result_part(r, &own, err) == STURDY_OK, all_ok = 0;
     MPI_Allreduce(&ok, &all_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
-    if (!all_ok) {
-        free(mine_c); free(sum); free(counts); free(displs);
-        snprintf(err, STURDY_ERR_LEN, "out of memory while combining the MPI ranks");
-        return STURDY_EINTERNAL;
-    }
-    for (size_t ri = 0; ri < r->nresp; ri++)
-        for (size_t t = 0; t < nt; t++) {
-            mine_c[ri * nt + t] = r->resp[ri].terms[t].exceed;
-            mine_c[k + ri * nt + t] = r->resp[ri].terms[t].exceed_fwer;
-            mine_c[2 * k + ri * nt + t] = r->resp[ri].terms[t].uv.exceed_wild;
-            mine_c[3 * k + ri * nt + t] = r->resp[ri].terms[t].uv.exceed_perm;
-        }
-    MPI_Reduce(mine_c, sum, (int)(4 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
-    /* every rank's replicate slice, in rank order, lands at its own place on rank 0 */
-    for (int q = 0; q < mpi_size_; q++) {
-        uint64_t lo = (uint64_t)((sturdy_u128)r->nboot * (uint64_t)q / (uint64_t)mpi_size_);
-        uint64_t hi = (uint64_t)((sturdy_u128)r->nboot * (uint64_t)(q + 1) / (uint64_t)mpi_size_);
-        counts[q] = (int)((hi - lo) * STURDY_NES);
-        displs[q] = (int)(lo * STURDY_NES);
-    }
-    for (size_t ri = 0; ri < r->nresp; ri++)
-        for (size_t t = 0; t < nt; t++) {
-            double *b = r->resp[ri].terms[t].boot;
-            if (!b)
-                continue; /* the same terms have replicates on every rank */
-            double *slice = b + r->boot_begin * STURDY_NES;
-            int n = (int)((r->boot_end - r->boot_begin) * STURDY_NES);
-            if (mpi_rank_ == 0)
-                MPI_Gatherv(MPI_IN_PLACE, n, MPI_DOUBLE, b, counts, displs, MPI_DOUBLE, 0,
-                            MPI_COMM_WORLD);
-            else
-                MPI_Gatherv(slice, n, MPI_DOUBLE, NULL, NULL, NULL, MPI_DOUBLE, 0,
-                            MPI_COMM_WORLD);
-        }
     sturdy_status fst = STURDY_OK;
-    if (mpi_rank_ == 0) {
-        for (size_t ri = 0; ri < r->nresp; ri++)
-            for (size_t t = 0; t < nt; t++) {
-                r->resp[ri].terms[t].exceed = sum[ri * nt + t];
-                r->resp[ri].terms[t].exceed_fwer = sum[k + ri * nt + t];
-                r->resp[ri].terms[t].uv.exceed_wild = sum[2 * k + ri * nt + t];
-                r->resp[ri].terms[t].uv.exceed_perm = sum[3 * k + ri * nt + t];
-            }
-        r->perm_done = r->nperm;
-        r->boot_done = r->nboot;
-        r->opts.shard_index = r->opts.shard_count = 0;
-        fst = sturdy_result_finish(r, err);
+    if (!all_ok) {
+        snprintf(err, STURDY_ERR_LEN, "out of memory while combining the MPI ranks");
+        fst = STURDY_EINTERNAL;
+    } else {
+        gather_ranges(r, ranges);
+        fst = combine_rest(r, sturdy_part_slice(own), ranges, err);
     }
-    free(mine_c); free(sum); free(counts); free(displs);
+    sturdy_part_free(own);
+    free(ranges);
     return fst;
 }
 

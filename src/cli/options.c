@@ -408,7 +408,7 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         if (want_u64(c, "--threads", arg, 0, &u)) return CLI_EXIT_USAGE;
         if (u > 4096)
             return cli_usage_error(c->command, "--threads %s is more than 4096", arg);
-        o->threads = (int)u;
+        c->threads = (int)u;
         return 0;
     case OPT_SHARD: return parse_shard(c, arg, &o->shard_index, &o->shard_count);
     case OPT_FORMAT:

@@ -49,25 +49,14 @@ static void progress_clear(progress_state *p)
     if (p->shown) fprintf(stderr, "\r%*s\r", p->width, "");
 }
 
-uint64_t cli_count_terms(const sturdy_model_spec *m)
-{
-    uint64_t F = m->nfactors, K = m->order > 0 && (uint64_t)m->order < F ? (uint64_t)m->order
-                                                                        : F;
-    uint64_t terms = 0, choose = 1;
-    for (uint64_t k = 1; k <= K; k++) {
-        choose = choose * (F - k + 1) / k;       /* C(F, k), exact at each step */
-        terms += choose;
-    }
-    return terms + m->ncovariates + (m->block ? 1 : 0);
-}
-
 static void work_estimate(const cli_check *c, const sturdy_table *t)
 {
     const sturdy_options *o = &c->opts;
     uint64_t per = o->shard_count ? (o->permutations + o->shard_count - 1) / o->shard_count
                                   : o->permutations;
     fprintf(stderr, "sturdy: work: %llu rearrangements × %llu terms × %zu rows",
-            (unsigned long long)per, (unsigned long long)cli_count_terms(&o->model), t->nrows);
+            (unsigned long long)per, (unsigned long long)sturdy_model_spec_terms(&o->model),
+            sturdy_table_nrows(t));
     if (c->responses.n > 1) fprintf(stderr, " × %zu responses", c->responses.n);
     if (o->bootstrap)
         fprintf(stderr, ", and %llu bootstrap replicates", (unsigned long long)o->bootstrap);
@@ -79,7 +68,9 @@ static void work_estimate(const cli_check *c, const sturdy_table *t)
 
 static void achieved(const sturdy_result *r, double seconds)
 {
-    uint64_t perms = r->perm_end - r->perm_begin, boots = r->boot_end - r->boot_begin;
+    sturdy_run_info info;
+    sturdy_result_info(r, &info);
+    uint64_t perms = info.perm_end - info.perm_begin, boots = info.boot_end - info.boot_begin;
     fprintf(stderr, "sturdy: done in %.2f s", seconds);
     if (perms && seconds > 0)
         fprintf(stderr, "; %.0f rearrangements/s", (double)perms / seconds);
@@ -121,29 +112,33 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     if (st)
         return (int)st;
     sturdy_table *t = NULL;
-    if (c->demo)
+    if (c->demo) {
         st = sturdy_table_load_buffer(CLI_DEMO_NAME, sturdy_demo_csv, sturdy_demo_csv_len,
                                       &c->topts, &t, err);
-    else
-        st = sturdy_table_load(c->data_path ? c->data_path : c->data, &c->topts, &t, err);
+    } else if (c->data_path) { /* read from elsewhere (merge), reported as given */
+        size_t len = 0;
+        char *text = cli_read_file(c->data_path, &len);
+        if (!text) {
+            snprintf(err, STURDY_ERR_LEN, "%s: cannot read the data", c->data_path);
+            return STURDY_EDATA;
+        }
+        st = sturdy_table_load_buffer(c->data, text, len, &c->topts, &t, err);
+        free(text);
+    } else {
+        st = sturdy_table_load(c->data, &c->topts, &t, err);
+    }
     if (st)
         return (int)st;
-    if (c->data_path) { /* loaded from elsewhere (merge), reported as given */
-        free(t->source);
-        t->source = strdup(c->data);
-        if (!t->source) {
-            sturdy_table_free(t);
-            snprintf(err, STURDY_ERR_LEN, "out of memory");
-            return STURDY_EINTERNAL;
-        }
-    }
     int talk = !c->quiet && isatty(STDERR_FILENO) && cli_mpi_rank() == 0;
     progress_state ps = { .t0 = cli_now() };
     sturdy_options opts = c->opts;
+    sturdy_context ctx;
+    sturdy_context_init(&ctx);
+    ctx.threads = c->threads;
     if (talk) {
         work_estimate(c, t);
-        opts.progress = progress;
-        opts.progress_ctx = &ps;
+        ctx.progress = progress;
+        ctx.progress_arg = &ps;
     }
     if (cli_mpi_size() > 1) {
         if (opts.shard_count) {
@@ -157,7 +152,7 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     }
     ps.t0 = cli_now();
     sturdy_result *r = NULL;
-    st = sturdy_analyze(t, &opts, &r, err);
+    st = sturdy_analyze(t, &opts, &ctx, &r, err);
     if (cli_mpi_size() > 1)
         st = cli_mpi_combine(r, st, err);
     double seconds = cli_now() - ps.t0;
@@ -207,7 +202,8 @@ int cli_check_run(cli_check *c)
     }
     /* CSV has no place for the run's notes; keep them visible */
     if (!rc && !c->quiet && c->format == CLI_FMT_CSV)
-        for (size_t i = 0; i < r->nnotes; i++) fprintf(stderr, "sturdy: note: %s\n", r->notes[i]);
+        for (size_t i = 0; i < sturdy_result_nnotes(r); i++)
+            fprintf(stderr, "sturdy: note: %s\n", sturdy_result_note(r, i));
     sturdy_buf_free(&out);
     sturdy_result_free(r);
     return rc;

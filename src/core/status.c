@@ -1,4 +1,4 @@
-/* status.c — names of the status codes shared by every stage. */
+/* status.c — the run-time version and the names of the status codes. */
 #include "sturdy/common.h"
 
 const char *sturdy_status_name(sturdy_status s)
@@ -10,6 +10,11 @@ const char *sturdy_status_name(sturdy_status s)
     case STURDY_EDATA: return "bad input data";
     case STURDY_EMODEL: return "model cannot be tested";
     case STURDY_EOUTPUT: return "output could not be written";
+    case STURDY_ECANCELLED: return "cancelled";
     }
     return "unknown status";
 }
+
+const char *sturdy_version(void) { return STURDY_VERSION; }
+
+int sturdy_version_number(void) { return STURDY_VERSION_NUMBER; }

@@ -5,8 +5,9 @@
 #include <string.h>
 
 #include "core/core.h"
+#include "input/table_layout.h"
 #include "input/levels.h"
-#include "sturdy/report.h"
+#include "sturdy/buf.h"
 
 /* Near-duplicate pairs named in one warning; the rest are counted. */
 #define PAIRS_SHOWN 3

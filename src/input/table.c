@@ -194,7 +194,7 @@ static int grow_rows(loader *L)
     return 1;
 }
 
-static int is_missing(const sturdy_table_opts *o, const char *s)
+int sturdy_table_is_missing_token(const sturdy_table_opts *o, const char *s)
 {
     const char *const *tok = o->missing ? o->missing : default_missing;
     size_t ntok = o->missing ? o->nmissing : DEFAULT_NMISSING, a, b;
@@ -227,7 +227,7 @@ static void on_record(int c, void *data)
     }
     for (size_t j = 0; j < t->ncols; j++) {
         t->cols[j].text[t->nrows] = L->rec[j];
-        t->cols[j].missing[t->nrows] = (unsigned char)is_missing(L->o, L->rec[j]);
+        t->cols[j].missing[t->nrows] = (unsigned char)sturdy_table_is_missing_token(L->o, L->rec[j]);
     }
     t->line[t->nrows++] = L->rec_line;
     L->nrec = 0;

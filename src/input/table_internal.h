@@ -3,7 +3,7 @@
 #ifndef STURDY_TABLE_INTERNAL_H
 #define STURDY_TABLE_INTERNAL_H
 
-#include "sturdy/table.h"
+#include "input/table_layout.h"
 
 /* Offending text shown in messages is cut to this many bytes. */
 #define SHOW_MAX 40
@@ -19,5 +19,9 @@ void sturdy_table_show(char *dst, const char *s);
 
 /* Trimmed extent [*a, *b) of s (spaces and tabs). */
 void sturdy_table_trim_range(const char *s, size_t *a, size_t *b);
+
+/* 1 when field `s` (trimmed) is one of o's missing tokens (the defaults when o->missing
+ * is NULL). */
+int sturdy_table_is_missing_token(const sturdy_table_opts *o, const char *s);
 
 #endif

@@ -5,10 +5,11 @@
 #include <string.h>
 
 #include "core/core.h"
+#include "input/table_layout.h"
 #include "input/levels.h"
 #include "model/terms.h"
 #include "sturdy/design.h"
-#include "sturdy/report.h"
+#include "sturdy/buf.h"
 
 void sturdy_model_spec_init(sturdy_model_spec *s)
 {

@@ -7,7 +7,7 @@
 
 #include "core/core.h"
 #include "sturdy/fit.h"
-#include "sturdy/report.h"
+#include "sturdy/buf.h"
 
 /* Orthonormal basis of the span of the columns of A (K × k, column-major, overwritten):
  * columns are scaled to unit length first, so that the rank decision does not depend

@@ -256,3 +256,15 @@ void sturdy_terms_fill_columns(sturdy_design *d, const size_t *rep)
     }
 }
 
+
+uint64_t sturdy_model_spec_terms(const sturdy_model_spec *s)
+{
+    uint64_t F = s->nfactors, K = s->order > 0 && (uint64_t)s->order < F ? (uint64_t)s->order
+                                                                        : F;
+    uint64_t terms = 0, choose = 1;
+    for (uint64_t k = 1; k <= K; k++) {
+        choose = choose * (F - k + 1) / k;       /* C(F, k), exact at each step */
+        terms += choose;
+    }
+    return terms + s->ncovariates + (s->block ? 1 : 0);
+}

@@ -4,6 +4,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "core/result.h"
 #include "sturdy/report.h"
 
 /* A text field, quoted (RFC 4180: quotes doubled) when it holds the delimiter, a quote,
@@ -169,6 +170,8 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
                                 sturdy_buf *out)
 {
     sturdy_report_opts defaults;
+    if (r->read_back)
+        return STURDY_EUSAGE;   /* no design to describe: the file read is the report */
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
     write_header(out);

@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "core/result.h"
 #include "sturdy/report.h"
 
 /* Nesting the writer supports; the contract needs 6 levels. */
@@ -446,6 +447,8 @@ sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opt
                                  sturdy_buf *out)
 {
     sturdy_report_opts defaults;
+    if (r->read_back)
+        return STURDY_EUSAGE;   /* no design to describe: the file read is the report */
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     jw w = { .b = out, .depth = 0 };
     memset(w.items, 0, sizeof w.items);

@@ -693,6 +693,8 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
                                  sturdy_buf *out)
 {
     sturdy_report_opts defaults;
+    if (r->read_back)
+        return STURDY_EUSAGE;   /* no design to describe: the file read is the report */
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     tw w;
     tw_init(&w, r, o, out);

@@ -1,7 +1,8 @@
-/* report_text.h — drawing helpers of the text report (private to report_text*.c). */
+/* text.h — drawing helpers of the text report (private to text.c, textfmt.c and run.c). */
 #ifndef STURDY_REPORT_TEXT_H
 #define STURDY_REPORT_TEXT_H
 
+#include "core/result.h"
 #include "sturdy/report.h"
 
 /* Footnotes one table may carry; beyond that the last one points to the JSON output. */

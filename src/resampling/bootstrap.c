@@ -16,7 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "analysis/engine.h"
+#include "resampling/resampling.h"
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/pcg_inline.h"
@@ -36,6 +36,7 @@ typedef struct {
 } resp_boot;
 
 typedef struct {
+    const sturdy_run *run;
     const sturdy_design *d;
     const sturdy_model *m;
     sturdy_result *r;
@@ -61,10 +62,10 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
     sturdy_pcg64 g;
-    sturdy_pcg_for(&g, c->r->opts.seed, STURDY_STREAM_BOOTSTRAP, b);
+    sturdy_pcg_for(&g, c->run->opts.seed, STURDY_STREAM_BOOTSTRAP, b);
     for (size_t ri = 0; ri < c->r->nresp; ri++) {
         const resp_boot *rb = &c->rb[ri];
-        switch (c->r->boot_scheme) {
+        switch (c->run->opts.boot_scheme) {
         case STURDY_BOOT_WILD:
             sturdy_pcg_signs(&g, sign, n);
             for (size_t i = 0; i < n; i++)
@@ -169,7 +170,7 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
         sturdy_effect_sizes(rred - raug, tr->df, rfull, dfe - 1, sst_i, (double)(n - 1), out);
     }
     for (int e = 0; e < STURDY_NES; e++) {
-        int cells = c->r->boot_scheme == STURDY_BOOT_CELLS;
+        int cells = c->run->opts.boot_scheme == STURDY_BOOT_CELLS;
         size_t ngrp = cells ? K : 1;
         double num = 0.0, den = 0.0;
         int usable = 0;
@@ -226,7 +227,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
     c->rb = calloc(c->r->nresp, sizeof *c->rb);
     if (!c->rb)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    if (c->r->boot_scheme == STURDY_BOOT_CELLS) {
+    if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
         c->grp_start = calloc(K + 1, sizeof *c->grp_start);
         c->grp_rows = malloc(n * sizeof *c->grp_rows);
         size_t *fill = calloc(K, sizeof *fill);
@@ -262,7 +263,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
             rb->ff += rb->fc[i] * rb->fc[i];
         }
         sturdy_model_group_scaled(d, m, rb->fc, rb->sf);
-        if (c->r->boot_scheme == STURDY_BOOT_CELLS) {
+        if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
             memcpy(rb->a, resp->residual, n * sizeof *rb->a);
             continue;
         }
@@ -281,7 +282,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
         if (rb->npool == 0)
             return sturdy_fail(err, STURDY_EMODEL,
                                "no residual can be resampled: every row is alone in its cell");
-        if (c->r->boot_scheme == STURDY_BOOT_RESIDUAL) {
+        if (c->run->opts.boot_scheme == STURDY_BOOT_RESIDUAL) {
             abar /= (double)rb->npool;
             for (size_t k = 0; k < rb->npool; k++)
                 rb->a[rb->pool[k]] -= abar;
@@ -290,12 +291,12 @@ static sturdy_status setup(boot_ctx *c, char *err)
     return STURDY_OK;
 }
 
-sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m,
-                                   sturdy_result *r, char *err)
+sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d,
+                                   const sturdy_model *m, sturdy_result *r, char *err)
 {
-    boot_ctx c = {d, m, r, NULL, NULL, NULL};
+    boot_ctx c = {run, d, m, r, NULL, NULL, NULL};
     size_t n = d->n, K = m->K;
-    uint64_t b0 = r->boot_begin, b1 = r->boot_end;
+    uint64_t b0 = run->boot_begin, b1 = run->boot_end;
     sturdy_status st = STURDY_OK;
     if (m->df_error == 0)
         return STURDY_OK;
@@ -306,10 +307,10 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
                 tr->accel[e] = NAN;
             if (!(tr->f >= 0))
                 continue;
-            if (r->nboot > 0) {
+            if (run->nboot > 0) {
                 /* indexed over the whole run; slices computed elsewhere stay NaN until
                    added (sturdy_result_add_slice) */
-                size_t cnt = (size_t)r->nboot * STURDY_NES;
+                size_t cnt = (size_t)run->nboot * STURDY_NES;
                 tr->boot = malloc(cnt * sizeof *tr->boot);
                 if (!tr->boot)
                     return sturdy_fail(err, STURDY_EINTERNAL,
@@ -321,9 +322,9 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
     if ((st = setup(&c, err)))
         goto done;
     /* the jackknife of each (response, term) is independent: one thread each */
-    int64_t njack = r->nboot > 0 ? (int64_t)(r->nresp * d->nterms) : 0;
+    int64_t njack = run->nboot > 0 ? (int64_t)(r->nresp * d->nterms) : 0;
     int jack_failed = 0;
-#pragma omp parallel for schedule(dynamic, 1) num_threads(sturdy_thread_count(&r->opts))
+#pragma omp parallel for schedule(dynamic, 1) num_threads(run->threads)
     for (int64_t k = 0; k < njack; k++) {
         size_t ri = (size_t)k / d->nterms, t = (size_t)k % d->nterms;
         if (r->resp[ri].terms[t].f >= 0 && acceleration(&c, ri, t, NULL) != STURDY_OK) {
@@ -335,7 +336,7 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory in the jackknife");
     if (st || b1 <= b0)
         goto done;
-    int nthreads = sturdy_thread_count(&r->opts);
+    int nthreads = run->threads;
     int failed = 0;
     int64_t count = (int64_t)(b1 - b0);
 #pragma omp parallel num_threads(nthreads)
@@ -350,12 +351,14 @@ sturdy_status sturdy_bootstrap_run(const sturdy_design *d, const sturdy_model *m
         }
 #pragma omp for schedule(dynamic, 16)
         for (int64_t k = 0; k < count; k++)
-            if (ok)
+            if (ok && !sturdy_run_cancelled(run))
                 one_replicate(&c, b0 + (uint64_t)k, rs, sr, s, sign);
         free(rs); free(sr); free(s); free(sign);
     }
     if (failed)
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for bootstrap workspaces");
+    else if (sturdy_run_cancelled(run))
+        st = sturdy_fail(err, STURDY_ECANCELLED, "cancelled during the bootstrap");
 done:
     ctx_free(&c);
     return st;

@@ -22,7 +22,7 @@
 #include <string.h>
 #include <time.h>
 
-#include "analysis/engine.h"
+#include "resampling/resampling.h"
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
@@ -223,7 +223,7 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
 }
 
 /* Choose the members and their vectors. */
-static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
+static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r, char *err)
 {
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
@@ -236,7 +236,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
         for (size_t t = 0; t < d->nterms; t++) {
             sturdy_term_result *tr = &r->resp[ri].terms[t];
             const char *why = NULL;
-            if (d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip)
+            if (d->terms[t].kind == STURDY_TERM_BLOCK && !run->opts.flip)
                 why = "no permutation p-value for the block term: rearranging within "
                       "blocks leaves it unchanged, so it cannot be tested that way";
             else if (!(tr->f >= 0))
@@ -257,7 +257,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
     if (M == 0)
         return STURDY_OK;
     c->Mp = (M + 3) & ~(size_t)3;
-    if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, r->exact, r->opts.seed, err)))
+    if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, run->exact, run->opts.seed, err)))
         return st;
     c->V = calloc(n * c->Mp, sizeof *c->V);
     c->thr = malloc(M * M * sizeof *c->thr);
@@ -271,10 +271,10 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
         member *mb = &c->mem[j];
         const double *y = d->y + mb->resp * n;
         const sturdy_response_result *rr = &r->resp[mb->resp];
-        if (r->method == STURDY_METHOD_TER_BRAAK) {
+        if (run->opts.method == STURDY_METHOD_TER_BRAAK) {
             for (size_t i = 0; i < n; i++)
                 v[i] = rr->residual[i];
-        } else if (r->method == STURDY_METHOD_RAW) {
+        } else if (run->opts.method == STURDY_METHOD_RAW) {
             double mean = 0.0;
             for (size_t i = 0; i < n; i++)
                 mean += y[i];
@@ -322,16 +322,16 @@ static double now_seconds(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
-sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
-                                 sturdy_result *r, char *err)
+sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
+                                 const sturdy_model *m, sturdy_result *r, char *err)
 {
     perm_ctx c;
     memset(&c, 0, sizeof c);
     c.d = d;
     c.m = m;
-    c.flip = r->opts.flip;
-    sturdy_status st = setup(&c, r, err);
-    uint64_t b0 = r->perm_begin, b1 = r->perm_end;
+    c.flip = run->opts.flip;
+    sturdy_status st = setup(&c, run, r, err);
+    uint64_t b0 = run->perm_begin, b1 = run->perm_end;
     if (st || c.M == 0 || b1 <= b0)
         goto done;
     uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
@@ -340,7 +340,7 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = now_seconds();
-    int nthreads = sturdy_thread_count(&r->opts);
+    int nthreads = run->threads;
     if (!exceed || !fwer) {
         free(exceed); free(fwer);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -356,20 +356,20 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
         }
 #pragma omp for schedule(dynamic, 1)
         for (int64_t k = 0; k < nblocks; k++) {
-            if (!ok)
+            if (!ok || sturdy_run_cancelled(run))
                 continue;
             uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
             if (lo < b0) lo = b0;
             if (hi > b1) hi = b1;
             run_block(&c, lo, (size_t)(hi - lo), &w);
-            if (r->opts.progress) {
+            if (run->progress) {
 #pragma omp critical(sturdy_progress)
                 {
                     done_count += hi - lo;
                     double t = now_seconds();
                     if (t - last_report > 0.2 || done_count == b1 - b0) {
                         last_report = t;
-                        r->opts.progress(r->opts.progress_ctx, done_count, b1 - b0);
+                        run->progress(run->progress_arg, done_count, b1 - b0);
                     }
                 }
             }
@@ -385,6 +385,8 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
     }
     if (failed) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for permutation workspaces");
+    } else if (sturdy_run_cancelled(run)) {
+        st = sturdy_fail(err, STURDY_ECANCELLED, "cancelled during the permutation tests");
     } else {
         for (size_t j = 0; j < c.M; j++) {
             sturdy_term_result *tr = &r->resp[c.mem[j].resp].terms[c.mem[j].term];

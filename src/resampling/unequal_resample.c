@@ -13,6 +13,7 @@
 #include "resampling/pcg_inline.h"
 #include "resampling/rearrange.h"
 #include "classical/unequal.h"
+#include "resampling/resampling.h"
 
 typedef struct {
     size_t resp, term;
@@ -150,17 +151,18 @@ static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild
     return STURDY_OK;
 }
 
-sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturdy_result *r,
-                            char *err)
+sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
+                            const sturdy_model *m, sturdy_result *r, char *err)
 {
-    uint64_t b0 = r->perm_begin, b1 = r->perm_end;
+    uint64_t b0 = run->perm_begin, b1 = run->perm_end;
+    sturdy_spread_scheme scheme = run->opts.spread_scheme;
     /* the default scheme resamples nothing: no set-up either */
-    if (r->spread_scheme == STURDY_SPREAD_NONE)
+    if (scheme == STURDY_SPREAD_NONE)
         return STURDY_OK;
     uv_run u;
     memset(&u, 0, sizeof u);
     const char *why;
-    sturdy_status st = uv_ctx_init(&u.c, d, m, r->uv_hc3, &why, err);
+    sturdy_status st = uv_ctx_init(&u.c, d, m, sturdy_uv_uses_hc3(d), &why, err);
     if (st)
         return st;
     sturdy_rearranger ra;
@@ -176,8 +178,8 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
             sturdy_uv_result *uv = &r->resp[ri].terms[t].uv;
             if (isnan(uv->wald))
                 continue;
-            if (r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
-                d->terms[t].kind == STURDY_TERM_BLOCK && !r->opts.flip &&
+            if (scheme == STURDY_SPREAD_PERMUTATION &&
+                d->terms[t].kind == STURDY_TERM_BLOCK && !run->opts.flip &&
                 (st = sturdy_note_once(&uv->perm_note, "no permutation p-value for the block term: "
                                "rearranging within blocks leaves it unchanged", err)))
                 goto done;
@@ -203,20 +205,21 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
-    int nthreads = sturdy_thread_count(&r->opts);
+    int nthreads = run->threads;
     /* wild bootstrap: always */
     if (!(st = fill_bases(&u, NULL, 1, err))) {
-        if (!run_range(&u, NULL, 1, r->opts.seed, b0, b1, cnt, nthreads))
+        if (!run_range(&u, NULL, 1, run->opts.seed, b0, b1, cnt, nthreads))
             st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the wild bootstrap");
         for (size_t j = 0; j < u.M && !st; j++)
             r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_wild += cnt[j];
     }
     /* permutation of the studentised statistic: when it is the run's scheme */
-    if (!st && r->spread_scheme == STURDY_SPREAD_PERMUTATION &&
-        !(st = sturdy_rearranger_init(&ra, d, r->opts.flip, r->exact, r->opts.seed, err)) &&
+    if (!st && scheme == STURDY_SPREAD_PERMUTATION &&
+        !(st = sturdy_rearranger_init(&ra, d, run->opts.flip, run->exact, run->opts.seed,
+                                      err)) &&
         !(st = fill_bases(&u, &ra, 0, err))) {
         memset(cnt, 0, u.M * sizeof *cnt);
-        if (!run_range(&u, &ra, 0, r->opts.seed, b0, b1, cnt, nthreads))
+        if (!run_range(&u, &ra, 0, run->opts.seed, b0, b1, cnt, nthreads))
             st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the permutations");
         for (size_t j = 0; j < u.M && !st; j++)
             r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_perm += cnt[j];

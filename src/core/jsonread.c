@@ -1,5 +1,5 @@
-/* json_read.c — recursive-descent JSON parser (RFC 8259) into a small tree. */
-#include "json_read.h"
+/* jsonread.c — recursive-descent JSON parser (RFC 8259) into a small tree. */
+#include "core/jsonread.h"
 
 #include <math.h>
 #include <stdio.h>

@@ -1,8 +1,8 @@
-/* json_read.h — a small JSON reader for the CLI's own files (shard parts, earlier batch
- * results): parses a whole document into a tree. Numbers keep their text, so that
+/* jsonread.h — a small JSON reader for the library's own files (shard parts, results
+ * read back): parses a whole document into a tree. Numbers keep their text, so that
  * integers such as exceedance counts are read exactly. */
-#ifndef STURDY_CLI_JSON_READ_H
-#define STURDY_CLI_JSON_READ_H
+#ifndef STURDY_JSONREAD_H
+#define STURDY_JSONREAD_H
 
 #include <stddef.h>
 #include <stdint.h>

@@ -1,0 +1,89 @@
+/* part.c — a slice's raw material as an object of its own: copied out of a run (to send
+ * to another process) or read from a shard's file (report/read.c), then added to a
+ * result with sturdy_result_add_slice. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "core/core.h"
+#include "core/result.h"
+#include "core/jsonread.h"
+
+sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy_part **out,
+                                char *err)
+{
+    *out = NULL;
+    size_t k = nresp * nterms;
+    if (nb > SIZE_MAX / STURDY_NES / sizeof(double) / (k ? k : 1))
+        return sturdy_fail(err, STURDY_EINTERNAL, "the part is too large for memory");
+    sturdy_part *p = sturdy_calloc(1, sizeof *p);
+    if (!p)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    size_t nv = k * (size_t)nb * STURDY_NES;
+    p->counts = sturdy_calloc(4 * k + 1, sizeof *p->counts);
+    p->boot = malloc((nv + 1) * sizeof *p->boot);
+    if (!p->counts || !p->boot) {
+        sturdy_part_free(p);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t i = 0; i < nv; i++)
+        p->boot[i] = NAN;
+    p->s.nresp = nresp;
+    p->s.nterms = nterms;
+    p->s.exceed = p->counts;
+    p->s.exceed_fwer = p->counts + k;
+    p->s.uv_exceed_wild = p->counts + 2 * k;
+    p->s.uv_exceed_perm = p->counts + 3 * k;
+    p->s.boot = p->boot;
+    *out = p;
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char *err)
+{
+    size_t nt = r->nresp ? r->resp[0].nterms : 0, k = r->nresp * nt;
+    uint64_t nb = r->boot_end - r->boot_begin;
+    sturdy_status st = sturdy_part_alloc(r->nresp, nt, nb, out, err);
+    if (st)
+        return st;
+    sturdy_part *p = *out;
+    p->s.perm_begin = r->perm_begin;
+    p->s.perm_end = r->perm_end;
+    p->s.boot_begin = r->boot_begin;
+    p->s.boot_end = r->boot_end;
+    p->index = r->opts.shard_index;
+    p->count = r->opts.shard_count;
+    p->data_checksum = r->data_checksum;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < nt; t++) {
+            const sturdy_term_result *tr = &r->resp[ri].terms[t];
+            size_t j = ri * nt + t;
+            p->counts[j] = tr->exceed;
+            p->counts[k + j] = tr->exceed_fwer;
+            p->counts[2 * k + j] = tr->uv.exceed_wild;
+            p->counts[3 * k + j] = tr->uv.exceed_perm;
+            if (tr->boot && nb)
+                memcpy(p->boot + j * nb * STURDY_NES, tr->boot + r->boot_begin * STURDY_NES,
+                       nb * STURDY_NES * sizeof *p->boot);
+        }
+    return STURDY_OK;
+}
+
+const sturdy_slice *sturdy_part_slice(const sturdy_part *p)
+{
+    return p ? &p->s : NULL;
+}
+
+void sturdy_part_free(sturdy_part *p)
+{
+    if (!p)
+        return;
+    free(p->counts);
+    free(p->boot);
+    for (size_t i = 0; i < p->nargs; i++)
+        free(p->args[i]);
+    free(p->args);
+    free(p->cwd);
+    jv_free(p->doc);
+    free(p);
+}

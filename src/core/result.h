@@ -1,0 +1,137 @@
+/* result.h — the layout of a result, shared by the stages that fill it, the writers and
+ * the readers (the public header keeps sturdy_result opaque). */
+#ifndef STURDY_RESULT_H
+#define STURDY_RESULT_H
+
+#include "sturdy/analysis.h"
+#include "sturdy/advanced.h"
+
+/* A number that may be absent: NaN in the double fields below means "null", and the
+ * matching *_note (owned string) says why. */
+typedef struct { double lo, hi; } sturdy_pair;
+
+/* The term's test that holds its level when cell variances differ: the Welch–James
+ * Wald-type statistic W = zᵀ(U_tᵀ Ω U_t)⁻¹z with a heteroscedasticity-consistent Ω (cell
+ * variances for factor-only models, HC3 otherwise), referred to Johansen's (1980)
+ * approximate F (factor-only) or to F(df, residual df); its resampling p-values; and the
+ * ANOVA-type statistic with Box's approximation (Brunner, Dette & Munk 1997). */
+typedef struct {
+    double wald;                 /* W, on the χ² scale */
+    double stat, df1, df2, p;    /* approximate F = W / c (Johansen) or W / df1 */
+    int johansen;                /* 1: Johansen's reference; 0: F(df1, residual df) */
+    double ats, ats_df1, ats_df2, ats_p; /* NaN unless factor-only */
+    uint64_t exceed_wild;        /* wild replicates with W* ≥ W */
+    uint64_t exceed_perm;        /* rearrangements with W* ≥ W (permutation scheme) */
+    double p_wild, p_permuted;   /* the two resampling p-values (NaN: not computed) */
+    double p_perm;               /* the run's scheme's p (one of the two) */
+    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson of p_perm */
+    char *note;                  /* why W (and everything) is absent, else NULL */
+    char *perm_note;             /* why p_perm is absent, else NULL */
+} sturdy_uv_result;
+
+typedef struct {
+    char *label;                 /* "A×B" */
+    sturdy_term_kind kind;
+    size_t nfactors; char **factors; /* names (owned) */
+    /* classical */
+    double df, ss, ms, f, p;
+    char *note;                  /* why f/p (and effect sizes) are absent, else NULL */
+    double es[STURDY_NES];
+    sturdy_pair ncf;             /* noncentral-F interval for partial η² */
+    /* permutation */
+    uint64_t exceed;             /* rearrangements with F* ≥ F (tie rule in permute.c) */
+    uint64_t exceed_fwer;        /* rearrangements whose min-p over the family ≤ this p */
+    double p_perm, p_perm_fwer, p_perm_holm;
+    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson on exceed */
+    char *perm_note;
+    /* bootstrap */
+    double *boot;                /* nboot × STURDY_NES row-major replicate values, indexed
+                                    over the whole run; only the slices computed or added
+                                    so far are filled (owned; NULL when the term has none) */
+    double accel[STURDY_NES];    /* BCa acceleration from the jackknife (NaN: none) */
+    sturdy_pair ci_pct[STURDY_NES], ci_bca[STURDY_NES];
+    char *boot_note;
+    /* verdict */
+    sturdy_verdict verdict;
+    char *verdict_reason;        /* one line, or NULL */
+    int straddles;               /* the p_perm interval contains alpha */
+    sturdy_uv_result uv;         /* unequal-variance test */
+} sturdy_term_result;
+
+typedef struct {
+    size_t row, line, cell;      /* 1-based data row, file line, cell index */
+    double studentized;          /* externally studentized residual (the one tested) */
+    double internal;             /* internally studentized residual */
+    double leverage;             /* the row's leverage */
+} sturdy_outlier;
+
+typedef struct {
+    double sw_w, sw_p; char *sw_note;
+    double skewness, excess_kurtosis;
+    double bf_f, bf_df1, bf_df2, bf_p; char *bf_note;
+    double bfm_f, bfm_df1, bfm_df2, bfm_p; char *bfm_note; /* without structural zeros */
+    double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
+    size_t noutliers; sturdy_outlier *outliers;
+    int spread_differs;          /* the rule of unequal.c: cell spreads differ enough
+                                    that the unequal-variance test leads the report */
+    char *spread_reason;         /* one line saying why (owned), or NULL */
+    double *studentized;         /* n externally studentized residuals (owned) */
+    double *leverage;            /* n */
+} sturdy_diagnostics;
+
+typedef struct {
+    char *name;
+    size_t nterms; sturdy_term_result *terms;
+    double df_error, ss_error, ms_error;
+    double df_total, ss_total;
+    char *error_note;            /* e.g. no residual degrees of freedom */
+    double *cell_mean, *cell_sd; /* per non-empty cell (sd NaN for a single row) */
+    sturdy_diagnostics diag;
+    double *fitted, *residual;   /* n each (owned), on the response's own scale */
+} sturdy_response_result;
+
+struct sturdy_result {
+    sturdy_options opts;         /* the settings, as run: boot_scheme resolved (never
+                                    DEFAULT); its string pointers refer to the design
+                                    (or, read back, to `owned`) */
+    sturdy_design *design;       /* owned; NULL for a result read back */
+    int ss_type;
+    sturdy_method method;
+    sturdy_boot_scheme boot_scheme;  /* resolved (never DEFAULT) */
+    sturdy_spread_scheme spread_scheme;
+    int uv_hc3;                  /* the unequal-variance test uses HC3 (covariates or a
+                                    block), not the cell variances */
+    int exact;                   /* rearrangements were enumerated exhaustively */
+    uint64_t nperm;              /* rearrangements in the whole run (enumeration: all) */
+    uint64_t nboot;              /* bootstrap replicates in the whole run */
+    uint64_t perm_begin, perm_end; /* the slice computed by this run */
+    uint64_t boot_begin, boot_end;
+    uint64_t perm_done, boot_done; /* rearrangements / replicates filled in so far */
+    int finished;                /* p-values and intervals computed (not a bare shard) */
+    size_t nresp; sturdy_response_result *resp;
+    size_t nnotes; char **notes; /* run-wide remarks (warnings) for the report */
+    uint64_t data_checksum;      /* FNV-1a of the used columns' text, to match shards */
+    /* read back (sturdy_result_read_json): what the file says in place of a design */
+    int read_back;               /* 1: the writers decline it */
+    char *input;                 /* the table's source name */
+    size_t rows_read, rows_used;
+    char **owned; size_t nowned; /* strings the options point to */
+};
+
+/* A copy of a slice's raw material (sturdy_result_part, sturdy_part_read_json). */
+struct sturdy_part {
+    sturdy_slice s;              /* points into the arrays below */
+    uint64_t *counts;            /* 4 × nresp × nterms */
+    double *boot;
+    /* read from a file: its envelope */
+    uint64_t index, count, data_checksum;
+    char **args; size_t nargs;   /* the command that wrote it */
+    char *cwd;
+    void *doc;                   /* the parsed file (jsonread.h), for comparing parts */
+};
+
+/* A zeroed part for nresp × nterms counts and nb replicates per term (boot NaN). */
+sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy_part **out,
+                                char *err);
+
+#endif

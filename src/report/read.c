@@ -1,0 +1,524 @@
+/* read.c — JSON results and shard parts read back (the inverse of json.c): a result whose
+ * accessors give what the file holds, and a part whose raw material is checked for type
+ * and range against the part's own slice before anyone adds it up. */
+#include <errno.h>
+#include <inttypes.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "core/core.h"
+#include "core/result.h"
+#include "core/jsonread.h"
+#include "sturdy/report.h"
+
+/* --- small typed readers ------------------------------------------------------------ */
+
+static int is_kind(const jv *v, jv_kind k) { return v && v->kind == k; }
+
+/* A number or null (NaN); 0 when the member is missing or of another type. */
+static int get_num(const jv *obj, const char *key, double *out)
+{
+    const jv *v = jv_get(obj, key);
+    if (!v || (v->kind != JV_NUMBER && v->kind != JV_NULL))
+        return 0;
+    *out = jv_double(v);
+    return 1;
+}
+
+/* A string or null (NULL), copied; 0 when missing, of another type or out of memory. */
+static int get_str(const jv *obj, const char *key, char **out)
+{
+    const jv *v = jv_get(obj, key);
+    *out = NULL;
+    if (is_kind(v, JV_NULL))
+        return 1;
+    if (!is_kind(v, JV_STRING))
+        return 0;
+    *out = sturdy_strdup(v->text);
+    return *out != NULL;
+}
+
+/* [lo, hi] of numbers or nulls. */
+static int get_pair(const jv *obj, const char *key, sturdy_pair *out)
+{
+    const jv *v = jv_get(obj, key);
+    if (!is_kind(v, JV_ARRAY) || v->n != 2)
+        return 0;
+    for (size_t i = 0; i < 2; i++)
+        if (v->items[i].kind != JV_NUMBER && v->items[i].kind != JV_NULL)
+            return 0;
+    out->lo = jv_double(&v->items[0]);
+    out->hi = jv_double(&v->items[1]);
+    return 1;
+}
+
+static int get_u64(const jv *obj, const char *key, uint64_t *out)
+{
+    int ok = 0;
+    *out = jv_u64(jv_get(obj, key), &ok);
+    return ok;
+}
+
+static int get_bool(const jv *obj, const char *key, int *out)
+{
+    const jv *v = jv_get(obj, key);
+    if (!v || (v->kind != JV_TRUE && v->kind != JV_FALSE))
+        return 0;
+    *out = v->kind == JV_TRUE;
+    return 1;
+}
+
+/* The index of `text` in names[0..n), or -1. */
+static int name_index(const char *text, const char *const *names, int n)
+{
+    for (int i = 0; text && i < n; i++)
+        if (!strcmp(text, names[i]))
+            return i;
+    return -1;
+}
+
+static jv *parse(const char *name, const char *text, size_t len, char *err)
+{
+    char why[256];
+    jv *doc = jv_parse(text, len, why, sizeof why);
+    if (!doc)
+        sturdy_fail(err, STURDY_EDATA, "%s: not valid JSON (%s)", name, why);
+    return doc;
+}
+
+/* --- results ------------------------------------------------------------------------ */
+
+/* Keep a string for the options to point to. */
+static const char *own(sturdy_result *r, char *s)
+{
+    if (!s)
+        return NULL;
+    char **o = realloc(r->owned, (r->nowned + 1) * sizeof *o);
+    if (!o) {
+        free(s);
+        return NULL;
+    }
+    r->owned = o;
+    r->owned[r->nowned++] = s;
+    return s;
+}
+
+/* Names of an array of strings, or of objects' `key`, as an owned list for the spec. */
+static int read_names(sturdy_result *r, const jv *arr, const char *key,
+                      const char *const **out, size_t *n)
+{
+    *out = NULL;
+    *n = 0;
+    if (!is_kind(arr, JV_ARRAY))
+        return 0;
+    const char **names = sturdy_calloc(arr->n, sizeof *names);
+    if (!names || !own(r, (char *)names))
+        return 0;
+    for (size_t i = 0; i < arr->n; i++) {
+        const jv *v = key ? jv_get(&arr->items[i], key) : &arr->items[i];
+        if (!is_kind(v, JV_STRING) || !(names[i] = own(r, sturdy_strdup(v->text))))
+            return 0;
+    }
+    *out = names;
+    *n = arr->n;
+    return 1;
+}
+
+static const char *const method_names[] = { "freedman-lane", "ter-braak", "raw" };
+static const char *const scheme_names[] = { "residual", "wild", "cells" };
+static const char *const spread_names[] = { "none", "wild-bootstrap", "permutation" };
+static const char *const verdict_names[] = { "both", "neither", "classical-only",
+                                             "resampling-only" };
+
+static const char *read_settings(sturdy_result *r, const jv *doc)
+{
+    const jv *s = jv_get(doc, "settings"), *d = jv_get(doc, "design");
+    sturdy_options *o = &r->opts;
+    uint64_t ss = 0;
+    char *method = NULL, *scheme = NULL, *spread = NULL;
+    int ok = is_kind(s, JV_OBJECT) && get_u64(s, "ss_type", &ss) &&
+             get_bool(s, "flip", &o->flip) && get_u64(s, "permutations", &r->nperm) &&
+             get_bool(s, "exact", &r->exact) && get_u64(s, "bootstrap", &r->nboot) &&
+             get_u64(s, "seed", &o->seed) && get_num(s, "conf", &o->conf) &&
+             get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
+             get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread);
+    int m = name_index(method, method_names, 3), b = name_index(scheme, scheme_names, 3);
+    int sp = name_index(spread, spread_names, 3);
+    free(method); free(scheme); free(spread);
+    if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
+        return "settings";
+    o->ss_type = r->ss_type = (int)ss;
+    o->method = r->method = (sturdy_method)m;
+    o->boot_scheme = r->boot_scheme = (sturdy_boot_scheme)b;
+    o->spread_scheme = r->spread_scheme = (sturdy_spread_scheme)sp;
+    o->permutations = r->nperm;
+    o->bootstrap = r->nboot;
+    sturdy_model_spec *spec = &o->model;
+    const jv *block = jv_get(d, "block");
+    if (!is_kind(d, JV_OBJECT) ||
+        !read_names(r, jv_get(d, "factors"), "name", &spec->factors, &spec->nfactors) ||
+        !read_names(r, jv_get(d, "covariates"), NULL, &spec->covariates, &spec->ncovariates) ||
+        !read_names(r, jv_get(doc, "responses"), "response", &spec->responses,
+                    &spec->nresponses))
+        return "design";
+    if (is_kind(block, JV_OBJECT)) {
+        char *bn = NULL;
+        if (!get_str(block, "name", &bn) || !bn || !(spec->block = own(r, bn)))
+            return "design.block";
+    } else if (!is_kind(block, JV_NULL)) {
+        return "design.block";
+    }
+    const jv *in = jv_get(doc, "input");
+    uint64_t rr = 0, ru = 0;
+    if (!is_kind(in, JV_OBJECT) || !get_str(in, "file", &r->input) ||
+        !get_u64(in, "rows_read", &rr) || !get_u64(in, "rows_used", &ru))
+        return "input";
+    r->rows_read = (size_t)rr;
+    r->rows_used = (size_t)ru;
+    const jv *notes = jv_get(doc, "notes");
+    if (!is_kind(notes, JV_ARRAY))
+        return "notes";
+    r->notes = sturdy_calloc(notes->n, sizeof *r->notes);
+    if (!r->notes)
+        return "notes";
+    for (size_t i = 0; i < notes->n; i++, r->nnotes++)
+        if (!is_kind(&notes->items[i], JV_STRING) ||
+            !(r->notes[i] = sturdy_strdup(notes->items[i].text)))
+            return "notes";
+    return NULL;
+}
+
+static int read_uv(const jv *u, sturdy_uv_result *uv)
+{
+    uv->ats = uv->ats_df1 = uv->ats_df2 = uv->ats_p = NAN;
+    if (!is_kind(u, JV_OBJECT))
+        return 0;
+    const jv *ats = jv_get(u, "ats");
+    int ok = get_num(u, "wald", &uv->wald) && get_num(u, "statistic", &uv->stat) &&
+             get_num(u, "df1", &uv->df1) && get_num(u, "df2", &uv->df2) &&
+             get_num(u, "p", &uv->p) && get_num(u, "p_perm", &uv->p_perm) &&
+             get_pair(u, "p_perm_ci", &uv->p_perm_ci) && get_num(u, "p_wild", &uv->p_wild) &&
+             get_num(u, "p_permuted", &uv->p_permuted) && get_str(u, "note", &uv->note) &&
+             get_str(u, "perm_note", &uv->perm_note);
+    if (ok && is_kind(ats, JV_OBJECT))
+        ok = get_num(ats, "statistic", &uv->ats) && get_num(ats, "df1", &uv->ats_df1) &&
+             get_num(ats, "df2", &uv->ats_df2) && get_num(ats, "p", &uv->ats_p);
+    const jv *ref = jv_get(u, "reference");
+    uv->johansen = is_kind(ref, JV_STRING) && !strcmp(ref->text, "johansen");
+    return ok;
+}
+
+static int read_term(const jv *t, sturdy_term_result *tr)
+{
+    const jv *ci = jv_get(t, "ci"), *factors = jv_get(t, "factors");
+    char *verdict = NULL;
+    int ok = is_kind(t, JV_OBJECT) && get_str(t, "term", &tr->label) && tr->label &&
+             get_num(t, "df", &tr->df) && get_num(t, "ss", &tr->ss) &&
+             get_num(t, "ms", &tr->ms) && get_num(t, "f", &tr->f) && get_num(t, "p", &tr->p) &&
+             get_str(t, "note", &tr->note) && get_num(t, "p_perm", &tr->p_perm) &&
+             get_pair(t, "p_perm_ci", &tr->p_perm_ci) &&
+             get_num(t, "p_perm_fwer", &tr->p_perm_fwer) &&
+             get_num(t, "p_perm_holm", &tr->p_perm_holm) &&
+             get_str(t, "perm_note", &tr->perm_note) && get_str(t, "boot_note", &tr->boot_note) &&
+             get_str(t, "verdict", &verdict) && get_str(t, "verdict_reason", &tr->verdict_reason) &&
+             is_kind(ci, JV_OBJECT) && is_kind(factors, JV_ARRAY) &&
+             read_uv(jv_get(t, "unequal_variance"), &tr->uv);
+    int v = verdict ? name_index(verdict, verdict_names, 4) : -2;
+    free(verdict);
+    if (!ok || v == -1)
+        return 0;
+    tr->verdict = v < 0 ? STURDY_VERDICT_NONE : (sturdy_verdict)(v + 1);
+    tr->ncf.lo = tr->ncf.hi = NAN;
+    for (int e = 0; e < STURDY_NES && ok; e++) {
+        const jv *c = jv_get(ci, sturdy_es_names[e]);
+        ok = get_num(t, sturdy_es_names[e], &tr->es[e]) && is_kind(c, JV_OBJECT) &&
+             get_pair(c, "percentile", &tr->ci_pct[e]) && get_pair(c, "bca", &tr->ci_bca[e]) &&
+             (e != STURDY_ES_PARTIAL_ETA2 || get_pair(c, "noncentral_f", &tr->ncf));
+        tr->accel[e] = NAN;
+    }
+    tr->factors = sturdy_calloc(factors->n, sizeof *tr->factors);
+    for (size_t f = 0; ok && tr->factors && f < factors->n; f++, tr->nfactors++)
+        ok = is_kind(&factors->items[f], JV_STRING) &&
+             (tr->factors[f] = sturdy_strdup(factors->items[f].text)) != NULL;
+    return ok && tr->factors;
+}
+
+static int read_diag(const jv *g, sturdy_diagnostics *dg)
+{
+    const jv *sw = jv_get(g, "shapiro_wilk"), *bfm = jv_get(g, "brown_forsythe_modified");
+    const jv *out = jv_get(g, "outliers");
+    int ok = is_kind(g, JV_OBJECT) && get_num(sw, "w", &dg->sw_w) &&
+             get_num(sw, "p", &dg->sw_p) && get_num(bfm, "f", &dg->bfm_f) &&
+             get_num(bfm, "p", &dg->bfm_p) && get_num(g, "variance_ratio", &dg->variance_ratio) &&
+             get_num(g, "skewness", &dg->skewness) &&
+             get_num(g, "excess_kurtosis", &dg->excess_kurtosis) &&
+             get_bool(g, "spread_differs", &dg->spread_differs) && is_kind(out, JV_ARRAY);
+    if (ok)
+        dg->noutliers = out->n;
+    return ok;
+}
+
+/* Responses, with their terms, error and total rows, and main checks. */
+static const char *read_responses(sturdy_result *r, const jv *doc)
+{
+    const jv *resps = jv_get(doc, "responses");
+    if (!is_kind(resps, JV_ARRAY))
+        return "responses";
+    r->resp = sturdy_calloc(resps->n, sizeof *r->resp);
+    if (!r->resp)
+        return "responses";
+    size_t nt = 0;
+    for (size_t i = 0; i < resps->n; i++) {
+        const jv *rj = &resps->items[i], *terms = jv_get(rj, "terms");
+        const jv *e = jv_get(rj, "error"), *tot = jv_get(rj, "total");
+        sturdy_response_result *rr = &r->resp[r->nresp++];
+        if (!get_str(rj, "response", &rr->name) || !rr->name || !is_kind(terms, JV_ARRAY) ||
+            (i > 0 && terms->n != nt))
+            return "responses";
+        nt = terms->n;
+        if (!get_num(e, "df", &rr->df_error) || !get_num(e, "ss", &rr->ss_error) ||
+            !get_num(e, "ms", &rr->ms_error) || !get_str(e, "note", &rr->error_note) ||
+            !get_num(tot, "df", &rr->df_total) || !get_num(tot, "ss", &rr->ss_total))
+            return "responses[].error";
+        if (!read_diag(jv_get(rj, "diagnostics"), &rr->diag))
+            return "responses[].diagnostics";
+        rr->terms = sturdy_calloc(nt, sizeof *rr->terms);
+        if (!rr->terms)
+            return "responses[].terms";
+        for (size_t k = 0; k < nt; k++, rr->nterms++)
+            if (!read_term(&terms->items[k], &rr->terms[k]))
+                return "responses[].terms[]";
+    }
+    return NULL;
+}
+
+sturdy_status sturdy_result_read_json(const char *name, const char *text, size_t len,
+                                      sturdy_result **out, char *err)
+{
+    *out = NULL;
+    jv *doc = parse(name, text, len, err);
+    if (!doc)
+        return STURDY_EDATA;
+    uint64_t version = 0;
+    if (!get_u64(doc, "version", &version) || version != 1) {
+        jv_free(doc);
+        return sturdy_fail(err, STURDY_EDATA, "%s: not a sturdy result of version 1", name);
+    }
+    sturdy_result *r = sturdy_calloc(1, sizeof *r);
+    if (!r) {
+        jv_free(doc);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    sturdy_options_init(&r->opts);
+    const char *bad = read_settings(r, doc);
+    if (!bad)
+        bad = read_responses(r, doc);
+    jv_free(doc);
+    if (bad) {
+        sturdy_result_free(r);
+        return sturdy_fail(err, STURDY_EDATA, "%s: its '%s' section is missing, incomplete or "
+                                              "malformed (or memory ran out)", name, bad);
+    }
+    r->perm_end = r->perm_done = r->nperm;
+    r->boot_end = r->boot_done = r->nboot;
+    r->finished = 1;
+    r->read_back = 1;
+    *out = r;
+    return STURDY_OK;
+}
+
+/* --- parts -------------------------------------------------------------------------- */
+
+static sturdy_status part_fail(char *err, const char *name, const char *what)
+{
+    return sturdy_fail(err, STURDY_EDATA, "%s: %s", name, what);
+}
+
+/* [a, b] of non-negative integers with a ≤ b. */
+static int get_range(const jv *sh, const char *key, uint64_t *a, uint64_t *b)
+{
+    const jv *v = jv_get(sh, key);
+    int ok1 = 0, ok2 = 0;
+    if (!is_kind(v, JV_ARRAY) || v->n != 2)
+        return 0;
+    *a = jv_u64(&v->items[0], &ok1);
+    *b = jv_u64(&v->items[1], &ok2);
+    return ok1 && ok2 && *a <= *b;
+}
+
+/* The envelope: shard index and count, ranges, checksum, command and folder. */
+static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part *p,
+                                   uint64_t *pr, uint64_t *br, char *err)
+{
+    uint64_t version = 0;
+    const jv *sh = jv_get(doc, "shard"), *args = jv_get(sh, "args"), *cwd = jv_get(sh, "cwd");
+    const jv *sum = jv_get(doc, "data_checksum");
+    if (!get_u64(doc, "version", &version) || version != 1)
+        return part_fail(err, name, "not a sturdy result of version 1");
+    if (!sh)
+        return part_fail(err, name, "not a shard part (no 'shard' section); parts are written "
+                                    "by a run split into shards");
+    if (!get_u64(sh, "index", &p->index) || !get_u64(sh, "count", &p->count) ||
+        p->index < 1 || p->index > p->count)
+        return part_fail(err, name, "the shard section has no valid index/count");
+    if (!get_range(sh, "perm_range", &pr[0], &pr[1]) ||
+        !get_range(sh, "boot_range", &br[0], &br[1]))
+        return part_fail(err, name, "the shard section has no valid ranges");
+    char *end = NULL;
+    errno = 0;
+    if (!is_kind(sum, JV_STRING) || strlen(sum->text) != 16 ||
+        (p->data_checksum = strtoull(sum->text, &end, 16), errno) || *end)
+        return part_fail(err, name, "its data_checksum is not 16 hexadecimal digits");
+    if (!is_kind(args, JV_ARRAY) || args->n < 1 || (cwd && !is_kind(cwd, JV_STRING) &&
+                                                    !is_kind(cwd, JV_NULL)))
+        return part_fail(err, name, "the shard section does not record its command");
+    if (!(p->args = sturdy_calloc(args->n + 1, sizeof *p->args)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < args->n; i++, p->nargs++)
+        if (!is_kind(&args->items[i], JV_STRING))
+            return part_fail(err, name, "the recorded command is malformed");
+        else if (!(p->args[i] = sturdy_strdup(args->items[i].text)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (is_kind(cwd, JV_STRING) && !(p->cwd = sturdy_strdup(cwd->text)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    return STURDY_OK;
+}
+
+/* One term's raw section into counts[j] (of k per kind) and its replicate rows. */
+static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, size_t j,
+                              char *err)
+{
+    static const char *const keys[4] = { "exceed", "exceed_fwer", "uv_exceed_wild",
+                                         "uv_exceed_perm" };
+    size_t k = p->s.nresp * p->s.nterms;
+    uint64_t np = p->s.perm_end - p->s.perm_begin, nb = p->s.boot_end - p->s.boot_begin;
+    char msg[160];
+    if (!is_kind(raw, JV_OBJECT))
+        return part_fail(err, name, "a term has no 'raw' section");
+    for (int q = 0; q < 4; q++) {
+        uint64_t v = 0;
+        if (!get_u64(raw, keys[q], &v) || v > np) {
+            snprintf(msg, sizeof msg, "a term's raw '%s' is missing, not a count, or more than "
+                                      "the part's %" PRIu64 " rearrangements", keys[q], np);
+            return part_fail(err, name, msg);
+        }
+        p->counts[(size_t)q * k + j] = v;
+    }
+    const jv *b = jv_get(raw, "boot");
+    if (is_kind(b, JV_NULL))
+        return STURDY_OK;
+    if (!is_kind(b, JV_ARRAY) || b->n != nb)
+        return part_fail(err, name, "a term's replicates do not match its range");
+    double *dst = p->boot + j * (size_t)nb * STURDY_NES;
+    for (size_t q = 0; q < nb; q++) {
+        const jv *row = &b->items[q];
+        if (!is_kind(row, JV_ARRAY) || row->n != STURDY_NES)
+            return part_fail(err, name, "a replicate row does not hold 5 effect sizes");
+        for (size_t e = 0; e < STURDY_NES; e++) {
+            if (row->items[e].kind != JV_NUMBER && row->items[e].kind != JV_NULL)
+                return part_fail(err, name, "a replicate value is neither a number nor null");
+            dst[q * STURDY_NES + e] = jv_double(&row->items[e]);
+        }
+    }
+    return STURDY_OK;
+}
+
+sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t len,
+                                    sturdy_part **out, char *err)
+{
+    *out = NULL;
+    jv *doc = parse(name, text, len, err);
+    if (!doc)
+        return STURDY_EDATA;
+    sturdy_part env;
+    memset(&env, 0, sizeof env);
+    uint64_t pr[2] = {0, 0}, br[2] = {0, 0};
+    sturdy_status st = read_envelope(name, doc, &env, pr, br, err);
+    const jv *resps = jv_get(doc, "responses");
+    size_t nresp = is_kind(resps, JV_ARRAY) ? resps->n : 0;
+    const jv *t0 = nresp ? jv_get(&resps->items[0], "terms") : NULL;
+    size_t nt = is_kind(t0, JV_ARRAY) ? t0->n : 0;
+    if (!st && (!nresp || !nt))
+        st = part_fail(err, name, "it holds no responses or no terms");
+    sturdy_part *p = NULL;
+    if (!st && !(st = sturdy_part_alloc(nresp, nt, br[1] - br[0], &p, err))) {
+        /* the envelope's owned pieces move into the part */
+        p->index = env.index; p->count = env.count; p->data_checksum = env.data_checksum;
+        p->args = env.args; p->nargs = env.nargs; p->cwd = env.cwd;
+        memset(&env, 0, sizeof env);
+        p->s.perm_begin = pr[0]; p->s.perm_end = pr[1];
+        p->s.boot_begin = br[0]; p->s.boot_end = br[1];
+        for (size_t ri = 0; ri < nresp && !st; ri++) {
+            const jv *terms = jv_get(&resps->items[ri], "terms");
+            if (!is_kind(terms, JV_ARRAY) || terms->n != nt)
+                st = part_fail(err, name, "its responses have different terms");
+            for (size_t t = 0; t < nt && !st; t++)
+                st = read_raw(name, jv_get(&terms->items[t], "raw"), p, ri * nt + t, err);
+        }
+    }
+    for (size_t i = 0; i < env.nargs; i++)
+        free(env.args[i]);
+    free(env.args);
+    free(env.cwd);
+    if (st) {
+        sturdy_part_free(p);
+        jv_free(doc);
+        return st;
+    }
+    p->doc = doc;
+    *out = p;
+    return STURDY_OK;
+}
+
+void sturdy_part_origin_get(const sturdy_part *p, sturdy_part_origin *out)
+{
+    memset(out, 0, sizeof *out);
+    if (!p)
+        return;
+    out->index = p->index;
+    out->count = p->count;
+    out->data_checksum = p->data_checksum;
+    out->nargs = p->nargs;
+    out->args = (const char *const *)p->args;
+    out->cwd = p->cwd;
+}
+
+static int jv_equal(const jv *a, const jv *b)
+{
+    if (!a || !b)
+        return a == b;
+    if (a->kind != b->kind || a->n != b->n)
+        return 0;
+    if ((a->kind == JV_NUMBER || a->kind == JV_STRING) && strcmp(a->text, b->text) != 0)
+        return 0;
+    for (size_t i = 0; i < a->n; i++) {
+        if (a->kind == JV_OBJECT && strcmp(a->keys[i], b->keys[i]) != 0)
+            return 0;
+        if (!jv_equal(&a->items[i], &b->items[i]))
+            return 0;
+    }
+    return 1;
+}
+
+sturdy_status sturdy_part_compatible(const sturdy_part *a, const sturdy_part *b, char *err)
+{
+    const jv *da = a->doc, *db = b->doc;
+    const jv *sa = jv_get(da, "settings"), *sb = jv_get(db, "settings");
+    if (a->data_checksum != b->data_checksum)
+        return sturdy_fail(err, STURDY_EUSAGE, "it was computed on different data (checksum "
+                                               "%016" PRIx64 ", not %016" PRIx64 ")",
+                           b->data_checksum, a->data_checksum);
+    const jv *seed_a = jv_get(sa, "seed"), *seed_b = jv_get(sb, "seed");
+    if (!jv_equal(seed_a, seed_b))
+        return sturdy_fail(err, STURDY_EUSAGE, "seed %s, not %s",
+                           seed_b && seed_b->text ? seed_b->text : "?",
+                           seed_a && seed_a->text ? seed_a->text : "?");
+    if (!jv_equal(sa, sb) || !jv_equal(jv_get(da, "design"), jv_get(db, "design")))
+        return sturdy_fail(err, STURDY_EUSAGE, "different settings or model");
+    if (a->count != b->count)
+        return sturdy_fail(err, STURDY_EUSAGE, "split into %" PRIu64 " parts, not %" PRIu64,
+                           b->count, a->count);
+    return STURDY_OK;
+}
