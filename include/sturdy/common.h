@@ -10,7 +10,7 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#define STURDY_VERSION "0.1.0"
+#define STURDY_VERSION "0.2.0"
 #define STURDY_ERR_LEN 512
 
 typedef enum {
