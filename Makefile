@@ -131,10 +131,10 @@ sanitize: deps-test
 	STURDY_BIN=./build-san/sturdy STURDY_BUILD=build-san STURDY_QUICK=1 \
 	  ASAN_OPTIONS=detect_leaks=1 bash tests/run.sh
 
-# Installs what the build folder holds (make builds nothing new with other flags here):
-# the program, both libraries, the headers, sturdy.pc (written from sturdy.pc.in with
-# these folders; one under PREFIX is written as ${prefix}/..., so that pkg-config's
-# --define-variable=prefix= moves them all) and the manual page.
+# Installs from the build folder (building only what it lacks): the program, both
+# libraries, the headers, sturdy.pc (written from sturdy.pc.in with these folders; one
+# under PREFIX is written as ${prefix}/..., so that pkg-config's --define-variable=prefix=
+# moves them all) and the manual page.
 pc_dir = $(patsubst $(PREFIX)/%,$${prefix}/%,$(patsubst $(PREFIX),$${prefix},$(1)))
 
 install: $(PROG) $(BUILD)/libsturdy.a $(SHLIB) sturdy.pc.in docs/sturdy.1
@@ -148,7 +148,8 @@ install: $(PROG) $(BUILD)/libsturdy.a $(SHLIB) sturdy.pc.in docs/sturdy.1
 	install -m 644 include/sturdy/*.h $(DESTDIR)$(INCLUDEDIR)/sturdy/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@LIBDIR@|$(call pc_dir,$(LIBDIR))|g' \
 	    -e 's|@INCLUDEDIR@|$(call pc_dir,$(INCLUDEDIR))|g' -e 's|@VERSION@|$(VERSION)|g' \
-	    -e 's|@LIBS_PRIVATE@|$(LDLIBS) $(OMP)|g' sturdy.pc.in > $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc
+	    -e 's|@LIBS_PRIVATE@|$(LDLIBS) $(OMP)|g' sturdy.pc.in \
+	    > $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc
 	chmod 644 $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc
 	install -m 644 docs/sturdy.1 $(DESTDIR)$(MANDIR)/man1/sturdy.1
 
@@ -156,7 +157,8 @@ uninstall:
 	rm -f $(DESTDIR)$(BINDIR)/sturdy $(DESTDIR)$(LIBDIR)/libsturdy.a \
 	  $(DESTDIR)$(LIBDIR)/$(notdir $(SHLIB)) $(DESTDIR)$(LIBDIR)/$(SONAME) \
 	  $(DESTDIR)$(LIBDIR)/libsturdy.so $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc \
-	  $(DESTDIR)$(MANDIR)/man1/sturdy.1 $(addprefix $(DESTDIR)$(INCLUDEDIR)/,$(patsubst include/%,%,$(wildcard include/sturdy/*.h)))
+	  $(DESTDIR)$(MANDIR)/man1/sturdy.1 \
+	  $(addprefix $(DESTDIR)$(INCLUDEDIR)/,$(patsubst include/%,%,$(wildcard include/sturdy/*.h)))
 	-rmdir $(DESTDIR)$(INCLUDEDIR)/sturdy
 
 # The unequal-variance calibration table with 2000 datasets per design (about 15 minutes
