@@ -8,6 +8,10 @@ CPPFLAGS += -Iinclude -Isrc
 LDLIBS  := -lcsv -llapacke -lopenblas -lgsl -lm
 OMP     := -fopenmp
 PREFIX  ?= /usr/local
+BINDIR  ?= $(PREFIX)/bin
+LIBDIR  ?= $(PREFIX)/lib
+INCLUDEDIR ?= $(PREFIX)/include
+MANDIR  ?= $(PREFIX)/share/man
 PYTHON3 ?= /usr/bin/python3
 ifeq ($(MPI),1)
 BUILD   ?= build-mpi
@@ -16,6 +20,15 @@ BUILD   ?= build
 endif
 # the program is linked in the build folder and copied to ./sturdy by `make`
 PROG    := $(BUILD)/sturdy
+# The shared library's version is the program's (STURDY_VERSION in common.h), so the two
+# cannot disagree; its soname carries the major version only.
+VERSION := $(shell sed -n 's/^\#define STURDY_VERSION "\(.*\)"/\1/p' include/sturdy/common.h)
+SOMAJOR := $(firstword $(subst ., ,$(VERSION)))
+SONAME  := libsturdy.so.$(SOMAJOR)
+SHLIB   := $(BUILD)/libsturdy.so.$(VERSION)
+# Exported symbols: the functions and data declared in include/sturdy/*.h, listed in the
+# version script (tests/xcheck_install.sh checks that the list and the headers agree).
+LIBMAP  := src/libsturdy.map
 
 ifeq ($(MPI),1)
 CC      := mpicc
@@ -28,6 +41,8 @@ LIB_SRC := $(foreach s,$(STAGES),$(wildcard src/$(s)/*.c))
 LIB_HDR := $(foreach s,$(STAGES),$(wildcard src/$(s)/*.h))
 CLI_SRC := $(wildcard src/cli/*.c)
 LIB_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/lib/%.o)
+# the same sources compiled position-independent for the shared library
+PIC_OBJ := $(LIB_SRC:src/%.c=$(BUILD)/pic/%.o)
 CLI_OBJ := $(CLI_SRC:src/cli/%.c=$(BUILD)/cli/%.o)
 TEST_SRC := $(wildcard tests/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
@@ -38,12 +53,13 @@ TEST_BIN += $(PROBE_SRC:tests/%.c=$(BUILD)/tests/%)
 # Debian packages: what the program needs to build and run, and the test oracles.
 RUNTIME_PKGS := libcsv-dev liblapacke-dev libopenblas-dev libgsl-dev
 ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libpcg-cpp-dev \
-                libopenmpi-dev openmpi-bin valgrind g++
+                libopenmpi-dev openmpi-bin valgrind g++ mandoc man-db pkg-config
 MPI_PKGS     := libopenmpi-dev openmpi-bin
 
-.PHONY: all sturdy deps deps-test demo check test-bins sanitize install clean bench calibration
+.PHONY: all sturdy shared deps deps-test demo check test-bins sanitize install uninstall clean \
+        bench calibration
 
-all: sturdy
+all: sturdy shared
 
 sturdy: $(PROG)
 	@cmp -s $(PROG) sturdy || { cp $(PROG) sturdy.tmp && mv -f sturdy.tmp sturdy; }
@@ -56,9 +72,23 @@ $(BUILD)/libsturdy.a: $(LIB_OBJ)
 	@rm -f $@
 	ar rcs $@ $^
 
+# libsturdy.so.X.Y.Z with soname libsturdy.so.X, and the two links to it in the build
+# folder; --no-undefined makes sure every library it needs is named here.
+shared: $(SHLIB)
+
+$(SHLIB): $(PIC_OBJ) $(LIBMAP)
+	$(CC) $(CFLAGS) $(OMP) -shared -Wl,-soname,$(SONAME) -Wl,--version-script=$(LIBMAP) \
+	  -Wl,--no-undefined -o $@ $(PIC_OBJ) $(LDLIBS)
+	ln -sf $(notdir $@) $(BUILD)/$(SONAME)
+	ln -sf $(SONAME) $(BUILD)/libsturdy.so
+
 $(BUILD)/lib/%.o: src/%.c $(wildcard include/sturdy/*.h) $(LIB_HDR)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(WARN) $(CFLAGS) $(OMP) -c -o $@ $<
+
+$(BUILD)/pic/%.o: src/%.c $(wildcard include/sturdy/*.h) $(LIB_HDR)
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(WARN) $(CFLAGS) $(OMP) -fPIC -c -o $@ $<
 
 # The CLI sees the public headers only (no -Isrc): the build enforces the API boundary.
 $(BUILD)/cli/%.o: src/cli/%.c $(wildcard include/sturdy/*.h src/cli/*.h)
@@ -94,22 +124,46 @@ demo: deps
 test-bins: $(TEST_BIN)
 
 check: deps-test
-	$(MAKE) sturdy test-bins
+	$(MAKE) sturdy shared test-bins
 	bash tests/run.sh
 
 # ASan + UBSan build of everything, then the same test suite.
 sanitize: deps-test
 	$(MAKE) BUILD=build-san \
 	  OPT="-O1 -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=all" \
-	  build-san/sturdy test-bins
+	  build-san/sturdy shared test-bins
 	STURDY_BIN=./build-san/sturdy STURDY_BUILD=build-san STURDY_QUICK=1 \
 	  ASAN_OPTIONS=detect_leaks=1 bash tests/run.sh
 
-install: sturdy
-	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/sturdy
-	install -m 755 sturdy $(DESTDIR)$(PREFIX)/bin/sturdy
-	install -m 644 $(BUILD)/libsturdy.a $(DESTDIR)$(PREFIX)/lib/
-	install -m 644 include/sturdy/*.h $(DESTDIR)$(PREFIX)/include/sturdy/
+# Installs from the build folder (building only what it lacks): the program, both
+# libraries, the headers, sturdy.pc (written from sturdy.pc.in with these folders; one
+# under PREFIX is written as ${prefix}/..., so that pkg-config's --define-variable=prefix=
+# moves them all) and the manual page.
+pc_dir = $(patsubst $(PREFIX)/%,$${prefix}/%,$(patsubst $(PREFIX),$${prefix},$(1)))
+
+install: $(PROG) $(BUILD)/libsturdy.a $(SHLIB) sturdy.pc.in docs/sturdy.1
+	install -d $(DESTDIR)$(BINDIR) $(DESTDIR)$(LIBDIR)/pkgconfig \
+	  $(DESTDIR)$(INCLUDEDIR)/sturdy $(DESTDIR)$(MANDIR)/man1
+	install -m 755 $(PROG) $(DESTDIR)$(BINDIR)/sturdy
+	install -m 644 $(BUILD)/libsturdy.a $(DESTDIR)$(LIBDIR)/
+	install -m 755 $(SHLIB) $(DESTDIR)$(LIBDIR)/
+	ln -sf $(notdir $(SHLIB)) $(DESTDIR)$(LIBDIR)/$(SONAME)
+	ln -sf $(SONAME) $(DESTDIR)$(LIBDIR)/libsturdy.so
+	install -m 644 include/sturdy/*.h $(DESTDIR)$(INCLUDEDIR)/sturdy/
+	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@LIBDIR@|$(call pc_dir,$(LIBDIR))|g' \
+	    -e 's|@INCLUDEDIR@|$(call pc_dir,$(INCLUDEDIR))|g' -e 's|@VERSION@|$(VERSION)|g' \
+	    -e 's|@LIBS_PRIVATE@|$(LDLIBS) $(OMP)|g' sturdy.pc.in \
+	    > $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc
+	chmod 644 $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc
+	install -m 644 docs/sturdy.1 $(DESTDIR)$(MANDIR)/man1/sturdy.1
+
+uninstall:
+	rm -f $(DESTDIR)$(BINDIR)/sturdy $(DESTDIR)$(LIBDIR)/libsturdy.a \
+	  $(DESTDIR)$(LIBDIR)/$(notdir $(SHLIB)) $(DESTDIR)$(LIBDIR)/$(SONAME) \
+	  $(DESTDIR)$(LIBDIR)/libsturdy.so $(DESTDIR)$(LIBDIR)/pkgconfig/sturdy.pc \
+	  $(DESTDIR)$(MANDIR)/man1/sturdy.1 \
+	  $(addprefix $(DESTDIR)$(INCLUDEDIR)/,$(patsubst include/%,%,$(wildcard include/sturdy/*.h)))
+	-rmdir $(DESTDIR)$(INCLUDEDIR)/sturdy
 
 # The unequal-variance calibration table with 2000 datasets per design (about 15 minutes
 # on 2 cores); `make check` runs it with 400 (table) and 1000 (asserted test).

@@ -10,8 +10,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#define STURDY_VERSION "0.1.0"
-#define STURDY_VERSION_NUMBER 100   /* major·10000 + minor·100 + patch */
+#define STURDY_VERSION "0.2.0"
+#define STURDY_VERSION_NUMBER 200   /* major·10000 + minor·100 + patch */
 #define STURDY_ERR_LEN 512
 
 typedef enum {
