@@ -17,19 +17,32 @@
 
 #include <sturdy/sturdy.h>
 
+/* BLAS threads are the application's to set (sturdy.h). A program linked with OpenBLAS
+ * would call openblas_set_num_threads(1) here, since the library runs LAPACK inside its
+ * own threads; this example links libsturdy alone, so it leaves BLAS as it finds it
+ * (set OPENBLAS_NUM_THREADS=1 in the environment for the same effect). */
+
 #define MAX_FACTORS STURDY_MAX_FACTORS
 
-/* Every read of the result is here: one line per response and term. */
+/* Every read of the result is here: one line per response and term, through the
+ * accessors (the result is opaque). */
 static void print_terms(const sturdy_result *r, FILE *f)
 {
-    for (size_t i = 0; i < r->nresp; i++) {
-        const sturdy_response_result *resp = &r->resp[i];
-        fprintf(f, "response %s\n", resp->name);
-        for (size_t j = 0; j < resp->nterms; j++) {
-            const sturdy_term_result *t = &resp->terms[j];
-            /* NaN marks a value that could not be computed; t->note says why */
-            fprintf(f, "term %s\tF %.17g\tp %.17g\tp_resampled %.17g\n", t->label, t->f,
-                    t->p, t->p_perm);
+    for (size_t i = 0; i < sturdy_result_nresponses(r); i++) {
+        fprintf(f, "response %s\n", sturdy_result_response(r, i));
+        for (size_t j = 0; j < sturdy_result_nterms(r); j++) {
+            /* NaN marks a value that could not be computed; the note says why */
+            fprintf(f, "term %s\tF %.17g\tp %.17g\tp_resampled %.17g\n",
+                    sturdy_result_term(r, j), sturdy_term_get(r, i, j, STURDY_TV_F),
+                    sturdy_term_get(r, i, j, STURDY_TV_P),
+                    sturdy_term_get(r, i, j, STURDY_TV_P_PERM));
+            double lo, hi;
+            if (sturdy_term_interval(r, i, j, STURDY_ES_PARTIAL_ETA2, STURDY_CI_BCA, &lo, &hi))
+                fprintf(f, "     partial eta2 %.17g\tBCa [%.17g, %.17g]\n",
+                        sturdy_term_effect(r, i, j, STURDY_ES_PARTIAL_ETA2), lo, hi);
+            else if (sturdy_term_note(r, i, j, STURDY_NOTE_BOOTSTRAP))
+                fprintf(f, "     no interval: %s\n",
+                        sturdy_term_note(r, i, j, STURDY_NOTE_BOOTSTRAP));
         }
     }
 }
@@ -75,6 +88,7 @@ int main(int argc, char **argv)
         return STURDY_EUSAGE;
     }
 
+    printf("libsturdy %s (built against %s)\n", sturdy_version(), STURDY_VERSION);
     char err[STURDY_ERR_LEN];
     sturdy_table *table = NULL;
     sturdy_result *result = NULL;
@@ -94,7 +108,11 @@ int main(int argc, char **argv)
         o.bootstrap = 200;
         o.seed = 12345;
         st = sturdy_options_validate(&o, err);
-        if (st == STURDY_OK) st = sturdy_analyze(table, &o, &result, err);
+        /* how the run uses the machine: two threads, no progress, no cancellation */
+        sturdy_context ctx;
+        sturdy_context_init(&ctx);
+        ctx.threads = 2;
+        if (st == STURDY_OK) st = sturdy_analyze(table, &o, &ctx, &result, err);
     }
     if (st == STURDY_OK) {
         print_terms(result, stdout);

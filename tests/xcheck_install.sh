@@ -170,6 +170,12 @@ LD_LIBRARY_PATH="$D/lib" "$T/embed" "${ARGS[@]}" "$T/embed.json" >"$T/embed.txt"
 rc=$?; [ "$rc" = 0 ] && [ ! -s "$T/err" ] && ok "the example runs (exit 0, nothing on stderr)" ||
     bad "the example: exit $rc, $(head -c 300 "$T/err")"
 check "its JSON report is the CLI's, byte for byte" cmp "$T/cli.json" "$T/embed.json"
+[ "$(head -n 1 "$T/embed.txt")" = "libsturdy $V (built against $V)" ] &&
+    ok "the run-time version is the headers' ($V)" ||
+    bad "version line: $(head -n 1 "$T/embed.txt"), want $V"
+grep -q "partial eta2 .*BCa \[" "$T/embed.txt" &&
+    ok "the example reads effect sizes and intervals through the accessors" ||
+    bad "no interval line in the example's output"
 "$T/embed_static" "${ARGS[@]}" "$T/static.json" >"$T/static.txt" 2>"$T/err"
 rc=$?; [ "$rc" = 0 ] && ok "the static example runs" || bad "the static example: exit $rc, $(head -c 300 "$T/err")"
 check "the static example prints the same" cmp "$T/embed.txt" "$T/static.txt"
