@@ -371,8 +371,9 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
     if (!is_kind(sum, JV_STRING) || strlen(sum->text) != 16 ||
         (p->data_checksum = strtoull(sum->text, &end, 16), errno) || *end)
         return part_fail(err, name, "its data_checksum is not 16 hexadecimal digits");
-    if (!is_kind(args, JV_ARRAY) || args->n < 1 || (cwd && !is_kind(cwd, JV_STRING) &&
-                                                    !is_kind(cwd, JV_NULL)))
+    /* the command may be empty (a part written by an embedding program) */
+    if (!is_kind(args, JV_ARRAY) || (cwd && !is_kind(cwd, JV_STRING) &&
+                                     !is_kind(cwd, JV_NULL)))
         return part_fail(err, name, "the shard section does not record its command");
     if (!(p->args = sturdy_calloc(args->n + 1, sizeof *p->args)))
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
