@@ -149,7 +149,7 @@ sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model 
     for (size_t g = 0; g < K; g++) {
         double n = (double)d->group_count[g], h = m->leverage[g];
         c->ng[g] = n;
-        if (!(1.0 - h > UV_LEVERAGE_TOL)) {
+        if (!(1.0 - h > STURDY_LEVERAGE_ONE_TOL)) {
             if (!*why)
                 *why = hc3 ? "a row is fitted exactly (leverage 1), so its variance cannot "
                              "be estimated"

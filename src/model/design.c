@@ -349,12 +349,8 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             return st;
         }
         /* centre (two passes) so the coded columns are well conditioned */
-        double mean = 0.0;
-        for (size_t i = 0; i < n; i++) mean += x[i];
-        mean /= (double)n;
-        double corr = 0.0;
-        for (size_t i = 0; i < n; i++) corr += x[i] - mean;
-        mean += corr / (double)n;
+        double mean;
+        sturdy_centred_ss(x, n, &mean);
         int constant = 1;
         for (size_t i = 0; i < n; i++) {
             x[i] -= mean;
