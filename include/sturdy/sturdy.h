@@ -11,6 +11,7 @@
 #include "diagnose.h"
 #include "pcg.h"
 #include "analysis.h"
+#include "names.h"
 #include "report.h"
 
 #endif

@@ -345,16 +345,6 @@ done:
     return st;
 }
 
-const char *sturdy_spread_scheme_name(sturdy_spread_scheme s)
-{
-    switch (s) {
-    case STURDY_SPREAD_WILD: return "wild-bootstrap";
-    case STURDY_SPREAD_PERMUTATION: return "permutation";
-    case STURDY_SPREAD_NONE: break;
-    }
-    return "none";
-}
-
 sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, char *err)
 {
     sturdy_uv_result *u = &t->uv;

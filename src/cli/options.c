@@ -380,26 +380,20 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
     case 'B': return want_u64(c, "--permutations", arg, 0, &o->permutations);
     case OPT_BOOTSTRAP: return want_u64(c, "--bootstrap", arg, 0, &o->bootstrap);
     case OPT_METHOD:
-        if (!strcmp(arg, "freedman-lane")) o->method = STURDY_METHOD_FREEDMAN_LANE;
-        else if (!strcmp(arg, "ter-braak")) o->method = STURDY_METHOD_TER_BRAAK;
-        else if (!strcmp(arg, "raw")) o->method = STURDY_METHOD_RAW;
-        else return cli_usage_error(c->command, "--method wants freedman-lane, ter-braak or "
-                                    "raw, not '%s'", arg);
+        if (!sturdy_method_parse(arg, &o->method))
+            return cli_usage_error(c->command, "--method wants freedman-lane, ter-braak or "
+                                   "raw, not '%s'", arg);
         return 0;
     case OPT_FLIP: o->flip = 1; return 0;
     case OPT_SCHEME:
-        if (!strcmp(arg, "residual")) o->boot_scheme = STURDY_BOOT_RESIDUAL;
-        else if (!strcmp(arg, "wild")) o->boot_scheme = STURDY_BOOT_WILD;
-        else if (!strcmp(arg, "cells")) o->boot_scheme = STURDY_BOOT_CELLS;
-        else return cli_usage_error(c->command, "--bootstrap-scheme wants residual, wild or "
-                                    "cells, not '%s'", arg);
+        if (!sturdy_boot_scheme_parse(arg, &o->boot_scheme))
+            return cli_usage_error(c->command, "--bootstrap-scheme wants residual, wild or "
+                                   "cells, not '%s'", arg);
         return 0;
     case OPT_SPREAD:
-        if (!strcmp(arg, "none")) o->spread_scheme = STURDY_SPREAD_NONE;
-        else if (!strcmp(arg, "wild")) o->spread_scheme = STURDY_SPREAD_WILD;
-        else if (!strcmp(arg, "permutation")) o->spread_scheme = STURDY_SPREAD_PERMUTATION;
-        else return cli_usage_error(c->command, "--spread-scheme wants none, wild or permutation, "
-                                    "not '%s'", arg);
+        if (!sturdy_spread_scheme_parse(arg, &o->spread_scheme))
+            return cli_usage_error(c->command, "--spread-scheme wants none, wild or "
+                                   "permutation, not '%s'", arg);
         return 0;
     case OPT_CONF: return want_level(c, "--conf", arg, "0.95", &o->conf);
     case OPT_ALPHA: return want_level(c, "--alpha", arg, "0.05", &o->alpha);

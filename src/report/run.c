@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "report/text.h"
+#include "sturdy/names.h"
 
 /* A factor that reads like a replicate or run number, or NULL. */
 static const char *replicate_like(const sturdy_design *d)
@@ -98,9 +99,6 @@ void tw_run_section(tw *w)
                           "(--order %d)", r->opts.model.order, r->opts.model.order);
     tw_labelled(w, "model", s.data);
     s.len = 0;
-    static const char *const method_words[] = {
-        "Freedman–Lane (Freedman & Lane 1983)", "ter Braak (1992)", "raw-data"
-    };
     int no_df = 0;
     for (size_t i = 0; i < r->nresp; i++) no_df |= r->resp[i].df_error == 0;
     if (r->nperm == 0) {
@@ -110,8 +108,7 @@ void tw_run_section(tw *w)
                           "rearrange (%llu rearrangements were asked for)",
                           (unsigned long long)r->nperm);
     } else {
-        sturdy_buf_printf(&s, "%s %s, %llu %s", (unsigned)r->method <= 2 ? method_words[r->method]
-                                                                     : "?",
+        sturdy_buf_printf(&s, "%s %s, %llu %s", sturdy_method_description(r->method),
                           r->opts.flip ? "sign-flipping" : "permutation",
                           (unsigned long long)r->nperm,
                           r->exact ? "rearrangements, all there are (exact)"
@@ -140,8 +137,6 @@ void tw_run_section(tw *w)
                               : "Davidson & Flachaire 2008");
     tw_labelled(w, "unequal var", s.data);
     s.len = 0;
-    static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
-                                                "wild (Wu 1986)", "cells" };
     if (r->nboot == 0 && r->opts.bootstrap == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
     else if (r->nboot == 0)
         sturdy_buf_printf(&s, "none: with no residual degrees of freedom there are no "
@@ -150,7 +145,7 @@ void tw_run_section(tw *w)
     else
         sturdy_buf_printf(&s, "%llu replicates, %s scheme; %s%% intervals",
                           (unsigned long long)r->nboot,
-                          (unsigned)r->boot_scheme <= 2 ? scheme_words[r->boot_scheme] : "?",
+                          sturdy_boot_scheme_description(r->boot_scheme),
                           c);
     char a[32];
     tw_fmt_g(r->opts.alpha, 3, a);
