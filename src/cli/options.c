@@ -344,8 +344,8 @@ static int demo_forbids(int opt)
 
 /* One option; returns 0 or an exit status. This stays one switch, one case per option
  * of cli_check_options, although it runs past 80 lines: each case is a line or two, and
- * the switch reads as the table from option to setting that it is (the compiler checks
- * it; helpers per case would scatter that table). */
+ * the switch reads as the table from option to setting that it is; helpers per case
+ * would scatter that table. */
 static int apply_option(cli_check *c, int opt, const char *arg, const char *spelled)
 {
     sturdy_options *o = &c->opts;
