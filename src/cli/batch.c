@@ -464,7 +464,9 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
 {
     oc->exit_code = rc;
     if (rc) {
-        oc->message = plan_message(msg, data_path, data);
+        char *hinted = cli_option_hints(msg);
+        oc->message = plan_message(hinted ? hinted : msg, data_path, data);
+        free(hinted);
         tot->failed++;
         if (b->lead)
             fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,

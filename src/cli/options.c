@@ -137,11 +137,20 @@ static const char demo_help[] =
 int cli_usage_error(const char *command, const char *fmt, ...)
 {
     va_list ap;
-    fputs("sturdy: ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    int n = vsnprintf(NULL, 0, fmt, ap);
     va_end(ap);
-    fprintf(stderr, "\ntry 'sturdy %s --help'\n", command ? command : "");
+    char *msg = n >= 0 ? malloc((size_t)n + 1) : NULL, *hinted = NULL;
+    if (msg) {
+        va_start(ap, fmt);
+        vsnprintf(msg, (size_t)n + 1, fmt, ap);
+        va_end(ap);
+        hinted = cli_option_hints(msg);
+    }
+    fprintf(stderr, "sturdy: %s\ntry 'sturdy %s --help'\n",
+            hinted ? hinted : msg ? msg : "out of memory", command ? command : "");
+    free(hinted);
+    free(msg);
     return CLI_EXIT_USAGE;
 }
 

@@ -64,12 +64,12 @@ sturdy_status sturdy_levels_check_orders(const sturdy_model_spec *s, char *err)
             found = !strcmp(s->factors[f], name ? name : "");
         if (!found)
             return sturdy_fail(err, STURDY_EUSAGE,
-                               "--levels names '%s', which is not a factor (-f) or the block "
-                               "of the model", name ? name : "");
+                               "an order of levels is given for '%s', which is not a "
+                               "factor or the block of the model", name ? name : "");
         for (size_t j = 0; j < k; j++)
             if (!strcmp(s->level_orders[j].factor, name))
                 return sturdy_fail(err, STURDY_EUSAGE,
-                                   "--levels gives the order of '%s' twice", name);
+                                   "an order of levels is given for '%s' twice", name);
     }
     return STURDY_OK;
 }
@@ -249,8 +249,8 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
         if (g == (size_t)-1) { unknown[nunknown++] = lo->levels[k]; continue; }
         if (pos[g] != (size_t)-1) {
             free(unknown);
-            return sturdy_fail(err, STURDY_EUSAGE, "--levels for %s '%s' lists '%s' twice",
-                               role, lo->factor, lo->levels[k]);
+            return sturdy_fail(err, STURDY_EUSAGE, "the order of levels given for %s '%s' "
+                               "lists '%s' twice", role, lo->factor, lo->levels[k]);
         }
         pos[g] = k - nunknown;
     }
@@ -259,7 +259,8 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
             left[nleft++] = nat[j].text;
     if (nunknown || nleft) {
         sturdy_buf_init(&b);
-        sturdy_buf_printf(&b, "--levels for %s '%s': ", role, lo->factor);
+        sturdy_buf_printf(&b, "the order of levels given for %s '%s': ", role,
+                          lo->factor);
         if (nunknown) {
             name_list(&b, unknown, nunknown);
             sturdy_buf_printf(&b, " %s not a level of it in the rows used%s",

@@ -204,9 +204,9 @@ static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t
 static sturdy_status check_counts(const sturdy_model_spec *s, char *err)
 {
     if (s->nresponses == 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "no response column given (-y)");
+        return sturdy_fail(err, STURDY_EUSAGE, "no response column given");
     if (s->nfactors == 0 && s->ncovariates == 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "no factor given (-f)");
+        return sturdy_fail(err, STURDY_EUSAGE, "no factor given");
     if (s->nfactors > STURDY_MAX_FACTORS)
         return sturdy_fail(err, STURDY_EUSAGE, "%zu factors; at most %d are supported",
                            s->nfactors, STURDY_MAX_FACTORS);

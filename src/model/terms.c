@@ -207,11 +207,12 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
         while (j < nt && !names_term(d, &d->terms[j], names[i]))
             j++;
         if (j == nt)
-            st = sturdy_fail(err, STURDY_EUSAGE, "--term-order: the model has no term '%s' "
-                             "(name a term as its factors joined by '\xc3\x97', e.g. A\xc3\x97" "B, "
-                             "or a block or covariate by its name)", names[i]);
+            st = sturdy_fail(err, STURDY_EUSAGE, "the order of terms given: the model has no "
+                             "term '%s' (name a term as its factors joined by '\xc3\x97', "
+                             "e.g. A\xc3\x97" "B, or a block or covariate by its name)",
+                             names[i]);
         else if (taken[j])
-            st = sturdy_fail(err, STURDY_EUSAGE, "--term-order: '%s' is listed twice",
+            st = sturdy_fail(err, STURDY_EUSAGE, "the order of terms given lists '%s' twice",
                              names[i]);
         else {
             taken[j] = 1;
@@ -225,8 +226,9 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
     for (size_t a = 0; a < nt && !st; a++)
         for (size_t b = a + 1; b < nt && !st; b++)
             if (term_contains(&d->terms[pos[a]], &d->terms[pos[b]]))
-                st = sturdy_fail(err, STURDY_EUSAGE, "--term-order puts '%s' before '%s', "
-                                 "which it contains; list a term after the terms it contains",
+                st = sturdy_fail(err, STURDY_EUSAGE, "the order of terms given puts '%s' "
+                                 "before '%s', which it contains; list a term after the "
+                                 "terms it contains",
                                  d->terms[pos[a]].label, d->terms[pos[b]].label);
     if (!st) {
         for (size_t i = 0; i < nt; i++)
