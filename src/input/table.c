@@ -35,13 +35,11 @@ void sturdy_table_show(char *dst, const char *s)
     strcpy(dst + k, k < n ? "..." : "");
 }
 
-static int is_blank(char c) { return c == ' ' || c == '\t'; }
-
 void sturdy_table_trim_range(const char *s, size_t *a, size_t *b)
 {
     size_t i = 0, j = strlen(s);
-    while (i < j && is_blank(s[i])) i++;
-    while (j > i && is_blank(s[j - 1])) j--;
+    while (i < j && sturdy_table_is_blank(s[i])) i++;
+    while (j > i && sturdy_table_is_blank(s[j - 1])) j--;
     *a = i;
     *b = j;
 }
@@ -228,7 +226,9 @@ static void on_record(int c, void *data)
 static int has_content(const char *s, size_t n, char delim)
 {
     for (size_t i = 0; i < n; i++)
-        if (s[i] == delim || !(is_blank(s[i]) || s[i] == '\r' || s[i] == '\n')) return 1;
+        if (s[i] == delim ||
+            !(sturdy_table_is_blank(s[i]) || s[i] == '\r' || s[i] == '\n'))
+            return 1;
     return 0;
 }
 

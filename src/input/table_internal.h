@@ -14,6 +14,9 @@
  * control characters shown as '?', "..." where cut. `dst` holds SHOW_LEN bytes. */
 void sturdy_table_show(char *dst, const char *s);
 
+/* A blank around a field: a space or a tab. */
+static inline int sturdy_table_is_blank(char c) { return c == ' ' || c == '\t'; }
+
 /* Trimmed extent [*a, *b) of s (spaces and tabs). */
 void sturdy_table_trim_range(const char *s, size_t *a, size_t *b);
 

@@ -9,8 +9,6 @@
 
 #include "input/table_internal.h"
 
-static int is_blank(char c) { return c == ' ' || c == '\t'; }
-
 /* ---------------------------------------------------------------- numbers */
 
 /* 36 significant digits stay below 10^36 < 2^127 / 100, so a difference of two such
@@ -114,7 +112,7 @@ static const char *not_number_reason(const char *s, char *buf)
     if (end > s + a && (size_t)(end - s) < b) {
         /* a number, then text: "4.94 MPa", "12%" */
         const char *rest = end;
-        while (is_blank(*rest)) rest++;
+        while (sturdy_table_is_blank(*rest)) rest++;
         unsigned char c = (unsigned char)*rest;
         if ((c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || c == '%' || c >= 0x80) {
             sturdy_table_show(shown, rest);
