@@ -224,6 +224,18 @@ plan_error "missing column" $'name,data,response\nx,../data/tiny.csv,y\n' \
 plan_error "batch-wide option as a column" $'name,data,response,factors,threads\nx,../data/tiny.csv,y,g,2\n' \
     "column 5 ('threads'): 'threads' is an option of the whole batch"
 
+# --- a library message in the summary names the option (hints.c) -----------------
+cat > "$T/plans/hint.csv" <<'EOF'
+name,data,response,factors,levels,term-order
+lv,../data/tiny.csv,y,g,"h=a,b",
+to,../data/tiny.csv,y,g,,"g,g"
+EOF
+"$BIN" batch "$T/plans/hint.csv" -q -o "$T/hint" 2>/dev/null
+check "failed rows: the summary's messages name --levels and --term-order" \
+    "$(grep -c -e "^lv,failed,2,\"an order of levels is given (--levels) for 'h'" \
+                -e "^to,failed,2,the order of terms given (--term-order) lists 'g' twice" \
+                "$T/hint/summary.csv")" 2
+
 # --- usage ------------------------------------------------------------------------
 "$BIN" batch 2>/dev/null; check "no plan: usage error" "$?" 2
 "$BIN" batch "$T/plans/nightly.csv" --threads x 2>/dev/null; check "bad --threads: usage error" "$?" 2

@@ -241,11 +241,12 @@ if "$PY" -c "import json,sys; json.load(open(sys.argv[1]))" "$T/m.json"; then
 expect_rc "--term-order with an unknown term" 2 "$BIN" check $D/long_names.csv \
     -y pull_off_MPa -f cure_temperature_c,primer_type -B 0 --term-order primer_type×nope
 has "names the unknown term" "$T/err" "the model has no term 'primer_type×nope'"
+has "names the option" "$T/err" "the order of terms given (--term-order)"
 expect_rc "--term-order interaction before its main effect" 2 "$BIN" check \
     $D/long_names.csv -y pull_off_MPa -f cure_temperature_c,primer_type -B 0 \
     --term-order primer_type×cure_temperature_c,primer_type
 has "says which term contains which" "$T/err" \
-    "puts 'cure_temperature_c×primer_type' before 'primer_type'"
+    "(--term-order) puts 'cure_temperature_c×primer_type' before 'primer_type'"
 expect_rc "--term-order main effects reversed" 0 "$BIN" check $D/long_names.csv \
     -y pull_off_MPa -f cure_temperature_c,primer_type -B 0 --bootstrap 0 --ss 1 \
     --term-order primer_type --format csv

@@ -39,9 +39,6 @@ typedef enum {
                                         wild bootstrap is computed beside it */
 } sturdy_spread_scheme;
 
-/* "none", "wild-bootstrap" or "permutation" (the JSON names); never NULL. */
-const char *sturdy_spread_scheme_name(sturdy_spread_scheme s);
-
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
 typedef void (*sturdy_progress_fn)(void *arg, uint64_t done, uint64_t total);
 

@@ -40,6 +40,7 @@
 #include "spec.h"
 #include "table.h"
 #include "analysis.h"
+#include "names.h"
 #include "report.h"
 
 #endif

@@ -4,9 +4,9 @@
 
 #include <float.h>
 #include <math.h>
-#include <stdio.h>
 #include <stdlib.h>
 
+#include "core/core.h"
 #include "sturdy/dist.h"
 
 /* Shapiro–Wilk's polynomial approximations are calibrated for 3 ≤ n ≤ 5000 (Royston
@@ -18,11 +18,6 @@
  * (log(1 − W) ≥ γ(n)); we keep the published value. */
 #define SW_P_FLOOR 1e-19
 
-/* A leverage this close to 1 means the row is fitted exactly (alone in its cell): its
- * residual is zero up to rounding and cannot be studentized. QR leverages carry errors
- * of order n·1e-16, far below this margin. */
-#define LEVERAGE_ONE_TOL 1e-10
-
 /* Brown–Forsythe: the within-group sum of squares of the absolute deviations counts as
  * zero below n·(BF_NOISE·max|x|)², the size rounding alone gives it: each deviation
  * |x − median| carries an error of a few ulps of max|x| (groups of two rows have
@@ -30,17 +25,6 @@
 #define BF_NOISE (16.0 * DBL_EPSILON)
 
 #define PI 3.14159265358979323846264338327950288
-
-static void set_err(char *err, const char *msg)
-{
-    if (err) snprintf(err, STURDY_ERR_LEN, "%s", msg);
-}
-
-static int cmp_double(const void *pa, const void *pb)
-{
-    double a = *(const double *)pa, b = *(const double *)pb;
-    return (a > b) - (a < b);
-}
 
 /* ---------------- Shapiro–Wilk (Royston 1995, AS R94) ---------------- */
 
@@ -145,37 +129,29 @@ static double sw_pvalue(size_t n, double w, double w1)
 
 sturdy_status sturdy_shapiro_wilk(const double *x, size_t n, double *w, double *p, char *err)
 {
-    char msg[STURDY_ERR_LEN];
-    if (n < SW_N_MIN || n > SW_N_MAX) {
-        snprintf(msg, sizeof msg,
-                 "Shapiro-Wilk needs between %d and %d values (Royston 1995), got %zu",
-                 SW_N_MIN, SW_N_MAX, n);
-        set_err(err, msg);
-        return STURDY_EMODEL;
-    }
-    for (size_t i = 0; i < n; i++) {
-        if (!isfinite(x[i])) {
-            snprintf(msg, sizeof msg, "Shapiro-Wilk: value %zu is not finite", i + 1);
-            set_err(err, msg);
-            return STURDY_EDATA;
-        }
-    }
+    if (n < SW_N_MIN || n > SW_N_MAX)
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "Shapiro-Wilk needs between %d and %d values (Royston 1995), "
+                           "got %zu", SW_N_MIN, SW_N_MAX, n);
+    for (size_t i = 0; i < n; i++)
+        if (!isfinite(x[i]))
+            return sturdy_fail(err, STURDY_EDATA, "Shapiro-Wilk: value %zu is not finite",
+                               i + 1);
     double *y = malloc(n * sizeof *y), *a = malloc((n / 2 + 1) * sizeof *a);
     if (!y || !a) {
         free(y);
         free(a);
-        set_err(err, "Shapiro-Wilk: out of memory");
-        return STURDY_EINTERNAL;
+        return sturdy_fail(err, STURDY_EINTERNAL, "Shapiro-Wilk: out of memory");
     }
     for (size_t i = 0; i < n; i++) y[i] = x[i];
-    qsort(y, n, sizeof *y, cmp_double);
+    qsort(y, n, sizeof *y, sturdy_cmp_double);
     if (y[n - 1] == y[0] || !isfinite(y[n - 1] - y[0])) {
         int equal = y[n - 1] == y[0];
         free(y);
         free(a);
-        set_err(err, equal ? "Shapiro-Wilk: all values are equal"
-                           : "Shapiro-Wilk: the range of the values overflows a double");
-        return equal ? STURDY_EMODEL : STURDY_EDATA;
+        return equal ? sturdy_fail(err, STURDY_EMODEL, "Shapiro-Wilk: all values are equal")
+                     : sturdy_fail(err, STURDY_EDATA,
+                                   "Shapiro-Wilk: the range of the values overflows a double");
     }
     sw_coefficients(n, a);
     double w1 = sw_one_minus_w(y, n, a);
@@ -222,74 +198,69 @@ void sturdy_moments(const double *x, size_t n, double *skewness, double *excess_
 /* Median of v[0..m) (m ≥ 1), sorting v in place. */
 static double median_sorted_in_place(double *v, size_t m)
 {
-    qsort(v, m, sizeof *v, cmp_double);
+    qsort(v, m, sizeof *v, sturdy_cmp_double);
     return m % 2 ? v[m / 2] : (v[m / 2 - 1] + v[m / 2]) / 2.0;
 }
 
-/* Both forms; drop_zero removes, in each group of odd size, one row equal to the median
- * (its deviation is 0 by construction). */
-static sturdy_status bf_core(const double *x, const size_t *group, size_t n, size_t ngroups,
-                             int drop_zero, double *f, double *df1, double *df2, double *p,
-                             char *err)
+/* The arguments make sense: groups exist, every label is one of them, every value is
+ * finite. */
+static sturdy_status bf_check_input(const double *x, const size_t *group, size_t n,
+                                    size_t ngroups, char *err)
 {
-    char msg[STURDY_ERR_LEN];
-    if (ngroups == 0) {
-        set_err(err, "Brown-Forsythe: no groups");
-        return STURDY_EMODEL;
-    }
+    if (ngroups == 0)
+        return sturdy_fail(err, STURDY_EMODEL, "Brown-Forsythe: no groups");
     for (size_t i = 0; i < n; i++) {
-        if (group[i] >= ngroups) {
-            snprintf(msg, sizeof msg, "Brown-Forsythe: row %zu has group %zu of %zu", i + 1,
-                     group[i], ngroups);
-            set_err(err, msg);
-            return STURDY_EINTERNAL;
-        }
-        if (!isfinite(x[i])) {
-            snprintf(msg, sizeof msg, "Brown-Forsythe: value %zu is not finite", i + 1);
-            set_err(err, msg);
-            return STURDY_EDATA;
-        }
+        if (group[i] >= ngroups)
+            return sturdy_fail(err, STURDY_EINTERNAL,
+                               "Brown-Forsythe: row %zu has group %zu of %zu", i + 1,
+                               group[i], ngroups);
+        if (!isfinite(x[i]))
+            return sturdy_fail(err, STURDY_EDATA, "Brown-Forsythe: value %zu is not finite",
+                               i + 1);
     }
-    size_t *start = calloc(ngroups + 1, sizeof *start), *fill = NULL;
-    double *sorted = malloc((n ? n : 1) * sizeof *sorted);
-    double *med = malloc(ngroups * sizeof *med), *zsum = calloc(ngroups, sizeof *zsum);
-    if (start) fill = malloc(ngroups * sizeof *fill);
-    sturdy_status st = STURDY_OK;
-    if (!start || !fill || !sorted || !med || !zsum) {
-        set_err(err, "Brown-Forsythe: out of memory");
-        st = STURDY_EINTERNAL;
-        goto done;
-    }
-    /* Rows grouped by a counting sort, then each group's median. */
-    for (size_t i = 0; i < n; i++) start[group[i] + 1]++;
-    for (size_t g = 0; g < ngroups; g++) start[g + 1] += start[g];
-    for (size_t g = 0; g < ngroups; g++) fill[g] = start[g];
-    for (size_t i = 0; i < n; i++) sorted[fill[group[i]]++] = x[i];
-    size_t k = 0;
-    double xmax = 0.0;
+    return STURDY_OK;
+}
+
+/* med[g] = the median of each non-empty group, whose rows are rows[start[g] ..
+ * start[g + 1]); returns the number of non-empty groups, or SIZE_MAX when out of
+ * memory. */
+static size_t group_medians(const double *x, const size_t *start, const size_t *rows,
+                            size_t ngroups, double *med)
+{
+    size_t n = start[ngroups], k = 0;
+    double *v = malloc((n ? n : 1) * sizeof *v);
+    if (!v)
+        return (size_t)-1;
+    for (size_t j = 0; j < n; j++) v[j] = x[rows[j]];
     for (size_t g = 0; g < ngroups; g++) {
         size_t m = start[g + 1] - start[g];
         if (m == 0) continue;
         k++;
-        med[g] = median_sorted_in_place(sorted + start[g], m);
+        med[g] = median_sorted_in_place(v + start[g], m);
     }
-    if (k < 2 || n <= k) {
-        snprintf(msg, sizeof msg,
-                 "Brown-Forsythe needs at least 2 non-empty groups and more rows than "
-                 "groups (%zu groups, %zu rows)", k, n);
-        set_err(err, msg);
-        st = STURDY_EMODEL;
-        goto done;
-    }
-    /* One-way ANOVA on z = |x − median of its group| (Brown & Forsythe 1974), without
-     * the structural zeros when drop_zero. */
+    free(v);
+    return k;
+}
+
+/* The one-way ANOVA on z = |x − median of its group| (Brown & Forsythe 1974). */
+typedef struct {
+    size_t nn, kk;   /* rows and non-empty groups that take part */
+    double ssb, ssw; /* between- and within-group sums of squares of z */
+    double xmax;     /* max |x| over every row: the scale of the rounding in z */
+} bf_sums;
+
+/* The sums over the rows that take part: every row, or with drop_zero all but, in each
+ * group of odd size (start: group boundaries), one row equal to the median. */
+static sturdy_status bf_anova_sums(const double *x, const size_t *group, size_t n,
+                                   size_t ngroups, const size_t *start, const double *med,
+                                   int drop_zero, bf_sums *a, char *err)
+{
     size_t *cnt = calloc(ngroups, sizeof *cnt);
+    double *zsum = calloc(ngroups, sizeof *zsum);
     unsigned char *skip = calloc(n ? n : 1, 1), *dropped = calloc(ngroups, 1);
-    if (!cnt || !skip || !dropped) {
-        free(cnt); free(skip); free(dropped);
-        set_err(err, "Brown-Forsythe: out of memory");
-        st = STURDY_EINTERNAL;
-        goto done;
+    if (!cnt || !zsum || !skip || !dropped) {
+        free(cnt); free(zsum); free(skip); free(dropped);
+        return sturdy_fail(err, STURDY_EINTERNAL, "Brown-Forsythe: out of memory");
     }
     for (size_t i = 0; i < n; i++) {
         size_t g = group[i], m = start[g + 1] - start[g];
@@ -300,64 +271,88 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
         }
         cnt[g]++;
     }
-    size_t nn = 0, kk = 0;
+    a->nn = a->kk = 0;
     for (size_t g = 0; g < ngroups; g++) {
-        nn += cnt[g];
-        kk += cnt[g] > 0;
+        a->nn += cnt[g];
+        a->kk += cnt[g] > 0;
     }
     double ztot = 0.0;
+    a->xmax = 0.0;
     for (size_t i = 0; i < n; i++) {
-        if (fabs(x[i]) > xmax) xmax = fabs(x[i]);
+        if (fabs(x[i]) > a->xmax) a->xmax = fabs(x[i]);
         if (skip[i]) continue;
         double z = fabs(x[i] - med[group[i]]);
         zsum[group[i]] += z;
         ztot += z;
     }
-    double ssb = 0.0, ssw = 0.0, zbar = nn ? ztot / (double)nn : 0.0;
+    double zbar = a->nn ? ztot / (double)a->nn : 0.0;
+    a->ssb = a->ssw = 0.0;
     for (size_t g = 0; g < ngroups; g++) {
         if (cnt[g] == 0) continue;
         double d = zsum[g] / (double)cnt[g] - zbar;
-        ssb += (double)cnt[g] * d * d;
+        a->ssb += (double)cnt[g] * d * d;
     }
     for (size_t i = 0; i < n; i++) {
         if (skip[i]) continue;
         size_t g = group[i];
         double d = fabs(x[i] - med[g]) - zsum[g] / (double)cnt[g];
-        ssw += d * d;
+        a->ssw += d * d;
     }
-    free(cnt); free(skip); free(dropped);
-    if (kk < 2 || nn <= kk) {
-        snprintf(msg, sizeof msg,
-                 "Brown-Forsythe needs at least 2 non-empty groups and more rows than "
-                 "groups (%zu groups, %zu rows%s)", kk, nn,
-                 drop_zero ? " once the zero deviations are set aside" : "");
-        set_err(err, msg);
-        st = STURDY_EMODEL;
-        goto done;
-    }
-    n = nn;
-    k = kk;
-    double noise = BF_NOISE * xmax;
-    if (ssw <= (double)n * noise * noise) {
-        set_err(err, "Brown-Forsythe: the deviations from the group medians do not vary "
-                     "within any group (every group has at most two rows, or all values "
-                     "are equal), so the test is undefined");
-        st = STURDY_EMODEL;
-        goto done;
-    }
+    free(cnt); free(zsum); free(skip); free(dropped);
+    return STURDY_OK;
+}
+
+/* F, its degrees of freedom and p from the sums, or why the test is undefined. */
+static sturdy_status bf_finish(const bf_sums *a, int drop_zero, double *f, double *df1,
+                               double *df2, double *p, char *err)
+{
+    size_t n = a->nn, k = a->kk;
+    if (k < 2 || n <= k)
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "Brown-Forsythe needs at least 2 non-empty groups and more rows "
+                           "than groups (%zu groups, %zu rows%s)", k, n,
+                           drop_zero ? " once the zero deviations are set aside" : "");
+    double noise = BF_NOISE * a->xmax;
+    if (a->ssw <= (double)n * noise * noise)
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "Brown-Forsythe: the deviations from the group medians do not "
+                           "vary within any group (every group has at most two rows, or all "
+                           "values are equal), so the test is undefined");
     double d1 = (double)(k - 1), d2 = (double)(n - k);
-    double fv = (ssb / d1) / (ssw / d2);
+    double fv = (a->ssb / d1) / (a->ssw / d2);
     if (f) *f = fv;
     if (df1) *df1 = d1;
     if (df2) *df2 = d2;
     if (p) *p = sturdy_f_sf(fv, d1, d2);
-done:
+    return STURDY_OK;
+}
+
+/* Both forms; drop_zero removes, in each group of odd size, one row equal to the median
+ * (its deviation is 0 by construction: Hines & O'Hara Hines 2000). */
+static sturdy_status bf_core(const double *x, const size_t *group, size_t n, size_t ngroups,
+                             int drop_zero, double *f, double *df1, double *df2, double *p,
+                             char *err)
+{
+    sturdy_status st = bf_check_input(x, group, n, ngroups, err);
+    if (st)
+        return st;
+    size_t *start = NULL, *rows = NULL, k = (size_t)-1;
+    double *med = malloc(ngroups * sizeof *med);
+    if (med && !sturdy_bucket_rows(group, n, ngroups, &start, &rows, NULL))
+        k = group_medians(x, start, rows, ngroups, med);
+    free(rows);
+    bf_sums a = { 0, 0, 0.0, 0.0, 0.0 };
+    if (k == (size_t)-1)
+        st = sturdy_fail(err, STURDY_EINTERNAL, "Brown-Forsythe: out of memory");
+    else if (k < 2 || n <= k)
+        st = sturdy_fail(err, STURDY_EMODEL,
+                         "Brown-Forsythe needs at least 2 non-empty groups and more rows "
+                         "than groups (%zu groups, %zu rows)", k, n);
+    else
+        st = bf_anova_sums(x, group, n, ngroups, start, med, drop_zero, &a, err);
     free(start);
-    free(fill);
-    free(sorted);
     free(med);
-    free(zsum);
-    return st;
+    return st ? st : bf_finish(&a, drop_zero, f, df1, df2, p, err);
 }
 
 sturdy_status sturdy_brown_forsythe(const double *x, const size_t *group, size_t n,
@@ -384,7 +379,7 @@ void sturdy_studentize(const double *e, const double *h, size_t n, size_t df,
     double s2 = df > 0 ? sse / (double)df : NAN, dfd = (double)df;
     for (size_t i = 0; i < n; i++) {
         double r = NAN, t = NAN;
-        if (df > 0 && s2 > 0.0 && h[i] < 1.0 - LEVERAGE_ONE_TOL) {
+        if (df > 0 && s2 > 0.0 && h[i] < 1.0 - STURDY_LEVERAGE_ONE_TOL) {
             r = e[i] / sqrt(s2 * (1.0 - h[i]));
             /* Belsley, Kuh & Welsch (1980): leave-one-out s from r without refitting.
              * df − r² = 0 means row i carries all the residual variation: t is

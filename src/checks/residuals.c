@@ -23,68 +23,64 @@ static sturdy_status note(char **slot, char *text, char *err)
     return text ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
 
-sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
-                                       sturdy_response_result *resp, char *err)
+/* Every diagnostic's note when the residuals carry no information (no residual degrees
+ * of freedom); the studentized residuals and leverages are NaN. */
+static sturdy_status no_residual_df(sturdy_diagnostics *dg, size_t n, char *err)
 {
-    size_t n = d->n;
-    sturdy_diagnostics *dg = &resp->diag;
-    const double *e = resp->residual;
+    sturdy_status st;
+    for (size_t i = 0; i < n; i++)
+        dg->studentized[i] = dg->leverage[i] = NAN;
+    const char *why = "no residual degrees of freedom: residuals carry no information";
+    if ((st = note(&dg->sw_note, sturdy_strdup(why), err)) ||
+        (st = note(&dg->bf_note, sturdy_strdup(why), err)) ||
+        (st = note(&dg->bfm_note, sturdy_strdup(why), err)))
+        return st;
+    return note(&dg->vr_note, sturdy_strdup(why), err);
+}
+
+/* Shapiro–Wilk on the residuals, or the note saying why it is not given. */
+static sturdy_status normality(sturdy_diagnostics *dg, const double *e, size_t n, char *err)
+{
+    char msg[STURDY_ERR_LEN];
+    if (n > SW_MAX_N)
+        return note(&dg->sw_note, sturdy_asprintf(
+                        "Shapiro-Wilk is defined for 3 to %d rows and %zu are used; judge "
+                        "normality from the skewness and excess kurtosis", SW_MAX_N, n), err);
+    if (sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg) != STURDY_OK) {
+        dg->sw_w = dg->sw_p = NAN;
+        return note(&dg->sw_note, sturdy_strdup(msg), err);
+    }
+    return STURDY_OK;
+}
+
+/* Both Brown–Forsythe tests across the cells, each with its note when undefined. */
+static sturdy_status spread_tests(const sturdy_design *d, sturdy_diagnostics *dg,
+                                  const double *e, char *err)
+{
     char msg[STURDY_ERR_LEN];
     sturdy_status st;
-    dg->sw_w = dg->sw_p = dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
-    dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
-    dg->variance_ratio = NAN;
-    dg->studentized = malloc(n * sizeof *dg->studentized);
-    dg->leverage = malloc(n * sizeof *dg->leverage);
-    double *internal = malloc(n * sizeof *internal);
-    if (!dg->studentized || !dg->leverage || !internal) {
-        free(internal);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    sturdy_moments(e, n, &dg->skewness, &dg->excess_kurtosis);
-
-    if (m->df_error == 0) {
-        free(internal);
-        for (size_t i = 0; i < n; i++)
-            dg->studentized[i] = dg->leverage[i] = NAN;
-        const char *why = "no residual degrees of freedom: residuals carry no information";
-        if ((st = note(&dg->sw_note, sturdy_strdup(why), err)) ||
-            (st = note(&dg->bf_note, sturdy_strdup(why), err)) ||
-            (st = note(&dg->bfm_note, sturdy_strdup(why), err)))
-            return st;
-        return note(&dg->vr_note, sturdy_strdup(why), err);
-    }
-    if (n > SW_MAX_N) {
-        st = note(&dg->sw_note, sturdy_asprintf(
-                 "Shapiro-Wilk is defined for 3 to %d rows and %zu are used; judge "
-                 "normality from the skewness and excess kurtosis", SW_MAX_N, n), err);
-    } else if (sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg) != STURDY_OK) {
-        dg->sw_w = dg->sw_p = NAN;
-        st = note(&dg->sw_note, sturdy_strdup(msg), err);
-    } else {
-        st = STURDY_OK;
-    }
-    if (st) {
-        free(internal);
-        return st;
-    }
-    if (sturdy_brown_forsythe(e, d->cell, n, d->ncells, &dg->bf_f, &dg->bf_df1, &dg->bf_df2,
-                              &dg->bf_p, msg) != STURDY_OK) {
+    if (sturdy_brown_forsythe(e, d->cell, d->n, d->ncells, &dg->bf_f, &dg->bf_df1,
+                              &dg->bf_df2, &dg->bf_p, msg) != STURDY_OK) {
         dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
-        if ((st = note(&dg->bf_note, sturdy_strdup(msg), err))) {
-            free(internal);
+        if ((st = note(&dg->bf_note, sturdy_strdup(msg), err)))
             return st;
-        }
     }
-    if (sturdy_brown_forsythe_modified(e, d->cell, n, d->ncells, &dg->bfm_f, &dg->bfm_df1,
-                                       &dg->bfm_df2, &dg->bfm_p, msg) != STURDY_OK) {
+    if (sturdy_brown_forsythe_modified(e, d->cell, d->n, d->ncells, &dg->bfm_f,
+                                       &dg->bfm_df1, &dg->bfm_df2, &dg->bfm_p,
+                                       msg) != STURDY_OK) {
         dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
-        if ((st = note(&dg->bfm_note, sturdy_strdup(msg), err))) {
-            free(internal);
+        if ((st = note(&dg->bfm_note, sturdy_strdup(msg), err)))
             return st;
-        }
     }
-    /* variance ratio over cells with at least two rows */
+    return STURDY_OK;
+}
+
+/* The ratio of the largest to the smallest cell variance (cells of at least two rows)
+ * and the spread rule's verdict. */
+static sturdy_status spread_rule(const sturdy_design *d, sturdy_response_result *resp,
+                                 char *err)
+{
+    sturdy_diagnostics *dg = &resp->diag;
     double vmax = -1, vmin = INFINITY;
     for (size_t c = 0; c < d->ncells; c++) {
         double sd = resp->cell_sd[c];
@@ -108,25 +104,29 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
         else
             dg->spread_reason = sturdy_asprintf("Brown–Forsythe test without structural "
                                                 "zeros p = %.2g", dg->bfm_p);
-        if (!dg->spread_reason) {
-            free(internal);
+        if (!dg->spread_reason)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        }
     }
     if (vmax < 0)
-        st = note(&dg->vr_note, sturdy_strdup("no cell has two rows"), err);
-    else if (!(vmin > 0))
-        st = note(&dg->vr_note, sturdy_strdup("a cell has zero variance"), err);
-    else
-        dg->variance_ratio = vmax / vmin;
-    if (st) {
-        free(internal);
-        return st;
-    }
+        return note(&dg->vr_note, sturdy_strdup("no cell has two rows"), err);
+    if (!(vmin > 0))
+        return note(&dg->vr_note, sturdy_strdup("a cell has zero variance"), err);
+    dg->variance_ratio = vmax / vmin;
+    return STURDY_OK;
+}
+
+/* Leverages, studentized residuals and the rows whose |externally studentized
+ * residual| exceeds OUTLIER_LIMIT. */
+static sturdy_status flag_outliers(const sturdy_design *d, const sturdy_model *m,
+                                   sturdy_diagnostics *dg, const double *e, char *err)
+{
+    size_t n = d->n, k = 0;
+    double *internal = malloc(n * sizeof *internal);
+    if (!internal)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < n; i++)
         dg->leverage[i] = m->leverage[d->group[i]];
     sturdy_studentize(e, dg->leverage, n, m->df_error, internal, dg->studentized);
-    size_t k = 0;
     for (size_t i = 0; i < n; i++)
         if (fabs(dg->studentized[i]) > OUTLIER_LIMIT)
             k++;
@@ -147,6 +147,29 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
         }
     free(internal);
     return STURDY_OK;
+}
+
+sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
+                                       sturdy_response_result *resp, char *err)
+{
+    size_t n = d->n;
+    sturdy_diagnostics *dg = &resp->diag;
+    const double *e = resp->residual;
+    sturdy_status st;
+    dg->sw_w = dg->sw_p = dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
+    dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
+    dg->variance_ratio = NAN;
+    dg->studentized = malloc(n * sizeof *dg->studentized);
+    dg->leverage = malloc(n * sizeof *dg->leverage);
+    if (!dg->studentized || !dg->leverage)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    sturdy_moments(e, n, &dg->skewness, &dg->excess_kurtosis);
+    if (m->df_error == 0)
+        return no_residual_df(dg, n, err);
+    if ((st = normality(dg, e, n, err)) || (st = spread_tests(d, dg, e, err)) ||
+        (st = spread_rule(d, resp, err)))
+        return st;
+    return flag_outliers(d, m, dg, e, err);
 }
 
 /* The diagnostic most likely behind a disagreement, as one line. */

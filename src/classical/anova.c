@@ -23,25 +23,6 @@ void sturdy_effect_sizes(double ss, double df, double sse, double dfe, double ss
     es[STURDY_ES_COHENS_F] = (pe >= 0 && pe < 1) ? sqrt(pe / (1 - pe)) : NAN;
 }
 
-/* Σ(x − x̄)² by two passes with the compensating correction term (Chan, Golub & LeVeque
- * 1983), so constant leading digits do not cost precision. */
-static double centred_ss(const double *x, size_t n, double *mean_out)
-{
-    double mean = 0.0;
-    for (size_t i = 0; i < n; i++)
-        mean += x[i];
-    mean /= (double)n;
-    double ss = 0.0, corr = 0.0;
-    for (size_t i = 0; i < n; i++) {
-        double dv = x[i] - mean;
-        ss += dv * dv;
-        corr += dv;
-    }
-    if (mean_out)
-        *mean_out = mean + corr / (double)n;
-    return ss - corr * corr / (double)n;
-}
-
 static sturdy_status cell_summaries(const sturdy_design *d, const double *y, double ref,
                                     sturdy_response_result *out, char *err)
 {
@@ -95,7 +76,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     double mean;
-    double sst = centred_ss(y, n, &mean);
+    double sst = sturdy_centred_ss(y, n, &mean);
     if (!(sst > 0)) {
         free(s); free(work);
         return sturdy_fail(err, STURDY_EMODEL,

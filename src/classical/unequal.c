@@ -149,7 +149,7 @@ sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model 
     for (size_t g = 0; g < K; g++) {
         double n = (double)d->group_count[g], h = m->leverage[g];
         c->ng[g] = n;
-        if (!(1.0 - h > UV_LEVERAGE_TOL)) {
+        if (!(1.0 - h > STURDY_LEVERAGE_ONE_TOL)) {
             if (!*why)
                 *why = hc3 ? "a row is fitted exactly (leverage 1), so its variance cannot "
                              "be estimated"
@@ -188,21 +188,14 @@ void uv_restricted_residuals(const uv_ctx *c, const double *y, const double *Ut,
     }
 }
 
-/* Johansen's (1980) approximate F and the ANOVA-type statistic from the observed Ω
- * (cell variances) left in `work` by uv_wald(). */
-static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
-                             double *work, sturdy_uv_result *u)
+/* Johansen's (1980) approximate F: W / c with F(r, r(r + 2)/(3A)) degrees of freedom.
+ * om: Ω (cell variances); L: V's Cholesky factor; x: df scratch. */
+static void johansen_ref(const uv_ctx *c, const double *Ut, size_t df, double W,
+                         const double *om, const double *L, double *x, sturdy_uv_result *u)
 {
     size_t K = c->K;
-    const double *om = work + K, *L = work + 3 * K + c->m->rank;
     double r = (double)df;
     /* M_gg = Ω_g (U_t V⁻¹ U_tᵀ)_gg, with V⁻¹ = L⁻ᵀL⁻¹: (U_t V⁻¹ U_tᵀ)_gg = ‖L⁻¹ U_t,g·‖² */
-    double *x = malloc((df ? df : 1) * sizeof *x);
-    double *G = malloc((df ? df * df : 1) * sizeof *G);
-    if (!x || !G) {
-        free(x); free(G);
-        return; /* leaves NaN: an out-of-memory here is not worth failing the run */
-    }
     double A = 0.0;
     for (size_t g = 0; g < K; g++) {
         for (size_t j = 0; j < df; j++)
@@ -220,6 +213,15 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
     u->df1 = r;
     u->df2 = A > 0 ? r * (r + 2.0) / (3.0 * A) : INFINITY;
     u->p = isinf(u->df2) ? sturdy_f_sf(u->stat, r, 1e300) : sturdy_f_sf(u->stat, r, u->df2);
+}
+
+/* The ANOVA-type statistic (Brunner, Dette & Munk 1997) with its two degrees of
+ * freedom; left NaN when G is singular or memory runs out. a: the observed a_g =
+ * A_g/√n_g; om: Ω; x: df scratch; G: df × df scratch. */
+static void ats_ref(const uv_ctx *c, const double *Ut, size_t df, const double *a,
+                    const double *om, double *x, double *G, sturdy_uv_result *u)
+{
+    size_t K = c->K;
     /* ATS: G = U_tᵀ D U_t = L_G L_Gᵀ, P = U_t G⁻¹ U_tᵀ = Y Yᵀ with row g of Y the solve
      * L_G⁻¹ U_t,g·; then P_gg = ‖Y_g‖², tr(TΣ) = Σ Ω_g P_gg and tr(TΣTΣ) = Σ_gh P_gh² Ω_g Ω_h
      * = ‖CᵀC‖²_F with C = diag(√Ω) Y — no K × K matrix is formed. */
@@ -232,7 +234,7 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         }
     double *Y = malloc(df * K * sizeof *Y);
     if (!Y || !cholesky(G, df)) {
-        free(x); free(G); free(Y);
+        free(Y);
         return;
     }
     for (size_t g = 0; g < K; g++) {
@@ -241,9 +243,7 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         forward(G, df, x);
         memcpy(Y + g * df, x, df * sizeof *x);
     }
-    /* zᵀG⁻¹z = ‖L_G⁻¹z‖², and L_G⁻¹z = Σ_g Y_g a_g with a_g = A_g/√n_g of the observed
-     * perturbation (left in work by uv_wald(); U_tᵀa = U_tᵀs since U_t ⊥ f̃) */
-    const double *a = work;
+    /* zᵀG⁻¹z = ‖L_G⁻¹z‖², and L_G⁻¹z = Σ_g Y_g a_g (U_tᵀa = U_tᵀs since U_t ⊥ f̃) */
     double num = 0.0, tr = 0.0, tr2 = 0.0, den2 = 0.0;
     for (size_t j = 0; j < df; j++) {
         double t = 0.0;
@@ -274,7 +274,25 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         u->ats_df2 = tr * tr / den2;
         u->ats_p = sturdy_f_sf(u->ats, u->ats_df1, u->ats_df2);
     }
-    free(x); free(G); free(Y);
+    free(Y);
+}
+
+/* Johansen's approximate F and the ANOVA-type statistic from the observed Ω (cell
+ * variances), a and V's Cholesky factor left in `work` by uv_wald(). */
+static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
+                             double *work, sturdy_uv_result *u)
+{
+    size_t K = c->K;
+    const double *a = work, *om = work + K, *L = work + 3 * K + c->m->rank;
+    double *x = malloc((df ? df : 1) * sizeof *x);
+    double *G = malloc((df ? df * df : 1) * sizeof *G);
+    if (x && G) {
+        johansen_ref(c, Ut, df, W, om, L, x, u);
+        ats_ref(c, Ut, df, a, om, x, G, u);
+    }
+    /* else leaves NaN: an out-of-memory here is not worth failing the run */
+    free(x);
+    free(G);
 }
 
 static void uv_init_result(sturdy_uv_result *u)
@@ -343,16 +361,6 @@ done:
     free(v); free(A); free(Q); free(s); free(pw); free(work); free(ft);
     uv_ctx_free(&c);
     return st;
-}
-
-const char *sturdy_spread_scheme_name(sturdy_spread_scheme s)
-{
-    switch (s) {
-    case STURDY_SPREAD_WILD: return "wild-bootstrap";
-    case STURDY_SPREAD_PERMUTATION: return "permutation";
-    case STURDY_SPREAD_NONE: break;
-    }
-    return "none";
 }
 
 sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, char *err)

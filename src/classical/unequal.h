@@ -6,11 +6,6 @@
 
 #include "classical/classical.h"
 
-/* A row whose leverage is within this of 1 is fitted exactly: its residual carries no
- * variance information, and HC weights 1/(1 − h) blow up. 1e-10 is far above the
- * rounding of leverages (≈1e-15) and far below 1 − h of any row with a neighbour. */
-#define UV_LEVERAGE_TOL 1e-10
-
 typedef struct {
     const sturdy_design *d;
     const sturdy_model *m;

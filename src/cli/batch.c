@@ -362,11 +362,133 @@ typedef struct {
     int eoutput;                 /* a result could not be written */
 } totals;
 
+/* Parse row i's equivalent `check` (its messages captured into msg, STURDY_ERR_LEN
+ * bytes) into *c; *parsed says whether *c then needs cli_check_free. Returns 0 or an exit
+ * status. */
+static int parse_row(const batch *b, size_t i, argvec *a, cli_check *c, int *parsed,
+                     const char *data_path, char *msg)
+{
+    int rc = row_argv(b, i, a, msg, STURDY_ERR_LEN);
+    if (rc)
+        return rc;
+    capture cp;
+    capture_begin(&cp);
+    rc = cli_check_parse(a->n, a->v, 0, c);
+    capture_end(&cp, msg, STURDY_ERR_LEN);
+    *parsed = 1;
+    if (rc == CLI_DONE) rc = CLI_EXIT_USAGE;
+    if (rc && !msg[0]) snprintf(msg, STURDY_ERR_LEN, "invalid options");
+    c->data_path = data_path;
+    return rc;
+}
+
+/* "[i/n] name: B rearrangements × T terms × N rows ..." before row i is computed. */
+static void announce_row(const batch *b, size_t i, const char *name, const cli_check *c,
+                         const char *data_path)
+{
+    const sturdy_options *o = &c->opts;
+    sturdy_table *t = NULL;
+    char err[STURDY_ERR_LEN];
+    uint64_t nt = sturdy_model_spec_terms(&o->model);
+    fprintf(stderr, "[%zu/%zu] %s: %llu rearrangements × %llu term%s", i + 1,
+            sturdy_table_nrows(b->plan), name, (unsigned long long)o->permutations,
+            (unsigned long long)nt, nt == 1 ? "" : "s");
+    if (!sturdy_table_load(data_path ? data_path : c->data, &c->topts, &t, err))
+        fprintf(stderr, " × %zu rows", sturdy_table_nrows(t));
+    sturdy_table_free(t);
+    if (c->responses.n > 1) fprintf(stderr, " × %zu responses", c->responses.n);
+    if (o->bootstrap)
+        fprintf(stderr, ", %llu bootstrap replicates", (unsigned long long)o->bootstrap);
+    fputs(" ...\n", stderr);
+}
+
+/* Write r as the row's result file out_path (complete or not at all) and read it back
+ * into *doc. Returns 0 or an exit status with msg (STURDY_ERR_LEN bytes). */
+static int write_result(const cli_check *c, const sturdy_result *r, const char *out_path,
+                        totals *tot, sturdy_result **doc, char *msg)
+{
+    int rc;
+    sturdy_buf out;
+    sturdy_buf_init(&out);
+    if (cli_render(c, r, &out) != STURDY_OK || !out.data || out.failed) {
+        rc = STURDY_EINTERNAL;
+        snprintf(msg, STURDY_ERR_LEN, "out of memory while writing the result");
+    } else {
+        capture cp;
+        capture_begin(&cp);
+        rc = cli_write_output(out_path, out.data, out.len);
+        capture_end(&cp, msg, STURDY_ERR_LEN);
+        if (rc) tot->eoutput = 1;
+    }
+    if (!rc && sturdy_result_read_json(out_path, out.data, out.len, doc, NULL)) {
+        rc = STURDY_EINTERNAL;
+        snprintf(msg, STURDY_ERR_LEN, "the result could not be read back");
+    }
+    sturdy_buf_free(&out);
+    return rc;
+}
+
+/* Compute row i and, on the lead rank, write its result (*doc: the result read back);
+ * counts it in tot. Returns 0 or an exit status with msg (STURDY_ERR_LEN bytes). */
+static int compute_row(const batch *b, size_t i, const char *name, cli_check *c,
+                       const char *out_path, totals *tot, sturdy_result **doc, char *msg)
+{
+    sturdy_result *r = NULL;
+    double t0 = cli_now();
+    int rc = cli_check_compute(c, &r, msg);
+    double seconds = cli_now() - t0;
+    if (!rc && b->lead)          /* under MPI only rank 0 holds the finished result */
+        rc = write_result(c, r, out_path, tot, doc, msg);
+    if (!rc) {
+        sturdy_run_info info;
+        sturdy_result_info(r, &info);
+        uint64_t perms = info.perm_end - info.perm_begin;
+        tot->done++;
+        tot->perms += perms;
+        tot->seconds += seconds;
+        if (!b->quiet && b->lead) {
+            fprintf(stderr, "[%zu/%zu] %s: ok in %.2f s", i + 1, sturdy_table_nrows(b->plan),
+                    name, seconds);
+            if (perms && seconds > 0)
+                fprintf(stderr, ", %.0f rearrangements/s", (double)perms / seconds);
+            fputc('\n', stderr);
+        }
+    }
+    sturdy_result_free(r);
+    return rc;
+}
+
+/* The row's outcome into oc: a failure (exit rc, message msg naming the data as the plan
+ * does), or the result's own tally and the verdicts changed since `old`. */
+static void finish_row(const batch *b, const char *name, int rc, const char *msg,
+                       const char *data_path, const char *data, const sturdy_result *doc,
+                       const sturdy_result *old, totals *tot, cli_batch_outcome *oc)
+{
+    oc->exit_code = rc;
+    if (rc) {
+        char *hinted = cli_option_hints(msg);
+        oc->message = plan_message(hinted ? hinted : msg, data_path, data);
+        free(hinted);
+        tot->failed++;
+        if (b->lead)
+            fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
+                    oc->message ? oc->message : msg);
+        return;
+    }
+    if (cli_batch_tally(doc, oc)) {
+        tot->failed++;
+        if (b->lead)
+            fprintf(stderr, "sturdy: %s: %s (exit %d)\n", name, oc->message ? oc->message
+                                                                          : "untested",
+                    oc->exit_code);
+    }
+    cli_batch_compare(name, old, doc, oc);
+}
+
 /* Run (or resume) row `i`; fills `oc`. */
 static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc)
 {
     const char *name = cell(b, b->req[COL_NAME], i), *data = cell(b, b->req[COL_DATA], i);
-    size_t nrows = sturdy_table_nrows(b->plan);
     char msg[STURDY_ERR_LEN] = "";
     argvec a = { 0 };
     cli_check c;
@@ -374,7 +496,6 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     char *out_path = str_printf("%s/%s.json", b->dir, name);
     char *data_path = b->plan_dir && data[0] != '/' ? cli_str_cat3(b->plan_dir, "/", data)
                                                     : NULL;
-    sturdy_result *r = NULL;
     sturdy_result *doc = NULL, *old = NULL;
     /* read before the new result is written: OLD_DIR may be DIR itself */
     char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
@@ -383,95 +504,18 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     int rc = out_path && (data_path || !b->plan_dir || data[0] == '/') ? 0 : STURDY_EINTERNAL;
     /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
     if (rc) snprintf(msg, sizeof msg, "out of memory");
-    if (!rc) rc = row_argv(b, i, &a, msg, sizeof msg);
-    if (!rc) {
-        capture cp;
-        capture_begin(&cp);
-        rc = cli_check_parse(a.n, a.v, 0, &c);
-        capture_end(&cp, msg, sizeof msg);
-        parsed = 1;
-        if (rc == CLI_DONE) rc = CLI_EXIT_USAGE;
-        if (rc && !msg[0]) snprintf(msg, sizeof msg, "invalid options");
-        c.data_path = data_path;
-    }
+    if (!rc) rc = parse_row(b, i, &a, &c, &parsed, data_path, msg);
     if (!rc && b->resume &&
         (doc = cli_batch_resumable(&c, out_path, data_path ? data_path : c.data))) {
         tot->resumed++;
         if (!b->quiet && b->lead)
             fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
-                    nrows, name);
+                    sturdy_table_nrows(b->plan), name);
     } else if (!rc) {
-        if (!b->quiet && b->lead) {
-            const sturdy_options *o = &c.opts;
-            sturdy_table *t = NULL;
-            char err[STURDY_ERR_LEN];
-            uint64_t nt = sturdy_model_spec_terms(&o->model);
-            fprintf(stderr, "[%zu/%zu] %s: %llu rearrangements × %llu term%s", i + 1, nrows,
-                    name, (unsigned long long)o->permutations, (unsigned long long)nt,
-                    nt == 1 ? "" : "s");
-            if (!sturdy_table_load(data_path ? data_path : c.data, &c.topts, &t, err))
-                fprintf(stderr, " × %zu rows", sturdy_table_nrows(t));
-            sturdy_table_free(t);
-            if (c.responses.n > 1) fprintf(stderr, " × %zu responses", c.responses.n);
-            if (o->bootstrap)
-                fprintf(stderr, ", %llu bootstrap replicates", (unsigned long long)o->bootstrap);
-            fputs(" ...\n", stderr);
-        }
-        double t0 = cli_now();
-        rc = cli_check_compute(&c, &r, msg);
-        double seconds = cli_now() - t0;
-        if (!rc && b->lead) {    /* under MPI only rank 0 holds the finished result */
-            sturdy_buf out;
-            sturdy_buf_init(&out);
-            if (cli_render(&c, r, &out) != STURDY_OK || !out.data || out.failed) {
-                rc = STURDY_EINTERNAL;
-                snprintf(msg, sizeof msg, "out of memory while writing the result");
-            } else {
-                capture cp;
-                capture_begin(&cp);
-                rc = cli_write_output(out_path, out.data, out.len);
-                capture_end(&cp, msg, sizeof msg);
-                if (rc) tot->eoutput = 1;
-            }
-            if (!rc && sturdy_result_read_json(out_path, out.data, out.len, &doc, NULL)) {
-                rc = STURDY_EINTERNAL;
-                snprintf(msg, sizeof msg, "the result could not be read back");
-            }
-            sturdy_buf_free(&out);
-        }
-        if (!rc) {
-            sturdy_run_info info;
-            sturdy_result_info(r, &info);
-            uint64_t perms = info.perm_end - info.perm_begin;
-            tot->done++;
-            tot->perms += perms;
-            tot->seconds += seconds;
-            if (!b->quiet && b->lead) {
-                fprintf(stderr, "[%zu/%zu] %s: ok in %.2f s", i + 1, nrows, name, seconds);
-                if (perms && seconds > 0)
-                    fprintf(stderr, ", %.0f rearrangements/s", (double)perms / seconds);
-                fputc('\n', stderr);
-            }
-        }
-        sturdy_result_free(r);
+        if (!b->quiet && b->lead) announce_row(b, i, name, &c, data_path);
+        rc = compute_row(b, i, name, &c, out_path, tot, &doc, msg);
     }
-    oc->exit_code = rc;
-    if (rc) {
-        oc->message = plan_message(msg, data_path, data);
-        tot->failed++;
-        if (b->lead)
-            fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
-                    oc->message ? oc->message : msg);
-    } else {
-        if (cli_batch_tally(doc, oc)) {
-            tot->failed++;
-            if (b->lead)
-                fprintf(stderr, "sturdy: %s: %s (exit %d)\n", name, oc->message ? oc->message
-                                                                              : "untested",
-                        oc->exit_code);
-        }
-        cli_batch_compare(name, old, doc, oc);
-    }
+    finish_row(b, name, rc, msg, data_path, data, doc, old, tot, oc);
     sturdy_result_free(doc);
     sturdy_result_free(old);
     if (parsed) cli_check_free(&c);

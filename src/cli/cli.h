@@ -85,9 +85,15 @@ int cli_mpi_rank(void);
 int cli_mpi_size(void);
 sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err);
 
-/* Print "sturdy: <message>" and "try 'sturdy <command> --help'" to stderr; returns 2. */
+/* Print "sturdy: <message>" and "try 'sturdy <command> --help'" to stderr, the message
+ * with the options it concerns named (cli_option_hints); returns 2. */
 int cli_usage_error(const char *command, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
+
+/* A copy of the library message `msg` with the command-line option named after each
+ * phrase that names a setting ("the order of terms given (--term-order)"), or NULL when
+ * memory ran out. The caller frees it. hints.c. */
+char *cli_option_hints(const char *msg);
 
 /* Strict parsers for option values: the whole text must be the number. Return 1 on
  * success. u64: decimal digits only (no sign, no blanks); double: finite. */

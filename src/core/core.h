@@ -7,8 +7,11 @@
 
 #include "sturdy/common.h"
 
+/* ---- messages and memory (util.c) ---- */
+
 /* Write a formatted message into err (STURDY_ERR_LEN bytes; NULL is allowed) and
- * return `s`, so that callers can `return sturdy_fail(err, STURDY_EDATA, ...)`. */
+ * return `s`, so that callers can `return sturdy_fail(err, STURDY_EDATA, ...)`. This is
+ * the library's one writer of error messages. */
 sturdy_status sturdy_fail(char *err, sturdy_status s, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 
@@ -24,5 +27,46 @@ char *sturdy_asprintf(const char *fmt, ...) __attribute__((format(printf, 1, 2))
 
 /* calloc of n × size with overflow check. */
 void *sturdy_calloc(size_t n, size_t size);
+
+/* ---- numbers (numeric.c) ---- */
+
+/* 128-bit integers (a GCC and Clang extension): exact decimal mantissas (table_numeric.c)
+ * and products of 64-bit counts. include/sturdy/pcg.h declares the same unsigned type
+ * for its public generator state; C11 allows the repeated typedef. */
+__extension__ typedef __int128 sturdy_i128;
+__extension__ typedef unsigned __int128 sturdy_u128;
+
+/* A leverage within this of 1 means the row is fitted exactly (alone in its cell or
+ * group): its residual is zero up to rounding, cannot be studentized, carries no
+ * variance information and has no leave-one-out fit (HC weights 1/(1 − h) blow up).
+ * QR leverages carry errors of order n·1e-16 (≈1e-15 in practice), far below this
+ * margin, and 1 − h of any row with a neighbour is far above it. */
+#define STURDY_LEVERAGE_ONE_TOL 1e-10
+
+/* qsort comparator of doubles in ascending order (NaNs compare equal to everything). */
+int sturdy_cmp_double(const void *a, const void *b);
+
+/* Σx / n in one pass, in index order (n ≥ 1). */
+double sturdy_mean(const double *x, size_t n);
+
+/* Σ(x − x̄)² by two passes with the compensating correction term (Chan, Golub & LeVeque
+ * 1983), so that constant leading digits do not cost precision; n ≥ 1. *mean_out (may
+ * be NULL) gets the mean refined by the same correction, mean + Σ(x − mean)/n. */
+double sturdy_centred_ss(const double *x, size_t n, double *mean_out);
+
+/* ---- rows (rows.c) ---- */
+
+/* Rows 0..n) bucketed by label (a counting sort, stable): the rows of label k are
+ * (*rows)[(*start)[k] .. (*start)[k + 1]) in increasing order. label[i] < nlabels; a
+ * NULL label puts every row under label 0. *start (nlabels + 1 entries) and *rows (n,
+ * at least 1) are malloc-ed for the caller to free; on failure both are NULL and
+ * STURDY_EINTERNAL is returned with "out of memory" in err (which may be NULL). */
+sturdy_status sturdy_bucket_rows(const size_t *label, size_t n, size_t nlabels,
+                                 size_t **start, size_t **rows, char *err);
+
+/* ---- time (clock.c) ---- */
+
+/* Monotonic clock in seconds (for progress and rates only; never in results). */
+double sturdy_now_seconds(void);
 
 #endif

@@ -65,12 +65,12 @@ sturdy_status sturdy_levels_check_orders(const sturdy_model_spec *s, char *err)
             found = !strcmp(s->factors[f], name ? name : "");
         if (!found)
             return sturdy_fail(err, STURDY_EUSAGE,
-                               "--levels names '%s', which is not a factor (-f) or the block "
-                               "of the model", name ? name : "");
+                               "an order of levels is given for '%s', which is not a "
+                               "factor or the block of the model", name ? name : "");
         for (size_t j = 0; j < k; j++)
             if (!strcmp(s->level_orders[j].factor, name))
                 return sturdy_fail(err, STURDY_EUSAGE,
-                                   "--levels gives the order of '%s' twice", name);
+                                   "an order of levels is given for '%s' twice", name);
     }
     return STURDY_OK;
 }
@@ -250,8 +250,8 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
         if (g == (size_t)-1) { unknown[nunknown++] = lo->levels[k]; continue; }
         if (pos[g] != (size_t)-1) {
             free(unknown);
-            return sturdy_fail(err, STURDY_EUSAGE, "--levels for %s '%s' lists '%s' twice",
-                               role, lo->factor, lo->levels[k]);
+            return sturdy_fail(err, STURDY_EUSAGE, "the order of levels given for %s '%s' "
+                               "lists '%s' twice", role, lo->factor, lo->levels[k]);
         }
         pos[g] = k - nunknown;
     }
@@ -260,7 +260,8 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
             left[nleft++] = nat[j].text;
     if (nunknown || nleft) {
         sturdy_buf_init(&b);
-        sturdy_buf_printf(&b, "--levels for %s '%s': ", role, lo->factor);
+        sturdy_buf_printf(&b, "the order of levels given for %s '%s': ", role,
+                          lo->factor);
         if (nunknown) {
             name_list(&b, unknown, nunknown);
             sturdy_buf_printf(&b, " %s not a level of it in the rows used%s",
@@ -279,102 +280,142 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
     return st;
 }
 
+/* The distinct texts of column `col` over the used rows, sorted bytewise, into *vals (nl
+ * of them; the caller frees the array, which holds n entries). Sorting bytewise is cheap;
+ * only the few distinct values are then sorted naturally, which parses numbers in every
+ * comparison. */
+static sturdy_status distinct_values(const sturdy_table *t, long col, const sturdy_design *d,
+                                     const char ***vals, size_t *nl, char *err)
+{
+    size_t n = d->n, k = 0;
+    const char **v = malloc((n ? n : 1) * sizeof *v);
+    *vals = v;
+    *nl = 0;
+    if (!v)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < n; i++)
+        v[i] = t->cols[col].text[d->row[i]];
+    qsort(v, n, sizeof *v, cmp_str_bytes);
+    for (size_t i = 0; i < n; i++)
+        if (i == 0 || strcmp(v[i], v[i - 1]) != 0)
+            v[k++] = v[i];
+    *nl = k;
+    return STURDY_OK;
+}
+
+static void free_levels(level_ref *nat, size_t nl)
+{
+    for (size_t j = 0; nat && j < nl; j++) free(nat[j].folded);
+    free(nat);
+}
+
+/* The distinct values vals[0..nl) in natural order as *nat (free with free_levels), each
+ * with its group: one per level, or with `merge` levels equal as numbers (adjacent in
+ * natural order) in one; *ng gets the number of groups. */
+static sturdy_status natural_levels(const char *const *vals, size_t nl, int merge,
+                                    level_ref **out, size_t *ng, char *err)
+{
+    level_ref *nat = calloc(nl ? nl : 1, sizeof *nat);
+    *out = NULL;
+    if (!nat)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t j = 0; j < nl; j++) {
+        nat[j].text = vals[j];
+        nat[j].bytewise = j;
+        if (!(nat[j].folded = fold(vals[j]))) {
+            free_levels(nat, nl);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+    }
+    qsort(nat, nl, sizeof *nat, cmp_level_natural);
+    *ng = 0;
+    for (size_t j = 0; j < nl; j++) {
+        double x, y;
+        int same = j > 0 && merge && sturdy_parse_number(nat[j - 1].text, &x) &&
+                   sturdy_parse_number(nat[j].text, &y) && x == y;
+        nat[j].group = same ? nat[j - 1].group : (*ng)++;
+    }
+    *out = nat;
+    return STURDY_OK;
+}
+
+/* f's levels, level pos[g] named by the first text of group g, and rank[b] = the level
+ * of the value with bytewise index b. */
+static sturdy_status name_levels(sturdy_factor *f, const level_ref *nat, size_t nl,
+                                 const size_t *pos, size_t ng, size_t *rank, char *err)
+{
+    f->nlevels = ng;
+    if (!(f->levels = calloc(ng, sizeof *f->levels)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t j = 0; j < nl; j++) {
+        size_t p = pos[nat[j].group];
+        rank[nat[j].bytewise] = p;
+        if (!f->levels[p] && !(f->levels[p] = sturdy_strdup(nat[j].text)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    return STURDY_OK;
+}
+
+/* lev[i * stride] = the level of used row i: its text found among the bytewise-sorted
+ * values vals[0..nl), then mapped through rank. */
+static void level_of_rows(const sturdy_table *t, long col, const sturdy_design *d,
+                          const char *const *vals, size_t nl, const size_t *rank,
+                          size_t *lev, size_t stride)
+{
+    for (size_t i = 0; i < d->n; i++) {
+        const char *v = t->cols[col].text[d->row[i]];
+        size_t lo = 0, hi = nl;
+        while (lo < hi) {
+            size_t mid = (lo + hi) / 2;
+            int c = strcmp(vals[mid], v);
+            if (c == 0) { lo = mid; break; }
+            if (c < 0) lo = mid + 1; else hi = mid;
+        }
+        lev[i * stride] = rank[lo];
+    }
+}
+
 sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design *d,
                                  const sturdy_model_spec *s, size_t max_levels,
                                  const char *role, sturdy_factor *f, size_t *lev,
                                  size_t stride, char *err)
 {
-    sturdy_status st = STURDY_OK;
-    size_t n = d->n, nl = 0, ng = 0;
+    size_t nl = 0, ng = 0;
     const char *name = t->cols[col].name;
     const sturdy_level_order *lo = NULL;
     for (size_t k = 0; k < s->nlevel_orders; k++)
         if (!strcmp(s->level_orders[k].factor, name)) lo = &s->level_orders[k];
-    f->name = sturdy_strdup(name);
-    const char **vals = malloc((n ? n : 1) * sizeof *vals);
-    if (!vals || !f->name) {
-        free(vals);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    /* distinct values: sorted bytewise (cheap); only those few are sorted naturally,
-       which parses numbers in every comparison */
-    for (size_t i = 0; i < n; i++)
-        vals[i] = t->cols[col].text[d->row[i]];
-    qsort(vals, n, sizeof *vals, cmp_str_bytes);
-    for (size_t i = 0; i < n; i++)
-        if (i == 0 || strcmp(vals[i], vals[i - 1]) != 0)
-            vals[nl++] = vals[i];
-    if (nl > max_levels) {
-        free(vals);
-        return sturdy_fail(err, STURDY_EMODEL,
-                           "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
-                           "really a factor? (raise the limit with --max-levels)",
-                           t->source, role, name, nl, max_levels);
-    }
-    level_ref *nat = calloc(nl ? nl : 1, sizeof *nat);
-    size_t *rank = malloc((nl ? nl : 1) * sizeof *rank), *pos = NULL;
-    if (!nat || !rank) { st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory"); goto done; }
-    for (size_t j = 0; j < nl; j++) {
-        nat[j].text = vals[j];
-        nat[j].bytewise = j;
-        if (!(nat[j].folded = fold(vals[j]))) {
-            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            goto done;
-        }
-    }
-    qsort(nat, nl, sizeof *nat, cmp_level_natural);
-    /* groups: one per level, or levels equal as numbers (adjacent) merged */
-    for (size_t j = 0; j < nl; j++) {
-        double x, y;
-        int same = j > 0 && s->merge_numeric_levels &&
-                   sturdy_parse_number(nat[j - 1].text, &x) &&
-                   sturdy_parse_number(nat[j].text, &y) && x == y;
-        nat[j].group = same ? nat[j - 1].group : ng++;
-    }
-    if (ng < 2) {
+    const char **vals = NULL;
+    level_ref *nat = NULL;
+    size_t *rank = NULL, *pos = NULL;
+    sturdy_status st = (f->name = sturdy_strdup(name))
+                           ? distinct_values(t, col, d, &vals, &nl, err)
+                           : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (!st && nl > max_levels)
+        st = sturdy_fail(err, STURDY_EMODEL,
+                         "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
+                         "really a factor? (raise the limit with --max-levels)",
+                         t->source, role, name, nl, max_levels);
+    if (!st)
+        st = natural_levels(vals, nl, s->merge_numeric_levels, &nat, &ng, err);
+    if (!st && ng < 2)
         st = sturdy_fail(err, STURDY_EMODEL,
                          "%s: %s '%s' has only one level ('%s') in the rows used; a term "
                          "needs at least two", t->source, role, name, nl ? nat[0].text : "");
-        goto done;
-    }
-    if ((st = near_duplicates(d, role, name, nat, nl, s->merge_numeric_levels, err)))
-        goto done;
-    if (!(pos = malloc(ng * sizeof *pos))) {
+    if (!st)
+        st = near_duplicates(d, role, name, nat, nl, s->merge_numeric_levels, err);
+    if (!st && (!(pos = malloc(ng * sizeof *pos)) ||
+                !(rank = malloc((nl ? nl : 1) * sizeof *rank))))
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        goto done;
-    }
-    if (lo) {
-        if ((st = user_order(lo, nat, nl, ng, s->merge_numeric_levels, role, pos, err)))
-            goto done;
-    } else {
+    if (!st && lo)
+        st = user_order(lo, nat, nl, ng, s->merge_numeric_levels, role, pos, err);
+    else if (!st)
         for (size_t g = 0; g < ng; g++) pos[g] = g;
-    }
-    f->nlevels = ng;
-    if (!(f->levels = calloc(ng, sizeof *f->levels))) {
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        goto done;
-    }
-    for (size_t j = 0; j < nl; j++) {
-        size_t p = pos[nat[j].group];
-        rank[nat[j].bytewise] = p; /* bytewise index → level index */
-        if (!f->levels[p] && !(f->levels[p] = sturdy_strdup(nat[j].text))) {
-            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            goto done;
-        }
-    }
-    for (size_t i = 0; i < n; i++) {
-        const char *v = t->cols[col].text[d->row[i]];
-        size_t lo_i = 0, hi = nl; /* binary search among the bytewise-sorted values */
-        while (lo_i < hi) {
-            size_t mid = (lo_i + hi) / 2;
-            int c = strcmp(vals[mid], v);
-            if (c == 0) { lo_i = mid; break; }
-            if (c < 0) lo_i = mid + 1; else hi = mid;
-        }
-        lev[i * stride] = rank[lo_i];
-    }
-done:
-    for (size_t j = 0; nat && j < nl; j++) free(nat[j].folded);
-    free(vals); free(nat); free(rank); free(pos);
+    if (!st)
+        st = name_levels(f, nat, nl, pos, ng, rank, err);
+    if (!st)
+        level_of_rows(t, col, d, vals, nl, rank, lev, stride);
+    free_levels(nat, nl);
+    free(vals); free(rank); free(pos);
     return st;
 }

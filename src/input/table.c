@@ -26,15 +26,6 @@ void sturdy_table_opts_init(sturdy_table_opts *o)
     o->nmissing = 0;
 }
 
-void sturdy_table_set_err(char *err, const char *fmt, ...)
-{
-    va_list ap;
-    if (!err) return;
-    va_start(ap, fmt);
-    vsnprintf(err, STURDY_ERR_LEN, fmt, ap);
-    va_end(ap);
-}
-
 void sturdy_table_show(char *dst, const char *s)
 {
     size_t n = strlen(s), k = n > SHOW_MAX ? SHOW_MAX : n;
@@ -44,13 +35,11 @@ void sturdy_table_show(char *dst, const char *s)
     strcpy(dst + k, k < n ? "..." : "");
 }
 
-static int is_blank(char c) { return c == ' ' || c == '\t'; }
-
 void sturdy_table_trim_range(const char *s, size_t *a, size_t *b)
 {
     size_t i = 0, j = strlen(s);
-    while (i < j && is_blank(s[i])) i++;
-    while (j > i && is_blank(s[j - 1])) j--;
+    while (i < j && sturdy_table_is_blank(s[i])) i++;
+    while (j > i && sturdy_table_is_blank(s[j - 1])) j--;
     *a = i;
     *b = j;
 }
@@ -81,7 +70,7 @@ static void fail(loader *L, sturdy_status st, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
-    sturdy_table_set_err(L->err, "%s: %s", L->t->source, msg);
+    sturdy_fail(L->err, st, "%s: %s", L->t->source, msg);
 }
 
 /* The advice for a header read as one field `name` with delimiter `delim`, or NULL. */
@@ -237,7 +226,9 @@ static void on_record(int c, void *data)
 static int has_content(const char *s, size_t n, char delim)
 {
     for (size_t i = 0; i < n; i++)
-        if (s[i] == delim || !(is_blank(s[i]) || s[i] == '\r' || s[i] == '\n')) return 1;
+        if (s[i] == delim ||
+            !(sturdy_table_is_blank(s[i]) || s[i] == '\r' || s[i] == '\n'))
+            return 1;
     return 0;
 }
 
@@ -298,10 +289,9 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     *out = NULL;
     if (!o) { sturdy_table_opts_init(&dflt); o = &dflt; }
     if (o->delimiter == '"' || o->delimiter == '\r' || o->delimiter == '\n' ||
-        o->delimiter == '\0') {
-        sturdy_table_set_err(err, "the delimiter cannot be a quote, a line end or NUL");
-        return STURDY_EUSAGE;
-    }
+        o->delimiter == '\0')
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the delimiter cannot be a quote, a line end or NUL");
     memset(&L, 0, sizeof L);
     L.o = o;
     L.err = err;
@@ -309,8 +299,8 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     if (L.t) L.t->delimiter = o->delimiter;
     if (!L.t || !(L.t->source = strdup(name ? name : "<buffer>"))) {
         free(L.t);
-        sturdy_table_set_err(err, "%s: out of memory", name ? name : "<buffer>");
-        return STURDY_EINTERNAL;
+        return sturdy_fail(err, STURDY_EINTERNAL, "%s: out of memory",
+                           name ? name : "<buffer>");
     }
     if (len >= 2 && ((buf[0] == '\xFF' && buf[1] == '\xFE') ||
                      (buf[0] == '\xFE' && buf[1] == '\xFF')))
@@ -362,13 +352,12 @@ sturdy_status sturdy_table_load(const char *path, const sturdy_table_opts *o,
     size_t len = 0;
     int ok;
     *out = NULL;
-    if (!f) {
-        sturdy_table_set_err(err, "%s: cannot open: %s", name, strerror(errno));
-        return STURDY_EDATA;
-    }
+    if (!f)
+        return sturdy_fail(err, STURDY_EDATA, "%s: cannot open: %s", name, strerror(errno));
     errno = 0;
     ok = read_all(f, &buf, &len);
-    if (!ok) sturdy_table_set_err(err, "%s: cannot read: %s", name, strerror(errno ? errno : EIO));
+    if (!ok) sturdy_fail(err, STURDY_EDATA, "%s: cannot read: %s", name,
+                         strerror(errno ? errno : EIO));
     if (!is_stdin) fclose(f);
     if (!ok) return STURDY_EDATA;
     sturdy_status st = sturdy_table_load_buffer(name, buf, len, o, out, err);

@@ -3,19 +3,19 @@
 #ifndef STURDY_TABLE_INTERNAL_H
 #define STURDY_TABLE_INTERNAL_H
 
+#include "core/core.h"
 #include "input/table_layout.h"
 
 /* Offending text shown in messages is cut to this many bytes. */
 #define SHOW_MAX 40
 #define SHOW_LEN (SHOW_MAX + 8)
 
-/* printf into err (STURDY_ERR_LEN bytes; NULL is allowed). */
-void sturdy_table_set_err(char *err, const char *fmt, ...)
-    __attribute__((format(printf, 2, 3)));
-
 /* Copy `s` for a message: at most SHOW_MAX bytes, cut at a UTF-8 character boundary,
  * control characters shown as '?', "..." where cut. `dst` holds SHOW_LEN bytes. */
 void sturdy_table_show(char *dst, const char *s);
+
+/* A blank around a field: a space or a tab. */
+static inline int sturdy_table_is_blank(char c) { return c == ' ' || c == '\t'; }
 
 /* Trimmed extent [*a, *b) of s (spaces and tabs). */
 void sturdy_table_trim_range(const char *s, size_t *a, size_t *b);

@@ -9,8 +9,6 @@
 
 #include "input/table_internal.h"
 
-static int is_blank(char c) { return c == ' ' || c == '\t'; }
-
 /* ---------------------------------------------------------------- numbers */
 
 /* 36 significant digits stay below 10^36 < 2^127 / 100, so a difference of two such
@@ -20,8 +18,6 @@ static int is_blank(char c) { return c == ' ' || c == '\t'; }
  * clamp only keeps the scale arithmetic from overflowing. */
 #define EXP_CLAMP 1000000000LL
 
-__extension__ typedef __int128 i128;
-__extension__ typedef unsigned __int128 u128;
 
 /* value = (neg ? −1 : 1) · dig[0..ndig) · 10^exp, with no leading or trailing zeros
  * in dig; zero has ndig = 0. toolong: more than MAX_DIGITS significant digits. */
@@ -116,7 +112,7 @@ static const char *not_number_reason(const char *s, char *buf)
     if (end > s + a && (size_t)(end - s) < b) {
         /* a number, then text: "4.94 MPa", "12%" */
         const char *rest = end;
-        while (is_blank(*rest)) rest++;
+        while (sturdy_table_is_blank(*rest)) rest++;
         unsigned char c = (unsigned char)*rest;
         if ((c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || c == '%' || c >= 0x80) {
             sturdy_table_show(shown, rest);
@@ -136,17 +132,15 @@ static sturdy_status numeric_error(const sturdy_table *t, size_t col, size_t r,
     sturdy_table_show(name, t->cols[col].name);
     sturdy_table_show(text, s);
     if (t->cols[col].missing[r])
-        sturdy_table_set_err(err, "%s: line %zu (row %zu), column '%s': the value is missing "
-                             "(%s%s%s)", t->source, t->line[r], r + 1, name,
-                             s[0] ? "'" : "empty field", text, s[0] ? "'" : "");
-    else
-        sturdy_table_set_err(err, "%s: line %zu (row %zu), column '%s': '%s' %s", t->source,
-                             t->line[r], r + 1, name, text, what);
-    return STURDY_EDATA;
+        return sturdy_fail(err, STURDY_EDATA, "%s: line %zu (row %zu), column '%s': the value "
+                           "is missing (%s%s%s)", t->source, t->line[r], r + 1, name,
+                           s[0] ? "'" : "empty field", text, s[0] ? "'" : "");
+    return sturdy_fail(err, STURDY_EDATA, "%s: line %zu (row %zu), column '%s': '%s' %s",
+                       t->source, t->line[r], r + 1, name, text, what);
 }
 
 /* Decimal digits of m, most significant first, into buf (at least 40 bytes). */
-static void u128_str(u128 m, char *buf)
+static void u128_str(sturdy_u128 m, char *buf)
 {
     char tmp[48];
     size_t k = 0;
@@ -158,17 +152,17 @@ static void u128_str(u128 m, char *buf)
 /* Round v · 10^(−scale) to double once. Powers 10^0..10^22 are exact doubles, so for
  * |v| < 2^53 one multiplication or division is one correct rounding; otherwise the
  * decimal string goes to strtod, which rounds correctly (glibc). */
-static double scaled_to_double(i128 v, long long scale)
+static double scaled_to_double(sturdy_i128 v, long long scale)
 {
     static const double p10[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
                                  1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21,
                                  1e22};
     const long long maxp = (long long)(sizeof p10 / sizeof p10[0]) - 1;
     int neg = v < 0;
-    u128 m = neg ? (u128)0 - (u128)v : (u128)v;
+    sturdy_u128 m = neg ? (sturdy_u128)0 - (sturdy_u128)v : (sturdy_u128)v;
     char buf[96];
     if (m == 0) return 0.0;
-    if (m < ((u128)1 << 53) && scale >= -maxp && scale <= maxp) {
+    if (m < ((sturdy_u128)1 << 53) && scale >= -maxp && scale <= maxp) {
         double x = (double)(uint64_t)m;
         x = scale >= 0 ? x / p10[scale] : x * p10[-scale];
         return neg ? -x : x;
@@ -180,9 +174,9 @@ static double scaled_to_double(i128 v, long long scale)
 }
 
 /* The value of d at decimal scale `scale` (d.exp + scale ≥ 0, fits by construction). */
-static i128 scaled_mantissa(const decimal *d, long long scale)
+static sturdy_i128 scaled_mantissa(const decimal *d, long long scale)
 {
-    i128 v = 0;
+    sturdy_i128 v = 0;
     for (int k = 0; k < d->ndig; k++) v = 10 * v + (d->dig[k] - '0');
     for (long long k = 0; d->ndig && k < d->exp + scale; k++) v *= 10;
     return d->neg ? -v : v;
@@ -202,17 +196,15 @@ sturdy_status sturdy_table_numeric(const sturdy_table *t, size_t col, const size
     int exact = 1;
     decimal d;
     *ref = 0.0;
-    if (col >= t->ncols) {
-        sturdy_table_set_err(err, "%s: column index %zu out of range", t->source, col);
-        return STURDY_EINTERNAL;
-    }
+    if (col >= t->ncols)
+        return sturdy_fail(err, STURDY_EINTERNAL, "%s: column index %zu out of range",
+                           t->source, col);
     /* Pass 1: validate, and find the common scale and the largest magnitude. */
     for (size_t i = 0; i < nrows; i++) {
         size_t r = rows[i];
-        if (r >= t->nrows) {
-            sturdy_table_set_err(err, "%s: row index %zu out of range", t->source, r);
-            return STURDY_EINTERNAL;
-        }
+        if (r >= t->nrows)
+            return sturdy_fail(err, STURDY_EINTERNAL, "%s: row index %zu out of range",
+                               t->source, r);
         const char *s = t->cols[col].text[r];
         if (t->cols[col].missing[r]) return numeric_error(t, col, r, "", err);
         if (!field_decimal(s, &d)) {
@@ -235,7 +227,7 @@ sturdy_status sturdy_table_numeric(const sturdy_table *t, size_t col, const size
     }
     if (top + scale > MAX_DIGITS) exact = 0;
     /* Pass 2: differences from the reference, rounded once. */
-    i128 r0 = 0;
+    sturdy_i128 r0 = 0;
     if (exact) {
         field_decimal(t->cols[col].text[rows[0]], &d);
         r0 = scaled_mantissa(&d, scale);

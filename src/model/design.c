@@ -201,51 +201,118 @@ static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t
     return STURDY_OK;
 }
 
-static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
-                           sturdy_design *d, char *err)
+/* The spec names a response, a factor or covariate, and not too many factors. */
+static sturdy_status check_counts(const sturdy_model_spec *s, char *err)
 {
-    sturdy_status st;
-    size_t nf = s->nfactors, nc = s->ncovariates, nr = s->nresponses;
-    if (nr == 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "no response column given (-y)");
-    if (nf == 0 && nc == 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "no factor given (-f)");
-    if (nf > STURDY_MAX_FACTORS)
-        return sturdy_fail(err, STURDY_EUSAGE, "%zu factors; at most %d are supported", nf,
-                           STURDY_MAX_FACTORS);
-    size_t max_levels = s->max_levels ? s->max_levels : STURDY_DEFAULT_MAX_LEVELS;
-    size_t max_columns = s->max_columns ? s->max_columns : STURDY_DEFAULT_MAX_COLUMNS;
+    if (s->nresponses == 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "no response column given");
+    if (s->nfactors == 0 && s->ncovariates == 0)
+        return sturdy_fail(err, STURDY_EUSAGE, "no factor given");
+    if (s->nfactors > STURDY_MAX_FACTORS)
+        return sturdy_fail(err, STURDY_EUSAGE, "%zu factors; at most %d are supported",
+                           s->nfactors, STURDY_MAX_FACTORS);
+    return STURDY_OK;
+}
 
-    unsigned char *used = calloc(t->ncols ? t->ncols : 1, 1);
-    long *ri = malloc((nr + nf + nc + 1) * sizeof *ri);
-    if (!used || !ri) {
-        free(used); free(ri);
+/* The table columns the spec names, in one array *ri: responses, then factors, then
+ * covariates, then the block (-1 without one); (*used)[c] marks the columns named. Both
+ * are the caller's to free, also on failure. */
+static sturdy_status find_spec_columns(const sturdy_table *t, const sturdy_model_spec *s,
+                                       long **ri, unsigned char **used, char *err)
+{
+    size_t nr = s->nresponses, nf = s->nfactors, nc = s->ncovariates;
+    sturdy_status st;
+    *used = calloc(t->ncols ? t->ncols : 1, 1);
+    *ri = malloc((nr + nf + nc + 1) * sizeof **ri);
+    if (!*used || !*ri)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    long *fi = ri + nr, *ci = fi + nf, *bi = ci + nc;
+    long *fi = *ri + nr, *ci = fi + nf, *bi = ci + nc;
     *bi = -1;
     if ((st = sturdy_levels_check_orders(s, err)) ||
-        (st = find_columns(t, s->responses, nr, "response", ri, used, err)) ||
-        (st = find_columns(t, s->factors, nf, "factor", fi, used, err)) ||
-        (st = find_columns(t, s->covariates, nc, "covariate", ci, used, err)) ||
-        (s->block && (st = find_columns(t, &s->block, 1, "block", bi, used, err)))) {
-        free(used); free(ri);
+        (st = find_columns(t, s->responses, nr, "response", *ri, *used, err)) ||
+        (st = find_columns(t, s->factors, nf, "factor", fi, *used, err)) ||
+        (st = find_columns(t, s->covariates, nc, "covariate", ci, *used, err)) ||
+        (s->block && (st = find_columns(t, &s->block, 1, "block", bi, *used, err))))
         return st;
-    }
+    return STURDY_OK;
+}
 
-    /* rows used: no missing value in any used column */
+/* Why row i, which lacks nmiss used columns (the first: `first`), is left out; NULL when
+ * out of memory. The note names every used column the row lacks, so a row missing only
+ * a second response says so. */
+static char *dropped_reason(const sturdy_table *t, const unsigned char *used, const long *ri,
+                            size_t nr, size_t i, size_t nmiss, long first)
+{
+    char *reason;
+    if (nmiss == 1) {
+        reason = sturdy_asprintf("missing value in column '%s'", t->cols[first].name);
+    } else {
+        sturdy_buf b;
+        sturdy_buf_init(&b);
+        sturdy_buf_puts(&b, "missing values in columns ");
+        for (size_t c = 0, k = 0; c < t->ncols; c++)
+            if (used[c] && t->cols[c].missing[i]) {
+                k++;
+                sturdy_buf_printf(&b, "%s'%s'", k == 1 ? "" : k == nmiss ? " and " : ", ",
+                                  t->cols[c].name);
+            }
+        reason = b.failed ? NULL : sturdy_strdup(b.data);
+        sturdy_buf_free(&b);
+    }
+    int resp_missing = 0, resp_present = 0;
+    for (size_t j = 0; j < nr; j++) {
+        if (t->cols[ri[j]].missing[i]) resp_missing = 1;
+        else resp_present = 1;
+    }
+    if (reason && resp_missing && resp_present) {
+        char *longer = sturdy_asprintf("%s; the row is left out of every response", reason);
+        free(reason);
+        reason = longer;
+    }
+    return reason;
+}
+
+/* The error when no row is left: it names the used column that empties the table the
+ * most. */
+static sturdy_status no_rows_left(const sturdy_table *t, const sturdy_model_spec *s,
+                                  const long *ri, char *err)
+{
+    size_t nspec = s->nresponses + s->nfactors + s->ncovariates + 1;
+    size_t worst = 0, worst_count = 0;
+    for (size_t c = 0; c < t->ncols; c++) {
+        size_t k = 0;
+        int is_used = 0;
+        for (size_t j = 0; j < nspec; j++)
+            is_used |= ri[j] == (long)c;
+        if (!is_used)
+            continue;
+        for (size_t i = 0; i < t->nrows; i++)
+            k += t->cols[c].missing[i];
+        if (k > worst_count) {
+            worst_count = k;
+            worst = c;
+        }
+    }
+    return sturdy_fail(err, STURDY_EDATA,
+                       "%s: no rows left: every one of the %zu rows has a missing value in a "
+                       "column the model uses (column '%s' is missing in %zu rows)",
+                       t->source, t->nrows, t->cols[worst].name, worst_count);
+}
+
+/* The rows used: those with a value in every used column. A row missing any used column
+ * leaves every response, so that all responses share one design (one set of rows, cells
+ * and rearrangements); it is listed in d->dropped with the reason. */
+static sturdy_status select_rows(const sturdy_table *t, const sturdy_model_spec *s,
+                                 sturdy_design *d, const long *ri, const unsigned char *used,
+                                 char *err)
+{
     d->source = sturdy_strdup(t->source);
     d->rows_read = t->nrows;
     d->row = malloc((t->nrows ? t->nrows : 1) * sizeof *d->row);
     d->line = malloc((t->nrows ? t->nrows : 1) * sizeof *d->line);
     d->dropped = calloc(t->nrows ? t->nrows : 1, sizeof *d->dropped);
-    if (!d->source || !d->row || !d->line || !d->dropped) {
-        free(used); free(ri);
+    if (!d->source || !d->row || !d->line || !d->dropped)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    /* A row missing any used column leaves every response, so that all responses share
-     * one design (one set of rows, cells and rearrangements); its note names every
-     * used column it lacks, so a row missing only a second response says so. */
     for (size_t i = 0; i < t->nrows; i++) {
         size_t nmiss = 0;
         long first = -1;
@@ -254,151 +321,109 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
                 if (first < 0) first = (long)c;
                 nmiss++;
             }
-        if (nmiss) {
-            sturdy_dropped *dr = &d->dropped[d->ndropped++];
-            dr->row = i;
-            dr->line = t->line[i];
-            if (nmiss == 1) {
-                dr->reason = sturdy_asprintf("missing value in column '%s'",
-                                             t->cols[first].name);
-            } else {
-                sturdy_buf b;
-                sturdy_buf_init(&b);
-                sturdy_buf_puts(&b, "missing values in columns ");
-                for (size_t c = 0, k = 0; c < t->ncols; c++)
-                    if (used[c] && t->cols[c].missing[i]) {
-                        k++;
-                        sturdy_buf_printf(&b, "%s'%s'", k == 1 ? "" : k == nmiss ? " and "
-                                                                                 : ", ",
-                                          t->cols[c].name);
-                    }
-                dr->reason = b.failed ? NULL : sturdy_strdup(b.data);
-                sturdy_buf_free(&b);
-            }
-            int resp_missing = 0, resp_present = 0;
-            for (size_t j = 0; j < nr; j++) {
-                if (t->cols[ri[j]].missing[i]) resp_missing = 1;
-                else resp_present = 1;
-            }
-            if (dr->reason && resp_missing && resp_present) {
-                char *longer = sturdy_asprintf("%s; the row is left out of every response",
-                                               dr->reason);
-                free(dr->reason);
-                dr->reason = longer;
-            }
-            if (!dr->reason) {
-                free(used); free(ri);
-                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            }
-        } else {
+        if (!nmiss) {
             d->row[d->n] = i;
             d->line[d->n] = t->line[i];
             d->n++;
+            continue;
         }
+        sturdy_dropped *dr = &d->dropped[d->ndropped++];
+        dr->row = i;
+        dr->line = t->line[i];
+        dr->reason = dropped_reason(t, used, ri, s->nresponses, i, nmiss, first);
+        if (!dr->reason)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
-    free(used);
-    size_t n = d->n;
-    if (n == 0) {
-        /* name the column that empties the table the most */
-        size_t worst = 0, worst_count = 0;
-        for (size_t c = 0; c < t->ncols; c++) {
-            size_t k = 0;
-            int is_used = 0;
-            for (size_t j = 0; j < nr + nf + nc + 1; j++)
-                is_used |= ri[j] == (long)c;
-            if (!is_used)
-                continue;
-            for (size_t i = 0; i < t->nrows; i++)
-                k += t->cols[c].missing[i];
-            if (k > worst_count) {
-                worst_count = k;
-                worst = c;
-            }
-        }
-        sturdy_fail(err, STURDY_EDATA,
-                    "%s: no rows left: every one of the %zu rows has a missing value in a "
-                    "column the model uses (column '%s' is missing in %zu rows)",
-                    t->source, t->nrows, t->cols[worst].name, worst_count);
-        free(ri);
-        return STURDY_EDATA;
-    }
-    /* responses and covariates, exactly converted */
-    d->nresp = nr;
+    return d->n ? STURDY_OK : no_rows_left(t, s, ri, err);
+}
+
+/* The responses over the used rows, each converted exactly (sturdy_table_numeric). */
+static sturdy_status read_responses(const sturdy_table *t, const sturdy_model_spec *s,
+                                    sturdy_design *d, const long *ri, char *err)
+{
+    size_t n = d->n, nr = s->nresponses;
+    sturdy_status st;
     d->resp_names = calloc(nr, sizeof *d->resp_names);
     d->y = malloc(n * nr * sizeof *d->y);
     d->y_ref = malloc(nr * sizeof *d->y_ref);
-    d->ncov = nc;
-    d->cov_names = calloc(nc ? nc : 1, sizeof *d->cov_names);
-    d->cov = malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
-    if (!d->resp_names || !d->y || !d->y_ref || !d->cov_names || !d->cov) {
-        free(ri);
+    if (!d->resp_names || !d->y || !d->y_ref)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
+    d->nresp = nr;
     for (size_t r = 0; r < nr; r++) {
         d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name);
         if ((st = sturdy_table_numeric(t, (size_t)ri[r], d->row, n, d->y + r * n,
-                                       &d->y_ref[r], err))) {
-            free(ri);
+                                       &d->y_ref[r], err)))
             return st;
-        }
     }
+    return STURDY_OK;
+}
+
+/* The covariates (columns ci) over the used rows, converted exactly and centred; a
+ * constant one cannot be adjusted for. */
+static sturdy_status read_covariates(const sturdy_table *t, const sturdy_model_spec *s,
+                                     sturdy_design *d, const long *ci, char *err)
+{
+    size_t n = d->n, nc = s->ncovariates;
+    sturdy_status st;
+    d->cov_names = calloc(nc ? nc : 1, sizeof *d->cov_names);
+    d->cov = malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
+    if (!d->cov_names || !d->cov)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    d->ncov = nc;
     for (size_t c = 0; c < nc; c++) {
         double ref, *x = d->cov + c * n;
         d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name);
-        if ((st = sturdy_table_numeric(t, (size_t)ci[c], d->row, n, x, &ref, err))) {
-            free(ri);
+        if ((st = sturdy_table_numeric(t, (size_t)ci[c], d->row, n, x, &ref, err)))
             return st;
-        }
         /* centre (two passes) so the coded columns are well conditioned */
-        double mean = 0.0;
-        for (size_t i = 0; i < n; i++) mean += x[i];
-        mean /= (double)n;
-        double corr = 0.0;
-        for (size_t i = 0; i < n; i++) corr += x[i] - mean;
-        mean += corr / (double)n;
+        double mean;
+        sturdy_centred_ss(x, n, &mean);
         int constant = 1;
         for (size_t i = 0; i < n; i++) {
             x[i] -= mean;
             if (x[i] != x[0]) constant = 0;
         }
-        if (constant) {
-            free(ri);
+        if (constant)
             return sturdy_fail(err, STURDY_EMODEL,
                                "%s: covariate '%s' is constant in the rows used", t->source,
                                d->cov_names[c]);
-        }
     }
+    return STURDY_OK;
+}
 
-    /* factors and block */
-    d->nfactors = nf;
+/* The levels of the factors (columns fi) and of the block (column *bi, or none when
+ * negative), and each used row's level of each. */
+static sturdy_status read_levels(const sturdy_table *t, const sturdy_model_spec *s,
+                                 sturdy_design *d, const long *fi, const long *bi, char *err)
+{
+    size_t n = d->n, nf = s->nfactors;
+    size_t max_levels = s->max_levels ? s->max_levels : STURDY_DEFAULT_MAX_LEVELS;
+    sturdy_status st;
     d->factors = sturdy_calloc(nf, sizeof *d->factors);
     d->level = sturdy_calloc(n * nf, sizeof *d->level);
-    if (!d->factors || !d->level) {
-        free(ri);
+    if (!d->factors || !d->level)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
+    d->nfactors = nf;
     for (size_t f = 0; f < nf; f++)
         if ((st = sturdy_levels_make(t, fi[f], d, s, max_levels, "factor", &d->factors[f],
-                                     d->level + f, nf, err))) {
-            free(ri);
+                                     d->level + f, nf, err)))
             return st;
-        }
-    if (*bi >= 0) {
-        d->has_block = 1;
-        d->block_level = malloc(n * sizeof *d->block_level);
-        if (!d->block_level) {
-            free(ri);
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        }
-        if ((st = sturdy_levels_make(t, *bi, d, s, max_levels, "block", &d->block,
-                                     d->block_level, 1, err))) {
-            free(ri);
-            return st;
-        }
-    }
-    free(ri);
+    if (*bi < 0)
+        return STURDY_OK;
+    d->has_block = 1;
+    d->block_level = malloc(n * sizeof *d->block_level);
+    if (!d->block_level)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    return sturdy_levels_make(t, *bi, d, s, max_levels, "block", &d->block, d->block_level,
+                              1, err);
+}
 
-    /* cells */
+/* Cells: rows sharing every factor level; their sizes and whether the design is
+ * balanced. */
+static sturdy_status make_cells(sturdy_design *d, char *err)
+{
+    size_t n = d->n, nf = d->nfactors;
+    sturdy_status st;
     double possible = 1.0;
     for (size_t f = 0; f < nf; f++)
         possible *= (double)d->factors[f].nlevels;
@@ -427,18 +452,27 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         if (d->cell_count[c] > d->max_cell) d->max_cell = d->cell_count[c];
     }
     d->balanced = d->ncells == d->ncells_possible && d->min_cell == d->max_cell;
+    return STURDY_OK;
+}
 
-    /* groups: rows sharing every coded column */
+/* Groups: rows sharing every coded column (cell and block; each row its own group with
+ * covariates or when the spec asks for it); *first (the caller frees it) gets each
+ * group's first row. */
+static sturdy_status make_groups(sturdy_design *d, const sturdy_model_spec *s,
+                                 size_t **first, char *err)
+{
+    size_t n = d->n;
+    sturdy_status st;
+    *first = NULL;
     d->group = malloc(n * sizeof *d->group);
     if (!d->group)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    if (nc > 0 || s->row_groups) {
+    if (s->ncovariates > 0 || s->row_groups) {
         d->ngroups = n;
-        first = malloc(n * sizeof *first);
-        if (!first)
+        if (!(*first = malloc(n * sizeof **first)))
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         for (size_t i = 0; i < n; i++)
-            d->group[i] = first[i] = i;
+            d->group[i] = (*first)[i] = i;
     } else {
         size_t *keys = malloc(n * 2 * sizeof *keys);
         if (!keys)
@@ -447,33 +481,57 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             keys[2 * i] = d->cell[i];
             keys[2 * i + 1] = d->has_block ? d->block_level[i] : 0;
         }
-        st = group_rows(n, keys, 2, d->group, &d->ngroups, &first, err);
+        st = group_rows(n, keys, 2, d->group, &d->ngroups, first, err);
         free(keys);
         if (st)
             return st;
     }
     d->group_count = calloc(d->ngroups, sizeof *d->group_count);
-    if (!d->group_count) {
-        free(first);
+    if (!d->group_count)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
     for (size_t i = 0; i < n; i++)
         d->group_count[d->group[i]]++;
+    return STURDY_OK;
+}
 
+/* The terms, in the spec's order, and their coded columns, one row per group (first:
+ * each group's first row). */
+static sturdy_status make_terms(sturdy_design *d, const sturdy_model_spec *s,
+                                const size_t *first, char *err)
+{
+    size_t max_columns = s->max_columns ? s->max_columns : STURDY_DEFAULT_MAX_COLUMNS;
+    sturdy_status st;
     if ((st = sturdy_terms_make(d, s->order, max_columns, err)) ||
-        (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err))) {
-        free(first);
+        (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err)))
         return st;
-    }
     d->Xg = malloc(d->ngroups * d->p * sizeof *d->Xg);
-    if (!d->Xg) {
-        free(first);
+    if (!d->Xg)
         return sturdy_fail(err, STURDY_EINTERNAL,
                            "out of memory for the %zu × %zu coded design", d->ngroups, d->p);
-    }
     sturdy_terms_fill_columns(d, first);
-    free(first);
     return STURDY_OK;
+}
+
+static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
+                           sturdy_design *d, char *err)
+{
+    long *ri = NULL;
+    unsigned char *used = NULL;
+    size_t *first = NULL;
+    sturdy_status st = check_counts(s, err);
+    if (!st) st = find_spec_columns(t, s, &ri, &used, err);
+    if (!st) st = select_rows(t, s, d, ri, used, err);
+    free(used);
+    if (!st) st = read_responses(t, s, d, ri, err);
+    if (!st) st = read_covariates(t, s, d, ri + s->nresponses + s->nfactors, err);
+    if (!st) st = read_levels(t, s, d, ri + s->nresponses,
+                              ri + s->nresponses + s->nfactors + s->ncovariates, err);
+    free(ri);
+    if (!st) st = make_cells(d, err);
+    if (!st) st = make_groups(d, s, &first, err);
+    if (!st) st = make_terms(d, s, first, err);
+    free(first);
+    return st;
 }
 
 sturdy_status sturdy_design_build(const sturdy_table *t, const sturdy_model_spec *s,

@@ -34,6 +34,94 @@ static int cmp_u32_desc(const void *a, const void *b)
     return x < y ? 1 : (x > y ? -1 : 0);
 }
 
+/* The block and covariate terms, first in the model: levels − 1 coded columns for the
+ * block, one per covariate, from column *p on. */
+static void add_nuisance_terms(sturdy_design *d, size_t *p, size_t *nt)
+{
+    if (d->has_block) {
+        sturdy_term *t = &d->terms[(*nt)++];
+        t->kind = STURDY_TERM_BLOCK;
+        t->label = sturdy_strdup(d->block.name);
+        t->order = 1;
+        t->col0 = *p;
+        t->ncols = d->block.nlevels - 1;
+        *p += t->ncols;
+    }
+    for (size_t c = 0; c < d->ncov; c++) {
+        sturdy_term *t = &d->terms[(*nt)++];
+        t->kind = STURDY_TERM_COVARIATE;
+        t->index = c;
+        t->label = sturdy_strdup(d->cov_names[c]);
+        t->order = 1;
+        t->col0 = *p;
+        t->ncols = 1;
+        *p += 1;
+    }
+}
+
+/* The factor term of the factors in `mask` (order k) as the next term: its coded
+ * columns from *p on and its label, the factor names joined by "×". STURDY_EMODEL when
+ * the model would need more than max_columns coded columns. */
+static sturdy_status add_factor_term(sturdy_design *d, uint32_t mask, size_t k,
+                                     size_t max_columns, size_t *p, size_t *nt, char *err)
+{
+    size_t m = d->nfactors;
+    sturdy_term *t = &d->terms[(*nt)++];
+    t->kind = STURDY_TERM_FACTORS;
+    t->mask = mask;
+    t->order = k;
+    size_t cols = 1, len = 0;
+    for (size_t f = 0; f < m; f++)
+        if (mask & (1u << f)) {
+            cols *= d->factors[f].nlevels - 1;
+            len += strlen(d->factors[f].name) + 2;
+            if (cols > max_columns)
+                break;
+        }
+    t->ncols = cols;
+    t->col0 = *p;
+    *p += cols;
+    if (cols > max_columns || *p > max_columns + 1)
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "the model needs more than %zu coded columns (at term "
+                           "%zu of order %zu); lower --order or raise --max-columns",
+                           max_columns, *nt, k);
+    t->label = malloc(len + 1);
+    if (!t->label)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    t->label[0] = '\0';
+    for (size_t f = 0; f < m; f++)
+        if (mask & (1u << f)) {
+            if (t->label[0])
+                strcat(t->label, "\xc3\x97"); /* U+00D7 multiplication sign */
+            strcat(t->label, d->factors[f].name);
+        }
+    return STURDY_OK;
+}
+
+/* The factor terms up to order maxord: order by order, and within an order in
+ * lexicographic order of their factor lists (A×B, A×C, B×C). */
+static sturdy_status add_factor_terms(sturdy_design *d, size_t maxord, size_t max_columns,
+                                      size_t *p, size_t *nt, char *err)
+{
+    size_t m = d->nfactors;
+    sturdy_status st = STURDY_OK;
+    uint32_t *masks = malloc(((size_t)1 << m) * sizeof *masks);
+    if (!masks)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t k = 1; k <= maxord && !st; k++) {
+        size_t nk = 0;
+        for (uint32_t mask = (1u << k) - 1; mask; mask = next_combination(mask, m))
+            masks[nk++] = reverse_bits(mask, m);
+        /* reversed masks in descending order = lexicographic factor lists */
+        qsort(masks, nk, sizeof *masks, cmp_u32_desc);
+        for (size_t j = 0; j < nk && !st; j++)
+            st = add_factor_term(d, reverse_bits(masks[j], m), k, max_columns, p, nt, err);
+    }
+    free(masks);
+    return st;
+}
+
 sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns, char *err)
 {
     size_t m = d->nfactors;
@@ -43,74 +131,11 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
     if (!d->terms)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     size_t p = 1, nt = 0;
-    if (d->has_block) {
-        sturdy_term *t = &d->terms[nt++];
-        t->kind = STURDY_TERM_BLOCK;
-        t->label = sturdy_strdup(d->block.name);
-        t->order = 1;
-        t->col0 = p;
-        t->ncols = d->block.nlevels - 1;
-        p += t->ncols;
-    }
-    for (size_t c = 0; c < d->ncov; c++) {
-        sturdy_term *t = &d->terms[nt++];
-        t->kind = STURDY_TERM_COVARIATE;
-        t->index = c;
-        t->label = sturdy_strdup(d->cov_names[c]);
-        t->order = 1;
-        t->col0 = p;
-        t->ncols = 1;
-        p += 1;
-    }
-    uint32_t *masks = malloc(((size_t)1 << m) * sizeof *masks);
-    if (!masks)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t k = 1; k <= maxord; k++) {
-        size_t nk = 0;
-        for (uint32_t mask = (1u << k) - 1; mask; mask = next_combination(mask, m))
-            masks[nk++] = reverse_bits(mask, m);
-        /* reversed masks in descending order = lexicographic factor lists */
-        qsort(masks, nk, sizeof *masks, cmp_u32_desc);
-        for (size_t j = 0; j < nk; j++) {
-            uint32_t mask = reverse_bits(masks[j], m);
-            sturdy_term *t = &d->terms[nt++];
-            t->kind = STURDY_TERM_FACTORS;
-            t->mask = mask;
-            t->order = k;
-            size_t cols = 1, len = 0;
-            for (size_t f = 0; f < m; f++)
-                if (mask & (1u << f)) {
-                    cols *= d->factors[f].nlevels - 1;
-                    len += strlen(d->factors[f].name) + 2;
-                    if (cols > max_columns)
-                        break;
-                }
-            t->ncols = cols;
-            t->col0 = p;
-            p += cols;
-            if (cols > max_columns || p > max_columns + 1) {
-                free(masks);
-                return sturdy_fail(err, STURDY_EMODEL,
-                                   "the model needs more than %zu coded columns (at term "
-                                   "%zu of order %zu); lower --order or raise --max-columns",
-                                   max_columns, nt, k);
-            }
-            t->label = malloc(len + 1);
-            if (!t->label) {
-                free(masks);
-                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            }
-            t->label[0] = '\0';
-            for (size_t f = 0; f < m; f++)
-                if (mask & (1u << f)) {
-                    if (t->label[0])
-                        strcat(t->label, "\xc3\x97"); /* U+00D7 multiplication sign */
-                    strcat(t->label, d->factors[f].name);
-                }
-        }
-    }
-    free(masks);
-    d->nterms = nt;
+    add_nuisance_terms(d, &p, &nt);
+    sturdy_status st = add_factor_terms(d, maxord, max_columns, &p, &nt, err);
+    d->nterms = nt; /* also on failure, so that sturdy_design_free frees the labels */
+    if (st)
+        return st;
     d->p = p;
     for (size_t i = 0; i < nt; i++)
         if (!d->terms[i].label)
@@ -182,11 +207,12 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
         while (j < nt && !names_term(d, &d->terms[j], names[i]))
             j++;
         if (j == nt)
-            st = sturdy_fail(err, STURDY_EUSAGE, "--term-order: the model has no term '%s' "
-                             "(name a term as its factors joined by '\xc3\x97', e.g. A\xc3\x97" "B, "
-                             "or a block or covariate by its name)", names[i]);
+            st = sturdy_fail(err, STURDY_EUSAGE, "the order of terms given: the model has no "
+                             "term '%s' (name a term as its factors joined by '\xc3\x97', "
+                             "e.g. A\xc3\x97" "B, or a block or covariate by its name)",
+                             names[i]);
         else if (taken[j])
-            st = sturdy_fail(err, STURDY_EUSAGE, "--term-order: '%s' is listed twice",
+            st = sturdy_fail(err, STURDY_EUSAGE, "the order of terms given lists '%s' twice",
                              names[i]);
         else {
             taken[j] = 1;
@@ -200,8 +226,9 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
     for (size_t a = 0; a < nt && !st; a++)
         for (size_t b = a + 1; b < nt && !st; b++)
             if (term_contains(&d->terms[pos[a]], &d->terms[pos[b]]))
-                st = sturdy_fail(err, STURDY_EUSAGE, "--term-order puts '%s' before '%s', "
-                                 "which it contains; list a term after the terms it contains",
+                st = sturdy_fail(err, STURDY_EUSAGE, "the order of terms given puts '%s' "
+                                 "before '%s', which it contains; list a term after the "
+                                 "terms it contains",
                                  d->terms[pos[a]].label, d->terms[pos[b]].label);
     if (!st) {
         for (size_t i = 0; i < nt; i++)

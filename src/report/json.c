@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "core/result.h"
+#include "sturdy/names.h"
 #include "sturdy/report.h"
 
 /* Nesting the writer supports; the contract needs 6 levels. */
@@ -141,27 +142,6 @@ static void jw_strs_inline(jw *w, const char *key, char *const *s, size_t n)
     sturdy_buf_put(w->b, "]", 1);
 }
 
-static const char *method_name(sturdy_method m)
-{
-    switch (m) {
-    case STURDY_METHOD_FREEDMAN_LANE: return "freedman-lane";
-    case STURDY_METHOD_TER_BRAAK: return "ter-braak";
-    case STURDY_METHOD_RAW: return "raw";
-    }
-    return "unknown";
-}
-
-static const char *scheme_name(sturdy_boot_scheme s)
-{
-    switch (s) {
-    case STURDY_BOOT_RESIDUAL: return "residual";
-    case STURDY_BOOT_WILD: return "wild";
-    case STURDY_BOOT_CELLS: return "cells";
-    case STURDY_BOOT_DEFAULT: break;
-    }
-    return "default";
-}
-
 static void write_input(jw *w, const sturdy_result *r)
 {
     const sturdy_design *d = r->design;
@@ -227,12 +207,12 @@ static void write_settings(jw *w, const sturdy_result *r)
 {
     jw_open(w, "settings", '{');
     jw_u64(w, "ss_type", (uint64_t)r->ss_type);
-    jw_str(w, "method", method_name(r->method));
+    jw_str(w, "method", sturdy_method_name(r->method));
     jw_bool(w, "flip", r->opts.flip);
     jw_u64(w, "permutations", r->nperm);
     jw_bool(w, "exact", r->exact);
     jw_u64(w, "bootstrap", r->nboot);
-    jw_str(w, "bootstrap_scheme", scheme_name(r->boot_scheme));
+    jw_str(w, "bootstrap_scheme", sturdy_boot_scheme_name(r->boot_scheme));
     jw_str(w, "spread_scheme", sturdy_spread_scheme_name(r->spread_scheme));
     jw_u64(w, "seed", r->opts.seed);
     jw_num(w, "conf", r->opts.conf);

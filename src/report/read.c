@@ -11,6 +11,7 @@
 #include "core/core.h"
 #include "core/result.h"
 #include "core/jsonread.h"
+#include "sturdy/names.h"
 #include "sturdy/report.h"
 
 /* --- small typed readers ------------------------------------------------------------ */
@@ -70,15 +71,6 @@ static int get_bool(const jv *obj, const char *key, int *out)
     return 1;
 }
 
-/* The index of `text` in names[0..n), or -1. */
-static int name_index(const char *text, const char *const *names, int n)
-{
-    for (int i = 0; text && i < n; i++)
-        if (!strcmp(text, names[i]))
-            return i;
-    return -1;
-}
-
 static jv *parse(const char *name, const char *text, size_t len, char *err)
 {
     char why[256];
@@ -126,11 +118,36 @@ static int read_names(sturdy_result *r, const jv *arr, const char *key,
     return 1;
 }
 
-static const char *const method_names[] = { "freedman-lane", "ter-braak", "raw" };
-static const char *const scheme_names[] = { "residual", "wild", "cells" };
-static const char *const spread_names[] = { "none", "wild-bootstrap", "permutation" };
-static const char *const verdict_names[] = { "both", "neither", "classical-only",
-                                             "resampling-only" };
+/* The value of an enum whose result name (names.h) is `text`, or -1. */
+static int method_of(const char *text)
+{
+    for (int m = STURDY_METHOD_FREEDMAN_LANE; text && m <= STURDY_METHOD_RAW; m++)
+        if (!strcmp(text, sturdy_method_name((sturdy_method)m))) return m;
+    return -1;
+}
+
+static int boot_scheme_of(const char *text)
+{
+    for (int b = STURDY_BOOT_RESIDUAL; text && b <= STURDY_BOOT_CELLS; b++)
+        if (!strcmp(text, sturdy_boot_scheme_name((sturdy_boot_scheme)b))) return b;
+    return -1;
+}
+
+static int spread_scheme_of(const char *text)
+{
+    for (int s = STURDY_SPREAD_NONE; text && s <= STURDY_SPREAD_PERMUTATION; s++)
+        if (!strcmp(text, sturdy_spread_scheme_name((sturdy_spread_scheme)s))) return s;
+    return -1;
+}
+
+/* STURDY_VERDICT_NONE for null, the verdict its name names, or -1. */
+static int verdict_of(const char *text)
+{
+    if (!text) return STURDY_VERDICT_NONE;
+    for (int v = STURDY_VERDICT_BOTH; v <= STURDY_VERDICT_RESAMPLING_ONLY; v++)
+        if (!strcmp(text, sturdy_verdict_name((sturdy_verdict)v))) return v;
+    return -1;
+}
 
 static const char *read_settings(sturdy_result *r, const jv *doc)
 {
@@ -144,8 +161,7 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
              get_u64(s, "seed", &o->seed) && get_num(s, "conf", &o->conf) &&
              get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
              get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread);
-    int m = name_index(method, method_names, 3), b = name_index(scheme, scheme_names, 3);
-    int sp = name_index(spread, spread_names, 3);
+    int m = method_of(method), b = boot_scheme_of(scheme), sp = spread_scheme_of(spread);
     free(method); free(scheme); free(spread);
     if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
         return "settings";
@@ -225,11 +241,11 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              get_str(t, "verdict", &verdict) && get_str(t, "verdict_reason", &tr->verdict_reason) &&
              is_kind(ci, JV_OBJECT) && is_kind(factors, JV_ARRAY) &&
              read_uv(jv_get(t, "unequal_variance"), &tr->uv);
-    int v = verdict ? name_index(verdict, verdict_names, 4) : -2;
+    int v = verdict_of(verdict);
     free(verdict);
-    if (!ok || v == -1)
+    if (!ok || v < 0)
         return 0;
-    tr->verdict = v < 0 ? STURDY_VERDICT_NONE : (sturdy_verdict)(v + 1);
+    tr->verdict = (sturdy_verdict)v;
     tr->ncf.lo = tr->ncf.hi = NAN;
     for (int e = 0; e < STURDY_NES && ok; e++) {
         const jv *c = jv_get(ci, sturdy_es_names[e]);

@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "report/text.h"
+#include "sturdy/names.h"
 
 /* A factor that reads like a replicate or run number, or NULL. */
 static const char *replicate_like(const sturdy_design *d)
@@ -53,112 +54,140 @@ int tw_untested_cause(tw *w)
     return 1;
 }
 
-void tw_run_section(tw *w)
+/* Each line of "The run" is built in `s` (emptied first) and written under its label. */
+
+static void data_lines(tw *w, const sturdy_design *d, sturdy_buf *s)
+{
+    s->len = 0;
+    sturdy_buf_printf(s, "%s: %zu of %zu rows used", d->source ? d->source : "?", d->n,
+                      d->rows_read);
+    if (d->ndropped)
+        sturdy_buf_printf(s, "; %zu left out (see the notes)", d->ndropped);
+    tw_labelled(w, "data", s->data);
+    s->len = 0;
+    for (size_t f = 0; f < d->nfactors; f++)
+        sturdy_buf_printf(s, "%s%s (%zu%s)", f ? " × " : "", d->factors[f].name,
+                          d->factors[f].nlevels, f ? "" : " levels");
+    if (d->has_block)
+        sturdy_buf_printf(s, "; block %s (%zu levels)", d->block.name, d->block.nlevels);
+    for (size_t k = 0; k < d->ncov; k++)
+        sturdy_buf_printf(s, "%s%s", k ? ", " : "; covariates ", d->cov_names[k]);
+    sturdy_buf_printf(s, ". %zu of %zu cells filled, ", d->ncells, d->ncells_possible);
+    if (d->min_cell == d->max_cell)
+        sturdy_buf_printf(s, "%zu row%s each", d->min_cell, d->min_cell == 1 ? "" : "s");
+    else
+        sturdy_buf_printf(s, "%zu–%zu rows each", d->min_cell, d->max_cell);
+    sturdy_buf_printf(s, ", %s.", d->balanced ? "balanced" : "unbalanced");
+    tw_labelled(w, "design", s->data);
+}
+
+static void model_line(tw *w, const sturdy_design *d, sturdy_buf *s)
 {
     const sturdy_result *r = w->r;
-    const sturdy_design *d = r->design;
-    sturdy_buf s;
-    sturdy_buf_init(&s);
-    char c[32];
-    tw_fmt_g(r->opts.conf * 100, 4, c);
-    tw_heading(w, "The run");
-    if (d) {
-        sturdy_buf_printf(&s, "%s: %zu of %zu rows used", d->source ? d->source : "?", d->n,
-                          d->rows_read);
-        if (d->ndropped)
-            sturdy_buf_printf(&s, "; %zu left out (see the notes)", d->ndropped);
-        tw_labelled(w, "data", s.data);
-        s.len = 0;
-        for (size_t f = 0; f < d->nfactors; f++)
-            sturdy_buf_printf(&s, "%s%s (%zu%s)", f ? " × " : "", d->factors[f].name,
-                              d->factors[f].nlevels, f ? "" : " levels");
-        if (d->has_block)
-            sturdy_buf_printf(&s, "; block %s (%zu levels)", d->block.name,
-                              d->block.nlevels);
-        for (size_t k = 0; k < d->ncov; k++)
-            sturdy_buf_printf(&s, "%s%s", k ? ", " : "; covariates ", d->cov_names[k]);
-        sturdy_buf_printf(&s, ". %zu of %zu cells filled, ", d->ncells, d->ncells_possible);
-        if (d->min_cell == d->max_cell)
-            sturdy_buf_printf(&s, "%zu row%s each", d->min_cell, d->min_cell == 1 ? "" : "s");
-        else
-            sturdy_buf_printf(&s, "%zu–%zu rows each", d->min_cell, d->max_cell);
-        sturdy_buf_printf(&s, ", %s.", d->balanced ? "balanced" : "unbalanced");
-        tw_labelled(w, "design", s.data);
-        s.len = 0;
-    }
     static const char *const ss_words[] = { "", "Type I (sequential)",
                                             "Type II (hierarchical)",
                                             "Type III (each term adjusted for all others)" };
-    sturdy_buf_printf(&s, "sums of squares of %s",
+    s->len = 0;
+    sturdy_buf_printf(s, "sums of squares of %s",
                       r->ss_type >= 1 && r->ss_type <= 3 ? ss_words[r->ss_type] : "?");
     if (r->opts.model.order == 1)
-        sturdy_buf_puts(&s, "; main effects only (--order 1)");
+        sturdy_buf_puts(s, "; main effects only (--order 1)");
     else if (r->opts.model.order > 1 && d && (size_t)r->opts.model.order < d->nfactors)
-        sturdy_buf_printf(&s, "; main effects and interactions of up to %d factors "
+        sturdy_buf_printf(s, "; main effects and interactions of up to %d factors "
                           "(--order %d)", r->opts.model.order, r->opts.model.order);
-    tw_labelled(w, "model", s.data);
-    s.len = 0;
-    static const char *const method_words[] = {
-        "Freedman–Lane (Freedman & Lane 1983)", "ter Braak (1992)", "raw-data"
-    };
+    tw_labelled(w, "model", s->data);
+}
+
+static void resampling_line(tw *w, const sturdy_design *d, sturdy_buf *s)
+{
+    const sturdy_result *r = w->r;
     int no_df = 0;
     for (size_t i = 0; i < r->nresp; i++) no_df |= r->resp[i].df_error == 0;
+    s->len = 0;
     if (r->nperm == 0) {
-        sturdy_buf_puts(&s, "none (-B 0)");
+        sturdy_buf_puts(s, "none (-B 0)");
     } else if (no_df && sturdy_result_tested_terms(r) == 0) {
-        sturdy_buf_printf(&s, "none: with no residual degrees of freedom there is no F to "
+        sturdy_buf_printf(s, "none: with no residual degrees of freedom there is no F to "
                           "rearrange (%llu rearrangements were asked for)",
                           (unsigned long long)r->nperm);
     } else {
-        sturdy_buf_printf(&s, "%s %s, %llu %s", (unsigned)r->method <= 2 ? method_words[r->method]
-                                                                     : "?",
+        sturdy_buf_printf(s, "%s %s, %llu %s", sturdy_method_description(r->method),
                           r->opts.flip ? "sign-flipping" : "permutation",
                           (unsigned long long)r->nperm,
                           r->exact ? "rearrangements, all there are (exact)"
                                    : "random rearrangements");
         /* rearrange.c: with sign flips there is one block and the flips are row by row */
         if (d && d->has_block && r->opts.flip)
-            sturdy_buf_printf(&s, ", row by row (the block '%s' does not restrict the flips; "
+            sturdy_buf_printf(s, ", row by row (the block '%s' does not restrict the flips; "
                               "its term is tested like any other)", d->block.name);
         else if (d && d->has_block)
-            sturdy_buf_printf(&s, ", within levels of %s", d->block.name);
+            sturdy_buf_printf(s, ", within levels of %s", d->block.name);
     }
-    tw_labelled(w, "resampling", s.data);
-    s.len = 0;
-    sturdy_buf_printf(&s, "Welch–James statistic with %s (Welch 1951; "
+    tw_labelled(w, "resampling", s->data);
+}
+
+static void unequal_line(tw *w, sturdy_buf *s)
+{
+    const sturdy_result *r = w->r;
+    s->len = 0;
+    sturdy_buf_printf(s, "Welch–James statistic with %s (Welch 1951; "
                       "Johansen 1980), ", r->uv_hc3 ? "HC3 variances (Long & Ervin 2000)"
                                                     : "each cell's own variance");
-    sturdy_buf_printf(&s, "p from %s; it holds α when cell variances differ, where F and "
+    sturdy_buf_printf(s, "p from %s; it holds α when cell variances differ, where F and "
                       "its rearrangements do not", r->uv_hc3 ? "F(df, residual df)"
                                                              : "Johansen's approximate F");
     if (r->nperm > 0 && r->spread_scheme != STURDY_SPREAD_NONE)
-        sturdy_buf_printf(&s, ". Under each term also its %s p (%s), which runs liberal in "
+        sturdy_buf_printf(s, ". Under each term also its %s p (%s), which runs liberal in "
                           "cells of 3 rows", r->spread_scheme == STURDY_SPREAD_PERMUTATION
                                                  ? "permuted" : "wild-bootstrap",
                           r->spread_scheme == STURDY_SPREAD_PERMUTATION
                               ? "Pauly, Brunner & Konietschke 2015"
                               : "Davidson & Flachaire 2008");
-    tw_labelled(w, "unequal var", s.data);
-    s.len = 0;
-    static const char *const scheme_words[] = { "residual (Davison & Hinkley 1997)",
-                                                "wild (Wu 1986)", "cells" };
-    if (r->nboot == 0 && r->opts.bootstrap == 0) sturdy_buf_puts(&s, "none (--bootstrap 0)");
+    tw_labelled(w, "unequal var", s->data);
+}
+
+static void bootstrap_line(tw *w, sturdy_buf *s)
+{
+    const sturdy_result *r = w->r;
+    char c[32];
+    tw_fmt_g(r->opts.conf * 100, 4, c);
+    s->len = 0;
+    if (r->nboot == 0 && r->opts.bootstrap == 0) sturdy_buf_puts(s, "none (--bootstrap 0)");
     else if (r->nboot == 0)
-        sturdy_buf_printf(&s, "none: with no residual degrees of freedom there are no "
+        sturdy_buf_printf(s, "none: with no residual degrees of freedom there are no "
                           "residuals to resample (%llu replicates were asked for)",
                           (unsigned long long)r->opts.bootstrap);
     else
-        sturdy_buf_printf(&s, "%llu replicates, %s scheme; %s%% intervals",
+        sturdy_buf_printf(s, "%llu replicates, %s scheme; %s%% intervals",
                           (unsigned long long)r->nboot,
-                          (unsigned)r->boot_scheme <= 2 ? scheme_words[r->boot_scheme] : "?",
-                          c);
+                          sturdy_boot_scheme_description(r->boot_scheme), c);
+    tw_labelled(w, "bootstrap", s->data);
+}
+
+static void level_seed_line(tw *w, sturdy_buf *s)
+{
+    const sturdy_result *r = w->r;
     char a[32];
     tw_fmt_g(r->opts.alpha, 3, a);
-    tw_labelled(w, "bootstrap", s.data);
-    s.len = 0;
-    sturdy_buf_printf(&s, "α = %s; seed %llu (the same seed repeats the same random draws)",
+    s->len = 0;
+    sturdy_buf_printf(s, "α = %s; seed %llu (the same seed repeats the same random draws)",
                       a, (unsigned long long)r->opts.seed);
-    tw_labelled(w, "level, seed", s.data);
+    tw_labelled(w, "level, seed", s->data);
+}
+
+void tw_run_section(tw *w)
+{
+    const sturdy_design *d = w->r->design;
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    tw_heading(w, "The run");
+    if (d)
+        data_lines(w, d, &s);
+    model_line(w, d, &s);
+    resampling_line(w, d, &s);
+    unequal_line(w, &s);
+    bootstrap_line(w, &s);
+    level_seed_line(w, &s);
     if (s.failed) w->b->failed = 1;
     sturdy_buf_free(&s);
     tw_nl(w);

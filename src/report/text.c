@@ -168,85 +168,104 @@ static void verdict_finds(const sturdy_term_result *t, int *f, int *rs)
     *rs = t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_RESAMPLING_ONLY;
 }
 
-static void headline(tw *w)
+/* How many terms have a verdict (avail), reach the same conclusion with every test they
+ * have (agree), of those are significant (both), and have an unequal-variance p. */
+typedef struct {
+    size_t avail, agree, both, with_uv;
+} agreement;
+
+static agreement count_agreement(const sturdy_result *r)
 {
-    const sturdy_result *r = w->r;
-    size_t avail = 0, agree = 0, both = 0, with_uv = 0;
+    agreement ag = { 0, 0, 0, 0 };
     double alpha = r->opts.alpha;
     for (size_t i = 0; i < r->nresp; i++)
         for (size_t k = 0; k < r->resp[i].nterms; k++) {
             const sturdy_term_result *t = &r->resp[i].terms[k];
             if (t->verdict == STURDY_VERDICT_NONE) continue;
-            avail++;
+            ag.avail++;
             double pu = uv_p(&t->uv);
             int f, rs;
             verdict_finds(t, &f, &rs);
             int same = f == rs && (isnan(pu) || (pu <= alpha) == f);
-            if (!isnan(pu)) with_uv++;
-            agree += same;
-            both += same && f;
+            if (!isnan(pu)) ag.with_uv++;
+            ag.agree += same;
+            ag.both += same && f;
         }
-    char a[32], s[512];
-    const char *which = with_uv ? "the F-test, resampling and the unequal-variance test"
-                                : "the F-test and with resampling";
-    tw_fmt_g(alpha, 3, a);
-    tw_heading(w, "In short");
-    for (size_t i = 0; r->design && i < r->design->nwarnings; i++)
-        tw_paraf(w, 2, 4, "! %s.", r->design->warnings[i]);
-    if (tw_untested_cause(w)) {
-        tw_nl(w);
-        return;
-    }
-    if (r->finished) spread_headline(w);
+    return ag;
+}
+
+/* One line per term on which the tests disagree: which find it, and the likely reason. */
+static void disagreement_lines(tw *w)
+{
+    const sturdy_result *r = w->r;
+    double alpha = r->opts.alpha;
+    for (size_t i = 0; i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++) {
+            const sturdy_term_result *t = &r->resp[i].terms[k];
+            if (t->verdict == STURDY_VERDICT_NONE) continue;
+            double pu = uv_p(&t->uv);
+            int f, rs;
+            verdict_finds(t, &f, &rs);
+            int u = isnan(pu) ? -1 : pu <= alpha;
+            if (f == rs && (u < 0 || u == f)) continue;
+            const char *why = f != rs && t->verdict_reason ? t->verdict_reason
+                              : r->resp[i].diag.spread_differs
+                                  ? "the cell spreads differ, and only the "
+                                    "unequal-variance test holds α then"
+                                  : "only the unequal-variance test allows for unequal "
+                                    "cell variances; the spread check does not flag "
+                                    "them here, though it misses many in small cells";
+            size_t wl = strlen(why);
+            const char *by = tests_finding(f, rs, u);
+            char pw[40] = "";
+            if (u >= 0) {
+                tw_fmt_p(pu, pw + 2);
+                memcpy(pw, "p ", 2);
+            }
+            tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": significant by %s%s%s%s%s%s%s%s",
+                     TERM_NAME_ARGS(w, &r->resp[i], t), by ? by : "none of the tests",
+                     by ? " only" : "", u >= 0 ? " (unequal-variance " : "", pw,
+                     u >= 0 ? ")" : "", wl ? " — " : "", why,
+                     wl && why[wl - 1] == '.' ? "" : ".");
+        }
+}
+
+/* The headline's main paragraph: how many terms the tests agree on (a: alpha as
+ * printed), then each disagreement; or why there is nothing to compare. */
+static void agreement_lines(tw *w, const agreement *ag, const char *a)
+{
+    const sturdy_result *r = w->r;
+    char s[512];
+    const char *which = ag->with_uv ? "the F-test, resampling and the unequal-variance test"
+                                    : "the F-test and with resampling";
     if (!r->finished) {
         tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
                          "and verdicts appear once 'sturdy merge' has combined all shards.");
     } else if (r->nperm == 0) {
         tw_para(w, 2, 2, "No resampling test was run (-B 0), so only the F-tests are shown. "
                          "Rerun with -B 9999 to check them.");
-    } else if (avail == 0) {
+    } else if (ag->avail == 0) {
         tw_para(w, 2, 2, "No term could be compared between the F-test and resampling; the "
                          "footnotes below say why.");
-    } else if (agree == avail) {
+    } else if (ag->agree == ag->avail) {
         snprintf(s, sizeof s, "All %zu tested terms reach the same conclusion with %s at "
-                 "α = %s (%zu significant by %s, %zu by none).", avail, which, a, both,
-                 with_uv ? "all" : "both", avail - both);
+                 "α = %s (%zu significant by %s, %zu by none).", ag->avail, which, a,
+                 ag->both, ag->with_uv ? "all" : "both", ag->avail - ag->both);
         tw_para(w, 2, 2, s);
     } else {
         snprintf(s, sizeof s, "%zu of %zu tested terms reach the same conclusion with %s at "
-                 "α = %s; %zu %s not:", agree, avail, which, a, avail - agree,
-                 avail - agree == 1 ? "does" : "do");
+                 "α = %s; %zu %s not:", ag->agree, ag->avail, which, a,
+                 ag->avail - ag->agree, ag->avail - ag->agree == 1 ? "does" : "do");
         tw_para(w, 2, 2, s);
-        for (size_t i = 0; i < r->nresp; i++)
-            for (size_t k = 0; k < r->resp[i].nterms; k++) {
-                const sturdy_term_result *t = &r->resp[i].terms[k];
-                if (t->verdict == STURDY_VERDICT_NONE) continue;
-                double pu = uv_p(&t->uv);
-                int f, rs;
-                verdict_finds(t, &f, &rs);
-                int u = isnan(pu) ? -1 : pu <= alpha;
-                if (f == rs && (u < 0 || u == f)) continue;
-                const char *why = f != rs && t->verdict_reason ? t->verdict_reason
-                                  : r->resp[i].diag.spread_differs
-                                      ? "the cell spreads differ, and only the "
-                                        "unequal-variance test holds α then"
-                                      : "only the unequal-variance test allows for unequal "
-                                        "cell variances; the spread check does not flag "
-                                        "them here, though it misses many in small cells";
-                size_t wl = strlen(why);
-                const char *by = tests_finding(f, rs, u);
-                char pw[40] = "";
-                if (u >= 0) {
-                    tw_fmt_p(pu, pw + 2);
-                    memcpy(pw, "p ", 2);
-                }
-                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": significant by %s%s%s%s%s%s%s%s",
-                         TERM_NAME_ARGS(w, &r->resp[i], t), by ? by : "none of the tests",
-                         by ? " only" : "", u >= 0 ? " (unequal-variance " : "", pw,
-                         u >= 0 ? ")" : "", wl ? " — " : "", why,
-                         wl && why[wl - 1] == '.' ? "" : ".");
-            }
+        disagreement_lines(w);
     }
+}
+
+/* One line per term whose resampled p is too close to alpha (a, as printed) to call,
+ * unless it is listed among the disagreements already. */
+static void close_call_lines(tw *w, const char *a)
+{
+    const sturdy_result *r = w->r;
     for (size_t i = 0; r->finished && !r->exact && i < r->nresp; i++)
         for (size_t k = 0; k < r->resp[i].nterms; k++) {
             const sturdy_term_result *t = &r->resp[i].terms[k];
@@ -264,6 +283,26 @@ static void headline(tw *w)
                      a, (unsigned long long)(r->nperm >= UINT64_MAX / 10 - 10
                                              ? r->nperm : (r->nperm + 1) * 10 - 1));
         }
+}
+
+/* "In short": the design's warnings, then why nothing was tested, or the spread
+ * warning, the agreement of the tests and the close calls. */
+static void headline(tw *w)
+{
+    const sturdy_result *r = w->r;
+    agreement ag = count_agreement(r);
+    char a[32];
+    tw_fmt_g(r->opts.alpha, 3, a);
+    tw_heading(w, "In short");
+    for (size_t i = 0; r->design && i < r->design->nwarnings; i++)
+        tw_paraf(w, 2, 4, "! %s.", r->design->warnings[i]);
+    if (tw_untested_cause(w)) {
+        tw_nl(w);
+        return;
+    }
+    if (r->finished) spread_headline(w);
+    agreement_lines(w, &ag, a);
+    close_call_lines(w, a);
     tw_nl(w);
 }
 

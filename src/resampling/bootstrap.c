@@ -21,10 +21,9 @@
 #include "sturdy/dist.h"
 #include "resampling/pcg_inline.h"
 
-/* A row whose leverage is within this of 1 is alone in its group: its residual is 0 and
- * its leave-one-out fit is undefined, so it is left out of the residual pool and of the
- * jackknife. */
-#define LEVERAGE_ONE_TOL 1e-10
+/* A row whose leverage is within STURDY_LEVERAGE_ONE_TOL of 1 is alone in its group:
+ * its residual is 0 and its leave-one-out fit is undefined, so it is left out of the
+ * residual pool and of the jackknife. */
 
 typedef struct {
     double *fc;        /* n: centred fitted values */
@@ -132,15 +131,13 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
     sturdy_model_group_scaled(d, m, y, s);
     sturdy_model_project(d, m, tb->Ured, tb->rank_red, s, work, ered);
     sturdy_model_project(d, m, tb->Uterm, tb->df, s, work, eaug);
-    double rss_red = 0.0, rss_aug = 0.0, mean = 0.0;
+    double rss_red = 0.0, rss_aug = 0.0, mean = sturdy_mean(y, n);
     for (size_t i = 0; i < n; i++) {
         ered[i] = y[i] - ered[i];
         eaug[i] = ered[i] - eaug[i];
         rss_red += ered[i] * ered[i];
         rss_aug += eaug[i] * eaug[i];
-        mean += y[i];
     }
-    mean /= (double)n;
     for (size_t g = 0; g < K; g++) {
         for (size_t q = 0; q < tb->rank_red; q++)
             hred[g] += tb->Ured[q * K + g] * tb->Ured[q * K + g];
@@ -155,8 +152,8 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
         size_t g = d->group[i];
         double hf = m->leverage[g];
         double *out = jack + i * STURDY_NES;
-        if (hf >= 1 - LEVERAGE_ONE_TOL || haug[g] >= 1 - LEVERAGE_ONE_TOL ||
-            hred[g] >= 1 - LEVERAGE_ONE_TOL) {
+        if (hf >= 1 - STURDY_LEVERAGE_ONE_TOL || haug[g] >= 1 - STURDY_LEVERAGE_ONE_TOL ||
+            hred[g] >= 1 - STURDY_LEVERAGE_ONE_TOL) {
             for (int e = 0; e < STURDY_NES; e++)
                 out[e] = NAN;
             continue;
@@ -228,20 +225,10 @@ static sturdy_status setup(boot_ctx *c, char *err)
     if (!c->rb)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
-        c->grp_start = calloc(K + 1, sizeof *c->grp_start);
-        c->grp_rows = malloc(n * sizeof *c->grp_rows);
-        size_t *fill = calloc(K, sizeof *fill);
-        if (!c->grp_start || !c->grp_rows || !fill) {
-            free(fill);
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        }
-        for (size_t i = 0; i < n; i++)
-            c->grp_start[d->group[i] + 1]++;
-        for (size_t g = 0; g < K; g++)
-            c->grp_start[g + 1] += c->grp_start[g];
-        for (size_t i = 0; i < n; i++)
-            c->grp_rows[c->grp_start[d->group[i]] + fill[d->group[i]]++] = i;
-        free(fill);
+        sturdy_status st = sturdy_bucket_rows(d->group, n, K, &c->grp_start, &c->grp_rows,
+                                              err);
+        if (st)
+            return st;
     }
     for (size_t ri = 0; ri < c->r->nresp; ri++) {
         resp_boot *rb = &c->rb[ri];
@@ -253,10 +240,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
         rb->pool = malloc(n * sizeof *rb->pool);
         if (!rb->fc || !rb->sf || !rb->a || !rb->pool)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        double mean = 0.0;
-        for (size_t i = 0; i < n; i++)
-            mean += y[i];
-        mean /= (double)n;
+        double mean = sturdy_mean(y, n);
         rb->ff = 0.0;
         for (size_t i = 0; i < n; i++) {
             rb->fc[i] = y[i] - resp->residual[i] - mean;
@@ -271,7 +255,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
         rb->npool = 0;
         for (size_t i = 0; i < n; i++) {
             double h = m->leverage[d->group[i]];
-            if (h < 1 - LEVERAGE_ONE_TOL) {
+            if (h < 1 - STURDY_LEVERAGE_ONE_TOL) {
                 rb->a[i] = resp->residual[i] / sqrt(1 - h);
                 rb->pool[rb->npool++] = i;
                 abar += rb->a[i];
@@ -364,12 +348,6 @@ done:
     return st;
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return x < y ? -1 : (x > y);
-}
-
 /* Quantile with linear interpolation between order statistics, position (B−1)·q
  * (Hyndman & Fan 1996, definition 7; numpy's default, which scipy.stats.bootstrap uses). */
 static double quantile_sorted(const double *x, size_t B, double q)
@@ -408,7 +386,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         t->ci_pct[e].lo = t->ci_pct[e].hi = t->ci_bca[e].lo = t->ci_bca[e].hi = NAN;
         if (k < 2 || !isfinite(theta))
             continue;
-        qsort(x, k, sizeof *x, cmp_double);
+        qsort(x, k, sizeof *x, sturdy_cmp_double);
         t->ci_pct[e].lo = quantile_sorted(x, k, a2);
         t->ci_pct[e].hi = quantile_sorted(x, k, 1 - a2);
         /* BCa (Efron 1987): bias correction z0 from the share of replicates below the

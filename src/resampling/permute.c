@@ -20,7 +20,6 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 
 #include "resampling/resampling.h"
 #include "core/core.h"
@@ -275,10 +274,7 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             for (size_t i = 0; i < n; i++)
                 v[i] = rr->residual[i];
         } else if (run->opts.method == STURDY_METHOD_RAW) {
-            double mean = 0.0;
-            for (size_t i = 0; i < n; i++)
-                mean += y[i];
-            mean /= (double)n;
+            double mean = sturdy_mean(y, n);
             for (size_t i = 0; i < n; i++)
                 v[i] = y[i] - mean;
         } else { /* Freedman–Lane: residuals of the reduced model */
@@ -315,13 +311,6 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     return STURDY_OK;
 }
 
-static double now_seconds(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
                                  const sturdy_model *m, sturdy_result *r, char *err)
 {
@@ -339,7 +328,7 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     uint64_t *exceed = calloc(c.M, sizeof *exceed), *fwer = calloc(c.M, sizeof *fwer);
     int failed = 0;
     uint64_t done_count = 0;
-    double last_report = now_seconds();
+    double last_report = sturdy_now_seconds();
     int nthreads = run->threads;
     if (!exceed || !fwer) {
         free(exceed); free(fwer);
@@ -366,7 +355,7 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
 #pragma omp critical(sturdy_progress)
                 {
                     done_count += hi - lo;
-                    double t = now_seconds();
+                    double t = sturdy_now_seconds();
                     if (t - last_report > 0.2 || done_count == b1 - b0) {
                         last_report = t;
                         run->progress(run->progress_arg, done_count, b1 - b0);

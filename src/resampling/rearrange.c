@@ -30,24 +30,12 @@ sturdy_status sturdy_rearranger_init(sturdy_rearranger *a, const sturdy_design *
     a->exact = exact;
     a->seed = seed;
     a->nblk = (d->has_block && !flip) ? d->block.nlevels : 1;
-    a->blk_start = calloc(a->nblk + 1, sizeof *a->blk_start);
-    a->blk_rows = malloc((n ? n : 1) * sizeof *a->blk_rows);
     a->lab0 = malloc((n ? n : 1) * sizeof *a->lab0);
-    size_t *fill = calloc(a->nblk, sizeof *fill);
-    if (!a->blk_start || !a->blk_rows || !a->lab0 || !fill) {
-        free(fill);
+    if (!a->lab0 || sturdy_bucket_rows(a->nblk > 1 ? d->block_level : NULL, n, a->nblk,
+                                       &a->blk_start, &a->blk_rows, NULL)) {
         sturdy_rearranger_free(a);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
-    for (size_t i = 0; i < n; i++)
-        a->blk_start[(a->nblk > 1 ? d->block_level[i] : 0) + 1]++;
-    for (size_t k = 0; k < a->nblk; k++)
-        a->blk_start[k + 1] += a->blk_start[k];
-    for (size_t i = 0; i < n; i++) {
-        size_t k = a->nblk > 1 ? d->block_level[i] : 0;
-        a->blk_rows[a->blk_start[k] + fill[k]++] = i;
-    }
-    free(fill);
     for (size_t k = 0; k < n; k++)
         a->lab0[k] = (uint32_t)d->group[a->blk_rows[k]];
     return STURDY_OK;
