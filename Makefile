@@ -28,7 +28,7 @@ SONAME  := libsturdy.so.$(SOMAJOR)
 SHLIB   := $(BUILD)/libsturdy.so.$(VERSION)
 # Exported symbols: the functions and data declared in include/sturdy/*.h, listed in the
 # version script (tests/xcheck_install.sh checks that the list and the headers agree).
-LIBMAP  := src/libsturdy.map
+LIBMAP  := $(BUILD)/libsturdy.map
 
 ifeq ($(MPI),1)
 CC      := mpicc
@@ -75,6 +75,16 @@ $(BUILD)/libsturdy.a: $(LIB_OBJ)
 # libsturdy.so.X.Y.Z with soname libsturdy.so.X, and the two links to it in the build
 # folder; --no-undefined makes sure every library it needs is named here.
 shared: $(SHLIB)
+
+# The symbols the shared library exports: every function and object the public headers
+# declare (both tiers), and nothing else; made from the headers, so it cannot drift.
+$(LIBMAP): $(wildcard include/sturdy/*.h)
+	@mkdir -p $(dir $@)
+	{ echo '{'; echo '  global:'; \
+	  printf '#include <sturdy/sturdy.h>\n#include <sturdy/advanced.h>\n' | \
+	    $(CC) -E -P -Iinclude -x c - | grep -oE '\bsturdy_[A-Za-z0-9_]+[[:space:]]*[([]' | \
+	    grep -oE 'sturdy_[A-Za-z0-9_]+' | sort -u | sed 's/.*/    &;/'; \
+	  echo '  local:'; echo '    *;'; echo '};'; } >$@.tmp && mv $@.tmp $@
 
 $(SHLIB): $(PIC_OBJ) $(LIBMAP)
 	$(CC) $(CFLAGS) $(OMP) -shared -Wl,-soname,$(SONAME) -Wl,--version-script=$(LIBMAP) \

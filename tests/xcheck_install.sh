@@ -2,8 +2,8 @@
 # xcheck_install.sh — the installed tree: `make install DESTDIR=… PREFIX=/usr/local` from
 # the build folder (STURDY_BUILD) without compiling anything, every file in its place,
 # sturdy.pc valid and relocatable, libsturdy.so with soname libsturdy.so.0 exporting
-# exactly the functions and data the installed headers declare (src/libsturdy.map
-# against include/sturdy/*.h), examples/embed.c built through pkg-config against the
+# exactly the functions and data the installed headers declare (the build's
+# libsturdy.map is made from the headers), examples/embed.c built through pkg-config against the
 # installed headers and library (shared, and static with --static) giving the same
 # JSON, byte for byte, and the same F, p and resampled p as `sturdy check`; then
 # `make uninstall` leaves nothing behind.
@@ -130,7 +130,7 @@ else bad "only $(wc -l <"$T/public") public symbols found in the headers ($(head
 comm -23 "$T/public" "$T/exported" >"$T/unexported"
 comm -13 "$T/public" "$T/exported" >"$T/leaked"
 [ ! -s "$T/unexported" ] && ok "every public function and object is exported" ||
-    bad "declared in include/sturdy but not exported (add to src/libsturdy.map): $(tr '\n' ' ' <"$T/unexported")"
+    bad "declared in include/sturdy but not exported (the Makefile makes build/libsturdy.map from the headers): $(tr '\n' ' ' <"$T/unexported")"
 [ ! -s "$T/leaked" ] && ok "nothing else is exported" ||
     bad "exported but not declared in include/sturdy: $(tr '\n' ' ' <"$T/leaked")"
 LD_LIBRARY_PATH="$D/lib" ldd "$SO" >"$T/ldd" 2>&1
