@@ -115,9 +115,9 @@ static sturdy_status add_note(sturdy_result *r, char *text, char *err)
 {
     if (!text)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    char **n = realloc(r->notes, (r->nnotes + 1) * sizeof *n);
+    char **n = sturdy_realloc(r->notes, (r->nnotes + 1) * sizeof *n);
     if (!n) {
-        free(text);
+        sturdy_free(text);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     r->notes = n;
@@ -180,40 +180,40 @@ void sturdy_result_free(sturdy_result *r)
         sturdy_response_result *rr = &r->resp[ri];
         for (size_t t = 0; t < rr->nterms; t++) {
             sturdy_term_result *tr = &rr->terms[t];
-            free(tr->label);
+            sturdy_free(tr->label);
             for (size_t f = 0; f < tr->nfactors; f++)
-                free(tr->factors[f]);
-            free(tr->factors);
-            free(tr->note);
-            free(tr->perm_note);
-            free(tr->boot);
-            free(tr->boot_note);
-            free(tr->verdict_reason);
-            free(tr->uv.note);
-            free(tr->uv.perm_note);
+                sturdy_free(tr->factors[f]);
+            sturdy_free(tr->factors);
+            sturdy_free(tr->note);
+            sturdy_free(tr->perm_note);
+            sturdy_free(tr->boot);
+            sturdy_free(tr->boot_note);
+            sturdy_free(tr->verdict_reason);
+            sturdy_free(tr->uv.note);
+            sturdy_free(tr->uv.perm_note);
         }
-        free(rr->terms);
-        free(rr->name);
-        free(rr->error_note);
-        free(rr->cell_mean);
-        free(rr->cell_sd);
-        free(rr->fitted);
-        free(rr->residual);
-        free(rr->diag.sw_note);
-        free(rr->diag.bf_note);
-        free(rr->diag.bfm_note);
-        free(rr->diag.vr_note);
-        free(rr->diag.spread_reason);
-        free(rr->diag.outliers);
-        free(rr->diag.studentized);
-        free(rr->diag.leverage);
+        sturdy_free(rr->terms);
+        sturdy_free(rr->name);
+        sturdy_free(rr->error_note);
+        sturdy_free(rr->cell_mean);
+        sturdy_free(rr->cell_sd);
+        sturdy_free(rr->fitted);
+        sturdy_free(rr->residual);
+        sturdy_free(rr->diag.sw_note);
+        sturdy_free(rr->diag.bf_note);
+        sturdy_free(rr->diag.bfm_note);
+        sturdy_free(rr->diag.vr_note);
+        sturdy_free(rr->diag.spread_reason);
+        sturdy_free(rr->diag.outliers);
+        sturdy_free(rr->diag.studentized);
+        sturdy_free(rr->diag.leverage);
     }
-    free(r->resp);
+    sturdy_free(r->resp);
     for (size_t i = 0; i < r->nnotes; i++)
-        free(r->notes[i]);
-    free(r->notes);
+        sturdy_free(r->notes[i]);
+    sturdy_free(r->notes);
     sturdy_design_free(r->design);
-    free(r);
+    sturdy_free(r);
 }
 
 static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
@@ -237,7 +237,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
     if ((st = sturdy_model_build(d, o->ss_type, &m, err)))
         return st;
     r->nresp = d->nresp;
-    r->resp = calloc(d->nresp, sizeof *r->resp);
+    r->resp = sturdy_calloc(d->nresp, sizeof *r->resp);
     if (!r->resp) {
         sturdy_model_free(m);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -289,7 +289,7 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
      * LAPACK call, so that OpenBLAS never wakes its own thread pool, whose waiting
      * threads would otherwise spin on the cores our threads need */
     openblas_set_num_threads(1);
-    sturdy_result *r = calloc(1, sizeof *r);
+    sturdy_result *r = sturdy_calloc(1, sizeof *r);
     if (!r)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     r->opts = *o;
@@ -346,7 +346,7 @@ static sturdy_status holm(sturdy_result *r, char *err)
     size_t cap = 0, k = 0;
     for (size_t ri = 0; ri < r->nresp; ri++)
         cap += r->resp[ri].nterms;
-    sturdy_term_result **fam = malloc((cap ? cap : 1) * sizeof *fam);
+    sturdy_term_result **fam = sturdy_malloc((cap ? cap : 1) * sizeof *fam);
     if (!fam)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t ri = 0; ri < r->nresp; ri++)
@@ -369,7 +369,7 @@ static sturdy_status holm(sturdy_result *r, char *err)
         run = fmax(run, adj);
         fam[i]->p_perm_holm = run;
     }
-    free(fam);
+    sturdy_free(fam);
     return STURDY_OK;
 }
 

@@ -1,5 +1,6 @@
 /* diagnose.c — residual diagnostics on plain arrays: Shapiro–Wilk (AS R94), moments,
  * Brown–Forsythe, studentized residuals. */
+#include "core/core.h"
 #include "sturdy/diagnose.h"
 
 #include <float.h>
@@ -160,10 +161,10 @@ sturdy_status sturdy_shapiro_wilk(const double *x, size_t n, double *w, double *
             return STURDY_EDATA;
         }
     }
-    double *y = malloc(n * sizeof *y), *a = malloc((n / 2 + 1) * sizeof *a);
+    double *y = sturdy_malloc(n * sizeof *y), *a = sturdy_malloc((n / 2 + 1) * sizeof *a);
     if (!y || !a) {
-        free(y);
-        free(a);
+        sturdy_free(y);
+        sturdy_free(a);
         set_err(err, "Shapiro-Wilk: out of memory");
         return STURDY_EINTERNAL;
     }
@@ -171,16 +172,16 @@ sturdy_status sturdy_shapiro_wilk(const double *x, size_t n, double *w, double *
     qsort(y, n, sizeof *y, cmp_double);
     if (y[n - 1] == y[0] || !isfinite(y[n - 1] - y[0])) {
         int equal = y[n - 1] == y[0];
-        free(y);
-        free(a);
+        sturdy_free(y);
+        sturdy_free(a);
         set_err(err, equal ? "Shapiro-Wilk: all values are equal"
                            : "Shapiro-Wilk: the range of the values overflows a double");
         return equal ? STURDY_EMODEL : STURDY_EDATA;
     }
     sw_coefficients(n, a);
     double w1 = sw_one_minus_w(y, n, a);
-    free(y);
-    free(a);
+    sturdy_free(y);
+    sturdy_free(a);
     if (w1 < 0.0) w1 = 0.0; /* W ≤ 1 by Cauchy–Schwarz; rounding may overshoot */
     double wv = 1.0 - w1;
     if (w) *w = wv;
@@ -250,10 +251,10 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
             return STURDY_EDATA;
         }
     }
-    size_t *start = calloc(ngroups + 1, sizeof *start), *fill = NULL;
-    double *sorted = malloc((n ? n : 1) * sizeof *sorted);
-    double *med = malloc(ngroups * sizeof *med), *zsum = calloc(ngroups, sizeof *zsum);
-    if (start) fill = malloc(ngroups * sizeof *fill);
+    size_t *start = sturdy_calloc(ngroups + 1, sizeof *start), *fill = NULL;
+    double *sorted = sturdy_malloc((n ? n : 1) * sizeof *sorted);
+    double *med = sturdy_malloc(ngroups * sizeof *med), *zsum = sturdy_calloc(ngroups, sizeof *zsum);
+    if (start) fill = sturdy_malloc(ngroups * sizeof *fill);
     sturdy_status st = STURDY_OK;
     if (!start || !fill || !sorted || !med || !zsum) {
         set_err(err, "Brown-Forsythe: out of memory");
@@ -283,10 +284,10 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
     }
     /* One-way ANOVA on z = |x − median of its group| (Brown & Forsythe 1974), without
      * the structural zeros when drop_zero. */
-    size_t *cnt = calloc(ngroups, sizeof *cnt);
-    unsigned char *skip = calloc(n ? n : 1, 1), *dropped = calloc(ngroups, 1);
+    size_t *cnt = sturdy_calloc(ngroups, sizeof *cnt);
+    unsigned char *skip = sturdy_calloc(n ? n : 1, 1), *dropped = sturdy_calloc(ngroups, 1);
     if (!cnt || !skip || !dropped) {
-        free(cnt); free(skip); free(dropped);
+        sturdy_free(cnt); sturdy_free(skip); sturdy_free(dropped);
         set_err(err, "Brown-Forsythe: out of memory");
         st = STURDY_EINTERNAL;
         goto done;
@@ -325,7 +326,7 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
         double d = fabs(x[i] - med[g]) - zsum[g] / (double)cnt[g];
         ssw += d * d;
     }
-    free(cnt); free(skip); free(dropped);
+    sturdy_free(cnt); sturdy_free(skip); sturdy_free(dropped);
     if (kk < 2 || nn <= kk) {
         snprintf(msg, sizeof msg,
                  "Brown-Forsythe needs at least 2 non-empty groups and more rows than "
@@ -352,11 +353,11 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
     if (df2) *df2 = d2;
     if (p) *p = sturdy_f_sf(fv, d1, d2);
 done:
-    free(start);
-    free(fill);
-    free(sorted);
-    free(med);
-    free(zsum);
+    sturdy_free(start);
+    sturdy_free(fill);
+    sturdy_free(sorted);
+    sturdy_free(med);
+    sturdy_free(zsum);
     return st;
 }
 

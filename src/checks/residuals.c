@@ -33,17 +33,17 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     dg->sw_w = dg->sw_p = dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
     dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
     dg->variance_ratio = NAN;
-    dg->studentized = malloc(n * sizeof *dg->studentized);
-    dg->leverage = malloc(n * sizeof *dg->leverage);
-    double *internal = malloc(n * sizeof *internal);
+    dg->studentized = sturdy_malloc(n * sizeof *dg->studentized);
+    dg->leverage = sturdy_malloc(n * sizeof *dg->leverage);
+    double *internal = sturdy_malloc(n * sizeof *internal);
     if (!dg->studentized || !dg->leverage || !internal) {
-        free(internal);
+        sturdy_free(internal);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     sturdy_moments(e, n, &dg->skewness, &dg->excess_kurtosis);
 
     if (m->df_error == 0) {
-        free(internal);
+        sturdy_free(internal);
         for (size_t i = 0; i < n; i++)
             dg->studentized[i] = dg->leverage[i] = NAN;
         const char *why = "no residual degrees of freedom: residuals carry no information";
@@ -64,14 +64,14 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
         st = STURDY_OK;
     }
     if (st) {
-        free(internal);
+        sturdy_free(internal);
         return st;
     }
     if (sturdy_brown_forsythe(e, d->cell, n, d->ncells, &dg->bf_f, &dg->bf_df1, &dg->bf_df2,
                               &dg->bf_p, msg) != STURDY_OK) {
         dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
         if ((st = note(&dg->bf_note, sturdy_strdup(msg), err))) {
-            free(internal);
+            sturdy_free(internal);
             return st;
         }
     }
@@ -79,7 +79,7 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
                                        &dg->bfm_df2, &dg->bfm_p, msg) != STURDY_OK) {
         dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
         if ((st = note(&dg->bfm_note, sturdy_strdup(msg), err))) {
-            free(internal);
+            sturdy_free(internal);
             return st;
         }
     }
@@ -108,7 +108,7 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
             dg->spread_reason = sturdy_asprintf("Brown–Forsythe test without structural "
                                                 "zeros p = %.2g", dg->bfm_p);
         if (!dg->spread_reason) {
-            free(internal);
+            sturdy_free(internal);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
     }
@@ -119,7 +119,7 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     else
         dg->variance_ratio = vmax / vmin;
     if (st) {
-        free(internal);
+        sturdy_free(internal);
         return st;
     }
     for (size_t i = 0; i < n; i++)
@@ -129,9 +129,9 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     for (size_t i = 0; i < n; i++)
         if (fabs(dg->studentized[i]) > OUTLIER_LIMIT)
             k++;
-    dg->outliers = calloc(k ? k : 1, sizeof *dg->outliers);
+    dg->outliers = sturdy_calloc(k ? k : 1, sizeof *dg->outliers);
     if (!dg->outliers) {
-        free(internal);
+        sturdy_free(internal);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t i = 0; i < n; i++)
@@ -144,7 +144,7 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
             o->internal = internal[i];
             o->leverage = dg->leverage[i];
         }
-    free(internal);
+    sturdy_free(internal);
     return STURDY_OK;
 }
 
@@ -194,14 +194,14 @@ sturdy_status sturdy_verdict_term(const sturdy_response_result *resp, sturdy_ter
             "%s%sthe Monte Carlo interval of the permutation p [%.3g, %.3g] contains alpha; "
             "run more rearrangements (-B)", reason ? reason : "", reason ? "; " : "",
             t->p_perm_ci.lo, t->p_perm_ci.hi);
-        free(reason);
+        sturdy_free(reason);
         reason = more;
         if (!reason)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     if ((classical != resampling) && !reason)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    free(t->verdict_reason);
+    sturdy_free(t->verdict_reason);
     t->verdict_reason = reason;
     return STURDY_OK;
 }

@@ -121,9 +121,9 @@ double uv_wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
 
 void uv_ctx_free(uv_ctx *c)
 {
-    free(c->ng);
-    free(c->hw);
-    free(c->scale);
+    sturdy_free(c->ng);
+    sturdy_free(c->hw);
+    sturdy_free(c->scale);
 }
 
 /* Group weights; a reason (static text) when the test cannot be done at all. */
@@ -137,9 +137,9 @@ sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model 
     c->K = K;
     c->saturated = m->rank == K;
     *why = NULL;
-    c->ng = malloc(K * sizeof *c->ng);
-    c->hw = malloc(K * sizeof *c->hw);
-    c->scale = malloc(K * sizeof *c->scale);
+    c->ng = sturdy_malloc(K * sizeof *c->ng);
+    c->hw = sturdy_malloc(K * sizeof *c->hw);
+    c->scale = sturdy_malloc(K * sizeof *c->scale);
     if (!c->ng || !c->hw || !c->scale) {
         uv_ctx_free(c);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -197,10 +197,10 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
     const double *om = work + K, *L = work + 3 * K + c->m->rank;
     double r = (double)df;
     /* M_gg = Ω_g (U_t V⁻¹ U_tᵀ)_gg, with V⁻¹ = L⁻ᵀL⁻¹: (U_t V⁻¹ U_tᵀ)_gg = ‖L⁻¹ U_t,g·‖² */
-    double *x = malloc((df ? df : 1) * sizeof *x);
-    double *G = malloc((df ? df * df : 1) * sizeof *G);
+    double *x = sturdy_malloc((df ? df : 1) * sizeof *x);
+    double *G = sturdy_malloc((df ? df * df : 1) * sizeof *G);
     if (!x || !G) {
-        free(x); free(G);
+        sturdy_free(x); sturdy_free(G);
         return; /* leaves NaN: an out-of-memory here is not worth failing the run */
     }
     double A = 0.0;
@@ -230,9 +230,9 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
                 t += Ut[i * K + g] * c->ng[g] * Ut[j * K + g];
             G[j * df + i] = t;
         }
-    double *Y = malloc(df * K * sizeof *Y);
+    double *Y = sturdy_malloc(df * K * sizeof *Y);
     if (!Y || !cholesky(G, df)) {
-        free(x); free(G); free(Y);
+        sturdy_free(x); sturdy_free(G); sturdy_free(Y);
         return;
     }
     for (size_t g = 0; g < K; g++) {
@@ -274,7 +274,7 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         u->ats_df2 = tr * tr / den2;
         u->ats_p = sturdy_f_sf(u->ats, u->ats_df1, u->ats_df2);
     }
-    free(x); free(G); free(Y);
+    sturdy_free(x); sturdy_free(G); sturdy_free(Y);
 }
 
 static void uv_init_result(sturdy_uv_result *u)
@@ -304,9 +304,9 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
     for (size_t t = 0; t < out->nterms; t++)
         if (m->terms[t].df > maxdf)
             maxdf = m->terms[t].df;
-    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
-    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
-    double *work = malloc(uv_wald_work(&c, maxdf) * sizeof *work), *ft = malloc(n * sizeof *ft);
+    double *v = sturdy_malloc(n * sizeof *v), *A = sturdy_malloc(K * sizeof *A), *Q = sturdy_malloc(K * sizeof *Q);
+    double *s = sturdy_malloc(K * sizeof *s), *pw = sturdy_malloc((m->rank + K) * sizeof *pw);
+    double *work = sturdy_malloc(uv_wald_work(&c, maxdf) * sizeof *work), *ft = sturdy_malloc(n * sizeof *ft);
     if (!v || !A || !Q || !s || !pw || !work || !ft) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
@@ -340,7 +340,7 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         }
     }
 done:
-    free(v); free(A); free(Q); free(s); free(pw); free(work); free(ft);
+    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(work); sturdy_free(ft);
     uv_ctx_free(&c);
     return st;
 }

@@ -105,7 +105,7 @@ static char *fold(const char *s)
     while (*s == ' ' || *s == '\t') s++;
     size_t n = strlen(s);
     while (n && (s[n - 1] == ' ' || s[n - 1] == '\t')) n--;
-    char *f = malloc(n + 1);
+    char *f = sturdy_malloc(n + 1);
     if (!f) return NULL;
     for (size_t i = 0; i < n; i++)
         f[i] = s[i] >= 'A' && s[i] <= 'Z' ? (char)(s[i] - 'A' + 'a') : s[i];
@@ -126,9 +126,9 @@ static int trimmed_equal(const char *a, const char *b)
 
 static sturdy_status add_warning(sturdy_design *d, char *text, char *err)
 {
-    char **w = text ? realloc(d->warnings, (d->nwarnings + 1) * sizeof *w) : NULL;
+    char **w = text ? sturdy_realloc(d->warnings, (d->nwarnings + 1) * sizeof *w) : NULL;
     if (!w) {
-        free(text);
+        sturdy_free(text);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     d->warnings = w;
@@ -161,12 +161,12 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
                                      level_ref *nat, size_t nl, int merged, char *err)
 {
     sturdy_status st = STURDY_OK;
-    const char **pairs = malloc(2 * nl * sizeof *pairs);
-    level_ref **by = malloc(nl * sizeof *by);
+    const char **pairs = sturdy_malloc(2 * nl * sizeof *pairs);
+    level_ref **by = sturdy_malloc(nl * sizeof *by);
     size_t np = 0;
     double x, y;
     if (!pairs || !by) {
-        free(pairs); free(by);
+        sturdy_free(pairs); sturdy_free(by);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     /* equal numbers sort next to each other in natural order */
@@ -208,8 +208,8 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
                                     "levels",
                         "correct the data if they are one level", pairs, np, err);
     }
-    free(pairs);
-    free(by);
+    sturdy_free(pairs);
+    sturdy_free(by);
     return st;
 }
 
@@ -236,7 +236,7 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
                                 char *err)
 {
     sturdy_status st = STURDY_OK;
-    const char **unknown = malloc((lo->nlevels + ngroups + 1) * sizeof *unknown);
+    const char **unknown = sturdy_malloc((lo->nlevels + ngroups + 1) * sizeof *unknown);
     const char **left = unknown + lo->nlevels;
     size_t nunknown = 0, nleft = 0;
     sturdy_buf b;
@@ -248,7 +248,7 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
             if (names_level(lo->levels[k], nat[j].text, merge)) g = nat[j].group;
         if (g == (size_t)-1) { unknown[nunknown++] = lo->levels[k]; continue; }
         if (pos[g] != (size_t)-1) {
-            free(unknown);
+            sturdy_free(unknown);
             return sturdy_fail(err, STURDY_EUSAGE, "--levels for %s '%s' lists '%s' twice",
                                role, lo->factor, lo->levels[k]);
         }
@@ -274,7 +274,7 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
                          b.failed ? "out of memory" : b.data);
         sturdy_buf_free(&b);
     }
-    free(unknown);
+    sturdy_free(unknown);
     return st;
 }
 
@@ -290,9 +290,9 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
     for (size_t k = 0; k < s->nlevel_orders; k++)
         if (!strcmp(s->level_orders[k].factor, name)) lo = &s->level_orders[k];
     f->name = sturdy_strdup(name);
-    const char **vals = malloc((n ? n : 1) * sizeof *vals);
+    const char **vals = sturdy_malloc((n ? n : 1) * sizeof *vals);
     if (!vals || !f->name) {
-        free(vals);
+        sturdy_free(vals);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     /* distinct values: sorted bytewise (cheap); only those few are sorted naturally,
@@ -304,14 +304,14 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
         if (i == 0 || strcmp(vals[i], vals[i - 1]) != 0)
             vals[nl++] = vals[i];
     if (nl > max_levels) {
-        free(vals);
+        sturdy_free(vals);
         return sturdy_fail(err, STURDY_EMODEL,
                            "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
                            "really a factor? (raise the limit with --max-levels)",
                            t->source, role, name, nl, max_levels);
     }
-    level_ref *nat = calloc(nl ? nl : 1, sizeof *nat);
-    size_t *rank = malloc((nl ? nl : 1) * sizeof *rank), *pos = NULL;
+    level_ref *nat = sturdy_calloc(nl ? nl : 1, sizeof *nat);
+    size_t *rank = sturdy_malloc((nl ? nl : 1) * sizeof *rank), *pos = NULL;
     if (!nat || !rank) { st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory"); goto done; }
     for (size_t j = 0; j < nl; j++) {
         nat[j].text = vals[j];
@@ -338,7 +338,7 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
     }
     if ((st = near_duplicates(d, role, name, nat, nl, s->merge_numeric_levels, err)))
         goto done;
-    if (!(pos = malloc(ng * sizeof *pos))) {
+    if (!(pos = sturdy_malloc(ng * sizeof *pos))) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -349,7 +349,7 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
         for (size_t g = 0; g < ng; g++) pos[g] = g;
     }
     f->nlevels = ng;
-    if (!(f->levels = calloc(ng, sizeof *f->levels))) {
+    if (!(f->levels = sturdy_calloc(ng, sizeof *f->levels))) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -373,7 +373,7 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
         lev[i * stride] = rank[lo_i];
     }
 done:
-    for (size_t j = 0; nat && j < nl; j++) free(nat[j].folded);
-    free(vals); free(nat); free(rank); free(pos);
+    for (size_t j = 0; nat && j < nl; j++) sturdy_free(nat[j].folded);
+    sturdy_free(vals); sturdy_free(nat); sturdy_free(rank); sturdy_free(pos);
     return st;
 }

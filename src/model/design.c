@@ -34,52 +34,52 @@ static int cmp_tuple(const void *a, const void *b)
 
 static void factor_free(sturdy_factor *f)
 {
-    if (!f->levels) { free(f->name); return; }
+    if (!f->levels) { sturdy_free(f->name); return; }
     for (size_t j = 0; j < f->nlevels; j++)
-        free(f->levels[j]);
-    free(f->levels);
-    free(f->name);
+        sturdy_free(f->levels[j]);
+    sturdy_free(f->levels);
+    sturdy_free(f->name);
 }
 
 void sturdy_design_free(sturdy_design *d)
 {
     if (!d)
         return;
-    free(d->source);
-    free(d->row);
-    free(d->line);
+    sturdy_free(d->source);
+    sturdy_free(d->row);
+    sturdy_free(d->line);
     for (size_t i = 0; i < d->ndropped; i++)
-        free(d->dropped[i].reason);
-    free(d->dropped);
+        sturdy_free(d->dropped[i].reason);
+    sturdy_free(d->dropped);
     for (size_t i = 0; i < d->nwarnings; i++)
-        free(d->warnings[i]);
-    free(d->warnings);
+        sturdy_free(d->warnings[i]);
+    sturdy_free(d->warnings);
     for (size_t f = 0; f < d->nfactors; f++)
         factor_free(&d->factors[f]);
-    free(d->factors);
-    free(d->level);
+    sturdy_free(d->factors);
+    sturdy_free(d->level);
     if (d->has_block)
         factor_free(&d->block);
-    free(d->block_level);
+    sturdy_free(d->block_level);
     for (size_t c = 0; c < d->ncov; c++)
-        free(d->cov_names[c]);
-    free(d->cov_names);
-    free(d->cov);
+        sturdy_free(d->cov_names[c]);
+    sturdy_free(d->cov_names);
+    sturdy_free(d->cov);
     for (size_t r = 0; r < d->nresp; r++)
-        free(d->resp_names[r]);
-    free(d->resp_names);
-    free(d->y);
-    free(d->y_ref);
-    free(d->cell);
-    free(d->cell_count);
-    free(d->cell_levels);
-    free(d->group);
-    free(d->group_count);
+        sturdy_free(d->resp_names[r]);
+    sturdy_free(d->resp_names);
+    sturdy_free(d->y);
+    sturdy_free(d->y_ref);
+    sturdy_free(d->cell);
+    sturdy_free(d->cell_count);
+    sturdy_free(d->cell_levels);
+    sturdy_free(d->group);
+    sturdy_free(d->group_count);
     for (size_t t = 0; t < d->nterms; t++)
-        free(d->terms[t].label);
-    free(d->terms);
-    free(d->Xg);
-    free(d);
+        sturdy_free(d->terms[t].label);
+    sturdy_free(d->terms);
+    sturdy_free(d->Xg);
+    sturdy_free(d);
 }
 
 /* A name this close to an unknown one (edit distance, ignoring case) is suggested:
@@ -94,7 +94,7 @@ static char lower(char c) { return c >= 'A' && c <= 'Z' ? (char)(c - 'A' + 'a') 
 static size_t edit_distance(const char *a, const char *b)
 {
     size_t la = strlen(a), lb = strlen(b);
-    size_t *row = malloc((lb + 1) * sizeof *row);
+    size_t *row = sturdy_malloc((lb + 1) * sizeof *row);
     if (!row) return (size_t)-1;
     for (size_t j = 0; j <= lb; j++) row[j] = j;
     for (size_t i = 1; i <= la; i++) {
@@ -110,7 +110,7 @@ static size_t edit_distance(const char *a, const char *b)
         }
     }
     size_t d = row[lb];
-    free(row);
+    sturdy_free(row);
     return d;
 }
 
@@ -174,7 +174,7 @@ static sturdy_status find_columns(const sturdy_table *t, const char *const *name
 static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t *id,
                                 size_t *nids, size_t **first_row, char *err)
 {
-    tuple_ref *ref = malloc(n * sizeof *ref);
+    tuple_ref *ref = sturdy_malloc(n * sizeof *ref);
     if (!ref)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < n; i++) {
@@ -184,9 +184,9 @@ static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t
     }
     qsort(ref, n, sizeof *ref, cmp_tuple);
     size_t k = 0;
-    size_t *first = malloc(n * sizeof *first);
+    size_t *first = sturdy_malloc(n * sizeof *first);
     if (!first) {
-        free(ref);
+        sturdy_free(ref);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t i = 0; i < n; i++) {
@@ -194,7 +194,7 @@ static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t
             first[k++] = ref[i].row;
         id[ref[i].row] = k - 1;
     }
-    free(ref);
+    sturdy_free(ref);
     *nids = k;
     *first_row = first;
     return STURDY_OK;
@@ -215,10 +215,10 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     size_t max_levels = s->max_levels ? s->max_levels : STURDY_DEFAULT_MAX_LEVELS;
     size_t max_columns = s->max_columns ? s->max_columns : STURDY_DEFAULT_MAX_COLUMNS;
 
-    unsigned char *used = calloc(t->ncols ? t->ncols : 1, 1);
-    long *ri = malloc((nr + nf + nc + 1) * sizeof *ri);
+    unsigned char *used = sturdy_calloc(t->ncols ? t->ncols : 1, 1);
+    long *ri = sturdy_malloc((nr + nf + nc + 1) * sizeof *ri);
     if (!used || !ri) {
-        free(used); free(ri);
+        sturdy_free(used); sturdy_free(ri);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     long *fi = ri + nr, *ci = fi + nf, *bi = ci + nc;
@@ -228,18 +228,18 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         (st = find_columns(t, s->factors, nf, "factor", fi, used, err)) ||
         (st = find_columns(t, s->covariates, nc, "covariate", ci, used, err)) ||
         (s->block && (st = find_columns(t, &s->block, 1, "block", bi, used, err)))) {
-        free(used); free(ri);
+        sturdy_free(used); sturdy_free(ri);
         return st;
     }
 
     /* rows used: no missing value in any used column */
     d->source = sturdy_strdup(t->source);
     d->rows_read = t->nrows;
-    d->row = malloc((t->nrows ? t->nrows : 1) * sizeof *d->row);
-    d->line = malloc((t->nrows ? t->nrows : 1) * sizeof *d->line);
-    d->dropped = calloc(t->nrows ? t->nrows : 1, sizeof *d->dropped);
+    d->row = sturdy_malloc((t->nrows ? t->nrows : 1) * sizeof *d->row);
+    d->line = sturdy_malloc((t->nrows ? t->nrows : 1) * sizeof *d->line);
+    d->dropped = sturdy_calloc(t->nrows ? t->nrows : 1, sizeof *d->dropped);
     if (!d->source || !d->row || !d->line || !d->dropped) {
-        free(used); free(ri);
+        sturdy_free(used); sturdy_free(ri);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     /* A row missing any used column leaves every response, so that all responses share
@@ -282,11 +282,11 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             if (dr->reason && resp_missing && resp_present) {
                 char *longer = sturdy_asprintf("%s; the row is left out of every response",
                                                dr->reason);
-                free(dr->reason);
+                sturdy_free(dr->reason);
                 dr->reason = longer;
             }
             if (!dr->reason) {
-                free(used); free(ri);
+                sturdy_free(used); sturdy_free(ri);
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             }
         } else {
@@ -295,7 +295,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             d->n++;
         }
     }
-    free(used);
+    sturdy_free(used);
     size_t n = d->n;
     if (n == 0) {
         /* name the column that empties the table the most */
@@ -318,26 +318,26 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
                     "%s: no rows left: every one of the %zu rows has a missing value in a "
                     "column the model uses (column '%s' is missing in %zu rows)",
                     t->source, t->nrows, t->cols[worst].name, worst_count);
-        free(ri);
+        sturdy_free(ri);
         return STURDY_EDATA;
     }
     /* responses and covariates, exactly converted */
     d->nresp = nr;
-    d->resp_names = calloc(nr, sizeof *d->resp_names);
-    d->y = malloc(n * nr * sizeof *d->y);
-    d->y_ref = malloc(nr * sizeof *d->y_ref);
+    d->resp_names = sturdy_calloc(nr, sizeof *d->resp_names);
+    d->y = sturdy_malloc(n * nr * sizeof *d->y);
+    d->y_ref = sturdy_malloc(nr * sizeof *d->y_ref);
     d->ncov = nc;
-    d->cov_names = calloc(nc ? nc : 1, sizeof *d->cov_names);
-    d->cov = malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
+    d->cov_names = sturdy_calloc(nc ? nc : 1, sizeof *d->cov_names);
+    d->cov = sturdy_malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
     if (!d->resp_names || !d->y || !d->y_ref || !d->cov_names || !d->cov) {
-        free(ri);
+        sturdy_free(ri);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t r = 0; r < nr; r++) {
         d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name);
         if ((st = sturdy_table_numeric(t, (size_t)ri[r], d->row, n, d->y + r * n,
                                        &d->y_ref[r], err))) {
-            free(ri);
+            sturdy_free(ri);
             return st;
         }
     }
@@ -345,7 +345,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         double ref, *x = d->cov + c * n;
         d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name);
         if ((st = sturdy_table_numeric(t, (size_t)ci[c], d->row, n, x, &ref, err))) {
-            free(ri);
+            sturdy_free(ri);
             return st;
         }
         /* centre (two passes) so the coded columns are well conditioned */
@@ -361,7 +361,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             if (x[i] != x[0]) constant = 0;
         }
         if (constant) {
-            free(ri);
+            sturdy_free(ri);
             return sturdy_fail(err, STURDY_EMODEL,
                                "%s: covariate '%s' is constant in the rows used", t->source,
                                d->cov_names[c]);
@@ -373,29 +373,29 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     d->factors = sturdy_calloc(nf, sizeof *d->factors);
     d->level = sturdy_calloc(n * nf, sizeof *d->level);
     if (!d->factors || !d->level) {
-        free(ri);
+        sturdy_free(ri);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t f = 0; f < nf; f++)
         if ((st = sturdy_levels_make(t, fi[f], d, s, max_levels, "factor", &d->factors[f],
                                      d->level + f, nf, err))) {
-            free(ri);
+            sturdy_free(ri);
             return st;
         }
     if (*bi >= 0) {
         d->has_block = 1;
-        d->block_level = malloc(n * sizeof *d->block_level);
+        d->block_level = sturdy_malloc(n * sizeof *d->block_level);
         if (!d->block_level) {
-            free(ri);
+            sturdy_free(ri);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
         if ((st = sturdy_levels_make(t, *bi, d, s, max_levels, "block", &d->block,
                                      d->block_level, 1, err))) {
-            free(ri);
+            sturdy_free(ri);
             return st;
         }
     }
-    free(ri);
+    sturdy_free(ri);
 
     /* cells */
     double possible = 1.0;
@@ -403,20 +403,20 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         possible *= (double)d->factors[f].nlevels;
     d->ncells_possible = possible < 1e18 ? (size_t)possible : (size_t)-1;
     size_t *first;
-    d->cell = malloc(n * sizeof *d->cell);
+    d->cell = sturdy_malloc(n * sizeof *d->cell);
     if (!d->cell)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if ((st = group_rows(n, d->level, nf, d->cell, &d->ncells, &first, err)))
         return st;
-    d->cell_count = calloc(d->ncells, sizeof *d->cell_count);
+    d->cell_count = sturdy_calloc(d->ncells, sizeof *d->cell_count);
     d->cell_levels = sturdy_calloc(d->ncells * nf, sizeof *d->cell_levels);
     if (!d->cell_count || !d->cell_levels) {
-        free(first);
+        sturdy_free(first);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t c = 0; c < d->ncells; c++)
         memcpy(d->cell_levels + c * nf, d->level + first[c] * nf, nf * sizeof(size_t));
-    free(first);
+    sturdy_free(first);
     for (size_t i = 0; i < n; i++)
         d->cell_count[d->cell[i]]++;
     d->min_cell = (size_t)-1;
@@ -428,18 +428,18 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     d->balanced = d->ncells == d->ncells_possible && d->min_cell == d->max_cell;
 
     /* groups: rows sharing every coded column */
-    d->group = malloc(n * sizeof *d->group);
+    d->group = sturdy_malloc(n * sizeof *d->group);
     if (!d->group)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (nc > 0 || s->row_groups) {
         d->ngroups = n;
-        first = malloc(n * sizeof *first);
+        first = sturdy_malloc(n * sizeof *first);
         if (!first)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         for (size_t i = 0; i < n; i++)
             d->group[i] = first[i] = i;
     } else {
-        size_t *keys = malloc(n * 2 * sizeof *keys);
+        size_t *keys = sturdy_malloc(n * 2 * sizeof *keys);
         if (!keys)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         for (size_t i = 0; i < n; i++) {
@@ -447,13 +447,13 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
             keys[2 * i + 1] = d->has_block ? d->block_level[i] : 0;
         }
         st = group_rows(n, keys, 2, d->group, &d->ngroups, &first, err);
-        free(keys);
+        sturdy_free(keys);
         if (st)
             return st;
     }
-    d->group_count = calloc(d->ngroups, sizeof *d->group_count);
+    d->group_count = sturdy_calloc(d->ngroups, sizeof *d->group_count);
     if (!d->group_count) {
-        free(first);
+        sturdy_free(first);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t i = 0; i < n; i++)
@@ -461,17 +461,17 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
 
     if ((st = sturdy_terms_make(d, s->order, max_columns, err)) ||
         (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err))) {
-        free(first);
+        sturdy_free(first);
         return st;
     }
-    d->Xg = malloc(d->ngroups * d->p * sizeof *d->Xg);
+    d->Xg = sturdy_malloc(d->ngroups * d->p * sizeof *d->Xg);
     if (!d->Xg) {
-        free(first);
+        sturdy_free(first);
         return sturdy_fail(err, STURDY_EINTERNAL,
                            "out of memory for the %zu × %zu coded design", d->ngroups, d->p);
     }
     sturdy_terms_fill_columns(d, first);
-    free(first);
+    sturdy_free(first);
     return STURDY_OK;
 }
 
@@ -479,7 +479,7 @@ sturdy_status sturdy_design_build(const sturdy_table *t, const sturdy_model_spec
                                   sturdy_design **out, char *err)
 {
     *out = NULL;
-    sturdy_design *d = calloc(1, sizeof *d);
+    sturdy_design *d = sturdy_calloc(1, sizeof *d);
     if (!d)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     sturdy_status st = build(t, s, d, err);

@@ -39,7 +39,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
     size_t m = d->nfactors;
     size_t maxord = (order <= 0 || (size_t)order > m) ? m : (size_t)order;
     size_t cap = (d->has_block ? 1 : 0) + d->ncov + ((size_t)1 << m);
-    d->terms = calloc(cap, sizeof *d->terms);
+    d->terms = sturdy_calloc(cap, sizeof *d->terms);
     if (!d->terms)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     size_t p = 1, nt = 0;
@@ -62,7 +62,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
         t->ncols = 1;
         p += 1;
     }
-    uint32_t *masks = malloc(((size_t)1 << m) * sizeof *masks);
+    uint32_t *masks = sturdy_malloc(((size_t)1 << m) * sizeof *masks);
     if (!masks)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t k = 1; k <= maxord; k++) {
@@ -89,15 +89,15 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
             t->col0 = p;
             p += cols;
             if (cols > max_columns || p > max_columns + 1) {
-                free(masks);
+                sturdy_free(masks);
                 return sturdy_fail(err, STURDY_EMODEL,
                                    "the model needs more than %zu coded columns (at term "
                                    "%zu of order %zu); lower --order or raise --max-columns",
                                    max_columns, nt, k);
             }
-            t->label = malloc(len + 1);
+            t->label = sturdy_malloc(len + 1);
             if (!t->label) {
-                free(masks);
+                sturdy_free(masks);
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             }
             t->label[0] = '\0';
@@ -109,7 +109,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
                 }
         }
     }
-    free(masks);
+    sturdy_free(masks);
     d->nterms = nt;
     d->p = p;
     for (size_t i = 0; i < nt; i++)
@@ -156,11 +156,11 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
     size_t nt = d->nterms;
     if (count == 0)
         return STURDY_OK;
-    size_t *pos = malloc(nt * sizeof *pos);
-    unsigned char *taken = calloc(nt, 1);
-    sturdy_term *sorted = malloc(nt * sizeof *sorted);
+    size_t *pos = sturdy_malloc(nt * sizeof *pos);
+    unsigned char *taken = sturdy_calloc(nt, 1);
+    sturdy_term *sorted = sturdy_malloc(nt * sizeof *sorted);
     if (!pos || !taken || !sorted) {
-        free(pos); free(taken); free(sorted);
+        sturdy_free(pos); sturdy_free(taken); sturdy_free(sorted);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     size_t k = 0;
@@ -208,7 +208,7 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
             sorted[i] = d->terms[pos[i]];
         memcpy(d->terms, sorted, nt * sizeof *sorted);
     }
-    free(pos); free(taken); free(sorted);
+    sturdy_free(pos); sturdy_free(taken); sturdy_free(sorted);
     return st;
 }
 

@@ -66,7 +66,7 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
         return d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
     if (!d->has_block)
         return sturdy_factorial_sat(d->n);
-    size_t *cnt = calloc(d->block.nlevels, sizeof *cnt);
+    size_t *cnt = sturdy_calloc(d->block.nlevels, sizeof *cnt);
     if (!cnt)
         return UINT64_MAX;
     for (size_t i = 0; i < d->n; i++)
@@ -80,7 +80,7 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
         }
         total *= f;
     }
-    free(cnt);
+    sturdy_free(cnt);
     return total;
 }
 
@@ -98,8 +98,8 @@ static void work_free(perm_work *w)
 {
     if (!w)
         return;
-    free(w->lab); free(w->pool); free(w->sign); free(w->tmp); free(w->S); free(w->C);
-    free(w->num); free(w->den); free(w->exceed); free(w->fwer);
+    sturdy_free(w->lab); sturdy_free(w->pool); sturdy_free(w->sign); sturdy_free(w->tmp); sturdy_free(w->S); sturdy_free(w->C);
+    sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -109,16 +109,16 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
         if (c->mem[j].df > maxdf)
             maxdf = c->mem[j].df;
     memset(w, 0, sizeof *w);
-    w->lab = malloc(n * sizeof *w->lab);
-    w->pool = malloc(n * sizeof *w->pool);
-    w->sign = malloc(n);
-    w->tmp = calloc(K * c->Mp, sizeof *w->tmp);
-    w->S = malloc(M * K * nb * sizeof *w->S);
-    w->C = malloc(maxdf * nb * sizeof *w->C);
-    w->num = malloc(M * nb * sizeof *w->num);
-    w->den = malloc(M * nb * sizeof *w->den);
-    w->exceed = calloc(M, sizeof *w->exceed);
-    w->fwer = calloc(M, sizeof *w->fwer);
+    w->lab = sturdy_malloc(n * sizeof *w->lab);
+    w->pool = sturdy_malloc(n * sizeof *w->pool);
+    w->sign = sturdy_malloc(n);
+    w->tmp = sturdy_calloc(K * c->Mp, sizeof *w->tmp);
+    w->S = sturdy_malloc(M * K * nb * sizeof *w->S);
+    w->C = sturdy_malloc(maxdf * nb * sizeof *w->C);
+    w->num = sturdy_malloc(M * nb * sizeof *w->num);
+    w->den = sturdy_malloc(M * nb * sizeof *w->den);
+    w->exceed = sturdy_calloc(M, sizeof *w->exceed);
+    w->fwer = sturdy_calloc(M, sizeof *w->fwer);
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer;
 }
@@ -229,7 +229,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
     sturdy_status st;
-    c->mem = calloc(r->nresp * d->nterms + 1, sizeof *c->mem);
+    c->mem = sturdy_calloc(r->nresp * d->nterms + 1, sizeof *c->mem);
     if (!c->mem)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t ri = 0; ri < r->nresp; ri++)
@@ -259,12 +259,12 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
     c->Mp = (M + 3) & ~(size_t)3;
     if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, r->exact, r->opts.seed, err)))
         return st;
-    c->V = calloc(n * c->Mp, sizeof *c->V);
-    c->thr = malloc(M * M * sizeof *c->thr);
-    double *v = malloc(n * sizeof *v), *s = malloc(K * sizeof *s);
-    double *work = malloc((m->rank + K) * sizeof *work), *fit = malloc(n * sizeof *fit);
+    c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
+    c->thr = sturdy_malloc(M * M * sizeof *c->thr);
+    double *v = sturdy_malloc(n * sizeof *v), *s = sturdy_malloc(K * sizeof *s);
+    double *work = sturdy_malloc((m->rank + K) * sizeof *work), *fit = sturdy_malloc(n * sizeof *fit);
     if (!c->V || !c->thr || !v || !s || !work || !fit) {
-        free(v); free(s); free(work); free(fit);
+        sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t j = 0; j < M; j++) {
@@ -296,7 +296,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
         }
         mb->vv = vv;
     }
-    free(v); free(s); free(work); free(fit);
+    sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
     for (size_t t = 0; t < M; t++)
         for (size_t j = 0; j < M; j++) {
@@ -336,13 +336,13 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
         goto done;
     uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
     int64_t nblocks = (int64_t)(last_blk - first_blk);
-    uint64_t *exceed = calloc(c.M, sizeof *exceed), *fwer = calloc(c.M, sizeof *fwer);
+    uint64_t *exceed = sturdy_calloc(c.M, sizeof *exceed), *fwer = sturdy_calloc(c.M, sizeof *fwer);
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = now_seconds();
     int nthreads = sturdy_thread_count(&r->opts);
     if (!exceed || !fwer) {
-        free(exceed); free(fwer);
+        sturdy_free(exceed); sturdy_free(fwer);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -392,12 +392,12 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
             tr->exceed_fwer += fwer[j];
         }
     }
-    free(exceed);
-    free(fwer);
+    sturdy_free(exceed);
+    sturdy_free(fwer);
 done:
-    free(c.mem);
-    free(c.V);
-    free(c.thr);
+    sturdy_free(c.mem);
+    sturdy_free(c.V);
+    sturdy_free(c.thr);
     sturdy_rearranger_free(&c.ra);
     return st;
 }

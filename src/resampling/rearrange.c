@@ -30,12 +30,12 @@ sturdy_status sturdy_rearranger_init(sturdy_rearranger *a, const sturdy_design *
     a->exact = exact;
     a->seed = seed;
     a->nblk = (d->has_block && !flip) ? d->block.nlevels : 1;
-    a->blk_start = calloc(a->nblk + 1, sizeof *a->blk_start);
-    a->blk_rows = malloc((n ? n : 1) * sizeof *a->blk_rows);
-    a->lab0 = malloc((n ? n : 1) * sizeof *a->lab0);
-    size_t *fill = calloc(a->nblk, sizeof *fill);
+    a->blk_start = sturdy_calloc(a->nblk + 1, sizeof *a->blk_start);
+    a->blk_rows = sturdy_malloc((n ? n : 1) * sizeof *a->blk_rows);
+    a->lab0 = sturdy_malloc((n ? n : 1) * sizeof *a->lab0);
+    size_t *fill = sturdy_calloc(a->nblk, sizeof *fill);
     if (!a->blk_start || !a->blk_rows || !a->lab0 || !fill) {
-        free(fill);
+        sturdy_free(fill);
         sturdy_rearranger_free(a);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
@@ -47,7 +47,7 @@ sturdy_status sturdy_rearranger_init(sturdy_rearranger *a, const sturdy_design *
         size_t k = a->nblk > 1 ? d->block_level[i] : 0;
         a->blk_rows[a->blk_start[k] + fill[k]++] = i;
     }
-    free(fill);
+    sturdy_free(fill);
     for (size_t k = 0; k < n; k++)
         a->lab0[k] = (uint32_t)d->group[a->blk_rows[k]];
     return STURDY_OK;
@@ -57,9 +57,9 @@ void sturdy_rearranger_free(sturdy_rearranger *a)
 {
     if (!a)
         return;
-    free(a->blk_start);
-    free(a->blk_rows);
-    free(a->lab0);
+    sturdy_free(a->blk_start);
+    sturdy_free(a->blk_rows);
+    sturdy_free(a->lab0);
     a->blk_start = a->blk_rows = NULL;
     a->lab0 = NULL;
 }
