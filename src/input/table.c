@@ -251,6 +251,10 @@ static void parse_all(loader *L, const char *buf, size_t len, unsigned char deli
         fail(L, STURDY_EINTERNAL, "out of memory");
         return;
     }
+    /* libcsv's field buffer goes through the library's allocator too (a failed growth
+       is retried by libcsv with a smaller block before it reports CSV_ENOMEM) */
+    csv_set_realloc_func(&p, sturdy_realloc);
+    csv_set_free_func(&p, sturdy_free);
     csv_set_delim(&p, delim);
     if (len >= 3 && !memcmp(buf, "\xEF\xBB\xBF", 3)) pos = 3;   /* UTF-8 byte-order mark */
     L->cur_line = 1;
