@@ -54,18 +54,18 @@ void sturdy_design_free(sturdy_design *d)
     for (size_t i = 0; i < d->nwarnings; i++)
         sturdy_free(d->warnings[i]);
     sturdy_free(d->warnings);
-    for (size_t f = 0; f < d->nfactors; f++)
+    for (size_t f = 0; d->factors && f < d->nfactors; f++)
         factor_free(&d->factors[f]);
     sturdy_free(d->factors);
     sturdy_free(d->level);
     if (d->has_block)
         factor_free(&d->block);
     sturdy_free(d->block_level);
-    for (size_t c = 0; c < d->ncov; c++)
+    for (size_t c = 0; d->cov_names && c < d->ncov; c++)
         sturdy_free(d->cov_names[c]);
     sturdy_free(d->cov_names);
     sturdy_free(d->cov);
-    for (size_t r = 0; r < d->nresp; r++)
+    for (size_t r = 0; d->resp_names && r < d->nresp; r++)
         sturdy_free(d->resp_names[r]);
     sturdy_free(d->resp_names);
     sturdy_free(d->y);
