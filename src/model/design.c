@@ -334,7 +334,10 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t r = 0; r < nr; r++) {
-        d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name);
+        if (!(d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name))) {
+            sturdy_free(ri);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
         if ((st = sturdy_table_numeric(t, (size_t)ri[r], d->row, n, d->y + r * n,
                                        &d->y_ref[r], err))) {
             sturdy_free(ri);
@@ -343,7 +346,10 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     }
     for (size_t c = 0; c < nc; c++) {
         double ref, *x = d->cov + c * n;
-        d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name);
+        if (!(d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name))) {
+            sturdy_free(ri);
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
         if ((st = sturdy_table_numeric(t, (size_t)ci[c], d->row, n, x, &ref, err))) {
             sturdy_free(ri);
             return st;
