@@ -63,6 +63,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
         p += 1;
     }
     uint32_t *masks = sturdy_malloc(((size_t)1 << m) * sizeof *masks);
+    d->nterms = nt;              /* from here on the design's free releases the labels */
     if (!masks)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t k = 1; k <= maxord; k++) {
@@ -74,6 +75,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
         for (size_t j = 0; j < nk; j++) {
             uint32_t mask = reverse_bits(masks[j], m);
             sturdy_term *t = &d->terms[nt++];
+            d->nterms = nt;
             t->kind = STURDY_TERM_FACTORS;
             t->mask = mask;
             t->order = k;
