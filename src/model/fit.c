@@ -282,7 +282,7 @@ void sturdy_model_free(sturdy_model *m)
     sturdy_free(m->U);
     sturdy_free(m->sqrt_count);
     sturdy_free(m->leverage);
-    for (size_t t = 0; t < m->nterms; t++) {
+    for (size_t t = 0; m->terms && t < m->nterms; t++) {
         sturdy_free(m->terms[t].why_not);
         sturdy_free(m->terms[t].why_short);
         sturdy_free(m->terms[t].Ured);
