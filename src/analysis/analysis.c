@@ -176,12 +176,13 @@ void sturdy_result_free(sturdy_result *r)
 {
     if (!r)
         return;
-    for (size_t ri = 0; ri < r->nresp; ri++) {
+    /* counts may be set before their arrays (an allocation failed in between) */
+    for (size_t ri = 0; r->resp && ri < r->nresp; ri++) {
         sturdy_response_result *rr = &r->resp[ri];
-        for (size_t t = 0; t < rr->nterms; t++) {
+        for (size_t t = 0; rr->terms && t < rr->nterms; t++) {
             sturdy_term_result *tr = &rr->terms[t];
             sturdy_free(tr->label);
-            for (size_t f = 0; f < tr->nfactors; f++)
+            for (size_t f = 0; tr->factors && f < tr->nfactors; f++)
                 sturdy_free(tr->factors[f]);
             sturdy_free(tr->factors);
             sturdy_free(tr->note);
