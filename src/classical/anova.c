@@ -153,6 +153,11 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         } else {
             tr->factors[0] = sturdy_strdup(term->label);
         }
+        for (size_t f = 0; f < tr->nfactors; f++)
+            if (!tr->factors[f]) {
+                sturdy_free(s); sturdy_free(work);
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            }
         tr->df = (double)tb->df;
         tr->ss = tb->df ? sturdy_proj_norm2(tb->Uterm, K, tb->df, s) : 0.0;
         tr->ms = tb->df ? tr->ss / tr->df : NAN;
