@@ -22,6 +22,15 @@ static sturdy_status note(char **slot, char *text, char *err)
     return text ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
 
+/* A diagnostic test that did not run: its message becomes the note, unless memory ran out
+ * (STURDY_EINTERNAL), which fails the run rather than leave a note in the report. */
+static sturdy_status test_note(sturdy_status st, char **slot, const char *msg, char *err)
+{
+    if (st == STURDY_EINTERNAL)
+        return sturdy_fail(err, st, "%s", msg);
+    return note(slot, sturdy_strdup(msg), err);
+}
+
 sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
                                        sturdy_response_result *resp, char *err)
 {
@@ -57,9 +66,9 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
         st = note(&dg->sw_note, sturdy_asprintf(
                  "Shapiro-Wilk is defined for 3 to %d rows and %zu are used; judge "
                  "normality from the skewness and excess kurtosis", SW_MAX_N, n), err);
-    } else if (sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg) != STURDY_OK) {
+    } else if ((st = sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg)) != STURDY_OK) {
         dg->sw_w = dg->sw_p = NAN;
-        st = note(&dg->sw_note, sturdy_strdup(msg), err);
+        st = test_note(st, &dg->sw_note, msg, err);
     } else {
         st = STURDY_OK;
     }
@@ -67,18 +76,19 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
         sturdy_free(internal);
         return st;
     }
-    if (sturdy_brown_forsythe(e, d->cell, n, d->ncells, &dg->bf_f, &dg->bf_df1, &dg->bf_df2,
-                              &dg->bf_p, msg) != STURDY_OK) {
+    if ((st = sturdy_brown_forsythe(e, d->cell, n, d->ncells, &dg->bf_f, &dg->bf_df1,
+                                    &dg->bf_df2, &dg->bf_p, msg)) != STURDY_OK) {
         dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
-        if ((st = note(&dg->bf_note, sturdy_strdup(msg), err))) {
+        if ((st = test_note(st, &dg->bf_note, msg, err))) {
             sturdy_free(internal);
             return st;
         }
     }
-    if (sturdy_brown_forsythe_modified(e, d->cell, n, d->ncells, &dg->bfm_f, &dg->bfm_df1,
-                                       &dg->bfm_df2, &dg->bfm_p, msg) != STURDY_OK) {
+    if ((st = sturdy_brown_forsythe_modified(e, d->cell, n, d->ncells, &dg->bfm_f,
+                                             &dg->bfm_df1, &dg->bfm_df2, &dg->bfm_p,
+                                             msg)) != STURDY_OK) {
         dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
-        if ((st = note(&dg->bfm_note, sturdy_strdup(msg), err))) {
+        if ((st = test_note(st, &dg->bfm_note, msg, err))) {
             sturdy_free(internal);
             return st;
         }
