@@ -259,7 +259,11 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         sturdy_model_free(m);
         return st;
     }
-    uint64_t count = sturdy_permute_count(d, o->flip);
+    uint64_t count;
+    if ((st = sturdy_permute_count(d, o->flip, &count, err))) {
+        sturdy_model_free(m);
+        return st;
+    }
     r->exact = o->permutations > 0 && count <= o->permutations;
     r->nperm = r->exact ? count : o->permutations;
     r->nboot = m->df_error > 0 ? o->bootstrap : 0;

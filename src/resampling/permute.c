@@ -60,15 +60,20 @@ typedef struct {
     size_t nb;           /* rearrangements per dgemm block */
 } perm_ctx;
 
-uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
+sturdy_status sturdy_permute_count(const sturdy_design *d, int flip, uint64_t *count,
+                                   char *err)
 {
-    if (flip)
-        return d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
-    if (!d->has_block)
-        return sturdy_factorial_sat(d->n);
+    if (flip) {
+        *count = d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
+        return STURDY_OK;
+    }
+    if (!d->has_block) {
+        *count = sturdy_factorial_sat(d->n);
+        return STURDY_OK;
+    }
     size_t *cnt = sturdy_calloc(d->block.nlevels, sizeof *cnt);
     if (!cnt)
-        return UINT64_MAX;
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < d->n; i++)
         cnt[d->block_level[i]]++;
     uint64_t total = 1;
@@ -81,7 +86,8 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
         total *= f;
     }
     sturdy_free(cnt);
-    return total;
+    *count = total;
+    return STURDY_OK;
 }
 
 typedef struct {
