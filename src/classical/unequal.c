@@ -189,9 +189,9 @@ void uv_restricted_residuals(const uv_ctx *c, const double *y, const double *Ut,
 }
 
 /* Johansen's (1980) approximate F and the ANOVA-type statistic from the observed Ω
- * (cell variances) left in `work` by uv_wald(). */
-static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
-                             double *work, sturdy_uv_result *u)
+ * (cell variances) left in `work` by uv_wald(). STURDY_EINTERNAL when out of memory. */
+static sturdy_status factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
+                                      double *work, sturdy_uv_result *u, char *err)
 {
     size_t K = c->K;
     const double *om = work + K, *L = work + 3 * K + c->m->rank;
@@ -201,7 +201,7 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
     double *G = sturdy_malloc((df ? df * df : 1) * sizeof *G);
     if (!x || !G) {
         sturdy_free(x); sturdy_free(G);
-        return; /* leaves NaN: an out-of-memory here is not worth failing the run */
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     double A = 0.0;
     for (size_t g = 0; g < K; g++) {
@@ -231,9 +231,10 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
             G[j * df + i] = t;
         }
     double *Y = sturdy_malloc(df * K * sizeof *Y);
-    if (!Y || !cholesky(G, df)) {
+    int oom = !Y;
+    if (oom || !cholesky(G, df)) {
         sturdy_free(x); sturdy_free(G); sturdy_free(Y);
-        return;
+        return oom ? sturdy_fail(err, STURDY_EINTERNAL, "out of memory") : STURDY_OK;
     }
     for (size_t g = 0; g < K; g++) {
         for (size_t j = 0; j < df; j++)
@@ -275,6 +276,7 @@ static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, doubl
         u->ats_p = sturdy_f_sf(u->ats, u->ats_df1, u->ats_df2);
     }
     sturdy_free(x); sturdy_free(G); sturdy_free(Y);
+    return STURDY_OK;
 }
 
 static void uv_init_result(sturdy_uv_result *u)
@@ -331,7 +333,7 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         u->wald = W;
         u->df1 = (double)tb->df;
         if (!hc3) {
-            factor_only_refs(&c, tb->Uterm, tb->df, W, work, u);
+            st = factor_only_refs(&c, tb->Uterm, tb->df, W, work, u, err);
         } else {
             u->johansen = 0;
             u->stat = W / (double)tb->df;
