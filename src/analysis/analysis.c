@@ -1,5 +1,6 @@
 /* analysis.c — runs the stages of a check in order and turns the resampling counts and
  * replicates into p-values, intervals and verdicts. */
+#include <assert.h>
 #include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
@@ -74,6 +75,7 @@ int sturdy_thread_count(const sturdy_options *o)
 /* [lo, hi) of slice i (1-based) of n over total items: an even split. */
 static void slice_range(uint64_t total, uint64_t i, uint64_t n, uint64_t *lo, uint64_t *hi)
 {
+    assert(n == 0 || (i >= 1 && i <= n));   /* sturdy_options_validate */
     if (n == 0) {
         *lo = 0;
         *hi = total;
@@ -272,6 +274,8 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_result *r, char *err)
         slice_range(r->nperm, o->shard_index, o->shard_count, &r->perm_begin, &r->perm_end);
         slice_range(r->nboot, o->shard_index, o->shard_count, &r->boot_begin, &r->boot_end);
     }
+    assert(r->perm_begin <= r->perm_end && r->perm_end <= r->nperm);
+    assert(r->boot_begin <= r->boot_end && r->boot_end <= r->nboot);
     if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(d, m, r, err)) &&
         !(st = sturdy_uv_run(d, m, r, err)) && !(st = sturdy_bootstrap_run(d, m, r, err))) {
         r->perm_done = r->perm_end - r->perm_begin;
@@ -358,6 +362,7 @@ static sturdy_status holm(sturdy_result *r, char *err)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if (!isnan(r->resp[ri].terms[t].p_perm))
                 fam[k++] = &r->resp[ri].terms[t];
+    assert(k <= cap);
     /* insertion sort, stable: the family is small */
     for (size_t i = 1; i < k; i++) {
         sturdy_term_result *x = fam[i];

@@ -1,5 +1,6 @@
 /* residuals.c — diagnostics of one response's residuals (normality, moments, equal
  * variances across cells, studentized outliers) and the verdict of each term. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -35,6 +36,8 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
                                        sturdy_response_result *resp, char *err)
 {
     size_t n = d->n;
+    /* the classical stage came first: residuals and cell SDs of this design */
+    assert(resp->residual && resp->cell_sd && resp->nterms == d->nterms);
     sturdy_diagnostics *dg = &resp->diag;
     const double *e = resp->residual;
     char msg[STURDY_ERR_LEN];

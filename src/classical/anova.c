@@ -1,5 +1,6 @@
 /* anova.c — the classical table of one response: SS by type, F, p, effect sizes and the
  * noncentral-F interval for partial η², plus fitted values, residuals and cell summaries. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -55,8 +56,10 @@ static sturdy_status cell_summaries(const sturdy_design *d, const double *y, dou
     }
     for (size_t i = 0; i < d->n; i++)
         out->cell_mean[d->cell[i]] += y[i];
-    for (size_t c = 0; c < C; c++)
+    for (size_t c = 0; c < C; c++) {
+        assert(d->cell_count[c] > 0);   /* cells are the combinations that occur */
         out->cell_mean[c] /= (double)d->cell_count[c];
+    }
     for (size_t i = 0; i < d->n; i++) {
         double dv = y[i] - out->cell_mean[d->cell[i]];
         ss[d->cell[i]] += dv * dv;
@@ -82,6 +85,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
                                     char *err)
 {
     size_t n = d->n, K = m->K;
+    assert(r < d->nresp && K == d->ngroups && m->nterms == d->nterms && threads >= 1);
     const double *y = d->y + r * n;
     sturdy_status st;
     out->name = sturdy_strdup(d->resp_names[r]);

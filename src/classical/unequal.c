@@ -27,6 +27,7 @@
  * So each replicate costs one pass over the rows plus small products, and counts are
  * integers: any split over threads, shards or ranks gives the same counts. This file
  * holds the statistic and its classical references; unequal_resample.c the resampling. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -131,6 +132,7 @@ sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model 
                                  int hc3, const char **why, char *err)
 {
     size_t K = m->K;
+    assert(K == d->ngroups && why);
     memset(c, 0, sizeof *c);
     c->d = d;
     c->m = m;
@@ -194,6 +196,9 @@ static sturdy_status factor_only_refs(const uv_ctx *c, const double *Ut, size_t 
                                       double *work, sturdy_uv_result *u, char *err)
 {
     size_t K = c->K;
+    /* factor-only models: the groups are the cells, each with at least 2 rows (else the
+       test was ruled out in uv_ctx_init), so n_g − 1 > 0 below */
+    assert(K == c->d->ncells && df >= 1);
     const double *om = work + K, *L = work + 3 * K + c->m->rank;
     double r = (double)df;
     /* M_gg = Ω_g (U_t V⁻¹ U_tᵀ)_gg, with V⁻¹ = L⁻ᵀL⁻¹: (U_t V⁻¹ U_tᵀ)_gg = ‖L⁻¹ U_t,g·‖² */

@@ -1,6 +1,7 @@
 /* levels.c — the levels of a factor: natural order (numbers numerically, digits inside
  * text as whole numbers), the user's order, merging levels equal as numbers, and
  * warnings about levels that are probably one level written two ways. */
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -173,6 +174,7 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
     for (size_t j = 1; j < nl; j++)
         if (sturdy_parse_number(nat[j - 1].text, &x) && sturdy_parse_number(nat[j].text, &y) &&
             x == y) {
+            assert(np < nl);            /* pairs holds nl pairs */
             pairs[2 * np] = nat[j - 1].text;
             pairs[2 * np + 1] = nat[j].text;
             np++;
@@ -197,6 +199,7 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
                 continue;                       /* reported (or merged) as numbers */
             /* kind 0: only the blanks around them differ; 1: letter case (perhaps too) */
             if (trimmed_equal(a->text, b->text) != (kind == 0)) continue;
+            assert(np < nl);
             pairs[2 * np] = a->text;
             pairs[2 * np + 1] = b->text;
             np++;
@@ -274,6 +277,8 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
                          b.failed ? "out of memory" : b.data);
         sturdy_buf_free(&b);
     }
+    /* without an error every group has its own place among the first ngroups */
+    for (size_t g = 0; g < ngroups && !st; g++) assert(pos[g] < ngroups);
     sturdy_free(unknown);
     return st;
 }
@@ -285,6 +290,7 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
 {
     sturdy_status st = STURDY_OK;
     size_t n = d->n, nl = 0, ng = 0;
+    assert(col >= 0 && (size_t)col < t->ncols && stride >= 1);
     const char *name = t->cols[col].name;
     const sturdy_level_order *lo = NULL;
     for (size_t k = 0; k < s->nlevel_orders; k++)

@@ -10,6 +10,7 @@
 #include "core/core.h"
 #include "input/table_internal.h"
 
+#include <assert.h>
 #include <csv.h>
 #include <errno.h>
 #include <stdarg.h>
@@ -179,6 +180,7 @@ static void take_header(loader *L)
 static int grow_rows(loader *L)
 {
     sturdy_table *t = L->t;
+    assert(t->nrows == L->caprows);   /* called only when the column arrays are full */
     size_t cap = L->caprows ? 2 * L->caprows : 64;
     size_t *line = sturdy_realloc(t->line, cap * sizeof *line);
     if (!line) return 0;

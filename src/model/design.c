@@ -1,5 +1,6 @@
 /* design.c — from table to design: used rows, factor levels, cells, groups, terms and
  * the sum-to-zero coded columns (one row per group). */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -423,6 +424,7 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     for (size_t c = 0; c < d->ncells; c++)
         memcpy(d->cell_levels + c * nf, d->level + first[c] * nf, nf * sizeof(size_t));
     sturdy_free(first);
+    assert(d->ncells >= 1 && d->ncells <= n);
     for (size_t i = 0; i < n; i++)
         d->cell_count[d->cell[i]]++;
     d->min_cell = (size_t)-1;
@@ -462,6 +464,8 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
         sturdy_free(first);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
+    /* groups refine cells (cell × block level, or single rows) */
+    assert(d->ngroups >= d->ncells && d->ngroups <= n);
     for (size_t i = 0; i < n; i++)
         d->group_count[d->group[i]]++;
 

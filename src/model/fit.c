@@ -1,5 +1,6 @@
 /* fit.c — orthonormal bases for the full model and each term's reduced-vs-augmented
  * comparison, in group space (see fit.h), by pivoted Householder QR (LAPACK). */
+#include <assert.h>
 #include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
@@ -118,6 +119,7 @@ static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t 
             take_columns(d, m->sqrt_count, d->terms[j].col0, d->terms[j].ncols, A, k);
             k += d->terms[j].ncols;
         }
+    assert(k + term->ncols <= d->p);    /* A has room for K × p */
     sturdy_status st = orth_basis(A, K, k, NULL, &tb->Ured, &tb->rank_red, err);
     if (st)
         return st;
@@ -219,6 +221,7 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
     int empty = d->ncells < d->ncells_possible;
     const char *other = empty ? "empty cells" : d->ncov ? "collinear covariates"
                                                         : "collinearity with other terms";
+    assert(tb->df <= c);                /* a term adds at most its own columns' rank */
     tb->df_nominal = c;
     tb->testable = 1;
     if (tb->df == 0 && conf && term->kind == STURDY_TERM_BLOCK) {
@@ -314,6 +317,8 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
         sturdy_free(A);
         return st;
     }
+    /* the intercept column alone has rank 1; no basis outgrows its columns or groups */
+    assert(m->rank >= 1 && m->rank <= p && m->rank <= K && m->rank <= d->n);
     m->df_error = d->n - m->rank;
     for (size_t g = 0; g < K; g++) {
         double h = 0.0;
@@ -372,6 +377,7 @@ void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
                                const double *v, double *s)
 {
     size_t K = m->K;
+    assert(K == d->ngroups && m->n == d->n);
     memset(s, 0, K * sizeof *s);
     for (size_t i = 0; i < d->n; i++)
         s[d->group[i]] += v[i];

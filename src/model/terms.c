@@ -1,5 +1,6 @@
 /* terms.c — the model's terms (block, covariates, factor main effects and interactions
  * up to the chosen order) and their sum-to-zero coded columns, one row per group. */
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -37,6 +38,7 @@ static int cmp_u32_desc(const void *a, const void *b)
 sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns, char *err)
 {
     size_t m = d->nfactors;
+    assert(m <= STURDY_MAX_FACTORS);  /* masks are 32-bit; 2^m masks are listed */
     size_t maxord = (order <= 0 || (size_t)order > m) ? m : (size_t)order;
     size_t cap = (d->has_block ? 1 : 0) + d->ncov + ((size_t)1 << m);
     d->terms = sturdy_calloc(cap, sizeof *d->terms);
@@ -112,6 +114,7 @@ sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns,
         }
     }
     sturdy_free(masks);
+    assert(nt <= cap);
     d->nterms = nt;
     d->p = p;
     for (size_t i = 0; i < nt; i++)
@@ -206,6 +209,7 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
                                  "which it contains; list a term after the terms it contains",
                                  d->terms[pos[a]].label, d->terms[pos[b]].label);
     if (!st) {
+        assert(k == nt);                /* every term placed exactly once */
         for (size_t i = 0; i < nt; i++)
             sorted[i] = d->terms[pos[i]];
         memcpy(d->terms, sorted, nt * sizeof *sorted);
@@ -230,6 +234,7 @@ void sturdy_terms_fill_columns(sturdy_design *d, const size_t *rep)
         X[g] = 1.0;
     for (size_t ti = 0; ti < d->nterms; ti++) {
         const sturdy_term *t = &d->terms[ti];
+        assert(t->col0 >= 1 && t->col0 + t->ncols <= d->p);   /* column 0: intercept */
         for (size_t g = 0; g < K; g++) {
             size_t i = rep[g];
             if (t->kind == STURDY_TERM_BLOCK) {

@@ -1,4 +1,5 @@
 /* buf.c — the writers' growing output buffer, number formatting and cell labels. */
+#include <assert.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -38,6 +39,7 @@ static int buf_reserve(sturdy_buf *b, size_t extra)
     if (!p) { b->failed = 1; return 0; }
     b->data = p;
     b->cap = cap;
+    assert(b->cap >= need);
     return 1;
 }
 

@@ -12,6 +12,7 @@
  * Each replicate y* = f + r* is evaluated without refitting: with s = group sums (÷√n_g)
  * SS_t* = ‖U_tᵀ(s_f + s_r)‖², SSE* = ‖r*‖² − ‖U_fullᵀ s_r‖² (f lies in the model space),
  * SST* = ‖f_c‖² + 2 f_cᵀr* + ‖r*‖² − (Σr*)²/n with f_c the centred fitted values. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -60,6 +61,7 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
+    assert(b < c->r->nboot);            /* term->boot has nboot rows */
     sturdy_pcg64 g;
     sturdy_pcg_for(&g, c->r->opts.seed, STURDY_STREAM_BOOTSTRAP, b);
     for (size_t ri = 0; ri < c->r->nresp; ri++) {
@@ -119,6 +121,7 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
     const sturdy_term_basis *tb = &m->terms[t];
     sturdy_response_result *resp = &c->r->resp[ri];
     sturdy_term_result *tr = &resp->terms[t];
+    assert(tr->f >= 0 && n >= 2);       /* an F needs residual df, so n > rank ≥ 1 */
     const double *y = d->y + ri * n;
     double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((m->rank + K) * sizeof *work);
     double *ered = sturdy_malloc(n * sizeof *ered), *eaug = sturdy_malloc(n * sizeof *eaug);
@@ -386,6 +389,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
     uint64_t B = r->nboot;
     if (!t->boot || B == 0)
         return STURDY_OK;
+    assert(r->boot_done == B);          /* only a finished run has every replicate */
     double *x = sturdy_malloc((size_t)B * sizeof *x);
     if (!x)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");

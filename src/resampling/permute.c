@@ -16,6 +16,7 @@
  * Reproducibility: rearrangement b uses generator sturdy_pcg_for(seed, PERMUTE, b) only
  * (or, when enumerating, the b-th rearrangement in a fixed order); counts are integers
  * summed per thread, so any split over threads, shards or ranks gives the same counts. */
+#include <assert.h>
 #include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
@@ -145,6 +146,7 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K, M = c->M, nb = cnt;
+    assert(cnt >= 1 && cnt <= c->nb);   /* the workspaces hold c->nb rearrangements */
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -252,6 +254,7 @@ static sturdy_status setup(perm_ctx *c, sturdy_result *r, char *err)
                     return st;
                 continue;
             }
+            assert(m->df_error > 0);    /* a finite F needs residual df; c divides by it */
             member *mb = &c->mem[c->M++];
             mb->resp = ri;
             mb->term = t;
@@ -367,6 +370,7 @@ sturdy_status sturdy_permute_run(const sturdy_design *d, const sturdy_model *m,
             uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
             if (lo < b0) lo = b0;
             if (hi > b1) hi = b1;
+            assert(lo < hi && hi <= r->nperm);
             run_block(&c, lo, (size_t)(hi - lo), &w);
             if (r->opts.progress) {
 #pragma omp critical(sturdy_progress)

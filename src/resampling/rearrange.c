@@ -2,6 +2,7 @@
  * blocks (Durstenfeld 1964, bounded draws by Lemire 2019), exact enumeration in a fixed
  * order (Lehmer codes), or sign patterns. Depends only on (seed, b), so any split of the
  * work over threads, shards or ranks sees the same rearrangements. */
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -24,6 +25,7 @@ sturdy_status sturdy_rearranger_init(sturdy_rearranger *a, const sturdy_design *
                                      int exact, uint64_t seed, char *err)
 {
     size_t n = d->n;
+    assert(d->ngroups <= UINT32_MAX);   /* labels are 32-bit */
     memset(a, 0, sizeof *a);
     a->d = d;
     a->flip = flip;
@@ -48,6 +50,7 @@ sturdy_status sturdy_rearranger_init(sturdy_rearranger *a, const sturdy_design *
         a->blk_rows[a->blk_start[k] + fill[k]++] = i;
     }
     sturdy_free(fill);
+    assert(a->blk_start[a->nblk] == n);
     for (size_t k = 0; k < n; k++)
         a->lab0[k] = (uint32_t)d->group[a->blk_rows[k]];
     return STURDY_OK;
@@ -94,14 +97,17 @@ static void unrank(const sturdy_rearranger *a, uint64_t b, uint32_t *lab, uint32
             memmove(pool + dgt, pool + dgt + 1, (m - i - 1 - dgt) * sizeof *pool);
         }
     }
+    assert(b == 0);     /* b < the number of rearrangements: enumeration is exhaustive */
 }
 
 void sturdy_rearrange(const sturdy_rearranger *a, uint64_t b, uint32_t *lab,
                       signed char *sign, uint32_t *pool)
 {
     size_t n = a->d->n;
+    assert(a->flip ? sign != NULL : lab != NULL && pool != NULL);
     if (a->flip) {
         if (a->exact) {
+            assert(n < 64 && (b >> n) == 0);   /* b < 2^n sign patterns */
             for (size_t i = 0; i < n; i++)
                 sign[i] = (b >> i) & 1 ? -1 : 1;
         } else {

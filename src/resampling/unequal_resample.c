@@ -5,6 +5,7 @@
  * Konietschke 2015). Each replicate is one pass over the rows into group sums, then W*
  * per term (unequal.c); counts are integers summed per thread, so any split of the work
  * gives the same counts. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -46,6 +47,7 @@ static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uin
 {
     const sturdy_design *d = u->c.d;
     size_t n = d->n, K = u->c.K, M = u->M;
+    assert(b0 < b1 && (wild || ra));
     int failed = 0;
     int64_t nrep = (int64_t)(b1 - b0);
 #pragma omp parallel num_threads(nthreads)
@@ -181,6 +183,7 @@ sturdy_status sturdy_uv_run(const sturdy_design *d, const sturdy_model *m, sturd
                 (st = sturdy_note_once(&uv->perm_note, "no permutation p-value for the block term: "
                                "rearranging within blocks leaves it unchanged", err)))
                 goto done;
+            assert(u.M < r->nresp * d->nterms + 1);
             uv_member *mb = &u.mem[u.M++];
             mb->resp = ri;
             mb->term = t;
