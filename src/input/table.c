@@ -336,12 +336,13 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     return STURDY_OK;
 }
 
-/* Read all of f into a malloc'd buffer. Returns 0 and sets errno on a read error. */
+/* Read all of f into a fresh buffer (sturdy_malloc). Returns 1, 0 on a read error (errno
+ * set), or -1 when memory runs out. */
 static int read_all(FILE *f, char **buf, size_t *len)
 {
     size_t cap = 1 << 16, n = 0;
     char *b = sturdy_malloc(cap);
-    if (!b) return 0;
+    if (!b) return -1;
     for (;;) {
         size_t got = fread(b + n, 1, cap - n, f);
         n += got;
@@ -350,7 +351,7 @@ static int read_all(FILE *f, char **buf, size_t *len)
             break;
         }
         char *nb = cap > ((size_t)-1) / 2 ? NULL : sturdy_realloc(b, cap * 2);
-        if (!nb) { sturdy_free(b); errno = ENOMEM; return 0; }
+        if (!nb) { sturdy_free(b); return -1; }
         b = nb;
         cap *= 2;
     }
@@ -375,8 +376,11 @@ sturdy_status sturdy_table_load(const char *path, const sturdy_table_opts *o,
     }
     errno = 0;
     ok = read_all(f, &buf, &len);
-    if (!ok) sturdy_table_set_err(err, "%s: cannot read: %s", name, strerror(errno ? errno : EIO));
+    if (ok < 0) sturdy_table_set_err(err, "%s: out of memory reading the file", name);
+    else if (!ok)
+        sturdy_table_set_err(err, "%s: cannot read: %s", name, strerror(errno ? errno : EIO));
     if (!is_stdin) fclose(f);
+    if (ok < 0) return STURDY_EINTERNAL;
     if (!ok) return STURDY_EDATA;
     sturdy_status st = sturdy_table_load_buffer(name, buf, len, o, out, err);
     sturdy_free(buf);
