@@ -125,6 +125,8 @@ static sturdy_status unknown_column(const sturdy_table *t, const char *name, con
                        ? len / SUGGEST_EDITS_PER_CHAR : SUGGEST_MAX_EDITS;
     for (size_t j = 0; j < t->ncols; j++) {
         size_t dist = edit_distance(name, t->cols[j].name);
+        if (dist == (size_t)-1)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         if (dist < best) { best = dist; best_col = j; }
     }
     const char *hint = sturdy_table_delimiter_hint(t);
