@@ -13,6 +13,9 @@
  *     must equal the reference byte for byte;
  *   - leave no block allocated once everything is freed (the allocator counts live
  *     blocks; ASan's leak check in the sanitizer build names the place).
+ * A second, short sweep takes paths the complete run does not: the table read from a
+ * file, and an analysis that stops with a usage error (an unknown column); there each
+ * refusal must give STURDY_EINTERNAL, or the usage error itself after a retry.
  * With threads = 1 the allocation order is fixed, so allocation k is the same one in
  * every run. With threads = 2 the allocations inside a parallel region (per-thread
  * workspaces, the jackknife's per-term buffers) come in an order that changes from run
@@ -25,6 +28,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
+#include <unistd.h>
 
 #include "check.h"
 #include "sturdy/sturdy.h"
@@ -358,6 +362,75 @@ static int run_failing(fault *f, const char *csv, int threads, unsigned long k,
     return 1;
 }
 
+/* ---------------------------------------------------------------- an error path */
+
+/* Paths the complete run does not take: reading the table from a file, then an analysis
+ * that stops with a usage error — a response column that does not exist, whose message
+ * suggests the closest name. */
+static outcome run_error_path(const char *path)
+{
+    static const char *const wrong[] = {"yy"};
+    outcome oc;
+    memset(&oc, 0, sizeof oc);
+    sturdy_table *t = NULL;
+    oc.st = sturdy_table_load(path, NULL, &t, oc.err);
+    if (oc.st) {
+        oc.stage = STAGE_LOAD;
+        return oc;
+    }
+    sturdy_options opt;
+    set_model(&opt, 0, 1);
+    opt.model.responses = wrong;
+    opt.model.nresponses = 1;
+    sturdy_result *r = NULL;
+    oc.st = sturdy_analyze(t, &opt, &r, oc.err);
+    oc.stage = STAGE_ANALYSIS;
+    if (r) oc.flagged = -1;
+    sturdy_result_free(r);
+    sturdy_table_free(t);
+    return oc;
+}
+
+/* With request k refused the error path must end in STURDY_EINTERNAL with a message, or,
+ * after a retried request, in the reference's own status and message. */
+static void run_failing_error(fault *f, const char *path, unsigned long k, const outcome *ref,
+                              tally *ty)
+{
+    fault_reset(f, k, 0);
+    outcome oc = run_error_path(path);
+    long live = atomic_load(&f->live);
+    int same = oc.st == ref->st && !strcmp(oc.err, ref->err);
+    char why[1024] = "";
+    ty->runs++;
+    if (!atomic_load(&f->failed))
+        snprintf(why, sizeof why, "request %lu was never made", k);
+    else if (oc.flagged < 0)
+        snprintf(why, sizeof why, "the analysis returned a result with an error");
+    else if (oc.st != STURDY_EINTERNAL && !(same && atomic_load(&f->retried)))
+        snprintf(why, sizeof why, "%s ended with status %d, not EINTERNAL: %.400s",
+                 stage_names[oc.stage], (int)oc.st, oc.err);
+    else if (oc.st == STURDY_EINTERNAL && !oc.err[0])
+        snprintf(why, sizeof why, "%s failed without a message", stage_names[oc.stage]);
+    else if (live != 0)
+        snprintf(why, sizeof why, "%ld blocks left allocated (a leak) after %s failed: %.400s",
+                 live, stage_names[oc.stage], oc.err);
+    if (why[0]) {
+        char line[1200];
+        snprintf(line, sizeof line, "error path, allocation %lu refused: %s", k, why);
+        check_report(0, line);
+        ty->bad++;
+        return;
+    }
+    if (oc.st != STURDY_EINTERNAL) {
+        if (ty->ok_retried < 4) ty->retried_k[ty->ok_retried] = k;
+        ty->ok_retried++;
+    } else if (oc.stage == STAGE_LOAD) {
+        ty->failed_load++;
+    } else {
+        ty->failed_analysis++;
+    }
+}
+
 static void report_tally(const char *what, const tally *ty)
 {
     char line[500], ks[64] = "";
@@ -442,7 +515,28 @@ int main(void)
     /* with 2 threads, the requests made inside parallel regions */
     for (size_t i = 0; i < npar; i++) run_failing(&f, csv, 2, f.par[i], &ref2, &ty2);
     report_tally("2 threads, each allocation inside a parallel region refused", &ty2);
-    printf("sweep took %.1f s of CPU time\n", (double)clock() / CLOCKS_PER_SEC - t0);
+
+    /* the error path, from a file */
+    char path[] = "/tmp/sturdy_alloc_XXXXXX";
+    int fd = mkstemp(path);
+    FILE *fp = fd >= 0 ? fdopen(fd, "w") : NULL;
+    int written = fp && fputs(csv, fp) >= 0;
+    if (fp) written &= fclose(fp) == 0;
+    CHECK("test data written to a temporary file", written);
+    if (written) {
+        fault_reset(&f, 0, 0);
+        outcome ref = run_error_path(path);
+        unsigned long count3 = (unsigned long)atomic_load(&f.count);
+        CHECK_INT("an unknown response column is a usage error", ref.st, STURDY_EUSAGE);
+        CHECK("its message suggests the closest name", strstr(ref.err, "did you mean 'y'") != NULL);
+        CHECK_INT("the error path leaves no block allocated", atomic_load(&f.live), 0);
+        tally ty3 = {0};
+        for (unsigned long k = 1; k <= count3; k++) run_failing_error(&f, path, k, &ref, &ty3);
+        report_tally("table from a file and a usage error, every allocation refused in turn",
+                     &ty3);
+    }
+    if (fd >= 0) unlink(path);
+    printf("the sweeps took %.1f s of CPU time\n", (double)clock() / CLOCKS_PER_SEC - t0);
 
     /* restoring the C library's allocator: the library still works */
     outputs_free(&ref1);
