@@ -1,6 +1,10 @@
 # sturdy — build, demo, tests. `make demo` and `make check` install what is missing.
 CC      ?= cc
 OPT     ?= -O2
+# No -DNDEBUG in any build, on purpose: the library's asserts (invariants such as index
+# ranges, matching shapes and non-NULL internal arguments; never checks of input, which
+# get a status) stay on in the normal, test and sanitizer builds. They sit outside the
+# per-row loops of the resampling: a few per rearrangement or replicate at most.
 CFLAGS  ?= $(OPT) -g
 WARN    := -std=c11 -Wall -Wextra -Wpedantic -Werror -D_POSIX_C_SOURCE=200809L
 CLI_CPPFLAGS := $(CPPFLAGS) -Iinclude $(if $(filter 1,$(MPI)),-DSTURDY_MPI=1)

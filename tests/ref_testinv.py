@@ -74,8 +74,14 @@ Calibration by a second bootstrap level (Hall 1986; Beran 1987; Lee & Young 1995
     function per outer world gives its miss for every level at once. The calibrated
     level of each tail is the largest level whose outer miss rate is <= alpha/2:
         a_lo' = (M_(k) + M_(k+1)) / 2,  k = floor(J alpha/2), M sorted, M_(0) = 0,
-    (likewise a_hi' from H), clipped to [0, 0.5]; the calibrated interval is the test
-    inversion of the data at (a_lo', a_hi') with the first-level replicates.
+    (likewise a_hi' from H), clipped to [0, alpha] (at most twice the nominal tail:
+    J = 200 outer worlds put only 5 of them in a 2.5% tail, and a level estimated from
+    so few must not halve the interval). When lambda_w = 0 (F below about 1) no outer
+    world can have its upper end below the truth (H = 1 for all), so the upper tail
+    keeps the nominal alpha/2: calibrating it there would shrink the upper end to a 50%
+    bound (measured: the estimate then fell outside in 60% of null datasets). The
+    calibrated interval is the test inversion of the data at (a_lo', a_hi') with the
+    first-level replicates.
 
 Honest edges: s >= 0, so partial eta^2 lies in [0, 1) and Cohen's f >= 0; the lower end
 is exactly 0 whenever the null world is not rejected (G(0) > alpha_lo); contains_estimate
@@ -267,13 +273,17 @@ def testinv_interval(y, X_full, Q, idx, conf=0.95, alpha_lo=None, alpha_hi=None)
     return out
 
 
-def calibrated_interval(y, X_full, Q, idx, outer_idx, inner_idx, conf=0.95):
+def calibrated_interval(y, X_full, Q, idx, outer_idx, inner_idx, conf=0.95,
+                        max_level=None, boundary_upper_nominal=True):
     """Test inversion with each tail's level calibrated by a second bootstrap level.
 
     idx: B x n first-level draws (for the final interval); outer_idx: J x n draws of the
     outer worlds; inner_idx: J x B_in x n draws inside them (or a callable j -> B_in x n).
+    max_level caps each calibrated tail level (default alpha = 1 - conf);
+    boundary_upper_nominal keeps the upper tail at alpha/2 when lambda_w = 0 (see the
+    module docstring; False and max_level=0.5 give the unguarded variant).
     Returns testinv_interval's dict plus the calibrated tail levels and the outer
-    worlds' M, H and the fraction of them with lambda_w = 0."""
+    worlds' M and H."""
     y = np.asarray(y, float)
     w = world(y, X_full)
     v = Q.T @ y
@@ -314,9 +324,12 @@ def calibrated_interval(y, X_full, Q, idx, outer_idx, inner_idx, conf=0.95):
         k = int(math.floor(J * alpha / 2 + 1e-12))
         lo = p[k - 1] if k >= 1 else 0.0
         hi = p[k] if k < J else 1.0
-        return float(min(max((lo + hi) / 2, 0.0), 0.5))
+        return float(min(max((lo + hi) / 2, 0.0), cap))
 
+    cap = alpha if max_level is None else max_level
     a_lo, a_hi = level(Ms), level(Hs)
+    if boundary_upper_nominal and lam_w == 0:
+        a_hi = alpha / 2
     out = testinv_interval(y, X_full, Q, idx, conf, a_lo, a_hi)
     out.update({"calibrated_tails": (a_lo, a_hi), "s_bc": s_bc, "lambda_outer": lam_w,
                 "outer_M": Ms, "outer_H": Hs})

@@ -32,4 +32,25 @@ int sturdy_version_number(void);
 /* A short name for a status ("ok", "bad input data", ...). Never NULL. */
 const char *sturdy_status_name(sturdy_status s);
 
+/* The allocator every allocation of the library goes through (the table loader's libcsv
+ * buffers included; not the internal workspaces of LAPACK, OpenBLAS, GSL or the OpenMP
+ * runtime). malloc_fn and realloc_fn return NULL on failure, which the library reports
+ * as STURDY_EINTERNAL; they are never asked for 0 bytes. realloc_fn gets ptr NULL for a
+ * fresh block; free_fn is never called with NULL. `arg` is passed to each. The
+ * functions are called from several threads at once when threads > 1, so they must be
+ * thread-safe. */
+typedef struct {
+    void *(*malloc_fn)(size_t size, void *arg);
+    void *(*realloc_fn)(void *ptr, size_t size, void *arg);
+    void (*free_fn)(void *ptr, void *arg);
+    void *arg;
+} sturdy_allocator;
+
+/* Install `a` (copied; all three functions must be set), or restore malloc, realloc and
+ * free with NULL. This is process-wide state, not per call: objects allocated in one call
+ * are freed by another (sturdy_result_free, sturdy_table_free, sturdy_buf_free), so set
+ * it once, from one thread, before any other sturdy call, and keep it until every object
+ * of the library has been freed. */
+void sturdy_set_allocator(const sturdy_allocator *a);
+
 #endif

@@ -1,5 +1,6 @@
 /* analysis.c — runs the stages of a check in order and turns the resampling counts and
  * replicates into p-values, intervals and verdicts. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -79,6 +80,7 @@ sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
 /* [lo, hi) of slice i (1-based) of n over total items: an even split. */
 static void slice_range(uint64_t total, uint64_t i, uint64_t n, uint64_t *lo, uint64_t *hi)
 {
+    assert(n == 0 || (i >= 1 && i <= n));   /* sturdy_options_validate */
     if (n == 0) {
         *lo = 0;
         *hi = total;
@@ -120,9 +122,9 @@ static sturdy_status add_note(sturdy_result *r, char *text, char *err)
 {
     if (!text)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    char **n = realloc(r->notes, (r->nnotes + 1) * sizeof *n);
+    char **n = sturdy_realloc(r->notes, (r->nnotes + 1) * sizeof *n);
     if (!n) {
-        free(text);
+        sturdy_free(text);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     r->notes = n;
@@ -181,48 +183,49 @@ void sturdy_result_free(sturdy_result *r)
 {
     if (!r)
         return;
-    for (size_t ri = 0; ri < r->nresp; ri++) {
+    /* counts may be set before their arrays (an allocation failed in between) */
+    for (size_t ri = 0; r->resp && ri < r->nresp; ri++) {
         sturdy_response_result *rr = &r->resp[ri];
-        for (size_t t = 0; t < rr->nterms; t++) {
+        for (size_t t = 0; rr->terms && t < rr->nterms; t++) {
             sturdy_term_result *tr = &rr->terms[t];
-            free(tr->label);
-            for (size_t f = 0; f < tr->nfactors; f++)
-                free(tr->factors[f]);
-            free(tr->factors);
-            free(tr->note);
-            free(tr->perm_note);
-            free(tr->boot);
-            free(tr->boot_note);
-            free(tr->verdict_reason);
-            free(tr->uv.note);
-            free(tr->uv.perm_note);
+            sturdy_free(tr->label);
+            for (size_t f = 0; tr->factors && f < tr->nfactors; f++)
+                sturdy_free(tr->factors[f]);
+            sturdy_free(tr->factors);
+            sturdy_free(tr->note);
+            sturdy_free(tr->perm_note);
+            sturdy_free(tr->boot);
+            sturdy_free(tr->boot_note);
+            sturdy_free(tr->verdict_reason);
+            sturdy_free(tr->uv.note);
+            sturdy_free(tr->uv.perm_note);
         }
-        free(rr->terms);
-        free(rr->name);
-        free(rr->error_note);
-        free(rr->cell_mean);
-        free(rr->cell_sd);
-        free(rr->fitted);
-        free(rr->residual);
-        free(rr->diag.sw_note);
-        free(rr->diag.bf_note);
-        free(rr->diag.bfm_note);
-        free(rr->diag.vr_note);
-        free(rr->diag.spread_reason);
-        free(rr->diag.outliers);
-        free(rr->diag.studentized);
-        free(rr->diag.leverage);
+        sturdy_free(rr->terms);
+        sturdy_free(rr->name);
+        sturdy_free(rr->error_note);
+        sturdy_free(rr->cell_mean);
+        sturdy_free(rr->cell_sd);
+        sturdy_free(rr->fitted);
+        sturdy_free(rr->residual);
+        sturdy_free(rr->diag.sw_note);
+        sturdy_free(rr->diag.bf_note);
+        sturdy_free(rr->diag.bfm_note);
+        sturdy_free(rr->diag.vr_note);
+        sturdy_free(rr->diag.spread_reason);
+        sturdy_free(rr->diag.outliers);
+        sturdy_free(rr->diag.studentized);
+        sturdy_free(rr->diag.leverage);
     }
-    free(r->resp);
+    sturdy_free(r->resp);
     for (size_t i = 0; i < r->nnotes; i++)
-        free(r->notes[i]);
-    free(r->notes);
+        sturdy_free(r->notes[i]);
+    sturdy_free(r->notes);
     sturdy_design_free(r->design);
-    free(r->input);
+    sturdy_free(r->input);
     for (size_t i = 0; i < r->nowned; i++)
-        free(r->owned[i]);
-    free(r->owned);
-    free(r);
+        sturdy_free(r->owned[i]);
+    sturdy_free(r->owned);
+    sturdy_free(r);
 }
 
 /* Design, model and classical table of every response, with the design's and the
@@ -265,12 +268,15 @@ static sturdy_status classical_stage(const sturdy_table *t, const sturdy_run *ru
 
 /* The run's counts and this run's slice of them, resolved once from the options and the
  * design; copied into the result for its readers. */
-static void plan_resampling(const sturdy_table *t, const sturdy_model *m, sturdy_run *run,
-                            sturdy_result *r)
+static sturdy_status plan_resampling(const sturdy_table *t, const sturdy_model *m,
+                                     sturdy_run *run, sturdy_result *r, char *err)
 {
     const sturdy_options *o = &run->opts;
     const sturdy_design *d = r->design;
-    uint64_t count = sturdy_permute_count(d, o->flip);
+    uint64_t count;
+    sturdy_status st = sturdy_permute_count(d, o->flip, &count, err);
+    if (st)
+        return st;
     run->exact = o->permutations > 0 && count <= o->permutations;
     run->nperm = run->exact ? count : o->permutations;
     run->nboot = m->df_error > 0 ? o->bootstrap : 0;
@@ -288,6 +294,9 @@ static void plan_resampling(const sturdy_table *t, const sturdy_model *m, sturdy
     r->boot_begin = run->boot_begin;
     r->boot_end = run->boot_end;
     r->data_checksum = data_checksum(t, d);
+    assert(run->perm_begin <= run->perm_end && run->perm_end <= run->nperm);
+    assert(run->boot_begin <= run->boot_end && run->boot_end <= run->nboot);
+    return STURDY_OK;
 }
 
 static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_result *r,
@@ -295,8 +304,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
 {
     sturdy_model *m = NULL;
     sturdy_status st = classical_stage(t, run, r, &m, err);
-    if (!st) {
-        plan_resampling(t, m, run, r);
+    if (!st && !(st = plan_resampling(t, m, run, r, err))) {
         const sturdy_design *d = r->design;
         if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
@@ -394,13 +402,14 @@ static sturdy_status holm(sturdy_result *r, char *err)
     size_t cap = 0, k = 0;
     for (size_t ri = 0; ri < r->nresp; ri++)
         cap += r->resp[ri].nterms;
-    sturdy_term_result **fam = malloc((cap ? cap : 1) * sizeof *fam);
+    sturdy_term_result **fam = sturdy_malloc((cap ? cap : 1) * sizeof *fam);
     if (!fam)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if (!isnan(r->resp[ri].terms[t].p_perm))
                 fam[k++] = &r->resp[ri].terms[t];
+    assert(k <= cap);
     /* insertion sort, stable: the family is small */
     for (size_t i = 1; i < k; i++) {
         sturdy_term_result *x = fam[i];
@@ -417,7 +426,7 @@ static sturdy_status holm(sturdy_result *r, char *err)
         run = fmax(run, adj);
         fam[i]->p_perm_holm = run;
     }
-    free(fam);
+    sturdy_free(fam);
     return STURDY_OK;
 }
 

@@ -21,7 +21,7 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     size_t nv = k * (size_t)nb * STURDY_NES;
     p->counts = sturdy_calloc(4 * k + 1, sizeof *p->counts);
-    p->boot = malloc((nv + 1) * sizeof *p->boot);
+    p->boot = sturdy_malloc((nv + 1) * sizeof *p->boot);
     if (!p->counts || !p->boot) {
         sturdy_part_free(p);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -78,12 +78,12 @@ void sturdy_part_free(sturdy_part *p)
 {
     if (!p)
         return;
-    free(p->counts);
-    free(p->boot);
+    sturdy_free(p->counts);
+    sturdy_free(p->boot);
     for (size_t i = 0; i < p->nargs; i++)
-        free(p->args[i]);
-    free(p->args);
-    free(p->cwd);
+        sturdy_free(p->args[i]);
+    sturdy_free(p->args);
+    sturdy_free(p->cwd);
     jv_free(p->doc);
-    free(p);
+    sturdy_free(p);
 }

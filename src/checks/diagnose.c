@@ -1,5 +1,6 @@
 /* diagnose.c — residual diagnostics on plain arrays: Shapiro–Wilk (AS R94), moments,
  * Brown–Forsythe, studentized residuals. */
+#include "core/core.h"
 #include "sturdy/diagnose.h"
 
 #include <float.h>
@@ -137,26 +138,26 @@ sturdy_status sturdy_shapiro_wilk(const double *x, size_t n, double *w, double *
         if (!isfinite(x[i]))
             return sturdy_fail(err, STURDY_EDATA, "Shapiro-Wilk: value %zu is not finite",
                                i + 1);
-    double *y = malloc(n * sizeof *y), *a = malloc((n / 2 + 1) * sizeof *a);
+    double *y = sturdy_malloc(n * sizeof *y), *a = sturdy_malloc((n / 2 + 1) * sizeof *a);
     if (!y || !a) {
-        free(y);
-        free(a);
+        sturdy_free(y);
+        sturdy_free(a);
         return sturdy_fail(err, STURDY_EINTERNAL, "Shapiro-Wilk: out of memory");
     }
     for (size_t i = 0; i < n; i++) y[i] = x[i];
     qsort(y, n, sizeof *y, sturdy_cmp_double);
     if (y[n - 1] == y[0] || !isfinite(y[n - 1] - y[0])) {
         int equal = y[n - 1] == y[0];
-        free(y);
-        free(a);
+        sturdy_free(y);
+        sturdy_free(a);
         return equal ? sturdy_fail(err, STURDY_EMODEL, "Shapiro-Wilk: all values are equal")
                      : sturdy_fail(err, STURDY_EDATA,
                                    "Shapiro-Wilk: the range of the values overflows a double");
     }
     sw_coefficients(n, a);
     double w1 = sw_one_minus_w(y, n, a);
-    free(y);
-    free(a);
+    sturdy_free(y);
+    sturdy_free(a);
     if (w1 < 0.0) w1 = 0.0; /* W ≤ 1 by Cauchy–Schwarz; rounding may overshoot */
     double wv = 1.0 - w1;
     if (w) *w = wv;
@@ -228,7 +229,7 @@ static size_t group_medians(const double *x, const size_t *start, const size_t *
                             size_t ngroups, double *med)
 {
     size_t n = start[ngroups], k = 0;
-    double *v = malloc((n ? n : 1) * sizeof *v);
+    double *v = sturdy_malloc((n ? n : 1) * sizeof *v);
     if (!v)
         return (size_t)-1;
     for (size_t j = 0; j < n; j++) v[j] = x[rows[j]];
@@ -238,7 +239,7 @@ static size_t group_medians(const double *x, const size_t *start, const size_t *
         k++;
         med[g] = median_sorted_in_place(v + start[g], m);
     }
-    free(v);
+    sturdy_free(v);
     return k;
 }
 
@@ -255,11 +256,11 @@ static sturdy_status bf_anova_sums(const double *x, const size_t *group, size_t 
                                    size_t ngroups, const size_t *start, const double *med,
                                    int drop_zero, bf_sums *a, char *err)
 {
-    size_t *cnt = calloc(ngroups, sizeof *cnt);
-    double *zsum = calloc(ngroups, sizeof *zsum);
-    unsigned char *skip = calloc(n ? n : 1, 1), *dropped = calloc(ngroups, 1);
+    size_t *cnt = sturdy_calloc(ngroups, sizeof *cnt);
+    double *zsum = sturdy_calloc(ngroups, sizeof *zsum);
+    unsigned char *skip = sturdy_calloc(n ? n : 1, 1), *dropped = sturdy_calloc(ngroups, 1);
     if (!cnt || !zsum || !skip || !dropped) {
-        free(cnt); free(zsum); free(skip); free(dropped);
+        sturdy_free(cnt); sturdy_free(zsum); sturdy_free(skip); sturdy_free(dropped);
         return sturdy_fail(err, STURDY_EINTERNAL, "Brown-Forsythe: out of memory");
     }
     for (size_t i = 0; i < n; i++) {
@@ -298,7 +299,7 @@ static sturdy_status bf_anova_sums(const double *x, const size_t *group, size_t 
         double d = fabs(x[i] - med[g]) - zsum[g] / (double)cnt[g];
         a->ssw += d * d;
     }
-    free(cnt); free(zsum); free(skip); free(dropped);
+    sturdy_free(cnt); sturdy_free(zsum); sturdy_free(skip); sturdy_free(dropped);
     return STURDY_OK;
 }
 
@@ -337,10 +338,10 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
     if (st)
         return st;
     size_t *start = NULL, *rows = NULL, k = (size_t)-1;
-    double *med = malloc(ngroups * sizeof *med);
+    double *med = sturdy_malloc(ngroups * sizeof *med);
     if (med && !sturdy_bucket_rows(group, n, ngroups, &start, &rows, NULL))
         k = group_medians(x, start, rows, ngroups, med);
-    free(rows);
+    sturdy_free(rows);
     bf_sums a = { 0, 0, 0.0, 0.0, 0.0 };
     if (k == (size_t)-1)
         st = sturdy_fail(err, STURDY_EINTERNAL, "Brown-Forsythe: out of memory");
@@ -350,8 +351,8 @@ static sturdy_status bf_core(const double *x, const size_t *group, size_t n, siz
                          "than groups (%zu groups, %zu rows)", k, n);
     else
         st = bf_anova_sums(x, group, n, ngroups, start, med, drop_zero, &a, err);
-    free(start);
-    free(med);
+    sturdy_free(start);
+    sturdy_free(med);
     return st ? st : bf_finish(&a, drop_zero, f, df1, df2, p, err);
 }
 

@@ -1,5 +1,6 @@
 /* residuals.c — diagnostics of one response's residuals (normality, moments, equal
  * variances across cells, studentized outliers) and the verdict of each term. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -21,6 +22,15 @@ static sturdy_status note(char **slot, char *text, char *err)
 {
     *slot = text;
     return text ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+}
+
+/* A test's failure as its note, except running out of memory, which fails the run (a
+ * report must not differ because memory was short). */
+static sturdy_status test_note(sturdy_status st, char **slot, const char *msg, char *err)
+{
+    if (st == STURDY_EINTERNAL)
+        return sturdy_fail(err, st, "%s", msg);
+    return note(slot, sturdy_strdup(msg), err);
 }
 
 /* Every diagnostic's note when the residuals carry no information (no residual degrees
@@ -46,9 +56,10 @@ static sturdy_status normality(sturdy_diagnostics *dg, const double *e, size_t n
         return note(&dg->sw_note, sturdy_asprintf(
                         "Shapiro-Wilk is defined for 3 to %d rows and %zu are used; judge "
                         "normality from the skewness and excess kurtosis", SW_MAX_N, n), err);
-    if (sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg) != STURDY_OK) {
+    sturdy_status st = sturdy_shapiro_wilk(e, n, &dg->sw_w, &dg->sw_p, msg);
+    if (st != STURDY_OK) {
         dg->sw_w = dg->sw_p = NAN;
-        return note(&dg->sw_note, sturdy_strdup(msg), err);
+        return test_note(st, &dg->sw_note, msg, err);
     }
     return STURDY_OK;
 }
@@ -59,17 +70,17 @@ static sturdy_status spread_tests(const sturdy_design *d, sturdy_diagnostics *dg
 {
     char msg[STURDY_ERR_LEN];
     sturdy_status st;
-    if (sturdy_brown_forsythe(e, d->cell, d->n, d->ncells, &dg->bf_f, &dg->bf_df1,
-                              &dg->bf_df2, &dg->bf_p, msg) != STURDY_OK) {
+    if ((st = sturdy_brown_forsythe(e, d->cell, d->n, d->ncells, &dg->bf_f, &dg->bf_df1,
+                                    &dg->bf_df2, &dg->bf_p, msg)) != STURDY_OK) {
         dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
-        if ((st = note(&dg->bf_note, sturdy_strdup(msg), err)))
+        if ((st = test_note(st, &dg->bf_note, msg, err)))
             return st;
     }
-    if (sturdy_brown_forsythe_modified(e, d->cell, d->n, d->ncells, &dg->bfm_f,
-                                       &dg->bfm_df1, &dg->bfm_df2, &dg->bfm_p,
-                                       msg) != STURDY_OK) {
+    if ((st = sturdy_brown_forsythe_modified(e, d->cell, d->n, d->ncells, &dg->bfm_f,
+                                             &dg->bfm_df1, &dg->bfm_df2, &dg->bfm_p,
+                                             msg)) != STURDY_OK) {
         dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
-        if ((st = note(&dg->bfm_note, sturdy_strdup(msg), err)))
+        if ((st = test_note(st, &dg->bfm_note, msg, err)))
             return st;
     }
     return STURDY_OK;
@@ -121,7 +132,7 @@ static sturdy_status flag_outliers(const sturdy_design *d, const sturdy_model *m
                                    sturdy_diagnostics *dg, const double *e, char *err)
 {
     size_t n = d->n, k = 0;
-    double *internal = malloc(n * sizeof *internal);
+    double *internal = sturdy_malloc(n * sizeof *internal);
     if (!internal)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < n; i++)
@@ -130,9 +141,9 @@ static sturdy_status flag_outliers(const sturdy_design *d, const sturdy_model *m
     for (size_t i = 0; i < n; i++)
         if (fabs(dg->studentized[i]) > OUTLIER_LIMIT)
             k++;
-    dg->outliers = calloc(k ? k : 1, sizeof *dg->outliers);
+    dg->outliers = sturdy_calloc(k ? k : 1, sizeof *dg->outliers);
     if (!dg->outliers) {
-        free(internal);
+        sturdy_free(internal);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t i = 0; i < n; i++)
@@ -145,7 +156,7 @@ static sturdy_status flag_outliers(const sturdy_design *d, const sturdy_model *m
             o->internal = internal[i];
             o->leverage = dg->leverage[i];
         }
-    free(internal);
+    sturdy_free(internal);
     return STURDY_OK;
 }
 
@@ -159,8 +170,8 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     dg->sw_w = dg->sw_p = dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
     dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
     dg->variance_ratio = NAN;
-    dg->studentized = malloc(n * sizeof *dg->studentized);
-    dg->leverage = malloc(n * sizeof *dg->leverage);
+    dg->studentized = sturdy_malloc(n * sizeof *dg->studentized);
+    dg->leverage = sturdy_malloc(n * sizeof *dg->leverage);
     if (!dg->studentized || !dg->leverage)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     sturdy_moments(e, n, &dg->skewness, &dg->excess_kurtosis);
@@ -218,14 +229,14 @@ sturdy_status sturdy_verdict_term(const sturdy_response_result *resp, sturdy_ter
             "%s%sthe Monte Carlo interval of the permutation p [%.3g, %.3g] contains alpha; "
             "run more rearrangements (-B)", reason ? reason : "", reason ? "; " : "",
             t->p_perm_ci.lo, t->p_perm_ci.hi);
-        free(reason);
+        sturdy_free(reason);
         reason = more;
         if (!reason)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     if ((classical != resampling) && !reason)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    free(t->verdict_reason);
+    sturdy_free(t->verdict_reason);
     t->verdict_reason = reason;
     return STURDY_OK;
 }

@@ -1,5 +1,6 @@
 /* anova.c — the classical table of one response: SS by type, F, p, effect sizes and the
  * noncentral-F interval for partial η², plus fitted values, residuals and cell summaries. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -27,17 +28,19 @@ static sturdy_status cell_summaries(const sturdy_design *d, const double *y, dou
                                     sturdy_response_result *out, char *err)
 {
     size_t C = d->ncells;
-    out->cell_mean = calloc(C, sizeof *out->cell_mean);
-    out->cell_sd = calloc(C, sizeof *out->cell_sd);
-    double *ss = calloc(C, sizeof *ss);
+    out->cell_mean = sturdy_calloc(C, sizeof *out->cell_mean);
+    out->cell_sd = sturdy_calloc(C, sizeof *out->cell_sd);
+    double *ss = sturdy_calloc(C, sizeof *ss);
     if (!out->cell_mean || !out->cell_sd || !ss) {
-        free(ss);
+        sturdy_free(ss);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t i = 0; i < d->n; i++)
         out->cell_mean[d->cell[i]] += y[i];
-    for (size_t c = 0; c < C; c++)
+    for (size_t c = 0; c < C; c++) {
+        assert(d->cell_count[c] > 0);   /* cells are the combinations that occur */
         out->cell_mean[c] /= (double)d->cell_count[c];
+    }
     for (size_t i = 0; i < d->n; i++) {
         double dv = y[i] - out->cell_mean[d->cell[i]];
         ss[d->cell[i]] += dv * dv;
@@ -47,13 +50,13 @@ static sturdy_status cell_summaries(const sturdy_design *d, const double *y, dou
                                                : NAN;
         out->cell_mean[c] += ref;
     }
-    free(ss);
+    sturdy_free(ss);
     return STURDY_OK;
 }
 
 static sturdy_status set_note(char **slot, const char *text, char *err)
 {
-    free(*slot);
+    sturdy_free(*slot);
     *slot = sturdy_strdup(text);
     return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
@@ -63,22 +66,23 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
                                     char *err)
 {
     size_t n = d->n, K = m->K;
+    assert(r < d->nresp && K == d->ngroups && m->nterms == d->nterms && threads >= 1);
     const double *y = d->y + r * n;
     sturdy_status st;
     out->name = sturdy_strdup(d->resp_names[r]);
     out->nterms = d->nterms;
-    out->terms = calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
-    out->fitted = malloc(n * sizeof *out->fitted);
-    out->residual = malloc(n * sizeof *out->residual);
-    double *s = malloc(K * sizeof *s), *work = malloc((m->rank + K) * sizeof *work);
+    out->terms = sturdy_calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
+    out->fitted = sturdy_malloc(n * sizeof *out->fitted);
+    out->residual = sturdy_malloc(n * sizeof *out->residual);
+    double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((m->rank + K) * sizeof *work);
     if (!out->name || !out->terms || !out->fitted || !out->residual || !s || !work) {
-        free(s); free(work);
+        sturdy_free(s); sturdy_free(work);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     double mean;
     double sst = sturdy_centred_ss(y, n, &mean);
     if (!(sst > 0)) {
-        free(s); free(work);
+        sturdy_free(s); sturdy_free(work);
         return sturdy_fail(err, STURDY_EMODEL,
                            "%s: response '%s' is constant in the rows used (every value is "
                            "the same), so there is no variation to analyse",
@@ -109,7 +113,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
     else
         st = STURDY_OK;
     if (st) {
-        free(s); free(work);
+        sturdy_free(s); sturdy_free(work);
         return st;
     }
     int f_ok = dfe > 0 && sse > 0;
@@ -121,9 +125,9 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         tr->label = sturdy_strdup(term->label);
         tr->kind = term->kind;
         tr->nfactors = term->kind == STURDY_TERM_FACTORS ? term->order : 1;
-        tr->factors = calloc(tr->nfactors, sizeof *tr->factors);
+        tr->factors = sturdy_calloc(tr->nfactors, sizeof *tr->factors);
         if (!tr->label || !tr->factors) {
-            free(s); free(work);
+            sturdy_free(s); sturdy_free(work);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
         if (term->kind == STURDY_TERM_FACTORS) {
@@ -134,6 +138,11 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         } else {
             tr->factors[0] = sturdy_strdup(term->label);
         }
+        for (size_t f = 0; f < tr->nfactors; f++)
+            if (!tr->factors[f]) {
+                sturdy_free(s); sturdy_free(work);
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            }
         tr->df = (double)tb->df;
         tr->ss = tb->df ? sturdy_proj_norm2(tb->Uterm, K, tb->df, s) : 0.0;
         tr->ms = tb->df ? tr->ss / tr->df : NAN;
@@ -148,7 +157,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         if (!tb->testable) {
             tr->ss = tr->ms = NAN;
             if ((st = set_note(&tr->note, tb->why_not, err))) {
-                free(s); free(work);
+                sturdy_free(s); sturdy_free(work);
                 return st;
             }
             continue;
@@ -156,7 +165,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
         sturdy_effect_sizes(tr->ss, tr->df, sse, dfe, sst, (double)n, tr->es);
         if (!f_ok) {
             if ((st = set_note(&tr->note, out->error_note, err))) {
-                free(s); free(work);
+                sturdy_free(s); sturdy_free(work);
                 return st;
             }
             continue;
@@ -181,8 +190,8 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
             tr->ncf.hi = lam_hi / (lam_hi + (double)n);
         }
     }
-    free(s);
-    free(work);
+    sturdy_free(s);
+    sturdy_free(work);
     for (size_t i = 0; i < n; i++)
         out->fitted[i] += d->y_ref[r];
     return cell_summaries(d, y, d->y_ref[r], out, err);

@@ -27,6 +27,7 @@
  * So each replicate costs one pass over the rows plus small products, and counts are
  * integers: any split over threads, shards or ranks gives the same counts. This file
  * holds the statistic and its classical references; unequal_resample.c the resampling. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -121,9 +122,9 @@ double uv_wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
 
 void uv_ctx_free(uv_ctx *c)
 {
-    free(c->ng);
-    free(c->hw);
-    free(c->scale);
+    sturdy_free(c->ng);
+    sturdy_free(c->hw);
+    sturdy_free(c->scale);
 }
 
 /* Group weights; a reason (static text) when the test cannot be done at all. */
@@ -131,15 +132,16 @@ sturdy_status uv_ctx_init(uv_ctx *c, const sturdy_design *d, const sturdy_model 
                                  int hc3, const char **why, char *err)
 {
     size_t K = m->K;
+    assert(K == d->ngroups && why);
     memset(c, 0, sizeof *c);
     c->d = d;
     c->m = m;
     c->K = K;
     c->saturated = m->rank == K;
     *why = NULL;
-    c->ng = malloc(K * sizeof *c->ng);
-    c->hw = malloc(K * sizeof *c->hw);
-    c->scale = malloc(K * sizeof *c->scale);
+    c->ng = sturdy_malloc(K * sizeof *c->ng);
+    c->hw = sturdy_malloc(K * sizeof *c->hw);
+    c->scale = sturdy_malloc(K * sizeof *c->scale);
     if (!c->ng || !c->hw || !c->scale) {
         uv_ctx_free(c);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -216,10 +218,10 @@ static void johansen_ref(const uv_ctx *c, const double *Ut, size_t df, double W,
 }
 
 /* The ANOVA-type statistic (Brunner, Dette & Munk 1997) with its two degrees of
- * freedom; left NaN when G is singular or memory runs out. a: the observed a_g =
- * A_g/√n_g; om: Ω; x: df scratch; G: df × df scratch. */
-static void ats_ref(const uv_ctx *c, const double *Ut, size_t df, const double *a,
-                    const double *om, double *x, double *G, sturdy_uv_result *u)
+ * freedom; left NaN when G is singular. a: the observed a_g = A_g/√n_g; om: Ω; x: df
+ * scratch; G: df × df scratch. 0 when memory ran out. */
+static int ats_ref(const uv_ctx *c, const double *Ut, size_t df, const double *a,
+                   const double *om, double *x, double *G, sturdy_uv_result *u)
 {
     size_t K = c->K;
     /* ATS: G = U_tᵀ D U_t = L_G L_Gᵀ, P = U_t G⁻¹ U_tᵀ = Y Yᵀ with row g of Y the solve
@@ -232,10 +234,10 @@ static void ats_ref(const uv_ctx *c, const double *Ut, size_t df, const double *
                 t += Ut[i * K + g] * c->ng[g] * Ut[j * K + g];
             G[j * df + i] = t;
         }
-    double *Y = malloc(df * K * sizeof *Y);
+    double *Y = sturdy_malloc(df * K * sizeof *Y);
     if (!Y || !cholesky(G, df)) {
-        free(Y);
-        return;
+        sturdy_free(Y);
+        return Y != NULL;
     }
     for (size_t g = 0; g < K; g++) {
         for (size_t j = 0; j < df; j++)
@@ -274,25 +276,31 @@ static void ats_ref(const uv_ctx *c, const double *Ut, size_t df, const double *
         u->ats_df2 = tr * tr / den2;
         u->ats_p = sturdy_f_sf(u->ats, u->ats_df1, u->ats_df2);
     }
-    free(Y);
+    sturdy_free(Y);
+    return 1;
 }
 
 /* Johansen's approximate F and the ANOVA-type statistic from the observed Ω (cell
- * variances), a and V's Cholesky factor left in `work` by uv_wald(). */
-static void factor_only_refs(const uv_ctx *c, const double *Ut, size_t df, double W,
-                             double *work, sturdy_uv_result *u)
+ * variances), a and V's Cholesky factor left in `work` by uv_wald(). Out of memory fails
+ * the run: a report must not differ because memory was short. */
+static sturdy_status factor_only_refs(const uv_ctx *c, const double *Ut, size_t df,
+                                      double W, double *work, sturdy_uv_result *u, char *err)
 {
     size_t K = c->K;
+    /* factor-only models: the groups are the cells, each with at least 2 rows (else the
+       test was ruled out in uv_ctx_init) */
+    assert(K == c->d->ncells && df >= 1);
     const double *a = work, *om = work + K, *L = work + 3 * K + c->m->rank;
-    double *x = malloc((df ? df : 1) * sizeof *x);
-    double *G = malloc((df ? df * df : 1) * sizeof *G);
-    if (x && G) {
+    double *x = sturdy_malloc((df ? df : 1) * sizeof *x);
+    double *G = sturdy_malloc((df ? df * df : 1) * sizeof *G);
+    int ok = x && G;
+    if (ok) {
         johansen_ref(c, Ut, df, W, om, L, x, u);
-        ats_ref(c, Ut, df, a, om, x, G, u);
+        ok = ats_ref(c, Ut, df, a, om, x, G, u);
     }
-    /* else leaves NaN: an out-of-memory here is not worth failing the run */
-    free(x);
-    free(G);
+    sturdy_free(x);
+    sturdy_free(G);
+    return ok ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
 
 static void uv_init_result(sturdy_uv_result *u)
@@ -322,9 +330,9 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
     for (size_t t = 0; t < out->nterms; t++)
         if (m->terms[t].df > maxdf)
             maxdf = m->terms[t].df;
-    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
-    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
-    double *work = malloc(uv_wald_work(&c, maxdf) * sizeof *work), *ft = malloc(n * sizeof *ft);
+    double *v = sturdy_malloc(n * sizeof *v), *A = sturdy_malloc(K * sizeof *A), *Q = sturdy_malloc(K * sizeof *Q);
+    double *s = sturdy_malloc(K * sizeof *s), *pw = sturdy_malloc((m->rank + K) * sizeof *pw);
+    double *work = sturdy_malloc(uv_wald_work(&c, maxdf) * sizeof *work), *ft = sturdy_malloc(n * sizeof *ft);
     if (!v || !A || !Q || !s || !pw || !work || !ft) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
@@ -349,7 +357,7 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         u->wald = W;
         u->df1 = (double)tb->df;
         if (!hc3) {
-            factor_only_refs(&c, tb->Uterm, tb->df, W, work, u);
+            st = factor_only_refs(&c, tb->Uterm, tb->df, W, work, u, err);
         } else {
             u->johansen = 0;
             u->stat = W / (double)tb->df;
@@ -358,7 +366,7 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         }
     }
 done:
-    free(v); free(A); free(Q); free(s); free(pw); free(work); free(ft);
+    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(work); sturdy_free(ft);
     uv_ctx_free(&c);
     return st;
 }

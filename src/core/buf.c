@@ -1,9 +1,11 @@
 /* buf.c — a growing text buffer with printf-style appends (the writers and messages). */
+#include <assert.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "core/core.h"
 #include "sturdy/buf.h"
 
 /* First allocation; doubling from here keeps appends amortised O(1). */
@@ -19,7 +21,7 @@ void sturdy_buf_init(sturdy_buf *b)
 void sturdy_buf_free(sturdy_buf *b)
 {
     if (!b) return;
-    free(b->data);
+    sturdy_free(b->data);
     sturdy_buf_init(b);
 }
 
@@ -32,10 +34,11 @@ static int buf_reserve(sturdy_buf *b, size_t extra)
     if (need <= b->cap) return 1;
     size_t cap = b->cap ? b->cap : BUF_MIN_CAP;
     while (cap < need) cap *= 2;
-    char *p = realloc(b->data, cap);
+    char *p = sturdy_realloc(b->data, cap);
     if (!p) { b->failed = 1; return 0; }
     b->data = p;
     b->cap = cap;
+    assert(b->cap >= need);
     return 1;
 }
 

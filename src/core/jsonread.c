@@ -1,4 +1,5 @@
 /* jsonread.c — recursive-descent JSON parser (RFC 8259) into a small tree. */
+#include "core/core.h"
 #include "core/jsonread.h"
 
 #include <math.h>
@@ -14,6 +15,7 @@ typedef struct {
     char *err;
     size_t errlen;
     int failed;
+    int oom;             /* the failure was running out of memory */
 } parser;
 
 static int line_of(const parser *ps)
@@ -28,6 +30,8 @@ static void fail(parser *ps, const char *what)
 {
     if (!ps->failed && ps->err)
         snprintf(ps->err, ps->errlen, "line %d: %s", line_of(ps), what);
+    if (!ps->failed)
+        ps->oom = !strcmp(what, "out of memory");
     ps->failed = 1;
 }
 
@@ -93,7 +97,7 @@ static char *parse_string(parser *ps)
         fail(ps, "unterminated string");
         return NULL;
     }
-    char *out = malloc((size_t)(q - ps->p) + 1);
+    char *out = sturdy_malloc((size_t)(q - ps->p) + 1);
     size_t len = 0;
     if (!out) {
         fail(ps, "out of memory");
@@ -103,7 +107,7 @@ static char *parse_string(parser *ps)
         char c = *ps->p++;
         if ((unsigned char)c < 0x20) {
             fail(ps, "control character in string");
-            free(out);
+            sturdy_free(out);
             return NULL;
         }
         if (c != '\\') {
@@ -124,7 +128,7 @@ static char *parse_string(parser *ps)
         case 'u':
             if (!hex4(ps, &cp)) {
                 fail(ps, "bad \\u escape");
-                free(out);
+                sturdy_free(out);
                 return NULL;
             }
             if (cp >= 0xD800 && cp < 0xDC00 && ps->p + 6 <= q && ps->p[0] == '\\' &&
@@ -133,7 +137,7 @@ static char *parse_string(parser *ps)
                 ps->p += 2;
                 if (!hex4(ps, &lo) || lo < 0xDC00 || lo > 0xDFFF) {
                     fail(ps, "bad surrogate pair");
-                    free(out);
+                    sturdy_free(out);
                     return NULL;
                 }
                 cp = 0x10000 + ((cp - 0xD800) << 10) + (lo - 0xDC00);
@@ -142,7 +146,7 @@ static char *parse_string(parser *ps)
             break;
         default:
             fail(ps, "bad escape in string");
-            free(out);
+            sturdy_free(out);
             return NULL;
         }
     }
@@ -167,8 +171,8 @@ static int parse_container(parser *ps, jv *v, int depth, int object)
     for (;;) {
         if (v->n == cap) {
             cap = cap ? 2 * cap : 8;
-            jv *items = realloc(v->items, cap * sizeof *items);
-            char **keys = object ? realloc(v->keys, cap * sizeof *keys) : NULL;
+            jv *items = sturdy_realloc(v->items, cap * sizeof *items);
+            char **keys = object ? sturdy_realloc(v->keys, cap * sizeof *keys) : NULL;
             if (!items || (object && !keys)) {
                 if (items) v->items = items;
                 if (keys) v->keys = keys;
@@ -248,7 +252,7 @@ static int parse_value(parser *ps, jv *v, int depth)
         return 0;
     }
     v->kind = JV_NUMBER;
-    v->text = malloc((size_t)(q - ps->p) + 1);
+    v->text = sturdy_malloc((size_t)(q - ps->p) + 1);
     if (!v->text) {
         fail(ps, "out of memory");
         return 0;
@@ -267,14 +271,14 @@ static int parse_value(parser *ps, jv *v, int depth)
 
 static void jv_clear(jv *v)
 {
-    free(v->text);
+    sturdy_free(v->text);
     for (size_t i = 0; i < v->n; i++) {
         jv_clear(&v->items[i]);
         if (v->keys)
-            free(v->keys[i]);
+            sturdy_free(v->keys[i]);
     }
-    free(v->items);
-    free(v->keys);
+    sturdy_free(v->items);
+    sturdy_free(v->keys);
 }
 
 void jv_free(jv *v)
@@ -282,15 +286,16 @@ void jv_free(jv *v)
     if (!v)
         return;
     jv_clear(v);
-    free(v);
+    sturdy_free(v);
 }
 
-jv *jv_parse(const char *buf, size_t len, char *err, size_t errlen)
+jv *jv_parse(const char *buf, size_t len, char *err, size_t errlen, int *oom)
 {
-    parser ps = {buf, buf + len, buf, err, errlen, 0};
-    jv *v = calloc(1, sizeof *v);
+    parser ps = {buf, buf + len, buf, err, errlen, 0, 0};
+    jv *v = sturdy_calloc(1, sizeof *v);
     if (!v) {
         fail(&ps, "out of memory");
+        if (oom) *oom = 1;
         return NULL;
     }
     if (parse_value(&ps, v, 0)) {
@@ -298,6 +303,7 @@ jv *jv_parse(const char *buf, size_t len, char *err, size_t errlen)
         if (ps.p != ps.end)
             fail(&ps, "text after the end of the document");
     }
+    if (oom) *oom = ps.failed && ps.oom;
     if (ps.failed) {
         jv_free(v);
         return NULL;

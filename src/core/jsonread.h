@@ -18,8 +18,9 @@ typedef struct jv {
 } jv;
 
 /* Parse `len` bytes. Returns NULL and writes "line L: what" into err (size errlen) on
- * malformed input. The tree is freed with jv_free. */
-jv *jv_parse(const char *buf, size_t len, char *err, size_t errlen);
+ * malformed input or when memory ran out; *oom (may be NULL) says which (1: memory).
+ * The tree is freed with jv_free. */
+jv *jv_parse(const char *buf, size_t len, char *err, size_t errlen, int *oom);
 void jv_free(jv *v);
 
 /* Member `key` of an object, or NULL. */

@@ -11,7 +11,7 @@ static char *trimmed_copy(const char *s)
 {
     size_t a, b;
     sturdy_table_trim_range(s, &a, &b);
-    char *d = malloc(b - a + 1);
+    char *d = sturdy_malloc(b - a + 1);
     if (d) {
         memcpy(d, s + a, b - a);
         d[b - a] = '\0';

@@ -1,6 +1,7 @@
 /* levels.c — the levels of a factor: natural order (numbers numerically, digits inside
  * text as whole numbers), the user's order, merging levels equal as numbers, and
  * warnings about levels that are probably one level written two ways. */
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -106,7 +107,7 @@ static char *fold(const char *s)
     while (*s == ' ' || *s == '\t') s++;
     size_t n = strlen(s);
     while (n && (s[n - 1] == ' ' || s[n - 1] == '\t')) n--;
-    char *f = malloc(n + 1);
+    char *f = sturdy_malloc(n + 1);
     if (!f) return NULL;
     for (size_t i = 0; i < n; i++)
         f[i] = s[i] >= 'A' && s[i] <= 'Z' ? (char)(s[i] - 'A' + 'a') : s[i];
@@ -127,9 +128,9 @@ static int trimmed_equal(const char *a, const char *b)
 
 static sturdy_status add_warning(sturdy_design *d, char *text, char *err)
 {
-    char **w = text ? realloc(d->warnings, (d->nwarnings + 1) * sizeof *w) : NULL;
+    char **w = text ? sturdy_realloc(d->warnings, (d->nwarnings + 1) * sizeof *w) : NULL;
     if (!w) {
-        free(text);
+        sturdy_free(text);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     d->warnings = w;
@@ -162,18 +163,19 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
                                      level_ref *nat, size_t nl, int merged, char *err)
 {
     sturdy_status st = STURDY_OK;
-    const char **pairs = malloc(2 * nl * sizeof *pairs);
-    level_ref **by = malloc(nl * sizeof *by);
+    const char **pairs = sturdy_malloc(2 * nl * sizeof *pairs);
+    level_ref **by = sturdy_malloc(nl * sizeof *by);
     size_t np = 0;
     double x, y;
     if (!pairs || !by) {
-        free(pairs); free(by);
+        sturdy_free(pairs); sturdy_free(by);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     /* equal numbers sort next to each other in natural order */
     for (size_t j = 1; j < nl; j++)
         if (sturdy_parse_number(nat[j - 1].text, &x) && sturdy_parse_number(nat[j].text, &y) &&
             x == y) {
+            assert(np < nl);            /* pairs holds nl pairs */
             pairs[2 * np] = nat[j - 1].text;
             pairs[2 * np + 1] = nat[j].text;
             np++;
@@ -198,6 +200,7 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
                 continue;                       /* reported (or merged) as numbers */
             /* kind 0: only the blanks around them differ; 1: letter case (perhaps too) */
             if (trimmed_equal(a->text, b->text) != (kind == 0)) continue;
+            assert(np < nl);
             pairs[2 * np] = a->text;
             pairs[2 * np + 1] = b->text;
             np++;
@@ -209,8 +212,8 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
                                     "levels",
                         "correct the data if they are one level", pairs, np, err);
     }
-    free(pairs);
-    free(by);
+    sturdy_free(pairs);
+    sturdy_free(by);
     return st;
 }
 
@@ -237,7 +240,7 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
                                 char *err)
 {
     sturdy_status st = STURDY_OK;
-    const char **unknown = malloc((lo->nlevels + ngroups + 1) * sizeof *unknown);
+    const char **unknown = sturdy_malloc((lo->nlevels + ngroups + 1) * sizeof *unknown);
     const char **left = unknown + lo->nlevels;
     size_t nunknown = 0, nleft = 0;
     sturdy_buf b;
@@ -249,7 +252,7 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
             if (names_level(lo->levels[k], nat[j].text, merge)) g = nat[j].group;
         if (g == (size_t)-1) { unknown[nunknown++] = lo->levels[k]; continue; }
         if (pos[g] != (size_t)-1) {
-            free(unknown);
+            sturdy_free(unknown);
             return sturdy_fail(err, STURDY_EUSAGE, "the order of levels given for %s '%s' "
                                "lists '%s' twice", role, lo->factor, lo->levels[k]);
         }
@@ -276,7 +279,9 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
                          b.failed ? "out of memory" : b.data);
         sturdy_buf_free(&b);
     }
-    free(unknown);
+    /* without an error every group has its own place among the first ngroups */
+    for (size_t g = 0; g < ngroups && !st; g++) assert(pos[g] < ngroups);
+    sturdy_free(unknown);
     return st;
 }
 
@@ -288,7 +293,7 @@ static sturdy_status distinct_values(const sturdy_table *t, long col, const stur
                                      const char ***vals, size_t *nl, char *err)
 {
     size_t n = d->n, k = 0;
-    const char **v = malloc((n ? n : 1) * sizeof *v);
+    const char **v = sturdy_malloc((n ? n : 1) * sizeof *v);
     *vals = v;
     *nl = 0;
     if (!v)
@@ -305,8 +310,8 @@ static sturdy_status distinct_values(const sturdy_table *t, long col, const stur
 
 static void free_levels(level_ref *nat, size_t nl)
 {
-    for (size_t j = 0; nat && j < nl; j++) free(nat[j].folded);
-    free(nat);
+    for (size_t j = 0; nat && j < nl; j++) sturdy_free(nat[j].folded);
+    sturdy_free(nat);
 }
 
 /* The distinct values vals[0..nl) in natural order as *nat (free with free_levels), each
@@ -315,7 +320,7 @@ static void free_levels(level_ref *nat, size_t nl)
 static sturdy_status natural_levels(const char *const *vals, size_t nl, int merge,
                                     level_ref **out, size_t *ng, char *err)
 {
-    level_ref *nat = calloc(nl ? nl : 1, sizeof *nat);
+    level_ref *nat = sturdy_calloc(nl ? nl : 1, sizeof *nat);
     *out = NULL;
     if (!nat)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -345,7 +350,7 @@ static sturdy_status name_levels(sturdy_factor *f, const level_ref *nat, size_t 
                                  const size_t *pos, size_t ng, size_t *rank, char *err)
 {
     f->nlevels = ng;
-    if (!(f->levels = calloc(ng, sizeof *f->levels)))
+    if (!(f->levels = sturdy_calloc(ng, sizeof *f->levels)))
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t j = 0; j < nl; j++) {
         size_t p = pos[nat[j].group];
@@ -404,8 +409,8 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
                          "needs at least two", t->source, role, name, nl ? nat[0].text : "");
     if (!st)
         st = near_duplicates(d, role, name, nat, nl, s->merge_numeric_levels, err);
-    if (!st && (!(pos = malloc(ng * sizeof *pos)) ||
-                !(rank = malloc((nl ? nl : 1) * sizeof *rank))))
+    if (!st && (!(pos = sturdy_malloc(ng * sizeof *pos)) ||
+                !(rank = sturdy_malloc((nl ? nl : 1) * sizeof *rank))))
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (!st && lo)
         st = user_order(lo, nat, nl, ng, s->merge_numeric_levels, role, pos, err);
@@ -416,6 +421,6 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
     if (!st)
         level_of_rows(t, col, d, vals, nl, rank, lev, stride);
     free_levels(nat, nl);
-    free(vals); free(rank); free(pos);
+    sturdy_free(vals); sturdy_free(rank); sturdy_free(pos);
     return st;
 }

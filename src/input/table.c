@@ -7,8 +7,10 @@
  * Blank lines (nothing but spaces and tabs) outside quoted fields are skipped wherever
  * they are, since spreadsheets emit them; a line holding only delimiters is a row of
  * empty fields. The numeric conversion lives in table_numeric.c. */
+#include "core/core.h"
 #include "input/table_internal.h"
 
+#include <assert.h>
 #include <csv.h>
 #include <errno.h>
 #include <stdarg.h>
@@ -96,7 +98,7 @@ const char *sturdy_table_delimiter_hint(const sturdy_table *t)
 static void drop_record(loader *L)
 {
     size_t stored = L->have_header && L->nrec > L->t->ncols ? L->t->ncols : L->nrec;
-    for (size_t j = 0; j < stored; j++) free(L->rec[j]);
+    for (size_t j = 0; j < stored; j++) sturdy_free(L->rec[j]);
     L->nrec = 0;
 }
 
@@ -110,14 +112,14 @@ static void on_field(void *s, size_t len, void *data)
         return;
     }
     if (!L->have_header || L->nrec < L->t->ncols) {
-        char *f = malloc(len + 1);
+        char *f = sturdy_malloc(len + 1);
         if (L->nrec == L->caprec) {
             size_t cap = L->caprec ? 2 * L->caprec : 16;
-            char **r = realloc(L->rec, cap * sizeof *r);
+            char **r = sturdy_realloc(L->rec, cap * sizeof *r);
             if (r) { L->rec = r; L->caprec = cap; }
         }
         if (!f || L->nrec == L->caprec) {
-            free(f);
+            sturdy_free(f);
             fail(L, STURDY_EINTERNAL, "out of memory");
             return;
         }
@@ -134,7 +136,7 @@ static void take_header(loader *L)
     sturdy_table *t = L->t;
     size_t n = L->nrec;
     L->header_line = L->rec_line;
-    t->cols = calloc(n, sizeof *t->cols);
+    t->cols = sturdy_calloc(n, sizeof *t->cols);
     if (!t->cols) { fail(L, STURDY_EINTERNAL, "out of memory"); return; }
     t->ncols = n;
     for (size_t j = 0; j < n; j++) {
@@ -167,15 +169,16 @@ static void take_header(loader *L)
 static int grow_rows(loader *L)
 {
     sturdy_table *t = L->t;
+    assert(t->nrows == L->caprows);   /* called only when the column arrays are full */
     size_t cap = L->caprows ? 2 * L->caprows : 64;
-    size_t *line = realloc(t->line, cap * sizeof *line);
+    size_t *line = sturdy_realloc(t->line, cap * sizeof *line);
     if (!line) return 0;
     t->line = line;
     for (size_t j = 0; j < t->ncols; j++) {
-        char **text = realloc(t->cols[j].text, cap * sizeof *text);
+        char **text = sturdy_realloc(t->cols[j].text, cap * sizeof *text);
         if (!text) return 0;
         t->cols[j].text = text;
-        unsigned char *m = realloc(t->cols[j].missing, cap);
+        unsigned char *m = sturdy_realloc(t->cols[j].missing, cap);
         if (!m) return 0;
         t->cols[j].missing = m;
     }
@@ -241,6 +244,10 @@ static void parse_all(loader *L, const char *buf, size_t len, unsigned char deli
         fail(L, STURDY_EINTERNAL, "out of memory");
         return;
     }
+    /* libcsv's field buffer goes through the library's allocator too (a failed growth
+       is retried by libcsv with a smaller block before it reports CSV_ENOMEM) */
+    csv_set_realloc_func(&p, sturdy_realloc);
+    csv_set_free_func(&p, sturdy_free);
     csv_set_delim(&p, delim);
     if (len >= 3 && !memcmp(buf, "\xEF\xBB\xBF", 3)) pos = 3;   /* UTF-8 byte-order mark */
     L->cur_line = 1;
@@ -295,10 +302,10 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     memset(&L, 0, sizeof L);
     L.o = o;
     L.err = err;
-    L.t = calloc(1, sizeof *L.t);
+    L.t = sturdy_calloc(1, sizeof *L.t);
     if (L.t) L.t->delimiter = o->delimiter;
-    if (!L.t || !(L.t->source = strdup(name ? name : "<buffer>"))) {
-        free(L.t);
+    if (!L.t || !(L.t->source = sturdy_strdup(name ? name : "<buffer>"))) {
+        sturdy_free(L.t);
         return sturdy_fail(err, STURDY_EINTERNAL, "%s: out of memory",
                            name ? name : "<buffer>");
     }
@@ -308,7 +315,7 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     else
         parse_all(&L, buf, len, (unsigned char)o->delimiter);
     drop_record(&L);
-    free(L.rec);
+    sturdy_free(L.rec);
     if (!L.st && !L.have_header) fail(&L, STURDY_EDATA, "the file is empty");
     if (!L.st && L.t->nrows == 0) fail(&L, STURDY_EDATA, "only a header, no data rows");
     if (L.st) {
@@ -319,21 +326,22 @@ sturdy_status sturdy_table_load_buffer(const char *name, const char *buf, size_t
     return STURDY_OK;
 }
 
-/* Read all of f into a malloc'd buffer. Returns 0 and sets errno on a read error. */
+/* Read all of f into a fresh buffer (sturdy_malloc). Returns 1, 0 on a read error (errno
+ * set), or -1 when memory runs out. */
 static int read_all(FILE *f, char **buf, size_t *len)
 {
     size_t cap = 1 << 16, n = 0;
-    char *b = malloc(cap);
-    if (!b) return 0;
+    char *b = sturdy_malloc(cap);
+    if (!b) return -1;
     for (;;) {
         size_t got = fread(b + n, 1, cap - n, f);
         n += got;
         if (n < cap) {
-            if (ferror(f)) { free(b); return 0; }
+            if (ferror(f)) { sturdy_free(b); return 0; }
             break;
         }
-        char *nb = cap > ((size_t)-1) / 2 ? NULL : realloc(b, cap * 2);
-        if (!nb) { free(b); errno = ENOMEM; return 0; }
+        char *nb = cap > ((size_t)-1) / 2 ? NULL : sturdy_realloc(b, cap * 2);
+        if (!nb) { sturdy_free(b); return -1; }
         b = nb;
         cap *= 2;
     }
@@ -356,12 +364,15 @@ sturdy_status sturdy_table_load(const char *path, const sturdy_table_opts *o,
         return sturdy_fail(err, STURDY_EDATA, "%s: cannot open: %s", name, strerror(errno));
     errno = 0;
     ok = read_all(f, &buf, &len);
-    if (!ok) sturdy_fail(err, STURDY_EDATA, "%s: cannot read: %s", name,
-                         strerror(errno ? errno : EIO));
+    if (ok < 0) sturdy_fail(err, STURDY_EINTERNAL, "%s: out of memory reading the file", name);
+    else if (!ok)
+        sturdy_fail(err, STURDY_EDATA, "%s: cannot read: %s", name,
+                    strerror(errno ? errno : EIO));
     if (!is_stdin) fclose(f);
+    if (ok < 0) return STURDY_EINTERNAL;
     if (!ok) return STURDY_EDATA;
     sturdy_status st = sturdy_table_load_buffer(name, buf, len, o, out, err);
-    free(buf);
+    sturdy_free(buf);
     return st;
 }
 
@@ -369,15 +380,15 @@ void sturdy_table_free(sturdy_table *t)
 {
     if (!t) return;
     for (size_t j = 0; t->cols && j < t->ncols; j++) {
-        for (size_t i = 0; t->cols[j].text && i < t->nrows; i++) free(t->cols[j].text[i]);
-        free(t->cols[j].text);
-        free(t->cols[j].missing);
-        free(t->cols[j].name);
+        for (size_t i = 0; t->cols[j].text && i < t->nrows; i++) sturdy_free(t->cols[j].text[i]);
+        sturdy_free(t->cols[j].text);
+        sturdy_free(t->cols[j].missing);
+        sturdy_free(t->cols[j].name);
     }
-    free(t->cols);
-    free(t->line);
-    free(t->source);
-    free(t);
+    sturdy_free(t->cols);
+    sturdy_free(t->line);
+    sturdy_free(t->source);
+    sturdy_free(t);
 }
 
 long sturdy_table_find(const sturdy_table *t, const char *name)

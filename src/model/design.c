@@ -1,5 +1,6 @@
 /* design.c — from table to design: used rows, factor levels, cells, groups, terms and
  * the sum-to-zero coded columns (one row per group). */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -35,52 +36,52 @@ static int cmp_tuple(const void *a, const void *b)
 
 static void factor_free(sturdy_factor *f)
 {
-    if (!f->levels) { free(f->name); return; }
+    if (!f->levels) { sturdy_free(f->name); return; }
     for (size_t j = 0; j < f->nlevels; j++)
-        free(f->levels[j]);
-    free(f->levels);
-    free(f->name);
+        sturdy_free(f->levels[j]);
+    sturdy_free(f->levels);
+    sturdy_free(f->name);
 }
 
 void sturdy_design_free(sturdy_design *d)
 {
     if (!d)
         return;
-    free(d->source);
-    free(d->row);
-    free(d->line);
+    sturdy_free(d->source);
+    sturdy_free(d->row);
+    sturdy_free(d->line);
     for (size_t i = 0; i < d->ndropped; i++)
-        free(d->dropped[i].reason);
-    free(d->dropped);
+        sturdy_free(d->dropped[i].reason);
+    sturdy_free(d->dropped);
     for (size_t i = 0; i < d->nwarnings; i++)
-        free(d->warnings[i]);
-    free(d->warnings);
-    for (size_t f = 0; f < d->nfactors; f++)
+        sturdy_free(d->warnings[i]);
+    sturdy_free(d->warnings);
+    for (size_t f = 0; d->factors && f < d->nfactors; f++)
         factor_free(&d->factors[f]);
-    free(d->factors);
-    free(d->level);
+    sturdy_free(d->factors);
+    sturdy_free(d->level);
     if (d->has_block)
         factor_free(&d->block);
-    free(d->block_level);
-    for (size_t c = 0; c < d->ncov; c++)
-        free(d->cov_names[c]);
-    free(d->cov_names);
-    free(d->cov);
-    for (size_t r = 0; r < d->nresp; r++)
-        free(d->resp_names[r]);
-    free(d->resp_names);
-    free(d->y);
-    free(d->y_ref);
-    free(d->cell);
-    free(d->cell_count);
-    free(d->cell_levels);
-    free(d->group);
-    free(d->group_count);
+    sturdy_free(d->block_level);
+    for (size_t c = 0; d->cov_names && c < d->ncov; c++)
+        sturdy_free(d->cov_names[c]);
+    sturdy_free(d->cov_names);
+    sturdy_free(d->cov);
+    for (size_t r = 0; d->resp_names && r < d->nresp; r++)
+        sturdy_free(d->resp_names[r]);
+    sturdy_free(d->resp_names);
+    sturdy_free(d->y);
+    sturdy_free(d->y_ref);
+    sturdy_free(d->cell);
+    sturdy_free(d->cell_count);
+    sturdy_free(d->cell_levels);
+    sturdy_free(d->group);
+    sturdy_free(d->group_count);
     for (size_t t = 0; t < d->nterms; t++)
-        free(d->terms[t].label);
-    free(d->terms);
-    free(d->Xg);
-    free(d);
+        sturdy_free(d->terms[t].label);
+    sturdy_free(d->terms);
+    sturdy_free(d->Xg);
+    sturdy_free(d);
 }
 
 /* A name this close to an unknown one (edit distance, ignoring case) is suggested:
@@ -95,7 +96,7 @@ static char lower(char c) { return c >= 'A' && c <= 'Z' ? (char)(c - 'A' + 'a') 
 static size_t edit_distance(const char *a, const char *b)
 {
     size_t la = strlen(a), lb = strlen(b);
-    size_t *row = malloc((lb + 1) * sizeof *row);
+    size_t *row = sturdy_malloc((lb + 1) * sizeof *row);
     if (!row) return (size_t)-1;
     for (size_t j = 0; j <= lb; j++) row[j] = j;
     for (size_t i = 1; i <= la; i++) {
@@ -111,7 +112,7 @@ static size_t edit_distance(const char *a, const char *b)
         }
     }
     size_t d = row[lb];
-    free(row);
+    sturdy_free(row);
     return d;
 }
 
@@ -125,6 +126,8 @@ static sturdy_status unknown_column(const sturdy_table *t, const char *name, con
                        ? len / SUGGEST_EDITS_PER_CHAR : SUGGEST_MAX_EDITS;
     for (size_t j = 0; j < t->ncols; j++) {
         size_t dist = edit_distance(name, t->cols[j].name);
+        if (dist == (size_t)-1)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         if (dist < best) { best = dist; best_col = j; }
     }
     const char *hint = sturdy_table_delimiter_hint(t);
@@ -175,7 +178,7 @@ static sturdy_status find_columns(const sturdy_table *t, const char *const *name
 static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t *id,
                                 size_t *nids, size_t **first_row, char *err)
 {
-    tuple_ref *ref = malloc(n * sizeof *ref);
+    tuple_ref *ref = sturdy_malloc(n * sizeof *ref);
     if (!ref)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < n; i++) {
@@ -185,9 +188,9 @@ static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t
     }
     qsort(ref, n, sizeof *ref, cmp_tuple);
     size_t k = 0;
-    size_t *first = malloc(n * sizeof *first);
+    size_t *first = sturdy_malloc(n * sizeof *first);
     if (!first) {
-        free(ref);
+        sturdy_free(ref);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t i = 0; i < n; i++) {
@@ -195,7 +198,7 @@ static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t
             first[k++] = ref[i].row;
         id[ref[i].row] = k - 1;
     }
-    free(ref);
+    sturdy_free(ref);
     *nids = k;
     *first_row = first;
     return STURDY_OK;
@@ -222,8 +225,8 @@ static sturdy_status find_spec_columns(const sturdy_table *t, const sturdy_model
 {
     size_t nr = s->nresponses, nf = s->nfactors, nc = s->ncovariates;
     sturdy_status st;
-    *used = calloc(t->ncols ? t->ncols : 1, 1);
-    *ri = malloc((nr + nf + nc + 1) * sizeof **ri);
+    *used = sturdy_calloc(t->ncols ? t->ncols : 1, 1);
+    *ri = sturdy_malloc((nr + nf + nc + 1) * sizeof **ri);
     if (!*used || !*ri)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     long *fi = *ri + nr, *ci = fi + nf, *bi = ci + nc;
@@ -266,7 +269,7 @@ static char *dropped_reason(const sturdy_table *t, const unsigned char *used, co
     }
     if (reason && resp_missing && resp_present) {
         char *longer = sturdy_asprintf("%s; the row is left out of every response", reason);
-        free(reason);
+        sturdy_free(reason);
         reason = longer;
     }
     return reason;
@@ -308,9 +311,9 @@ static sturdy_status select_rows(const sturdy_table *t, const sturdy_model_spec 
 {
     d->source = sturdy_strdup(t->source);
     d->rows_read = t->nrows;
-    d->row = malloc((t->nrows ? t->nrows : 1) * sizeof *d->row);
-    d->line = malloc((t->nrows ? t->nrows : 1) * sizeof *d->line);
-    d->dropped = calloc(t->nrows ? t->nrows : 1, sizeof *d->dropped);
+    d->row = sturdy_malloc((t->nrows ? t->nrows : 1) * sizeof *d->row);
+    d->line = sturdy_malloc((t->nrows ? t->nrows : 1) * sizeof *d->line);
+    d->dropped = sturdy_calloc(t->nrows ? t->nrows : 1, sizeof *d->dropped);
     if (!d->source || !d->row || !d->line || !d->dropped)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < t->nrows; i++) {
@@ -343,14 +346,15 @@ static sturdy_status read_responses(const sturdy_table *t, const sturdy_model_sp
 {
     size_t n = d->n, nr = s->nresponses;
     sturdy_status st;
-    d->resp_names = calloc(nr, sizeof *d->resp_names);
-    d->y = malloc(n * nr * sizeof *d->y);
-    d->y_ref = malloc(nr * sizeof *d->y_ref);
+    d->resp_names = sturdy_calloc(nr, sizeof *d->resp_names);
+    d->y = sturdy_malloc(n * nr * sizeof *d->y);
+    d->y_ref = sturdy_malloc(nr * sizeof *d->y_ref);
     if (!d->resp_names || !d->y || !d->y_ref)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     d->nresp = nr;
     for (size_t r = 0; r < nr; r++) {
-        d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name);
+        if (!(d->resp_names[r] = sturdy_strdup(t->cols[ri[r]].name)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         if ((st = sturdy_table_numeric(t, (size_t)ri[r], d->row, n, d->y + r * n,
                                        &d->y_ref[r], err)))
             return st;
@@ -365,14 +369,15 @@ static sturdy_status read_covariates(const sturdy_table *t, const sturdy_model_s
 {
     size_t n = d->n, nc = s->ncovariates;
     sturdy_status st;
-    d->cov_names = calloc(nc ? nc : 1, sizeof *d->cov_names);
-    d->cov = malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
+    d->cov_names = sturdy_calloc(nc ? nc : 1, sizeof *d->cov_names);
+    d->cov = sturdy_malloc((nc > 0 ? n * nc : 1) * sizeof *d->cov);
     if (!d->cov_names || !d->cov)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     d->ncov = nc;
     for (size_t c = 0; c < nc; c++) {
         double ref, *x = d->cov + c * n;
-        d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name);
+        if (!(d->cov_names[c] = sturdy_strdup(t->cols[ci[c]].name)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         if ((st = sturdy_table_numeric(t, (size_t)ci[c], d->row, n, x, &ref, err)))
             return st;
         /* centre (two passes) so the coded columns are well conditioned */
@@ -411,7 +416,7 @@ static sturdy_status read_levels(const sturdy_table *t, const sturdy_model_spec 
     if (*bi < 0)
         return STURDY_OK;
     d->has_block = 1;
-    d->block_level = malloc(n * sizeof *d->block_level);
+    d->block_level = sturdy_malloc(n * sizeof *d->block_level);
     if (!d->block_level)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     return sturdy_levels_make(t, *bi, d, s, max_levels, "block", &d->block, d->block_level,
@@ -429,20 +434,21 @@ static sturdy_status make_cells(sturdy_design *d, char *err)
         possible *= (double)d->factors[f].nlevels;
     d->ncells_possible = possible < 1e18 ? (size_t)possible : (size_t)-1;
     size_t *first;
-    d->cell = malloc(n * sizeof *d->cell);
+    d->cell = sturdy_malloc(n * sizeof *d->cell);
     if (!d->cell)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if ((st = group_rows(n, d->level, nf, d->cell, &d->ncells, &first, err)))
         return st;
-    d->cell_count = calloc(d->ncells, sizeof *d->cell_count);
+    d->cell_count = sturdy_calloc(d->ncells, sizeof *d->cell_count);
     d->cell_levels = sturdy_calloc(d->ncells * nf, sizeof *d->cell_levels);
     if (!d->cell_count || !d->cell_levels) {
-        free(first);
+        sturdy_free(first);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t c = 0; c < d->ncells; c++)
         memcpy(d->cell_levels + c * nf, d->level + first[c] * nf, nf * sizeof(size_t));
-    free(first);
+    sturdy_free(first);
+    assert(d->ncells >= 1 && d->ncells <= n);
     for (size_t i = 0; i < n; i++)
         d->cell_count[d->cell[i]]++;
     d->min_cell = (size_t)-1;
@@ -464,17 +470,17 @@ static sturdy_status make_groups(sturdy_design *d, const sturdy_model_spec *s,
     size_t n = d->n;
     sturdy_status st;
     *first = NULL;
-    d->group = malloc(n * sizeof *d->group);
+    d->group = sturdy_malloc(n * sizeof *d->group);
     if (!d->group)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (s->ncovariates > 0 || s->row_groups) {
         d->ngroups = n;
-        if (!(*first = malloc(n * sizeof **first)))
+        if (!(*first = sturdy_malloc(n * sizeof **first)))
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         for (size_t i = 0; i < n; i++)
             d->group[i] = (*first)[i] = i;
     } else {
-        size_t *keys = malloc(n * 2 * sizeof *keys);
+        size_t *keys = sturdy_malloc(n * 2 * sizeof *keys);
         if (!keys)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         for (size_t i = 0; i < n; i++) {
@@ -482,11 +488,11 @@ static sturdy_status make_groups(sturdy_design *d, const sturdy_model_spec *s,
             keys[2 * i + 1] = d->has_block ? d->block_level[i] : 0;
         }
         st = group_rows(n, keys, 2, d->group, &d->ngroups, first, err);
-        free(keys);
+        sturdy_free(keys);
         if (st)
             return st;
     }
-    d->group_count = calloc(d->ngroups, sizeof *d->group_count);
+    d->group_count = sturdy_calloc(d->ngroups, sizeof *d->group_count);
     if (!d->group_count)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < n; i++)
@@ -504,7 +510,7 @@ static sturdy_status make_terms(sturdy_design *d, const sturdy_model_spec *s,
     if ((st = sturdy_terms_make(d, s->order, max_columns, err)) ||
         (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err)))
         return st;
-    d->Xg = malloc(d->ngroups * d->p * sizeof *d->Xg);
+    d->Xg = sturdy_malloc(d->ngroups * d->p * sizeof *d->Xg);
     if (!d->Xg)
         return sturdy_fail(err, STURDY_EINTERNAL,
                            "out of memory for the %zu × %zu coded design", d->ngroups, d->p);
@@ -521,16 +527,16 @@ static sturdy_status build(const sturdy_table *t, const sturdy_model_spec *s,
     sturdy_status st = check_counts(s, err);
     if (!st) st = find_spec_columns(t, s, &ri, &used, err);
     if (!st) st = select_rows(t, s, d, ri, used, err);
-    free(used);
+    sturdy_free(used);
     if (!st) st = read_responses(t, s, d, ri, err);
     if (!st) st = read_covariates(t, s, d, ri + s->nresponses + s->nfactors, err);
     if (!st) st = read_levels(t, s, d, ri + s->nresponses,
                               ri + s->nresponses + s->nfactors + s->ncovariates, err);
-    free(ri);
+    sturdy_free(ri);
     if (!st) st = make_cells(d, err);
     if (!st) st = make_groups(d, s, &first, err);
     if (!st) st = make_terms(d, s, first, err);
-    free(first);
+    sturdy_free(first);
     return st;
 }
 
@@ -538,7 +544,7 @@ sturdy_status sturdy_design_build(const sturdy_table *t, const sturdy_model_spec
                                   sturdy_design **out, char *err)
 {
     *out = NULL;
-    sturdy_design *d = calloc(1, sizeof *d);
+    sturdy_design *d = sturdy_calloc(1, sizeof *d);
     if (!d)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     sturdy_status st = build(t, s, d, err);

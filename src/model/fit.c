@@ -1,5 +1,6 @@
 /* fit.c — orthonormal bases for the full model and each term's reduced-vs-augmented
  * comparison, in group space (see fit.h), by pivoted Householder QR (LAPACK). */
+#include <assert.h>
 #include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
@@ -37,17 +38,17 @@ static sturdy_status orth_basis(double *A, size_t K, size_t k, const double *ref
                 A[j * K + g] /= nrm;
     }
     size_t mn = K < k ? K : k;
-    lapack_int *jpvt = calloc(k, sizeof *jpvt);
-    double *tau = malloc(mn * sizeof *tau);
+    lapack_int *jpvt = sturdy_calloc(k, sizeof *jpvt);
+    double *tau = sturdy_malloc(mn * sizeof *tau);
     if (!jpvt || !tau) {
-        free(jpvt); free(tau);
+        sturdy_free(jpvt); sturdy_free(tau);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     lapack_int info = LAPACKE_dgeqp3(LAPACK_COL_MAJOR, (lapack_int)K, (lapack_int)k, A,
                                      (lapack_int)K, jpvt, tau);
-    free(jpvt);
+    sturdy_free(jpvt);
     if (info != 0) {
-        free(tau);
+        sturdy_free(tau);
         return sturdy_fail(err, STURDY_EINTERNAL, "QR factorisation failed (info %d)",
                            (int)info);
     }
@@ -55,15 +56,15 @@ static sturdy_status orth_basis(double *A, size_t K, size_t k, const double *ref
     while (r < mn && fabs(A[r * K + r]) > STURDY_RANK_TOL)
         r++;
     if (r == 0) {
-        free(tau);
+        sturdy_free(tau);
         return STURDY_OK;
     }
     info = LAPACKE_dorgqr(LAPACK_COL_MAJOR, (lapack_int)K, (lapack_int)r, (lapack_int)r, A,
                           (lapack_int)K, tau);
-    free(tau);
+    sturdy_free(tau);
     if (info != 0)
         return sturdy_fail(err, STURDY_EINTERNAL, "forming Q failed (info %d)", (int)info);
-    double *Q = malloc(K * r * sizeof *Q);
+    double *Q = sturdy_malloc(K * r * sizeof *Q);
     if (!Q)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     memcpy(Q, A, K * r * sizeof *Q);
@@ -118,13 +119,14 @@ static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t 
             take_columns(d, m->sqrt_count, d->terms[j].col0, d->terms[j].ncols, A, k);
             k += d->terms[j].ncols;
         }
+    assert(k + term->ncols <= d->p);    /* A has room for K × p */
     sturdy_status st = orth_basis(A, K, k, NULL, &tb->Ured, &tb->rank_red, err);
     if (st)
         return st;
     /* the term's columns, residualised twice against the reduced basis (one pass of
      * classical Gram–Schmidt loses orthogonality when columns are nearly dependent) */
     size_t c = term->ncols;
-    double *Z = A, *nrm = malloc(c * sizeof *nrm);
+    double *Z = A, *nrm = sturdy_malloc(c * sizeof *nrm);
     if (!nrm)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     take_columns(d, m->sqrt_count, term->col0, c, Z, 0);
@@ -145,7 +147,7 @@ static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t 
                     Z[j * K + g] -= dot * u[g];
             }
     st = orth_basis(Z, K, c, nrm, &tb->Uterm, &tb->df, err);
-    free(nrm);
+    sturdy_free(nrm);
     return st;
 }
 
@@ -154,14 +156,14 @@ static sturdy_status rank_without(const sturdy_design *d, const sturdy_model *m,
                                   size_t skip, size_t *df, char *err)
 {
     sturdy_term_basis tb = { 0 };
-    double *A = malloc(d->ngroups * d->p * sizeof *A);
+    double *A = sturdy_malloc(d->ngroups * d->p * sizeof *A);
     if (!A)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     sturdy_status st = span(d, m, t, skip, A, &tb, err);
     *df = tb.df;
-    free(A);
-    free(tb.Ured);
-    free(tb.Uterm);
+    sturdy_free(A);
+    sturdy_free(tb.Ured);
+    sturdy_free(tb.Uterm);
     return st;
 }
 
@@ -213,12 +215,13 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
     if (tb->df < c && d->has_block && (st = block_cause(d, m, t, tb->df, &conf, err)))
         return st;
     if (conf && !*conf) {
-        free(conf);
+        sturdy_free(conf);
         conf = NULL;
     }
     int empty = d->ncells < d->ncells_possible;
     const char *other = empty ? "empty cells" : d->ncov ? "collinear covariates"
                                                         : "collinearity with other terms";
+    assert(tb->df <= c);                /* a term adds at most its own columns' rank */
     tb->df_nominal = c;
     tb->testable = 1;
     if (tb->df == 0 && conf && term->kind == STURDY_TERM_BLOCK) {
@@ -249,7 +252,7 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
                               "rest are confounded with the block %s", term->label, tb->df,
                               c, conf);
         if (!tb->why_short) {
-            free(conf);
+            sturdy_free(conf);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
     } else if (tb->df < c) {
@@ -258,7 +261,7 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
                                         "freedom: %s took the rest", term->label, tb->df, c,
                                         other);
         if (!tb->why_short) {
-            free(conf);
+            sturdy_free(conf);
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         }
         if (m->ss_type == 3) {
@@ -269,7 +272,7 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
                 other, term->label, tb->df, c, empty ? " or fill the cells" : "");
         }
     }
-    free(conf);
+    sturdy_free(conf);
     if (!tb->testable && !tb->why_not)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     return STURDY_OK;
@@ -279,17 +282,17 @@ void sturdy_model_free(sturdy_model *m)
 {
     if (!m)
         return;
-    free(m->U);
-    free(m->sqrt_count);
-    free(m->leverage);
-    for (size_t t = 0; t < m->nterms; t++) {
-        free(m->terms[t].why_not);
-        free(m->terms[t].why_short);
-        free(m->terms[t].Ured);
-        free(m->terms[t].Uterm);
+    sturdy_free(m->U);
+    sturdy_free(m->sqrt_count);
+    sturdy_free(m->leverage);
+    for (size_t t = 0; m->terms && t < m->nterms; t++) {
+        sturdy_free(m->terms[t].why_not);
+        sturdy_free(m->terms[t].why_short);
+        sturdy_free(m->terms[t].Ured);
+        sturdy_free(m->terms[t].Uterm);
     }
-    free(m->terms);
-    free(m);
+    sturdy_free(m->terms);
+    sturdy_free(m);
 }
 
 static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
@@ -298,12 +301,12 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
     m->n = d->n;
     m->K = K;
     m->nterms = d->nterms;
-    m->sqrt_count = calloc(K, sizeof *m->sqrt_count);
-    m->leverage = malloc(K * sizeof *m->leverage);
-    m->terms = calloc(d->nterms ? d->nterms : 1, sizeof *m->terms);
-    double *A = malloc(K * p * sizeof *A);
+    m->sqrt_count = sturdy_calloc(K, sizeof *m->sqrt_count);
+    m->leverage = sturdy_malloc(K * sizeof *m->leverage);
+    m->terms = sturdy_calloc(d->nterms ? d->nterms : 1, sizeof *m->terms);
+    double *A = sturdy_malloc(K * p * sizeof *A);
     if (!m->sqrt_count || !m->leverage || !m->terms || !A) {
-        free(A);
+        sturdy_free(A);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory (design of %zu × %zu)", K, p);
     }
     for (size_t g = 0; g < K; g++)
@@ -311,9 +314,11 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
     take_columns(d, m->sqrt_count, 0, p, A, 0);
     sturdy_status st = orth_basis(A, K, p, NULL, &m->U, &m->rank, err);
     if (st) {
-        free(A);
+        sturdy_free(A);
         return st;
     }
+    /* the intercept column alone has rank 1; no basis outgrows its columns or groups */
+    assert(m->rank >= 1 && m->rank <= p && m->rank <= K && m->rank <= d->n);
     m->df_error = d->n - m->rank;
     for (size_t g = 0; g < K; g++) {
         double h = 0.0;
@@ -323,10 +328,10 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
     }
     for (size_t t = 0; t < d->nterms; t++)
         if ((st = term_basis(d, m, t, A, &m->terms[t], err))) {
-            free(A);
+            sturdy_free(A);
             return st;
         }
-    free(A);
+    sturdy_free(A);
     /* Type III with an inestimable term: the hypotheses of the terms it contains are
      * defined through the means of its empty cells, so they are not tested either. */
     if (m->ss_type == 3)
@@ -355,7 +360,7 @@ sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_mod
     *out = NULL;
     if (ss_type < 1 || ss_type > 3)
         return sturdy_fail(err, STURDY_EUSAGE, "sums of squares type must be 1, 2 or 3");
-    sturdy_model *m = calloc(1, sizeof *m);
+    sturdy_model *m = sturdy_calloc(1, sizeof *m);
     if (!m)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     m->ss_type = ss_type;
@@ -372,6 +377,7 @@ void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
                                const double *v, double *s)
 {
     size_t K = m->K;
+    assert(K == d->ngroups && m->n == d->n);
     memset(s, 0, K * sizeof *s);
     for (size_t i = 0; i < d->n; i++)
         s[d->group[i]] += v[i];

@@ -1,5 +1,6 @@
 /* terms.c — the model's terms (block, covariates, factor main effects and interactions
  * up to the chosen order) and their sum-to-zero coded columns, one row per group. */
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -86,7 +87,7 @@ static sturdy_status add_factor_term(sturdy_design *d, uint32_t mask, size_t k,
                            "the model needs more than %zu coded columns (at term "
                            "%zu of order %zu); lower --order or raise --max-columns",
                            max_columns, *nt, k);
-    t->label = malloc(len + 1);
+    t->label = sturdy_malloc(len + 1);
     if (!t->label)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     t->label[0] = '\0';
@@ -106,7 +107,7 @@ static sturdy_status add_factor_terms(sturdy_design *d, size_t maxord, size_t ma
 {
     size_t m = d->nfactors;
     sturdy_status st = STURDY_OK;
-    uint32_t *masks = malloc(((size_t)1 << m) * sizeof *masks);
+    uint32_t *masks = sturdy_malloc(((size_t)1 << m) * sizeof *masks);
     if (!masks)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t k = 1; k <= maxord && !st; k++) {
@@ -118,16 +119,17 @@ static sturdy_status add_factor_terms(sturdy_design *d, size_t maxord, size_t ma
         for (size_t j = 0; j < nk && !st; j++)
             st = add_factor_term(d, reverse_bits(masks[j], m), k, max_columns, p, nt, err);
     }
-    free(masks);
+    sturdy_free(masks);
     return st;
 }
 
 sturdy_status sturdy_terms_make(sturdy_design *d, int order, size_t max_columns, char *err)
 {
     size_t m = d->nfactors;
+    assert(m <= STURDY_MAX_FACTORS);  /* masks are 32-bit; 2^m masks are listed */
     size_t maxord = (order <= 0 || (size_t)order > m) ? m : (size_t)order;
     size_t cap = (d->has_block ? 1 : 0) + d->ncov + ((size_t)1 << m);
-    d->terms = calloc(cap, sizeof *d->terms);
+    d->terms = sturdy_calloc(cap, sizeof *d->terms);
     if (!d->terms)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     size_t p = 1, nt = 0;
@@ -181,11 +183,11 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
     size_t nt = d->nterms;
     if (count == 0)
         return STURDY_OK;
-    size_t *pos = malloc(nt * sizeof *pos);
-    unsigned char *taken = calloc(nt, 1);
-    sturdy_term *sorted = malloc(nt * sizeof *sorted);
+    size_t *pos = sturdy_malloc(nt * sizeof *pos);
+    unsigned char *taken = sturdy_calloc(nt, 1);
+    sturdy_term *sorted = sturdy_malloc(nt * sizeof *sorted);
     if (!pos || !taken || !sorted) {
-        free(pos); free(taken); free(sorted);
+        sturdy_free(pos); sturdy_free(taken); sturdy_free(sorted);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     size_t k = 0;
@@ -231,11 +233,12 @@ sturdy_status sturdy_terms_reorder(sturdy_design *d, const char *const *names, s
                                  "terms it contains",
                                  d->terms[pos[a]].label, d->terms[pos[b]].label);
     if (!st) {
+        assert(k == nt);                /* every term placed exactly once */
         for (size_t i = 0; i < nt; i++)
             sorted[i] = d->terms[pos[i]];
         memcpy(d->terms, sorted, nt * sizeof *sorted);
     }
-    free(pos); free(taken); free(sorted);
+    sturdy_free(pos); sturdy_free(taken); sturdy_free(sorted);
     return st;
 }
 
@@ -255,6 +258,7 @@ void sturdy_terms_fill_columns(sturdy_design *d, const size_t *rep)
         X[g] = 1.0;
     for (size_t ti = 0; ti < d->nterms; ti++) {
         const sturdy_term *t = &d->terms[ti];
+        assert(t->col0 >= 1 && t->col0 + t->ncols <= d->p);   /* column 0: intercept */
         for (size_t g = 0; g < K; g++) {
             size_t i = rep[g];
             if (t->kind == STURDY_TERM_BLOCK) {

@@ -53,12 +53,14 @@ static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
 static void write_header(sturdy_buf *b);
 
 /* Columns of the header after response, term, df, ss, ms: each a comma, never a line
- * break, so counting them from the header keeps the residual rows in step with it. */
-static size_t header_tail(void)
+ * break, so counting them from the header keeps the residual rows in step with it.
+ * Marks `out` failed when the scratch copy runs out of memory (the count would be short). */
+static size_t header_tail(sturdy_buf *out)
 {
     sturdy_buf h;
     sturdy_buf_init(&h);
     write_header(&h);
+    if (h.failed) out->failed = 1;
     size_t commas = 0;
     for (size_t i = 0; i < h.len; i++) commas += h.data[i] == ',';
     sturdy_buf_free(&h);
@@ -175,7 +177,7 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
     write_header(out);
-    size_t tail = header_tail();
+    size_t tail = header_tail(out);
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
         for (size_t k = 0; k < rr->nterms; k++)

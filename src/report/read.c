@@ -14,6 +14,34 @@
 #include "sturdy/names.h"
 #include "sturdy/report.h"
 
+/* --- allocation ------------------------------------------------------------------------ */
+
+/* Whether an allocation of the current read failed: a reader that gives up then says
+ * "out of memory" (EINTERNAL), not "malformed" (EDATA). Per thread, reset by each public
+ * read; the readers below allocate only through these three. */
+static _Thread_local int read_oom;
+
+static char *rd_strdup(const char *s)
+{
+    char *d = sturdy_strdup(s);
+    read_oom |= s && !d;
+    return d;
+}
+
+static void *rd_calloc(size_t n, size_t size)
+{
+    void *p = sturdy_calloc(n, size);
+    read_oom |= !p;
+    return p;
+}
+
+static void *rd_realloc(void *q, size_t size)
+{
+    void *p = sturdy_realloc(q, size);
+    read_oom |= !p;
+    return p;
+}
+
 /* --- small typed readers ------------------------------------------------------------ */
 
 static int is_kind(const jv *v, jv_kind k) { return v && v->kind == k; }
@@ -37,7 +65,7 @@ static int get_str(const jv *obj, const char *key, char **out)
         return 1;
     if (!is_kind(v, JV_STRING))
         return 0;
-    *out = sturdy_strdup(v->text);
+    *out = rd_strdup(v->text);
     return *out != NULL;
 }
 
@@ -71,12 +99,17 @@ static int get_bool(const jv *obj, const char *key, int *out)
     return 1;
 }
 
-static jv *parse(const char *name, const char *text, size_t len, char *err)
+/* The parsed document, or NULL with *st the failure: EDATA for text that is not JSON,
+ * EINTERNAL when memory ran out. */
+static jv *parse(const char *name, const char *text, size_t len, sturdy_status *st, char *err)
 {
     char why[256];
-    jv *doc = jv_parse(text, len, why, sizeof why);
+    int oom = 0;
+    jv *doc = jv_parse(text, len, why, sizeof why, &oom);
+    *st = STURDY_OK;
     if (!doc)
-        sturdy_fail(err, STURDY_EDATA, "%s: not valid JSON (%s)", name, why);
+        *st = oom ? sturdy_fail(err, STURDY_EINTERNAL, "%s: out of memory reading it", name)
+                  : sturdy_fail(err, STURDY_EDATA, "%s: not valid JSON (%s)", name, why);
     return doc;
 }
 
@@ -87,9 +120,9 @@ static const char *own(sturdy_result *r, char *s)
 {
     if (!s)
         return NULL;
-    char **o = realloc(r->owned, (r->nowned + 1) * sizeof *o);
+    char **o = rd_realloc(r->owned, (r->nowned + 1) * sizeof *o);
     if (!o) {
-        free(s);
+        sturdy_free(s);
         return NULL;
     }
     r->owned = o;
@@ -105,12 +138,12 @@ static int read_names(sturdy_result *r, const jv *arr, const char *key,
     *n = 0;
     if (!is_kind(arr, JV_ARRAY))
         return 0;
-    const char **names = sturdy_calloc(arr->n, sizeof *names);
+    const char **names = rd_calloc(arr->n, sizeof *names);
     if (!names || !own(r, (char *)names))
         return 0;
     for (size_t i = 0; i < arr->n; i++) {
         const jv *v = key ? jv_get(&arr->items[i], key) : &arr->items[i];
-        if (!is_kind(v, JV_STRING) || !(names[i] = own(r, sturdy_strdup(v->text))))
+        if (!is_kind(v, JV_STRING) || !(names[i] = own(r, rd_strdup(v->text))))
             return 0;
     }
     *out = names;
@@ -162,7 +195,7 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
              get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
              get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread);
     int m = method_of(method), b = boot_scheme_of(scheme), sp = spread_scheme_of(spread);
-    free(method); free(scheme); free(spread);
+    sturdy_free(method); sturdy_free(scheme); sturdy_free(spread);
     if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
         return "settings";
     o->ss_type = r->ss_type = (int)ss;
@@ -196,12 +229,12 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
     const jv *notes = jv_get(doc, "notes");
     if (!is_kind(notes, JV_ARRAY))
         return "notes";
-    r->notes = sturdy_calloc(notes->n, sizeof *r->notes);
+    r->notes = rd_calloc(notes->n, sizeof *r->notes);
     if (!r->notes)
         return "notes";
     for (size_t i = 0; i < notes->n; i++, r->nnotes++)
         if (!is_kind(&notes->items[i], JV_STRING) ||
-            !(r->notes[i] = sturdy_strdup(notes->items[i].text)))
+            !(r->notes[i] = rd_strdup(notes->items[i].text)))
             return "notes";
     return NULL;
 }
@@ -242,7 +275,7 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              is_kind(ci, JV_OBJECT) && is_kind(factors, JV_ARRAY) &&
              read_uv(jv_get(t, "unequal_variance"), &tr->uv);
     int v = verdict_of(verdict);
-    free(verdict);
+    sturdy_free(verdict);
     if (!ok || v < 0)
         return 0;
     tr->verdict = (sturdy_verdict)v;
@@ -254,10 +287,10 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              (e != STURDY_ES_PARTIAL_ETA2 || get_pair(c, "noncentral_f", &tr->ncf));
         tr->accel[e] = NAN;
     }
-    tr->factors = sturdy_calloc(factors->n, sizeof *tr->factors);
+    tr->factors = rd_calloc(factors->n, sizeof *tr->factors);
     for (size_t f = 0; ok && tr->factors && f < factors->n; f++, tr->nfactors++)
         ok = is_kind(&factors->items[f], JV_STRING) &&
-             (tr->factors[f] = sturdy_strdup(factors->items[f].text)) != NULL;
+             (tr->factors[f] = rd_strdup(factors->items[f].text)) != NULL;
     return ok && tr->factors;
 }
 
@@ -282,7 +315,7 @@ static const char *read_responses(sturdy_result *r, const jv *doc)
     const jv *resps = jv_get(doc, "responses");
     if (!is_kind(resps, JV_ARRAY))
         return "responses";
-    r->resp = sturdy_calloc(resps->n, sizeof *r->resp);
+    r->resp = rd_calloc(resps->n, sizeof *r->resp);
     if (!r->resp)
         return "responses";
     size_t nt = 0;
@@ -300,10 +333,12 @@ static const char *read_responses(sturdy_result *r, const jv *doc)
             return "responses[].error";
         if (!read_diag(jv_get(rj, "diagnostics"), &rr->diag))
             return "responses[].diagnostics";
-        rr->terms = sturdy_calloc(nt, sizeof *rr->terms);
+        rr->terms = rd_calloc(nt, sizeof *rr->terms);
         if (!rr->terms)
             return "responses[].terms";
-        for (size_t k = 0; k < nt; k++, rr->nterms++)
+        rr->nterms = nt;     /* zeroed terms: the result's free releases what a partly
+                                read one holds */
+        for (size_t k = 0; k < nt; k++)
             if (!read_term(&terms->items[k], &rr->terms[k]))
                 return "responses[].terms[]";
     }
@@ -314,15 +349,17 @@ sturdy_status sturdy_result_read_json(const char *name, const char *text, size_t
                                       sturdy_result **out, char *err)
 {
     *out = NULL;
-    jv *doc = parse(name, text, len, err);
+    read_oom = 0;
+    sturdy_status pst;
+    jv *doc = parse(name, text, len, &pst, err);
     if (!doc)
-        return STURDY_EDATA;
+        return pst;
     uint64_t version = 0;
     if (!get_u64(doc, "version", &version) || version != 1) {
         jv_free(doc);
         return sturdy_fail(err, STURDY_EDATA, "%s: not a sturdy result of version 1", name);
     }
-    sturdy_result *r = sturdy_calloc(1, sizeof *r);
+    sturdy_result *r = rd_calloc(1, sizeof *r);
     if (!r) {
         jv_free(doc);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -334,8 +371,10 @@ sturdy_status sturdy_result_read_json(const char *name, const char *text, size_t
     jv_free(doc);
     if (bad) {
         sturdy_result_free(r);
+        if (read_oom)
+            return sturdy_fail(err, STURDY_EINTERNAL, "%s: out of memory reading it", name);
         return sturdy_fail(err, STURDY_EDATA, "%s: its '%s' section is missing, incomplete or "
-                                              "malformed (or memory ran out)", name, bad);
+                                              "malformed", name, bad);
     }
     r->perm_end = r->perm_done = r->nperm;
     r->boot_end = r->boot_done = r->nboot;
@@ -376,8 +415,9 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
     if (!sh)
         return part_fail(err, name, "not a shard part (no 'shard' section); parts are written "
                                     "by a run split into shards");
+    /* index 0 of 0: the raw material of a whole run written as a part */
     if (!get_u64(sh, "index", &p->index) || !get_u64(sh, "count", &p->count) ||
-        p->index < 1 || p->index > p->count)
+        (p->count ? p->index < 1 || p->index > p->count : p->index != 0))
         return part_fail(err, name, "the shard section has no valid index/count");
     if (!get_range(sh, "perm_range", &pr[0], &pr[1]) ||
         !get_range(sh, "boot_range", &br[0], &br[1]))
@@ -391,14 +431,14 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
     if (!is_kind(args, JV_ARRAY) || (cwd && !is_kind(cwd, JV_STRING) &&
                                      !is_kind(cwd, JV_NULL)))
         return part_fail(err, name, "the shard section does not record its command");
-    if (!(p->args = sturdy_calloc(args->n + 1, sizeof *p->args)))
+    if (!(p->args = rd_calloc(args->n + 1, sizeof *p->args)))
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < args->n; i++, p->nargs++)
         if (!is_kind(&args->items[i], JV_STRING))
             return part_fail(err, name, "the recorded command is malformed");
-        else if (!(p->args[i] = sturdy_strdup(args->items[i].text)))
+        else if (!(p->args[i] = rd_strdup(args->items[i].text)))
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    if (is_kind(cwd, JV_STRING) && !(p->cwd = sturdy_strdup(cwd->text)))
+    if (is_kind(cwd, JV_STRING) && !(p->cwd = rd_strdup(cwd->text)))
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     return STURDY_OK;
 }
@@ -446,13 +486,15 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
                                     sturdy_part **out, char *err)
 {
     *out = NULL;
-    jv *doc = parse(name, text, len, err);
+    read_oom = 0;
+    sturdy_status st;
+    jv *doc = parse(name, text, len, &st, err);
     if (!doc)
-        return STURDY_EDATA;
+        return st;
     sturdy_part env;
     memset(&env, 0, sizeof env);
     uint64_t pr[2] = {0, 0}, br[2] = {0, 0};
-    sturdy_status st = read_envelope(name, doc, &env, pr, br, err);
+    st = read_envelope(name, doc, &env, pr, br, err);
     const jv *resps = jv_get(doc, "responses");
     size_t nresp = is_kind(resps, JV_ARRAY) ? resps->n : 0;
     const jv *t0 = nresp ? jv_get(&resps->items[0], "terms") : NULL;
@@ -476,9 +518,9 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
         }
     }
     for (size_t i = 0; i < env.nargs; i++)
-        free(env.args[i]);
-    free(env.args);
-    free(env.cwd);
+        sturdy_free(env.args[i]);
+    sturdy_free(env.args);
+    sturdy_free(env.cwd);
     if (st) {
         sturdy_part_free(p);
         jv_free(doc);

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "core/core.h"
 #include "report/text.h"
 
 void tw_init(tw *w, const sturdy_result *r, const sturdy_report_opts *o, sturdy_buf *out)
@@ -150,7 +151,7 @@ static char *vformat(tw *w, const char *fmt, va_list ap)
     va_copy(ap2, ap);
     int n = vsnprintf(NULL, 0, fmt, ap2);
     va_end(ap2);
-    char *s = n < 0 ? NULL : malloc((size_t)n + 1);
+    char *s = n < 0 ? NULL : sturdy_malloc((size_t)n + 1);
     if (!s) { w->b->failed = 1; return NULL; }
     vsnprintf(s, (size_t)n + 1, fmt, ap);
     return s;
@@ -163,7 +164,7 @@ void tw_paraf(tw *w, int first, int rest, const char *fmt, ...)
     char *s = vformat(w, fmt, ap);
     va_end(ap);
     tw_para(w, first, rest, s);
-    free(s);
+    sturdy_free(s);
 }
 
 void tw_labelledf(tw *w, const char *label, const char *fmt, ...)
@@ -173,7 +174,7 @@ void tw_labelledf(tw *w, const char *label, const char *fmt, ...)
     char *s = vformat(w, fmt, ap);
     va_end(ap);
     tw_labelled(w, label, s);
-    free(s);
+    sturdy_free(s);
 }
 
 void tw_heading(tw *w, const char *title)

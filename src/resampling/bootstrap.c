@@ -12,6 +12,7 @@
  * Each replicate y* = f + r* is evaluated without refitting: with s = group sums (÷√n_g)
  * SS_t* = ‖U_tᵀ(s_f + s_r)‖², SSE* = ‖r*‖² − ‖U_fullᵀ s_r‖² (f lies in the model space),
  * SST* = ‖f_c‖² + 2 f_cᵀr* + ‖r*‖² − (Σr*)²/n with f_c the centred fitted values. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -60,6 +61,7 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
+    assert(b < c->r->nboot);            /* term->boot has nboot rows */
     sturdy_pcg64 g;
     sturdy_pcg_for(&g, c->run->opts.seed, STURDY_STREAM_BOOTSTRAP, b);
     for (size_t ri = 0; ri < c->r->nresp; ri++) {
@@ -119,13 +121,14 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
     const sturdy_term_basis *tb = &m->terms[t];
     sturdy_response_result *resp = &c->r->resp[ri];
     sturdy_term_result *tr = &resp->terms[t];
+    assert(tr->f >= 0 && n >= 2);       /* an F needs residual df, so n > rank ≥ 1 */
     const double *y = d->y + ri * n;
-    double *s = malloc(K * sizeof *s), *work = malloc((m->rank + K) * sizeof *work);
-    double *ered = malloc(n * sizeof *ered), *eaug = malloc(n * sizeof *eaug);
-    double *hred = calloc(K, sizeof *hred), *haug = calloc(K, sizeof *haug);
-    double *jack = malloc(n * STURDY_NES * sizeof *jack);
+    double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((m->rank + K) * sizeof *work);
+    double *ered = sturdy_malloc(n * sizeof *ered), *eaug = sturdy_malloc(n * sizeof *eaug);
+    double *hred = sturdy_calloc(K, sizeof *hred), *haug = sturdy_calloc(K, sizeof *haug);
+    double *jack = sturdy_malloc(n * STURDY_NES * sizeof *jack);
     if (!s || !work || !ered || !eaug || !hred || !haug || !jack) {
-        free(s); free(work); free(ered); free(eaug); free(hred); free(haug); free(jack);
+        sturdy_free(s); sturdy_free(work); sturdy_free(ered); sturdy_free(eaug); sturdy_free(hred); sturdy_free(haug); sturdy_free(jack);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     sturdy_model_group_scaled(d, m, y, s);
@@ -201,7 +204,7 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
         }
         tr->accel[e] = (usable && den > 0) ? num / (6.0 * pow(den, 1.5)) : NAN;
     }
-    free(s); free(work); free(ered); free(eaug); free(hred); free(haug); free(jack);
+    sturdy_free(s); sturdy_free(work); sturdy_free(ered); sturdy_free(eaug); sturdy_free(hred); sturdy_free(haug); sturdy_free(jack);
     return STURDY_OK;
 }
 
@@ -209,11 +212,11 @@ static void ctx_free(boot_ctx *c)
 {
     if (c->rb)
         for (size_t ri = 0; ri < c->r->nresp; ri++) {
-            free(c->rb[ri].fc); free(c->rb[ri].sf); free(c->rb[ri].a); free(c->rb[ri].pool);
+            sturdy_free(c->rb[ri].fc); sturdy_free(c->rb[ri].sf); sturdy_free(c->rb[ri].a); sturdy_free(c->rb[ri].pool);
         }
-    free(c->rb);
-    free(c->grp_start);
-    free(c->grp_rows);
+    sturdy_free(c->rb);
+    sturdy_free(c->grp_start);
+    sturdy_free(c->grp_rows);
 }
 
 static sturdy_status setup(boot_ctx *c, char *err)
@@ -221,7 +224,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
-    c->rb = calloc(c->r->nresp, sizeof *c->rb);
+    c->rb = sturdy_calloc(c->r->nresp, sizeof *c->rb);
     if (!c->rb)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
@@ -234,10 +237,10 @@ static sturdy_status setup(boot_ctx *c, char *err)
         resp_boot *rb = &c->rb[ri];
         const sturdy_response_result *resp = &c->r->resp[ri];
         const double *y = d->y + ri * n;
-        rb->fc = malloc(n * sizeof *rb->fc);
-        rb->sf = malloc(K * sizeof *rb->sf);
-        rb->a = malloc(n * sizeof *rb->a);
-        rb->pool = malloc(n * sizeof *rb->pool);
+        rb->fc = sturdy_malloc(n * sizeof *rb->fc);
+        rb->sf = sturdy_malloc(K * sizeof *rb->sf);
+        rb->a = sturdy_malloc(n * sizeof *rb->a);
+        rb->pool = sturdy_malloc(n * sizeof *rb->pool);
         if (!rb->fc || !rb->sf || !rb->a || !rb->pool)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         double mean = sturdy_mean(y, n);
@@ -295,7 +298,7 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
                 /* indexed over the whole run; slices computed elsewhere stay NaN until
                    added (sturdy_result_add_slice) */
                 size_t cnt = (size_t)run->nboot * STURDY_NES;
-                tr->boot = malloc(cnt * sizeof *tr->boot);
+                tr->boot = sturdy_malloc(cnt * sizeof *tr->boot);
                 if (!tr->boot)
                     return sturdy_fail(err, STURDY_EINTERNAL,
                                        "out of memory for the bootstrap replicates");
@@ -325,9 +328,9 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
     int64_t count = (int64_t)(b1 - b0);
 #pragma omp parallel num_threads(nthreads)
     {
-        double *rs = malloc(n * sizeof *rs), *sr = malloc(K * sizeof *sr);
-        double *s = malloc(K * sizeof *s);
-        signed char *sign = malloc(n);
+        double *rs = sturdy_malloc(n * sizeof *rs), *sr = sturdy_malloc(K * sizeof *sr);
+        double *s = sturdy_malloc(K * sizeof *s);
+        signed char *sign = sturdy_malloc(n);
         int ok = rs && sr && s && sign;
         if (!ok) {
 #pragma omp atomic write
@@ -337,7 +340,7 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
         for (int64_t k = 0; k < count; k++)
             if (ok && !sturdy_run_cancelled(run))
                 one_replicate(&c, b0 + (uint64_t)k, rs, sr, s, sign);
-        free(rs); free(sr); free(s); free(sign);
+        sturdy_free(rs); sturdy_free(sr); sturdy_free(s); sturdy_free(sign);
     }
     if (failed)
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for bootstrap workspaces");
@@ -367,7 +370,8 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
     uint64_t B = r->nboot;
     if (!t->boot || B == 0)
         return STURDY_OK;
-    double *x = malloc((size_t)B * sizeof *x);
+    assert(r->boot_done == B);          /* only a finished run has every replicate */
+    double *x = sturdy_malloc((size_t)B * sizeof *x);
     if (!x)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     double a2 = (1 - r->opts.conf) / 2;
@@ -403,7 +407,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         t->ci_bca[e].lo = quantile_sorted(x, k, pl);
         t->ci_bca[e].hi = quantile_sorted(x, k, ph);
     }
-    free(x);
+    sturdy_free(x);
     /* BCa's bias correction follows the replicates: for an effect near zero nearly all of
      * them lie above the estimate and the interval can end below it. Say so. */
     int excludes = 0;

@@ -16,6 +16,7 @@
  * Reproducibility: rearrangement b uses generator sturdy_pcg_for(seed, PERMUTE, b) only
  * (or, when enumerating, the b-th rearrangement in a fixed order); counts are integers
  * summed per thread, so any split over threads, shards or ranks gives the same counts. */
+#include <assert.h>
 #include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
@@ -59,15 +60,20 @@ typedef struct {
     size_t nb;           /* rearrangements per dgemm block */
 } perm_ctx;
 
-uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
+sturdy_status sturdy_permute_count(const sturdy_design *d, int flip, uint64_t *count,
+                                   char *err)
 {
-    if (flip)
-        return d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
-    if (!d->has_block)
-        return sturdy_factorial_sat(d->n);
-    size_t *cnt = calloc(d->block.nlevels, sizeof *cnt);
+    if (flip) {
+        *count = d->n >= 64 ? UINT64_MAX : (uint64_t)1 << d->n;
+        return STURDY_OK;
+    }
+    if (!d->has_block) {
+        *count = sturdy_factorial_sat(d->n);
+        return STURDY_OK;
+    }
+    size_t *cnt = sturdy_calloc(d->block.nlevels, sizeof *cnt);
     if (!cnt)
-        return UINT64_MAX;
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t i = 0; i < d->n; i++)
         cnt[d->block_level[i]]++;
     uint64_t total = 1;
@@ -79,8 +85,9 @@ uint64_t sturdy_permute_count(const sturdy_design *d, int flip)
         }
         total *= f;
     }
-    free(cnt);
-    return total;
+    sturdy_free(cnt);
+    *count = total;
+    return STURDY_OK;
 }
 
 typedef struct {
@@ -97,8 +104,8 @@ static void work_free(perm_work *w)
 {
     if (!w)
         return;
-    free(w->lab); free(w->pool); free(w->sign); free(w->tmp); free(w->S); free(w->C);
-    free(w->num); free(w->den); free(w->exceed); free(w->fwer);
+    sturdy_free(w->lab); sturdy_free(w->pool); sturdy_free(w->sign); sturdy_free(w->tmp); sturdy_free(w->S); sturdy_free(w->C);
+    sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -108,16 +115,16 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
         if (c->mem[j].df > maxdf)
             maxdf = c->mem[j].df;
     memset(w, 0, sizeof *w);
-    w->lab = malloc(n * sizeof *w->lab);
-    w->pool = malloc(n * sizeof *w->pool);
-    w->sign = malloc(n);
-    w->tmp = calloc(K * c->Mp, sizeof *w->tmp);
-    w->S = malloc(M * K * nb * sizeof *w->S);
-    w->C = malloc(maxdf * nb * sizeof *w->C);
-    w->num = malloc(M * nb * sizeof *w->num);
-    w->den = malloc(M * nb * sizeof *w->den);
-    w->exceed = calloc(M, sizeof *w->exceed);
-    w->fwer = calloc(M, sizeof *w->fwer);
+    w->lab = sturdy_malloc(n * sizeof *w->lab);
+    w->pool = sturdy_malloc(n * sizeof *w->pool);
+    w->sign = sturdy_malloc(n);
+    w->tmp = sturdy_calloc(K * c->Mp, sizeof *w->tmp);
+    w->S = sturdy_malloc(M * K * nb * sizeof *w->S);
+    w->C = sturdy_malloc(maxdf * nb * sizeof *w->C);
+    w->num = sturdy_malloc(M * nb * sizeof *w->num);
+    w->den = sturdy_malloc(M * nb * sizeof *w->den);
+    w->exceed = sturdy_calloc(M, sizeof *w->exceed);
+    w->fwer = sturdy_calloc(M, sizeof *w->fwer);
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer;
 }
@@ -138,6 +145,7 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K, M = c->M, nb = cnt;
+    assert(cnt >= 1 && cnt <= c->nb);   /* the workspaces hold c->nb rearrangements */
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -228,7 +236,7 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
     sturdy_status st;
-    c->mem = calloc(r->nresp * d->nterms + 1, sizeof *c->mem);
+    c->mem = sturdy_calloc(r->nresp * d->nterms + 1, sizeof *c->mem);
     if (!c->mem)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     for (size_t ri = 0; ri < r->nresp; ri++)
@@ -245,6 +253,7 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
                     return st;
                 continue;
             }
+            assert(m->df_error > 0);    /* a finite F needs residual df; c divides by it */
             member *mb = &c->mem[c->M++];
             mb->resp = ri;
             mb->term = t;
@@ -258,12 +267,12 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     c->Mp = (M + 3) & ~(size_t)3;
     if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, run->exact, run->opts.seed, err)))
         return st;
-    c->V = calloc(n * c->Mp, sizeof *c->V);
-    c->thr = malloc(M * M * sizeof *c->thr);
-    double *v = malloc(n * sizeof *v), *s = malloc(K * sizeof *s);
-    double *work = malloc((m->rank + K) * sizeof *work), *fit = malloc(n * sizeof *fit);
+    c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
+    c->thr = sturdy_malloc(M * M * sizeof *c->thr);
+    double *v = sturdy_malloc(n * sizeof *v), *s = sturdy_malloc(K * sizeof *s);
+    double *work = sturdy_malloc((m->rank + K) * sizeof *work), *fit = sturdy_malloc(n * sizeof *fit);
     if (!c->V || !c->thr || !v || !s || !work || !fit) {
-        free(v); free(s); free(work); free(fit);
+        sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     for (size_t j = 0; j < M; j++) {
@@ -292,7 +301,7 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         }
         mb->vv = vv;
     }
-    free(v); free(s); free(work); free(fit);
+    sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
     for (size_t t = 0; t < M; t++)
         for (size_t j = 0; j < M; j++) {
@@ -325,13 +334,13 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
         goto done;
     uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
     int64_t nblocks = (int64_t)(last_blk - first_blk);
-    uint64_t *exceed = calloc(c.M, sizeof *exceed), *fwer = calloc(c.M, sizeof *fwer);
+    uint64_t *exceed = sturdy_calloc(c.M, sizeof *exceed), *fwer = sturdy_calloc(c.M, sizeof *fwer);
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = sturdy_now_seconds();
     int nthreads = run->threads;
     if (!exceed || !fwer) {
-        free(exceed); free(fwer);
+        sturdy_free(exceed); sturdy_free(fwer);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -350,6 +359,7 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
             if (lo < b0) lo = b0;
             if (hi > b1) hi = b1;
+            assert(lo < hi && hi <= r->nperm);
             run_block(&c, lo, (size_t)(hi - lo), &w);
             if (run->progress) {
 #pragma omp critical(sturdy_progress)
@@ -383,12 +393,12 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             tr->exceed_fwer += fwer[j];
         }
     }
-    free(exceed);
-    free(fwer);
+    sturdy_free(exceed);
+    sturdy_free(fwer);
 done:
-    free(c.mem);
-    free(c.V);
-    free(c.thr);
+    sturdy_free(c.mem);
+    sturdy_free(c.V);
+    sturdy_free(c.thr);
     sturdy_rearranger_free(&c.ra);
     return st;
 }

@@ -2,6 +2,7 @@
  * blocks (Durstenfeld 1964, bounded draws by Lemire 2019), exact enumeration in a fixed
  * order (Lehmer codes), or sign patterns. Depends only on (seed, b), so any split of the
  * work over threads, shards or ranks sees the same rearrangements. */
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -24,13 +25,14 @@ sturdy_status sturdy_rearranger_init(sturdy_rearranger *a, const sturdy_design *
                                      int exact, uint64_t seed, char *err)
 {
     size_t n = d->n;
+    assert(d->ngroups <= UINT32_MAX);   /* labels are 32-bit */
     memset(a, 0, sizeof *a);
     a->d = d;
     a->flip = flip;
     a->exact = exact;
     a->seed = seed;
     a->nblk = (d->has_block && !flip) ? d->block.nlevels : 1;
-    a->lab0 = malloc((n ? n : 1) * sizeof *a->lab0);
+    a->lab0 = sturdy_malloc((n ? n : 1) * sizeof *a->lab0);
     if (!a->lab0 || sturdy_bucket_rows(a->nblk > 1 ? d->block_level : NULL, n, a->nblk,
                                        &a->blk_start, &a->blk_rows, NULL)) {
         sturdy_rearranger_free(a);
@@ -45,9 +47,9 @@ void sturdy_rearranger_free(sturdy_rearranger *a)
 {
     if (!a)
         return;
-    free(a->blk_start);
-    free(a->blk_rows);
-    free(a->lab0);
+    sturdy_free(a->blk_start);
+    sturdy_free(a->blk_rows);
+    sturdy_free(a->lab0);
     a->blk_start = a->blk_rows = NULL;
     a->lab0 = NULL;
 }
@@ -82,14 +84,17 @@ static void unrank(const sturdy_rearranger *a, uint64_t b, uint32_t *lab, uint32
             memmove(pool + dgt, pool + dgt + 1, (m - i - 1 - dgt) * sizeof *pool);
         }
     }
+    assert(b == 0);     /* b < the number of rearrangements: enumeration is exhaustive */
 }
 
 void sturdy_rearrange(const sturdy_rearranger *a, uint64_t b, uint32_t *lab,
                       signed char *sign, uint32_t *pool)
 {
     size_t n = a->d->n;
+    assert(a->flip ? sign != NULL : lab != NULL && pool != NULL);
     if (a->flip) {
         if (a->exact) {
+            assert(n < 64 && (b >> n) == 0);   /* b < 2^n sign patterns */
             for (size_t i = 0; i < n; i++)
                 sign[i] = (b >> i) & 1 ? -1 : 1;
         } else {

@@ -22,9 +22,10 @@
 sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
                                  const sturdy_model *m, sturdy_result *r, char *err);
 
-/* Number of distinct rearrangements (permutations within blocks, or sign patterns),
- * saturating at UINT64_MAX. */
-uint64_t sturdy_permute_count(const sturdy_design *d, int flip);
+/* *count = the number of distinct rearrangements (permutations within blocks, or sign
+ * patterns), saturating at UINT64_MAX. STURDY_EINTERNAL when out of memory. */
+sturdy_status sturdy_permute_count(const sturdy_design *d, int flip, uint64_t *count,
+                                   char *err);
 
 /* Bootstrap stage: fills term->boot for replicates [run->boot_begin, run->boot_end) and
  * term->accel (jackknife acceleration) for every term of every response. */

@@ -5,6 +5,7 @@
  * Konietschke 2015). Each replicate is one pass over the rows into group sums, then W*
  * per term (unequal.c); counts are integers summed per thread, so any split of the work
  * gives the same counts. */
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -36,9 +37,9 @@ typedef struct {
 static void uv_run_free(uv_run *u)
 {
     uv_ctx_free(&u->c);
-    free(u->mem);
-    free(u->E);
-    free(u->Qw);
+    sturdy_free(u->mem);
+    sturdy_free(u->E);
+    sturdy_free(u->Qw);
 }
 
 /* One pass of replicates [b0, b1) of one scheme; counts into cnt (M). */
@@ -47,16 +48,17 @@ static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uin
 {
     const sturdy_design *d = u->c.d;
     size_t n = d->n, K = u->c.K, M = u->M;
+    assert(b0 < b1 && (wild || ra));
     int failed = 0;
     int64_t nrep = (int64_t)(b1 - b0);
 #pragma omp parallel num_threads(nthreads)
     {
-        double *A = malloc(K * M * sizeof *A), *Q = malloc(K * M * sizeof *Q);
-        double *Ak = malloc(K * sizeof *Ak), *Qk = malloc(K * sizeof *Qk);
-        double *work = malloc(uv_wald_work(&u->c, u->maxdf) * sizeof *work);
-        uint32_t *lab = malloc(n * sizeof *lab), *pool = malloc(n * sizeof *pool);
-        signed char *sign = malloc(n ? n : 1);
-        uint64_t *mine = calloc(M, sizeof *mine);
+        double *A = sturdy_malloc(K * M * sizeof *A), *Q = sturdy_malloc(K * M * sizeof *Q);
+        double *Ak = sturdy_malloc(K * sizeof *Ak), *Qk = sturdy_malloc(K * sizeof *Qk);
+        double *work = sturdy_malloc(uv_wald_work(&u->c, u->maxdf) * sizeof *work);
+        uint32_t *lab = sturdy_malloc(n * sizeof *lab), *pool = sturdy_malloc(n * sizeof *pool);
+        signed char *sign = sturdy_malloc(n ? n : 1);
+        uint64_t *mine = sturdy_calloc(M, sizeof *mine);
         int ok = A && Q && Ak && Qk && work && lab && pool && sign && mine;
         if (!ok) {
 #pragma omp atomic write
@@ -112,8 +114,8 @@ static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uin
             for (size_t j = 0; j < M; j++)
                 cnt[j] += mine[j];
         }
-        free(A); free(Q); free(Ak); free(Qk); free(work); free(lab); free(pool); free(sign);
-        free(mine);
+        sturdy_free(A); sturdy_free(Q); sturdy_free(Ak); sturdy_free(Qk); sturdy_free(work); sturdy_free(lab); sturdy_free(pool); sturdy_free(sign);
+        sturdy_free(mine);
     }
     return !failed;
 }
@@ -125,11 +127,11 @@ static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild
     const sturdy_design *d = u->c.d;
     const sturdy_model *m = u->c.m;
     size_t n = d->n, K = u->c.K, M = u->M;
-    double *v = malloc(n * sizeof *v), *A = malloc(K * sizeof *A), *Q = malloc(K * sizeof *Q);
-    double *s = malloc(K * sizeof *s), *pw = malloc((m->rank + K) * sizeof *pw);
-    double *ft = malloc(n * sizeof *ft);
+    double *v = sturdy_malloc(n * sizeof *v), *A = sturdy_malloc(K * sizeof *A), *Q = sturdy_malloc(K * sizeof *Q);
+    double *s = sturdy_malloc(K * sizeof *s), *pw = sturdy_malloc((m->rank + K) * sizeof *pw);
+    double *ft = sturdy_malloc(n * sizeof *ft);
     if (!v || !A || !Q || !s || !pw || !ft) {
-        free(v); free(A); free(Q); free(s); free(pw); free(ft);
+        sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(ft);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     if (wild)
@@ -147,7 +149,7 @@ static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild
             }
         }
     }
-    free(v); free(A); free(Q); free(s); free(pw); free(ft);
+    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(ft);
     return STURDY_OK;
 }
 
@@ -168,7 +170,7 @@ sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
     sturdy_rearranger ra;
     memset(&ra, 0, sizeof ra);
     size_t n = d->n, K = u.c.K;
-    u.mem = calloc(r->nresp * d->nterms + 1, sizeof *u.mem);
+    u.mem = sturdy_calloc(r->nresp * d->nterms + 1, sizeof *u.mem);
     if (!u.mem) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
@@ -183,6 +185,7 @@ sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
                 (st = sturdy_note_once(&uv->perm_note, "no permutation p-value for the block term: "
                                "rearranging within blocks leaves it unchanged", err)))
                 goto done;
+            assert(u.M < r->nresp * d->nterms + 1);
             uv_member *mb = &u.mem[u.M++];
             mb->resp = ri;
             mb->term = t;
@@ -197,11 +200,11 @@ sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
      * note above */
     if (u.M == 0 || b1 <= b0)
         goto done;
-    u.E = malloc(n * u.M * sizeof *u.E);
-    u.Qw = malloc(K * u.M * sizeof *u.Qw);
-    uint64_t *cnt = calloc(u.M, sizeof *cnt);
+    u.E = sturdy_malloc(n * u.M * sizeof *u.E);
+    u.Qw = sturdy_malloc(K * u.M * sizeof *u.Qw);
+    uint64_t *cnt = sturdy_calloc(u.M, sizeof *cnt);
     if (!u.E || !u.Qw || !cnt) {
-        free(cnt);
+        sturdy_free(cnt);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -224,7 +227,7 @@ sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
         for (size_t j = 0; j < u.M && !st; j++)
             r->resp[u.mem[j].resp].terms[u.mem[j].term].uv.exceed_perm += cnt[j];
     }
-    free(cnt);
+    sturdy_free(cnt);
 done:
     sturdy_rearranger_free(&ra);
     uv_run_free(&u);
