@@ -253,8 +253,7 @@ def testinv_core(v, U, sse_star, ss, sse, sigma2_w, n, conf=0.95, alpha_lo=None,
     t, V = count_segments(v, U, sse_star, ss / sse)
     s_lo, s_hi = endpoints_from_segments(t, V, B, alpha_lo, alpha_hi)
     return _pack(s_lo, s_hi, float(np.dot(v, v)), sigma2_w, n, sse,
-                 {"alpha_tails": (alpha_lo, alpha_hi), "G0": V[0] / B,
-                  "G1": None})
+                 {"alpha_tails": (alpha_lo, alpha_hi), "G0": V[0] / B})
 
 
 def testinv_interval(y, X_full, Q, idx, conf=0.95, alpha_lo=None, alpha_hi=None):

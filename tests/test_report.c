@@ -270,10 +270,10 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     r->opts.conf = 0.95;
     r->opts.alpha = 0.05;
     r->design = d;
-    r->ss_type = 3;
-    r->method = STURDY_METHOD_FREEDMAN_LANE;
-    r->boot_scheme = STURDY_BOOT_RESIDUAL;
-    r->spread_scheme = STURDY_SPREAD_WILD;
+    r->opts.ss_type = 3;
+    r->opts.method = STURDY_METHOD_FREEDMAN_LANE;
+    r->opts.boot_scheme = STURDY_BOOT_RESIDUAL;
+    r->opts.spread_scheme = STURDY_SPREAD_WILD;
     r->nperm = 9999;
     r->nboot = 2000;
     r->perm_end = 9999;
@@ -485,7 +485,20 @@ static void test_text(sturdy_result *r)
 {
     sturdy_buf b;
     sturdy_buf_init(&b);
-    CHECK_INT("text status", sturdy_report_text(r, NULL, &b), STURDY_OK);
+    /* the library's own words name no command-line option */
+    CHECK_INT("text status (no setting names)", sturdy_report_text(r, NULL, &b), STURDY_OK);
+    char *plain = squash(b.data);
+    CHECK("text without setting names names no option",
+          plain && !strstr(plain, "-B") && !strstr(plain, "--") &&
+          strstr(plain, "run more rearrangements (99999)") &&
+          strstr(plain, "Run more rearrangements before deciding"));
+    free(plain);
+    sturdy_buf_free(&b);
+    sturdy_buf_init(&b);
+    sturdy_report_opts named;
+    sturdy_report_opts_init(&named);
+    named.setting_names[STURDY_SETTING_PERMUTATIONS] = "-B";
+    CHECK_INT("text status", sturdy_report_text(r, &named, &b), STURDY_OK);
     int esc;
     size_t wmax = max_line_width(b.data, &esc);
     CHECK("text: no trailing blanks", !strstr(b.data, " \n"));

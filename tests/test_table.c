@@ -475,10 +475,10 @@ static void test_bad_files(void)
         {"decimal_comma.csv", "line 5 (row 4), column 'yield': '5,3' is not a number", 1},
         {"all_missing_response.csv", "line 2 (row 1), column 'yield': the value is missing", 1},
         {"semicolon_separated.csv", "line 2 (row 1): 2 fields, but the header has 1; this "
-                                    "looks semicolon-separated: add --delimiter ';'", 0},
+                                    "looks semicolon-separated: set the delimiter to ';'", 0},
         {"below_detection.csv", "line 4 (row 3), column 'yield': '<LOD' is not a number; if "
-                                "it marks a value that was not measured, declare it missing "
-                                "with --missing '<LOD'", 1},
+                                "it marks a value that was not measured, declare '<LOD' a "
+                                "missing-value token", 1},
         {"units_in_cell.csv", "line 6 (row 5), column 'yield': '3.8 MPa' is not a number: "
                               "text follows it ('MPa'); give units in the column name", 1},
     };
@@ -514,8 +514,8 @@ static void test_bad_files(void)
         CHECK(name, st == STURDY_OK && t && t->nrows == 8);
         /* the header read as one field: the delimiter advice, and only then */
         const char *hint = st == STURDY_OK ? sturdy_table_delimiter_hint(t) : NULL;
-        const char *want = k == 3 ? "this looks tab-separated: add --delimiter tab"
-                           : k == 4 ? "this looks semicolon-separated: add --delimiter ';'"
+        const char *want = k == 3 ? "this looks tab-separated: set the delimiter to tab"
+                           : k == 4 ? "this looks semicolon-separated: set the delimiter to ';'"
                                     : NULL;
         snprintf(name, sizeof name, "bad file %s: delimiter advice \"%s\" (want \"%s\")",
                  design_level[k], hint ? hint : "none", want ? want : "none");

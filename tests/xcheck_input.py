@@ -91,8 +91,8 @@ def test_near_duplicates():
     rc, d, err = check_json(adh)
     notes = d["notes"] if d else []
     for frag in ("factor 'cure_C' has levels that are equal as numbers, yet count as "
-                 "different levels: '60' and '60.0'; if they are the same, add "
-                 "--merge-numeric-levels",
+                 "different levels: '60' and '60.0'; if they are the same, merge levels "
+                 "equal as numbers or correct the data",
                  "factor 'primer' has levels that differ only in letter case, yet count "
                  "as different levels: 'Epoxy' and 'epoxy'",
                  "factor 'primer' has levels that differ only in surrounding spaces, yet "
@@ -155,7 +155,8 @@ def test_missing_tokens():
     f = os.path.join(DATA, "missing_tokens.csv")
     m = ["check", f, "-y", "yield", "-f", "variety,dose"] + QUICK
     rc, out, err = run(m)
-    report(rc == 3 and "'n/a' is not a number" in err and "--missing 'n/a'" in err,
+    report(rc == 3 and "'n/a' is not a number" in err and
+           "declare 'n/a' a missing-value token (--missing)" in err,
            "item 9: 'n/a' without --missing → exit %d, hint at --missing: %s"
            % (rc, err.strip()[:160]))
     rc, d, err = check_json(m + ["--missing", "n/a"])

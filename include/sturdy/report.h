@@ -25,6 +25,18 @@
 #include "buf.h"
 
 
+/* Settings the text report points to when it advises, and how the caller's users set
+ * them. The library never names a command-line option by itself. */
+typedef enum {
+    STURDY_SETTING_ORDER = 0,        /* the highest interaction order */
+    STURDY_SETTING_PERMUTATIONS,     /* the number of rearrangements */
+    STURDY_SETTING_BOOTSTRAP,        /* the number of bootstrap replicates */
+    STURDY_SETTING_FACTORS,          /* the factor columns */
+    STURDY_SETTING_BLOCK,            /* the block column */
+    STURDY_SETTING_JSON,             /* asking for the JSON result */
+    STURDY_NSETTINGS
+} sturdy_setting;
+
 typedef struct {
     int color;       /* ANSI colour in the text report (CLI: stdout is a terminal and
                         NO_COLOR is unset) */
@@ -38,6 +50,9 @@ typedef struct {
                         not by '×' */
     int bom;         /* CSV: begin with a UTF-8 byte-order mark, which some spreadsheet
                         programs need to read UTF-8 */
+    const char *setting_names[STURDY_NSETTINGS]; /* text: how the caller's users set each
+                        setting (the CLI: "--order", "-B", ...), shown where the report
+                        advises a change; NULL (the default): the report says it in words */
 } sturdy_report_opts;
 
 void sturdy_report_opts_init(sturdy_report_opts *o);

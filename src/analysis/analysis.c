@@ -73,7 +73,7 @@ sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
                             : (o->shard_index < 1 || o->shard_index > o->shard_count))
         return sturdy_fail(err, STURDY_EUSAGE, "shard I of N needs 1 ≤ I ≤ N");
     if (o->model.order < 0)
-        return sturdy_fail(err, STURDY_EUSAGE, "the interaction order must be 1 or more (0: all)");
+        return sturdy_fail(err, STURDY_EUSAGE, "the interaction order must be 0 (all) or more");
     return STURDY_OK;
 }
 
@@ -136,7 +136,7 @@ static sturdy_status run_notes(sturdy_result *r, char *err)
 {
     const sturdy_design *d = r->design;
     sturdy_status st = STURDY_OK;
-    if (r->nboot && r->boot_scheme == STURDY_BOOT_CELLS && d->min_cell < STURDY_CELLS_WARN_ROWS)
+    if (r->nboot && r->opts.boot_scheme == STURDY_BOOT_CELLS && d->min_cell < STURDY_CELLS_WARN_ROWS)
         st = add_note(r, sturdy_asprintf(
             "the cells bootstrap resamples rows within cells; with only %zu rows in the "
             "smallest cell it shrinks the error variance by (n-1)/n and its intervals are "
@@ -344,10 +344,6 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
     if (!r)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     r->opts = run.opts;
-    r->ss_type = o->ss_type;
-    r->method = o->method;
-    r->spread_scheme = o->spread_scheme;
-    r->boot_scheme = run.opts.boot_scheme;
     st = analyze(t, &run, r, err);
     if (!st && o->shard_count == 0 && o->resample)
         st = sturdy_result_finish(r, err);

@@ -227,7 +227,7 @@ sturdy_status sturdy_verdict_term(const sturdy_response_result *resp, sturdy_ter
     if (t->straddles) {
         char *more = sturdy_asprintf(
             "%s%sthe Monte Carlo interval of the permutation p [%.3g, %.3g] contains alpha; "
-            "run more rearrangements (-B)", reason ? reason : "", reason ? "; " : "",
+            "run more rearrangements", reason ? reason : "", reason ? "; " : "",
             t->p_perm_ci.lo, t->p_perm_ci.hi);
         sturdy_free(reason);
         reason = more;

@@ -104,7 +104,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
     if (dfe == 0)
         st = set_note(&out->error_note,
                       "no residual degrees of freedom: the model has as many parameters as "
-                      "rows, so no F-test is possible; lower --order or add replicates",
+                      "rows, so no F-test is possible; lower the interaction order or add replicates",
                       err);
     else if (!(sse > 0))
         st = set_note(&out->error_note,

@@ -377,15 +377,16 @@ sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, ch
     if (isnan(u->wald))
         return STURDY_OK;
     if (r->nperm == 0)
-        return sturdy_note_once(&u->perm_note, "no resampling was asked for (-B 0)", err);
-    if (r->spread_scheme == STURDY_SPREAD_NONE)
+        return sturdy_note_once(&u->perm_note, "no rearrangements were asked for", err);
+    if (r->opts.spread_scheme == STURDY_SPREAD_NONE)
         return sturdy_note_once(&u->perm_note, "the statistic was not resampled (its approximate F "
-                        "is the better calibrated p; --spread-scheme asks for it)", err);
+                        "is the better calibrated p; a resampling scheme for the unequal-variance test "
+                        "asks for it)", err);
     double B = (double)r->nperm;
     /* the wild bootstrap is a random draw even when the rearrangements are enumerated */
     u->p_wild = (1.0 + (double)u->exceed_wild) / (1.0 + B);
     uint64_t k = u->exceed_wild;
-    if (r->spread_scheme == STURDY_SPREAD_PERMUTATION) {
+    if (r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION) {
         if (u->perm_note)
             return STURDY_OK;
         u->p_permuted = r->exact ? (double)u->exceed_perm / B

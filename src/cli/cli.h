@@ -95,6 +95,10 @@ int cli_usage_error(const char *command, const char *fmt, ...)
  * memory ran out. The caller frees it. hints.c. */
 char *cli_option_hints(const char *msg);
 
+/* Print "sturdy: PREFIX MESSAGE" to stderr, the library message with its options named
+ * (cli_option_hints); prefix may be NULL. hints.c. */
+void cli_print_error(const char *prefix, const char *msg);
+
 /* Strict parsers for option values: the whole text must be the number. Return 1 on
  * success. u64: decimal digits only (no sign, no blanks); double: finite. */
 int cli_parse_u64(const char *s, uint64_t *v);

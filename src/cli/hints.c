@@ -2,6 +2,7 @@
  * names a setting in plain words ("the order of levels given for factor 'x'"), as a
  * program that calls it has no options; the CLI adds the option that sets it after the
  * phrase: "the order of levels given (--levels) for factor 'x'". */
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -19,7 +20,34 @@ static const struct {
     { "the order of levels given", "--levels" },
     { "which is not a factor", "-f" },
     { "the order of terms given", "--term-order" },
+    { "the interaction order", "--order" },
+    { "the limit on coded columns", "--max-columns" },
+    { "the limit on levels per factor", "--max-levels" },
+    { "set the delimiter to tab", "--delimiter tab" },
+    { "set the delimiter to ';'", "--delimiter ';'" },
+    { "a missing-value token", "--missing" },
+    { "sums of squares of Type I or II", "--ss 1 or 2" },
+    { "the type of sums of squares", "--ss" },
+    { "the confidence level", "--conf" },
+    { "the significance level alpha", "--alpha" },
+    { "unknown resampling method", "--method" },
+    { "unknown bootstrap scheme", "--bootstrap-scheme" },
+    { "resampling scheme for the unequal-variance test", "--spread-scheme" },
+    { "the number of rearrangements", "-B" },
+    { "the number of bootstrap replicates", "--bootstrap" },
+    { "the bootstrap needs", "--bootstrap" },
+    { "shard I of N", "--shard" },
+    { "the cells bootstrap", "--bootstrap-scheme cells" },
+    { "the thread count", "--threads" },
+    { "merge levels equal as numbers", "--merge-numeric-levels" },
 };
+
+void cli_print_error(const char *prefix, const char *msg)
+{
+    char *hinted = cli_option_hints(msg);
+    fprintf(stderr, "sturdy: %s%s\n", prefix ? prefix : "", hinted ? hinted : msg);
+    free(hinted);
+}
 
 char *cli_option_hints(const char *msg)
 {

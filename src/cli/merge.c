@@ -230,7 +230,7 @@ int sturdy_cli_merge(int argc, char **argv)
         char err[STURDY_ERR_LEN] = "";
         rc = cli_check_compute(&c, &r, err);
         if (rc)
-            fprintf(stderr, "sturdy: merge: %s\n", err);
+            cli_print_error("merge: ", err);
     }
     if (!rc) {
         sturdy_run_info info;

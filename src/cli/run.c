@@ -97,6 +97,13 @@ int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
     ro.cwd = c->cwd;
     ro.ascii_terms = c->ascii_terms;
     ro.bom = c->csv_bom;
+    /* the report advises in terms of this program's options */
+    ro.setting_names[STURDY_SETTING_ORDER] = "--order";
+    ro.setting_names[STURDY_SETTING_PERMUTATIONS] = "-B";
+    ro.setting_names[STURDY_SETTING_BOOTSTRAP] = "--bootstrap";
+    ro.setting_names[STURDY_SETTING_FACTORS] = "-f";
+    ro.setting_names[STURDY_SETTING_BLOCK] = "--block";
+    ro.setting_names[STURDY_SETTING_JSON] = "--format json";
     switch (c->format) {
     case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
     case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);
@@ -176,7 +183,7 @@ int cli_check_run(cli_check *c)
     if (st) {
         if (cli_mpi_rank() == 0 || st != STURDY_EUSAGE) {
             if (st == STURDY_EUSAGE) cli_usage_error(c->command, "%s", err);
-            else fprintf(stderr, "sturdy: %s\n", err);
+            else cli_print_error(NULL, err);
         }
         return st;
     }

@@ -95,10 +95,6 @@ struct sturdy_result {
                                     DEFAULT); its string pointers refer to the design
                                     (or, read back, to `owned`) */
     sturdy_design *design;       /* owned; NULL for a result read back */
-    int ss_type;
-    sturdy_method method;
-    sturdy_boot_scheme boot_scheme;  /* resolved (never DEFAULT) */
-    sturdy_spread_scheme spread_scheme;
     int uv_hc3;                  /* the unequal-variance test uses HC3 (covariates or a
                                     block), not the cell variances */
     int exact;                   /* rearrangements were enumerated exhaustively */

@@ -182,11 +182,11 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
         }
     if (merged)
         st = warn_pairs(d, role, name, "are equal as numbers", "each pair was merged into "
-                        "one level, named by the first (--merge-numeric-levels)", pairs, np,
+                        "one level, named by the first (levels equal as numbers are merged)", pairs, np,
                         err);
     else
         st = warn_pairs(d, role, name, "are equal as numbers, yet count as different "
-                        "levels", "if they are the same, add --merge-numeric-levels or "
+                        "levels", "if they are the same, merge levels equal as numbers or "
                         "correct the data", pairs, np, err);
     /* equal after folding case and trimming blanks: adjacent once sorted by the fold */
     for (int kind = 0; kind < 2 && !st; kind++) {
@@ -399,7 +399,7 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
     if (!st && nl > max_levels)
         st = sturdy_fail(err, STURDY_EMODEL,
                          "%s: %s '%s' has %zu levels, more than the limit of %zu; is it "
-                         "really a factor? (raise the limit with --max-levels)",
+                         "really a factor? (the limit on levels per factor can be raised)",
                          t->source, role, name, nl, max_levels);
     if (!st)
         st = natural_levels(vals, nl, s->merge_numeric_levels, &nat, &ng, err);

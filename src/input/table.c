@@ -84,9 +84,9 @@ static const char *delimiter_hint(const char *name, char delim)
         semis += *p == ';';
     }
     if (tabs && tabs >= semis && delim != '\t')
-        return "this looks tab-separated: add --delimiter tab";
+        return "this looks tab-separated: set the delimiter to tab";
     if (semis && delim != ';')
-        return "this looks semicolon-separated: add --delimiter ';'";
+        return "this looks semicolon-separated: set the delimiter to ';'";
     return NULL;
 }
 

@@ -106,7 +106,7 @@ static const char *not_number_reason(const char *s, char *buf)
         tok[n] = '\0';
         sturdy_table_show(shown, tok);
         snprintf(buf, SHOW_LEN + 160, "is not a number; if it marks a value that was not "
-                 "measured, declare it missing with --missing '%s'", shown);
+                 "measured, declare '%s' a missing-value token", shown);
         return buf;
     }
     if (end > s + a && (size_t)(end - s) < b) {

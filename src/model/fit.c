@@ -268,7 +268,8 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
             tb->testable = 0;
             tb->why_not = sturdy_asprintf(
                 "not testable under Type III: %s leave '%s' only %zu of its %zu degrees "
-                "of freedom; use --ss 1 or 2, drop the highest interactions (--order)%s",
+                "of freedom; use sums of squares of Type I or II, or drop the highest "
+                "interactions (lower the interaction order)%s",
                 other, term->label, tb->df, c, empty ? " or fill the cells" : "");
         }
     }
@@ -344,8 +345,8 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
                     m->terms[t].testable = 0;
                     m->terms[t].why_not = sturdy_asprintf(
                         "not testable under Type III: its hypothesis involves the means of "
-                        "empty cells of '%s'; use --ss 1 or 2, or drop that interaction "
-                        "(--order)", d->terms[b].label);
+                        "empty cells of '%s'; use sums of squares of Type I or II, or drop that "
+                        "interaction (lower the interaction order)", d->terms[b].label);
                     if (!m->terms[t].why_not)
                         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
                     break;

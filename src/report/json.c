@@ -206,14 +206,14 @@ static void write_design(jw *w, const sturdy_design *d)
 static void write_settings(jw *w, const sturdy_result *r)
 {
     jw_open(w, "settings", '{');
-    jw_u64(w, "ss_type", (uint64_t)r->ss_type);
-    jw_str(w, "method", sturdy_method_name(r->method));
+    jw_u64(w, "ss_type", (uint64_t)r->opts.ss_type);
+    jw_str(w, "method", sturdy_method_name(r->opts.method));
     jw_bool(w, "flip", r->opts.flip);
     jw_u64(w, "permutations", r->nperm);
     jw_bool(w, "exact", r->exact);
     jw_u64(w, "bootstrap", r->nboot);
-    jw_str(w, "bootstrap_scheme", sturdy_boot_scheme_name(r->boot_scheme));
-    jw_str(w, "spread_scheme", sturdy_spread_scheme_name(r->spread_scheme));
+    jw_str(w, "bootstrap_scheme", sturdy_boot_scheme_name(r->opts.boot_scheme));
+    jw_str(w, "spread_scheme", sturdy_spread_scheme_name(r->opts.spread_scheme));
     jw_u64(w, "seed", r->opts.seed);
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
@@ -250,12 +250,12 @@ static void write_uv(jw *w, const sturdy_result *r, const sturdy_uv_result *u)
     jw_num(w, "p", u->p);
     jw_str(w, "reference", isnan(u->wald) ? NULL : u->johansen ? "johansen" : "residual-df");
     jw_str(w, "covariance", r->uv_hc3 ? "HC3" : "cell-variances");
-    jw_str(w, "scheme", sturdy_spread_scheme_name(r->spread_scheme));
+    jw_str(w, "scheme", sturdy_spread_scheme_name(r->opts.spread_scheme));
     int has = !isnan(u->p_perm);
     jw_num(w, "p_perm", u->p_perm);
     jw_pair(w, "p_perm_ci", u->p_perm_ci);
     if (has)
-        jw_u64(w, "exceed", r->spread_scheme == STURDY_SPREAD_PERMUTATION ? u->exceed_perm
+        jw_u64(w, "exceed", r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION ? u->exceed_perm
                                                                           : u->exceed_wild);
     else
         jw_null(w, "exceed");

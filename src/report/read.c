@@ -198,10 +198,10 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
     sturdy_free(method); sturdy_free(scheme); sturdy_free(spread);
     if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
         return "settings";
-    o->ss_type = r->ss_type = (int)ss;
-    o->method = r->method = (sturdy_method)m;
-    o->boot_scheme = r->boot_scheme = (sturdy_boot_scheme)b;
-    o->spread_scheme = r->spread_scheme = (sturdy_spread_scheme)sp;
+    o->ss_type = (int)ss;
+    o->method = (sturdy_method)m;
+    o->boot_scheme = (sturdy_boot_scheme)b;
+    o->spread_scheme = (sturdy_spread_scheme)sp;
     o->permutations = r->nperm;
     o->bootstrap = r->nboot;
     sturdy_model_spec *spec = &o->model;

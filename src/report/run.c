@@ -39,15 +39,18 @@ int tw_untested_cause(tw *w)
     for (size_t i = 0; i < r->nresp; i++) no_df |= r->resp[i].df_error == 0;
     if (no_df && d && d->max_cell == 1 && d->ncov == 0) {
         const char *rep = replicate_like(d);
+        const char *f = tw_name(w, STURDY_SETTING_FACTORS);
+        const char *b = tw_name(w, STURDY_SETTING_BLOCK), *o = tw_name(w, STURDY_SETTING_ORDER);
         if (rep)
             tw_paraf(w, 2, 2, "Every cell holds a single row. If '%s' numbers the replicates "
-                     "or runs, it is not a factor of the experiment: leave it out of -f (or "
-                     "give it as --block if it groups runs), and the rows it told apart "
-                     "become the replicates.", rep);
+                     "or runs, it is not a factor of the experiment: leave it out of %s (or "
+                     "give it as %s if it groups runs), and the rows it told apart "
+                     "become the replicates.", rep, f ? f : "the factors", b ? b : "the block");
         else
-            tw_para(w, 2, 2, "Every cell holds a single row, so nothing is left to estimate "
-                    "the error from. If one of the -f columns numbers replicates or runs, "
-                    "leave it out; otherwise lower --order.");
+            tw_paraf(w, 2, 2, "Every cell holds a single row, so nothing is left to estimate "
+                     "the error from. If one of the %s columns numbers replicates or runs, "
+                     "leave it out; otherwise lower %s.", f ? f : "factor",
+                     o ? o : "the interaction order");
     }
     tw_para(w, 2, 2, "No F-test, resampling test, interval or residual check below can be "
                      "computed for this reason; the footnotes repeat it where it applies.");
@@ -89,12 +92,14 @@ static void model_line(tw *w, const sturdy_design *d, sturdy_buf *s)
                                             "Type III (each term adjusted for all others)" };
     s->len = 0;
     sturdy_buf_printf(s, "sums of squares of %s",
-                      r->ss_type >= 1 && r->ss_type <= 3 ? ss_words[r->ss_type] : "?");
+                      r->opts.ss_type >= 1 && r->opts.ss_type <= 3 ? ss_words[r->opts.ss_type] : "?");
+    const char *o = tw_name(w, STURDY_SETTING_ORDER);
     if (r->opts.model.order == 1)
-        sturdy_buf_puts(s, "; main effects only (--order 1)");
+        sturdy_buf_printf(s, "; main effects only (%s 1)", o ? o : "interaction order");
     else if (r->opts.model.order > 1 && d && (size_t)r->opts.model.order < d->nfactors)
         sturdy_buf_printf(s, "; main effects and interactions of up to %d factors "
-                          "(--order %d)", r->opts.model.order, r->opts.model.order);
+                          "(%s %d)", r->opts.model.order, o ? o : "interaction order",
+                          r->opts.model.order);
     tw_labelled(w, "model", s->data);
 }
 
@@ -105,13 +110,15 @@ static void resampling_line(tw *w, const sturdy_design *d, sturdy_buf *s)
     for (size_t i = 0; i < r->nresp; i++) no_df |= r->resp[i].df_error == 0;
     s->len = 0;
     if (r->nperm == 0) {
-        sturdy_buf_puts(s, "none (-B 0)");
+        const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
+        if (perm) sturdy_buf_printf(s, "none (%s 0)", perm);
+        else sturdy_buf_puts(s, "none (no rearrangements were asked for)");
     } else if (no_df && sturdy_result_tested_terms(r) == 0) {
         sturdy_buf_printf(s, "none: with no residual degrees of freedom there is no F to "
                           "rearrange (%llu rearrangements were asked for)",
                           (unsigned long long)r->nperm);
     } else {
-        sturdy_buf_printf(s, "%s %s, %llu %s", sturdy_method_description(r->method),
+        sturdy_buf_printf(s, "%s %s, %llu %s", sturdy_method_description(r->opts.method),
                           r->opts.flip ? "sign-flipping" : "permutation",
                           (unsigned long long)r->nperm,
                           r->exact ? "rearrangements, all there are (exact)"
@@ -136,11 +143,11 @@ static void unequal_line(tw *w, sturdy_buf *s)
     sturdy_buf_printf(s, "p from %s; it holds α when cell variances differ, where F and "
                       "its rearrangements do not", r->uv_hc3 ? "F(df, residual df)"
                                                              : "Johansen's approximate F");
-    if (r->nperm > 0 && r->spread_scheme != STURDY_SPREAD_NONE)
+    if (r->nperm > 0 && r->opts.spread_scheme != STURDY_SPREAD_NONE)
         sturdy_buf_printf(s, ". Under each term also its %s p (%s), which runs liberal in "
-                          "cells of 3 rows", r->spread_scheme == STURDY_SPREAD_PERMUTATION
+                          "cells of 3 rows", r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION
                                                  ? "permuted" : "wild-bootstrap",
-                          r->spread_scheme == STURDY_SPREAD_PERMUTATION
+                          r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION
                               ? "Pauly, Brunner & Konietschke 2015"
                               : "Davidson & Flachaire 2008");
     tw_labelled(w, "unequal var", s->data);
@@ -152,7 +159,11 @@ static void bootstrap_line(tw *w, sturdy_buf *s)
     char c[32];
     tw_fmt_g(r->opts.conf * 100, 4, c);
     s->len = 0;
-    if (r->nboot == 0 && r->opts.bootstrap == 0) sturdy_buf_puts(s, "none (--bootstrap 0)");
+    const char *boot = tw_name(w, STURDY_SETTING_BOOTSTRAP);
+    if (r->nboot == 0 && r->opts.bootstrap == 0 && boot)
+        sturdy_buf_printf(s, "none (%s 0)", boot);
+    else if (r->nboot == 0 && r->opts.bootstrap == 0)
+        sturdy_buf_puts(s, "none (no replicates were asked for)");
     else if (r->nboot == 0)
         sturdy_buf_printf(s, "none: with no residual degrees of freedom there are no "
                           "residuals to resample (%llu replicates were asked for)",
@@ -160,7 +171,7 @@ static void bootstrap_line(tw *w, sturdy_buf *s)
     else
         sturdy_buf_printf(s, "%llu replicates, %s scheme; %s%% intervals",
                           (unsigned long long)r->nboot,
-                          sturdy_boot_scheme_description(r->boot_scheme), c);
+                          sturdy_boot_scheme_description(r->opts.boot_scheme), c);
     tw_labelled(w, "bootstrap", s->data);
 }
 

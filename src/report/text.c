@@ -61,19 +61,21 @@ static void verdict_words(const sturdy_term_result *t, const char **words, int *
 }
 
 /* Why the resampling numbers of a term are absent. */
-static const char *perm_reason(const sturdy_result *r, const sturdy_term_result *t)
+static const char *perm_reason(const tw *w, const sturdy_term_result *t)
 {
+    const sturdy_result *r = w->r;
     if (t->perm_note) return t->perm_note;
-    if (r->nperm == 0) return "no rearrangements were asked for (-B 0)";
+    if (r->nperm == 0) return w->no_perm;
     if (!r->finished) return "this is one shard of a split run; 'sturdy merge' completes it";
     return "not computed";
 }
 
-static const char *boot_reason(const sturdy_result *r, const sturdy_term_result *t)
+static const char *boot_reason(const tw *w, const sturdy_term_result *t)
 {
+    const sturdy_result *r = w->r;
     if (t->boot_note) return t->boot_note;
     if (r->nboot == 0 && r->opts.bootstrap == 0)
-        return "no bootstrap was asked for (--bootstrap 0)";
+        return w->no_boot;
     if (r->nboot == 0) return "no residual degrees of freedom: there are no residuals to "
                               "resample";
     if (!r->finished) return "this is one shard of a split run; 'sturdy merge' completes it";
@@ -81,10 +83,10 @@ static const char *boot_reason(const sturdy_result *r, const sturdy_term_result 
 }
 
 /* Why the verdict of a term is absent. */
-static const char *verdict_reason_absent(const sturdy_result *r, const sturdy_term_result *t)
+static const char *verdict_reason_absent(const tw *w, const sturdy_term_result *t)
 {
     if (isnan(t->p)) return t->note ? t->note : "the F-test could not be computed";
-    if (isnan(t->p_perm)) return perm_reason(r, t);
+    if (isnan(t->p_perm)) return perm_reason(w, t);
     return t->verdict_reason ? t->verdict_reason : "not decided";
 }
 
@@ -242,8 +244,14 @@ static void agreement_lines(tw *w, const agreement *ag, const char *a)
         tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
                          "and verdicts appear once 'sturdy merge' has combined all shards.");
     } else if (r->nperm == 0) {
-        tw_para(w, 2, 2, "No resampling test was run (-B 0), so only the F-tests are shown. "
-                         "Rerun with -B 9999 to check them.");
+        const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
+        if (perm)
+            tw_paraf(w, 2, 2, "No resampling test was run (%s 0), so only the F-tests are "
+                     "shown. Rerun with %s 9999 to check them.", perm, perm);
+        else
+            tw_para(w, 2, 2, "No resampling test was run (no rearrangements were asked "
+                    "for), so only the F-tests are shown. Rerun with 9999 rearrangements to "
+                    "check them.");
     } else if (ag->avail == 0) {
         tw_para(w, 2, 2, "No term could be compared between the F-test and resampling; the "
                          "footnotes below say why.");
@@ -277,11 +285,19 @@ static void close_call_lines(tw *w, const char *a)
             tw_fmt_p(t->p_perm, p);
             tw_fmt_pr(t->p_perm_ci.lo, lo);
             tw_fmt_pr(t->p_perm_ci.hi, hi);
-            tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": the resampled p, %s (99%% range %s–%s), is "
-                     "too close to α" NBSP "=" NBSP "%s to call; run more rearrangements (-B"
-                     NBSP "%llu).", TERM_NAME_ARGS(w, &r->resp[i], t), p, lo, hi,
-                     a, (unsigned long long)(r->nperm >= UINT64_MAX / 10 - 10
-                                             ? r->nperm : (r->nperm + 1) * 10 - 1));
+            const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
+            unsigned long long more = r->nperm >= UINT64_MAX / 10 - 10
+                                          ? r->nperm : (r->nperm + 1) * 10 - 1;
+            if (perm)
+                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": the resampled p, %s (99%% range "
+                         "%s–%s), is too close to α" NBSP "=" NBSP "%s to call; run more "
+                         "rearrangements (%s" NBSP "%llu).", TERM_NAME_ARGS(w, &r->resp[i], t),
+                         p, lo, hi, a, perm, more);
+            else
+                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": the resampled p, %s (99%% range "
+                         "%s–%s), is too close to α" NBSP "=" NBSP "%s to call; run more "
+                         "rearrangements (%llu).", TERM_NAME_ARGS(w, &r->resp[i], t), p, lo,
+                         hi, a, more);
         }
 }
 
@@ -368,10 +384,10 @@ static void uv_details(tw *w, const sturdy_term_result *t)
         p_words(&s, u->ats_p);
     }
     if (!isnan(u->p_perm)) {
-        sturdy_buf_printf(&s, "; %s ", w->r->spread_scheme == STURDY_SPREAD_PERMUTATION
+        sturdy_buf_printf(&s, "; %s ", w->r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION
                                            ? "permuted" : "wild-bootstrap");
         p_words(&s, u->p_perm);
-        if (!(w->r->exact && w->r->spread_scheme == STURDY_SPREAD_PERMUTATION)) {
+        if (!(w->r->exact && w->r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION)) {
             tw_fmt_range(u->p_perm_ci, tw_fmt_pr, x);
             sturdy_buf_printf(&s, " (99%% range %s)", x);
         }
@@ -410,7 +426,7 @@ static void term_details(tw *w, const sturdy_term_result *t)
         tw_fmt_range(t->ci_bca[STURDY_ES_PARTIAL_ETA2], tw_fmt_es, bca);
         if (isnan(t->ci_bca[STURDY_ES_PARTIAL_ETA2].lo))
             snprintf(bca + strlen(bca), sizeof bca - strlen(bca), " [%zu]",
-                     tw_footnote(w, boot_reason(r, t)));
+                     tw_footnote(w, boot_reason(w, t)));
         tw_fmt_range(t->ncf, tw_fmt_es, ncf);
         snprintf(s, sizeof s, "partial η² %s: %s%% BCa %s, noncentral F %s", x, c, bca, ncf);
         tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s);
@@ -451,7 +467,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         int dis;
         verdict_words(t, &words, &dis);
         if (t->verdict == STURDY_VERDICT_NONE)
-            snprintf(v, sizeof v, "n/a [%zu]", tw_footnote(w, verdict_reason_absent(w->r, t)));
+            snprintf(v, sizeof v, "n/a [%zu]", tw_footnote(w, verdict_reason_absent(w, t)));
         else
             snprintf(v, sizeof v, "%s", words);
         tw_fmt_df(t->df, df);
@@ -514,7 +530,7 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
             tw_fmt_range(t->ci_bca[e], tw_fmt_es, x);
             if (isnan(t->ci_bca[e].lo) && !isnan(t->es[e]))
                 snprintf(x + strlen(x), sizeof x - strlen(x), " [%zu]",
-                         tw_footnote(w, boot_reason(w->r, t)));
+                         tw_footnote(w, boot_reason(w, t)));
             tw_put(w, "  ");
             tw_cell(w, x, W_ES, 1);
         }
@@ -685,9 +701,11 @@ static void checks(tw *w, const sturdy_response_result *rr)
     for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)
         if (rr->terms[k].straddles && !isnan(rr->terms[k].p_perm))
             sturdy_buf_printf(&s, "%s%s", s.len ? ", " : "", rr->terms[k].label);
+    const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
     if (s.len)
         tw_labelledf(w, "precision", "the 99%% range of the resampled p of %s contains α. → "
-                     "Run more rearrangements (-B) before deciding.", s.data);
+                     "Run more rearrangements%s%s%s before deciding.", s.data,
+                     perm ? " (" : "", perm ? perm : "", perm ? ")" : "");
     const sturdy_design *d = r->design;
     if (d && d->min_cell < SMALL_CELL)
         tw_labelledf(w, "cell sizes", "the smallest cell has %zu row%s. → Such small cells "

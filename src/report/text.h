@@ -22,7 +22,12 @@ typedef struct {
     size_t col;                /* display column of the line being written */
     size_t nfn;
     const char *fn[TW_MAX_FOOTNOTES];
+    const char *const *names;  /* the caller's names of settings (report.h), entries NULL */
+    char no_perm[96], no_boot[96], json_more[96]; /* reasons that name a setting */
 } tw;
+
+/* The caller's name of setting k, or NULL (the report then says it in words). */
+const char *tw_name(const tw *w, sturdy_setting k);
 
 void tw_init(tw *w, const sturdy_result *r, const sturdy_report_opts *o, sturdy_buf *out);
 

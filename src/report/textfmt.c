@@ -16,6 +16,21 @@ void tw_init(tw *w, const sturdy_result *r, const sturdy_report_opts *o, sturdy_
     w->r = r;
     w->width = o->width < TW_MIN_WIDTH ? TW_MIN_WIDTH : o->width;
     w->color = o->color;
+    w->names = o->setting_names;
+    const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
+    const char *boot = tw_name(w, STURDY_SETTING_BOOTSTRAP);
+    const char *json = tw_name(w, STURDY_SETTING_JSON);
+    snprintf(w->no_perm, sizeof w->no_perm, "no rearrangements were asked for%s%s%s",
+             perm ? " (" : "", perm ? perm : "", perm ? " 0)" : "");
+    snprintf(w->no_boot, sizeof w->no_boot, "no bootstrap was asked for%s%s%s",
+             boot ? " (" : "", boot ? boot : "", boot ? " 0)" : "");
+    snprintf(w->json_more, sizeof w->json_more, "further reasons are in the JSON output%s%s%s",
+             json ? " (" : "", json ? json : "", json ? ")" : "");
+}
+
+const char *tw_name(const tw *w, sturdy_setting k)
+{
+    return w->names && k >= 0 && k < STURDY_NSETTINGS ? w->names[k] : NULL;
 }
 
 /* One display unit of text at s: writes its output bytes into out (≤ 4) and returns how
@@ -208,7 +223,7 @@ size_t tw_footnote(tw *w, const char *reason)
     for (size_t i = 0; i < w->nfn; i++)
         if (strcmp(w->fn[i], reason) == 0) return i + 1;
     if (w->nfn == TW_MAX_FOOTNOTES - 1) {
-        w->fn[w->nfn++] = "further reasons are in the JSON output (--format json)";
+        w->fn[w->nfn++] = w->json_more;
     }
     if (w->nfn == TW_MAX_FOOTNOTES) return TW_MAX_FOOTNOTES;
     w->fn[w->nfn++] = reason;
