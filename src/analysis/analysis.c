@@ -52,23 +52,29 @@ int sturdy_context_threads(const sturdy_context *c)
 sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
 {
     if (o->ss_type < 1 || o->ss_type > 3)
-        return sturdy_fail(err, STURDY_EUSAGE, "the type of sums of squares must be 1, 2 or 3 (got %d)", o->ss_type);
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the type of sums of squares must be 1, 2 or 3 (got %d)", o->ss_type);
     if (!(o->conf > 0 && o->conf < 1))
-        return sturdy_fail(err, STURDY_EUSAGE, "the confidence level must lie strictly between 0 and 1");
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the confidence level must lie strictly between 0 and 1");
     if (!(o->alpha > 0 && o->alpha < 1))
-        return sturdy_fail(err, STURDY_EUSAGE, "the significance level alpha must lie strictly between 0 and 1");
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the significance level alpha must lie strictly between 0 and 1");
     if (o->method < STURDY_METHOD_FREEDMAN_LANE || o->method > STURDY_METHOD_RAW)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown resampling method");
     if (o->boot_scheme < STURDY_BOOT_DEFAULT || o->boot_scheme > STURDY_BOOT_CELLS)
         return sturdy_fail(err, STURDY_EUSAGE, "unknown bootstrap scheme");
     if (o->spread_scheme < STURDY_SPREAD_NONE || o->spread_scheme > STURDY_SPREAD_PERMUTATION)
-        return sturdy_fail(err, STURDY_EUSAGE, "unknown resampling scheme for the unequal-variance test");
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "unknown resampling scheme for the unequal-variance test");
     if (o->permutations > (uint64_t)1 << 40)
         return sturdy_fail(err, STURDY_EUSAGE, "the number of rearrangements is larger than 2^40");
     if (o->bootstrap > (uint64_t)1 << 28)
-        return sturdy_fail(err, STURDY_EUSAGE, "the number of bootstrap replicates is larger than 2^28");
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the number of bootstrap replicates is larger than 2^28");
     if (o->bootstrap == 1)
-        return sturdy_fail(err, STURDY_EUSAGE, "the bootstrap needs at least 2 replicates (or 0 for none)");
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "the bootstrap needs at least 2 replicates (or 0 for none)");
     if (o->shard_count == 0 ? o->shard_index != 0
                             : (o->shard_index < 1 || o->shard_index > o->shard_count))
         return sturdy_fail(err, STURDY_EUSAGE, "shard I of N needs 1 ≤ I ≤ N");
@@ -136,7 +142,8 @@ static sturdy_status run_notes(sturdy_result *r, char *err)
 {
     const sturdy_design *d = r->design;
     sturdy_status st = STURDY_OK;
-    if (r->nboot && r->opts.boot_scheme == STURDY_BOOT_CELLS && d->min_cell < STURDY_CELLS_WARN_ROWS)
+    if (r->nboot && r->opts.boot_scheme == STURDY_BOOT_CELLS &&
+        d->min_cell < STURDY_CELLS_WARN_ROWS)
         st = add_note(r, sturdy_asprintf(
             "the cells bootstrap resamples rows within cells; with only %zu rows in the "
             "smallest cell it shrinks the error variance by (n-1)/n and its intervals are "

@@ -61,33 +61,21 @@ static sturdy_status set_note(char **slot, const char *text, char *err)
     return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
 
-sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *m, size_t r,
-                                    double conf, int threads, sturdy_response_result *out,
-                                    char *err)
+/* The full model's fit of y: fitted values and residuals (out), the error and total rows
+ * and the error row's note. s: K group sums (filled); work: rank + K scratch. */
+static sturdy_status fit_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                  double *s, double *work, sturdy_response_result *out,
+                                  char *err)
 {
-    size_t n = d->n, K = m->K;
-    assert(r < d->nresp && K == d->ngroups && m->nterms == d->nterms && threads >= 1);
+    size_t n = d->n;
     const double *y = d->y + r * n;
-    sturdy_status st;
-    out->name = sturdy_strdup(d->resp_names[r]);
-    out->nterms = d->nterms;
-    out->terms = sturdy_calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
-    out->fitted = sturdy_malloc(n * sizeof *out->fitted);
-    out->residual = sturdy_malloc(n * sizeof *out->residual);
-    double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((m->rank + K) * sizeof *work);
-    if (!out->name || !out->terms || !out->fitted || !out->residual || !s || !work) {
-        sturdy_free(s); sturdy_free(work);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
     double mean;
     double sst = sturdy_centred_ss(y, n, &mean);
-    if (!(sst > 0)) {
-        sturdy_free(s); sturdy_free(work);
+    if (!(sst > 0))
         return sturdy_fail(err, STURDY_EMODEL,
                            "%s: response '%s' is constant in the rows used (every value is "
                            "the same), so there is no variation to analyse",
                            d->source, d->resp_names[r]);
-    }
     sturdy_model_group_scaled(d, m, y, s);
     sturdy_model_project(d, m, m->U, m->rank, s, work, out->fitted);
     double sse = 0.0;
@@ -102,82 +90,84 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
     out->df_total = (double)(n - 1);
     out->ss_total = sst;
     if (dfe == 0)
-        st = set_note(&out->error_note,
-                      "no residual degrees of freedom: the model has as many parameters as "
-                      "rows, so no F-test is possible; lower the interaction order or add replicates",
-                      err);
-    else if (!(sse > 0))
-        st = set_note(&out->error_note,
-                      "the residuals are all zero (the model fits exactly), so F is "
-                      "undefined", err);
-    else
-        st = STURDY_OK;
-    if (st) {
-        sturdy_free(s); sturdy_free(work);
-        return st;
-    }
-    int f_ok = dfe > 0 && sse > 0;
+        return set_note(&out->error_note,
+                        "no residual degrees of freedom: the model has as many parameters "
+                        "as rows, so no F-test is possible; lower the interaction order or "
+                        "add replicates", err);
+    if (!(sse > 0))
+        return set_note(&out->error_note,
+                        "the residuals are all zero (the model fits exactly), so F is "
+                        "undefined", err);
+    return STURDY_OK;
+}
 
-    for (size_t t = 0; t < d->nterms; t++) {
-        sturdy_term_result *tr = &out->terms[t];
-        const sturdy_term_basis *tb = &m->terms[t];
-        const sturdy_term *term = &d->terms[t];
-        tr->label = sturdy_strdup(term->label);
-        tr->kind = term->kind;
-        tr->nfactors = term->kind == STURDY_TERM_FACTORS ? term->order : 1;
-        tr->factors = sturdy_calloc(tr->nfactors, sizeof *tr->factors);
-        if (!tr->label || !tr->factors) {
-            sturdy_free(s); sturdy_free(work);
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        }
-        if (term->kind == STURDY_TERM_FACTORS) {
-            size_t k = 0;
-            for (size_t f = 0; f < d->nfactors; f++)
-                if (term->mask & (1u << f))
-                    tr->factors[k++] = sturdy_strdup(d->factors[f].name);
-        } else {
-            tr->factors[0] = sturdy_strdup(term->label);
-        }
-        for (size_t f = 0; f < tr->nfactors; f++)
-            if (!tr->factors[f]) {
-                sturdy_free(s); sturdy_free(work);
-                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            }
-        tr->df = (double)tb->df;
-        tr->ss = tb->df ? sturdy_proj_norm2(tb->Uterm, K, tb->df, s) : 0.0;
-        tr->ms = tb->df ? tr->ss / tr->df : NAN;
-        tr->f = tr->p = NAN;
-        tr->ncf.lo = tr->ncf.hi = NAN;
-        for (int e = 0; e < STURDY_NES; e++)
-            tr->es[e] = NAN;
-        tr->p_perm = tr->p_perm_fwer = tr->p_perm_holm = NAN;
-        tr->p_perm_ci.lo = tr->p_perm_ci.hi = NAN;
-        for (int e = 0; e < STURDY_NES; e++)
-            tr->ci_pct[e].lo = tr->ci_pct[e].hi = tr->ci_bca[e].lo = tr->ci_bca[e].hi = NAN;
-        if (!tb->testable) {
-            tr->ss = tr->ms = NAN;
-            if ((st = set_note(&tr->note, tb->why_not, err))) {
-                sturdy_free(s); sturdy_free(work);
-                return st;
-            }
-            continue;
-        }
-        sturdy_effect_sizes(tr->ss, tr->df, sse, dfe, sst, (double)n, tr->es);
-        if (!f_ok) {
-            if ((st = set_note(&tr->note, out->error_note, err))) {
-                sturdy_free(s); sturdy_free(work);
-                return st;
-            }
-            continue;
-        }
-        tr->f = tr->ms / out->ms_error;
-        tr->p = sturdy_f_sf(tr->f, tr->df, dfe);
+/* A term's label, kind and factor names; every later number NaN until computed. */
+static sturdy_status term_identity(const sturdy_design *d, size_t t, sturdy_term_result *tr,
+                                   char *err)
+{
+    const sturdy_term *term = &d->terms[t];
+    tr->label = sturdy_strdup(term->label);
+    tr->kind = term->kind;
+    tr->nfactors = term->kind == STURDY_TERM_FACTORS ? term->order : 1;
+    tr->factors = sturdy_calloc(tr->nfactors, sizeof *tr->factors);
+    if (!tr->label || !tr->factors)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (term->kind == STURDY_TERM_FACTORS) {
+        size_t k = 0;
+        for (size_t f = 0; f < d->nfactors; f++)
+            if (term->mask & (1u << f))
+                tr->factors[k++] = sturdy_strdup(d->factors[f].name);
+    } else {
+        tr->factors[0] = sturdy_strdup(term->label);
     }
-    /* Steiger (2004): an interval for the noncentrality λ = N·f² inverted from the
-     * noncentral F; partial η² = f²/(1+f²) = λ/(λ + N) with N the rows used (in a
-     * one-way design N = df1 + df2 + 1, the form often quoted). Each term's root search
-     * is independent and costs many noncentral-F evaluations: one thread per term. */
+    for (size_t f = 0; f < tr->nfactors; f++)
+        if (!tr->factors[f])
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    tr->f = tr->p = NAN;
+    tr->ncf.lo = tr->ncf.hi = NAN;
+    for (int e = 0; e < STURDY_NES; e++)
+        tr->es[e] = NAN;
+    tr->p_perm = tr->p_perm_fwer = tr->p_perm_holm = NAN;
+    tr->p_perm_ci.lo = tr->p_perm_ci.hi = NAN;
+    for (int e = 0; e < STURDY_NES; e++)
+        tr->ci_pct[e].lo = tr->ci_pct[e].hi = tr->ci_bca[e].lo = tr->ci_bca[e].hi = NAN;
+    return STURDY_OK;
+}
+
+/* Term t's row of the table: SS, MS, effect sizes, F and p, or the note saying why not. */
+static sturdy_status term_row(const sturdy_design *d, const sturdy_model *m, size_t t,
+                              const double *s, sturdy_response_result *out, char *err)
+{
+    sturdy_term_result *tr = &out->terms[t];
+    const sturdy_term_basis *tb = &m->terms[t];
+    sturdy_status st = term_identity(d, t, tr, err);
+    if (st)
+        return st;
+    tr->df = (double)tb->df;
+    tr->ss = tb->df ? sturdy_proj_norm2(tb->Uterm, m->K, tb->df, s) : 0.0;
+    tr->ms = tb->df ? tr->ss / tr->df : NAN;
+    if (!tb->testable) {
+        tr->ss = tr->ms = NAN;
+        return set_note(&tr->note, tb->why_not, err);
+    }
+    double dfe = out->df_error, sse = out->ss_error;
+    sturdy_effect_sizes(tr->ss, tr->df, sse, dfe, out->ss_total, (double)d->n, tr->es);
+    if (!(dfe > 0 && sse > 0))
+        return set_note(&tr->note, out->error_note, err);
+    tr->f = tr->ms / out->ms_error;
+    tr->p = sturdy_f_sf(tr->f, tr->df, dfe);
+    return STURDY_OK;
+}
+
+/* Steiger (2004): an interval for the noncentrality λ = N·f² inverted from the noncentral
+ * F; partial η² = f²/(1+f²) = λ/(λ + N) with N the rows used (in a one-way design
+ * N = df1 + df2 + 1, the form often quoted). Each term's root search is independent and
+ * costs many noncentral-F evaluations: one thread per term. */
+static void ncf_intervals(const sturdy_design *d, double conf, int threads,
+                          sturdy_response_result *out)
+{
     int64_t nterms = (int64_t)d->nterms;
+    double dfe = out->df_error, n = (double)d->n;
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
     for (int64_t t = 0; t < nterms; t++) {
         sturdy_term_result *tr = &out->terms[t];
@@ -186,13 +176,37 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
             continue;
         if (sturdy_ncf_eta2_interval(tr->f, tr->df, dfe, conf, &eta_lo, &eta_hi, &lam_lo,
                                      &lam_hi) == STURDY_OK) {
-            tr->ncf.lo = lam_lo / (lam_lo + (double)n);
-            tr->ncf.hi = lam_hi / (lam_hi + (double)n);
+            tr->ncf.lo = lam_lo / (lam_lo + n);
+            tr->ncf.hi = lam_hi / (lam_hi + n);
         }
     }
+}
+
+sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                    double conf, int threads, sturdy_response_result *out,
+                                    char *err)
+{
+    size_t n = d->n, K = m->K;
+    assert(r < d->nresp && K == d->ngroups && m->nterms == d->nterms && threads >= 1);
+    out->name = sturdy_strdup(d->resp_names[r]);
+    out->nterms = d->nterms;
+    out->terms = sturdy_calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
+    out->fitted = sturdy_malloc(n * sizeof *out->fitted);
+    out->residual = sturdy_malloc(n * sizeof *out->residual);
+    double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((m->rank + K) * sizeof *work);
+    sturdy_status st = STURDY_OK;
+    if (!out->name || !out->terms || !out->fitted || !out->residual || !s || !work)
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (!st)
+        st = fit_response(d, m, r, s, work, out, err);
+    for (size_t t = 0; t < d->nterms && !st; t++)
+        st = term_row(d, m, t, s, out, err);
     sturdy_free(s);
     sturdy_free(work);
+    if (st)
+        return st;
+    ncf_intervals(d, conf, threads, out);
     for (size_t i = 0; i < n; i++)
         out->fitted[i] += d->y_ref[r];
-    return cell_summaries(d, y, d->y_ref[r], out, err);
+    return cell_summaries(d, d->y + r * n, d->y_ref[r], out, err);
 }

@@ -330,9 +330,12 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
     for (size_t t = 0; t < out->nterms; t++)
         if (m->terms[t].df > maxdf)
             maxdf = m->terms[t].df;
-    double *v = sturdy_malloc(n * sizeof *v), *A = sturdy_malloc(K * sizeof *A), *Q = sturdy_malloc(K * sizeof *Q);
+    double *v = sturdy_malloc(n * sizeof *v);
+    double *A = sturdy_malloc(K * sizeof *A);
+    double *Q = sturdy_malloc(K * sizeof *Q);
     double *s = sturdy_malloc(K * sizeof *s), *pw = sturdy_malloc((m->rank + K) * sizeof *pw);
-    double *work = sturdy_malloc(uv_wald_work(&c, maxdf) * sizeof *work), *ft = sturdy_malloc(n * sizeof *ft);
+    double *work = sturdy_malloc(uv_wald_work(&c, maxdf) * sizeof *work);
+    double *ft = sturdy_malloc(n * sizeof *ft);
     if (!v || !A || !Q || !s || !pw || !work || !ft) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
@@ -366,7 +369,8 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
         }
     }
 done:
-    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(work); sturdy_free(ft);
+    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw);
+    sturdy_free(work); sturdy_free(ft);
     uv_ctx_free(&c);
     return st;
 }
@@ -380,8 +384,8 @@ sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, ch
         return sturdy_note_once(&u->perm_note, "no rearrangements were asked for", err);
     if (r->opts.spread_scheme == STURDY_SPREAD_NONE)
         return sturdy_note_once(&u->perm_note, "the statistic was not resampled (its approximate F "
-                        "is the better calibrated p; a resampling scheme for the unequal-variance test "
-                        "asks for it)", err);
+                        "is the better calibrated p; a resampling scheme for the "
+                        "unequal-variance test asks for it)", err);
     double B = (double)r->nperm;
     /* the wild bootstrap is a random draw even when the rearrangements are enumerated */
     u->p_wild = (1.0 + (double)u->exceed_wild) / (1.0 + B);

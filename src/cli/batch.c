@@ -149,7 +149,9 @@ static int plan_error(const batch *b, size_t line, long col, const char *fmt, ..
 {
     va_list ap;
     fprintf(stderr, "sturdy: %s: line %zu", b->plan_path, line);
-    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, sturdy_table_column(b->plan, (size_t)col));
+    if (col >= 0)
+        fprintf(stderr, ", column %ld ('%s')", col + 1,
+                sturdy_table_column(b->plan, (size_t)col));
     fputs(": ", stderr);
     va_start(ap, fmt);
     vfprintf(stderr, fmt, ap);

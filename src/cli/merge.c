@@ -115,7 +115,15 @@ static int setup_check(const part *p, cli_check *c)
     return 0;
 }
 
-int sturdy_cli_merge(int argc, char **argv)
+typedef struct {
+    const char *out_path, *data;
+    cli_format format;
+    uint64_t threads;
+    int quiet;
+} merge_args;
+
+/* The options; 0 and optind at the first part, CLI_DONE after --help, or an exit status. */
+static int parse_args(int argc, char **argv, merge_args *m)
 {
     static const struct option opts[] = {
         { "output", required_argument, NULL, 'o' },
@@ -126,27 +134,25 @@ int sturdy_cli_merge(int argc, char **argv)
         { "help", no_argument, NULL, 'h' },
         { NULL, 0, NULL, 0 }
     };
-    const char *out_path = NULL, *data = NULL;
-    cli_format format = CLI_FMT_TEXT;
-    int format_given = 0;
-    uint64_t threads = 0;
-    int quiet = 0, opt;
+    int format_given = 0, opt;
+    memset(m, 0, sizeof *m);
+    m->format = CLI_FMT_TEXT;
     opterr = 0;
     optind = 1;
     while ((opt = getopt_long(argc, argv, ":o:qh", opts, NULL)) != -1) {
         switch (opt) {
-        case 'h': fputs(merge_help, stdout); return 0;
-        case 'o': out_path = optarg; break;
-        case 'D': data = optarg; break;
-        case 'q': quiet = 1; break;
+        case 'h': fputs(merge_help, stdout); return CLI_DONE;
+        case 'o': m->out_path = optarg; break;
+        case 'D': m->data = optarg; break;
+        case 'q': m->quiet = 1; break;
         case 'T':
-            if (!cli_parse_u64(optarg, &threads) || threads > 4096)
+            if (!cli_parse_u64(optarg, &m->threads) || m->threads > 4096)
                 return cli_usage_error("merge", "--threads wants a count, not '%s'", optarg);
             break;
         case 'F':
-            if (!strcmp(optarg, "text")) format = CLI_FMT_TEXT;
-            else if (!strcmp(optarg, "json")) format = CLI_FMT_JSON;
-            else if (!strcmp(optarg, "csv")) format = CLI_FMT_CSV;
+            if (!strcmp(optarg, "text")) m->format = CLI_FMT_TEXT;
+            else if (!strcmp(optarg, "json")) m->format = CLI_FMT_JSON;
+            else if (!strcmp(optarg, "csv")) m->format = CLI_FMT_CSV;
             else return cli_usage_error("merge", "--format wants text, json or csv, not '%s'",
                                         optarg);
             format_given = 1;
@@ -156,17 +162,18 @@ int sturdy_cli_merge(int argc, char **argv)
         }
     }
     /* as for check: text unless --format or the output file's extension says otherwise */
-    if (!format_given && out_path && cli_format_of_path(out_path) >= 0)
-        format = (cli_format)cli_format_of_path(out_path);
-    int nparts = argc - optind;
-    if (nparts < 1)
+    if (!format_given && m->out_path && cli_format_of_path(m->out_path) >= 0)
+        m->format = (cli_format)cli_format_of_path(m->out_path);
+    if (optind >= argc)
         return cli_usage_error("merge", "name the part files to merge");
-    part *parts = calloc((size_t)nparts, sizeof *parts);
-    if (!parts)
-        return fail("merge", "out of memory", STURDY_EINTERNAL);
+    return 0;
+}
+
+/* Read every part; they must come from one analysis and hold each slice once. */
+static int load_parts(part *parts, int nparts)
+{
     int rc = 0;
     for (int i = 0; i < nparts && !rc; i++) {
-        parts[i].path = argv[optind + i];
         rc = load_part(&parts[i]);
         if (!rc && i > 0)
             rc = same_analysis(&parts[0], &parts[i]);
@@ -180,83 +187,106 @@ int sturdy_cli_merge(int argc, char **argv)
             }
     }
     uint64_t count = parts[0].origin.count;
-    if (!rc && (uint64_t)nparts != count) {
-        /* name the first missing slice */
-        for (uint64_t want = 1; want <= count; want++) {
-            int have = 0;
-            for (int i = 0; i < nparts; i++)
-                have |= parts[i].origin.index == want;
-            if (!have) {
-                fprintf(stderr, "sturdy: merge: slice %llu/%llu is missing (the parts given "
-                                "cover %d of %llu)\n", (unsigned long long)want,
-                        (unsigned long long)count, nparts, (unsigned long long)count);
-                break;
-            }
-        }
-        rc = STURDY_EUSAGE;
-    }
-    cli_check c;
-    memset(&c, 0, sizeof c);
-    if (!rc)
-        rc = setup_check(&parts[0], &c);
-    char *joined = NULL;
-    if (!rc) {
-        c.opts.shard_index = c.opts.shard_count = 0;
-        c.opts.resample = 0;
-        c.threads = (int)threads;
-        c.out_path = out_path;
-        c.format = format;
-        c.quiet = quiet;
-        if (!c.demo) {
-            const char *cwd = parts[0].origin.cwd;
-            if (data) {
-                c.data_path = data;
-            } else if (!strcmp(c.data, "-")) {
-                rc = fail(parts[0].path, "the shards read standard input; give the data "
-                                         "again with --data FILE", STURDY_EUSAGE);
-            } else if (c.data[0] != '/' && cwd) {
-                size_t len = strlen(cwd) + strlen(c.data) + 2;
-                joined = malloc(len);
-                if (!joined)
-                    rc = fail("merge", "out of memory", STURDY_EINTERNAL);
-                else
-                    snprintf(joined, len, "%s/%s", cwd, c.data);
-                c.data_path = joined;
-            }
+    if (rc || (uint64_t)nparts == count)
+        return rc;
+    for (uint64_t want = 1; want <= count; want++) {   /* name the first missing slice */
+        int have = 0;
+        for (int i = 0; i < nparts; i++)
+            have |= parts[i].origin.index == want;
+        if (!have) {
+            fprintf(stderr, "sturdy: merge: slice %llu/%llu is missing (the parts given "
+                            "cover %d of %llu)\n", (unsigned long long)want,
+                    (unsigned long long)count, nparts, (unsigned long long)count);
+            break;
         }
     }
+    return STURDY_EUSAGE;
+}
+
+/* Where to read the data: --data, or the recorded path relative to the shards' folder
+ * (*joined, owned, when it had to be joined). */
+static int locate_data(const part *p0, const merge_args *m, cli_check *c, char **joined)
+{
+    const char *cwd = p0->origin.cwd;
+    if (c->demo)
+        return 0;
+    if (m->data) {
+        c->data_path = m->data;
+    } else if (!strcmp(c->data, "-")) {
+        return fail(p0->path, "the shards read standard input; give the data again with "
+                              "--data FILE", STURDY_EUSAGE);
+    } else if (c->data[0] != '/' && cwd) {
+        size_t len = strlen(cwd) + strlen(c->data) + 2;
+        if (!(*joined = malloc(len)))
+            return fail("merge", "out of memory", STURDY_EINTERNAL);
+        snprintf(*joined, len, "%s/%s", cwd, c->data);
+        c->data_path = *joined;
+    }
+    return 0;
+}
+
+/* The set-up repeated on the data, the parts added, the result finished and written. */
+static int combine(cli_check *c, const part *parts, int nparts, const char *out_path)
+{
     sturdy_result *r = NULL;
-    if (!rc) {
-        char err[STURDY_ERR_LEN] = "";
-        rc = cli_check_compute(&c, &r, err);
-        if (rc)
-            cli_print_error("merge: ", err);
-    }
+    char err[STURDY_ERR_LEN] = "";
+    int rc = cli_check_compute(c, &r, err);
+    if (rc)
+        cli_print_error("merge: ", err);
     if (!rc) {
         sturdy_run_info info;
         sturdy_result_info(r, &info);
         if (info.data_checksum != parts[0].origin.data_checksum)
-            rc = fail(c.data_path ? c.data_path : c.data,
+            rc = fail(c->data_path ? c->data_path : c->data,
                       "these data differ from the data the parts were computed on "
                       "(checksum mismatch)", STURDY_EDATA);
     }
     for (int i = 0; i < nparts && !rc; i++)
         rc = add_part(&parts[i], r);
-    if (!rc) {
-        char err[STURDY_ERR_LEN] = "";
-        if (sturdy_result_finish(r, err) != STURDY_OK)
-            rc = fail("merge", err, STURDY_EUSAGE);
-    }
+    if (!rc && sturdy_result_finish(r, err) != STURDY_OK)
+        rc = fail("merge", err, STURDY_EUSAGE);
     if (!rc) {
         sturdy_buf out;
         sturdy_buf_init(&out);
-        if (cli_render(&c, r, &out) != STURDY_OK || !out.data)
+        if (cli_render(c, r, &out) != STURDY_OK || !out.data)
             rc = fail("merge", "out of memory while writing the result", STURDY_EINTERNAL);
         else
             rc = cli_write_output(out_path, out.data, out.len);
         sturdy_buf_free(&out);
     }
     sturdy_result_free(r);
+    return rc;
+}
+
+int sturdy_cli_merge(int argc, char **argv)
+{
+    merge_args m;
+    int rc = parse_args(argc, argv, &m);
+    if (rc)
+        return rc == CLI_DONE ? 0 : rc;
+    int nparts = argc - optind;
+    part *parts = calloc((size_t)nparts, sizeof *parts);
+    if (!parts)
+        return fail("merge", "out of memory", STURDY_EINTERNAL);
+    for (int i = 0; i < nparts; i++)
+        parts[i].path = argv[optind + i];
+    rc = load_parts(parts, nparts);
+    cli_check c;
+    memset(&c, 0, sizeof c);
+    char *joined = NULL;
+    if (!rc)
+        rc = setup_check(&parts[0], &c);
+    if (!rc) {
+        c.opts.shard_index = c.opts.shard_count = 0;
+        c.opts.resample = 0;
+        c.threads = (int)m.threads;
+        c.out_path = m.out_path;
+        c.format = m.format;
+        c.quiet = m.quiet;
+        rc = locate_data(&parts[0], &m, &c, &joined);
+    }
+    if (!rc)
+        rc = combine(&c, parts, nparts, m.out_path);
     cli_check_free(&c);
     free(joined);
     for (int i = 0; i < nparts; i++)

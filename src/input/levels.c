@@ -182,7 +182,8 @@ static sturdy_status near_duplicates(sturdy_design *d, const char *role, const c
         }
     if (merged)
         st = warn_pairs(d, role, name, "are equal as numbers", "each pair was merged into "
-                        "one level, named by the first (levels equal as numbers are merged)", pairs, np,
+                        "one level, named by the first (levels equal as numbers are merged)",
+                        pairs, np,
                         err);
     else
         st = warn_pairs(d, role, name, "are equal as numbers, yet count as different "

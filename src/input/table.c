@@ -219,7 +219,8 @@ static void on_record(int c, void *data)
     }
     for (size_t j = 0; j < t->ncols; j++) {
         t->cols[j].text[t->nrows] = L->rec[j];
-        t->cols[j].missing[t->nrows] = (unsigned char)sturdy_table_is_missing_token(L->o, L->rec[j]);
+        t->cols[j].missing[t->nrows] =
+            (unsigned char)sturdy_table_is_missing_token(L->o, L->rec[j]);
     }
     t->line[t->nrows++] = L->rec_line;
     L->nrec = 0;

@@ -85,7 +85,8 @@ static sturdy_status add_factor_term(sturdy_design *d, uint32_t mask, size_t k,
     if (cols > max_columns || *p > max_columns + 1)
         return sturdy_fail(err, STURDY_EMODEL,
                            "the model needs more than %zu coded columns (at term "
-                           "%zu of order %zu); lower the interaction order or raise the limit on coded columns",
+                           "%zu of order %zu); lower the interaction order or raise the limit on "
+                           "coded columns",
                            max_columns, *nt, k);
     t->label = sturdy_malloc(len + 1);
     if (!t->label)

@@ -92,7 +92,8 @@ static void model_line(tw *w, const sturdy_design *d, sturdy_buf *s)
                                             "Type III (each term adjusted for all others)" };
     s->len = 0;
     sturdy_buf_printf(s, "sums of squares of %s",
-                      r->opts.ss_type >= 1 && r->opts.ss_type <= 3 ? ss_words[r->opts.ss_type] : "?");
+                      r->opts.ss_type >= 1 && r->opts.ss_type <= 3 ? ss_words[r->opts.ss_type]
+                                                                  : "?");
     const char *o = tw_name(w, STURDY_SETTING_ORDER);
     if (r->opts.model.order == 1)
         sturdy_buf_printf(s, "; main effects only (%s 1)", o ? o : "interaction order");

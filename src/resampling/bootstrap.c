@@ -108,6 +108,50 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
     }
 }
 
+/* The acceleration of each effect size from its n leave-one-out values jack (n ×
+ * STURDY_NES; NaN: left out): â = Σu³ / (6 (Σu²)^{3/2}) with u_i = (m − 1)(θ̄ − θ_(i)),
+ * summed over the strata (the groups for the cells scheme, else one). */
+static void jackknife_accel(const boot_ctx *c, const double *jack, double accel[STURDY_NES])
+{
+    const sturdy_design *d = c->d;
+    size_t n = d->n, K = c->m->K;
+    for (int e = 0; e < STURDY_NES; e++) {
+        int cells = c->run->opts.boot_scheme == STURDY_BOOT_CELLS;
+        size_t ngrp = cells ? K : 1;
+        double num = 0.0, den = 0.0;
+        int usable = 0;
+        for (size_t gi = 0; gi < ngrp; gi++) {
+            /* mean of the jackknife values in the stratum */
+            double tbar = 0.0;
+            size_t cnt = 0;
+            for (size_t i = 0; i < n; i++) {
+                if (cells && d->group[i] != gi)
+                    continue;
+                double v = jack[i * STURDY_NES + e];
+                if (isfinite(v)) { tbar += v; cnt++; }
+            }
+            if (cnt < 2)
+                continue;
+            tbar /= (double)cnt;
+            double s2 = 0.0, s3 = 0.0;
+            for (size_t i = 0; i < n; i++) {
+                if (cells && d->group[i] != gi)
+                    continue;
+                double v = jack[i * STURDY_NES + e];
+                if (!isfinite(v))
+                    continue;
+                double u = (double)(cnt - 1) * (tbar - v);
+                s2 += u * u;
+                s3 += u * u * u;
+            }
+            num += s3 / ((double)cnt * cnt * cnt);
+            den += s2 / ((double)cnt * cnt);
+            usable = 1;
+        }
+        accel[e] = (usable && den > 0) ? num / (6.0 * pow(den, 1.5)) : NAN;
+    }
+}
+
 /* Leave-one-out effect sizes of term t by the deletion formula RSS(−i) = RSS −
  * e_i²/(1 − h_i) for the reduced, augmented and full models, and the acceleration
  * â = Σu³ / (6 (Σu²)^{3/2}) with u_i = θ̄ − θ_(i) (Efron 1987). For the cells scheme the
@@ -128,7 +172,8 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
     double *hred = sturdy_calloc(K, sizeof *hred), *haug = sturdy_calloc(K, sizeof *haug);
     double *jack = sturdy_malloc(n * STURDY_NES * sizeof *jack);
     if (!s || !work || !ered || !eaug || !hred || !haug || !jack) {
-        sturdy_free(s); sturdy_free(work); sturdy_free(ered); sturdy_free(eaug); sturdy_free(hred); sturdy_free(haug); sturdy_free(jack);
+        sturdy_free(s); sturdy_free(work); sturdy_free(ered); sturdy_free(eaug);
+        sturdy_free(hred); sturdy_free(haug); sturdy_free(jack);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     sturdy_model_group_scaled(d, m, y, s);
@@ -169,42 +214,9 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
         double sst_i = sst - (double)n / (double)(n - 1) * dy * dy;
         sturdy_effect_sizes(rred - raug, tr->df, rfull, dfe - 1, sst_i, (double)(n - 1), out);
     }
-    for (int e = 0; e < STURDY_NES; e++) {
-        int cells = c->run->opts.boot_scheme == STURDY_BOOT_CELLS;
-        size_t ngrp = cells ? K : 1;
-        double num = 0.0, den = 0.0;
-        int usable = 0;
-        for (size_t gi = 0; gi < ngrp; gi++) {
-            /* mean of the jackknife values in the stratum */
-            double tbar = 0.0;
-            size_t cnt = 0;
-            for (size_t i = 0; i < n; i++) {
-                if (cells && d->group[i] != gi)
-                    continue;
-                double v = jack[i * STURDY_NES + e];
-                if (isfinite(v)) { tbar += v; cnt++; }
-            }
-            if (cnt < 2)
-                continue;
-            tbar /= (double)cnt;
-            double s2 = 0.0, s3 = 0.0;
-            for (size_t i = 0; i < n; i++) {
-                if (cells && d->group[i] != gi)
-                    continue;
-                double v = jack[i * STURDY_NES + e];
-                if (!isfinite(v))
-                    continue;
-                double u = (double)(cnt - 1) * (tbar - v);
-                s2 += u * u;
-                s3 += u * u * u;
-            }
-            num += s3 / ((double)cnt * cnt * cnt);
-            den += s2 / ((double)cnt * cnt);
-            usable = 1;
-        }
-        tr->accel[e] = (usable && den > 0) ? num / (6.0 * pow(den, 1.5)) : NAN;
-    }
-    sturdy_free(s); sturdy_free(work); sturdy_free(ered); sturdy_free(eaug); sturdy_free(hred); sturdy_free(haug); sturdy_free(jack);
+    jackknife_accel(c, jack, tr->accel);
+    sturdy_free(s); sturdy_free(work); sturdy_free(ered); sturdy_free(eaug);
+    sturdy_free(hred); sturdy_free(haug); sturdy_free(jack);
     return STURDY_OK;
 }
 
@@ -212,7 +224,8 @@ static void ctx_free(boot_ctx *c)
 {
     if (c->rb)
         for (size_t ri = 0; ri < c->r->nresp; ri++) {
-            sturdy_free(c->rb[ri].fc); sturdy_free(c->rb[ri].sf); sturdy_free(c->rb[ri].a); sturdy_free(c->rb[ri].pool);
+            sturdy_free(c->rb[ri].fc); sturdy_free(c->rb[ri].sf); sturdy_free(c->rb[ri].a);
+            sturdy_free(c->rb[ri].pool);
         }
     sturdy_free(c->rb);
     sturdy_free(c->grp_start);

@@ -104,7 +104,8 @@ static void work_free(perm_work *w)
 {
     if (!w)
         return;
-    sturdy_free(w->lab); sturdy_free(w->pool); sturdy_free(w->sign); sturdy_free(w->tmp); sturdy_free(w->S); sturdy_free(w->C);
+    sturdy_free(w->lab); sturdy_free(w->pool); sturdy_free(w->sign); sturdy_free(w->tmp);
+    sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
 }
 
@@ -139,19 +140,16 @@ static inline int at_least(double num, double den, double c, double vv)
     return num >= c * den;
 }
 
-/* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
-static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
+/* The scaled group sums of every member's vector under rearrangements [b0, b0 + nb):
+ * w->S[(j·nb + bb)·K + g]. One pass over the rows per rearrangement serves all members. */
+static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
 {
-    const sturdy_design *d = c->d;
-    const sturdy_model *m = c->m;
-    size_t n = d->n, K = m->K, M = c->M, nb = cnt;
-    assert(cnt >= 1 && cnt <= c->nb);   /* the workspaces hold c->nb rearrangements */
+    size_t n = c->d->n, K = c->m->K, M = c->M, Mp = c->Mp;
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
         /* the values in order, each added to the group its position now carries */
         const uint32_t *lab = c->flip ? c->ra.lab0 : w->lab;
-        size_t Mp = c->Mp;
         if (c->flip) {
             for (size_t k = 0; k < n; k++) {
                 const double *row = c->V + k * Mp;
@@ -177,14 +175,22 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
             }
         }
         for (size_t g = 0; g < K; g++) {
-            double inv = 1.0 / m->sqrt_count[g];
+            double inv = 1.0 / c->m->sqrt_count[g];
             for (size_t j = 0; j < M; j++)
                 w->S[(j * nb + bb) * K + g] = tmp[g * Mp + j] * inv;
             for (size_t j = 0; j < Mp; j++)
                 tmp[g * Mp + j] = 0.0;
         }
     }
-    for (size_t j = 0; j < M; j++) {
+}
+
+/* ‖U_tᵀs*‖² (w->num) and ‖v‖² − ‖U_fullᵀs*‖² (w->den) of every member and rearrangement
+ * of the block, with one dgemm per member for the block. */
+static void numerators(const perm_ctx *c, size_t nb, perm_work *w)
+{
+    const sturdy_model *m = c->m;
+    size_t K = m->K;
+    for (size_t j = 0; j < c->M; j++) {
         const member *mj = &c->mem[j];
         const double *S = w->S + j * nb * K;
         cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, (int)mj->df, (int)nb, (int)K,
@@ -213,6 +219,15 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
             }
         }
     }
+}
+
+/* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
+static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
+{
+    size_t M = c->M, nb = cnt;
+    assert(cnt >= 1 && cnt <= c->nb);   /* the workspaces hold c->nb rearrangements */
+    group_sums(c, b0, nb, w);
+    numerators(c, nb, w);
     for (size_t bb = 0; bb < nb; bb++) {
         for (size_t j = 0; j < M; j++)
             if (at_least(w->num[j * nb + bb], w->den[j * nb + bb], c->mem[j].c,
@@ -229,12 +244,13 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     }
 }
 
-/* Choose the members and their vectors. */
-static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r, char *err)
+/* The members: every (response, term) with an F to compare; the others get the note
+ * saying why they have no permutation p. */
+static sturdy_status choose_members(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
+                                    char *err)
 {
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
-    size_t n = d->n, K = m->K;
     sturdy_status st;
     c->mem = sturdy_calloc(r->nresp * d->nterms + 1, sizeof *c->mem);
     if (!c->mem)
@@ -261,6 +277,18 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             mb->df = m->terms[t].df;
             mb->c = tr->f * (double)mb->df / (double)m->df_error * (1.0 - STURDY_TIE_RTOL);
         }
+    return STURDY_OK;
+}
+
+/* Choose the members and their vectors. */
+static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r, char *err)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_model *m = c->m;
+    size_t n = d->n, K = m->K;
+    sturdy_status st = choose_members(c, run, r, err);
+    if (st)
+        return st;
     size_t M = c->M;
     if (M == 0)
         return STURDY_OK;
@@ -270,7 +298,8 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
     c->thr = sturdy_malloc(M * M * sizeof *c->thr);
     double *v = sturdy_malloc(n * sizeof *v), *s = sturdy_malloc(K * sizeof *s);
-    double *work = sturdy_malloc((m->rank + K) * sizeof *work), *fit = sturdy_malloc(n * sizeof *fit);
+    double *work = sturdy_malloc((m->rank + K) * sizeof *work);
+    double *fit = sturdy_malloc(n * sizeof *fit);
     if (!c->V || !c->thr || !v || !s || !work || !fit) {
         sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -320,6 +349,19 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     return STURDY_OK;
 }
 
+/* Progress after `add` more rearrangements of `total`: at most every 0.2 s, and at the
+ * end. Called inside a critical section. */
+static void report_progress(const sturdy_run *run, uint64_t add, uint64_t total,
+                            uint64_t *done, double *last)
+{
+    *done += add;
+    double t = sturdy_now_seconds();
+    if (t - *last > 0.2 || *done == total) {
+        *last = t;
+        run->progress(run->progress_arg, *done, total);
+    }
+}
+
 sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
                                  const sturdy_model *m, sturdy_result *r, char *err)
 {
@@ -334,7 +376,8 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
         goto done;
     uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
     int64_t nblocks = (int64_t)(last_blk - first_blk);
-    uint64_t *exceed = sturdy_calloc(c.M, sizeof *exceed), *fwer = sturdy_calloc(c.M, sizeof *fwer);
+    uint64_t *exceed = sturdy_calloc(c.M, sizeof *exceed);
+    uint64_t *fwer = sturdy_calloc(c.M, sizeof *fwer);
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = sturdy_now_seconds();
@@ -359,18 +402,11 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
             if (lo < b0) lo = b0;
             if (hi > b1) hi = b1;
-            assert(lo < hi && hi <= r->nperm);
+            assert(lo < hi && hi <= run->nperm);
             run_block(&c, lo, (size_t)(hi - lo), &w);
             if (run->progress) {
 #pragma omp critical(sturdy_progress)
-                {
-                    done_count += hi - lo;
-                    double t = sturdy_now_seconds();
-                    if (t - last_report > 0.2 || done_count == b1 - b0) {
-                        last_report = t;
-                        run->progress(run->progress_arg, done_count, b1 - b0);
-                    }
-                }
+                report_progress(run, hi - lo, b1 - b0, &done_count, &last_report);
             }
         }
         if (ok) {

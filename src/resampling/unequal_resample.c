@@ -114,7 +114,8 @@ static int run_range(const uv_run *u, const sturdy_rearranger *ra, int wild, uin
             for (size_t j = 0; j < M; j++)
                 cnt[j] += mine[j];
         }
-        sturdy_free(A); sturdy_free(Q); sturdy_free(Ak); sturdy_free(Qk); sturdy_free(work); sturdy_free(lab); sturdy_free(pool); sturdy_free(sign);
+        sturdy_free(A); sturdy_free(Q); sturdy_free(Ak); sturdy_free(Qk); sturdy_free(work);
+        sturdy_free(lab); sturdy_free(pool); sturdy_free(sign);
         sturdy_free(mine);
     }
     return !failed;
@@ -127,11 +128,14 @@ static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild
     const sturdy_design *d = u->c.d;
     const sturdy_model *m = u->c.m;
     size_t n = d->n, K = u->c.K, M = u->M;
-    double *v = sturdy_malloc(n * sizeof *v), *A = sturdy_malloc(K * sizeof *A), *Q = sturdy_malloc(K * sizeof *Q);
+    double *v = sturdy_malloc(n * sizeof *v);
+    double *A = sturdy_malloc(K * sizeof *A);
+    double *Q = sturdy_malloc(K * sizeof *Q);
     double *s = sturdy_malloc(K * sizeof *s), *pw = sturdy_malloc((m->rank + K) * sizeof *pw);
     double *ft = sturdy_malloc(n * sizeof *ft);
     if (!v || !A || !Q || !s || !pw || !ft) {
-        sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(ft);
+        sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw);
+        sturdy_free(ft);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     if (wild)
@@ -149,7 +153,8 @@ static sturdy_status fill_bases(uv_run *u, const sturdy_rearranger *ra, int wild
             }
         }
     }
-    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw); sturdy_free(ft);
+    sturdy_free(v); sturdy_free(A); sturdy_free(Q); sturdy_free(s); sturdy_free(pw);
+    sturdy_free(ft);
     return STURDY_OK;
 }
 
