@@ -21,7 +21,8 @@ typedef enum {
     STURDY_EDATA = 3,     /* the input table is malformed */
     STURDY_EMODEL = 4,    /* the model cannot be tested as asked */
     STURDY_EOUTPUT = 5,   /* a result could not be written */
-    STURDY_ECANCELLED = 6 /* the caller's context asked the run to stop */
+    STURDY_ECANCELLED = 7 /* the caller's context asked the run to stop (library only:
+                             the program's exit code 6 belongs to `batch`) */
 } sturdy_status;
 
 /* The library's version at run time (the headers' STURDY_VERSION is the one compiled
