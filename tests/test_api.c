@@ -199,7 +199,7 @@ static void refused_part(const char *text, const char *after, const char *from, 
 {
     const char *start = strstr(text, after);
     const char *at = start ? strstr(start, from) : NULL;
-    char line[256];
+    char line[1024];
     if (!at) {
         snprintf(line, sizeof line, "%s: '%s' found in the part", what, from);
         CHECK(line, 0);
