@@ -135,7 +135,7 @@ static char *notes[] = { "cells scheme with fewer than 10 rows per cell: interva
                          "odd bytes: \001 and \377 and a \"quote\"" };
 static double mean1[] = { 1, 2, 3, 4 }, sd1[] = { 0.5, NAN, 0.25, 1 };
 static sturdy_outlier outl[] = { { 3, 4, 1, 3.4, 2.9, 0.25 }, { 11, 13, 3, -3.9, -3.2, 0.25 } };
-static double boot_vals[5 * STURDY_NES];   /* replicates 0–4; the shard has 2–4 */
+static double boot_vals[5 * STURDY_BOOT_COLS];   /* replicates 0–4; the shard has 2–4 */
 
 static const double ONE_THIRD = 1.0 / 3.0;
 static const double F_A = 12.345678901234567;
@@ -192,8 +192,9 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     d->balanced = 0;
     d->min_cell = 3;
     d->max_cell = 4;
-    for (int i = 0; i < 5 * STURDY_NES; i++) boot_vals[i] = 0.125 * (i - 2 * STURDY_NES);
-    boot_vals[2 * STURDY_NES + 7] = NAN;
+    for (int i = 0; i < 5 * STURDY_BOOT_COLS; i++)
+        boot_vals[i] = 0.125 * (i - 2 * STURDY_BOOT_COLS);
+    boot_vals[3 * STURDY_BOOT_COLS + 2] = NAN;
 
     fill_term(&terms1[0], "dose", f_dose, 1, 1);
     terms1[0].verdict = STURDY_VERDICT_CLASSICAL_ONLY;
@@ -439,9 +440,10 @@ static void test_json_partial(sturdy_result *r)
     CHECK("partial json checksum 16 hex digits",
           strstr(s, "\"data_checksum\": \"00000000deadbeef\",") != NULL);
     CHECK("partial json raw boot rows",
-          strstr(s, "\"raw\": {\n") && strstr(s, "[0, 0.125, 0.25, 0.375, 0.5],\n") &&
-          strstr(s, "[0.625, 0.75, null, 1, 1.125],\n") &&
-          strstr(s, "[1.25, 1.375, 1.5, 1.625, 1.75]\n"));
+          strstr(s, "\"raw\": {\n") &&
+          strstr(s, "[0, 0.125, 0.25, 0.375, 0.5, 0.625, 0.75, 0.875],\n") &&
+          strstr(s, "[1, 1.125, null, 1.375, 1.5, 1.625, 1.75, 1.875],\n") &&
+          strstr(s, "[2, 2.125, 2.25, 2.375, 2.5, 2.625, 2.75, 2.875]\n"));
     CHECK("partial json raw counts", strstr(s, "\"exceed\": 212,\n") &&
           strstr(s, "\"exceed_fwer\": 499,\n"));
     CHECK("partial json: no replicates → boot null", strstr(s, "\"boot\": null") != NULL);

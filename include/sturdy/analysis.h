@@ -92,6 +92,13 @@ enum {
     STURDY_ES_ETA2 = 0, STURDY_ES_PARTIAL_ETA2, STURDY_ES_OMEGA2, STURDY_ES_PARTIAL_OMEGA2,
     STURDY_ES_COHENS_F, STURDY_NES
 };
+/* A bootstrap replicate's row of raw material (sturdy_slice.boot, a part's "boot" rows):
+ * STURDY_BOOT_COLS doubles, the STURDY_NES effect sizes in the order above, then the
+ * replicate's pieces of the test-inversion interval: vᵀu*, ‖u*‖² and SSE*, with
+ * v = Qᵀy the observed projection on the term's orthonormal basis Q, u* = Qᵀe* that of
+ * the resampled errors and SSE* the replicate's error SS. */
+#define STURDY_BOOT_COLS (STURDY_NES + 3)
+
 /* JSON names of the effect sizes, indexed as above. */
 extern const char *const sturdy_es_names[STURDY_NES];
 
@@ -229,7 +236,8 @@ typedef struct {
     const uint64_t *exceed, *exceed_fwer; /* nresp × nterms, row-major */
     const uint64_t *uv_exceed_wild, *uv_exceed_perm; /* the same, for the unequal-variance
                                     test over the rearrangement range (may be NULL: 0) */
-    const double *boot;          /* nresp × nterms × (boot_end − boot_begin) × STURDY_NES;
+    const double *boot;          /* nresp × nterms × (boot_end − boot_begin) ×
+                                    STURDY_BOOT_COLS;
                                     entries of terms without replicates are ignored */
 } sturdy_slice;
 

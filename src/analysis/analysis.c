@@ -391,8 +391,9 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             if (s->uv_exceed_wild) tr->uv.exceed_wild += s->uv_exceed_wild[k];
             if (s->uv_exceed_perm) tr->uv.exceed_perm += s->uv_exceed_perm[k];
             if (tr->boot && nb)
-                memcpy(tr->boot + s->boot_begin * STURDY_NES,
-                       s->boot + k * nb * STURDY_NES, nb * STURDY_NES * sizeof(double));
+                memcpy(tr->boot + s->boot_begin * STURDY_BOOT_COLS,
+                       s->boot + k * nb * STURDY_BOOT_COLS,
+                       nb * STURDY_BOOT_COLS * sizeof(double));
         }
     r->perm_done += s->perm_end - s->perm_begin;
     r->boot_done += nb;

@@ -14,12 +14,12 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
 {
     *out = NULL;
     size_t k = nresp * nterms;
-    if (nb > SIZE_MAX / STURDY_NES / sizeof(double) / (k ? k : 1))
+    if (nb > SIZE_MAX / STURDY_BOOT_COLS / sizeof(double) / (k ? k : 1))
         return sturdy_fail(err, STURDY_EINTERNAL, "the part is too large for memory");
     sturdy_part *p = sturdy_calloc(1, sizeof *p);
     if (!p)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    size_t nv = k * (size_t)nb * STURDY_NES;
+    size_t nv = k * (size_t)nb * STURDY_BOOT_COLS;
     p->counts = sturdy_calloc(4 * k + 1, sizeof *p->counts);
     p->boot = sturdy_malloc((nv + 1) * sizeof *p->boot);
     if (!p->counts || !p->boot) {
@@ -63,8 +63,9 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
             p->counts[2 * k + j] = tr->uv.exceed_wild;
             p->counts[3 * k + j] = tr->uv.exceed_perm;
             if (tr->boot && nb)
-                memcpy(p->boot + j * nb * STURDY_NES, tr->boot + r->boot_begin * STURDY_NES,
-                       nb * STURDY_NES * sizeof *p->boot);
+                memcpy(p->boot + j * nb * STURDY_BOOT_COLS,
+                       tr->boot + r->boot_begin * STURDY_BOOT_COLS,
+                       nb * STURDY_BOOT_COLS * sizeof *p->boot);
         }
     return STURDY_OK;
 }

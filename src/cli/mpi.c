@@ -54,7 +54,7 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     uint64_t nb = b1 - b0;
     int root = mpi_rank_ == 0;
     uint64_t *mine_c = calloc(4 * k + 1, sizeof *mine_c), *sum = calloc(4 * k + 1, sizeof *sum);
-    double *boot = root ? malloc((k * nb * STURDY_NES + 1) * sizeof *boot) : NULL;
+    double *boot = root ? malloc((k * nb * STURDY_BOOT_COLS + 1) * sizeof *boot) : NULL;
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
     int ok = mine_c && sum && counts && displs && (boot || !root), all_ok = 0;
@@ -75,14 +75,14 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     MPI_Reduce(mine_c, sum, (int)(4 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
     for (int q = 0; q < mpi_size_; q++) {
         uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
-        counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_NES);
-        displs[q] = q == 0 ? 0 : (int)((lo - b0) * STURDY_NES);
+        counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_BOOT_COLS);
+        displs[q] = q == 0 ? 0 : (int)((lo - b0) * STURDY_BOOT_COLS);
     }
     uint64_t own_nb = own->boot_end - own->boot_begin;
     for (size_t j = 0; j < k; j++) {
-        const double *src = own->boot + j * own_nb * STURDY_NES;
-        MPI_Gatherv(root ? MPI_IN_PLACE : (void *)src, root ? 0 : (int)(own_nb * STURDY_NES),
-                    MPI_DOUBLE, root ? boot + j * nb * STURDY_NES : NULL, counts, displs,
+        const double *src = own->boot + j * own_nb * STURDY_BOOT_COLS;
+        MPI_Gatherv(root ? MPI_IN_PLACE : (void *)src, root ? 0 : (int)(own_nb * STURDY_BOOT_COLS),
+                    MPI_DOUBLE, root ? boot + j * nb * STURDY_BOOT_COLS : NULL, counts, displs,
                     MPI_DOUBLE, 0, MPI_COMM_WORLD);
     }
     if (root) {

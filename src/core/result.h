@@ -45,7 +45,8 @@ typedef struct {
     sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson on exceed */
     char *perm_note;
     /* bootstrap */
-    double *boot;                /* nboot × STURDY_NES row-major replicate values, indexed
+    double *boot;                /* nboot × STURDY_BOOT_COLS row-major replicate rows
+                                    (analysis.h: the effect sizes, vᵀu*, ‖u*‖², SSE*), indexed
                                     over the whole run; only the slices computed or added
                                     so far are filled (owned; NULL when the term has none) */
     double accel[STURDY_NES];    /* BCa acceleration from the jackknife (NaN: none) */
@@ -88,6 +89,9 @@ typedef struct {
     double *cell_mean, *cell_sd; /* per non-empty cell (sd NaN for a single row) */
     sturdy_diagnostics diag;
     double *fitted, *residual;   /* n each (owned), on the response's own scale */
+    double boot_world_var;       /* error variance of the bootstrap world (bootstrap.c;
+                                    NaN: no bootstrap); maps the test inversion's scale
+                                    to the noncentrality */
 } sturdy_response_result;
 
 struct sturdy_result {

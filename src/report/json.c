@@ -327,7 +327,7 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
             jw_open(w, "boot", '[');
             /* t->boot is indexed over the whole run; this slice's rows only */
             for (uint64_t i = r->boot_begin; i < r->boot_end; i++)
-                jw_nums_inline(w, NULL, t->boot + i * STURDY_NES, STURDY_NES);
+                jw_nums_inline(w, NULL, t->boot + i * STURDY_BOOT_COLS, STURDY_BOOT_COLS);
             jw_close(w, ']');
         }
         jw_close(w, '}');

@@ -468,15 +468,16 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
         return STURDY_OK;
     if (!is_kind(b, JV_ARRAY) || b->n != nb)
         return part_fail(err, name, "a term's replicates do not match its range");
-    double *dst = p->boot + j * (size_t)nb * STURDY_NES;
+    double *dst = p->boot + j * (size_t)nb * STURDY_BOOT_COLS;
     for (size_t q = 0; q < nb; q++) {
         const jv *row = &b->items[q];
-        if (!is_kind(row, JV_ARRAY) || row->n != STURDY_NES)
-            return part_fail(err, name, "a replicate row does not hold 5 effect sizes");
-        for (size_t e = 0; e < STURDY_NES; e++) {
+        if (!is_kind(row, JV_ARRAY) || row->n != STURDY_BOOT_COLS)
+            return part_fail(err, name, "a replicate row does not hold 8 values (5 effect "
+                                        "sizes, vᵀu*, ‖u*‖², SSE*)");
+        for (size_t e = 0; e < STURDY_BOOT_COLS; e++) {
             if (row->items[e].kind != JV_NUMBER && row->items[e].kind != JV_NULL)
                 return part_fail(err, name, "a replicate value is neither a number nor null");
-            dst[q * STURDY_NES + e] = jv_double(&row->items[e]);
+            dst[q * STURDY_BOOT_COLS + e] = jv_double(&row->items[e]);
         }
     }
     return STURDY_OK;

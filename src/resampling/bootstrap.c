@@ -33,6 +33,7 @@ typedef struct {
     double *a;         /* n: adjusted residuals (residual, wild) or raw residuals (cells) */
     size_t *pool;      /* residual scheme: rows with leverage < 1 */
     size_t npool;
+    double *v;         /* v = U_tᵀ s_f of every term, df values each (at voff[t]) */
 } resp_boot;
 
 typedef struct {
@@ -42,6 +43,7 @@ typedef struct {
     sturdy_result *r;
     resp_boot *rb;
     size_t *grp_start, *grp_rows; /* cells scheme: rows of each group */
+    size_t *voff;                 /* offset of each term's v in resp_boot.v */
 } boot_ctx;
 
 static double full_norm2(const sturdy_model *m, const double *s)
@@ -99,11 +101,25 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
             sturdy_term_result *tr = &resp->terms[t];
             if (!tr->boot)
                 continue;
-            double *out = tr->boot + b * STURDY_NES;
+            double *out = tr->boot + b * STURDY_BOOT_COLS;
             const sturdy_term_basis *tb = &m->terms[t];
             double ss = sturdy_proj_norm2(tb->Uterm, K, tb->df, s);
             sturdy_effect_sizes(ss, (double)tb->df, sse, (double)m->df_error, sst,
                                 (double)n, out);
+            /* the test inversion's pieces: u* = U_tᵀ s_r, vᵀu*, ‖u*‖², SSE* */
+            const double *v = rb->v + c->voff[t];
+            double vu = 0.0, uu = 0.0;
+            for (size_t q = 0; q < tb->df; q++) {
+                const double *col = tb->Uterm + q * K;
+                double u = 0.0;
+                for (size_t g = 0; g < K; g++)
+                    u += col[g] * sr[g];
+                vu += v[q] * u;
+                uu += u * u;
+            }
+            out[STURDY_NES] = vu;
+            out[STURDY_NES + 1] = uu;
+            out[STURDY_NES + 2] = sse;
         }
     }
 }
@@ -225,11 +241,51 @@ static void ctx_free(boot_ctx *c)
     if (c->rb)
         for (size_t ri = 0; ri < c->r->nresp; ri++) {
             sturdy_free(c->rb[ri].fc); sturdy_free(c->rb[ri].sf); sturdy_free(c->rb[ri].a);
-            sturdy_free(c->rb[ri].pool);
+            sturdy_free(c->rb[ri].pool); sturdy_free(c->rb[ri].v);
         }
     sturdy_free(c->rb);
+    sturdy_free(c->voff);
     sturdy_free(c->grp_start);
     sturdy_free(c->grp_rows);
+}
+
+/* v = U_tᵀ s_f of every term (the observed projection on its basis, ‖v‖² = SS) */
+static void term_projections(const sturdy_model *m, const double *sf, const size_t *voff,
+                             double *v)
+{
+    for (size_t t = 0; t < m->nterms; t++) {
+        const sturdy_term_basis *tb = &m->terms[t];
+        for (size_t q = 0; q < tb->df; q++) {
+            double x = 0.0;
+            for (size_t g = 0; g < m->K; g++)
+                x += tb->Uterm[q * m->K + g] * sf[g];
+            v[voff[t] + q] = x;
+        }
+    }
+}
+
+/* The error variance of the bootstrap world: the mean of a² over the rows that can be
+ * drawn (pool; NULL: every row whose leverage is below 1). For the residual scheme a is
+ * centred over the pool, so this is the variance of every e*_i and E*[SSE*] = df_error
+ * times it; for the wild and cells schemes it is the average over rows of E*[e*_i²] (not
+ * studied for the test inversion, which is not recommended under them). */
+static double world_variance(const sturdy_design *d, const sturdy_model *m, const double *a,
+                             const size_t *pool, size_t npool)
+{
+    double s = 0.0;
+    size_t cnt = 0;
+    if (pool) {
+        for (size_t k = 0; k < npool; k++)
+            s += a[pool[k]] * a[pool[k]];
+        cnt = npool;
+    } else {
+        for (size_t i = 0; i < d->n; i++)
+            if (m->leverage[d->group[i]] < 1 - STURDY_LEVERAGE_ONE_TOL) {
+                s += a[i] * a[i];
+                cnt++;
+            }
+    }
+    return cnt ? s / (double)cnt : NAN;
 }
 
 static sturdy_status setup(boot_ctx *c, char *err)
@@ -238,8 +294,12 @@ static sturdy_status setup(boot_ctx *c, char *err)
     const sturdy_model *m = c->m;
     size_t n = d->n, K = m->K;
     c->rb = sturdy_calloc(c->r->nresp, sizeof *c->rb);
-    if (!c->rb)
+    c->voff = sturdy_malloc((m->nterms + 1) * sizeof *c->voff);
+    if (!c->rb || !c->voff)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    c->voff[0] = 0;
+    for (size_t t = 0; t < m->nterms; t++)
+        c->voff[t + 1] = c->voff[t] + m->terms[t].df;
     if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
         sturdy_status st = sturdy_bucket_rows(d->group, n, K, &c->grp_start, &c->grp_rows,
                                               err);
@@ -248,13 +308,14 @@ static sturdy_status setup(boot_ctx *c, char *err)
     }
     for (size_t ri = 0; ri < c->r->nresp; ri++) {
         resp_boot *rb = &c->rb[ri];
-        const sturdy_response_result *resp = &c->r->resp[ri];
+        sturdy_response_result *resp = &c->r->resp[ri];
         const double *y = d->y + ri * n;
         rb->fc = sturdy_malloc(n * sizeof *rb->fc);
         rb->sf = sturdy_malloc(K * sizeof *rb->sf);
         rb->a = sturdy_malloc(n * sizeof *rb->a);
         rb->pool = sturdy_malloc(n * sizeof *rb->pool);
-        if (!rb->fc || !rb->sf || !rb->a || !rb->pool)
+        rb->v = sturdy_malloc((c->voff[m->nterms] + 1) * sizeof *rb->v);
+        if (!rb->fc || !rb->sf || !rb->a || !rb->pool || !rb->v)
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         double mean = sturdy_mean(y, n);
         rb->ff = 0.0;
@@ -263,8 +324,10 @@ static sturdy_status setup(boot_ctx *c, char *err)
             rb->ff += rb->fc[i] * rb->fc[i];
         }
         sturdy_model_group_scaled(d, m, rb->fc, rb->sf);
+        term_projections(m, rb->sf, c->voff, rb->v);
         if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
             memcpy(rb->a, resp->residual, n * sizeof *rb->a);
+            resp->boot_world_var = world_variance(d, m, rb->a, NULL, 0);
             continue;
         }
         double abar = 0.0;
@@ -287,6 +350,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
             for (size_t k = 0; k < rb->npool; k++)
                 rb->a[rb->pool[k]] -= abar;
         }
+        resp->boot_world_var = world_variance(d, m, rb->a, rb->pool, rb->npool);
     }
     return STURDY_OK;
 }
@@ -294,7 +358,7 @@ static sturdy_status setup(boot_ctx *c, char *err)
 sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d,
                                    const sturdy_model *m, sturdy_result *r, char *err)
 {
-    boot_ctx c = {run, d, m, r, NULL, NULL, NULL};
+    boot_ctx c = {run, d, m, r, NULL, NULL, NULL, NULL};
     size_t n = d->n, K = m->K;
     uint64_t b0 = run->boot_begin, b1 = run->boot_end;
     sturdy_status st = STURDY_OK;
@@ -310,7 +374,7 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
             if (run->nboot > 0) {
                 /* indexed over the whole run; slices computed elsewhere stay NaN until
                    added (sturdy_result_add_slice) */
-                size_t cnt = (size_t)run->nboot * STURDY_NES;
+                size_t cnt = (size_t)run->nboot * STURDY_BOOT_COLS;
                 tr->boot = sturdy_malloc(cnt * sizeof *tr->boot);
                 if (!tr->boot)
                     return sturdy_fail(err, STURDY_EINTERNAL,
@@ -393,7 +457,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         size_t k = 0, below = 0;
         double theta = t->es[e];
         for (uint64_t b = 0; b < B; b++) {
-            double v = t->boot[b * STURDY_NES + e];
+            double v = t->boot[b * STURDY_BOOT_COLS + e];
             if (isfinite(v)) {
                 x[k++] = v;
                 if (v < theta)
