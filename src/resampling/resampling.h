@@ -37,6 +37,22 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
 sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_result *t,
                                          char *err);
 
+/* The test-inversion interval of a term's effect scale s (testinv.c), from nrows
+ * replicate rows rows[b·stride + 0, 1, 2] = (vᵀu*_b, ‖u*_b‖², SSE*_b), A = ‖v‖² = SS and
+ * k = SS/SSE of the data, at tail levels alpha_lo, alpha_hi. Rows with a non-finite value
+ * are left out (used counts the rest). s_lo ≤ s_hi, both ≥ 0 (s_hi may be +∞ when A = 0);
+ * NaN when no row is usable or A, k are not finite. The noncentrality of world s is
+ * s²·A / (the bootstrap world's error variance). */
+typedef struct {
+    double s_lo, s_hi;
+    uint64_t used;               /* replicates counted (B) */
+    uint64_t null_count;         /* N(0): replicates with F*(0) ≥ F in the null world */
+} sturdy_testinv;
+
+sturdy_status sturdy_testinv_endpoints(const double *rows, size_t stride, uint64_t nrows,
+                                       double A, double k, double alpha_lo, double alpha_hi,
+                                       sturdy_testinv *out, char *err);
+
 /* Resampling part: adds to uv.exceed_wild (and uv.exceed_perm under the permutation
  * scheme) over the rearrangement slice [run->perm_begin, run->perm_end). */
 sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
