@@ -18,6 +18,13 @@ const char *sturdy_boot_scheme_name(sturdy_boot_scheme s);
  * "wild" for the second); "none" for any other value. Never NULL. */
 const char *sturdy_spread_scheme_name(sturdy_spread_scheme s);
 
+/* "percentile", "bca", "noncentral-f" or "test-inversion": the result's name of an
+ * interval method (JSON "recommended".method, CSV *_rec_method); "none" for
+ * STURDY_CI_NONE or any other value. Never NULL. sturdy_ci_method_parse reads those
+ * names back ("none" included). */
+const char *sturdy_ci_method_name(sturdy_ci_method m);
+int sturdy_ci_method_parse(const char *name, sturdy_ci_method *out);
+
 /* The value a command-line word names: sets *out and returns 1 when `word` is one of
  * the words above ("none", "wild", "permutation" for the spread scheme; "default" is
  * not a word); returns 0 and leaves *out alone otherwise. Case matters. */

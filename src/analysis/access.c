@@ -107,7 +107,17 @@ int sturdy_term_interval(const sturdy_result *r, size_t resp, size_t term, int e
     if (t && es >= 0 && es < STURDY_NES) {
         if (method == STURDY_CI_PERCENTILE) p = t->ci_pct[es];
         else if (method == STURDY_CI_BCA) p = t->ci_bca[es];
-        else if (method == STURDY_CI_NONCENTRAL_F && es == STURDY_ES_PARTIAL_ETA2) p = t->ncf;
+        else if (method == STURDY_CI_TEST_INVERSION) p = t->ci_ti[es];
+        else if (method == STURDY_CI_NONCENTRAL_F && es != STURDY_ES_ETA2 &&
+                 es != STURDY_ES_OMEGA2) {
+            /* stored as partial η²; partial ω² is the same population quantity, and
+               Cohen's f = √(λ/N) = √(η²_p/(1 − η²_p)) */
+            p = t->ncf;
+            if (es == STURDY_ES_COHENS_F) {
+                p.lo = sqrt(p.lo / (1 - p.lo));
+                p.hi = p.hi >= 1 ? INFINITY : sqrt(p.hi / (1 - p.hi));
+            }
+        }
     }
     *lo = p.lo;
     *hi = p.hi;
@@ -126,8 +136,20 @@ const char *sturdy_term_note(const sturdy_result *r, size_t resp, size_t term,
     case STURDY_NOTE_BOOTSTRAP: return t->boot_note;
     case STURDY_NOTE_UNEQUAL: return t->uv.note;
     case STURDY_NOTE_VERDICT: return t->verdict_reason;
+    case STURDY_NOTE_INTERVALS: return t->ci_note;
     }
     return NULL;
+}
+
+const char *sturdy_term_recommended(const sturdy_result *r, size_t resp, size_t term, int es,
+                                    sturdy_ci_method *method, double *lo, double *hi)
+{
+    const sturdy_term_result *t = term_at(r, resp, term);
+    int ok = t && es >= 0 && es < STURDY_NES;
+    *method = ok ? (sturdy_ci_method)t->ci_rec_method[es] : STURDY_CI_NONE;
+    *lo = ok ? t->ci_rec[es].lo : NAN;
+    *hi = ok ? t->ci_rec[es].hi : NAN;
+    return ok ? t->ci_rec_reason[es] : NULL;
 }
 
 sturdy_verdict sturdy_term_verdict(const sturdy_result *r, size_t resp, size_t term)

@@ -203,6 +203,9 @@ void sturdy_result_free(sturdy_result *r)
             sturdy_free(tr->perm_note);
             sturdy_free(tr->boot);
             sturdy_free(tr->boot_note);
+            sturdy_free(tr->ci_note);
+            for (int e = 0; e < STURDY_NES; e++)
+                sturdy_free(tr->ci_rec_reason[e]);
             sturdy_free(tr->verdict_reason);
             sturdy_free(tr->uv.note);
             sturdy_free(tr->uv.perm_note);
@@ -470,7 +473,7 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
                                 : NULL;
             if (!tr->boot_note && why_no_boot && !(tr->boot_note = sturdy_strdup(why_no_boot)))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            if ((st = sturdy_bootstrap_intervals(r, tr, err)) ||
+            if ((st = sturdy_term_intervals(r, &r->resp[ri], tr, err)) ||
                 (st = sturdy_uv_finish(r, tr, err)))
                 return st;
         }

@@ -129,8 +129,11 @@ static sturdy_status term_identity(const sturdy_design *d, size_t t, sturdy_term
         tr->es[e] = NAN;
     tr->p_perm = tr->p_perm_fwer = tr->p_perm_holm = NAN;
     tr->p_perm_ci.lo = tr->p_perm_ci.hi = NAN;
-    for (int e = 0; e < STURDY_NES; e++)
+    for (int e = 0; e < STURDY_NES; e++) {
         tr->ci_pct[e].lo = tr->ci_pct[e].hi = tr->ci_bca[e].lo = tr->ci_bca[e].hi = NAN;
+        tr->ci_ti[e].lo = tr->ci_ti[e].hi = tr->ci_rec[e].lo = tr->ci_rec[e].hi = NAN;
+        tr->ci_rec_method[e] = STURDY_CI_NONE;
+    }
     return STURDY_OK;
 }
 
@@ -189,6 +192,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
     size_t n = d->n, K = m->K;
     assert(r < d->nresp && K == d->ngroups && m->nterms == d->nterms && threads >= 1);
     out->name = sturdy_strdup(d->resp_names[r]);
+    out->boot_world_var = NAN;
     out->nterms = d->nterms;
     out->terms = sturdy_calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
     out->fitted = sturdy_malloc(n * sizeof *out->fitted);

@@ -31,6 +31,14 @@ static const name_row spread_schemes[] = {
     { STURDY_SPREAD_PERMUTATION, "permutation", NULL, NULL },
 };
 
+static const name_row ci_methods[] = {
+    { STURDY_CI_NONE, "none", NULL, NULL },
+    { STURDY_CI_PERCENTILE, "percentile", NULL, "percentile" },
+    { STURDY_CI_BCA, "bca", NULL, "BCa" },
+    { STURDY_CI_NONCENTRAL_F, "noncentral-f", NULL, "noncentral F" },
+    { STURDY_CI_TEST_INVERSION, "test-inversion", NULL, "test inversion" },
+};
+
 #define NROWS(t) (sizeof t / sizeof t[0])
 
 static const name_row *by_value(const name_row *t, size_t n, int value)
@@ -66,6 +74,20 @@ const char *sturdy_spread_scheme_name(sturdy_spread_scheme s)
 {
     const name_row *r = by_value(spread_schemes, NROWS(spread_schemes), (int)s);
     return r ? r->name : "none";
+}
+
+const char *sturdy_ci_method_name(sturdy_ci_method m)
+{
+    const name_row *r = by_value(ci_methods, NROWS(ci_methods), (int)m);
+    return r ? r->name : "none";
+}
+
+int sturdy_ci_method_parse(const char *name, sturdy_ci_method *out)
+{
+    const name_row *r = by_word(ci_methods, NROWS(ci_methods), name);
+    if (r)
+        *out = (sturdy_ci_method)r->value;
+    return r != NULL;
 }
 
 const char *sturdy_method_description(sturdy_method m)

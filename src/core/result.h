@@ -50,8 +50,16 @@ typedef struct {
                                     over the whole run; only the slices computed or added
                                     so far are filled (owned; NULL when the term has none) */
     double accel[STURDY_NES];    /* BCa acceleration from the jackknife (NaN: none) */
-    sturdy_pair ci_pct[STURDY_NES], ci_bca[STURDY_NES];
-    char *boot_note;
+    sturdy_pair ci_pct[STURDY_NES], ci_bca[STURDY_NES]; /* NaN when declined (boot_note) */
+    sturdy_pair ci_ti[STURDY_NES]; /* bootstrap test inversion (testinv.c); NaN for η² and
+                                    ω², which are not functions of one noncentrality */
+    char *boot_note;             /* why bootstrap intervals are absent or declined */
+    char *ci_note;               /* intervals clamped to the parameter's range, or that
+                                    exclude their own estimate (intervals.c), else NULL */
+    /* the recommended interval of each effect size (intervals.c) */
+    int ci_rec_method[STURDY_NES]; /* sturdy_ci_method; STURDY_CI_NONE: none */
+    sturdy_pair ci_rec[STURDY_NES];
+    char *ci_rec_reason[STURDY_NES]; /* one line (owned) */
     /* verdict */
     sturdy_verdict verdict;
     char *verdict_reason;        /* one line, or NULL */

@@ -305,10 +305,25 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         jw_pair(w, "percentile", t->ci_pct[e]);
         jw_pair(w, "bca", t->ci_bca[e]);
         if (e == STURDY_ES_PARTIAL_ETA2) jw_pair(w, "noncentral_f", t->ncf);
+        if (e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2)
+            jw_pair(w, "test_inversion", t->ci_ti[e]);
+        /* the recommended interval: method and interval null when there is none; the
+           reason says why either way */
+        jw_open(w, "recommended", '{');
+        if (t->ci_rec_method[e] == STURDY_CI_NONE) {
+            jw_null(w, "method");
+            jw_null(w, "interval");
+        } else {
+            jw_str(w, "method", sturdy_ci_method_name((sturdy_ci_method)t->ci_rec_method[e]));
+            jw_pair(w, "interval", t->ci_rec[e]);
+        }
+        jw_str(w, "reason", t->ci_rec_reason[e]);
+        jw_close(w, '}');
         jw_close(w, '}');
     }
     jw_close(w, '}');
     jw_str(w, "boot_note", t->boot_note);
+    jw_str(w, "ci_note", t->ci_note);
     jw_str(w, "verdict", sturdy_verdict_name(t->verdict));
     jw_str(w, "verdict_reason", t->verdict_reason);
     if (has_perm) jw_bool(w, "p_perm_straddles_alpha", t->straddles);

@@ -259,6 +259,26 @@ static int read_uv(const jv *u, sturdy_uv_result *uv)
     return ok;
 }
 
+/* An effect size's test-inversion interval (η², ω²: none) and recommended interval. */
+static int read_recommended(const jv *c, int e, sturdy_term_result *tr)
+{
+    const jv *rec = jv_get(c, "recommended"), *m = jv_get(rec, "method");
+    tr->ci_ti[e].lo = tr->ci_ti[e].hi = tr->ci_rec[e].lo = tr->ci_rec[e].hi = NAN;
+    tr->ci_rec_method[e] = STURDY_CI_NONE;
+    if ((e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2 &&
+         !get_pair(c, "test_inversion", &tr->ci_ti[e])) ||
+        !is_kind(rec, JV_OBJECT) || !get_str(rec, "reason", &tr->ci_rec_reason[e]))
+        return 0;
+    if (is_kind(m, JV_NULL))
+        return is_kind(jv_get(rec, "interval"), JV_NULL);
+    sturdy_ci_method method;
+    if (!is_kind(m, JV_STRING) || !sturdy_ci_method_parse(m->text, &method) ||
+        method == STURDY_CI_NONE)
+        return 0;
+    tr->ci_rec_method[e] = method;
+    return get_pair(rec, "interval", &tr->ci_rec[e]);
+}
+
 static int read_term(const jv *t, sturdy_term_result *tr)
 {
     const jv *ci = jv_get(t, "ci"), *factors = jv_get(t, "factors");
@@ -271,6 +291,7 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              get_num(t, "p_perm_fwer", &tr->p_perm_fwer) &&
              get_num(t, "p_perm_holm", &tr->p_perm_holm) &&
              get_str(t, "perm_note", &tr->perm_note) && get_str(t, "boot_note", &tr->boot_note) &&
+             get_str(t, "ci_note", &tr->ci_note) &&
              get_str(t, "verdict", &verdict) && get_str(t, "verdict_reason", &tr->verdict_reason) &&
              is_kind(ci, JV_OBJECT) && is_kind(factors, JV_ARRAY) &&
              read_uv(jv_get(t, "unequal_variance"), &tr->uv);
@@ -284,7 +305,8 @@ static int read_term(const jv *t, sturdy_term_result *tr)
         const jv *c = jv_get(ci, sturdy_es_names[e]);
         ok = get_num(t, sturdy_es_names[e], &tr->es[e]) && is_kind(c, JV_OBJECT) &&
              get_pair(c, "percentile", &tr->ci_pct[e]) && get_pair(c, "bca", &tr->ci_bca[e]) &&
-             (e != STURDY_ES_PARTIAL_ETA2 || get_pair(c, "noncentral_f", &tr->ncf));
+             (e != STURDY_ES_PARTIAL_ETA2 || get_pair(c, "noncentral_f", &tr->ncf)) &&
+             read_recommended(c, e, tr);
         tr->accel[e] = NAN;
     }
     tr->factors = rd_calloc(factors->n, sizeof *tr->factors);

@@ -442,9 +442,10 @@ static double quantile_sorted(const double *x, size_t B, double q)
 }
 
 sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_result *t,
-                                         char *err)
+                                         int *bca_failed, char *err)
 {
     uint64_t B = r->nboot;
+    *bca_failed = 0;
     if (!t->boot || B == 0)
         return STURDY_OK;
     assert(r->boot_done == B);          /* only a finished run has every replicate */
@@ -452,7 +453,6 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
     if (!x)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     double a2 = (1 - r->opts.conf) / 2;
-    int bca_failed = 0;
     for (int e = 0; e < STURDY_NES; e++) {
         size_t k = 0, below = 0;
         double theta = t->es[e];
@@ -474,7 +474,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
          * estimate, acceleration from the jackknife */
         double frac = (double)below / (double)k, acc = t->accel[e];
         if (frac <= 0 || frac >= 1 || !isfinite(acc)) {
-            bca_failed = 1;
+            *bca_failed = 1;
             continue;
         }
         double z0 = sturdy_norm_ppf(frac);
@@ -485,26 +485,5 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         t->ci_bca[e].hi = quantile_sorted(x, k, ph);
     }
     sturdy_free(x);
-    /* BCa's bias correction follows the replicates: for an effect near zero nearly all of
-     * them lie above the estimate and the interval can end below it. Say so. */
-    int excludes = 0;
-    for (int e = 0; e < STURDY_NES; e++)
-        if (t->es[e] < t->ci_bca[e].lo || t->es[e] > t->ci_bca[e].hi)
-            excludes = 1;
-    if (excludes && !t->boot_note) {
-        t->boot_note = sturdy_strdup(
-            "a BCa interval excludes its own estimate: nearly all replicates lie on one "
-            "side of it, as happens for effects near zero; prefer the percentile or "
-            "noncentral-F interval here");
-        if (!t->boot_note)
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    if (bca_failed && !t->boot_note) {
-        t->boot_note = sturdy_strdup(
-            "some BCa intervals are absent: every replicate fell on one side of the "
-            "estimate, or the jackknife acceleration is undefined");
-        if (!t->boot_note)
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
     return STURDY_OK;
 }

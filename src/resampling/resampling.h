@@ -33,9 +33,17 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
                                    const sturdy_model *m, sturdy_result *r, char *err);
 
 /* Percentile and BCa intervals from a term's replicates (all of them: the finished run)
- * and its acceleration. */
+ * and its acceleration, as computed (intervals.c applies the edges); *bca_failed: some
+ * BCa interval is absent (all replicates on one side, or no acceleration). */
 sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_result *t,
-                                         char *err);
+                                         int *bca_failed, char *err);
+
+/* Every interval of a finished term (intervals.c): percentile and BCa with their edges
+ * (declined below STURDY_BOOT_MIN_DF_ERROR residual df, else clamped to the parameter's
+ * range), the test inversion mapped to the effect sizes, and the recommended interval of
+ * each effect size with its reason; the notes say what was declined or clamped. */
+sturdy_status sturdy_term_intervals(const sturdy_result *r, const sturdy_response_result *resp,
+                                    sturdy_term_result *t, char *err);
 
 /* The test-inversion interval of a term's effect scale s (testinv.c), from nrows
  * replicate rows rows[b·stride + 0, 1, 2] = (vᵀu*_b, ‖u*_b‖², SSE*_b), A = ‖v‖² = SS and
