@@ -117,15 +117,76 @@ static void same_numbers(const char *what, const sturdy_result *a, const sturdy_
             for (int e = 0; e < STURDY_NES; e++) {
                 double x = sturdy_term_effect(a, i, k, e), y = sturdy_term_effect(b, i, k, e);
                 same &= (isnan(x) && isnan(y)) || x == y;
-                for (int m = 0; m < 3; m++) {
+                for (int m = 0; m <= STURDY_CI_TEST_INVERSION; m++) {
                     double l1, h1, l2, h2;
                     int h = sturdy_term_interval(a, i, k, e, (sturdy_ci_method)m, &l1, &h1);
                     same &= h == sturdy_term_interval(b, i, k, e, (sturdy_ci_method)m, &l2, &h2);
                     same &= !h || (l1 == l2 && h1 == h2);
                 }
+                sturdy_ci_method m1, m2;
+                double l1, h1, l2, h2;
+                const char *w1 = sturdy_term_recommended(a, i, k, e, &m1, &l1, &h1);
+                const char *w2 = sturdy_term_recommended(b, i, k, e, &m2, &l2, &h2);
+                same &= m1 == m2 && w1 && w2 && !strcmp(w1, w2) &&
+                        ((isnan(l1) && isnan(l2)) || l1 == l2) &&
+                        ((isnan(h1) && isnan(h2)) || h1 == h2);
             }
         }
     CHECK(what, same);
+}
+
+/* The recommended interval: test inversion under the residual scheme, noncentral F
+ * without replicates or under the wild scheme, none for η² without replicates; the
+ * accessors agree with each other and are in range. */
+static void test_recommended(const sturdy_table *t, const sturdy_result *a)
+{
+    sturdy_ci_method m;
+    double lo, hi, l2, h2;
+    const char *why = sturdy_term_recommended(a, 0, 0, STURDY_ES_PARTIAL_ETA2, &m, &lo, &hi);
+    CHECK("recommended partial η²: test inversion with a reason",
+          m == STURDY_CI_TEST_INVERSION && why && strstr(why, "test inversion"));
+    CHECK("recommended = the test-inversion interval",
+          sturdy_term_interval(a, 0, 0, STURDY_ES_PARTIAL_ETA2, STURDY_CI_TEST_INVERSION, &l2,
+                               &h2) && l2 == lo && h2 == hi && lo >= 0 && lo <= hi && hi < 1);
+    CHECK("partial ω²'s test inversion = partial η²'s (one population quantity)",
+          sturdy_term_interval(a, 0, 0, STURDY_ES_PARTIAL_OMEGA2, STURDY_CI_TEST_INVERSION,
+                               &l2, &h2) && l2 == lo && h2 == hi);
+    double f = sturdy_term_effect(a, 0, 0, STURDY_ES_COHENS_F);
+    sturdy_term_recommended(a, 0, 0, STURDY_ES_COHENS_F, &m, &l2, &h2);
+    CHECK("Cohen's f's interval maps partial η²'s: f = √(η²/(1 − η²))",
+          m == STURDY_CI_TEST_INVERSION && fabs(l2 - sqrt(lo / (1 - lo))) < 1e-12 &&
+          fabs(h2 - sqrt(hi / (1 - hi))) < 1e-12 && f > 0);
+    CHECK("no test inversion for η²",
+          !sturdy_term_interval(a, 0, 0, STURDY_ES_ETA2, STURDY_CI_TEST_INVERSION, &l2, &h2));
+    CHECK("out-of-range recommended: NULL, none, NaN",
+          !sturdy_term_recommended(a, 0, 9, 0, &m, &l2, &h2) && m == STURDY_CI_NONE &&
+          isnan(l2) && isnan(h2));
+    sturdy_options o;
+    set_options(&o);
+    o.bootstrap = 0;
+    sturdy_result *r = run(t, &o, 1, STURDY_OK);
+    if (r) {
+        sturdy_term_recommended(r, 0, 0, STURDY_ES_PARTIAL_ETA2, &m, &lo, &hi);
+        CHECK("no replicates: the noncentral-F interval is recommended",
+              m == STURDY_CI_NONCENTRAL_F &&
+              sturdy_term_interval(r, 0, 0, STURDY_ES_PARTIAL_ETA2, STURDY_CI_NONCENTRAL_F,
+                                   &l2, &h2) && l2 == lo && h2 == hi);
+        why = sturdy_term_recommended(r, 0, 0, STURDY_ES_ETA2, &m, &lo, &hi);
+        CHECK("no replicates: no interval for η², with a reason",
+              m == STURDY_CI_NONE && isnan(lo) && why && strstr(why, "none"));
+    }
+    sturdy_result_free(r);
+    set_options(&o);
+    o.boot_scheme = STURDY_BOOT_WILD;
+    r = run(t, &o, 1, STURDY_OK);
+    if (r) {
+        why = sturdy_term_recommended(r, 0, 0, STURDY_ES_PARTIAL_ETA2, &m, &lo, &hi);
+        CHECK("wild scheme: noncentral F recommended (the test inversion is computed)",
+              m == STURDY_CI_NONCENTRAL_F && strstr(why, "residual") &&
+              sturdy_term_interval(r, 0, 0, STURDY_ES_PARTIAL_ETA2, STURDY_CI_TEST_INVERSION,
+                                   &l2, &h2));
+    }
+    sturdy_result_free(r);
 }
 
 static void test_read_back(const sturdy_result *r)
@@ -316,6 +377,7 @@ int main(void)
         CHECK("out-of-range term values are NaN",
               isnan(sturdy_term_get(a, 0, 3, STURDY_TV_F)) &&
               isnan(sturdy_term_get(a, 1, 0, STURDY_TV_F)));
+        test_recommended(tc, a);
         test_read_back(a);
         test_parts(tv, a);
         test_bad_parts(tv);

@@ -159,6 +159,13 @@ static void fill_term(sturdy_term_result *t, char *label, char **fac, size_t nf,
         t->ci_bca[e] = (sturdy_pair){ 0.02 * (e + 1), 0.25 * (e + 1) };
     }
     t->ncf = (sturdy_pair){ 0.015, 0.3 };
+    for (int e = 0; e < STURDY_NES; e++) {
+        int lam = e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2;
+        t->ci_ti[e] = lam ? (sturdy_pair){ 0.0125, 0.375 } : (sturdy_pair){ NAN, NAN };
+        t->ci_rec_method[e] = lam ? STURDY_CI_TEST_INVERSION : STURDY_CI_BCA;
+        t->ci_rec[e] = lam ? t->ci_ti[e] : t->ci_bca[e];
+        t->ci_rec_reason[e] = lam ? "test inversion, residual scheme" : "BCa, approximate";
+    }
     t->exceed = 212;
     t->exceed_fwer = 499;
     t->p_perm = 0.0213;
@@ -213,6 +220,9 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
     for (int e = 0; e < STURDY_NES; e++) {
         terms1[2].es[e] = NAN;
         terms1[2].ci_pct[e] = terms1[2].ci_bca[e] = (sturdy_pair){ NAN, NAN };
+        terms1[2].ci_ti[e] = terms1[2].ci_rec[e] = (sturdy_pair){ NAN, NAN };
+        terms1[2].ci_rec_method[e] = STURDY_CI_NONE;
+        terms1[2].ci_rec_reason[e] = "no F-test, so no interval";
     }
     terms1[2].ncf = (sturdy_pair){ NAN, NAN };
     terms1[2].verdict = STURDY_VERDICT_NONE;
@@ -356,8 +366,12 @@ static void test_json(const sturdy_result *r)
     static const char *const term[] = { "term", "factors", "df", "ss", "ms", "f", "p",
         "note", "p_perm", "p_perm_ci", "p_perm_fwer", "p_perm_holm", "exceed", "exceed_fwer",
         "perm_note", "eta2", "partial_eta2", "omega2", "partial_omega2", "cohens_f", "ci",
-        "eta2", "percentile", "bca", "partial_eta2", "percentile", "bca", "noncentral_f",
-        "omega2", "partial_omega2", "cohens_f", "boot_note", "verdict", "verdict_reason",
+        "eta2", "percentile", "bca", "recommended", "method", "interval", "reason",
+        "partial_eta2", "percentile", "bca", "noncentral_f", "test_inversion", "recommended",
+        "method", "interval", "reason", "omega2", "percentile", "bca", "recommended",
+        "partial_omega2", "percentile", "bca", "test_inversion", "recommended", "cohens_f",
+        "percentile", "bca", "test_inversion", "recommended", "boot_note", "ci_note",
+        "verdict", "verdict_reason",
         "p_perm_straddles_alpha", "error", "df", "ss", "ms", "note", "total", "df", "ss",
         "cells", "mean", "sd", "diagnostics", "shapiro_wilk", "w", "p", "note", "skewness",
         "excess_kurtosis", "brown_forsythe", "f", "df1", "df2", "p", "note",
@@ -396,6 +410,24 @@ static void test_json(const sturdy_result *r)
     CHECK("json verdict name", strstr(resp, "\"verdict\": \"classical-only\",") != NULL);
     CHECK("json notes absent are null", strstr(resp, "\"boot_note\": null,") != NULL);
     CHECK("json interval pair", strstr(resp, "\"noncentral_f\": [0.015, 0.3]") != NULL);
+    CHECK("json test inversion pair", strstr(resp, "\"test_inversion\": [0.0125, 0.375]") != NULL);
+    CHECK("json recommended object",
+          strstr(resp, "\"method\": \"test-inversion\",\n") &&
+          strstr(resp, "\"interval\": [0.0125, 0.375],\n") &&
+          strstr(resp, "\"reason\": \"test inversion, residual scheme\"\n") &&
+          strstr(resp, "\"method\": \"bca\",\n"));
+    {
+        /* the first term's ci.eta2 object, up to its closing brace */
+        const char *ci = strstr(resp, "\"ci\": {");
+        const char *eta = ci ? strstr(ci, "\"eta2\": {") : NULL;
+        const char *end = eta ? strstr(eta, "}") : NULL;
+        const char *ti = eta ? strstr(eta, "\"test_inversion\"") : NULL;
+        CHECK("json η² has no test_inversion key", end && (!ti || ti > end));
+    }
+    CHECK("json no recommended interval: method and interval null, reason kept",
+          t3 && strstr(t3, "\"method\": null,\n") && strstr(t3, "\"interval\": null,\n") &&
+          strstr(t3, "\"reason\": \"no F-test, so no interval\""));
+    CHECK("json absent interval note is null", strstr(resp, "\"ci_note\": null,") != NULL);
     CHECK("json control char as \\u0001", strstr(s, "\\u0001") != NULL);
     CHECK("json invalid byte replaced", strstr(s, "\\ufffd") && !strchr(s, '\377'));
     CHECK("json file name quote escaped", strstr(s, "\"file\": \"trial \\\"7\\\".csv\",") != NULL);
@@ -651,7 +683,15 @@ static void test_csv(const sturdy_result *r)
     CHECK_INT("csv records: header + 2 responses × (3 terms + residual + total)",
               csv_records(s, &nf, &ok), 11);
     CHECK("csv every record has the header's field count", ok);
-    CHECK_INT("csv fields per record", nf, 56);
+    /* 56 before the test inversion, + 5 effect sizes × (ti lo, hi, rec method, lo, hi) */
+    CHECK_INT("csv fields per record", nf, 81);
+    CHECK("csv test inversion and recommended columns",
+          strstr(s, ",partial_eta2_ncf_lo,partial_eta2_ncf_hi,partial_eta2_ti_lo,"
+                    "partial_eta2_ti_hi,partial_eta2_rec_method,partial_eta2_rec_lo,"
+                    "partial_eta2_rec_hi,") &&
+          strstr(s, ",0.015,0.3,0.0125,0.375,test-inversion,0.0125,0.375,") &&
+          strstr(s, ",eta2_bca_lo,eta2_bca_hi,eta2_ti_lo,eta2_ti_hi,eta2_rec_method,") &&
+          strstr(s, ",0.02,0.25,,,bca,0.02,0.25,"));
     CHECK("csv quotes a field with a comma", strstr(s, "\n\"time, s\",dose,") != NULL);
     CHECK("csv quotes doubled and line break kept inside quotes",
           strstr(s, "\"cannot be tested:\nno \"\"residual\"\" df; not rearranged\"") != NULL);

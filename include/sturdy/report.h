@@ -34,6 +34,7 @@ typedef enum {
     STURDY_SETTING_FACTORS,          /* the factor columns */
     STURDY_SETTING_BLOCK,            /* the block column */
     STURDY_SETTING_JSON,             /* asking for the JSON result */
+    STURDY_SETTING_CONF,             /* the confidence level of the intervals */
     STURDY_NSETTINGS
 } sturdy_setting;
 

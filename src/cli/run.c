@@ -104,6 +104,7 @@ int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
     ro.setting_names[STURDY_SETTING_FACTORS] = "-f";
     ro.setting_names[STURDY_SETTING_BLOCK] = "--block";
     ro.setting_names[STURDY_SETTING_JSON] = "--format json";
+    ro.setting_names[STURDY_SETTING_CONF] = "--conf";
     switch (c->format) {
     case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
     case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);

@@ -36,10 +36,10 @@ static void csv_num(sturdy_buf *b, double v)
 /* Notes of a term joined with "; " into one field. */
 static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
 {
-    const char *parts[3] = { t->note, t->perm_note, t->boot_note };
+    const char *parts[4] = { t->note, t->perm_note, t->boot_note, t->ci_note };
     sturdy_buf joined;
     sturdy_buf_init(&joined);
-    for (int i = 0; i < 3; i++) {
+    for (int i = 0; i < 4; i++) {
         if (!parts[i]) continue;
         if (joined.len) sturdy_buf_puts(&joined, "; ");
         sturdy_buf_puts(&joined, parts[i]);
@@ -95,6 +95,8 @@ static void write_header(sturdy_buf *b)
         sturdy_buf_printf(b, ",%s_pct_lo,%s_pct_hi,%s_bca_lo,%s_bca_hi", n, n, n, n);
         if (e == STURDY_ES_PARTIAL_ETA2)
             sturdy_buf_printf(b, ",%s_ncf_lo,%s_ncf_hi", n, n);
+        sturdy_buf_printf(b, ",%s_ti_lo,%s_ti_hi,%s_rec_method,%s_rec_lo,%s_rec_hi", n, n, n,
+                          n, n);
     }
     sturdy_buf_puts(b, ",exceed,verdict,p_perm_straddles_alpha,verdict_reason,note");
     sturdy_buf_puts(b, ",uv_wald,uv_statistic,uv_df1,uv_df2,uv_p,uv_p_perm,uv_p_perm_lo,"
@@ -148,6 +150,13 @@ static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
             csv_num(b, t->ncf.lo);
             csv_num(b, t->ncf.hi);
         }
+        csv_num(b, t->ci_ti[e].lo);
+        csv_num(b, t->ci_ti[e].hi);
+        sturdy_buf_put(b, ",", 1);
+        if (t->ci_rec_method[e] != STURDY_CI_NONE)
+            sturdy_buf_puts(b, sturdy_ci_method_name((sturdy_ci_method)t->ci_rec_method[e]));
+        csv_num(b, t->ci_rec[e].lo);
+        csv_num(b, t->ci_rec[e].hi);
     }
     int has_perm = !isnan(t->p_perm);
     sturdy_buf_put(b, ",", 1);

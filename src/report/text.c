@@ -70,6 +70,19 @@ static const char *perm_reason(const tw *w, const sturdy_term_result *t)
     return "not computed";
 }
 
+/* "test inversion", "noncentral F", "BCa", "percentile" */
+static const char *ci_method_words(sturdy_ci_method m)
+{
+    switch (m) {
+    case STURDY_CI_TEST_INVERSION: return "test inversion";
+    case STURDY_CI_NONCENTRAL_F: return "noncentral F";
+    case STURDY_CI_BCA: return "BCa";
+    case STURDY_CI_PERCENTILE: return "percentile";
+    case STURDY_CI_NONE: break;
+    }
+    return "none";
+}
+
 static const char *boot_reason(const tw *w, const sturdy_term_result *t)
 {
     const sturdy_result *r = w->r;
@@ -397,6 +410,47 @@ static void uv_details(tw *w, const sturdy_term_result *t)
     sturdy_buf_free(&s);
 }
 
+/* "partial η² 0.104: 95% test inversion 0.0003–0.29 (recommended); noncentral F 0–0.22,
+ * BCa 0.0009–0.38": the recommended interval first with its method, the others after. */
+static void partial_eta2_line(tw *w, const sturdy_term_result *t)
+{
+    const int e = STURDY_ES_PARTIAL_ETA2;
+    static const sturdy_ci_method order[3] = { STURDY_CI_TEST_INVERSION,
+                                               STURDY_CI_NONCENTRAL_F, STURDY_CI_BCA };
+    char x[32], c[32], range[TW_RANGE_LEN + 16];
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    tw_fmt_g(w->r->opts.conf * 100, 4, c);
+    tw_fmt_g(t->es[e], 3, x);
+    sturdy_buf_printf(&s, "partial η² %s: %s%%", x, c);
+    int rec = t->ci_rec_method[e];
+    if (rec != STURDY_CI_NONE) {
+        tw_fmt_range(t->ci_rec[e], tw_fmt_es, range);
+        sturdy_buf_printf(&s, " %s %s (recommended)",
+                          ci_method_words((sturdy_ci_method)rec), range);
+    }
+    int first = 1;
+    for (int k = 0; k < 3; k++) {
+        sturdy_pair p = order[k] == STURDY_CI_TEST_INVERSION ? t->ci_ti[e]
+                        : order[k] == STURDY_CI_NONCENTRAL_F ? t->ncf : t->ci_bca[e];
+        if ((int)order[k] == rec)
+            continue;
+        /* the test inversion is absent without replicates: nothing to say then */
+        if (order[k] == STURDY_CI_TEST_INVERSION && isnan(p.lo))
+            continue;
+        tw_fmt_range(p, tw_fmt_es, range);
+        if (order[k] == STURDY_CI_BCA && isnan(p.lo))
+            snprintf(range + strlen(range), sizeof range - strlen(range), " [%zu]",
+                     tw_footnote(w, boot_reason(w, t)));
+        sturdy_buf_printf(&s, "%s %s %s", first ? (rec != STURDY_CI_NONE ? ";" : "") : ",",
+                          ci_method_words(order[k]), range);
+        first = 0;
+    }
+    if (s.failed) w->b->failed = 1;
+    else tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s.data);
+    sturdy_buf_free(&s);
+}
+
 static void term_details(tw *w, const sturdy_term_result *t)
 {
     const sturdy_result *r = w->r;
@@ -420,17 +474,8 @@ static void term_details(tw *w, const sturdy_term_result *t)
         tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s);
     }
     uv_details(w, t);
-    if (!isnan(t->es[STURDY_ES_PARTIAL_ETA2])) {
-        char bca[TW_RANGE_LEN + 16], ncf[TW_RANGE_LEN];
-        tw_fmt_g(t->es[STURDY_ES_PARTIAL_ETA2], 3, x);
-        tw_fmt_range(t->ci_bca[STURDY_ES_PARTIAL_ETA2], tw_fmt_es, bca);
-        if (isnan(t->ci_bca[STURDY_ES_PARTIAL_ETA2].lo))
-            snprintf(bca + strlen(bca), sizeof bca - strlen(bca), " [%zu]",
-                     tw_footnote(w, boot_reason(w, t)));
-        tw_fmt_range(t->ncf, tw_fmt_es, ncf);
-        snprintf(s, sizeof s, "partial η² %s: %s%% BCa %s, noncentral F %s", x, c, bca, ncf);
-        tw_para(w, DETAIL_INDENT, DETAIL_INDENT + 2, s);
-    }
+    if (!isnan(t->es[STURDY_ES_PARTIAL_ETA2]))
+        partial_eta2_line(w, t);
 }
 
 /* Width of the term column: the longest label up to W_TERM_MAX, at least `base`; a
@@ -496,15 +541,86 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_footnotes(w);
 }
 
+/* The method most terms' recommended interval of effect size e takes (the column's), or
+ * STURDY_CI_NONE. */
+static int column_method(const sturdy_response_result *rr, int e)
+{
+    int count[4] = { 0 }, best = STURDY_CI_NONE;
+    for (size_t k = 0; k < rr->nterms; k++) {
+        int m = rr->terms[k].ci_rec_method[e];
+        if (m >= 0 && m < 4) count[m]++;
+    }
+    for (int m = 0; m < 4; m++)
+        if (count[m] > 0 && (best == STURDY_CI_NONE || count[m] > count[best])) best = m;
+    return best;
+}
+
+/* "test inversion for partial η², partial ω² and Cohen's f; BCa for η² and ω²" */
+static void methods_summary(sturdy_buf *s, const int col[STURDY_NES],
+                            const char *const heads[STURDY_NES])
+{
+    int any = 0;
+    for (int m = 3; m >= 0; m--) {
+        int n = 0, total = 0;
+        for (int e = 0; e < STURDY_NES; e++) total += col[e] == m;
+        for (int e = 0; e < STURDY_NES; e++) {
+            if (col[e] != m) continue;
+            if (n == 0) sturdy_buf_printf(s, "%s%s for ", any ? "; " : "",
+                                          ci_method_words((sturdy_ci_method)m));
+            sturdy_buf_printf(s, "%s%s", n == 0 ? "" : n == total - 1 ? " and " : ", ",
+                              heads[e]);
+            n++;
+            any = 1;
+        }
+    }
+    if (!any) sturdy_buf_puts(s, "none");
+}
+
+/* One line, once per report, where a term is significant at α while its recommended
+ * interval of partial η² starts at 0. */
+static void zero_explained(tw *w, const sturdy_response_result *rr)
+{
+    const sturdy_result *r = w->r;
+    const int e = STURDY_ES_PARTIAL_ETA2;
+    if (w->explained_zero) return;
+    int seen = 0;
+    for (size_t k = 0; k < rr->nterms && !seen; k++) {
+        const sturdy_term_result *t = &rr->terms[k];
+        seen = (t->p < r->opts.alpha || t->p_perm < r->opts.alpha) &&
+               t->ci_rec_method[e] != STURDY_CI_NONE && t->ci_rec[e].lo == 0;
+    }
+    if (!seen) return;
+    w->explained_zero = 1;
+    char c[32], half[32], a[32], c2[32], how[64] = "";
+    tw_fmt_g(r->opts.conf * 100, 4, c);
+    tw_fmt_g((1 - r->opts.conf) / 2, 4, half);
+    tw_fmt_g(r->opts.alpha, 4, a);
+    tw_fmt_g((1 - 2 * r->opts.alpha) * 100, 4, c2);
+    const char *conf = tw_name(w, STURDY_SETTING_CONF);
+    if (conf) snprintf(how, sizeof how, " (%s %g)", conf, 1 - 2 * r->opts.alpha);
+    tw_paraf(w, 2, 2, "A term can be significant at α = %s while its %s%% interval of "
+             "partial η² starts at 0: a two-sided %s%% interval matches a one-sided test at "
+             "%s; the %s%% interval%s is the one that matches the F-test at α = %s.",
+             a, c, c, half, c2, how, a);
+    tw_nl(w);
+}
+
 static void effects_table(tw *w, const sturdy_response_result *rr)
 {
     static const char *const heads[STURDY_NES] = { "η²", "partial η²", "ω²", "partial ω²",
                                                    "Cohen's f" };
-    char s[160], c[32], x[TW_RANGE_LEN + 16];
+    char c[32], x[TW_RANGE_LEN + 16];
+    int col[STURDY_NES];
+    for (int e = 0; e < STURDY_NES; e++) col[e] = column_method(rr, e);
     tw_fmt_g(w->r->opts.conf * 100, 4, c);
-    snprintf(s, sizeof s, "Effect sizes, with the %s%% BCa bootstrap interval under each "
-             "(percentile intervals: JSON/CSV)", c);
-    tw_para(w, 2, 2, s);
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    sturdy_buf_printf(&s, "Effect sizes, with the recommended %s%% interval under each: ", c);
+    methods_summary(&s, col, heads);
+    sturdy_buf_puts(&s, " (the others: JSON/CSV)");
+    if (s.failed) w->b->failed = 1;
+    else tw_para(w, 2, 2, s.data);
+    sturdy_buf_free(&s);
     tw_indent(w, 2);
     tw_style(w, "1");
     int wt = term_width(rr, W_ES_TERM);
@@ -525,18 +641,25 @@ static void effects_table(tw *w, const sturdy_response_result *rr)
         tw_nl(w);
         if (isnan(t->es[STURDY_ES_PARTIAL_ETA2])) continue;
         tw_indent(w, 2);
-        tw_cell(w, "", wt, 0);
+        /* what the interval note says (clamped, or an estimate outside) as a footnote */
+        if (t->ci_note) snprintf(x, sizeof x, "  [%zu]", tw_footnote(w, t->ci_note));
+        else x[0] = '\0';
+        tw_cell(w, x, wt, 0);
         for (int e = 0; e < STURDY_NES; e++) {
-            tw_fmt_range(t->ci_bca[e], tw_fmt_es, x);
-            if (isnan(t->ci_bca[e].lo) && !isnan(t->es[e]))
+            tw_fmt_range(t->ci_rec[e], tw_fmt_es, x);
+            /* a missing interval, or one of another method than the column's, says why */
+            if ((t->ci_rec_method[e] == STURDY_CI_NONE || t->ci_rec_method[e] != col[e]) &&
+                !isnan(t->es[e]))
                 snprintf(x + strlen(x), sizeof x - strlen(x), " [%zu]",
-                         tw_footnote(w, boot_reason(w, t)));
+                         tw_footnote(w, t->ci_rec_reason[e] ? t->ci_rec_reason[e]
+                                                            : boot_reason(w, t)));
             tw_put(w, "  ");
             tw_cell(w, x, W_ES, 1);
         }
         tw_nl(w);
     }
     tw_footnotes(w);
+    zero_explained(w, rr);
 }
 
 /* Cells listed in the text report; the JSON output has them all. */

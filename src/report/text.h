@@ -24,6 +24,7 @@ typedef struct {
     const char *fn[TW_MAX_FOOTNOTES];
     const char *const *names;  /* the caller's names of settings (report.h), entries NULL */
     char no_perm[96], no_boot[96], json_more[96]; /* reasons that name a setting */
+    int explained_zero;        /* the "significant, yet the interval reaches 0" line is out */
 } tw;
 
 /* The caller's name of setting k, or NULL (the report then says it in words). */

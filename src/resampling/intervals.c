@@ -111,14 +111,14 @@ static void bootstrap_edges(const sturdy_response_result *resp, sturdy_term_resu
         if (moved) list_add(&clamped, &c_first, es_text[e]);
         if (out) list_add(&excl, &x_first, es_text[e]);
     }
-    if (!c_first)
-        sturdy_buf_printf(note, "bootstrap interval ends beyond the parameter's range were "
-                          "moved to its edge (an effect size cannot be below 0 or, except "
-                          "f, above 1): %s", clamped.data);
-    if (!x_first)
-        sturdy_buf_printf(note, "%sa percentile or BCa interval excludes its own estimate "
-                          "(%s): nearly all replicates lie on one side of it, as for effects "
-                          "near zero, or the estimate lies outside the parameter's range",
+    if (clamped.failed || excl.failed)
+        note->failed = 1;
+    else if (!c_first)
+        sturdy_buf_printf(note, "percentile or BCa ends outside the effect size's range "
+                          "were moved into it: %s", clamped.data);
+    if (!x_first && !note->failed)
+        sturdy_buf_printf(note, "%sa percentile or BCa interval excludes the estimate: %s "
+                          "(an estimate below 0, or nearly all replicates on one side of it)",
                           note->len ? "; " : "", excl.data);
     sturdy_buf_free(&clamped);
     sturdy_buf_free(&excl);
@@ -209,11 +209,13 @@ static void recommended_edges(const sturdy_term_result *t, sturdy_buf *note)
         if (t->ci_rec_method[e] != STURDY_CI_NONE && t->ci_rec_method[e] != STURDY_CI_BCA &&
             isfinite(t->es[e]) && !inside(t->es[e], t->ci_rec[e]))
             list_add(&names, &first, es_text[e]);
-    if (!first)
-        sturdy_buf_printf(note, "%sthe recommended interval excludes the sample estimate "
-                          "(%s): it is an interval for the population value, which is never "
-                          "negative (the sample ω² can be) and which the sample partial η² "
-                          "overstates for small effects", note->len ? "; " : "", names.data);
+    if (names.failed)
+        note->failed = 1;
+    else if (!first)
+        sturdy_buf_printf(note, "%sthe recommended interval excludes the estimate: %s (the "
+                          "population value is never below 0, the sample ω² can be; for small "
+                          "effects the sample value runs high)", note->len ? "; " : "",
+                          names.data);
     sturdy_buf_free(&names);
 }
 
