@@ -112,9 +112,14 @@ void cli_list_free(cli_list *l);
 
 /* Write `len` bytes to `path`, or to standard output when path is NULL or "-". A file is
  * written to "PATH.tmp.XXXXXX" in the same folder, synced and renamed over PATH, so a
- * reader never sees a partial result; on failure the temporary file is removed.
- * Returns 0, or STURDY_EOUTPUT after printing a message naming the file. */
+ * reader never sees a partial result; on failure the temporary file is removed. A path
+ * that is a symbolic link to a file (or to nowhere) is refused; devices and pipes, also
+ * through a link, are written in place. Returns 0, or STURDY_EOUTPUT after printing a
+ * message naming the file. */
 int cli_write_output(const char *path, const char *data, size_t len);
+
+/* 1 when paths a and b name the same existing file (device and inode), else 0. */
+int cli_same_file(const char *a, const char *b);
 
 /* The whole file at `path` in a malloc-ed buffer (not NUL-terminated), its size in
  * *len; NULL when it cannot be read. */

@@ -285,6 +285,13 @@ int sturdy_cli_merge(int argc, char **argv)
         c.quiet = m.quiet;
         rc = locate_data(&parts[0], &m, &c, &joined);
     }
+    for (int i = 0; i < nparts && !rc && m.out_path; i++)
+        if (cli_same_file(m.out_path, parts[i].path))
+            rc = cli_usage_error("merge", "-o '%s' is the part %s itself; the result would "
+                                 "replace it: name another file", m.out_path, parts[i].path);
+    if (!rc && m.out_path && cli_same_file(m.out_path, c.data_path ? c.data_path : c.data))
+        rc = cli_usage_error("merge", "-o '%s' is the data file itself; the result would "
+                             "replace the data: name another file", m.out_path);
     if (!rc)
         rc = combine(&c, parts, nparts, m.out_path);
     cli_check_free(&c);

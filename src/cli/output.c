@@ -104,50 +104,34 @@ static int write_atomic(const char *target, const char *shown, const char *data,
     return 0;
 }
 
-/* Links followed before giving up (as the kernel's own limit of 40, but smaller). */
-#define MAX_LINK_HOPS 16
-
-/* When `path` is a symbolic link, the file it finally points to (malloc'ed), so that the
- * rename replaces that file and not the link; NULL when it is not a link or on error. */
-static char *follow_links(const char *path)
+int cli_same_file(const char *a, const char *b)
 {
-    char *cur = NULL;
-    for (int hop = 0; hop < MAX_LINK_HOPS; hop++) {
-        const char *p = cur ? cur : path;
-        struct stat sb;
-        if (lstat(p, &sb) != 0 || !S_ISLNK(sb.st_mode)) return cur;
-        char target[4096];
-        ssize_t n = readlink(p, target, sizeof target - 1);
-        if (n < 0) break;
-        target[n] = '\0';
-        const char *slash = strrchr(p, '/');
-        size_t dirlen = target[0] == '/' || !slash ? 0 : (size_t)(slash - p) + 1;
-        char *next = malloc(dirlen + (size_t)n + 1);
-        if (!next) break;
-        memcpy(next, p, dirlen);
-        memcpy(next + dirlen, target, (size_t)n + 1);
-        free(cur);
-        cur = next;
-    }
-    free(cur);
-    return NULL;
+    struct stat sa, sb;
+    return a && b && stat(a, &sa) == 0 && stat(b, &sb) == 0 && sa.st_dev == sb.st_dev &&
+           sa.st_ino == sb.st_ino;
 }
 
 int cli_write_output(const char *path, const char *data, size_t len)
 {
     if (!path || strcmp(path, "-") == 0) return write_stdout(data, len);
-    struct stat sb;
-    if (stat(path, &sb) == 0 && !S_ISREG(sb.st_mode)) {
-        if (S_ISDIR(sb.st_mode)) {
-            fprintf(stderr, "sturdy: cannot write '%s': it is a folder\n", path);
-            return STURDY_EOUTPUT;
-        }
-        return write_special(path, data, len);
+    struct stat sb, lsb;
+    int exists = stat(path, &sb) == 0;
+    if (exists && S_ISDIR(sb.st_mode)) {
+        fprintf(stderr, "sturdy: cannot write '%s': it is a folder\n", path);
+        return STURDY_EOUTPUT;
     }
-    char *resolved = follow_links(path);
-    int rc = write_atomic(resolved ? resolved : path, path, data, len);
-    free(resolved);
-    return rc;
+    /* a device, pipe or socket, also through a link (/dev/stdout) */
+    if (exists && !S_ISREG(sb.st_mode)) return write_special(path, data, len);
+    /* A link to a file, or to nowhere, is refused: in a shared folder a link planted by
+     * someone else would redirect the result onto any file the user can write. The
+     * rename below never follows links, so no other path can be replaced. */
+    if (lstat(path, &lsb) == 0 && S_ISLNK(lsb.st_mode)) {
+        fprintf(stderr, "sturdy: will not write '%s': it is a symbolic link%s; give the path "
+                        "of a file, not of a link (nothing was written)\n", path,
+                exists ? "" : " to a file that does not exist");
+        return STURDY_EOUTPUT;
+    }
+    return write_atomic(path, path, data, len);
 }
 
 char *cli_read_file(const char *path, size_t *len)

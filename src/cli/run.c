@@ -180,6 +180,11 @@ int cli_check_run(cli_check *c)
 {
     char err[STURDY_ERR_LEN] = "";
     sturdy_result *r = NULL;
+    /* -o naming the data file would replace the data with the report */
+    if (!c->demo && c->out_path && cli_same_file(c->out_path, c->data_path ? c->data_path
+                                                                           : c->data))
+        return cli_usage_error(c->command, "-o '%s' is the data file itself; the report "
+                               "would replace the data: name another file", c->out_path);
     int st = cli_check_compute(c, &r, err);
     if (st) {
         if (cli_mpi_rank() == 0 || st != STURDY_EUSAGE) {

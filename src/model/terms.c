@@ -72,17 +72,24 @@ static sturdy_status add_factor_term(sturdy_design *d, uint32_t mask, size_t k,
     t->mask = mask;
     t->order = k;
     size_t cols = 1, len = 0;
+    int over = 0;                /* more than max_columns, without overflowing size_t */
     for (size_t f = 0; f < m; f++)
         if (mask & (1u << f)) {
-            cols *= d->factors[f].nlevels - 1;
+            size_t l = d->factors[f].nlevels - 1;
+            if (l && cols > max_columns / l)
+                over = 1;
+            else
+                cols *= l;
             len += strlen(d->factors[f].name) + 2;
-            if (cols > max_columns)
-                break;
         }
+    /* *p counts the intercept, so the columns so far are *p − 1 (the limit may be as
+       large as SIZE_MAX: compare without adding) */
+    over = over || *p - 1 > max_columns - cols;
     t->ncols = cols;
     t->col0 = *p;
-    *p += cols;
-    if (cols > max_columns || *p > max_columns + 1)
+    if (!over)
+        *p += cols;
+    if (over)
         return sturdy_fail(err, STURDY_EMODEL,
                            "the model needs more than %zu coded columns (at term "
                            "%zu of order %zu); lower the interaction order or raise the limit on "
