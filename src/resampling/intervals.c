@@ -166,8 +166,8 @@ static const char *recommend(const sturdy_result *r, const sturdy_response_resul
             *method = STURDY_CI_TEST_INVERSION;
             *p = t->ci_ti[e];
             return "bootstrap test inversion: the noncentral-F interval with the "
-                   "bootstrap's distribution of F; the same under normal errors, and it "
-                   "holds its coverage better under skewed or heavy-tailed ones";
+                   "bootstrap's distribution of F in place of the normal theory's (the same "
+                   "under normal errors)";
         }
         sturdy_pair q = ncf_as(t, e);
         if (!present(q))
