@@ -61,7 +61,7 @@ ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libp
 MPI_PKGS     := libopenmpi-dev openmpi-bin
 
 .PHONY: all sturdy shared deps deps-test demo check test-bins sanitize install uninstall clean \
-        bench calibration
+        bench calibration coverage
 
 all: sturdy shared
 
@@ -183,6 +183,12 @@ uninstall:
 # on 2 cores); `make check` runs it with 400 (table) and 1000 (asserted test).
 calibration: deps-test sturdy
 	STURDY_CALIB_N=2000 $(PYTHON3) tests/xcheck_unequal_calibration.py
+
+# The whole coverage table of the effect-size intervals (2 designs × 2 cell sizes × 4 error
+# laws × 3 effects, STURDY_COVERAGE_N datasets per row, default 1000; about 25 minutes on
+# 2 cores at 1000). `make check` runs only the asserted rows.
+coverage: deps-test sturdy
+	STURDY_COVERAGE_FULL=1 $(PYTHON3) tests/xcheck_coverage.py
 
 bench: deps-test sturdy
 	bash bench/run.sh

@@ -61,23 +61,37 @@ def need_binary():
     return path
 
 
-def need_probe(name):
+def probe_path(name):
     """The driver tests/<name>.c as built in $STURDY_BUILD/tests (default build/); ends
-    the run when it is not built. Returns a function that feeds it query lines and
-    returns its answer lines, one per query (a crash or a missing answer ends the run)."""
+    the run when it is not built."""
     path = os.path.join(os.environ.get("STURDY_BUILD", "build"), "tests", name)
     if not os.access(path, os.X_OK):
         abort("probe %s not built (make test-bins)" % path)
+    return path
 
-    def probe(lines):
+
+def need_problem_probe(name):
+    """A driver that reads problems of one or more lines and answers each with one line:
+    returns a function (lines, count) that feeds it the lines and returns its count
+    answer lines (a crash or a missing answer ends the run)."""
+    path = probe_path(name)
+
+    def probe(lines, count):
         proc = subprocess.run([path], input="\n".join(lines) + "\n", capture_output=True,
-                              text=True, timeout=120)
+                              text=True, timeout=600)
         out = proc.stdout.splitlines()
-        if proc.returncode != 0 or len(out) != len(lines):
+        if proc.returncode != 0 or len(out) != count:
             abort("probe failed (exit %d, %d of %d answers): %s"
-                  % (proc.returncode, len(out), len(lines), proc.stderr.strip()))
+                  % (proc.returncode, len(out), count, proc.stderr.strip()))
         return out
     return probe
+
+
+def need_probe(name):
+    """The driver tests/<name>.c, one answer line per query line: returns a function that
+    feeds it query lines and returns its answer lines."""
+    run = need_problem_probe(name)
+    return lambda lines: run(lines, len(lines))
 
 
 def close(name, obs, exp, tol, rel, source, floor=0.0):

@@ -437,6 +437,26 @@ def sum_coded_factorial(codes, nlev):
     return np.hstack(cols), blocks
 
 
+def demo_fit(path):
+    """The demo table (examples/demo.csv): its used rows' response build_min, the
+    full-factorial sum-coded model of runner × cache × tests, and world() on them.
+    Returns (y, X_full, world)."""
+    import csv
+    with open(path) as fh:
+        recs = [r for r in csv.DictReader(fh) if r["build_min"].strip() not in ("", "NA")]
+    facs = ["runner", "cache", "tests"]
+    levels = [sorted({r[f] for r in recs}) for f in facs]
+    codes = np.array([[levels[j].index(r[f]) for j, f in enumerate(facs)] for r in recs])
+    y = np.array([float(r["build_min"]) for r in recs])
+    X, _ = sum_coded_factorial(codes, [len(lv) for lv in levels])
+    return y, X, world(y, X)
+
+
+def json_rows(rows):
+    """A JSON array of replicate rows (null for NaN) as a float array."""
+    return np.array([[math.nan if x is None else x for x in row] for row in rows])
+
+
 def type3_pieces(X_full, blocks, mask):
     """(X_red, Q) of a term under Type III (adjusted for every other term)."""
     keep = [c for m, cs in blocks.items() if m != mask for c in cs]

@@ -316,7 +316,7 @@ static void test_bad_parts(const sturdy_table *t)
     refused_part(text, "\"boot\": [\n", first[0] ? first : "?", "[\"x\"",
                  "a replicate value that is text", "neither a number nor null");
     refused_part(text, "\"boot\": [\n", "\n              [", "\n              [1, ",
-                 "a replicate row of 9 values", "does not hold 8 values");
+                 "a replicate row of 10 values", "does not hold 9 values");
     free(text);
     sturdy_result_free(r);
 }

@@ -162,6 +162,7 @@ static void fill_term(sturdy_term_result *t, char *label, char **fac, size_t nf,
     for (int e = 0; e < STURDY_NES; e++) {
         int lam = e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2;
         t->ci_ti[e] = lam ? (sturdy_pair){ 0.0125, 0.375 } : (sturdy_pair){ NAN, NAN };
+        t->ci_sti[e] = lam ? (sturdy_pair){ 0.00625, 0.4375 } : (sturdy_pair){ NAN, NAN };
         t->ci_rec_method[e] = lam ? STURDY_CI_TEST_INVERSION : STURDY_CI_BCA;
         t->ci_rec[e] = lam ? t->ci_ti[e] : t->ci_bca[e];
         t->ci_rec_reason[e] = lam ? "test inversion, residual scheme" : "BCa, approximate";
@@ -221,6 +222,7 @@ static void build(sturdy_result *r, sturdy_design *d, sturdy_response_result res
         terms1[2].es[e] = NAN;
         terms1[2].ci_pct[e] = terms1[2].ci_bca[e] = (sturdy_pair){ NAN, NAN };
         terms1[2].ci_ti[e] = terms1[2].ci_rec[e] = (sturdy_pair){ NAN, NAN };
+        terms1[2].ci_sti[e] = (sturdy_pair){ NAN, NAN };
         terms1[2].ci_rec_method[e] = STURDY_CI_NONE;
         terms1[2].ci_rec_reason[e] = "no F-test, so no interval";
     }
@@ -367,10 +369,13 @@ static void test_json(const sturdy_result *r)
         "note", "p_perm", "p_perm_ci", "p_perm_fwer", "p_perm_holm", "exceed", "exceed_fwer",
         "perm_note", "eta2", "partial_eta2", "omega2", "partial_omega2", "cohens_f", "ci",
         "eta2", "percentile", "bca", "recommended", "method", "interval", "reason",
-        "partial_eta2", "percentile", "bca", "noncentral_f", "test_inversion", "recommended",
+        "partial_eta2", "percentile", "bca", "noncentral_f", "test_inversion",
+        "studentized_inversion", "recommended",
         "method", "interval", "reason", "omega2", "percentile", "bca", "recommended",
-        "partial_omega2", "percentile", "bca", "test_inversion", "recommended", "cohens_f",
-        "percentile", "bca", "test_inversion", "recommended", "boot_note", "ci_note",
+        "partial_omega2", "percentile", "bca", "test_inversion", "studentized_inversion",
+        "recommended", "cohens_f",
+        "percentile", "bca", "test_inversion", "studentized_inversion", "recommended",
+        "boot_note", "ci_note",
         "verdict", "verdict_reason",
         "p_perm_straddles_alpha", "error", "df", "ss", "ms", "note", "total", "df", "ss",
         "cells", "mean", "sd", "diagnostics", "shapiro_wilk", "w", "p", "note", "skewness",
@@ -411,6 +416,8 @@ static void test_json(const sturdy_result *r)
     CHECK("json notes absent are null", strstr(resp, "\"boot_note\": null,") != NULL);
     CHECK("json interval pair", strstr(resp, "\"noncentral_f\": [0.015, 0.3]") != NULL);
     CHECK("json test inversion pair", strstr(resp, "\"test_inversion\": [0.0125, 0.375]") != NULL);
+    CHECK("json studentized inversion pair",
+          strstr(resp, "\"studentized_inversion\": [0.00625, 0.4375]") != NULL);
     CHECK("json recommended object",
           strstr(resp, "\"method\": \"test-inversion\",\n") &&
           strstr(resp, "\"interval\": [0.0125, 0.375],\n") &&
@@ -422,7 +429,9 @@ static void test_json(const sturdy_result *r)
         const char *eta = ci ? strstr(ci, "\"eta2\": {") : NULL;
         const char *end = eta ? strstr(eta, "}") : NULL;
         const char *ti = eta ? strstr(eta, "\"test_inversion\"") : NULL;
+        const char *sti = eta ? strstr(eta, "\"studentized_inversion\"") : NULL;
         CHECK("json η² has no test_inversion key", end && (!ti || ti > end));
+        CHECK("json η² has no studentized_inversion key", end && (!sti || sti > end));
     }
     CHECK("json no recommended interval: method and interval null, reason kept",
           t3 && strstr(t3, "\"method\": null,\n") && strstr(t3, "\"interval\": null,\n") &&
@@ -473,9 +482,9 @@ static void test_json_partial(sturdy_result *r)
           strstr(s, "\"data_checksum\": \"00000000deadbeef\",") != NULL);
     CHECK("partial json raw boot rows",
           strstr(s, "\"raw\": {\n") &&
-          strstr(s, "[0, 0.125, 0.25, 0.375, 0.5, 0.625, 0.75, 0.875],\n") &&
-          strstr(s, "[1, 1.125, null, 1.375, 1.5, 1.625, 1.75, 1.875],\n") &&
-          strstr(s, "[2, 2.125, 2.25, 2.375, 2.5, 2.625, 2.75, 2.875]\n"));
+          strstr(s, "[0, 0.125, 0.25, 0.375, 0.5, 0.625, 0.75, 0.875, 1],\n") &&
+          strstr(s, "[1.125, 1.25, null, 1.5, 1.625, 1.75, 1.875, 2, 2.125],\n") &&
+          strstr(s, "[2.25, 2.375, 2.5, 2.625, 2.75, 2.875, 3, 3.125, 3.25]\n"));
     CHECK("partial json raw counts", strstr(s, "\"exceed\": 212,\n") &&
           strstr(s, "\"exceed_fwer\": 499,\n"));
     CHECK("partial json: no replicates → boot null", strstr(s, "\"boot\": null") != NULL);
@@ -683,15 +692,17 @@ static void test_csv(const sturdy_result *r)
     CHECK_INT("csv records: header + 2 responses × (3 terms + residual + total)",
               csv_records(s, &nf, &ok), 11);
     CHECK("csv every record has the header's field count", ok);
-    /* 56 before the test inversion, + 5 effect sizes × (ti lo, hi, rec method, lo, hi) */
-    CHECK_INT("csv fields per record", nf, 81);
+    /* 56 before the test inversions, + 5 effect sizes × (ti lo, hi, sti lo, hi, rec
+       method, lo, hi) */
+    CHECK_INT("csv fields per record", nf, 91);
     CHECK("csv test inversion and recommended columns",
           strstr(s, ",partial_eta2_ncf_lo,partial_eta2_ncf_hi,partial_eta2_ti_lo,"
-                    "partial_eta2_ti_hi,partial_eta2_rec_method,partial_eta2_rec_lo,"
-                    "partial_eta2_rec_hi,") &&
-          strstr(s, ",0.015,0.3,0.0125,0.375,test-inversion,0.0125,0.375,") &&
-          strstr(s, ",eta2_bca_lo,eta2_bca_hi,eta2_ti_lo,eta2_ti_hi,eta2_rec_method,") &&
-          strstr(s, ",0.02,0.25,,,bca,0.02,0.25,"));
+                    "partial_eta2_ti_hi,partial_eta2_sti_lo,partial_eta2_sti_hi,"
+                    "partial_eta2_rec_method,partial_eta2_rec_lo,partial_eta2_rec_hi,") &&
+          strstr(s, ",0.015,0.3,0.0125,0.375,0.00625,0.4375,test-inversion,0.0125,0.375,") &&
+          strstr(s, ",eta2_bca_lo,eta2_bca_hi,eta2_ti_lo,eta2_ti_hi,eta2_sti_lo,eta2_sti_hi,"
+                    "eta2_rec_method,") &&
+          strstr(s, ",0.02,0.25,,,,,bca,0.02,0.25,"));
     CHECK("csv quotes a field with a comma", strstr(s, "\n\"time, s\",dose,") != NULL);
     CHECK("csv quotes doubled and line break kept inside quotes",
           strstr(s, "\"cannot be tested:\nno \"\"residual\"\" df; not rearranged\"") != NULL);

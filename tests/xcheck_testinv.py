@@ -35,7 +35,8 @@ import sys
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, HERE)
-from harness import abort, close, finish, missing_library, need_binary, report  # noqa: E402
+from harness import (abort, close, finish, missing_library, need_binary,  # noqa: E402
+                     need_problem_probe, report)
 
 try:
     import numpy as np
@@ -44,9 +45,7 @@ try:
 except ImportError as exc:  # a missing oracle is a failure, never a skip
     missing_library(exc, "python3-numpy python3-scipy")
 
-PROBE = os.path.join(os.environ.get("STURDY_BUILD", "build"), "tests", "probe_testinv")
-if not os.access(PROBE, os.X_OK):
-    abort("probe %s not built (make test-bins)" % PROBE)
+RUN_TI = need_problem_probe("probe_testinv")
 
 
 def probe(problems):
@@ -56,12 +55,7 @@ def probe(problems):
     for A, k, alo, ahi, tri in problems:
         parts.append("%r %r %r %r %d" % (A, k, alo, ahi, len(tri)))
         parts.extend("%r %r %r" % (float(a), float(b), float(c)) for a, b, c in tri)
-    proc = subprocess.run([PROBE], input="\n".join(parts) + "\n", capture_output=True,
-                          text=True, timeout=600)
-    out = proc.stdout.splitlines()
-    if proc.returncode != 0 or len(out) != len(problems):
-        abort("probe failed (exit %d, %d of %d answers): %s"
-              % (proc.returncode, len(out), len(problems), proc.stderr.strip()))
+    out = RUN_TI(parts, len(problems))
     res = []
     for line in out:
         a, b, u, n = line.split()
@@ -141,8 +135,8 @@ sse_obs = presp["error"]["ss"]
 N_ROWS = pj["input"]["rows_used"]
 demo_tri = []
 for t in presp["terms"]:
-    rows = np.array([[math.nan if x is None else x for x in row] for row in t["raw"]["boot"]])
-    report(rows.shape == (B_DEMO, 8), "demo %s: %d replicate rows of 8 values [contract]"
+    rows = ref.json_rows(t["raw"]["boot"])
+    report(rows.shape == (B_DEMO, 9), "demo %s: %d replicate rows of 9 values [contract]"
            % (t["term"], rows.shape[0]))
     A = t["ss"]
     vu, uu, ss_e = rows[:, 5], rows[:, 6], rows[:, 7]
@@ -165,15 +159,7 @@ def embed(A, tri):
 
 
 # sigma2_w of the demo: the reference's own world on the demo data
-import csv  # noqa: E402
-with open(os.path.join(HERE, "..", "examples", "demo.csv")) as fh:
-    recs = [r for r in csv.DictReader(fh) if r["build_min"].strip() not in ("", "NA")]
-facs = ["runner", "cache", "tests"]
-levels = [sorted({r[f] for r in recs}) for f in facs]
-codes = np.array([[levels[j].index(r[f]) for j, f in enumerate(facs)] for r in recs])
-y = np.array([float(r["build_min"]) for r in recs])
-X, _ = ref.sum_coded_factorial(codes, [len(lv) for lv in levels])
-world = ref.world(y, X)
+y, X, world = ref.demo_fit(os.path.join(HERE, "..", "examples", "demo.csv"))
 report(len(y) == N_ROWS, "demo rows used: %d (reference %d)" % (N_ROWS, len(y)))
 close("demo SSE", sse_obs, world["sse"], 1e-10, True, "ref_testinv.world")
 s2w = world["sigma2_w"]

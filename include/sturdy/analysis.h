@@ -94,10 +94,11 @@ enum {
 };
 /* A bootstrap replicate's row of raw material (sturdy_slice.boot, a part's "boot" rows):
  * STURDY_BOOT_COLS doubles, the STURDY_NES effect sizes in the order above, then the
- * replicate's pieces of the test-inversion interval: vᵀu*, ‖u*‖² and SSE*, with
+ * replicate's pieces of the test-inversion intervals: vᵀu*, ‖u*‖², SSE* and κ*, with
  * v = Qᵀy the observed projection on the term's orthonormal basis Q, u* = Qᵀe* that of
- * the resampled errors and SSE* the replicate's error SS. */
-#define STURDY_BOOT_COLS (STURDY_NES + 3)
+ * the resampled errors, SSE* the replicate's error SS and κ* the excess kurtosis of the
+ * replicate's residuals (the studentized test inversion's studentizer). */
+#define STURDY_BOOT_COLS (STURDY_NES + 4)
 
 /* JSON names of the effect sizes, indexed as above. */
 extern const char *const sturdy_es_names[STURDY_NES];
@@ -184,9 +185,13 @@ typedef enum {
                                     as partial η² = λ/(λ+N) (N rows used), Cohen's
                                     f = √(λ/N) and partial ω² (the same population
                                     quantity as partial η²); not for η², ω² */
-    STURDY_CI_TEST_INVERSION = 3 /* the noncentral-F interval with the bootstrap's
+    STURDY_CI_TEST_INVERSION = 3,/* the noncentral-F interval with the bootstrap's
                                     distribution of F in place of the normal theory's
                                     (the same three effect sizes) */
+    STURDY_CI_STUDENTIZED = 4    /* studentized test inversion: the test inversion of
+                                    ln(SS/MSE) studentized with the residuals' kurtosis,
+                                    unequal tails (a 1 − (1 − conf)/10 lower and a
+                                    1 − 9(1 − conf)/10 upper bound; the same three) */
 } sturdy_ci_method;
 
 /* Percentile and BCa intervals are declined (NaN, with the bootstrap note) below this
@@ -196,6 +201,11 @@ typedef enum {
 /* The test inversion is recommended from this many residual degrees of freedom (below,
  * the residual pool is a handful of values; untested). */
 #define STURDY_TI_MIN_DF_ERROR 4
+/* The studentized test inversion is recommended from this many residual degrees of
+ * freedom (it estimates the errors' kurtosis from the residuals) and when its lower
+ * tail holds at least STURDY_STI_MIN_TAIL replicates (B ≥ 2000 at 95%). */
+#define STURDY_STI_MIN_DF_ERROR 10
+#define STURDY_STI_MIN_TAIL 10
 
 /* Interval of effect size `es` by `method` at the run's confidence level; 1 and the
  * ends when present, else 0 (and lo = hi = NaN). Percentile and BCa ends are clamped to
@@ -205,9 +215,11 @@ int sturdy_term_interval(const sturdy_result *r, size_t resp, size_t term, int e
                          sturdy_ci_method method, double *lo, double *hi);
 
 /* The recommended interval of effect size `es`: *method (STURDY_CI_NONE when there is
- * none) and its ends (NaN when none). Partial η², Cohen's f and partial ω²: the test
- * inversion under the residual bootstrap scheme with at least STURDY_TI_MIN_DF_ERROR
- * residual df, else the noncentral-F interval; η², ω²: BCa from
+ * none) and its ends (NaN when none). Partial η², Cohen's f and partial ω², under the
+ * residual bootstrap scheme: the studentized test inversion with at least
+ * STURDY_STI_MIN_DF_ERROR residual df and STURDY_STI_MIN_TAIL replicates in its lower
+ * tail, else the test inversion with at least STURDY_TI_MIN_DF_ERROR residual df; else
+ * (and under the other schemes) the noncentral-F interval; η², ω²: BCa from
  * STURDY_BOOT_MIN_DF_ERROR residual df, else none. Returns the one-line reason (owned
  * by r), NULL when resp, term or es is out of range. */
 const char *sturdy_term_recommended(const sturdy_result *r, size_t resp, size_t term, int es,

@@ -108,6 +108,7 @@ int sturdy_term_interval(const sturdy_result *r, size_t resp, size_t term, int e
         if (method == STURDY_CI_PERCENTILE) p = t->ci_pct[es];
         else if (method == STURDY_CI_BCA) p = t->ci_bca[es];
         else if (method == STURDY_CI_TEST_INVERSION) p = t->ci_ti[es];
+        else if (method == STURDY_CI_STUDENTIZED) p = t->ci_sti[es];
         else if (method == STURDY_CI_NONCENTRAL_F && es != STURDY_ES_ETA2 &&
                  es != STURDY_ES_OMEGA2) {
             /* stored as partial η²; partial ω² is the same population quantity, and

@@ -192,7 +192,7 @@ sturdy_status sturdy_anova_response(const sturdy_design *d, const sturdy_model *
     size_t n = d->n, K = m->K;
     assert(r < d->nresp && K == d->ngroups && m->nterms == d->nterms && threads >= 1);
     out->name = sturdy_strdup(d->resp_names[r]);
-    out->boot_world_var = NAN;
+    out->boot_world_var = out->kurt_obs = out->kurt_c1 = out->kurt_c2 = NAN;
     out->nterms = d->nterms;
     out->terms = sturdy_calloc(d->nterms ? d->nterms : 1, sizeof *out->terms);
     out->fitted = sturdy_malloc(n * sizeof *out->fitted);

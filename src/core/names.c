@@ -37,6 +37,7 @@ static const name_row ci_methods[] = {
     { STURDY_CI_BCA, "bca", NULL, "BCa" },
     { STURDY_CI_NONCENTRAL_F, "noncentral-f", NULL, "noncentral F" },
     { STURDY_CI_TEST_INVERSION, "test-inversion", NULL, "test inversion" },
+    { STURDY_CI_STUDENTIZED, "studentized-inversion", NULL, "studentized test inversion" },
 };
 
 #define NROWS(t) (sizeof t / sizeof t[0])

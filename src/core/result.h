@@ -46,13 +46,14 @@ typedef struct {
     char *perm_note;
     /* bootstrap */
     double *boot;                /* nboot × STURDY_BOOT_COLS row-major replicate rows
-                                    (analysis.h: the effect sizes, vᵀu*, ‖u*‖², SSE*), indexed
-                                    over the whole run; only the slices computed or added
-                                    so far are filled (owned; NULL when the term has none) */
+                                    (analysis.h: the effect sizes, vᵀu*, ‖u*‖², SSE*, κ*),
+                                    indexed over the whole run; only the slices computed
+                                    or added so far are filled (owned; NULL when the term has none) */
     double accel[STURDY_NES];    /* BCa acceleration from the jackknife (NaN: none) */
     sturdy_pair ci_pct[STURDY_NES], ci_bca[STURDY_NES]; /* NaN when declined (boot_note) */
     sturdy_pair ci_ti[STURDY_NES]; /* bootstrap test inversion (testinv.c); NaN for η² and
                                     ω², which are not functions of one noncentrality */
+    sturdy_pair ci_sti[STURDY_NES]; /* studentized test inversion (testinv.c), likewise */
     char *boot_note;             /* why bootstrap intervals are absent or declined */
     char *ci_note;               /* intervals clamped to the parameter's range, or that
                                     exclude their own estimate (intervals.c), else NULL */
@@ -100,6 +101,10 @@ typedef struct {
     double boot_world_var;       /* error variance of the bootstrap world (bootstrap.c;
                                     NaN: no bootstrap); maps the test inversion's scale
                                     to the noncentrality */
+    double kurt_obs;             /* excess kurtosis of the errors estimated from the
+                                    residuals (bootstrap.c; NaN: no bootstrap) */
+    double kurt_c1, kurt_c2;     /* the design's constants of that estimate:
+                                    Σ_ij M_ij⁴ and Σ_i M_ii², M = I − H */
 } sturdy_response_result;
 
 struct sturdy_result {

@@ -95,8 +95,8 @@ static void write_header(sturdy_buf *b)
         sturdy_buf_printf(b, ",%s_pct_lo,%s_pct_hi,%s_bca_lo,%s_bca_hi", n, n, n, n);
         if (e == STURDY_ES_PARTIAL_ETA2)
             sturdy_buf_printf(b, ",%s_ncf_lo,%s_ncf_hi", n, n);
-        sturdy_buf_printf(b, ",%s_ti_lo,%s_ti_hi,%s_rec_method,%s_rec_lo,%s_rec_hi", n, n, n,
-                          n, n);
+        sturdy_buf_printf(b, ",%s_ti_lo,%s_ti_hi,%s_sti_lo,%s_sti_hi,%s_rec_method,%s_rec_lo,"
+                          "%s_rec_hi", n, n, n, n, n, n, n);
     }
     sturdy_buf_puts(b, ",exceed,verdict,p_perm_straddles_alpha,verdict_reason,note");
     sturdy_buf_puts(b, ",uv_wald,uv_statistic,uv_df1,uv_df2,uv_p,uv_p_perm,uv_p_perm_lo,"
@@ -152,6 +152,8 @@ static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
         }
         csv_num(b, t->ci_ti[e].lo);
         csv_num(b, t->ci_ti[e].hi);
+        csv_num(b, t->ci_sti[e].lo);
+        csv_num(b, t->ci_sti[e].hi);
         sturdy_buf_put(b, ",", 1);
         if (t->ci_rec_method[e] != STURDY_CI_NONE)
             sturdy_buf_puts(b, sturdy_ci_method_name((sturdy_ci_method)t->ci_rec_method[e]));

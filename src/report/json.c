@@ -305,8 +305,10 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         jw_pair(w, "percentile", t->ci_pct[e]);
         jw_pair(w, "bca", t->ci_bca[e]);
         if (e == STURDY_ES_PARTIAL_ETA2) jw_pair(w, "noncentral_f", t->ncf);
-        if (e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2)
+        if (e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2) {
             jw_pair(w, "test_inversion", t->ci_ti[e]);
+            jw_pair(w, "studentized_inversion", t->ci_sti[e]);
+        }
         /* the recommended interval: method and interval null when there is none; the
            reason says why either way */
         jw_open(w, "recommended", '{');

@@ -264,9 +264,11 @@ static int read_recommended(const jv *c, int e, sturdy_term_result *tr)
 {
     const jv *rec = jv_get(c, "recommended"), *m = jv_get(rec, "method");
     tr->ci_ti[e].lo = tr->ci_ti[e].hi = tr->ci_rec[e].lo = tr->ci_rec[e].hi = NAN;
+    tr->ci_sti[e].lo = tr->ci_sti[e].hi = NAN;
     tr->ci_rec_method[e] = STURDY_CI_NONE;
     if ((e != STURDY_ES_ETA2 && e != STURDY_ES_OMEGA2 &&
-         !get_pair(c, "test_inversion", &tr->ci_ti[e])) ||
+         (!get_pair(c, "test_inversion", &tr->ci_ti[e]) ||
+          !get_pair(c, "studentized_inversion", &tr->ci_sti[e]))) ||
         !is_kind(rec, JV_OBJECT) || !get_str(rec, "reason", &tr->ci_rec_reason[e]))
         return 0;
     if (is_kind(m, JV_NULL))
@@ -494,8 +496,9 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
     for (size_t q = 0; q < nb; q++) {
         const jv *row = &b->items[q];
         if (!is_kind(row, JV_ARRAY) || row->n != STURDY_BOOT_COLS)
-            return part_fail(err, name, "a replicate row does not hold 8 values (5 effect "
-                                        "sizes, vᵀu*, ‖u*‖², SSE*)");
+            return part_fail(err, name, "a replicate row does not hold 9 values (5 effect "
+                                        "sizes, vᵀu*, ‖u*‖², SSE*, κ*): a part written by "
+                                        "another version?");
         for (size_t e = 0; e < STURDY_BOOT_COLS; e++) {
             if (row->items[e].kind != JV_NUMBER && row->items[e].kind != JV_NULL)
                 return part_fail(err, name, "a replicate value is neither a number nor null");

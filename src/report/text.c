@@ -74,6 +74,7 @@ static const char *perm_reason(const tw *w, const sturdy_term_result *t)
 static const char *ci_method_words(sturdy_ci_method m)
 {
     switch (m) {
+    case STURDY_CI_STUDENTIZED: return "studentized test inversion";
     case STURDY_CI_TEST_INVERSION: return "test inversion";
     case STURDY_CI_NONCENTRAL_F: return "noncentral F";
     case STURDY_CI_BCA: return "BCa";
@@ -415,7 +416,7 @@ static void uv_details(tw *w, const sturdy_term_result *t)
 static void partial_eta2_line(tw *w, const sturdy_term_result *t)
 {
     const int e = STURDY_ES_PARTIAL_ETA2;
-    static const sturdy_ci_method order[3] = { STURDY_CI_TEST_INVERSION,
+    static const sturdy_ci_method order[4] = { STURDY_CI_STUDENTIZED, STURDY_CI_TEST_INVERSION,
                                                STURDY_CI_NONCENTRAL_F, STURDY_CI_BCA };
     char x[32], c[32], range[TW_RANGE_LEN + 16];
     sturdy_buf s;
@@ -430,13 +431,15 @@ static void partial_eta2_line(tw *w, const sturdy_term_result *t)
                           ci_method_words((sturdy_ci_method)rec), range);
     }
     int first = 1;
-    for (int k = 0; k < 3; k++) {
-        sturdy_pair p = order[k] == STURDY_CI_TEST_INVERSION ? t->ci_ti[e]
+    for (int k = 0; k < 4; k++) {
+        sturdy_pair p = order[k] == STURDY_CI_STUDENTIZED ? t->ci_sti[e]
+                        : order[k] == STURDY_CI_TEST_INVERSION ? t->ci_ti[e]
                         : order[k] == STURDY_CI_NONCENTRAL_F ? t->ncf : t->ci_bca[e];
         if ((int)order[k] == rec)
             continue;
-        /* the test inversion is absent without replicates: nothing to say then */
-        if (order[k] == STURDY_CI_TEST_INVERSION && isnan(p.lo))
+        /* the test inversions are absent without replicates: nothing to say then */
+        if ((order[k] == STURDY_CI_TEST_INVERSION || order[k] == STURDY_CI_STUDENTIZED) &&
+            isnan(p.lo))
             continue;
         tw_fmt_range(p, tw_fmt_es, range);
         if (order[k] == STURDY_CI_BCA && isnan(p.lo))
@@ -583,11 +586,12 @@ static void zero_explained(tw *w, const sturdy_response_result *rr)
     const sturdy_result *r = w->r;
     const int e = STURDY_ES_PARTIAL_ETA2;
     if (w->explained_zero) return;
-    int seen = 0;
+    int seen = 0, studentized = 0;
     for (size_t k = 0; k < rr->nterms && !seen; k++) {
         const sturdy_term_result *t = &rr->terms[k];
         seen = (t->p < r->opts.alpha || t->p_perm < r->opts.alpha) &&
                t->ci_rec_method[e] != STURDY_CI_NONE && t->ci_rec[e].lo == 0;
+        studentized = seen && t->ci_rec_method[e] == STURDY_CI_STUDENTIZED;
     }
     if (!seen) return;
     w->explained_zero = 1;
@@ -598,10 +602,21 @@ static void zero_explained(tw *w, const sturdy_response_result *rr)
     tw_fmt_g((1 - 2 * r->opts.alpha) * 100, 4, c2);
     const char *conf = tw_name(w, STURDY_SETTING_CONF);
     if (conf) snprintf(how, sizeof how, " (%s %g)", conf, 1 - 2 * r->opts.alpha);
-    tw_paraf(w, 2, 2, "A term can be significant at α = %s while its %s%% interval of "
-             "partial η² starts at 0: a two-sided %s%% interval matches a one-sided test at "
-             "%s; the %s%% interval%s is the one that matches the F-test at α = %s.",
-             a, c, c, half, c2, how, a);
+    if (studentized) {
+        char lo[32], lopct[32];
+        tw_fmt_g((1 - r->opts.conf) / 10, 4, lo);
+        tw_fmt_g(100 - (1 - r->opts.conf) * 10, 4, lopct);
+        tw_paraf(w, 2, 2, "A term can be significant at α = %s while its recommended %s%% "
+                 "interval of partial η² starts at 0: that interval's lower end is a "
+                 "one-sided %s%% bound, which leaves 0 only when a null effect is rejected at "
+                 "about %s; the noncentral-F interval at %s%%%s, in the JSON and CSV, is the "
+                 "one that matches the F-test at α = %s.", a, c, lopct, lo, c2, how, a);
+    } else {
+        tw_paraf(w, 2, 2, "A term can be significant at α = %s while its %s%% interval of "
+                 "partial η² starts at 0: a two-sided %s%% interval matches a one-sided test "
+                 "at %s; the %s%% interval%s is the one that matches the F-test at α = %s.",
+                 a, c, c, half, c2, how, a);
+    }
     tw_nl(w);
 }
 

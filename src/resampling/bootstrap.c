@@ -57,8 +57,74 @@ static double full_norm2(const sturdy_model *m, const double *s)
     return sturdy_proj_norm2(m->U, m->K, m->rank, s);
 }
 
+/* Σ_i r_i⁴ of the full model's residuals r = e − fitted(e) of a row vector e whose
+ * scaled group sums are se; work holds rank + K doubles. */
+static double residual_fourth(const sturdy_design *d, const sturdy_model *m, const double *e,
+                              const double *se, double *work)
+{
+    double *gval = work + m->rank;
+    if (m->rank == m->K) {       /* saturated over the groups: the fit is the group mean */
+        for (size_t g = 0; g < m->K; g++)
+            gval[g] = se[g] / m->sqrt_count[g];
+    } else {
+        sturdy_model_group_projection(m, m->U, m->rank, se, work, gval);
+    }
+    double s4 = 0.0;
+    for (size_t i = 0; i < d->n; i++) {
+        double r = e[i] - gval[d->group[i]], r2 = r * r;
+        s4 += r2 * r2;
+    }
+    return s4;
+}
+
+/* The errors' excess kurtosis from residuals with Σr⁴ = s4 and SSE = sse:
+ * κ̂ = (Σr⁴ − 3·MSE²·C2) / (C1·MSE²), from E Σ r_i⁴ = κ₄·C1 + 3σ⁴·C2 with σ⁴ ≈ MSE²
+ * (C1 = Σ_ij M_ij⁴, C2 = Σ_i M_ii², M = I − H), bounded below by −2, the least excess
+ * kurtosis of any law. NaN when undefined. */
+static double kurtosis_estimate(double s4, double sse, double df_error, double c1, double c2)
+{
+    double mse = sse / df_error;
+    if (!(mse > 0) || !(c1 > 0) || !isfinite(s4))
+        return NAN;
+    double k = (s4 - 3.0 * mse * mse * c2) / (c1 * mse * mse);
+    return k > -2.0 ? k : -2.0;
+}
+
+/* Largest number of groups for which C1's cross-group part is summed exactly; above it
+ * that part, at most p·max(h)²/n of C1 relative (Σ_{i≠j} H_ij⁴ ≤ max H_ij²·Σ_i h_i), is
+ * left out. */
+#define KURT_EXACT_GROUPS 2000
+
+/* The design constants of kurtosis_estimate: with c_gh = (UUᵀ)_gh / √(n_g n_h) the hat
+ * value of two rows in groups g and h (h_g on the diagonal of a group),
+ *   C2 = Σ_g n_g (1 − h_g)²,
+ *   C1 = Σ_g [n_g (1 − h_g)⁴ + n_g (n_g − 1) h_g⁴] + Σ_{g≠h} n_g n_h c_gh⁴. */
+static void kurtosis_constants(const sturdy_design *d, const sturdy_model *m, double *c1,
+                               double *c2)
+{
+    size_t K = m->K;
+    double s1 = 0.0, s2 = 0.0;
+    for (size_t g = 0; g < K; g++) {
+        double ng = (double)d->group_count[g], h = m->leverage[g], q = (1 - h) * (1 - h);
+        s2 += ng * q;
+        s1 += ng * q * q + ng * (ng - 1) * h * h * h * h;
+    }
+    if (m->rank < K && K <= KURT_EXACT_GROUPS)
+        for (size_t g = 0; g < K; g++)
+            for (size_t h = g + 1; h < K; h++) {
+                double x = 0.0;
+                for (size_t q = 0; q < m->rank; q++)
+                    x += m->U[q * K + g] * m->U[q * K + h];
+                x /= m->sqrt_count[g] * m->sqrt_count[h];
+                double ngh = (double)d->group_count[g] * (double)d->group_count[h];
+                s1 += 2.0 * ngh * x * x * x * x;
+            }
+    *c1 = s1;
+    *c2 = s2;
+}
+
 static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr, double *s,
-                          signed char *sign)
+                          signed char *sign, double *work)
 {
     const sturdy_design *d = c->d;
     const sturdy_model *m = c->m;
@@ -97,6 +163,8 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
         for (size_t q = 0; q < K; q++)
             s[q] = rb->sf[q] + sr[q];
         sturdy_response_result *resp = &c->r->resp[ri];
+        double kappa = kurtosis_estimate(residual_fourth(d, m, rs, sr, work), sse,
+                                         (double)m->df_error, resp->kurt_c1, resp->kurt_c2);
         for (size_t t = 0; t < resp->nterms; t++) {
             sturdy_term_result *tr = &resp->terms[t];
             if (!tr->boot)
@@ -120,6 +188,7 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
             out[STURDY_NES] = vu;
             out[STURDY_NES + 1] = uu;
             out[STURDY_NES + 2] = sse;
+            out[STURDY_NES + 3] = kappa;
         }
     }
 }
@@ -325,6 +394,24 @@ static sturdy_status setup(boot_ctx *c, char *err)
         }
         sturdy_model_group_scaled(d, m, rb->fc, rb->sf);
         term_projections(m, rb->sf, c->voff, rb->v);
+        /* the studentized test inversion's kurtosis of the data; rb->a is free here */
+        if (ri == 0)
+            kurtosis_constants(d, m, &resp->kurt_c1, &resp->kurt_c2);
+        else {
+            resp->kurt_c1 = c->r->resp[0].kurt_c1;
+            resp->kurt_c2 = c->r->resp[0].kurt_c2;
+        }
+        {
+            double *se = sturdy_malloc((2 * K + m->rank + 1) * sizeof *se);
+            if (!se)
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            sturdy_model_group_scaled(d, m, resp->residual, se);
+            resp->kurt_obs = kurtosis_estimate(residual_fourth(d, m, resp->residual, se,
+                                                               se + K),
+                                               resp->ss_error, (double)m->df_error,
+                                               resp->kurt_c1, resp->kurt_c2);
+            sturdy_free(se);
+        }
         if (c->run->opts.boot_scheme == STURDY_BOOT_CELLS) {
             memcpy(rb->a, resp->residual, n * sizeof *rb->a);
             resp->boot_world_var = world_variance(d, m, rb->a, NULL, 0);
@@ -407,8 +494,9 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
     {
         double *rs = sturdy_malloc(n * sizeof *rs), *sr = sturdy_malloc(K * sizeof *sr);
         double *s = sturdy_malloc(K * sizeof *s);
+        double *work = sturdy_malloc((K + m->rank + 1) * sizeof *work);
         signed char *sign = sturdy_malloc(n);
-        int ok = rs && sr && s && sign;
+        int ok = rs && sr && s && sign && work;
         if (!ok) {
 #pragma omp atomic write
             failed = 1;
@@ -416,8 +504,9 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
 #pragma omp for schedule(dynamic, 16)
         for (int64_t k = 0; k < count; k++)
             if (ok && !sturdy_run_cancelled(run))
-                one_replicate(&c, b0 + (uint64_t)k, rs, sr, s, sign);
+                one_replicate(&c, b0 + (uint64_t)k, rs, sr, s, sign, work);
         sturdy_free(rs); sturdy_free(sr); sturdy_free(s); sturdy_free(sign);
+        sturdy_free(work);
     }
     if (failed)
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for bootstrap workspaces");

@@ -61,6 +61,28 @@ sturdy_status sturdy_testinv_endpoints(const double *rows, size_t stride, uint64
                                        double A, double k, double alpha_lo, double alpha_hi,
                                        sturdy_testinv *out, char *err);
 
+/* The studentized test inversion of a term's noncentrality λ (testinv.c), from nrows
+ * replicate rows rows[b·stride + 0..3] = (vᵀu*_b, ‖u*_b‖², SSE*_b, κ*_b); rows with a
+ * non-finite value are left out (used counts the rest). [lam_lo, lam_hi], both ≥ 0
+ * (lam_hi +∞ when every λ tried is accepted; [0, 0] when none is); NaN when it cannot be
+ * computed (A = 0, no usable rows, a tail with no replicate, a parameter out of range). */
+typedef struct {
+    double A, mse, kappa;        /* the data: SS of the term, MSE, residual excess kurtosis */
+    double world_var;            /* the bootstrap world's error variance σ²_w */
+    double df1, df2, c2;         /* the term's and the error's df; C2 = Σ(1 − h_i)² */
+    double alpha_lo, alpha_hi;   /* tail levels of the lower and upper end */
+    double ti_lo, ti_hi;         /* the plain test inversion's λ interval (grid hints;
+                                    NaN when absent) */
+} sturdy_sti_params;
+
+typedef struct {
+    double lam_lo, lam_hi;
+    uint64_t used;
+} sturdy_sti;
+
+sturdy_status sturdy_sti_endpoints(const double *rows, size_t stride, uint64_t nrows,
+                                   const sturdy_sti_params *p, sturdy_sti *out, char *err);
+
 /* Resampling part: adds to uv.exceed_wild (and uv.exceed_perm under the permutation
  * scheme) over the rearrangement slice [run->perm_begin, run->perm_end). */
 sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
