@@ -546,14 +546,17 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
 
 /* The method most terms' recommended interval of effect size e takes (the column's), or
  * STURDY_CI_NONE. */
+/* interval methods other than STURDY_CI_NONE: 0 … CI_METHODS − 1 */
+#define CI_METHODS (STURDY_CI_STUDENTIZED + 1)
+
 static int column_method(const sturdy_response_result *rr, int e)
 {
-    int count[4] = { 0 }, best = STURDY_CI_NONE;
+    int count[CI_METHODS] = { 0 }, best = STURDY_CI_NONE;
     for (size_t k = 0; k < rr->nterms; k++) {
         int m = rr->terms[k].ci_rec_method[e];
-        if (m >= 0 && m < 4) count[m]++;
+        if (m >= 0 && m < CI_METHODS) count[m]++;
     }
-    for (int m = 0; m < 4; m++)
+    for (int m = 0; m < CI_METHODS; m++)
         if (count[m] > 0 && (best == STURDY_CI_NONE || count[m] > count[best])) best = m;
     return best;
 }
@@ -563,7 +566,7 @@ static void methods_summary(sturdy_buf *s, const int col[STURDY_NES],
                             const char *const heads[STURDY_NES])
 {
     int any = 0;
-    for (int m = 3; m >= 0; m--) {
+    for (int m = CI_METHODS - 1; m >= 0; m--) {
         int n = 0, total = 0;
         for (int e = 0; e < STURDY_NES; e++) total += col[e] == m;
         for (int e = 0; e < STURDY_NES; e++) {
