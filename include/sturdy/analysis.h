@@ -39,6 +39,15 @@ typedef enum {
                                         wild bootstrap is computed beside it */
 } sturdy_spread_scheme;
 
+/* Which comparisons of marginal means are reported. */
+typedef enum {
+    STURDY_COMPARE_SIGNIFICANT = 0, /* terms significant by the F-test or the resampling
+                                       test at alpha (default) */
+    STURDY_COMPARE_ALL = 1,
+    STURDY_COMPARE_NONE = 2,
+    STURDY_COMPARE_LIST = 3          /* the terms named in compare_terms */
+} sturdy_compare_mode;
+
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
 typedef void (*sturdy_progress_fn)(void *arg, uint64_t done, uint64_t total);
 
@@ -71,6 +80,13 @@ typedef struct {
     uint64_t seed;               /* default STURDY_DEFAULT_SEED */
     uint64_t shard_index;        /* 1-based; 0 with shard_count 0 = the whole run */
     uint64_t shard_count;
+    /* which terms' pairwise comparisons are reported (compare.c computes them for
+       every main effect and two-factor interaction) */
+    sturdy_compare_mode compare_mode;
+    const char *const *compare_terms; size_t ncompare_terms; /* LIST: labels as in
+                                    sturdy_model_spec.term_order */
+    const char *control_factor, *control_level; /* compare the factor's levels with this
+                                    one only (NULL: all pairs) */
     int resample;                /* 1 (default): compute the slice's rearrangements and
                                     replicates; 0: leave the raw material empty, to be
                                     filled by sturdy_result_add_slice (merging shards) */

@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "analysis/stages.h"
 #include "checks/checks.h"
 #include "classical/classical.h"
 #include "resampling/resampling.h"
@@ -211,6 +212,15 @@ void sturdy_result_free(sturdy_result *r)
             sturdy_free(tr->uv.perm_note);
         }
         sturdy_free(rr->terms);
+        for (size_t i = 0; rr->means && i < rr->nmeans; i++)
+            sturdy_free(rr->means[i].note);
+        sturdy_free(rr->means);
+        for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
+            sturdy_free(rr->comparisons[i].note);
+            sturdy_free(rr->comparisons[i].perm_note);
+        }
+        sturdy_free(rr->comparisons);
+        sturdy_free(rr->compare_shown);
         sturdy_free(rr->name);
         sturdy_free(rr->error_note);
         sturdy_free(rr->cell_mean);
@@ -323,6 +333,8 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
             r->boot_done = run->boot_end - run->boot_begin;
             for (size_t ri = 0; ri < d->nresp && !st; ri++)
                 st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+            if (!st)
+                st = sturdy_compare_stage(d, m, &run->opts, r, err);
         }
     }
     sturdy_model_free(m);
@@ -479,6 +491,7 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
         }
     if ((st = holm(r, err)))
         return st;
+    sturdy_compare_select(r);
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if ((st = sturdy_verdict_term(&r->resp[ri], &r->resp[ri].terms[t], r->opts.alpha,

@@ -15,7 +15,8 @@ enum {
     OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
-    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER
+    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER,
+    OPT_COMPARE, OPT_CONTROL
 };
 
 /* The one table of `check`'s long options: getopt_long reads the command line with it
@@ -47,6 +48,8 @@ const struct option cli_check_options[] = {
     { "missing", required_argument, NULL, OPT_MISSING },
     { "missing-only", required_argument, NULL, OPT_MISSING_ONLY },
     { "levels", required_argument, NULL, OPT_LEVELS },
+    { "compare", required_argument, NULL, OPT_COMPARE },
+    { "control", required_argument, NULL, OPT_CONTROL },
     { "merge-numeric-levels", no_argument, NULL, OPT_MERGE_NUMERIC },
     { "ascii-terms", no_argument, NULL, OPT_ASCII_TERMS },
     { "csv-bom", no_argument, NULL, OPT_CSV_BOM },
@@ -77,6 +80,12 @@ static const char check_help[] =
 "      --merge-numeric-levels   levels equal as numbers (60 and 60.0) are one level\n"
 "      --term-order T[,T...]    put these terms first, in this order (e.g. A,B,C,D,C×D);\n"
 "                               Type I sums of squares follow it\n"
+"\n"
+"Comparisons of marginal means (after the table)\n"
+"      --compare T[,T...]|all|none  terms whose pairwise differences are shown: main\n"
+"                               effects and two-factor terms (default: the terms\n"
+"                               significant by the F-test or the resampling test)\n"
+"      --control F=LEVEL        compare F's levels with this one only\n"
 "\n"
 "Resampling\n"
 "  -B, --permutations N         rearrangements per test (default 9999; 0 = none)\n"
@@ -224,6 +233,8 @@ void cli_check_free(cli_check *c)
     }
     free(c->levels);
     cli_list_free(&c->term_order);
+    cli_list_free(&c->compare);
+    free(c->control);
     free(c->orders);
 }
 
@@ -373,6 +384,28 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         c->missing_only = 1;
         return want_list(c, &c->missing, "--missing-only", arg, 1);
     case OPT_LEVELS: return parse_levels(c, arg);
+    case OPT_COMPARE:
+        cli_list_free(&c->compare);
+        if (!strcmp(arg, "all") || !strcmp(arg, "none")) {
+            o->compare_mode = !strcmp(arg, "all") ? STURDY_COMPARE_ALL : STURDY_COMPARE_NONE;
+            return 0;
+        }
+        o->compare_mode = STURDY_COMPARE_LIST;
+        return want_list(c, &c->compare, "--compare", arg, 0);
+    case OPT_CONTROL: {
+        const char *eq = strchr(arg, '=');
+        if (!eq || eq == arg || !eq[1])
+            return cli_usage_error(c->command, "--control wants FACTOR=LEVEL, not '%s'", arg);
+        free(c->control);
+        if (!(c->control = strdup(arg))) {
+            fputs("sturdy: out of memory\n", stderr);
+            return STURDY_EINTERNAL;
+        }
+        c->control[eq - arg] = '\0';
+        o->control_factor = c->control;
+        o->control_level = c->control + (eq - arg) + 1;
+        return 0;
+    }
     case OPT_MERGE_NUMERIC: o->model.merge_numeric_levels = 1; return 0;
     case OPT_ASCII_TERMS: c->ascii_terms = 1; return 0;
     case OPT_CSV_BOM: c->csv_bom = 1; return 0;
@@ -466,6 +499,8 @@ static int finish(cli_check *c)
     o->model.nfactors = c->factors.n;
     o->model.covariates = (const char *const *)c->covariates.items;
     o->model.ncovariates = c->covariates.n;
+    o->compare_terms = (const char *const *)c->compare.items;
+    o->ncompare_terms = c->compare.n;
     o->model.term_order = (const char *const *)c->term_order.items;
     o->model.nterm_order = c->term_order.n;
     /* --missing adds to the defaults; --missing-only replaces them */
