@@ -14,7 +14,7 @@
 #define CLI_EXIT_USAGE 2
 #define CLI_DONE (-1)   /* parsing printed help or version: exit 0 */
 
-typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV } cli_format;
+typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV, CLI_FMT_CSV_COMPARISONS } cli_format;
 
 /* A list option (-y A,B -y C): owned copies of the names. */
 typedef struct {

@@ -60,6 +60,16 @@ const struct option cli_check_options[] = {
     { NULL, 0, NULL, 0 }
 };
 
+/* Printed after either help text (a separate string: ISO C bounds a literal's length). */
+static const char compare_help[] =
+"\n"
+"Comparisons of marginal means (after the table)\n"
+"      --compare T[,T...]|all|none  terms whose pairwise differences are shown: main\n"
+"                               effects and two-factor terms (default: the terms\n"
+"                               significant by the F-test or the resampling test)\n"
+"      --control F=LEVEL        compare F's levels with this one only\n"
+"      --format csv-comparisons the means and comparisons as CSV (one row each)\n";
+
 static const char check_help[] =
 "Usage: sturdy check DATA.csv -y RESPONSE[,RESPONSE...] -f FACTOR[,FACTOR...] [options]\n"
 "\n"
@@ -80,12 +90,6 @@ static const char check_help[] =
 "      --merge-numeric-levels   levels equal as numbers (60 and 60.0) are one level\n"
 "      --term-order T[,T...]    put these terms first, in this order (e.g. A,B,C,D,C×D);\n"
 "                               Type I sums of squares follow it\n"
-"\n"
-"Comparisons of marginal means (after the table)\n"
-"      --compare T[,T...]|all|none  terms whose pairwise differences are shown: main\n"
-"                               effects and two-factor terms (default: the terms\n"
-"                               significant by the F-test or the resampling test)\n"
-"      --control F=LEVEL        compare F's levels with this one only\n"
 "\n"
 "Resampling\n"
 "  -B, --permutations N         rearrangements per test (default 9999; 0 = none)\n"
@@ -454,7 +458,8 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         if (!strcmp(arg, "text")) c->format = CLI_FMT_TEXT;
         else if (!strcmp(arg, "json")) c->format = CLI_FMT_JSON;
         else if (!strcmp(arg, "csv")) c->format = CLI_FMT_CSV;
-        else return cli_usage_error(c->command, "--format wants text, json or csv, not '%s'",
+        else if (!strcmp(arg, "csv-comparisons")) c->format = CLI_FMT_CSV_COMPARISONS;
+        else return cli_usage_error(c->command, "--format wants text, json, csv or csv-comparisons, not '%s'",
                                     arg);
         c->format_given = 1;
         return 0;
@@ -527,7 +532,8 @@ static int finish(cli_check *c)
     }
     if (!c->format_given && c->out_path && cli_format_of_path(c->out_path) >= 0)
         c->format = (cli_format)cli_format_of_path(c->out_path);
-    if ((c->ascii_terms || c->csv_bom) && (o->shard_count || c->format != CLI_FMT_CSV))
+    if ((c->ascii_terms || c->csv_bom) && (o->shard_count || (c->format != CLI_FMT_CSV &&
+                                                        c->format != CLI_FMT_CSV_COMPARISONS)))
         return cli_usage_error(c->command, "%s applies to CSV output: add --format csv (or "
                                "-o FILE.csv)", c->ascii_terms ? "--ascii-terms" : "--csv-bom");
     if (o->shard_count) {
@@ -571,7 +577,11 @@ int cli_check_parse(int argc, char **argv, int demo, cli_check *c)
     int opt, rc;
     while ((opt = getopt_long(argc, argv, ":y:f:B:o:qh", cli_check_options, NULL)) != -1) {
         const char *spelled = argv[optind - 1];
-        if (opt == 'h') { fputs(demo ? demo_help : check_help, stdout); return CLI_DONE; }
+        if (opt == 'h') {
+            fputs(demo ? demo_help : check_help, stdout);
+            fputs(compare_help, stdout);
+            return CLI_DONE;
+        }
         if (opt == OPT_VERSION) { puts("sturdy " STURDY_VERSION); return CLI_DONE; }
         if (opt == '?') {
             if (optopt) return cli_usage_error(c->command, "unknown option '-%c'", optopt);
