@@ -322,6 +322,9 @@ typedef struct {
     const double *boot;          /* nresp × nterms × (boot_end − boot_begin) ×
                                     STURDY_BOOT_COLS;
                                     entries of terms without replicates are ignored */
+    size_t ncomparisons;         /* comparisons of all responses, in order (0 with NULL:
+                                    none carried) */
+    const uint64_t *cmp_exceed;  /* their max-T counts over the rearrangement range */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

@@ -218,6 +218,7 @@ void sturdy_result_free(sturdy_result *r)
         for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
             sturdy_free(rr->comparisons[i].note);
             sturdy_free(rr->comparisons[i].perm_note);
+            sturdy_free(rr->comparisons[i].w);
         }
         sturdy_free(rr->comparisons);
         sturdy_free(rr->compare_shown);
@@ -326,15 +327,17 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
     sturdy_status st = classical_stage(t, run, r, &m, err);
     if (!st && !(st = plan_resampling(t, m, run, r, err))) {
         const sturdy_design *d = r->design;
-        if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
+        /* the diagnostics (whose spread rule picks the comparisons' adjustment) and the
+           comparisons (whose contrasts the permutation engine rearranges for max-T) need
+           only the classical fit, so they come before the resampling */
+        for (size_t ri = 0; ri < d->nresp && !st; ri++)
+            st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+        if (!st && !(st = sturdy_compare_stage(d, m, &run->opts, r, err)) &&
+            !(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
             !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
             r->perm_done = run->perm_end - run->perm_begin;
             r->boot_done = run->boot_end - run->boot_begin;
-            for (size_t ri = 0; ri < d->nresp && !st; ri++)
-                st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
-            if (!st)
-                st = sturdy_compare_stage(d, m, &run->opts, r, err);
         }
     }
     sturdy_model_free(m);
@@ -397,6 +400,21 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             return sturdy_fail(err, STURDY_EUSAGE,
                                "the part counts more exceedances than its %llu rearrangements",
                                (unsigned long long)np);
+    if (s->cmp_exceed) {
+        size_t total = 0;
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            total += r->resp[ri].ncomparisons;
+        if (s->ncomparisons != total)
+            return sturdy_fail(err, STURDY_EUSAGE, "the part has %zu comparisons; the analysis "
+                               "has %zu", s->ncomparisons, total);
+        for (size_t q = 0; q < total; q++)
+            if (s->cmp_exceed[q] > np)
+                return sturdy_fail(err, STURDY_EUSAGE, "the part counts more exceedances than "
+                                   "its %llu rearrangements", (unsigned long long)np);
+        for (size_t ri = 0, q = 0; ri < r->nresp; ri++)
+            for (size_t i = 0; i < r->resp[ri].ncomparisons; i++)
+                r->resp[ri].comparisons[i].exceed_maxt += s->cmp_exceed[q++];
+    }
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < s->nterms; t++) {
             sturdy_term_result *tr = &r->resp[ri].terms[t];

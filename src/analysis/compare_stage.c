@@ -84,6 +84,16 @@ void sturdy_compare_select(sturdy_result *r)
 {
     const sturdy_options *o = &r->opts;
     const sturdy_design *d = r->design;
+    /* max-T adjusted p from the counts, as the terms' p (Phipson & Smyth 2010; exact
+       when enumerated) */
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t i = 0; i < r->resp[ri].ncomparisons; i++) {
+            sturdy_comparison *c = &r->resp[ri].comparisons[i];
+            if (c->perm_note || r->nperm == 0)
+                continue;
+            double B = (double)r->nperm, e = (double)c->exceed_maxt;
+            c->p_perm_adjusted = r->exact ? e / B : (1.0 + e) / (1.0 + B);
+        }
     for (size_t ri = 0; d && ri < r->nresp; ri++) {
         sturdy_response_result *rr = &r->resp[ri];
         if (!rr->compare_shown)

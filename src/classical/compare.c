@@ -171,6 +171,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     const sturdy_design *d = c->d;
     double conf = c->cs->conf;
     cp->estimate = cp->se = cp->df = cp->t = cp->p = cp->g = cp->p_adjusted = NAN;
+    cp->t_pooled = NAN;
     cp->ci.lo = cp->ci.hi = cp->ci_simultaneous.lo = cp->ci_simultaneous.hi = NAN;
     cp->p_perm_adjusted = NAN;
     cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
@@ -184,9 +185,17 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
         return cp->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     cp->estimate = dot(c->w, c->v, c->lsm.rank);
+    cp->t_pooled = NAN;
     if (!(c->dfe > 0) || !isfinite(c->mse) || !(c->mse > 0)) {
         cp->note = sturdy_strdup("no residual variance for a standard error");
         return cp->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    double ww = dot(c->w, c->w, c->lsm.rank);
+    if (ww > 0) {
+        if (!(cp->w = sturdy_malloc(c->lsm.rank * sizeof *cp->w)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        memcpy(cp->w, c->w, c->lsm.rank * sizeof *cp->w);
+        cp->t_pooled = cp->estimate / sqrt(c->mse * ww);
     }
     double J = 1.0 - 3.0 / (4.0 * c->dfe - 1.0);   /* Hedges (1981) small-sample factor */
     cp->g = cp->estimate / sqrt(c->mse) * J;

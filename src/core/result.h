@@ -124,6 +124,14 @@ typedef struct {
     sturdy_pair ci_boot_simultaneous; /* max-|t| bootstrap (NaN: not computed) */
     char *note;                  /* why the numbers are absent, else NULL */
     char *perm_note;             /* why the resampling family is absent */
+    /* max-T raw material (permute.c) */
+    double *w;                   /* rank: the contrast's weights on the model's basis
+                                    (estimate = wᵀQᵀy); owned; NULL when not estimable
+                                    or read back */
+    double t_pooled;             /* estimate / (√MS_error ‖w‖): the statistic max-T
+                                    rearranges (NaN: none) */
+    uint64_t exceed_maxt;        /* rearrangements whose largest |t*| over the family is
+                                    at least |t_pooled| */
 } sturdy_comparison;
 
 typedef struct {
@@ -173,6 +181,7 @@ struct sturdy_result {
 struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
     uint64_t *counts;            /* 4 × nresp × nterms */
+    uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
     double *boot;
     /* read from a file: its envelope */
     uint64_t index, count, data_checksum;

@@ -418,7 +418,8 @@ static void write_levels(jw *w, const char *key, const sturdy_design *d, uint32_
 }
 
 /* responses[].means[] and responses[].comparisons[] (compare.c). */
-static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_result *rr)
+static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_result *rr,
+                          const sturdy_report_opts *o)
 {
     const sturdy_design *d = r->design;
     jw_open(w, "means", '[');
@@ -467,6 +468,12 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_pair(w, "ci_bootstrap_simultaneous", c->ci_boot_simultaneous);
         jw_str(w, "note", c->note);
         jw_str(w, "perm_note", c->perm_note);
+        if (o->partial) {
+            /* the slice's max-T count, which sturdy merge adds up across shards */
+            jw_open(w, "raw", '{');
+            jw_u64(w, "exceed_maxt", c->exceed_maxt);
+            jw_close(w, '}');
+        }
         jw_close(w, '}');
     }
     jw_close(w, ']');
@@ -500,7 +507,7 @@ static void write_response(jw *w, const sturdy_result *r, const sturdy_response_
     }
     jw_close(w, ']');
     write_diagnostics(w, d, &rr->diag);
-    write_compare(w, r, rr);
+    write_compare(w, r, rr, o);
     jw_close(w, '}');
 }
 
