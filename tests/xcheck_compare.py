@@ -194,7 +194,7 @@ def check_control_and_order():
                          capture_output=True, text=True)
     report(bad.returncode == 2 and "control" in bad.stderr,
            "--control naming no factor: exit 2 with a message [exit %d: %s]"
-           % (bad.returncode, bad.stderr.strip()[:80]))
+           % (bad.returncode, bad.stderr.strip().splitlines()[0][:80] if bad.stderr.strip() else ""))
 
 
 def main():

@@ -325,6 +325,9 @@ typedef struct {
     size_t ncomparisons;         /* comparisons of all responses, in order (0 with NULL:
                                     none carried) */
     const uint64_t *cmp_exceed;  /* their max-T counts over the rearrangement range */
+    size_t cmp_boot_cols;        /* the comparisons' replicate values per response and
+                                    replicate (0 with NULL: none carried) */
+    const double *cmp_boot;      /* nresp × (boot_end − boot_begin) × cmp_boot_cols */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

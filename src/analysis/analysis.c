@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "analysis/stages.h"
+#include "resampling/bootcmp.h"
 #include "checks/checks.h"
 #include "classical/classical.h"
 #include "resampling/resampling.h"
@@ -212,8 +213,12 @@ void sturdy_result_free(sturdy_result *r)
             sturdy_free(tr->uv.perm_note);
         }
         sturdy_free(rr->terms);
-        for (size_t i = 0; rr->means && i < rr->nmeans; i++)
+        for (size_t i = 0; rr->means && i < rr->nmeans; i++) {
             sturdy_free(rr->means[i].note);
+            sturdy_free(rr->means[i].w);
+        }
+        sturdy_free(rr->cmp_boot);
+        sturdy_free(rr->cmp_boot_note);
         sturdy_free(rr->means);
         for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
             sturdy_free(rr->comparisons[i].note);
@@ -335,6 +340,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
         if (!st && !(st = sturdy_compare_stage(d, m, &run->opts, r, err)) &&
             !(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
+            !(st = sturdy_bootcmp_alloc(run, m, r, err)) &&
             !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
             r->perm_done = run->perm_end - run->perm_begin;
             r->boot_done = run->boot_end - run->boot_begin;
@@ -414,6 +420,16 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
         for (size_t ri = 0, q = 0; ri < r->nresp; ri++)
             for (size_t i = 0; i < r->resp[ri].ncomparisons; i++)
                 r->resp[ri].comparisons[i].exceed_maxt += s->cmp_exceed[q++];
+    }
+    if (s->cmp_boot && nb) {
+        size_t cols = r->nresp ? r->resp[0].nfamilies + r->resp[0].nmeans : 0;
+        if (s->cmp_boot_cols != cols)
+            return sturdy_fail(err, STURDY_EUSAGE, "the part has %zu values per replicate for "
+                               "the comparisons; the analysis has %zu", s->cmp_boot_cols, cols);
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            if (r->resp[ri].cmp_boot)
+                memcpy(r->resp[ri].cmp_boot + s->boot_begin * cols,
+                       s->cmp_boot + ri * nb * cols, nb * cols * sizeof(double));
     }
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < s->nterms; t++) {
@@ -507,7 +523,7 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
                 (st = sturdy_uv_finish(r, tr, err)))
                 return st;
         }
-    if ((st = holm(r, err)))
+    if ((st = holm(r, err)) || (st = sturdy_bootcmp_finish(r, err)))
         return st;
     sturdy_compare_select(r);
     for (size_t ri = 0; ri < r->nresp; ri++)

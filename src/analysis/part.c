@@ -80,6 +80,19 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
             p->cmp_counts[q++] = r->resp[ri].comparisons[i].exceed_maxt;
     p->s.ncomparisons = nc;
     p->s.cmp_exceed = p->cmp_counts;
+    size_t cols = r->nresp ? r->resp[0].nfamilies + r->resp[0].nmeans : 0;
+    if (r->nresp && r->resp[0].cmp_boot && cols) {   /* also for an empty range (MPI) */
+        if (!(p->cmp_boot = sturdy_malloc((r->nresp * nb * cols + 1) * sizeof *p->cmp_boot))) {
+            sturdy_part_free(p);
+            *out = NULL;
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            memcpy(p->cmp_boot + ri * nb * cols, r->resp[ri].cmp_boot + r->boot_begin * cols,
+                   nb * cols * sizeof *p->cmp_boot);
+        p->s.cmp_boot_cols = cols;
+        p->s.cmp_boot = p->cmp_boot;
+    }
     return STURDY_OK;
 }
 
@@ -94,6 +107,7 @@ void sturdy_part_free(sturdy_part *p)
         return;
     sturdy_free(p->counts);
     sturdy_free(p->cmp_counts);
+    sturdy_free(p->cmp_boot);
     sturdy_free(p->boot);
     for (size_t i = 0; i < p->nargs; i++)
         sturdy_free(p->args[i]);

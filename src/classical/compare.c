@@ -112,6 +112,9 @@ static sturdy_status fill_mean(ctx *c, size_t term, uint32_t mask, const size_t 
         return mr->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     mr->estimate = dot(c->w, c->v, c->lsm.rank) + yref;
+    if (!(mr->w = sturdy_malloc((c->lsm.rank + 1) * sizeof *mr->w)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    memcpy(mr->w, c->w, c->lsm.rank * sizeof *mr->w);
     if (!(c->dfe > 0) || !isfinite(c->mse)) {
         mr->note = sturdy_strdup("no residual degrees of freedom for a standard error");
         return mr->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -171,7 +174,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     const sturdy_design *d = c->d;
     double conf = c->cs->conf;
     cp->estimate = cp->se = cp->df = cp->t = cp->p = cp->g = cp->p_adjusted = NAN;
-    cp->t_pooled = NAN;
+    cp->t_pooled = cp->se_pooled = NAN;
     cp->ci.lo = cp->ci.hi = cp->ci_simultaneous.lo = cp->ci_simultaneous.hi = NAN;
     cp->p_perm_adjusted = NAN;
     cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
@@ -195,7 +198,8 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
         if (!(cp->w = sturdy_malloc(c->lsm.rank * sizeof *cp->w)))
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         memcpy(cp->w, c->w, c->lsm.rank * sizeof *cp->w);
-        cp->t_pooled = cp->estimate / sqrt(c->mse * ww);
+        cp->se_pooled = sqrt(c->mse * ww);
+        cp->t_pooled = cp->estimate / cp->se_pooled;
     }
     double J = 1.0 - 3.0 / (4.0 * c->dfe - 1.0);   /* Hedges (1981) small-sample factor */
     cp->g = cp->estimate / sqrt(c->mse) * J;
@@ -259,6 +263,7 @@ static sturdy_status family(ctx *c, size_t term, sturdy_comparison *cps, size_t 
                     if (b != NO_LEVEL) la[b] = lv[b] = lb;
                     sturdy_comparison *cp = &cps[(*nc)++];
                     cp->term = term;
+                    cp->family = c->out->nfamilies;
                     cp->factor = a;
                     cp->level = j;
                     cp->versus = i;
@@ -359,8 +364,12 @@ sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model
             }
             if (f == (size_t)-1) break;
         }
-        if (!st && (t->order == 1 || t->order == 2))
+        if (!st && (t->order == 1 || t->order == 2)) {
+            size_t before = out->ncomparisons;
             st = family(&c, ti, out->comparisons, &out->ncomparisons, err);
+            if (out->ncomparisons > before)
+                out->nfamilies++;
+        }
     }
     assert(st || (out->nmeans == nmeans && out->ncomparisons == ncomp));
 done:

@@ -90,16 +90,40 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                     MPI_DOUBLE, root ? boot + j * nb * STURDY_BOOT_COLS : NULL, counts, displs,
                     MPI_DOUBLE, 0, MPI_COMM_WORLD);
     }
+    /* the comparisons' replicate rows, per response (every rank has the same cols) */
+    size_t cols = own->cmp_boot ? own->cmp_boot_cols : 0;
+    double *cb = root && cols ? malloc((own->nresp * nb * cols + 1) * sizeof *cb) : NULL;
+    int cok = !(root && cols) || cb, call_ok = 0;
+    MPI_Allreduce(&cok, &call_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
+    if (!call_ok) {
+        snprintf(err, STURDY_ERR_LEN, "out of memory while combining the MPI ranks");
+        st = STURDY_EINTERNAL;
+        free(cb);
+        goto done;
+    }
+    for (int q = 0; cols && q < mpi_size_; q++) {
+        uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
+        counts[q] = q == 0 ? 0 : (int)((hi - lo) * cols);
+        displs[q] = q == 0 ? 0 : (int)((lo - b0) * cols);
+    }
+    for (size_t ri = 0; cols && ri < own->nresp; ri++) {
+        const double *src = own->cmp_boot + ri * own_nb * cols;
+        MPI_Gatherv(root ? MPI_IN_PLACE : (void *)src, root ? 0 : (int)(own_nb * cols),
+                    MPI_DOUBLE, root ? cb + ri * nb * cols : NULL, counts, displs,
+                    MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    }
     if (root) {
         sturdy_slice rest = { .perm_begin = p0, .perm_end = p1, .boot_begin = b0,
                               .boot_end = b1, .nresp = own->nresp, .nterms = nt,
                               .exceed = sum, .exceed_fwer = sum + k,
                               .uv_exceed_wild = sum + 2 * k, .uv_exceed_perm = sum + 3 * k,
                               .boot = boot, .ncomparisons = nc,
-                              .cmp_exceed = nc ? sum + 4 * k : NULL };
+                              .cmp_exceed = nc ? sum + 4 * k : NULL,
+                              .cmp_boot_cols = cols, .cmp_boot = cb };
         if (!(st = sturdy_result_add_slice(r, &rest, err)))
             st = sturdy_result_finish(r, err);
     }
+    free(cb);
 done:
     free(mine_c); free(sum); free(boot); free(counts); free(displs);
     return st;

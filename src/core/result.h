@@ -99,6 +99,8 @@ typedef struct {
     sturdy_pair ci;              /* classical t interval at the run's level */
     sturdy_pair ci_boot;         /* bootstrap percentile interval (NaN: none) */
     char *note;                  /* why it is absent, else NULL */
+    double *w;                   /* rank: weights on the model's basis (owned; NULL when
+                                    not estimable) */
 } sturdy_mean_result;
 
 /* How the classical simultaneous interval of a comparison is found. */
@@ -112,6 +114,7 @@ typedef enum {
  * set of comparisons of one term. */
 typedef struct {
     size_t term;                 /* the family's term */
+    size_t family;               /* index of the family among the response's families */
     size_t factor, level, versus;
     int within;                  /* 1: a simple effect (by_factor, by_level) */
     size_t by_factor, by_level;
@@ -128,8 +131,9 @@ typedef struct {
     double *w;                   /* rank: the contrast's weights on the model's basis
                                     (estimate = wᵀQᵀy); owned; NULL when not estimable
                                     or read back */
-    double t_pooled;             /* estimate / (√MS_error ‖w‖): the statistic max-T
+    double t_pooled;             /* estimate / se_pooled: the statistic max-T
                                     rearranges (NaN: none) */
+    double se_pooled;            /* √MS_error ‖w‖ */
     uint64_t exceed_maxt;        /* rearrangements whose largest |t*| over the family is
                                     at least |t_pooled| */
 } sturdy_comparison;
@@ -142,6 +146,12 @@ typedef struct {
                                     interactions, in term order */
     unsigned char *compare_shown; /* nterms: 1 when the term's comparisons are reported
                                     (the compare selection, decided at finish) */
+    size_t nfamilies;            /* terms with comparisons */
+    double *cmp_boot;            /* nboot × (nfamilies + nmeans) row-major, indexed over
+                                    the whole run (bootcmp.c): per replicate the largest
+                                    |t*| of each family, then each mean's replicate value
+                                    (owned; NULL: no bootstrap) */
+    char *cmp_boot_note;         /* why the bootstrap intervals are absent */
     double df_error, ss_error, ms_error;
     double df_total, ss_total;
     char *error_note;            /* e.g. no residual degrees of freedom */
@@ -182,6 +192,7 @@ struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
     uint64_t *counts;            /* 4 × nresp × nterms */
     uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
+    double *cmp_boot;            /* the comparisons' replicate values (NULL: none) */
     double *boot;
     /* read from a file: its envelope */
     uint64_t index, count, data_checksum;

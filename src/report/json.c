@@ -432,6 +432,7 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_num(w, "se", m->se);
         jw_num(w, "df", m->df);
         jw_pair(w, "ci", m->ci);
+        jw_pair(w, "ci_bootstrap", m->ci_boot);
         jw_str(w, "note", m->note);
         jw_close(w, '}');
     }
@@ -468,6 +469,7 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_pair(w, "ci_bootstrap_simultaneous", c->ci_boot_simultaneous);
         jw_str(w, "note", c->note);
         jw_str(w, "perm_note", c->perm_note);
+        jw_str(w, "boot_note", rr->cmp_boot_note);
         if (o->partial) {
             /* the slice's max-T count, which sturdy merge adds up across shards */
             jw_open(w, "raw", '{');
@@ -477,6 +479,18 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_close(w, '}');
     }
     jw_close(w, ']');
+    if (o->partial) {
+        /* this slice's replicate rows: each family's largest |t*|, then each mean */
+        size_t cols = rr->nfamilies + rr->nmeans;
+        if (!rr->cmp_boot || !cols) {
+            jw_null(w, "raw_comparisons_boot");
+        } else {
+            jw_open(w, "raw_comparisons_boot", '[');
+            for (uint64_t i = r->boot_begin; i < r->boot_end; i++)
+                jw_nums_inline(w, NULL, rr->cmp_boot + i * cols, cols);
+            jw_close(w, ']');
+        }
+    }
 }
 
 static void write_response(jw *w, const sturdy_result *r, const sturdy_response_result *rr,

@@ -537,6 +537,40 @@ static sturdy_status read_cmp_raw(const char *name, const jv *resps, sturdy_part
     }
     p->s.ncomparisons = total;
     p->s.cmp_exceed = p->cmp_counts;
+    /* the comparisons' replicate rows: the same number of values in every response */
+    uint64_t nb = p->s.boot_end - p->s.boot_begin;
+    size_t cols = 0;
+    for (size_t ri = 0; ri < resps->n; ri++) {
+        const jv *rb = jv_get(&resps->items[ri], "raw_comparisons_boot");
+        if (!rb || is_kind(rb, JV_NULL))
+            return STURDY_OK;
+        if (!is_kind(rb, JV_ARRAY) || rb->n != nb)
+            return part_fail(err, name, "a response's comparison replicates do not match its "
+                                        "range");
+        for (size_t q = 0; q < rb->n; q++) {
+            const jv *row = &rb->items[q];
+            if (!is_kind(row, JV_ARRAY) || (cols && row->n != cols) || !row->n)
+                return part_fail(err, name, "a comparison replicate row has the wrong length");
+            cols = row->n;
+        }
+    }
+    if (!nb || !cols)
+        return STURDY_OK;
+    if (!(p->cmp_boot = rd_calloc(resps->n * (size_t)nb * cols, sizeof *p->cmp_boot)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t ri = 0; ri < resps->n; ri++) {
+        const jv *rb = jv_get(&resps->items[ri], "raw_comparisons_boot");
+        for (size_t q = 0; q < nb; q++)
+            for (size_t e = 0; e < cols; e++) {
+                const jv *v = &rb->items[q].items[e];
+                if (v->kind != JV_NUMBER && v->kind != JV_NULL)
+                    return part_fail(err, name, "a comparison replicate value is neither a "
+                                                "number nor null");
+                p->cmp_boot[(ri * nb + q) * cols + e] = jv_double(v);
+            }
+    }
+    p->s.cmp_boot_cols = cols;
+    p->s.cmp_boot = p->cmp_boot;
     return STURDY_OK;
 }
 

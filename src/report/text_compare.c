@@ -8,10 +8,10 @@
 #include "report/text.h"
 
 /* Widths of the comparison columns. */
-#define CW_LABEL 34
-#define CW_NUM 10
-#define CW_RANGE 24
-#define CW_P 9
+#define CW_LABEL 24
+#define CW_NUM 9
+#define CW_RANGE 20
+#define CW_P 8
 
 static void mean_line(tw *w, const sturdy_response_result *rr, size_t term)
 {
@@ -53,9 +53,10 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
     if (!any)
         return;
     double conf = w->r->opts.conf * 100;
-    tw_paraf(w, 2, 2, "Differences of least-squares means, in the response's units "
-             "(%g%% simultaneous intervals over each term's family; g: Hedges' g on the "
-             "pooled residual SD)", conf);
+    tw_paraf(w, 2, 2, "Differences of least-squares means, in the response's units: %g%% "
+             "simultaneous intervals over each term's family, classical (Tukey–Kramer or "
+             "Games–Howell) and bootstrap (max-|t|); p adj: classical; p max-T: permutation "
+             "(Westfall–Young); g: Hedges' g on the pooled residual SD", conf);
     for (size_t t = 0; t < rr->nterms; t++) {
         if (!rr->compare_shown[t]) continue;
         const char *adj = NULL;
@@ -69,17 +70,18 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
         tw_style(w, "1");
         tw_cell(w, "difference", CW_LABEL, 0);
         tw_cell(w, "estimate", CW_NUM, 1);
-        tw_cell(w, "  simultaneous interval", CW_RANGE, 0);
+        tw_cell(w, "  classical", CW_RANGE, 0);
+        tw_cell(w, "  bootstrap", CW_RANGE, 0);
         tw_cell(w, "p adj", CW_P, 1);
         tw_cell(w, "p max-T", CW_P, 1);
-        tw_cell(w, "g", 7, 1);
+        tw_cell(w, "g", 6, 1);
         tw_style(w, "0");
         tw_nl(w);
         for (size_t i = 0; i < rr->ncomparisons; i++) {
             const sturdy_comparison *c = &rr->comparisons[i];
             if (c->term != t) continue;
             const sturdy_factor *f = &d->factors[c->factor];
-            char label[256], est[32], lo[32], hi[32], rng[80], pa[32], pp[32], g[32];
+            char label[256], est[32], lo[32], hi[32], rng[80], brng[80], pa[32], pp[32], g[32];
             if (c->within)
                 snprintf(label, sizeof label, "%s − %s | %s", f->levels[c->level],
                          f->levels[c->versus], d->factors[c->by_factor].levels[c->by_level]);
@@ -90,6 +92,12 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
             tw_fmt_g(c->ci_simultaneous.lo, 3, lo);
             tw_fmt_g(c->ci_simultaneous.hi, 3, hi);
             snprintf(rng, sizeof rng, "  [%s, %s]", lo, hi);
+            tw_fmt_g(c->ci_boot_simultaneous.lo, 3, lo);
+            tw_fmt_g(c->ci_boot_simultaneous.hi, 3, hi);
+            if (c->ci_boot_simultaneous.lo == c->ci_boot_simultaneous.lo)
+                snprintf(brng, sizeof brng, "  [%s, %s]", lo, hi);
+            else
+                snprintf(brng, sizeof brng, "  —");
             tw_fmt_p(c->p_adjusted, pa);
             tw_fmt_p(c->p_perm_adjusted, pp);
             tw_fmt_g(c->g, 2, g);
@@ -97,9 +105,10 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
             tw_cell(w, label, CW_LABEL, 0);
             tw_cell(w, est, CW_NUM, 1);
             tw_cell(w, rng, CW_RANGE, 0);
+            tw_cell(w, brng, CW_RANGE, 0);
             tw_cell(w, pa, CW_P, 1);
             tw_cell(w, pp, CW_P, 1);
-            tw_cell(w, g, 7, 1);
+            tw_cell(w, g, 6, 1);
             tw_nl(w);
             if (c->note)
                 tw_paraf(w, 6, 6, "%s", c->note);

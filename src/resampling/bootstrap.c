@@ -21,6 +21,7 @@
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/pcg_inline.h"
+#include "resampling/bootcmp.h"
 
 /* A row whose leverage is within STURDY_LEVERAGE_ONE_TOL of 1 is alone in its group:
  * its residual is 0 and its leave-one-out fit is undefined, so it is left out of the
@@ -93,6 +94,8 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
         }
         sturdy_model_group_scaled(d, m, rs, sr);
         double sse = rr - full_norm2(m, sr);
+        /* the comparisons' replicate values (bootcmp.c), from the same resample */
+        sturdy_bootcmp_replicate(m, &c->r->resp[ri], b, sr, sse, rs);
         double sst = rb->ff + 2.0 * fr + rr - sum * sum / (double)n;
         for (size_t q = 0; q < K; q++)
             s[q] = rb->sf[q] + sr[q];
