@@ -84,6 +84,8 @@ void sturdy_compare_select(sturdy_result *r)
 {
     const sturdy_options *o = &r->opts;
     const sturdy_design *d = r->design;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        sturdy_compare_adjust(&r->resp[ri], o->conf);
     /* max-T adjusted p from the counts, as the terms' p (Phipson & Smyth 2010; exact
        when enumerated) */
     for (size_t ri = 0; ri < r->nresp; ri++)

@@ -48,4 +48,10 @@ sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model
                                       const sturdy_compare_setup *cs,
                                       sturdy_response_result *out, char *err);
 
+/* The classical simultaneous intervals and adjusted p-values of the response's
+ * comparisons (Tukey–Kramer or Games–Howell, from the studentized range at level conf).
+ * Deferred to the finish of a run: the range's integrals are the costly part of the
+ * comparisons, and a shard part does not need them. */
+void sturdy_compare_adjust(sturdy_response_result *rr, double conf);
+
 #endif

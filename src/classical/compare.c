@@ -165,16 +165,16 @@ static void games_howell(const ctx *c, uint32_t mask, const size_t *la, const si
     *df = den > 0 ? var * var / den : NAN;   /* Welch (1947) – Satterthwaite (1946) */
 }
 
-/* One comparison of the family of `term` with k means; qcrit: the family's range
- * quantile under Tukey–Kramer (NaN: compute per comparison). */
+/* One comparison of the family of `term` with k means (its range-based adjustment comes
+ * at finish: sturdy_compare_adjust). */
 static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mask,
                                      const size_t *la, const size_t *lb, double k,
-                                     double qcrit, char *err)
+                                     char *err)
 {
     const sturdy_design *d = c->d;
     double conf = c->cs->conf;
     cp->estimate = cp->se = cp->df = cp->t = cp->p = cp->g = cp->p_adjusted = NAN;
-    cp->t_pooled = cp->se_pooled = NAN;
+    cp->t_pooled = cp->se_pooled = cp->range_k = NAN;
     cp->ci.lo = cp->ci.hi = cp->ci_simultaneous.lo = cp->ci_simultaneous.hi = NAN;
     cp->p_perm_adjusted = NAN;
     cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
@@ -205,7 +205,6 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     cp->g = cp->estimate / sqrt(c->mse) * J;
     if (c->gh) {
         games_howell(c, mask, la, lb, &cp->se, &cp->df);
-        qcrit = NAN;
     } else {
         cp->se = sqrt(c->mse * dot(c->w, c->w, c->lsm.rank));
         cp->df = c->dfe;
@@ -220,11 +219,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     double tq = c->gh ? gsl_cdf_tdist_Pinv(0.5 + 0.5 * conf, cp->df) : c->tq;
     cp->ci.lo = cp->estimate - tq * cp->se;
     cp->ci.hi = cp->estimate + tq * cp->se;
-    if (isnan(qcrit))
-        qcrit = sturdy_range_quantile(conf, k, cp->df);
-    cp->p_adjusted = sturdy_range_upper(sqrt(2.0) * fabs(cp->t), k, cp->df);
-    cp->ci_simultaneous.lo = cp->estimate - qcrit / sqrt(2.0) * cp->se;
-    cp->ci_simultaneous.hi = cp->estimate + qcrit / sqrt(2.0) * cp->se;
+    cp->range_k = k;
     return STURDY_OK;
 }
 
@@ -246,7 +241,6 @@ static sturdy_status family(ctx *c, size_t term, sturdy_comparison *cps, size_t 
         if (t->mask & (1u << f)) fs[nf++] = f;
     double k = 1;
     for (size_t i = 0; i < nf; i++) k *= (double)d->factors[fs[i]].nlevels;
-    double qcrit = c->gh || !(c->dfe > 0) ? NAN : sturdy_range_quantile(c->cs->conf, k, c->dfe);
     for (size_t ia = 0; ia < nf; ia++) {
         size_t a = fs[ia], b = nf == 2 ? fs[1 - ia] : NO_LEVEL;
         size_t nby = b == NO_LEVEL ? 1 : d->factors[b].nlevels;
@@ -270,7 +264,7 @@ static sturdy_status family(ctx *c, size_t term, sturdy_comparison *cps, size_t 
                     cp->within = b != NO_LEVEL;
                     cp->by_factor = b != NO_LEVEL ? b : 0;
                     cp->by_level = lb;
-                    sturdy_status st = fill_comparison(c, cp, t->mask, la, lv, k, qcrit, err);
+                    sturdy_status st = fill_comparison(c, cp, t->mask, la, lv, k, err);
                     if (st)
                         return st;
                 }
@@ -378,4 +372,24 @@ done:
     sturdy_free(c.L);
     sturdy_free(c.cellmap);
     return st;
+}
+
+void sturdy_compare_adjust(sturdy_response_result *rr, double conf)
+{
+    /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
+       (the same residual df), one per comparison under Games–Howell */
+    double last_k = NAN, last_df = NAN, q = NAN;
+    for (size_t i = 0; i < rr->ncomparisons; i++) {
+        sturdy_comparison *cp = &rr->comparisons[i];
+        if (!isfinite(cp->t) || !(cp->range_k >= 2))
+            continue;
+        if (cp->range_k != last_k || cp->df != last_df) {
+            last_k = cp->range_k;
+            last_df = cp->df;
+            q = sturdy_range_quantile(conf, last_k, last_df);
+        }
+        cp->p_adjusted = sturdy_range_upper(sqrt(2.0) * fabs(cp->t), cp->range_k, cp->df);
+        cp->ci_simultaneous.lo = cp->estimate - q / sqrt(2.0) * cp->se;
+        cp->ci_simultaneous.hi = cp->estimate + q / sqrt(2.0) * cp->se;
+    }
 }

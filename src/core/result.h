@@ -119,6 +119,7 @@ typedef struct {
     int within;                  /* 1: a simple effect (by_factor, by_level) */
     size_t by_factor, by_level;
     sturdy_adjust_method method;
+    double range_k;              /* means in the studentized range of its adjustment */
     double estimate, se, df, t, p; /* unadjusted t test */
     double g;                    /* Hedges' g: estimate / pooled residual SD × J(df) */
     sturdy_pair ci, ci_simultaneous;
