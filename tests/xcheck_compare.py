@@ -20,7 +20,10 @@ Checks and tolerances (the reference is named on every line):
   * an empty cell: its cell mean and the marginal means that average over it are null
     with a note; the means that do not involve it still match statsmodels;
   * --control: only comparisons against the control level, each as level − control;
-    --levels: the comparisons follow the order given.
+    --levels: the comparisons follow the order given;
+  * Games–Howell where the spread rule fires (one-way, SDs 1, 1, 6, 12): SE
+    √(s_i²/n_i + s_j²/n_j), Welch df, adjusted p and interval from scipy's studentized
+    range at that df, absolute 1e-9 (SE, df relative 1e-10; Games & Howell 1976).
 Prints one line per check and "N passed, N failed"; exits 1 on any failure. A missing
 reference library, probe or binary is a failure, never a skip.
 """
@@ -197,8 +200,43 @@ def check_control_and_order():
            % (bad.returncode, bad.stderr.strip().splitlines()[0][:80] if bad.stderr.strip() else ""))
 
 
+def check_games_howell():
+    rng = np.random.default_rng(31)
+    sds = {"g1": 1.0, "g2": 1.0, "g3": 6.0, "g4": 12.0}
+    rows = [dict(G=g, y=round(10 + rng.normal(0, sd), 5)) for g, sd in sds.items()
+            for _ in range(9)]
+    df = pd.DataFrame(rows)
+    js = run_sturdy(df, ["G"])
+    if js is None:
+        return
+    resp = js["responses"][0]
+    report(resp["diagnostics"]["spread_differs"] is True,
+           "Games–Howell data: the spread rule fires [Brown–Forsythe, by construction]")
+    src = "Games & Howell 1976 with numpy and scipy studentized_range"
+    for c in resp["comparisons"]:
+        a = df[df.G == c["level"]].y.to_numpy()
+        b = df[df.G == c["versus"]].y.to_numpy()
+        va, vb = a.var(ddof=1) / len(a), b.var(ddof=1) / len(b)
+        se = np.sqrt(va + vb)
+        dfw = (va + vb) ** 2 / (va ** 2 / (len(a) - 1) + vb ** 2 / (len(b) - 1))
+        est = a.mean() - b.mean()
+        q = float(studentized_range.ppf(0.95, 4, dfw))
+        label = "GH %s - %s" % (c["level"], c["versus"])
+        report(c["adjustment"] == "games-howell", "%s adjustment %s [%s]"
+               % (label, c["adjustment"], src))
+        close(label + " se", c["se"], se, REL, True, src)
+        close(label + " df", c["df"], dfw, REL, True, src)
+        close(label + " p_adjusted", c["p_adjusted"],
+              float(studentized_range.sf(np.sqrt(2) * abs(est) / se, 4, dfw)), TK_ABS, False, src)
+        close(label + " ci_simultaneous lo", c["ci_simultaneous"][0], est - q / np.sqrt(2) * se,
+              TK_ABS, False, src)
+        close(label + " ci_simultaneous hi", c["ci_simultaneous"][1], est + q / np.sqrt(2) * se,
+              TK_ABS, False, src)
+
+
 def main():
     check_range()
+    check_games_howell()
     df2 = make_data(3, {"A": ["a1", "a2", "a3"], "B": ["b1", "b2"]})
     check_design("2-factor+cov", df2, ["A", "B"])
     df3 = make_data(5, {"A": ["a1", "a2"], "B": ["b1", "b2", "b3"], "D": ["d1", "d2"]})

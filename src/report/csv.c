@@ -210,8 +210,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
     sturdy_buf_puts(out, "kind,response,term,levels,factor,level,versus,within,estimate,se,df,"
                          "t,p,hedges_g,ci_lo,ci_hi,adjustment,ci_simultaneous_lo,"
                          "ci_simultaneous_hi,p_adjusted,p_perm_adjusted,"
-                         "ci_bootstrap_simultaneous_lo,ci_bootstrap_simultaneous_hi,reported,"
-                         "note\n");
+                         "ci_bootstrap_lo,ci_bootstrap_hi,reported,note\n");
     sturdy_buf s;
     sturdy_buf_init(&s);
     for (size_t i = 0; i < r->nresp; i++) {
@@ -234,7 +233,10 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
             sturdy_buf_puts(out, ",,,");
             csv_num(out, m.ci_lo);
             csv_num(out, m.ci_hi);
-            sturdy_buf_puts(out, ",,,,,,,,,");
+            sturdy_buf_puts(out, ",,,,,");
+            csv_num(out, r->resp[i].means[k].ci_boot.lo);
+            csv_num(out, r->resp[i].means[k].ci_boot.hi);
+            sturdy_buf_puts(out, ",,");
             csv_text(out, m.note);
             sturdy_buf_put(out, "\n", 1);
         }
