@@ -39,6 +39,15 @@ typedef enum {
                                         wild bootstrap is computed beside it */
 } sturdy_spread_scheme;
 
+/* Which comparisons of marginal means are reported. */
+typedef enum {
+    STURDY_COMPARE_SIGNIFICANT = 0, /* terms significant by the F-test or the resampling
+                                       test at alpha (default) */
+    STURDY_COMPARE_ALL = 1,
+    STURDY_COMPARE_NONE = 2,
+    STURDY_COMPARE_LIST = 3          /* the terms named in compare_terms */
+} sturdy_compare_mode;
+
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
 typedef void (*sturdy_progress_fn)(void *arg, uint64_t done, uint64_t total);
 
@@ -71,6 +80,13 @@ typedef struct {
     uint64_t seed;               /* default STURDY_DEFAULT_SEED */
     uint64_t shard_index;        /* 1-based; 0 with shard_count 0 = the whole run */
     uint64_t shard_count;
+    /* which terms' pairwise comparisons are reported (compare.c computes them for
+       every main effect and two-factor interaction) */
+    sturdy_compare_mode compare_mode;
+    const char *const *compare_terms; size_t ncompare_terms; /* LIST: labels as in
+                                    sturdy_model_spec.term_order */
+    const char *control_factor, *control_level; /* compare the factor's levels with this
+                                    one only (NULL: all pairs) */
     int resample;                /* 1 (default): compute the slice's rearrangements and
                                     replicates; 0: leave the raw material empty, to be
                                     filled by sturdy_result_add_slice (merging shards) */
@@ -266,6 +282,45 @@ size_t sturdy_result_tested_terms(const sturdy_result *r);
  * note; never NULL (the string belongs to r). */
 const char *sturdy_result_untested_reason(const sturdy_result *r);
 
+/* --- marginal means and comparisons ---------------------------------------------- */
+
+/* A least-squares marginal mean of a factor term at one combination of its levels:
+ * equal weights over the other factors' and the block's levels, covariates at their
+ * means, in the response's units. Strings belong to the result. */
+typedef struct {
+    const char *term;            /* "A×B" */
+    size_t nfactors;             /* the term's factors, in the design's order */
+    const char *factors[STURDY_MAX_FACTORS], *levels[STURDY_MAX_FACTORS];
+    double estimate, se, df;     /* NaN when not estimable (note) */
+    double ci_lo, ci_hi;         /* classical t interval at the run's level */
+    const char *note;            /* why the numbers are absent, else NULL */
+} sturdy_mean_info;
+
+/* One difference of two marginal means, mean(level) − mean(versus) of `factor`, within
+ * by_factor = by_level for a simple effect of a two-factor term. The family of the
+ * simultaneous intervals and adjusted p-values is the set of comparisons of one term. */
+typedef struct {
+    const char *term, *factor, *level, *versus;
+    const char *by_factor, *by_level;   /* NULL unless a simple effect */
+    const char *adjustment;      /* "tukey-kramer" or "games-howell" */
+    double estimate, se, df, t, p;      /* unadjusted t test (Welch df for Games–Howell) */
+    double hedges_g;             /* estimate / pooled residual SD × (1 − 3/(4·df_error − 1)) */
+    double ci_lo, ci_hi;         /* unadjusted interval */
+    double sim_lo, sim_hi, p_adjusted;  /* classical simultaneous interval, adjusted p */
+    double p_perm_adjusted;      /* single-step max-T over the family (NaN: none) */
+    double boot_sim_lo, boot_sim_hi;    /* max-|t| bootstrap simultaneous interval */
+    int reported;                /* the term is among those the report shows */
+    const char *note, *perm_note;
+} sturdy_comparison_info;
+
+/* Counts (0 for a result read back: it keeps no design) and entries; an entry call
+ * returns 0 and leaves *out untouched when resp or i is out of range. */
+size_t sturdy_result_nmeans(const sturdy_result *r, size_t resp);
+int sturdy_result_mean(const sturdy_result *r, size_t resp, size_t i, sturdy_mean_info *out);
+size_t sturdy_result_ncomparisons(const sturdy_result *r, size_t resp);
+int sturdy_result_comparison(const sturdy_result *r, size_t resp, size_t i,
+                             sturdy_comparison_info *out);
+
 /* --- splitting a run: parts ------------------------------------------------------ */
 
 /* The raw material of one slice of an analysis, as a shard's partial result carries it:
@@ -279,6 +334,12 @@ typedef struct {
     const double *boot;          /* nresp × nterms × (boot_end − boot_begin) ×
                                     STURDY_BOOT_COLS;
                                     entries of terms without replicates are ignored */
+    size_t ncomparisons;         /* comparisons of all responses, in order (0 with NULL:
+                                    none carried) */
+    const uint64_t *cmp_exceed;  /* their max-T counts over the rearrangement range */
+    size_t cmp_boot_cols;        /* the comparisons' replicate values per response and
+                                    replicate (0 with NULL: none carried) */
+    const double *cmp_boot;      /* nresp × (boot_end − boot_begin) × cmp_boot_cols */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

@@ -71,6 +71,12 @@ sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opt
 sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts *o,
                                 sturdy_buf *out);
 
+/* The marginal means and comparisons as CSV: a header row, then one row per mean
+ * ("kind" mean) and per comparison ("kind" comparison) of every response, in the
+ * conventions of sturdy_report_csv. */
+sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
+                                            const sturdy_report_opts *o, sturdy_buf *out);
+
 /* --- reading back ----------------------------------------------------------------- */
 
 /* Read a JSON result (contract "version": 1, as sturdy_report_json writes it) back into

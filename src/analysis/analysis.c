@@ -5,6 +5,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "analysis/stages.h"
+#include "resampling/bootcmp.h"
 #include "checks/checks.h"
 #include "classical/classical.h"
 #include "resampling/resampling.h"
@@ -211,6 +213,20 @@ void sturdy_result_free(sturdy_result *r)
             sturdy_free(tr->uv.perm_note);
         }
         sturdy_free(rr->terms);
+        for (size_t i = 0; rr->means && i < rr->nmeans; i++) {
+            sturdy_free(rr->means[i].note);
+            sturdy_free(rr->means[i].w);
+        }
+        sturdy_free(rr->cmp_boot);
+        sturdy_free(rr->cmp_boot_note);
+        sturdy_free(rr->means);
+        for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
+            sturdy_free(rr->comparisons[i].note);
+            sturdy_free(rr->comparisons[i].perm_note);
+            sturdy_free(rr->comparisons[i].w);
+        }
+        sturdy_free(rr->comparisons);
+        sturdy_free(rr->compare_shown);
         sturdy_free(rr->name);
         sturdy_free(rr->error_note);
         sturdy_free(rr->cell_mean);
@@ -316,13 +332,18 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
     sturdy_status st = classical_stage(t, run, r, &m, err);
     if (!st && !(st = plan_resampling(t, m, run, r, err))) {
         const sturdy_design *d = r->design;
-        if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
+        /* the diagnostics (whose spread rule picks the comparisons' adjustment) and the
+           comparisons (whose contrasts the permutation engine rearranges for max-T) need
+           only the classical fit, so they come before the resampling */
+        for (size_t ri = 0; ri < d->nresp && !st; ri++)
+            st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+        if (!st && !(st = sturdy_compare_stage(d, m, &run->opts, r, err)) &&
+            !(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
+            !(st = sturdy_bootcmp_alloc(run, m, r, err)) &&
             !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
             r->perm_done = run->perm_end - run->perm_begin;
             r->boot_done = run->boot_end - run->boot_begin;
-            for (size_t ri = 0; ri < d->nresp && !st; ri++)
-                st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
         }
     }
     sturdy_model_free(m);
@@ -385,6 +406,31 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             return sturdy_fail(err, STURDY_EUSAGE,
                                "the part counts more exceedances than its %llu rearrangements",
                                (unsigned long long)np);
+    if (s->cmp_exceed) {
+        size_t total = 0;
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            total += r->resp[ri].ncomparisons;
+        if (s->ncomparisons != total)
+            return sturdy_fail(err, STURDY_EUSAGE, "the part has %zu comparisons; the analysis "
+                               "has %zu", s->ncomparisons, total);
+        for (size_t q = 0; q < total; q++)
+            if (s->cmp_exceed[q] > np)
+                return sturdy_fail(err, STURDY_EUSAGE, "the part counts more exceedances than "
+                                   "its %llu rearrangements", (unsigned long long)np);
+        for (size_t ri = 0, q = 0; ri < r->nresp; ri++)
+            for (size_t i = 0; i < r->resp[ri].ncomparisons; i++)
+                r->resp[ri].comparisons[i].exceed_maxt += s->cmp_exceed[q++];
+    }
+    if (s->cmp_boot && nb) {
+        size_t cols = r->nresp ? r->resp[0].nfamilies + r->resp[0].nmeans : 0;
+        if (s->cmp_boot_cols != cols)
+            return sturdy_fail(err, STURDY_EUSAGE, "the part has %zu values per replicate for "
+                               "the comparisons; the analysis has %zu", s->cmp_boot_cols, cols);
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            if (r->resp[ri].cmp_boot)
+                memcpy(r->resp[ri].cmp_boot + s->boot_begin * cols,
+                       s->cmp_boot + ri * nb * cols, nb * cols * sizeof(double));
+    }
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < s->nterms; t++) {
             sturdy_term_result *tr = &r->resp[ri].terms[t];
@@ -477,8 +523,9 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
                 (st = sturdy_uv_finish(r, tr, err)))
                 return st;
         }
-    if ((st = holm(r, err)))
+    if ((st = holm(r, err)) || (st = sturdy_bootcmp_finish(r, err)))
         return st;
+    sturdy_compare_select(r);
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if ((st = sturdy_verdict_term(&r->resp[ri], &r->resp[ri].terms[t], r->opts.alpha,

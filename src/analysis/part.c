@@ -67,6 +67,32 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
                        tr->boot + r->boot_begin * STURDY_BOOT_COLS,
                        nb * STURDY_BOOT_COLS * sizeof *p->boot);
         }
+    size_t nc = 0;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        nc += r->resp[ri].ncomparisons;
+    if (!(p->cmp_counts = sturdy_calloc(nc + 1, sizeof *p->cmp_counts))) {
+        sturdy_part_free(p);
+        *out = NULL;
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t ri = 0, q = 0; ri < r->nresp; ri++)
+        for (size_t i = 0; i < r->resp[ri].ncomparisons; i++)
+            p->cmp_counts[q++] = r->resp[ri].comparisons[i].exceed_maxt;
+    p->s.ncomparisons = nc;
+    p->s.cmp_exceed = p->cmp_counts;
+    size_t cols = r->nresp ? r->resp[0].nfamilies + r->resp[0].nmeans : 0;
+    if (r->nresp && r->resp[0].cmp_boot && cols) {   /* also for an empty range (MPI) */
+        if (!(p->cmp_boot = sturdy_malloc((r->nresp * nb * cols + 1) * sizeof *p->cmp_boot))) {
+            sturdy_part_free(p);
+            *out = NULL;
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        }
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            memcpy(p->cmp_boot + ri * nb * cols, r->resp[ri].cmp_boot + r->boot_begin * cols,
+                   nb * cols * sizeof *p->cmp_boot);
+        p->s.cmp_boot_cols = cols;
+        p->s.cmp_boot = p->cmp_boot;
+    }
     return STURDY_OK;
 }
 
@@ -80,6 +106,8 @@ void sturdy_part_free(sturdy_part *p)
     if (!p)
         return;
     sturdy_free(p->counts);
+    sturdy_free(p->cmp_counts);
+    sturdy_free(p->cmp_boot);
     sturdy_free(p->boot);
     for (size_t i = 0; i < p->nargs; i++)
         sturdy_free(p->args[i]);

@@ -31,4 +31,27 @@ sturdy_status sturdy_uv_response(const sturdy_design *d, const sturdy_model *m, 
 /* p-values of the unequal-variance test's resampling counts in a finished run. */
 sturdy_status sturdy_uv_finish(const sturdy_result *r, sturdy_term_result *t, char *err);
 
+/* Marginal means and pairwise comparisons (compare.c). */
+typedef struct {
+    double conf;                 /* level of every interval */
+    int spread_differs;          /* the spread rule fired: Games–Howell where it applies */
+    size_t control_factor;       /* compare this factor's levels with control_level only;
+                                    (size_t)-1: all pairs */
+    size_t control_level;
+} sturdy_compare_setup;
+
+/* Fill out->means (every factor term, each level combination), out->comparisons (main
+ * effects: pairs of levels; two-factor terms: simple effects) and a zeroed
+ * out->compare_shown for response r. Needs the classical table (error MS and df, cell
+ * SDs) already in `out`. */
+sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                      const sturdy_compare_setup *cs,
+                                      sturdy_response_result *out, char *err);
+
+/* The classical simultaneous intervals and adjusted p-values of the response's
+ * comparisons (Tukey–Kramer or Games–Howell, from the studentized range at level conf).
+ * Deferred to the finish of a run: the range's integrals are the costly part of the
+ * comparisons, and a shard part does not need them. */
+void sturdy_compare_adjust(sturdy_response_result *rr, double conf);
+
 #endif

@@ -14,7 +14,7 @@
 #define CLI_EXIT_USAGE 2
 #define CLI_DONE (-1)   /* parsing printed help or version: exit 0 */
 
-typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV } cli_format;
+typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV, CLI_FMT_CSV_COMPARISONS } cli_format;
 
 /* A list option (-y A,B -y C): owned copies of the names. */
 typedef struct {
@@ -44,6 +44,8 @@ typedef struct {
     cli_list responses, factors, covariates, missing, term_order;
     int missing_only;            /* --missing-only: the tokens replace the defaults */
     cli_level_order *levels; size_t nlevels;   /* --levels, in the order given */
+    cli_list compare;            /* --compare TERMS (when a list) */
+    char *control;               /* --control FACTOR=LEVEL, split at '=' (owned) */
     sturdy_level_order *orders;  /* the same for the model spec (points into `levels`) */
     int ascii_terms, csv_bom;    /* CSV presentation */
     cli_format format;

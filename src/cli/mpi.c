@@ -53,7 +53,9 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     uint64_t p1 = ranges[4 * (mpi_size_ - 1) + 1], b1 = ranges[4 * (mpi_size_ - 1) + 3];
     uint64_t nb = b1 - b0;
     int root = mpi_rank_ == 0;
-    uint64_t *mine_c = calloc(4 * k + 1, sizeof *mine_c), *sum = calloc(4 * k + 1, sizeof *sum);
+    size_t nc = own->cmp_exceed ? own->ncomparisons : 0;   /* max-T counts after them */
+    uint64_t *mine_c = calloc(4 * k + nc + 1, sizeof *mine_c);
+    uint64_t *sum = calloc(4 * k + nc + 1, sizeof *sum);
     double *boot = root ? malloc((k * nb * STURDY_BOOT_COLS + 1) * sizeof *boot) : NULL;
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
@@ -72,7 +74,10 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
             mine_c[2 * k + j] = own->uv_exceed_wild ? own->uv_exceed_wild[j] : 0;
             mine_c[3 * k + j] = own->uv_exceed_perm ? own->uv_exceed_perm[j] : 0;
         }
-    MPI_Reduce(mine_c, sum, (int)(4 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
+    if (!root)
+        for (size_t q = 0; q < nc; q++)
+            mine_c[4 * k + q] = own->cmp_exceed[q];
+    MPI_Reduce(mine_c, sum, (int)(4 * k + nc), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
     for (int q = 0; q < mpi_size_; q++) {
         uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
         counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_BOOT_COLS);
@@ -85,15 +90,40 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                     MPI_DOUBLE, root ? boot + j * nb * STURDY_BOOT_COLS : NULL, counts, displs,
                     MPI_DOUBLE, 0, MPI_COMM_WORLD);
     }
+    /* the comparisons' replicate rows, per response (every rank has the same cols) */
+    size_t cols = own->cmp_boot ? own->cmp_boot_cols : 0;
+    double *cb = root && cols ? malloc((own->nresp * nb * cols + 1) * sizeof *cb) : NULL;
+    int cok = !(root && cols) || cb, call_ok = 0;
+    MPI_Allreduce(&cok, &call_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
+    if (!call_ok) {
+        snprintf(err, STURDY_ERR_LEN, "out of memory while combining the MPI ranks");
+        st = STURDY_EINTERNAL;
+        free(cb);
+        goto done;
+    }
+    for (int q = 0; cols && q < mpi_size_; q++) {
+        uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
+        counts[q] = q == 0 ? 0 : (int)((hi - lo) * cols);
+        displs[q] = q == 0 ? 0 : (int)((lo - b0) * cols);
+    }
+    for (size_t ri = 0; cols && ri < own->nresp; ri++) {
+        const double *src = own->cmp_boot + ri * own_nb * cols;
+        MPI_Gatherv(root ? MPI_IN_PLACE : (void *)src, root ? 0 : (int)(own_nb * cols),
+                    MPI_DOUBLE, root ? cb + ri * nb * cols : NULL, counts, displs,
+                    MPI_DOUBLE, 0, MPI_COMM_WORLD);
+    }
     if (root) {
         sturdy_slice rest = { .perm_begin = p0, .perm_end = p1, .boot_begin = b0,
                               .boot_end = b1, .nresp = own->nresp, .nterms = nt,
                               .exceed = sum, .exceed_fwer = sum + k,
                               .uv_exceed_wild = sum + 2 * k, .uv_exceed_perm = sum + 3 * k,
-                              .boot = boot };
+                              .boot = boot, .ncomparisons = nc,
+                              .cmp_exceed = nc ? sum + 4 * k : NULL,
+                              .cmp_boot_cols = cols, .cmp_boot = cb };
         if (!(st = sturdy_result_add_slice(r, &rest, err)))
             st = sturdy_result_finish(r, err);
     }
+    free(cb);
 done:
     free(mine_c); free(sum); free(boot); free(counts); free(displs);
     return st;

@@ -15,7 +15,8 @@ enum {
     OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
-    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER
+    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER,
+    OPT_COMPARE, OPT_CONTROL
 };
 
 /* The one table of `check`'s long options: getopt_long reads the command line with it
@@ -47,6 +48,8 @@ const struct option cli_check_options[] = {
     { "missing", required_argument, NULL, OPT_MISSING },
     { "missing-only", required_argument, NULL, OPT_MISSING_ONLY },
     { "levels", required_argument, NULL, OPT_LEVELS },
+    { "compare", required_argument, NULL, OPT_COMPARE },
+    { "control", required_argument, NULL, OPT_CONTROL },
     { "merge-numeric-levels", no_argument, NULL, OPT_MERGE_NUMERIC },
     { "ascii-terms", no_argument, NULL, OPT_ASCII_TERMS },
     { "csv-bom", no_argument, NULL, OPT_CSV_BOM },
@@ -56,6 +59,16 @@ const struct option cli_check_options[] = {
     { "version", no_argument, NULL, OPT_VERSION },
     { NULL, 0, NULL, 0 }
 };
+
+/* Printed after either help text (a separate string: ISO C bounds a literal's length). */
+static const char compare_help[] =
+"\n"
+"Comparisons of marginal means (after the table)\n"
+"      --compare T[,T...]|all|none  terms whose pairwise differences are shown: main\n"
+"                               effects and two-factor terms (default: the terms\n"
+"                               significant by the F-test or the resampling test)\n"
+"      --control F=LEVEL        compare F's levels with this one only\n"
+"      --format csv-comparisons the means and comparisons as CSV (one row each)\n";
 
 static const char check_help[] =
 "Usage: sturdy check DATA.csv -y RESPONSE[,RESPONSE...] -f FACTOR[,FACTOR...] [options]\n"
@@ -224,6 +237,8 @@ void cli_check_free(cli_check *c)
     }
     free(c->levels);
     cli_list_free(&c->term_order);
+    cli_list_free(&c->compare);
+    free(c->control);
     free(c->orders);
 }
 
@@ -373,6 +388,28 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         c->missing_only = 1;
         return want_list(c, &c->missing, "--missing-only", arg, 1);
     case OPT_LEVELS: return parse_levels(c, arg);
+    case OPT_COMPARE:
+        cli_list_free(&c->compare);
+        if (!strcmp(arg, "all") || !strcmp(arg, "none")) {
+            o->compare_mode = !strcmp(arg, "all") ? STURDY_COMPARE_ALL : STURDY_COMPARE_NONE;
+            return 0;
+        }
+        o->compare_mode = STURDY_COMPARE_LIST;
+        return want_list(c, &c->compare, "--compare", arg, 0);
+    case OPT_CONTROL: {
+        const char *eq = strchr(arg, '=');
+        if (!eq || eq == arg || !eq[1])
+            return cli_usage_error(c->command, "--control wants FACTOR=LEVEL, not '%s'", arg);
+        free(c->control);
+        if (!(c->control = strdup(arg))) {
+            fputs("sturdy: out of memory\n", stderr);
+            return STURDY_EINTERNAL;
+        }
+        c->control[eq - arg] = '\0';
+        o->control_factor = c->control;
+        o->control_level = c->control + (eq - arg) + 1;
+        return 0;
+    }
     case OPT_MERGE_NUMERIC: o->model.merge_numeric_levels = 1; return 0;
     case OPT_ASCII_TERMS: c->ascii_terms = 1; return 0;
     case OPT_CSV_BOM: c->csv_bom = 1; return 0;
@@ -421,7 +458,8 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         if (!strcmp(arg, "text")) c->format = CLI_FMT_TEXT;
         else if (!strcmp(arg, "json")) c->format = CLI_FMT_JSON;
         else if (!strcmp(arg, "csv")) c->format = CLI_FMT_CSV;
-        else return cli_usage_error(c->command, "--format wants text, json or csv, not '%s'",
+        else if (!strcmp(arg, "csv-comparisons")) c->format = CLI_FMT_CSV_COMPARISONS;
+        else return cli_usage_error(c->command, "--format wants text, json, csv or csv-comparisons, not '%s'",
                                     arg);
         c->format_given = 1;
         return 0;
@@ -466,6 +504,8 @@ static int finish(cli_check *c)
     o->model.nfactors = c->factors.n;
     o->model.covariates = (const char *const *)c->covariates.items;
     o->model.ncovariates = c->covariates.n;
+    o->compare_terms = (const char *const *)c->compare.items;
+    o->ncompare_terms = c->compare.n;
     o->model.term_order = (const char *const *)c->term_order.items;
     o->model.nterm_order = c->term_order.n;
     /* --missing adds to the defaults; --missing-only replaces them */
@@ -492,7 +532,8 @@ static int finish(cli_check *c)
     }
     if (!c->format_given && c->out_path && cli_format_of_path(c->out_path) >= 0)
         c->format = (cli_format)cli_format_of_path(c->out_path);
-    if ((c->ascii_terms || c->csv_bom) && (o->shard_count || c->format != CLI_FMT_CSV))
+    if ((c->ascii_terms || c->csv_bom) && (o->shard_count || (c->format != CLI_FMT_CSV &&
+                                                        c->format != CLI_FMT_CSV_COMPARISONS)))
         return cli_usage_error(c->command, "%s applies to CSV output: add --format csv (or "
                                "-o FILE.csv)", c->ascii_terms ? "--ascii-terms" : "--csv-bom");
     if (o->shard_count) {
@@ -536,7 +577,11 @@ int cli_check_parse(int argc, char **argv, int demo, cli_check *c)
     int opt, rc;
     while ((opt = getopt_long(argc, argv, ":y:f:B:o:qh", cli_check_options, NULL)) != -1) {
         const char *spelled = argv[optind - 1];
-        if (opt == 'h') { fputs(demo ? demo_help : check_help, stdout); return CLI_DONE; }
+        if (opt == 'h') {
+            fputs(demo ? demo_help : check_help, stdout);
+            fputs(compare_help, stdout);
+            return CLI_DONE;
+        }
         if (opt == OPT_VERSION) { puts("sturdy " STURDY_VERSION); return CLI_DONE; }
         if (opt == '?') {
             if (optopt) return cli_usage_error(c->command, "unknown option '-%c'", optopt);

@@ -108,6 +108,7 @@ int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
     switch (c->format) {
     case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
     case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);
+    case CLI_FMT_CSV_COMPARISONS: return sturdy_report_csv_comparisons(r, &ro, out);
     case CLI_FMT_TEXT: break;
     }
     return sturdy_report_text(r, &ro, out);
@@ -214,7 +215,7 @@ int cli_check_run(cli_check *c)
         rc = STURDY_EMODEL;
     }
     /* CSV has no place for the run's notes; keep them visible */
-    if (!rc && !c->quiet && c->format == CLI_FMT_CSV)
+    if (!rc && !c->quiet && (c->format == CLI_FMT_CSV || c->format == CLI_FMT_CSV_COMPARISONS))
         for (size_t i = 0; i < sturdy_result_nnotes(r); i++)
             fprintf(stderr, "sturdy: note: %s\n", sturdy_result_note(r, i));
     sturdy_buf_free(&out);

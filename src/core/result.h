@@ -89,9 +89,71 @@ typedef struct {
     double *leverage;            /* n */
 } sturdy_diagnostics;
 
+/* A least-squares marginal mean of a factor term at one combination of its levels
+ * (compare.c): equal weights over the other factors' levels and the block's, covariates
+ * at their means; in the response's units. */
+typedef struct {
+    size_t term;                 /* index among the response's terms */
+    size_t level[STURDY_MAX_FACTORS]; /* level of each factor in the term's mask */
+    uint32_t mask;               /* the term's factors */
+    double estimate, se, df;     /* NaN when not estimable (note) */
+    sturdy_pair ci;              /* classical t interval at the run's level */
+    sturdy_pair ci_boot;         /* bootstrap percentile interval (NaN: none) */
+    char *note;                  /* why it is absent, else NULL */
+    double *w;                   /* rank: weights on the model's basis (owned; NULL when
+                                    not estimable) */
+} sturdy_mean_result;
+
+/* How the classical simultaneous interval of a comparison is found. */
+typedef enum {
+    STURDY_ADJ_TUKEY_KRAMER = 0, /* pooled residual variance (Tukey 1953; Kramer 1956) */
+    STURDY_ADJ_GAMES_HOWELL = 1  /* cell variances, Welch df (Games & Howell 1976) */
+} sturdy_adjust_method;
+
+/* One difference of two marginal means: mean(level) − mean(versus) of `factor`, within
+ * level by_level of by_factor for a simple effect of a two-factor term. The family is the
+ * set of comparisons of one term. */
+typedef struct {
+    size_t term;                 /* the family's term */
+    size_t family;               /* index of the family among the response's families */
+    size_t factor, level, versus;
+    int within;                  /* 1: a simple effect (by_factor, by_level) */
+    size_t by_factor, by_level;
+    sturdy_adjust_method method;
+    double range_k;              /* means in the studentized range of its adjustment */
+    double estimate, se, df, t, p; /* unadjusted t test */
+    double g;                    /* Hedges' g: estimate / pooled residual SD × J(df) */
+    sturdy_pair ci, ci_simultaneous;
+    double p_adjusted;
+    double p_perm_adjusted;      /* single-step max-T (NaN: not computed, perm_note) */
+    sturdy_pair ci_boot_simultaneous; /* max-|t| bootstrap (NaN: not computed) */
+    char *note;                  /* why the numbers are absent, else NULL */
+    char *perm_note;             /* why the resampling family is absent */
+    /* max-T raw material (permute.c) */
+    double *w;                   /* rank: the contrast's weights on the model's basis
+                                    (estimate = wᵀQᵀy); owned; NULL when not estimable
+                                    or read back */
+    double t_pooled;             /* estimate / se_pooled: the statistic max-T
+                                    rearranges (NaN: none) */
+    double se_pooled;            /* √MS_error ‖w‖ */
+    uint64_t exceed_maxt;        /* rearrangements whose largest |t*| over the family is
+                                    at least |t_pooled| */
+} sturdy_comparison;
+
 typedef struct {
     char *name;
     size_t nterms; sturdy_term_result *terms;
+    size_t nmeans; sturdy_mean_result *means;    /* every factor term, in term order */
+    size_t ncomparisons; sturdy_comparison *comparisons; /* main effects and two-factor
+                                    interactions, in term order */
+    unsigned char *compare_shown; /* nterms: 1 when the term's comparisons are reported
+                                    (the compare selection, decided at finish) */
+    size_t nfamilies;            /* terms with comparisons */
+    double *cmp_boot;            /* nboot × (nfamilies + nmeans) row-major, indexed over
+                                    the whole run (bootcmp.c): per replicate the largest
+                                    |t*| of each family, then each mean's replicate value
+                                    (owned; NULL: no bootstrap) */
+    char *cmp_boot_note;         /* why the bootstrap intervals are absent */
     double df_error, ss_error, ms_error;
     double df_total, ss_total;
     char *error_note;            /* e.g. no residual degrees of freedom */
@@ -135,6 +197,8 @@ struct sturdy_result {
 struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
     uint64_t *counts;            /* 4 × nresp × nterms */
+    uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
+    double *cmp_boot;            /* the comparisons' replicate values (NULL: none) */
     double *boot;
     /* read from a file: its envelope */
     uint64_t index, count, data_checksum;

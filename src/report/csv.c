@@ -199,3 +199,87 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
     }
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;
 }
+
+/* The marginal means and comparisons (report.h): one row each, per response. */
+sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
+                                            const sturdy_report_opts *o, sturdy_buf *out)
+{
+    sturdy_report_opts defaults;
+    if (r->read_back)
+        return STURDY_EUSAGE;
+    if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
+    if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
+    sturdy_buf_puts(out, "kind,response,term,levels,factor,level,versus,within,estimate,se,df,"
+                         "t,p,hedges_g,ci_lo,ci_hi,adjustment,ci_simultaneous_lo,"
+                         "ci_simultaneous_hi,p_adjusted,p_perm_adjusted,"
+                         "ci_bootstrap_lo,ci_bootstrap_hi,reported,note\n");
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    for (size_t i = 0; i < r->nresp; i++) {
+        const sturdy_response_result *rr = &r->resp[i];
+        sturdy_mean_info m;
+        for (size_t k = 0; sturdy_result_mean(r, i, k, &m); k++) {
+            sturdy_buf_puts(out, "mean,");
+            csv_text(out, rr->name);
+            sturdy_buf_put(out, ",", 1);
+            term_name(out, &rr->terms[rr->means[k].term], o->ascii_terms);
+            s.len = 0;
+            for (size_t f = 0; f < m.nfactors; f++)
+                sturdy_buf_printf(&s, "%s%s=%s", f ? ";" : "", m.factors[f], m.levels[f]);
+            sturdy_buf_put(out, ",", 1);
+            csv_text(out, s.len ? s.data : "");
+            sturdy_buf_puts(out, ",,,,");
+            csv_num(out, m.estimate);
+            csv_num(out, m.se);
+            csv_num(out, m.df);
+            sturdy_buf_puts(out, ",,,");
+            csv_num(out, m.ci_lo);
+            csv_num(out, m.ci_hi);
+            sturdy_buf_puts(out, ",,,,,");
+            csv_num(out, r->resp[i].means[k].ci_boot.lo);
+            csv_num(out, r->resp[i].means[k].ci_boot.hi);
+            sturdy_buf_puts(out, ",,");
+            csv_text(out, m.note);
+            sturdy_buf_put(out, "\n", 1);
+        }
+        sturdy_comparison_info c;
+        for (size_t k = 0; sturdy_result_comparison(r, i, k, &c); k++) {
+            sturdy_buf_puts(out, "comparison,");
+            csv_text(out, rr->name);
+            sturdy_buf_put(out, ",", 1);
+            term_name(out, &rr->terms[rr->comparisons[k].term], o->ascii_terms);
+            sturdy_buf_puts(out, ",,");
+            csv_text(out, c.factor);
+            sturdy_buf_put(out, ",", 1);
+            csv_text(out, c.level);
+            sturdy_buf_put(out, ",", 1);
+            csv_text(out, c.versus);
+            s.len = 0;
+            if (c.by_factor) sturdy_buf_printf(&s, "%s=%s", c.by_factor, c.by_level);
+            sturdy_buf_put(out, ",", 1);
+            csv_text(out, s.len ? s.data : "");
+            csv_num(out, c.estimate);
+            csv_num(out, c.se);
+            csv_num(out, c.df);
+            csv_num(out, c.t);
+            csv_num(out, c.p);
+            csv_num(out, c.hedges_g);
+            csv_num(out, c.ci_lo);
+            csv_num(out, c.ci_hi);
+            sturdy_buf_put(out, ",", 1);
+            csv_text(out, c.adjustment);
+            csv_num(out, c.sim_lo);
+            csv_num(out, c.sim_hi);
+            csv_num(out, c.p_adjusted);
+            csv_num(out, c.p_perm_adjusted);
+            csv_num(out, c.boot_sim_lo);
+            csv_num(out, c.boot_sim_hi);
+            sturdy_buf_puts(out, c.reported ? ",true," : ",false,");
+            csv_text(out, c.note ? c.note : c.perm_note);
+            sturdy_buf_put(out, "\n", 1);
+        }
+    }
+    if (s.failed) out->failed = 1;
+    sturdy_buf_free(&s);
+    return out->failed ? STURDY_EINTERNAL : STURDY_OK;
+}

@@ -409,6 +409,92 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_close(w, '}');
 }
 
+/* The levels of `mask` as {"factor": "level", ...}. */
+static void write_levels(jw *w, const char *key, const sturdy_design *d, uint32_t mask,
+                         const size_t *level)
+{
+    jw_open(w, key, '{');
+    for (size_t f = 0; f < d->nfactors; f++)
+        if (mask & (1u << f)) jw_str(w, d->factors[f].name, d->factors[f].levels[level[f]]);
+    jw_close(w, '}');
+}
+
+/* responses[].means[] and responses[].comparisons[] (compare.c). */
+static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_result *rr,
+                          const sturdy_report_opts *o)
+{
+    const sturdy_design *d = r->design;
+    jw_open(w, "means", '[');
+    for (size_t i = 0; d && i < rr->nmeans; i++) {
+        const sturdy_mean_result *m = &rr->means[i];
+        jw_open(w, NULL, '{');
+        jw_str(w, "term", rr->terms[m->term].label);
+        write_levels(w, "levels", d, m->mask, m->level);
+        jw_num(w, "estimate", m->estimate);
+        jw_num(w, "se", m->se);
+        jw_num(w, "df", m->df);
+        jw_pair(w, "ci", m->ci);
+        jw_pair(w, "ci_bootstrap", m->ci_boot);
+        jw_str(w, "note", m->note);
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    jw_open(w, "comparisons", '[');
+    for (size_t i = 0; d && i < rr->ncomparisons; i++) {
+        const sturdy_comparison *c = &rr->comparisons[i];
+        const sturdy_factor *f = &d->factors[c->factor];
+        jw_open(w, NULL, '{');
+        jw_str(w, "term", rr->terms[c->term].label);
+        jw_bool(w, "reported", rr->compare_shown && rr->compare_shown[c->term]);
+        jw_str(w, "factor", f->name);
+        jw_str(w, "level", f->levels[c->level]);
+        jw_str(w, "versus", f->levels[c->versus]);
+        if (c->within) {
+            size_t lv[STURDY_MAX_FACTORS] = {0};
+            lv[c->by_factor] = c->by_level;
+            write_levels(w, "within", d, 1u << c->by_factor, lv);
+        } else {
+            jw_null(w, "within");
+        }
+        jw_num(w, "estimate", c->estimate);
+        jw_num(w, "se", c->se);
+        jw_num(w, "df", c->df);
+        jw_num(w, "t", c->t);
+        jw_num(w, "p", c->p);
+        jw_num(w, "hedges_g", c->g);
+        jw_pair(w, "ci", c->ci);
+        jw_str(w, "adjustment", c->method == STURDY_ADJ_GAMES_HOWELL ? "games-howell"
+                                                                    : "tukey-kramer");
+        jw_pair(w, "ci_simultaneous", c->ci_simultaneous);
+        jw_num(w, "p_adjusted", c->p_adjusted);
+        jw_num(w, "p_perm_adjusted", c->p_perm_adjusted);
+        jw_pair(w, "ci_bootstrap_simultaneous", c->ci_boot_simultaneous);
+        jw_str(w, "note", c->note);
+        jw_str(w, "perm_note", c->perm_note);
+        jw_str(w, "boot_note", rr->cmp_boot_note);
+        if (o->partial) {
+            /* the slice's max-T count, which sturdy merge adds up across shards */
+            jw_open(w, "raw", '{');
+            jw_u64(w, "exceed_maxt", c->exceed_maxt);
+            jw_close(w, '}');
+        }
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    if (o->partial) {
+        /* this slice's replicate rows: each family's largest |t*|, then each mean */
+        size_t cols = rr->nfamilies + rr->nmeans;
+        if (!rr->cmp_boot || !cols) {
+            jw_null(w, "raw_comparisons_boot");
+        } else {
+            jw_open(w, "raw_comparisons_boot", '[');
+            for (uint64_t i = r->boot_begin; i < r->boot_end; i++)
+                jw_nums_inline(w, NULL, rr->cmp_boot + i * cols, cols);
+            jw_close(w, ']');
+        }
+    }
+}
+
 static void write_response(jw *w, const sturdy_result *r, const sturdy_response_result *rr,
                            const sturdy_report_opts *o)
 {
@@ -437,6 +523,7 @@ static void write_response(jw *w, const sturdy_result *r, const sturdy_response_
     }
     jw_close(w, ']');
     write_diagnostics(w, d, &rr->diag);
+    write_compare(w, r, rr, o);
     jw_close(w, '}');
 }
 

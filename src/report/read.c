@@ -508,6 +508,75 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
     return STURDY_OK;
 }
 
+/* The max-T counts of every response's comparisons (a part written before comparisons
+ * existed has none: then the slice carries none). */
+static sturdy_status read_cmp_raw(const char *name, const jv *resps, sturdy_part *p, char *err)
+{
+    uint64_t np = p->s.perm_end - p->s.perm_begin;
+    size_t total = 0;
+    int any = 0;
+    for (size_t ri = 0; ri < resps->n; ri++) {
+        const jv *cs = jv_get(&resps->items[ri], "comparisons");
+        if (is_kind(cs, JV_ARRAY)) {
+            total += cs->n;
+            any = 1;
+        }
+    }
+    if (!any)
+        return STURDY_OK;
+    if (!(p->cmp_counts = rd_calloc(total + 1, sizeof *p->cmp_counts)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    size_t q = 0;
+    for (size_t ri = 0; ri < resps->n; ri++) {
+        const jv *cs = jv_get(&resps->items[ri], "comparisons");
+        for (size_t i = 0; is_kind(cs, JV_ARRAY) && i < cs->n; i++) {
+            const jv *raw = jv_get(&cs->items[i], "raw");
+            uint64_t v = 0;
+            if (!is_kind(raw, JV_OBJECT) || !get_u64(raw, "exceed_maxt", &v) || v > np)
+                return part_fail(err, name, "a comparison's raw 'exceed_maxt' is missing, not "
+                                            "a count, or more than the part's rearrangements");
+            p->cmp_counts[q++] = v;
+        }
+    }
+    p->s.ncomparisons = total;
+    p->s.cmp_exceed = p->cmp_counts;
+    /* the comparisons' replicate rows: the same number of values in every response */
+    uint64_t nb = p->s.boot_end - p->s.boot_begin;
+    size_t cols = 0;
+    for (size_t ri = 0; ri < resps->n; ri++) {
+        const jv *rb = jv_get(&resps->items[ri], "raw_comparisons_boot");
+        if (!rb || is_kind(rb, JV_NULL))
+            return STURDY_OK;
+        if (!is_kind(rb, JV_ARRAY) || rb->n != nb)
+            return part_fail(err, name, "a response's comparison replicates do not match its "
+                                        "range");
+        for (size_t q = 0; q < rb->n; q++) {
+            const jv *row = &rb->items[q];
+            if (!is_kind(row, JV_ARRAY) || (cols && row->n != cols) || !row->n)
+                return part_fail(err, name, "a comparison replicate row has the wrong length");
+            cols = row->n;
+        }
+    }
+    if (!nb || !cols)
+        return STURDY_OK;
+    if (!(p->cmp_boot = rd_calloc(resps->n * (size_t)nb * cols, sizeof *p->cmp_boot)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t ri = 0; ri < resps->n; ri++) {
+        const jv *rb = jv_get(&resps->items[ri], "raw_comparisons_boot");
+        for (size_t q = 0; q < nb; q++)
+            for (size_t e = 0; e < cols; e++) {
+                const jv *v = &rb->items[q].items[e];
+                if (v->kind != JV_NUMBER && v->kind != JV_NULL)
+                    return part_fail(err, name, "a comparison replicate value is neither a "
+                                                "number nor null");
+                p->cmp_boot[(ri * nb + q) * cols + e] = jv_double(v);
+            }
+    }
+    p->s.cmp_boot_cols = cols;
+    p->s.cmp_boot = p->cmp_boot;
+    return STURDY_OK;
+}
+
 sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t len,
                                     sturdy_part **out, char *err)
 {
@@ -542,6 +611,8 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
             for (size_t t = 0; t < nt && !st; t++)
                 st = read_raw(name, jv_get(&terms->items[t], "raw"), p, ri * nt + t, err);
         }
+        if (!st)
+            st = read_cmp_raw(name, resps, p, err);
     }
     for (size_t i = 0; i < env.nargs; i++)
         sturdy_free(env.args[i]);

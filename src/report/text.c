@@ -913,6 +913,7 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
         sturdy_buf_free(&title);
         tests_table(&w, rr);
         effects_table(&w, rr);
+        tw_compare_section(&w, rr);
         cells_table(&w, rr);
         checks(&w, rr);
     }

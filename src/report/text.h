@@ -62,6 +62,8 @@ void tw_footnotes(tw *w);
 /* run.c: the headline's lead when no term has an F-test (no residual degrees of
  * freedom, or every term confounded): the one cause, once; returns 1 when it wrote it. */
 int tw_untested_cause(tw *w);
+/* text_compare.c: the means and differences of the reported terms (nothing when none). */
+void tw_compare_section(tw *w, const sturdy_response_result *rr);
 /* run.c: the section "The run". */
 void tw_run_section(tw *w);
 

@@ -21,6 +21,7 @@
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/pcg_inline.h"
+#include "resampling/bootcmp.h"
 
 /* A row whose leverage is within STURDY_LEVERAGE_ONE_TOL of 1 is alone in its group:
  * its residual is 0 and its leave-one-out fit is undefined, so it is left out of the
@@ -159,12 +160,15 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
         }
         sturdy_model_group_scaled(d, m, rs, sr);
         double sse = rr - full_norm2(m, sr);
-        double sst = rb->ff + 2.0 * fr + rr - sum * sum / (double)n;
-        for (size_t q = 0; q < K; q++)
-            s[q] = rb->sf[q] + sr[q];
         sturdy_response_result *resp = &c->r->resp[ri];
         double kappa = kurtosis_estimate(residual_fourth(d, m, rs, sr, work), sse,
                                          (double)m->df_error, resp->kurt_c1, resp->kurt_c2);
+        /* the comparisons' replicate values (bootcmp.c), from the same resample; it uses
+           rs as its workspace, so everything read from rs comes before */
+        sturdy_bootcmp_replicate(m, resp, b, sr, sse, rs);
+        double sst = rb->ff + 2.0 * fr + rr - sum * sum / (double)n;
+        for (size_t q = 0; q < K; q++)
+            s[q] = rb->sf[q] + sr[q];
         for (size_t t = 0; t < resp->nterms; t++) {
             sturdy_term_result *tr = &resp->terms[t];
             if (!tr->boot)

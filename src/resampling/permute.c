@@ -13,6 +13,10 @@
  * group-space bases, done for a block of rearrangements at once with dgemm. For
  * factor-only models the groups are the cells, so nothing of size n × p is ever formed.
  *
+ * Comparisons of marginal means (maxt.c) ride along: each is one more column of the
+ * gathered matrix, so the single-step max-T counts (Westfall & Young 1993) use exactly
+ * the rearrangements of the F tests, in the same pass over the rows.
+ *
  * Reproducibility: rearrangement b uses generator sturdy_pcg_for(seed, PERMUTE, b) only
  * (or, when enumerating, the b-th rearrangement in a fixed order); counts are integers
  * summed per thread, so any split over threads, shards or ranks gives the same counts. */
@@ -26,6 +30,7 @@
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
+#include "resampling/maxt.h"
 
 /* Work per thread and block is bounded by this many bytes of group sums. */
 #define PERM_BLOCK_BYTES (16u << 20)
@@ -48,9 +53,10 @@ typedef struct {
     const sturdy_design *d;
     const sturdy_model *m;
     size_t M;            /* members */
-    size_t Mp;           /* M rounded up to a multiple of 4: rows of V and of the group
-                            sums are padded with zeros so the gather adds whole groups
-                            of 4, which the compiler turns into vector adds */
+    size_t Mp;           /* M + C rounded up to a multiple of 4: rows of V and of the
+                            group sums are padded with zeros so the gather adds whole
+                            groups of 4, which the compiler turns into vector adds */
+    sturdy_maxt maxt;    /* C comparison columns after the M members (maxt.c) */
     member *mem;
     double *V;           /* n × M row-major: the vectors to rearrange, rows in block
                             order (position k holds row ra.blk_rows[k]) */
@@ -98,6 +104,8 @@ typedef struct {
     double *C;           /* max(df, rank) × nb */
     double *num, *den;   /* M × nb */
     uint64_t *exceed, *fwer;
+    uint64_t *cexceed;   /* C: max-T counts of the comparisons */
+    double *t2;          /* C × nb: t*² of the comparisons */
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -107,11 +115,13 @@ static void work_free(perm_work *w)
     sturdy_free(w->lab); sturdy_free(w->pool); sturdy_free(w->sign); sturdy_free(w->tmp);
     sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
+    sturdy_free(w->cexceed); sturdy_free(w->t2);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
 {
     size_t n = c->d->n, K = c->m->K, M = c->M, nb = c->nb, maxdf = c->m->rank;
+    size_t MC = M + c->maxt.C;
     for (size_t j = 0; j < M; j++)
         if (c->mem[j].df > maxdf)
             maxdf = c->mem[j].df;
@@ -120,14 +130,16 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->pool = sturdy_malloc(n * sizeof *w->pool);
     w->sign = sturdy_malloc(n);
     w->tmp = sturdy_calloc(K * c->Mp, sizeof *w->tmp);
-    w->S = sturdy_malloc(M * K * nb * sizeof *w->S);
+    w->S = sturdy_malloc(MC * K * nb * sizeof *w->S + 1);
     w->C = sturdy_malloc(maxdf * nb * sizeof *w->C);
-    w->num = sturdy_malloc(M * nb * sizeof *w->num);
-    w->den = sturdy_malloc(M * nb * sizeof *w->den);
-    w->exceed = sturdy_calloc(M, sizeof *w->exceed);
-    w->fwer = sturdy_calloc(M, sizeof *w->fwer);
+    w->num = sturdy_malloc(MC * nb * sizeof *w->num + 1);
+    w->den = sturdy_malloc(MC * nb * sizeof *w->den + 1);
+    w->exceed = sturdy_calloc(M + 1, sizeof *w->exceed);
+    w->fwer = sturdy_calloc(M + 1, sizeof *w->fwer);
+    w->cexceed = sturdy_calloc(c->maxt.C + 1, sizeof *w->cexceed);
+    w->t2 = sturdy_malloc((c->maxt.C * nb + 1) * sizeof *w->t2);
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
-           w->exceed && w->fwer;
+           w->exceed && w->fwer && w->cexceed && w->t2;
 }
 
 /* Is F* = (num/df)/(den/df_err) at least the threshold that `c` encodes (num ≥ c·den)?
@@ -144,7 +156,7 @@ static inline int at_least(double num, double den, double c, double vv)
  * w->S[(j·nb + bb)·K + g]. One pass over the rows per rearrangement serves all members. */
 static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
 {
-    size_t n = c->d->n, K = c->m->K, M = c->M, Mp = c->Mp;
+    size_t n = c->d->n, K = c->m->K, M = c->M + c->maxt.C, Mp = c->Mp;
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -221,6 +233,38 @@ static void numerators(const perm_ctx *c, size_t nb, perm_work *w)
     }
 }
 
+/* t*² of every comparison column (after the M members) for the block, into w->t2. */
+static void comparison_stats(const perm_ctx *c, size_t nb, perm_work *w)
+{
+    const sturdy_model *m = c->m;
+    size_t K = m->K;
+    for (size_t q = 0; q < c->maxt.C; q++) {
+        const double *S = w->S + (c->M + q) * nb * K;
+        double *num = w->num + (c->M + q) * nb, *den = w->den + (c->M + q) * nb;
+        sturdy_maxt_numerators(&c->maxt, q, S, K, nb, num);
+        if (m->rank == K) {
+            for (size_t bb = 0; bb < nb; bb++) {
+                double s2 = 0.0;
+                for (size_t g = 0; g < K; g++)
+                    s2 += S[bb * K + g] * S[bb * K + g];
+                den[bb] = c->maxt.cm[q].vv - s2;
+            }
+        } else {
+            cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, (int)m->rank, (int)nb,
+                        (int)K, 1.0, m->U, (int)K, S, (int)K, 0.0, w->C, (int)m->rank);
+            for (size_t bb = 0; bb < nb; bb++) {
+                double s2 = 0.0;
+                for (size_t r = 0; r < m->rank; r++)
+                    s2 += w->C[bb * m->rank + r] * w->C[bb * m->rank + r];
+                den[bb] = c->maxt.cm[q].vv - s2;
+            }
+        }
+        for (size_t bb = 0; bb < nb; bb++)
+            w->t2[q * nb + bb] = sturdy_maxt_t2(&c->maxt, q, num[bb], den[bb], PERM_ZERO_RTOL);
+    }
+    sturdy_maxt_count(&c->maxt, w->t2, nb, w->cexceed);
+}
+
 /* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
 static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
 {
@@ -228,6 +272,8 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     assert(cnt >= 1 && cnt <= c->nb);   /* the workspaces hold c->nb rearrangements */
     group_sums(c, b0, nb, w);
     numerators(c, nb, w);
+    if (c->maxt.C)
+        comparison_stats(c, nb, w);
     for (size_t bb = 0; bb < nb; bb++) {
         for (size_t j = 0; j < M; j++)
             if (at_least(w->num[j * nb + bb], w->den[j * nb + bb], c->mem[j].c,
@@ -289,14 +335,16 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     sturdy_status st = choose_members(c, run, r, err);
     if (st)
         return st;
+    if ((st = sturdy_maxt_init(&c->maxt, d, m, run, r, err)))
+        return st;
     size_t M = c->M;
-    if (M == 0)
+    if (M + c->maxt.C == 0)
         return STURDY_OK;
-    c->Mp = (M + 3) & ~(size_t)3;
+    c->Mp = (M + c->maxt.C + 3) & ~(size_t)3;
     if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, run->exact, run->opts.seed, err)))
         return st;
     c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
-    c->thr = sturdy_malloc(M * M * sizeof *c->thr);
+    c->thr = sturdy_malloc(M * M * sizeof *c->thr + 1);
     double *v = sturdy_malloc(n * sizeof *v), *s = sturdy_malloc(K * sizeof *s);
     double *work = sturdy_malloc((m->rank + K) * sizeof *work);
     double *fit = sturdy_malloc(n * sizeof *fit);
@@ -329,6 +377,17 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             vv += x * x;
         }
         mb->vv = vv;
+    }
+    /* the comparisons' vectors, in the same block order of rows */
+    for (size_t q = 0; q < c->maxt.C; q++) {
+        sturdy_maxt_vector(&c->maxt, q, d, m, r, run->opts.method, v);
+        double vv = 0.0;
+        for (size_t k = 0; k < n; k++) {
+            double x = v[c->ra.blk_rows[k]];
+            c->V[k * c->Mp + M + q] = x;
+            vv += x * x;
+        }
+        c->maxt.cm[q].vv = vv;
     }
     sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
@@ -372,18 +431,19 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     c.flip = run->opts.flip;
     sturdy_status st = setup(&c, run, r, err);
     uint64_t b0 = run->perm_begin, b1 = run->perm_end;
-    if (st || c.M == 0 || b1 <= b0)
+    if (st || c.M + c.maxt.C == 0 || b1 <= b0)
         goto done;
     uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
     int64_t nblocks = (int64_t)(last_blk - first_blk);
-    uint64_t *exceed = sturdy_calloc(c.M, sizeof *exceed);
-    uint64_t *fwer = sturdy_calloc(c.M, sizeof *fwer);
+    uint64_t *exceed = sturdy_calloc(c.M + 1, sizeof *exceed);
+    uint64_t *fwer = sturdy_calloc(c.M + 1, sizeof *fwer);
+    uint64_t *cexceed = sturdy_calloc(c.maxt.C + 1, sizeof *cexceed);
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = sturdy_now_seconds();
     int nthreads = run->threads;
-    if (!exceed || !fwer) {
-        sturdy_free(exceed); sturdy_free(fwer);
+    if (!exceed || !fwer || !cexceed) {
+        sturdy_free(exceed); sturdy_free(fwer); sturdy_free(cexceed);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -411,9 +471,13 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
         }
         if (ok) {
 #pragma omp critical(sturdy_perm_reduce)
-            for (size_t j = 0; j < c.M; j++) {
-                exceed[j] += w.exceed[j];
-                fwer[j] += w.fwer[j];
+            {
+                for (size_t j = 0; j < c.M; j++) {
+                    exceed[j] += w.exceed[j];
+                    fwer[j] += w.fwer[j];
+                }
+                for (size_t q = 0; q < c.maxt.C; q++)
+                    cexceed[q] += w.cexceed[q];
             }
         }
         work_free(&w);
@@ -428,13 +492,17 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             tr->exceed += exceed[j];
             tr->exceed_fwer += fwer[j];
         }
+        for (size_t q = 0; q < c.maxt.C; q++)
+            c.maxt.cm[q].cmp->exceed_maxt += cexceed[q];
     }
     sturdy_free(exceed);
     sturdy_free(fwer);
+    sturdy_free(cexceed);
 done:
     sturdy_free(c.mem);
     sturdy_free(c.V);
     sturdy_free(c.thr);
     sturdy_rearranger_free(&c.ra);
+    sturdy_maxt_free(&c.maxt);
     return st;
 }

@@ -1,0 +1,395 @@
+/* compare.c — marginal means of every factor term and the pairwise differences of main
+ * effects and of two-factor simple effects, with classical simultaneous intervals.
+ *
+ * Means: least-squares (means.c), in the response's units, classical t intervals with the
+ * residual df. Differences: estimate, SE, t, unadjusted p, Hedges' g on the pooled
+ * residual SD, and a simultaneous interval and adjusted p over the term's family from
+ * the studentized range (range.c):
+ *   Tukey–Kramer (Tukey 1953; Kramer 1956): each difference with its own SE from the
+ *     pooled residual variance, q(conf; k, df_error)/√2 · SE; exact for balanced one-way
+ *     designs and conservative for unequal sizes (Hayter 1984). With covariates or
+ *     missing cells the means are correlated beyond that case and the bound is the usual
+ *     approximation.
+ *   Games–Howell (Games & Howell 1976), when the run's spread rule (the one that puts
+ *     the unequal-variance test first, residuals.c) says cell spreads differ: the SE
+ *     from the cell variances of the cell means each marginal mean averages, and Welch's
+ *     df per difference. It needs cell means to be the model's fit: factors only, all
+ *     interactions, every cell with 2 rows or more; otherwise Tukey–Kramer with a note.
+ * k, the number of means of the range: the factor's levels for a main effect; for the
+ * simple effects of a two-factor term the term's cells — every simple effect is a
+ * difference of two cells, so the all-pairs-of-cells range bounds the family
+ * (conservative). With a control level only comparisons against it are made; the range
+ * over all k levels then bounds the smaller family (conservative: Dunnett's exact
+ * many-to-one distribution is not computed). */
+#include <assert.h>
+#include <gsl/gsl_cdf.h>
+#include <math.h>
+#include <string.h>
+
+#include "classical/classical.h"
+#include "classical/means.h"
+#include "classical/range.h"
+#include "core/core.h"
+
+#define NO_LEVEL ((size_t)-1)
+/* Guard on the cell lookup table (cells possible); larger designs skip Games–Howell. */
+#define CELL_MAP_MAX (1u << 20)
+
+typedef struct {
+    const sturdy_design *d;
+    const sturdy_compare_setup *cs;
+    const sturdy_response_result *out;
+    sturdy_lsm lsm;
+    double *v;            /* rank: Qᵀy */
+    double *L, *L2, *w;   /* p, p, rank */
+    size_t *cellmap;      /* cells possible → cell index, or NO_LEVEL (NULL: none) */
+    int gh;               /* Games–Howell applies */
+    double mse, dfe, tq;  /* residual MS and df, t quantile at the level */
+} ctx;
+
+static size_t popcount(uint32_t x)
+{
+    size_t n = 0;
+    for (; x; x &= x - 1) n++;
+    return n;
+}
+
+static size_t full_index(const sturdy_design *d, const size_t *level)
+{
+    size_t idx = 0;
+    for (size_t f = 0; f < d->nfactors; f++)
+        idx = idx * d->factors[f].nlevels + level[f];
+    return idx;
+}
+
+/* Does the slice of cells with these levels on `mask` contain an empty cell? */
+static int slice_has_empty(const ctx *c, uint32_t mask, const size_t *level)
+{
+    const sturdy_design *d = c->d;
+    if (!c->cellmap)
+        return 0;
+    size_t lv[STURDY_MAX_FACTORS];
+    for (size_t idx = 0; idx < d->ncells_possible; idx++) {
+        size_t rest = idx;
+        for (size_t f = d->nfactors; f-- > 0;) {
+            lv[f] = rest % d->factors[f].nlevels;
+            rest /= d->factors[f].nlevels;
+        }
+        int match = 1;
+        for (size_t f = 0; f < d->nfactors && match; f++)
+            if ((mask & (1u << f)) && lv[f] != level[f]) match = 0;
+        if (match && c->cellmap[idx] == NO_LEVEL)
+            return 1;
+    }
+    return 0;
+}
+
+static double dot(const double *a, const double *b, size_t n)
+{
+    double s = 0;
+    for (size_t i = 0; i < n; i++) s += a[i] * b[i];
+    return s;
+}
+
+static sturdy_status fill_mean(ctx *c, size_t term, uint32_t mask, const size_t *level,
+                               sturdy_mean_result *mr, double yref, char *err)
+{
+    const sturdy_design *d = c->d;
+    mr->term = term;
+    mr->mask = mask;
+    for (size_t f = 0; f < STURDY_MAX_FACTORS; f++)
+        mr->level[f] = f < d->nfactors && (mask & (1u << f)) ? level[f] : 0;
+    mr->estimate = mr->se = mr->df = NAN;
+    mr->ci.lo = mr->ci.hi = mr->ci_boot.lo = mr->ci_boot.hi = NAN;
+    sturdy_lsm_vector(d, mask, level, c->L);
+    if (!sturdy_lsm_weights(&c->lsm, c->L, c->w)) {
+        int cell = popcount(mask) == d->nfactors;
+        mr->note = sturdy_strdup(
+            slice_has_empty(c, mask, level)
+                ? (cell ? "not estimable: no rows in this cell"
+                        : "not estimable: it averages over cells without rows")
+                : "not estimable: confounded with other terms of the model");
+        return mr->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    mr->estimate = dot(c->w, c->v, c->lsm.rank) + yref;
+    if (!(mr->w = sturdy_malloc((c->lsm.rank + 1) * sizeof *mr->w)))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    memcpy(mr->w, c->w, c->lsm.rank * sizeof *mr->w);
+    if (!(c->dfe > 0) || !isfinite(c->mse)) {
+        mr->note = sturdy_strdup("no residual degrees of freedom for a standard error");
+        return mr->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    mr->se = sqrt(c->mse * dot(c->w, c->w, c->lsm.rank));
+    mr->df = c->dfe;
+    mr->ci.lo = mr->estimate - c->tq * mr->se;
+    mr->ci.hi = mr->estimate + c->tq * mr->se;
+    return STURDY_OK;
+}
+
+/* Games–Howell SE and Welch df of mean(la) − mean(lb) on `mask`: each marginal mean is
+ * the plain average of the cell means in its slice. */
+static void games_howell(const ctx *c, uint32_t mask, const size_t *la, const size_t *lb,
+                         double *se, double *df)
+{
+    const sturdy_design *d = c->d;
+    size_t na = 0, nb = 0;
+    for (size_t cell = 0; cell < d->ncells; cell++) {
+        const size_t *cl = &d->cell_levels[cell * d->nfactors];
+        int ma = 1, mb = 1;
+        for (size_t f = 0; f < d->nfactors; f++)
+            if (mask & (1u << f)) {
+                ma &= cl[f] == la[f];
+                mb &= cl[f] == lb[f];
+            }
+        na += ma;
+        nb += mb;
+    }
+    double var = 0, den = 0;
+    for (size_t cell = 0; cell < d->ncells; cell++) {
+        const size_t *cl = &d->cell_levels[cell * d->nfactors];
+        int ma = 1, mb = 1;
+        for (size_t f = 0; f < d->nfactors; f++)
+            if (mask & (1u << f)) {
+                ma &= cl[f] == la[f];
+                mb &= cl[f] == lb[f];
+            }
+        double wgt = (ma ? 1.0 / (double)na : 0.0) - (mb ? 1.0 / (double)nb : 0.0);
+        if (wgt == 0)
+            continue;
+        double n = (double)d->cell_count[cell], sd = c->out->cell_sd[cell];
+        double a = wgt * wgt * sd * sd / n;
+        var += a;
+        den += a * a / (n - 1);
+    }
+    *se = sqrt(var);
+    *df = den > 0 ? var * var / den : NAN;   /* Welch (1947) – Satterthwaite (1946) */
+}
+
+/* One comparison of the family of `term` with k means (its range-based adjustment comes
+ * at finish: sturdy_compare_adjust). */
+static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mask,
+                                     const size_t *la, const size_t *lb, double k,
+                                     char *err)
+{
+    const sturdy_design *d = c->d;
+    double conf = c->cs->conf;
+    cp->estimate = cp->se = cp->df = cp->t = cp->p = cp->g = cp->p_adjusted = NAN;
+    cp->t_pooled = cp->se_pooled = cp->range_k = NAN;
+    cp->ci.lo = cp->ci.hi = cp->ci_simultaneous.lo = cp->ci_simultaneous.hi = NAN;
+    cp->p_perm_adjusted = NAN;
+    cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
+    cp->method = c->gh ? STURDY_ADJ_GAMES_HOWELL : STURDY_ADJ_TUKEY_KRAMER;
+    sturdy_lsm_vector(d, mask, la, c->L);
+    sturdy_lsm_vector(d, mask, lb, c->L2);
+    for (size_t j = 0; j < d->p; j++)
+        c->L[j] -= c->L2[j];
+    if (!sturdy_lsm_weights(&c->lsm, c->L, c->w)) {
+        cp->note = sturdy_strdup("not estimable: a mean it compares is not estimable");
+        return cp->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    cp->estimate = dot(c->w, c->v, c->lsm.rank);
+    cp->t_pooled = NAN;
+    if (!(c->dfe > 0) || !isfinite(c->mse) || !(c->mse > 0)) {
+        cp->note = sturdy_strdup("no residual variance for a standard error");
+        return cp->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    double ww = dot(c->w, c->w, c->lsm.rank);
+    if (ww > 0) {
+        if (!(cp->w = sturdy_malloc(c->lsm.rank * sizeof *cp->w)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        memcpy(cp->w, c->w, c->lsm.rank * sizeof *cp->w);
+        cp->se_pooled = sqrt(c->mse * ww);
+        cp->t_pooled = cp->estimate / cp->se_pooled;
+    }
+    double J = 1.0 - 3.0 / (4.0 * c->dfe - 1.0);   /* Hedges (1981) small-sample factor */
+    cp->g = cp->estimate / sqrt(c->mse) * J;
+    if (c->gh) {
+        games_howell(c, mask, la, lb, &cp->se, &cp->df);
+    } else {
+        cp->se = sqrt(c->mse * dot(c->w, c->w, c->lsm.rank));
+        cp->df = c->dfe;
+    }
+    if (!(cp->se > 0) || !(cp->df > 0)) {
+        cp->se = NAN;
+        cp->note = sturdy_strdup("the difference has no spread to studentise by");
+        return cp->note ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    cp->t = cp->estimate / cp->se;
+    cp->p = 2.0 * gsl_cdf_tdist_Q(fabs(cp->t), cp->df);
+    double tq = c->gh ? gsl_cdf_tdist_Pinv(0.5 + 0.5 * conf, cp->df) : c->tq;
+    cp->ci.lo = cp->estimate - tq * cp->se;
+    cp->ci.hi = cp->estimate + tq * cp->se;
+    cp->range_k = k;
+    return STURDY_OK;
+}
+
+/* Pairs of levels of factor f: with a control level, (x, control) for every other x;
+ * else (j, i) for i < j. Calls back with the two levels; returns the count. */
+static size_t npairs(const ctx *c, size_t f)
+{
+    size_t L = c->d->factors[f].nlevels;
+    return c->cs->control_factor == f ? L - 1 : L * (L - 1) / 2;
+}
+
+static sturdy_status family(ctx *c, size_t term, sturdy_comparison *cps, size_t *nc,
+                            char *err)
+{
+    const sturdy_design *d = c->d;
+    const sturdy_term *t = &d->terms[term];
+    size_t fs[2], nf = 0;
+    for (size_t f = 0; f < d->nfactors; f++)
+        if (t->mask & (1u << f)) fs[nf++] = f;
+    double k = 1;
+    for (size_t i = 0; i < nf; i++) k *= (double)d->factors[fs[i]].nlevels;
+    for (size_t ia = 0; ia < nf; ia++) {
+        size_t a = fs[ia], b = nf == 2 ? fs[1 - ia] : NO_LEVEL;
+        size_t nby = b == NO_LEVEL ? 1 : d->factors[b].nlevels;
+        size_t L = d->factors[a].nlevels;
+        for (size_t lb = 0; lb < nby; lb++)
+            for (size_t j = 0; j < L; j++)
+                for (size_t i = 0; i < L; i++) {
+                    size_t ctl = c->cs->control_factor == a ? c->cs->control_level : NO_LEVEL;
+                    if (ctl != NO_LEVEL ? (i != ctl || j == ctl) : i >= j)
+                        continue;
+                    size_t la[STURDY_MAX_FACTORS] = {0}, lv[STURDY_MAX_FACTORS] = {0};
+                    la[a] = j;
+                    lv[a] = i;
+                    if (b != NO_LEVEL) la[b] = lv[b] = lb;
+                    sturdy_comparison *cp = &cps[(*nc)++];
+                    cp->term = term;
+                    cp->family = c->out->nfamilies;
+                    cp->factor = a;
+                    cp->level = j;
+                    cp->versus = i;
+                    cp->within = b != NO_LEVEL;
+                    cp->by_factor = b != NO_LEVEL ? b : 0;
+                    cp->by_level = lb;
+                    sturdy_status st = fill_comparison(c, cp, t->mask, la, lv, k, err);
+                    if (st)
+                        return st;
+                }
+    }
+    return STURDY_OK;
+}
+
+/* Games–Howell applies: spreads differ and the cell means are the model's fit. */
+static int gh_applies(const ctx *c)
+{
+    const sturdy_design *d = c->d;
+    if (!c->cs->spread_differs || d->ncov || d->has_block || d->ncells != d->ncells_possible ||
+        d->min_cell < 2)
+        return 0;
+    size_t nfac = 0;
+    for (size_t ti = 0; ti < d->nterms; ti++)
+        nfac += d->terms[ti].kind == STURDY_TERM_FACTORS;
+    return nfac + 1 == ((size_t)1 << d->nfactors);
+}
+
+sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model *m, size_t ri,
+                                      const sturdy_compare_setup *cs,
+                                      sturdy_response_result *out, char *err)
+{
+    ctx c;
+    memset(&c, 0, sizeof c);
+    c.d = d;
+    c.cs = cs;
+    c.out = out;
+    c.mse = out->ms_error;
+    c.dfe = out->df_error;
+    c.tq = c.dfe > 0 ? gsl_cdf_tdist_Pinv(0.5 + 0.5 * cs->conf, c.dfe) : NAN;
+    sturdy_status st = sturdy_lsm_init(d, m, &c.lsm, err);
+    if (st)
+        return st;
+    size_t r = m->rank, p = d->p, K = d->ngroups;
+    c.v = sturdy_calloc(r + 1, sizeof(double));
+    c.L = sturdy_calloc(2 * p + r + K + 1, sizeof(double));
+    out->compare_shown = sturdy_calloc(d->nterms + 1, 1);
+    if (d->ncells_possible <= CELL_MAP_MAX)
+        c.cellmap = sturdy_malloc(d->ncells_possible * sizeof *c.cellmap);
+    size_t nmeans = 0, ncomp = 0;
+    for (size_t ti = 0; ti < d->nterms; ti++) {
+        const sturdy_term *t = &d->terms[ti];
+        if (t->kind != STURDY_TERM_FACTORS)
+            continue;
+        size_t cells = 1;
+        for (size_t f = 0; f < d->nfactors; f++)
+            if (t->mask & (1u << f)) cells *= d->factors[f].nlevels;
+        nmeans += cells;
+        if (t->order == 1)
+            ncomp += npairs(&c, __builtin_ctz(t->mask));
+        else if (t->order == 2) {
+            size_t f = __builtin_ctz(t->mask), g = __builtin_ctz(t->mask & (t->mask - 1));
+            ncomp += npairs(&c, f) * d->factors[g].nlevels + npairs(&c, g) * d->factors[f].nlevels;
+        }
+    }
+    out->means = sturdy_calloc(nmeans + 1, sizeof *out->means);
+    out->comparisons = sturdy_calloc(ncomp + 1, sizeof *out->comparisons);
+    if (!c.v || !c.L || !out->compare_shown || !out->means || !out->comparisons ||
+        (d->ncells_possible <= CELL_MAP_MAX && !c.cellmap)) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    c.L2 = c.L + p;
+    c.w = c.L + 2 * p;
+    double *sv = c.w + r;
+    sturdy_model_group_scaled(d, m, &d->y[ri * d->n], sv);
+    for (size_t a = 0; a < r; a++)
+        c.v[a] = dot(&m->U[a * K], sv, K);
+    if (c.cellmap) {
+        for (size_t i = 0; i < d->ncells_possible; i++) c.cellmap[i] = NO_LEVEL;
+        for (size_t cell = 0; cell < d->ncells; cell++)
+            c.cellmap[full_index(d, &d->cell_levels[cell * d->nfactors])] = cell;
+    }
+    c.gh = gh_applies(&c);
+    for (size_t ti = 0; ti < d->nterms && !st; ti++) {
+        const sturdy_term *t = &d->terms[ti];
+        if (t->kind != STURDY_TERM_FACTORS)
+            continue;
+        size_t lv[STURDY_MAX_FACTORS] = {0};
+        for (;;) {   /* every level combination, the last factor fastest */
+            if ((st = fill_mean(&c, ti, t->mask, lv, &out->means[out->nmeans++],
+                                d->y_ref[ri], err)))
+                break;
+            size_t f = d->nfactors;
+            while (f-- > 0) {
+                if (!(t->mask & (1u << f))) continue;
+                if (++lv[f] < d->factors[f].nlevels) break;
+                lv[f] = 0;
+            }
+            if (f == (size_t)-1) break;
+        }
+        if (!st && (t->order == 1 || t->order == 2)) {
+            size_t before = out->ncomparisons;
+            st = family(&c, ti, out->comparisons, &out->ncomparisons, err);
+            if (out->ncomparisons > before)
+                out->nfamilies++;
+        }
+    }
+    assert(st || (out->nmeans == nmeans && out->ncomparisons == ncomp));
+done:
+    sturdy_lsm_free(&c.lsm);
+    sturdy_free(c.v);
+    sturdy_free(c.L);
+    sturdy_free(c.cellmap);
+    return st;
+}
+
+void sturdy_compare_adjust(sturdy_response_result *rr, double conf)
+{
+    /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
+       (the same residual df), one per comparison under Games–Howell */
+    double last_k = NAN, last_df = NAN, q = NAN;
+    for (size_t i = 0; i < rr->ncomparisons; i++) {
+        sturdy_comparison *cp = &rr->comparisons[i];
+        if (!isfinite(cp->t) || !(cp->range_k >= 2))
+            continue;
+        if (cp->range_k != last_k || cp->df != last_df) {
+            last_k = cp->range_k;
+            last_df = cp->df;
+            q = sturdy_range_quantile(conf, last_k, last_df);
+        }
+        cp->p_adjusted = sturdy_range_upper(sqrt(2.0) * fabs(cp->t), cp->range_k, cp->df);
+        cp->ci_simultaneous.lo = cp->estimate - q / sqrt(2.0) * cp->se;
+        cp->ci_simultaneous.hi = cp->estimate + q / sqrt(2.0) * cp->se;
+    }
+}

@@ -1,0 +1,146 @@
+/* maxt.c — single-step max-T adjusted p-values for the pairwise comparisons of marginal
+ * means (Westfall & Young 1993, algorithm 2.8), from the permutation engine's own
+ * rearrangements (permute.c gathers these columns beside the F tests' ones).
+ *
+ * Each comparison c is a contrast wᵀQᵀy of the full model with pooled t statistic
+ * t_c = wᵀQᵀy / (σ̂‖w‖). Under Freedman–Lane its null model is the full model without
+ * the contrast's direction q_c = Qw/‖w‖, whose residuals are r + q_c q_cᵀy (r: the full
+ * model's residuals); the rearranged data are that model's fit plus rearranged
+ * residuals, and since the fit has contrast zero, t*_c = zᵀs* / (‖w‖ σ*) with z = Uw,
+ * s* the scaled group sums of the rearranged vector and σ*² its residual SS over the
+ * residual df (Winkler et al. 2014, one null model per contrast). ter Braak rearranges
+ * the full residuals, raw the centred response. The family is one term's comparisons
+ * in one response; the adjusted p of c is the share of rearrangements whose max over
+ * the family of |t*| reaches |t_c|. Studentising each rearranged difference by its own
+ * SE makes the maximum fair across differences of unequal precision. */
+#include <math.h>
+#include <string.h>
+
+#include "resampling/maxt.h"
+#include "core/core.h"
+#include "resampling/resampling.h"
+
+sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const sturdy_model *m,
+                               const sturdy_run *run, sturdy_result *r, char *err)
+{
+    memset(x, 0, sizeof *x);
+    x->dfe = (double)m->df_error;
+    size_t total = 0, K = m->K;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        total += r->resp[ri].ncomparisons;
+    x->cm = sturdy_calloc(total + 1, sizeof *x->cm);
+    x->fam_begin = sturdy_calloc(total + 2, sizeof *x->fam_begin);
+    if (!x->cm || !x->fam_begin)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    sturdy_status st;
+    for (size_t ri = 0; ri < r->nresp; ri++) {
+        sturdy_response_result *rr = &r->resp[ri];
+        size_t last_term = (size_t)-1;
+        for (size_t i = 0; i < rr->ncomparisons; i++) {
+            sturdy_comparison *cp = &rr->comparisons[i];
+            const char *why = run->nperm == 0 ? "no rearrangements were asked for"
+                              : !cp->w || !isfinite(cp->t_pooled)
+                                  ? "no statistic to rearrange (the difference has no "
+                                    "estimate or standard error)"
+                                  : NULL;
+            if (why) {
+                if ((st = sturdy_note_once(&cp->perm_note, why, err)))
+                    return st;
+                continue;
+            }
+            if (cp->term != last_term || x->nfam == 0) {
+                x->fam_begin[x->nfam++] = x->C;
+                last_term = cp->term;
+            }
+            sturdy_maxt_member *mb = &x->cm[x->C++];
+            mb->cmp = cp;
+            mb->family = x->nfam - 1;
+            mb->t2obs = cp->t_pooled * cp->t_pooled;
+            if (!(mb->z = sturdy_calloc(K, sizeof *mb->z)))
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            double ww = 0;
+            for (size_t a = 0; a < m->rank; a++) {
+                ww += cp->w[a] * cp->w[a];
+                for (size_t g = 0; g < K; g++)
+                    mb->z[g] += m->U[a * K + g] * cp->w[a];
+            }
+            mb->ww = ww;
+        }
+    }
+    x->fam_begin[x->nfam] = x->C;
+    (void)d;
+    return STURDY_OK;
+}
+
+void sturdy_maxt_free(sturdy_maxt *x)
+{
+    for (size_t q = 0; x->cm && q < x->C; q++)
+        sturdy_free(x->cm[q].z);
+    sturdy_free(x->cm);
+    sturdy_free(x->fam_begin);
+    memset(x, 0, sizeof *x);
+}
+
+void sturdy_maxt_vector(const sturdy_maxt *x, size_t q, const sturdy_design *d,
+                        const sturdy_model *m, const sturdy_result *r, sturdy_method method,
+                        double *v)
+{
+    const sturdy_maxt_member *mb = &x->cm[q];
+    size_t ri = 0;
+    while (ri + 1 < r->nresp && !(mb->cmp >= r->resp[ri].comparisons &&
+                                  mb->cmp < r->resp[ri].comparisons + r->resp[ri].ncomparisons))
+        ri++;
+    const sturdy_response_result *rr = &r->resp[ri];
+    size_t n = d->n;
+    if (method == STURDY_METHOD_RAW) {
+        const double *y = d->y + ri * n;
+        double mean = sturdy_mean(y, n);
+        for (size_t i = 0; i < n; i++)
+            v[i] = y[i] - mean;
+        return;
+    }
+    /* r + q_c (q_cᵀy): row i of Qw is z_g / √n_g, and q_cᵀy·‖w‖ = estimate */
+    double scale = method == STURDY_METHOD_TER_BRAAK ? 0.0 : mb->cmp->estimate / mb->ww;
+    for (size_t i = 0; i < n; i++) {
+        size_t g = d->group[i];
+        v[i] = rr->residual[i] + scale * mb->z[g] / m->sqrt_count[g];
+    }
+}
+
+void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, size_t K,
+                            size_t nb, double *num)
+{
+    const double *z = x->cm[q].z;
+    for (size_t bb = 0; bb < nb; bb++) {
+        double a = 0.0;
+        for (size_t g = 0; g < K; g++)
+            a += z[g] * S[bb * K + g];
+        num[bb] = a * a;
+    }
+}
+
+double sturdy_maxt_t2(const sturdy_maxt *x, size_t q, double num, double den, double zero_rtol)
+{
+    const sturdy_maxt_member *mb = &x->cm[q];
+    double zero = zero_rtol * mb->vv;
+    if (den <= zero)
+        return num > zero ? INFINITY : NAN;
+    return num * x->dfe / (mb->ww * den);
+}
+
+void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count)
+{
+    for (size_t f = 0; f < x->nfam; f++) {
+        size_t q0 = x->fam_begin[f], q1 = x->fam_begin[f + 1];
+        for (size_t bb = 0; bb < nb; bb++) {
+            double mx = -1.0;
+            for (size_t q = q0; q < q1; q++) {
+                double v = t2[q * nb + bb];
+                if (v > mx) mx = v;   /* NaN never wins */
+            }
+            for (size_t q = q0; q < q1; q++)
+                if (mx >= x->cm[q].t2obs * (1.0 - STURDY_TIE_RTOL))
+                    count[q]++;
+        }
+    }
+}

@@ -1,0 +1,54 @@
+/* maxt.h — the comparisons' columns of the permutation engine (maxt.c): single-step
+ * max-T over each term's family of pairwise differences (Westfall & Young 1993). */
+#ifndef STURDY_MAXT_H
+#define STURDY_MAXT_H
+
+#include "core/result.h"
+#include "core/run.h"
+#include "sturdy/fit.h"
+
+typedef struct {
+    sturdy_comparison *cmp;      /* where the count goes */
+    size_t family;               /* index of its family (response × term) */
+    double *z;                   /* K: U·w, the contrast's direction in group space */
+    double ww;                   /* ‖w‖² */
+    double t2obs;                /* observed t², pooled SE */
+    double vv;                   /* ‖v‖² of its rearranged vector (set by permute.c) */
+} sturdy_maxt_member;
+
+typedef struct {
+    size_t C;                    /* comparison columns */
+    sturdy_maxt_member *cm;
+    size_t nfam;                 /* families; members of one family are contiguous */
+    size_t *fam_begin;           /* nfam + 1 */
+    double dfe;                  /* residual df */
+} sturdy_maxt;
+
+/* The comparisons of every response with a pooled t; the others get the note saying why
+ * they have no max-T p. An empty set when no rearrangements are computed. */
+sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const sturdy_model *m,
+                               const sturdy_run *run, sturdy_result *r, char *err);
+void sturdy_maxt_free(sturdy_maxt *x);
+
+/* The n-vector comparison q rearranges (rows in data order): Freedman–Lane, the
+ * residuals of the full model with the contrast removed, r + q_c q_cᵀy; ter Braak, the
+ * full model's residuals; raw, the centred response. */
+void sturdy_maxt_vector(const sturdy_maxt *x, size_t q, const sturdy_design *d,
+                        const sturdy_model *m, const sturdy_result *r, sturdy_method method,
+                        double *v);
+
+/* (zᵀs*)² of comparison q for nb rearrangements' group sums S (K × nb) into num. */
+void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, size_t K,
+                            size_t nb, double *num);
+
+/* t*² from the numerator and the residual SS of the rearranged vector: +∞ when no
+ * residual is left but the contrast is not also zero, NaN (never counted) when both are
+ * (below zero_rtol·‖v‖²). */
+double sturdy_maxt_t2(const sturdy_maxt *x, size_t q, double num, double den,
+                      double zero_rtol);
+
+/* Count, per comparison, the rearrangements whose largest t*² over its family is at
+ * least its observed t² (tie rule of the engine); t2 is C × nb. */
+void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count);
+
+#endif
