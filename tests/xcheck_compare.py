@@ -27,6 +27,7 @@ Checks and tolerances (the reference is named on every line):
 Prints one line per check and "N passed, N failed"; exits 1 on any failure. A missing
 reference library, probe or binary is a failure, never a skip.
 """
+import functools
 import itertools
 import json
 import os
@@ -101,6 +102,13 @@ def contrast(fit, df, factors, fixed, covariate):
     return np.asarray(X).mean(axis=0)
 
 
+@functools.lru_cache(maxsize=None)
+def range_quantile(conf, k, dfe):
+    """scipy's studentized-range quantile (slow: a root search over numerical
+    integrals), once per (conf, k, df)."""
+    return float(studentized_range.ppf(conf, k, dfe))
+
+
 def check_design(tag, df, factors, covariate=True, empty=None, extra=()):
     formula = "y ~ " + "*".join("C(%s, Sum)" % f for f in factors) + (" + x" if covariate else "")
     fit = smf.ols(formula, data=df).fit()
@@ -143,7 +151,7 @@ def check_design(tag, df, factors, covariate=True, empty=None, extra=()):
         for f in ([c["factor"]] + (list(c["within"]) if c["within"] else [])):
             k *= df[f].nunique()
         dfe = fit.df_resid
-        q = float(studentized_range.ppf(0.95, k, dfe))
+        q = range_quantile(0.95, k, float(dfe))
         half = q / np.sqrt(2) * float(tt.sd[0][0])
         padj = float(studentized_range.sf(np.sqrt(2) * abs(float(tt.tvalue)), k, dfe))
         src = "scipy studentized_range, k=%d df=%g" % (k, dfe)

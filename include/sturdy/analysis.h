@@ -44,7 +44,7 @@ typedef enum {
     STURDY_COMPARE_SIGNIFICANT = 0, /* terms significant by the F-test or the resampling
                                        test at alpha (default) */
     STURDY_COMPARE_ALL = 1,
-    STURDY_COMPARE_NONE = 2,
+    STURDY_COMPARE_NONE = 2,         /* none, and none computed (JSON: empty lists) */
     STURDY_COMPARE_LIST = 3          /* the terms named in compare_terms */
 } sturdy_compare_mode;
 
