@@ -223,6 +223,7 @@ void sturdy_result_free(sturdy_result *r)
         sturdy_free(rr->diag.vr_note);
         sturdy_free(rr->diag.spread_reason);
         sturdy_free(rr->diag.outliers);
+        sturdy_free(rr->diag.large);
         sturdy_free(rr->diag.studentized);
         sturdy_free(rr->diag.leverage);
     }

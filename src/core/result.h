@@ -73,6 +73,8 @@ typedef struct {
     double studentized;          /* externally studentized residual (the one tested) */
     double internal;             /* internally studentized residual */
     double leverage;             /* the row's leverage */
+    double p_bonferroni;         /* min(1, n · two-sided t tail of `studentized` on
+                                    n − p − 1 df): the outlier test (Cook & Weisberg 1982) */
 } sturdy_outlier;
 
 typedef struct {
@@ -81,7 +83,10 @@ typedef struct {
     double bf_f, bf_df1, bf_df2, bf_p; char *bf_note;
     double bfm_f, bfm_df1, bfm_df2, bfm_p; char *bfm_note; /* without structural zeros */
     double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
-    size_t noutliers; sturdy_outlier *outliers;
+    size_t noutliers; sturdy_outlier *outliers; /* rows the Bonferroni outlier test flags
+                                    (residuals.c: OUTLIER_LEVEL) */
+    size_t nlarge; sturdy_outlier *large; /* the other rows with |studentized| > 3: large
+                                    residuals, not evidence of an error (NULL if none) */
     int spread_differs;          /* the rule of unequal.c: cell spreads differ enough
                                     that the unequal-variance test leads the report */
     char *spread_reason;         /* one line saying why (owned), or NULL */

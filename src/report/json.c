@@ -352,6 +352,32 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     jw_close(w, '}');
 }
 
+/* Rows of the outlier check with their cells (name: "outliers" or "large_residuals"). */
+static void outlier_list(jw *w, const sturdy_design *d, const char *name,
+                         const sturdy_outlier *o, size_t n)
+{
+    jw_open(w, name, '[');
+    sturdy_buf cell;
+    sturdy_buf_init(&cell);
+    for (size_t i = 0; i < n; i++) {
+        const sturdy_outlier *ot = &o[i];
+        cell.len = 0;
+        sturdy_report_cell_label(d, ot->cell, &cell);
+        if (cell.failed) w->b->failed = 1;
+        jw_open(w, NULL, '{');
+        jw_u64(w, "row", ot->row);
+        jw_u64(w, "line", ot->line);
+        jw_str(w, "cell", cell.data ? cell.data : "?");
+        jw_num(w, "studentized", ot->studentized);
+        jw_num(w, "studentized_internal", ot->internal);
+        jw_num(w, "leverage", ot->leverage);
+        jw_num(w, "p_bonferroni", ot->p_bonferroni);
+        jw_close(w, '}');
+    }
+    sturdy_buf_free(&cell);
+    jw_close(w, ']');
+}
+
 static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagnostics *g)
 {
     jw_open(w, "diagnostics", '{');
@@ -380,25 +406,11 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_str(w, "spread_reason", g->spread_reason);
     jw_num(w, "variance_ratio", g->variance_ratio);
     jw_str(w, "variance_ratio_note", g->vr_note);
-    jw_open(w, "outliers", '[');
-    sturdy_buf cell;
-    sturdy_buf_init(&cell);
-    for (size_t i = 0; i < g->noutliers; i++) {
-        const sturdy_outlier *ot = &g->outliers[i];
-        cell.len = 0;
-        sturdy_report_cell_label(d, ot->cell, &cell);
-        if (cell.failed) w->b->failed = 1;
-        jw_open(w, NULL, '{');
-        jw_u64(w, "row", ot->row);
-        jw_u64(w, "line", ot->line);
-        jw_str(w, "cell", cell.data ? cell.data : "?");
-        jw_num(w, "studentized", ot->studentized);
-        jw_num(w, "studentized_internal", ot->internal);
-        jw_num(w, "leverage", ot->leverage);
-        jw_close(w, '}');
-    }
-    sturdy_buf_free(&cell);
-    jw_close(w, ']');
+    jw_str(w, "outlier_rule", "externally studentized residual on t with n - p - 1 df; "
+                              "flagged when n x two-sided p <= 0.05 (Bonferroni; Cook & "
+                              "Weisberg 1982)");
+    outlier_list(w, d, "outliers", g->outliers, g->noutliers);
+    outlier_list(w, d, "large_residuals", g->large, g->nlarge);
     if (d) {
         jw_u64(w, "min_cell", d->min_cell);
         jw_bool(w, "balanced", d->balanced);

@@ -723,34 +723,57 @@ static void cells_table(tw *w, const sturdy_response_result *rr)
     tw_nl(w);
 }
 
+/* "row 7 (line 8; A=a1, B=b2) externally studentized residual 110" for each listed row. */
+static void outlier_rows(tw *w, const sturdy_outlier *o, size_t n, sturdy_buf *s)
+{
+    for (size_t i = 0; i < n && i < LIST_MAX; i++) {
+        char z[32];
+        tw_fmt_g(o[i].studentized, 3, z);
+        sturdy_buf_printf(s, "%srow %zu (line %zu; ", i ? "; " : "", o[i].row, o[i].line);
+        sturdy_report_cell_label(w->r->design, o[i].cell, s);
+        sturdy_buf_printf(s, ") externally studentized residual %s", z);
+    }
+    if (n > LIST_MAX)
+        sturdy_buf_printf(s, "; and %zu more (see the JSON output)", n - LIST_MAX);
+}
+
+/* The outlier test's flags (Bonferroni-bounded, residuals.c) with the rule stated, then
+ * the other rows beyond ±3 as the largest residuals only. */
 static void check_outliers(tw *w, const sturdy_response_result *rr)
 {
     const sturdy_diagnostics *g = &rr->diag;
     sturdy_buf s;
     sturdy_buf_init(&s);
+    char df[32];
+    tw_fmt_df(rr->df_error - 1, df);
+    size_t n = w->r->design ? w->r->design->n : 0;
     /* externally studentized residuals need a residual df beyond the one they drop */
     if (g->noutliers == 0 && !(rr->df_error >= 2)) {
         sturdy_buf_printf(&s, "check not available (%s): studentized residuals need at "
                           "least 2 residual degrees of freedom.",
                           rr->df_error == 0 ? "no residual degrees of freedom"
                                             : "1 residual degree of freedom");
-    } else if (g->noutliers == 0) {
-        sturdy_buf_puts(&s, "no studentized residual beyond ±3.");
     } else {
-        for (size_t i = 0; i < g->noutliers && i < LIST_MAX; i++) {
-            char z[32];
-            tw_fmt_g(g->outliers[i].studentized, 3, z);
-            sturdy_buf_printf(&s, "%srow %zu (line %zu; ", i ? "; " : "", g->outliers[i].row,
-                              g->outliers[i].line);
-            sturdy_report_cell_label(w->r->design, g->outliers[i].cell, &s);
-            sturdy_buf_printf(&s, ") at %s", z);
+        if (g->noutliers == 0) {
+            sturdy_buf_puts(&s, "no row flagged");
+        } else {
+            sturdy_buf_printf(&s, "%zu row%s flagged: ", g->noutliers,
+                              g->noutliers == 1 ? "" : "s");
+            outlier_rows(w, g->outliers, g->noutliers, &s);
         }
-        if (g->noutliers > LIST_MAX)
-            sturdy_buf_printf(&s, "; and %zu more (see the JSON output)",
-                              g->noutliers - LIST_MAX);
-        sturdy_buf_printf(&s, ". → Check %s for recording errors; the resampling test leans "
-                          "on single rows less than the F-test does.",
-                          g->noutliers == 1 ? "this row" : "these rows");
+        sturdy_buf_printf(&s, " (rule: a row is flagged when %zu × its two-sided t-tail on "
+                          "%s df, the Bonferroni bound, is at most 0.05; Cook & Weisberg "
+                          "1982).", n, df);
+        if (g->noutliers)
+            sturdy_buf_printf(&s, " → Check %s for recording errors. The resampled p does "
+                              "not protect against such a row: it rearranges the same F.",
+                              g->noutliers == 1 ? "this row" : "these rows");
+        if (g->nlarge) {
+            sturdy_buf_puts(&s, " Largest residuals, beyond ±3 but not flagged (expected "
+                                "now and then in clean data): ");
+            outlier_rows(w, g->large, g->nlarge, &s);
+            sturdy_buf_puts(&s, ".");
+        }
     }
     tw_labelled(w, "outliers", s.data ? s.data : "");
     if (s.failed) w->b->failed = 1;
