@@ -222,10 +222,16 @@ static char *reason_from_diagnostics(const sturdy_response_result *resp,
                                "the unequal-variance test gives p = %.3g",
                                dg->spread_reason ? dg->spread_reason : "",
                                t->uv.p);
+    /* A gross error sways the F-test and its rearrangements alike (Freedman–Lane permutes
+     * the same F), so the reason names the rows and claims no direction. */
     if (dg->noutliers > 0)
-        return sturdy_asprintf("%zu row%s with |studentized residual| > 3 pull%s the F-test",
-                               dg->noutliers, dg->noutliers == 1 ? "" : "s",
-                               dg->noutliers == 1 ? "s" : "");
+        return sturdy_asprintf("the outlier test flags %zu row%s (row %zu%s); a single gross "
+                               "row can sway either test, so check %s and compare the "
+                               "results without %s", dg->noutliers,
+                               dg->noutliers == 1 ? "" : "s", dg->outliers[0].row,
+                               dg->noutliers > 1 ? " and others" : "",
+                               dg->noutliers == 1 ? "it" : "them",
+                               dg->noutliers == 1 ? "it" : "them");
     if (dg->sw_p < DIAG_LEVEL)
         return sturdy_asprintf("residuals are not normal (Shapiro-Wilk p = %.2g, skewness "
                                "%.2f), so the F distribution is only approximate",

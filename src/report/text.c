@@ -799,15 +799,22 @@ static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
     tw_fmt_g(tw_is_noise(g->excess_kurtosis, 1.0) ? 0.0 : g->excess_kurtosis, 3, x);
     sturdy_buf_printf(s, ", excess kurtosis %s.", x);
     /* Freedman–Lane keeps its level under non-normal errors of equal spread; with unequal
-     * spreads no rearrangement of F does, so the advice follows the spread check. */
+     * spreads no rearrangement of F does, and a gross error sways F and its
+     * rearrangements alike, so the advice follows the spread and outlier checks. */
     if (!isnan(g->sw_p))
         sturdy_buf_puts(s, !(g->sw_p < w->r->opts.alpha)
                                ? " → No clear sign of non-normal residuals."
                            : g->spread_differs
                                ? " → The residuals are not normal and the cell spreads differ; "
                                  "read the unequal-variance column."
+                           : g->noutliers
+                               ? " → The residuals are not normal and the outlier test flags "
+                                 "rows (below); a gross error sways the resampled F as much as "
+                                 "the F-test, so check those rows before relying on either "
+                                 "column."
                                : " → The residuals are not normal; rely on the resampling "
-                                 "column.");
+                                 "column, which keeps its level under non-normal errors of "
+                                 "equal spread.");
     tw_labelled(w, "normality", s->data);
 }
 
