@@ -324,6 +324,10 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
             r->boot_done = run->boot_end - run->boot_begin;
             for (size_t ri = 0; ri < d->nresp && !st; ri++)
                 st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
+            for (size_t ri = 0; ri < d->nresp && !st; ri++)
+                for (size_t k = 0; k < r->resp[ri].nterms && !st; k++)
+                    st = sturdy_sensitivity_term(d, m, ri, k, run->opts.alpha,
+                                                 &r->resp[ri].terms[k], err);
         }
     }
     sturdy_model_free(m);

@@ -29,6 +29,34 @@ typedef struct {
     char *perm_note;             /* why p_perm is absent, else NULL */
 } sturdy_uv_result;
 
+/* One row in the single-row sensitivity of a term (checks/influence.c). */
+typedef struct {
+    size_t index;                /* 0-based used row (design order) */
+    size_t row, line, cell;      /* 1-based data row, file line, cell index */
+    double f_without, p_without; /* the term's F and p with this row alone removed */
+} sturdy_sens_row;
+
+enum { SENS_TOP = 3 };           /* most influential rows kept per term */
+typedef enum { STURDY_SENS_NONE, STURDY_SENS_CREATES, STURDY_SENS_HIDES } sturdy_sens_dir;
+
+/* How single rows move a term's F-test (influence.c): exact leave-one-out, and the
+ * fewest rows (greedy, at most 3) whose removal changes the conclusion at alpha. */
+typedef struct {
+    int searched;                /* 0: the term has no F-test, nothing was searched */
+    double alpha;
+    sturdy_sens_dir direction;   /* CREATES: the rows make the term significant; HIDES:
+                                    they keep it from being; NONE: no set found */
+    size_t nrows;                /* rows_to_change (0: none within 3) */
+    sturdy_sens_row rows[3];     /* the set, in the order chosen; each with its own
+                                    leave-one-out F and p */
+    double f_without, p_without; /* the term without the whole set (NaN: none) */
+    int empties_cell;            /* the set holds every row of some cell */
+    size_t not_removable;        /* rows whose removal alone changes the design (the only
+                                    row of a cell or block level): not tried */
+    size_t ntop;                 /* the rows that move p most, alone */
+    sturdy_sens_row top[SENS_TOP];
+} sturdy_sensitivity;
+
 typedef struct {
     char *label;                 /* "A×B" */
     sturdy_term_kind kind;
@@ -66,6 +94,7 @@ typedef struct {
     char *verdict_reason;        /* one line, or NULL */
     int straddles;               /* the p_perm interval contains alpha */
     sturdy_uv_result uv;         /* unequal-variance test */
+    sturdy_sensitivity sens;     /* single-row sensitivity (influence.c) */
 } sturdy_term_result;
 
 typedef struct {
