@@ -326,7 +326,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
                 st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
             for (size_t ri = 0; ri < d->nresp && !st; ri++)
                 for (size_t k = 0; k < r->resp[ri].nterms && !st; k++)
-                    st = sturdy_sensitivity_term(d, m, ri, k, run->opts.alpha,
+                    st = sturdy_sensitivity_term(d, m, ri, k, run->opts.alpha, &r->resp[ri],
                                                  &r->resp[ri].terms[k], err);
         }
     }

@@ -23,8 +23,11 @@ sturdy_status sturdy_influence_loo(const sturdy_design *d, const sturdy_model *m
 
 /* Fills t->sens for term k of response ri: the most influential rows and the fewest
  * rows (greedy, at most 3) whose removal changes the F-test's conclusion at alpha.
- * Needs t->p; a term without one is left unsearched. */
+ * Needs t->p and resp's outlier flags (sturdy_diagnose_response); a term without a p is
+ * left unsearched. */
 sturdy_status sturdy_sensitivity_term(const sturdy_design *d, const sturdy_model *m, size_t ri,
-                                      size_t k, double alpha, sturdy_term_result *t, char *err);
+                                      size_t k, double alpha,
+                                      const sturdy_response_result *resp,
+                                      sturdy_term_result *t, char *err);
 
 #endif

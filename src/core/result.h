@@ -50,6 +50,8 @@ typedef struct {
     sturdy_sens_row rows[3];     /* the set, in the order chosen; each with its own
                                     leave-one-out F and p */
     double f_without, p_without; /* the term without the whole set (NaN: none) */
+    int decisive;                /* at most 2 rows change the conclusion and move p at
+                                    least tenfold: the headline opens with it */
     int empties_cell;            /* the set holds every row of some cell */
     size_t not_removable;        /* rows whose removal alone changes the design (the only
                                     row of a cell or block level): not tried */

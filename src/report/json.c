@@ -277,6 +277,63 @@ static void write_uv(jw *w, const sturdy_result *r, const sturdy_uv_result *u)
     jw_close(w, '}');
 }
 
+/* Rows of the single-row sensitivity, each with its cell and its own leave-one-out p. */
+static void sens_rows(jw *w, const sturdy_design *d, const char *key, const sturdy_sens_row *rows,
+                      size_t n)
+{
+    sturdy_buf cell;
+    sturdy_buf_init(&cell);
+    jw_open(w, key, '[');
+    for (size_t i = 0; i < n; i++) {
+        cell.len = 0;
+        if (d) sturdy_report_cell_label(d, rows[i].cell, &cell);
+        if (cell.failed) w->b->failed = 1;
+        jw_open(w, NULL, '{');
+        jw_u64(w, "row", rows[i].row);
+        jw_u64(w, "line", rows[i].line);
+        jw_str(w, "cell", cell.data ? cell.data : "?");
+        jw_num(w, "f_without_row", rows[i].f_without);
+        jw_num(w, "p_without_row", rows[i].p_without);
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    sturdy_buf_free(&cell);
+}
+
+/* The term's single-row sensitivity (checks/influence.c). */
+static void write_sensitivity(jw *w, const sturdy_design *d, const sturdy_sensitivity *sv)
+{
+    jw_open(w, "sensitivity", '{');
+    if (sv->searched && sv->nrows) jw_u64(w, "rows_to_change", sv->nrows);
+    else jw_null(w, "rows_to_change");
+    jw_str(w, "direction", sv->direction == STURDY_SENS_CREATES ? "creates"
+                           : sv->direction == STURDY_SENS_HIDES ? "hides" : NULL);
+    sens_rows(w, d, "rows", sv->rows, sv->nrows);
+    jw_num(w, "f_without", sv->f_without);
+    jw_num(w, "p_without", sv->p_without);
+    jw_null(w, "p_perm_without");
+    if (sv->searched) {
+        jw_bool(w, "decisive", sv->decisive);
+        jw_bool(w, "empties_cell", sv->empties_cell);
+        jw_u64(w, "rows_not_removable", sv->not_removable);
+        sens_rows(w, d, "most_influential", sv->top, sv->ntop);
+        jw_str(w, "note", "exact deletion of rows from the F-test's models; greedy search "
+                          "of at most 3 rows (the first step tries every row, later steps "
+                          "keep the rows chosen), so a set found only jointly may be "
+                          "missed; rows whose removal alone empties a cell or block level "
+                          "are not tried; p_perm_without is not computed yet: rerun "
+                          "without the rows to confirm with the resampling test");
+    } else {
+        jw_null(w, "decisive");
+        jw_null(w, "empties_cell");
+        jw_null(w, "rows_not_removable");
+        jw_open(w, "most_influential", '[');
+        jw_close(w, ']');
+        jw_str(w, "note", "not searched: the term has no F-test here");
+    }
+    jw_close(w, '}');
+}
+
 static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *t,
                        const sturdy_report_opts *o)
 {
@@ -331,6 +388,7 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     if (has_perm) jw_bool(w, "p_perm_straddles_alpha", t->straddles);
     else jw_null(w, "p_perm_straddles_alpha");
     write_uv(w, r, &t->uv);
+    write_sensitivity(w, r->design, &t->sens);
     if (o->partial) {
         /* The slice's raw material, which sturdy merge adds up across shards. */
         jw_open(w, "raw", '{');

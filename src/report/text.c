@@ -330,6 +330,7 @@ static void headline(tw *w)
         tw_nl(w);
         return;
     }
+    tw_sensitivity_headline(w);
     if (r->finished) spread_headline(w);
     agreement_lines(w, &ag, a);
     close_call_lines(w, a);
@@ -864,6 +865,7 @@ static void checks(tw *w, const sturdy_response_result *rr)
     check_normality(w, &rr->diag, &s);
     check_spread(w, &rr->diag, &s);
     check_outliers(w, rr);
+    tw_sensitivity_check(w, rr);
     /* precision of the resampled p-values */
     s.len = 0;
     for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)

@@ -62,6 +62,10 @@ void tw_footnotes(tw *w);
 /* run.c: the headline's lead when no term has an F-test (no residual degrees of
  * freedom, or every term confounded): the one cause, once; returns 1 when it wrote it. */
 int tw_untested_cause(tw *w);
+/* text_sensitivity.c: the headline's lead when at most 2 rows decide a term
+ * (sensitivity.decisive), and the "single rows" line of a response's checks. */
+void tw_sensitivity_headline(tw *w);
+void tw_sensitivity_check(tw *w, const sturdy_response_result *rr);
 /* run.c: the section "The run". */
 void tw_run_section(tw *w);
 
