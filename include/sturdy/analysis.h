@@ -279,6 +279,11 @@ typedef struct {
     const double *boot;          /* nresp × nterms × (boot_end − boot_begin) ×
                                     STURDY_BOOT_COLS;
                                     entries of terms without replicates are ignored */
+    const uint64_t *exceed_without; /* nresp × nterms: rearrangements of the data without
+                                    the term's deciding rows (its single-row sensitivity)
+                                    with F* ≥ F (may be NULL: 0) */
+    const uint64_t *exceed_resistant; /* the same, for the outlier-resistant statistic
+                                    (may be NULL: 0) */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

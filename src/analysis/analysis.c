@@ -5,6 +5,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "analysis/without.h"
 #include "checks/checks.h"
 #include "classical/classical.h"
 #include "resampling/resampling.h"
@@ -328,6 +329,8 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
                 for (size_t k = 0; k < r->resp[ri].nterms && !st; k++)
                     st = sturdy_sensitivity_term(d, m, ri, k, run->opts.alpha, &r->resp[ri],
                                                  &r->resp[ri].terms[k], err);
+            if (!st)
+                st = sturdy_without_run(t, run, r, err);
         }
     }
     sturdy_model_free(m);
@@ -386,7 +389,9 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
     for (size_t k = 0; k < s->nresp * s->nterms; k++)
         if (s->exceed[k] > np || s->exceed_fwer[k] > np ||
             (s->uv_exceed_wild && s->uv_exceed_wild[k] > np) ||
-            (s->uv_exceed_perm && s->uv_exceed_perm[k] > np))
+            (s->uv_exceed_perm && s->uv_exceed_perm[k] > np) ||
+            (s->exceed_without && s->exceed_without[k] > np) ||
+            (s->exceed_resistant && s->exceed_resistant[k] > np))
             return sturdy_fail(err, STURDY_EUSAGE,
                                "the part counts more exceedances than its %llu rearrangements",
                                (unsigned long long)np);
@@ -398,6 +403,8 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             tr->exceed_fwer += s->exceed_fwer[k];
             if (s->uv_exceed_wild) tr->uv.exceed_wild += s->uv_exceed_wild[k];
             if (s->uv_exceed_perm) tr->uv.exceed_perm += s->uv_exceed_perm[k];
+            if (s->exceed_without) tr->sens.exceed_without += s->exceed_without[k];
+            if (s->exceed_resistant) tr->rs.exceed += s->exceed_resistant[k];
             if (tr->boot && nb)
                 memcpy(tr->boot + s->boot_begin * STURDY_BOOT_COLS,
                        s->boot + k * nb * STURDY_BOOT_COLS,
@@ -484,6 +491,7 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
         }
     if ((st = holm(r, err)))
         return st;
+    sturdy_without_finish(r);
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if ((st = sturdy_verdict_term(&r->resp[ri], &r->resp[ri].terms[t], r->opts.alpha,

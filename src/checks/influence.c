@@ -336,6 +336,7 @@ sturdy_status sturdy_sensitivity_term(const sturdy_design *d, const sturdy_model
     memset(sv, 0, sizeof *sv);
     sv->alpha = alpha;
     sv->f_without = sv->p_without = NAN;
+    sv->f_refit = sv->p_perm_without = NAN;
     if (isnan(t->p)) return STURDY_OK;
     infl_term it;
     char msg[STURDY_ERR_LEN];

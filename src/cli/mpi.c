@@ -53,7 +53,7 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     uint64_t p1 = ranges[4 * (mpi_size_ - 1) + 1], b1 = ranges[4 * (mpi_size_ - 1) + 3];
     uint64_t nb = b1 - b0;
     int root = mpi_rank_ == 0;
-    uint64_t *mine_c = calloc(4 * k + 1, sizeof *mine_c), *sum = calloc(4 * k + 1, sizeof *sum);
+    uint64_t *mine_c = calloc(6 * k + 1, sizeof *mine_c), *sum = calloc(6 * k + 1, sizeof *sum);
     double *boot = root ? malloc((k * nb * STURDY_BOOT_COLS + 1) * sizeof *boot) : NULL;
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
@@ -71,8 +71,10 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
             mine_c[k + j] = own->exceed_fwer[j];
             mine_c[2 * k + j] = own->uv_exceed_wild ? own->uv_exceed_wild[j] : 0;
             mine_c[3 * k + j] = own->uv_exceed_perm ? own->uv_exceed_perm[j] : 0;
+            mine_c[4 * k + j] = own->exceed_without ? own->exceed_without[j] : 0;
+            mine_c[5 * k + j] = own->exceed_resistant ? own->exceed_resistant[j] : 0;
         }
-    MPI_Reduce(mine_c, sum, (int)(4 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
+    MPI_Reduce(mine_c, sum, (int)(6 * k), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
     for (int q = 0; q < mpi_size_; q++) {
         uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
         counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_BOOT_COLS);
@@ -90,7 +92,8 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                               .boot_end = b1, .nresp = own->nresp, .nterms = nt,
                               .exceed = sum, .exceed_fwer = sum + k,
                               .uv_exceed_wild = sum + 2 * k, .uv_exceed_perm = sum + 3 * k,
-                              .boot = boot };
+                              .boot = boot, .exceed_without = sum + 4 * k,
+                              .exceed_resistant = sum + 5 * k };
         if (!(st = sturdy_result_add_slice(r, &rest, err)))
             st = sturdy_result_finish(r, err);
     }

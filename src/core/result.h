@@ -57,7 +57,39 @@ typedef struct {
                                     row of a cell or block level): not tried */
     size_t ntop;                 /* the rows that move p most, alone */
     sturdy_sens_row top[SENS_TOP];
+    /* the resampling test of the data without the set (analysis/without.c) */
+    int perm_state;              /* sturdy_sens_perm: whether it ran, or why not */
+    double f_refit;              /* the term's F refitted on the data without the set */
+    uint64_t exceed_without;     /* the run's rearrangements of those data with F* ≥ F */
+    double p_perm_without;       /* (1 + exceed_without) / (1 + B); NaN: not tested */
 } sturdy_sensitivity;
+
+/* Whether the resampling test without a term's deciding rows ran (without.c). */
+typedef enum {
+    STURDY_SENS_PERM_NONE = 0,   /* no set found (nothing to confirm) */
+    STURDY_SENS_PERM_DONE,       /* counted over the run's rearrangements */
+    STURDY_SENS_PERM_NO_REARRANGEMENTS, /* the run has none */
+    STURDY_SENS_PERM_EXACT,      /* the run enumerated every rearrangement of all rows:
+                                    the data without the rows have other ones */
+    STURDY_SENS_PERM_NO_TEST     /* without the rows the term has no resampling test
+                                    (its design or F changes) */
+} sturdy_sens_perm;
+
+/* The outlier-resistant test of a term (checks/resistant.c, resampling/resistant_perm.c):
+ * Huber (1973) M-estimates of the full and the reduced model with one common fixed scale
+ * and the drop-in-dispersion statistic of Schrader & Hettmansperger (1980), resampled by
+ * the run's rearrangements. Present only when the options ask for it. */
+typedef struct {
+    double stat;                 /* 2·(Σρ(e_R/σ) − Σρ(e_F/σ)) / λ̂ (NaN: none, see note) */
+    double drop;                 /* Σρ(e_R/σ) − Σρ(e_F/σ) */
+    double lambda;               /* λ̂ = [Σψ²/(n − p)] / [Σψ'/n] of the full fit */
+    double scale;                /* σ: the response's common scale */
+    uint64_t exceed;             /* rearrangements with statistic* ≥ statistic */
+    double p_perm;               /* (1 + exceed)/(1 + B); NaN: not resampled */
+    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson of p_perm */
+    int iter_full, iter_red;     /* iterations of the two fits on the data */
+    char *note;                  /* why stat or p_perm is absent, else NULL (owned) */
+} sturdy_rs_result;
 
 typedef struct {
     char *label;                 /* "A×B" */
@@ -97,6 +129,7 @@ typedef struct {
     int straddles;               /* the p_perm interval contains alpha */
     sturdy_uv_result uv;         /* unequal-variance test */
     sturdy_sensitivity sens;     /* single-row sensitivity (influence.c) */
+    sturdy_rs_result rs;         /* outlier-resistant test (only with opts.resistant) */
 } sturdy_term_result;
 
 typedef struct {
@@ -167,10 +200,14 @@ struct sturdy_result {
     char **owned; size_t nowned; /* strings the options point to */
 };
 
+/* Count arrays of a part, in the order of sturdy_slice: exceed, exceed_fwer,
+ * uv_exceed_wild, uv_exceed_perm, exceed_without, exceed_resistant. */
+#define STURDY_PART_COUNTS 6
+
 /* A copy of a slice's raw material (sturdy_result_part, sturdy_part_read_json). */
 struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
-    uint64_t *counts;            /* 4 × nresp × nterms */
+    uint64_t *counts;            /* STURDY_PART_COUNTS × nresp × nterms */
     double *boot;
     /* read from a file: its envelope */
     uint64_t index, count, data_checksum;

@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "analysis/without.h"
 #include "core/result.h"
 #include "sturdy/names.h"
 #include "sturdy/report.h"
@@ -311,7 +312,11 @@ static void write_sensitivity(jw *w, const sturdy_design *d, const sturdy_sensit
     sens_rows(w, d, "rows", sv->rows, sv->nrows);
     jw_num(w, "f_without", sv->f_without);
     jw_num(w, "p_without", sv->p_without);
-    jw_null(w, "p_perm_without");
+    jw_num(w, "p_perm_without", sv->p_perm_without);
+    if (sv->perm_state == STURDY_SENS_PERM_DONE) jw_u64(w, "exceed_without", sv->exceed_without);
+    else jw_null(w, "exceed_without");
+    jw_num(w, "f_refit", sv->nrows ? sv->f_refit : NAN);
+    jw_str(w, "perm_note", sturdy_without_note(sv->perm_state));
     if (sv->searched) {
         jw_bool(w, "decisive", sv->decisive);
         jw_bool(w, "empties_cell", sv->empties_cell);
@@ -321,8 +326,8 @@ static void write_sensitivity(jw *w, const sturdy_design *d, const sturdy_sensit
                           "of at most 3 rows (the first step tries every row, later steps "
                           "keep the rows chosen), so a set found only jointly may be "
                           "missed; rows whose removal alone empties a cell or block level "
-                          "are not tried; p_perm_without is not computed yet: rerun "
-                          "without the rows to confirm with the resampling test");
+                          "are not tried; f_refit is the F refitted on the data without "
+                          "the rows");
     } else {
         jw_null(w, "decisive");
         jw_null(w, "empties_cell");
@@ -396,6 +401,8 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         jw_u64(w, "exceed_fwer", t->exceed_fwer);
         jw_u64(w, "uv_exceed_wild", t->uv.exceed_wild);
         jw_u64(w, "uv_exceed_perm", t->uv.exceed_perm);
+        jw_u64(w, "exceed_without", t->sens.exceed_without);
+        jw_u64(w, "exceed_resistant", t->rs.exceed);
         if (!t->boot) {
             jw_null(w, "boot");
         } else {

@@ -471,14 +471,15 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
 static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, size_t j,
                               char *err)
 {
-    static const char *const keys[4] = { "exceed", "exceed_fwer", "uv_exceed_wild",
-                                         "uv_exceed_perm" };
+    static const char *const keys[STURDY_PART_COUNTS] = {
+        "exceed", "exceed_fwer", "uv_exceed_wild", "uv_exceed_perm", "exceed_without",
+        "exceed_resistant" };
     size_t k = p->s.nresp * p->s.nterms;
     uint64_t np = p->s.perm_end - p->s.perm_begin, nb = p->s.boot_end - p->s.boot_begin;
     char msg[160];
     if (!is_kind(raw, JV_OBJECT))
         return part_fail(err, name, "a term has no 'raw' section");
-    for (int q = 0; q < 4; q++) {
+    for (int q = 0; q < STURDY_PART_COUNTS; q++) {
         uint64_t v = 0;
         if (!get_u64(raw, keys[q], &v) || v > np) {
             snprintf(msg, sizeof msg, "a term's raw '%s' is missing, not a count, or more than "

@@ -49,6 +49,12 @@ void tw_sensitivity_headline(tw *w)
             p_text(t->p, &s);
             sturdy_buf_puts(&s, " to ");
             p_text(sv->p_without, &s);
+            if (!isnan(t->p_perm) && !isnan(sv->p_perm_without)) {
+                sturdy_buf_puts(&s, ", its resampled p from ");
+                p_text(t->p_perm, &s);
+                sturdy_buf_puts(&s, " to ");
+                p_text(sv->p_perm_without, &s);
+            }
             sturdy_buf_printf(&s, " (%s significant at α). → Check %s for a recording "
                               "error; if %s genuine, report the results with and without "
                               "%s. The resampled p rearranges the same F, so such a row can "
@@ -77,6 +83,12 @@ void tw_sensitivity_check(tw *w, const sturdy_response_result *rr)
         p_text(rr->terms[k].p, &s);
         sturdy_buf_puts(&s, " → ");
         p_text(sv->p_without, &s);
+        if (!isnan(rr->terms[k].p_perm) && !isnan(sv->p_perm_without)) {
+            sturdy_buf_puts(&s, "; resampled ");
+            p_text(rr->terms[k].p_perm, &s);
+            sturdy_buf_puts(&s, " → ");
+            p_text(sv->p_perm_without, &s);
+        }
         sturdy_buf_puts(&s, ")");
     }
     if (searched == 0) {
