@@ -74,6 +74,8 @@ typedef struct {
     int resample;                /* 1 (default): compute the slice's rearrangements and
                                     replicates; 0: leave the raw material empty, to be
                                     filled by sturdy_result_add_slice (merging shards) */
+    int resistant;               /* 1: also the outlier-resistant test of every term (Huber
+                                    M-estimation, drop in dispersion; default 0) */
 } sturdy_options;
 
 #define STURDY_DEFAULT_SEED 20261201u

@@ -210,6 +210,7 @@ void sturdy_result_free(sturdy_result *r)
             sturdy_free(tr->verdict_reason);
             sturdy_free(tr->uv.note);
             sturdy_free(tr->uv.perm_note);
+            sturdy_free(tr->rs.note);
         }
         sturdy_free(rr->terms);
         sturdy_free(rr->name);
@@ -268,8 +269,9 @@ static sturdy_status classical_stage(const sturdy_table *t, const sturdy_run *ru
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     r->uv_hc3 = sturdy_uv_uses_hc3(d);
     for (size_t ri = 0; ri < d->nresp && !st; ri++)
-        if (!(st = sturdy_anova_response(d, *m, ri, o->conf, run->threads, &r->resp[ri], err)))
-            st = sturdy_uv_response(d, *m, ri, &r->resp[ri], err);
+        if (!(st = sturdy_anova_response(d, *m, ri, o->conf, run->threads, &r->resp[ri], err)) &&
+            !(st = sturdy_uv_response(d, *m, ri, &r->resp[ri], err)) && o->resistant)
+            st = sturdy_rs_response(d, *m, ri, &r->resp[ri], err);
     for (size_t k = 0; k < d->nterms && !st; k++) {
         const sturdy_term_basis *tb = &(*m)->terms[k];
         if (tb->deficient && tb->testable && tb->why_short)
@@ -320,6 +322,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
         const sturdy_design *d = r->design;
         if (!(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
+            !(st = run->opts.resistant ? sturdy_rs_run(run, d, m, r, err) : STURDY_OK) &&
             !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
             r->perm_done = run->perm_end - run->perm_begin;
             r->boot_done = run->boot_end - run->boot_begin;
@@ -488,9 +491,13 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
             if ((st = sturdy_term_intervals(r, &r->resp[ri], tr, err)) ||
                 (st = sturdy_uv_finish(r, tr, err)))
                 return st;
+
         }
     if ((st = holm(r, err)))
         return st;
+    for (size_t ri = 0; r->opts.resistant && ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++)
+            sturdy_rs_finish(r, &r->resp[ri], &r->resp[ri].terms[t]);
     sturdy_without_finish(r);
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)

@@ -75,10 +75,13 @@ typedef enum {
                                     (its design or F changes) */
 } sturdy_sens_perm;
 
-/* The outlier-resistant test of a term (checks/resistant.c, resampling/resistant_perm.c):
+/* The outlier-resistant test of a term (classical/huber.c, resampling/resistant_perm.c):
  * Huber (1973) M-estimates of the full and the reduced model with one common fixed scale
  * and the drop-in-dispersion statistic of Schrader & Hettmansperger (1980), resampled by
  * the run's rearrangements. Present only when the options ask for it. */
+/* Huber's tuning constant c (classical.h: STURDY_HUBER_C), for the writers. */
+#define STURDY_RS_TUNING 1.345
+
 typedef struct {
     double stat;                 /* 2·(Σρ(e_R/σ) − Σρ(e_F/σ)) / λ̂ (NaN: none, see note) */
     double drop;                 /* Σρ(e_R/σ) − Σρ(e_F/σ) */
@@ -88,6 +91,10 @@ typedef struct {
     double p_perm;               /* (1 + exceed)/(1 + B); NaN: not resampled */
     sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson of p_perm */
     int iter_full, iter_red;     /* iterations of the two fits on the data */
+    int disagrees;               /* the headline rule (resistant_perm.c): its conclusion at
+                                    alpha differs from both the F-test's and the resampled
+                                    F's, its p is at least tenfold away from both, and the
+                                    outlier test flags some row */
     char *note;                  /* why stat or p_perm is absent, else NULL (owned) */
 } sturdy_rs_result;
 

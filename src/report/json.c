@@ -218,6 +218,7 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_u64(w, "seed", r->opts.seed);
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
+    jw_bool(w, "resistant", r->opts.resistant);
     jw_close(w, '}');
 }
 
@@ -339,6 +340,32 @@ static void write_sensitivity(jw *w, const sturdy_design *d, const sturdy_sensit
     jw_close(w, '}');
 }
 
+/* The outlier-resistant test (classical/huber.c, resampling/resistant_perm.c); null when
+ * the run did not ask for it. */
+static void write_resistant(jw *w, const sturdy_result *r, const sturdy_rs_result *rs)
+{
+    if (!r->opts.resistant) {
+        jw_null(w, "resistant");
+        return;
+    }
+    jw_open(w, "resistant", '{');
+    jw_num(w, "statistic", rs->stat);
+    jw_num(w, "p_perm", rs->p_perm);
+    jw_pair(w, "p_perm_ci", rs->p_perm_ci);
+    if (!isnan(rs->p_perm)) jw_u64(w, "exceed", rs->exceed);
+    else jw_null(w, "exceed");
+    jw_num(w, "drop", rs->drop);
+    jw_num(w, "lambda", rs->lambda);
+    jw_num(w, "scale", rs->scale);
+    jw_num(w, "tuning", STURDY_RS_TUNING);
+    if (!isnan(rs->p_perm)) jw_bool(w, "disagrees", rs->disagrees);
+    else jw_null(w, "disagrees");
+    jw_str(w, "scheme", r->opts.flip ? "sign flips of the robust reduced fit's residuals"
+                                     : "rearrangements of the robust reduced fit's residuals");
+    jw_str(w, "note", rs->note);
+    jw_close(w, '}');
+}
+
 static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *t,
                        const sturdy_report_opts *o)
 {
@@ -394,6 +421,7 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     else jw_null(w, "p_perm_straddles_alpha");
     write_uv(w, r, &t->uv);
     write_sensitivity(w, r->design, &t->sens);
+    write_resistant(w, r, &t->rs);
     if (o->partial) {
         /* The slice's raw material, which sturdy merge adds up across shards. */
         jw_open(w, "raw", '{');

@@ -17,7 +17,7 @@
 /* Column widths of the tests table (2 + 18+1+4+1+9+1+9+2+8+2+11+2+13+2+14 = 99); SS and
  * F never take more than 9 characters in tw_fmt_num's format. MS is left to JSON and CSV
  * to make room for the unequal-variance test. */
-enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13 };
+enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13, W_RS = 11 };
 /* A longer term label widens the term column of both tables (and the table beyond 99
  * columns) up to this width, so that its numbers stay on its line; only longer labels
  * get a line of their own. 40 holds a three-way term of 12-character names. */
@@ -331,6 +331,7 @@ static void headline(tw *w)
         return;
     }
     tw_sensitivity_headline(w);
+    tw_resistant_headline(w);
     if (r->finished) spread_headline(w);
     agreement_lines(w, &ag, a);
     close_call_lines(w, a);
@@ -340,7 +341,7 @@ static void headline(tw *w)
 /* One row of the tests table; `label` NULL leaves the term cell blank. */
 static void tests_row(tw *w, int wterm, const char *label, const char *df, const char *ss,
                       const char *f, const char *p, const char *pp, const char *puv,
-                      const char *verdict, const char *color)
+                      const char *prs, const char *verdict, const char *color)
 {
     tw_indent(w, 2);
     tw_cell(w, label ? label : "", wterm, 0);
@@ -350,6 +351,7 @@ static void tests_row(tw *w, int wterm, const char *label, const char *df, const
     tw_put(w, "  "); tw_cell(w, p, W_P, 1);
     tw_put(w, "  "); tw_cell(w, pp, W_PP, 1);
     tw_put(w, "  "); tw_cell(w, puv, W_UV, 1);
+    if (w->r->opts.resistant) { tw_put(w, "  "); tw_cell(w, prs, W_RS, 1); }
     if (verdict && *verdict) {
         tw_put(w, "  ");
         tw_style(w, color);
@@ -496,7 +498,7 @@ static int term_width(const sturdy_response_result *rr, int base)
 
 static void tests_table(tw *w, const sturdy_response_result *rr)
 {
-    char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], v[64];
+    char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], prs[32], v[64];
     int wt = term_width(rr, W_TERM);
     tw_indent(w, 2);
     tw_style(w, "1");
@@ -507,6 +509,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_put(w, "  "); tw_cell(w, "p F-test", W_P, 1);
     tw_put(w, "  "); tw_cell(w, "p resampled", W_PP, 1);
     tw_put(w, "  "); tw_cell(w, "p unequal var", W_UV, 1);
+    if (w->r->opts.resistant) { tw_put(w, "  "); tw_cell(w, "p resistant", W_RS, 1); }
     tw_put(w, "  F vs resampled");
     tw_style(w, "0");
     tw_nl(w);
@@ -526,7 +529,8 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         tw_fmt_p(t->p, p);
         tw_fmt_p(t->p_perm, pp);
         uv_p_cell(w, t, puv);
-        tests_row(w, wt, term_cell(w, t->label, wt), df, ss, f, p, pp, puv, v,
+        tw_resistant_cell(w, t, prs);
+        tests_row(w, wt, term_cell(w, t->label, wt), df, ss, f, p, pp, puv, prs, v,
                   dis ? "33" : NULL);
         term_details(w, t);
     }
@@ -535,13 +539,14 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_fmt_num_scaled(rr->ms_error, rr->ss_total, ms);
     v[0] = '\0';
     if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
-    tests_row(w, wt, "residual", df, ss, "", "", "", "", v, NULL);
+    tests_row(w, wt, "residual", df, ss, "", "", "", "", "", v, NULL);
     tw_fmt_df(rr->df_total, df);
     tw_fmt_num(rr->ss_total, ss);
-    tests_row(w, wt, "total", df, ss, "", "", "", "", NULL, NULL);
+    tests_row(w, wt, "total", df, ss, "", "", "", "", "", NULL, NULL);
     if (!isnan(rr->ms_error))
         tw_paraf(w, 2, 4, "residual mean square %s (SS/df); the mean squares of the terms "
                  "are in the JSON and CSV output", ms);
+    tw_resistant_note(w, rr);
     tw_footnotes(w);
 }
 

@@ -66,6 +66,12 @@ int tw_untested_cause(tw *w);
  * (sensitivity.decisive), and the "single rows" line of a response's checks. */
 void tw_sensitivity_headline(tw *w);
 void tw_sensitivity_check(tw *w, const sturdy_response_result *rr);
+/* text_resistant.c: the resistant test's cell of the tests table ("—" with a footnote
+ * when absent), the line stating its tuning constant and scale, and the headline's lead
+ * when it disagrees with both other tests (rs.disagrees). */
+void tw_resistant_cell(tw *w, const sturdy_term_result *t, char *out);
+void tw_resistant_note(tw *w, const sturdy_response_result *rr);
+void tw_resistant_headline(tw *w);
 /* run.c: the section "The run". */
 void tw_run_section(tw *w);
 
