@@ -9,6 +9,7 @@
 
 #include "analysis/without.h"
 #include "core/result.h"
+#include "report/family.h"
 #include "sturdy/names.h"
 #include "sturdy/report.h"
 
@@ -340,6 +341,28 @@ static void write_sensitivity(jw *w, const sturdy_design *d, const sturdy_sensit
     jw_close(w, '}');
 }
 
+/* Which p the verdicts use and how many terms stay significant family-wise (family.c);
+ * null for a shard, whose p-values are not finished. */
+static void write_family(jw *w, const sturdy_result *r)
+{
+    if (!r->finished) {
+        jw_null(w, "family");
+        return;
+    }
+    sturdy_family f;
+    sturdy_family_count(r, &f);
+    jw_open(w, "family", '{');
+    jw_str(w, "verdict_uses", "per-term");
+    jw_str(w, "adjustment", "westfall-young");
+    jw_u64(w, "terms", f.terms);
+    jw_u64(w, "significant_f", f.significant_f);
+    jw_u64(w, "significant_perm", f.significant);
+    jw_u64(w, "significant_fwer", f.significant_fwer);
+    jw_u64(w, "significant_holm", f.significant_holm);
+    jw_str(w, "note", sturdy_family_rule);
+    jw_close(w, '}');
+}
+
 /* The outlier-resistant test (classical/huber.c, resampling/resistant_perm.c); null when
  * the run did not ask for it. */
 static void write_resistant(jw *w, const sturdy_result *r, const sturdy_rs_result *rs)
@@ -564,6 +587,7 @@ sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opt
     jw_open(&w, "notes", '[');
     for (size_t i = 0; i < r->nnotes; i++) jw_str(&w, NULL, r->notes[i]);
     jw_close(&w, ']');
+    write_family(&w, r);
     jw_open(&w, "responses", '[');
     for (size_t i = 0; i < r->nresp; i++) write_response(&w, r, &r->resp[i], o);
     jw_close(&w, ']');

@@ -334,6 +334,7 @@ static void headline(tw *w)
     tw_resistant_headline(w);
     if (r->finished) spread_headline(w);
     agreement_lines(w, &ag, a);
+    tw_family_line(w, a);
     close_call_lines(w, a);
     tw_nl(w);
 }

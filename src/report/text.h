@@ -72,6 +72,9 @@ void tw_sensitivity_check(tw *w, const sturdy_response_result *rr);
 void tw_resistant_cell(tw *w, const sturdy_term_result *t, char *out);
 void tw_resistant_note(tw *w, const sturdy_response_result *rr);
 void tw_resistant_headline(tw *w);
+/* text_resistant.c: the headline's line on multiplicity: which p the verdicts use and how
+ * many terms stay significant after the family-wise adjustment (report/family.h). */
+void tw_family_line(tw *w, const char *alpha);
 /* run.c: the section "The run". */
 void tw_run_section(tw *w);
 

@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "report/family.h"
 #include "report/text.h"
 
 void tw_resistant_cell(tw *w, const sturdy_term_result *t, char *out)
@@ -70,4 +71,33 @@ void tw_resistant_headline(tw *w)
             if (rows.failed) w->b->failed = 1;
             sturdy_buf_free(&rows);
         }
+}
+
+void tw_family_line(tw *w, const char *alpha)
+{
+    sturdy_family f;
+    sturdy_family_count(w->r, &f);
+    if (f.terms < 2 || (f.significant == 0 && f.significant_f == 0)) return;
+    const sturdy_result *r = w->r;
+    sturdy_buf s;
+    sturdy_buf_init(&s);
+    sturdy_buf_printf(&s, "These verdicts test each term on its own at α = %s. Holding the "
+                      "family-wise error rate at α over all %zu tested terms%s, %zu of the %zu "
+                      "significant by resampling stay%s significant (Westfall–Young; Holm: "
+                      "%zu)", alpha, f.terms, r->nresp > 1 ? " and responses" : "",
+                      f.significant_fwer, f.significant, f.significant_fwer == 1 ? "s" : "",
+                      f.significant_holm);
+    size_t listed = 0;
+    for (size_t i = 0; f.significant_fwer && i < r->nresp; i++)
+        for (size_t k = 0; k < r->resp[i].nterms; k++) {
+            const sturdy_term_result *t = &r->resp[i].terms[k];
+            if (isnan(t->p_perm_fwer) || t->p_perm_fwer > r->opts.alpha) continue;
+            sturdy_buf_printf(&s, "%s%s%s%s%s", listed++ ? ", " : ": ", t->label,
+                              r->nresp > 1 ? " (" : "", r->nresp > 1 ? r->resp[i].name : "",
+                              r->nresp > 1 ? ")" : "");
+        }
+    sturdy_buf_puts(&s, ". → With many terms, report the adjusted p.");
+    tw_para(w, 2, 2, s.data ? s.data : "");
+    if (s.failed) w->b->failed = 1;
+    sturdy_buf_free(&s);
 }
