@@ -170,6 +170,12 @@ typedef enum {
     STURDY_TV_UV_DF1, STURDY_TV_UV_DF2, STURDY_TV_UV_P,
     STURDY_TV_UV_P_PERM,         /* its resampled p (when asked for) */
     STURDY_TV_ATS_P,             /* ANOVA-type statistic, Box's approximation */
+    STURDY_TV_SENS_ROWS,         /* single rows: the fewest rows (≤ 3, greedy) whose removal
+                                    changes the F-test's conclusion (NaN: none found) */
+    STURDY_TV_SENS_P_WITHOUT,    /* the F-test p without those rows */
+    STURDY_TV_SENS_P_PERM_WITHOUT, /* the resampled p without them */
+    STURDY_TV_RS_STAT,           /* outlier-resistant statistic (options.resistant) */
+    STURDY_TV_RS_P_PERM,         /* its resampled p */
     STURDY_TV_COUNT
 } sturdy_term_value;
 
