@@ -10,6 +10,12 @@
 sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_model *m,
                                        sturdy_response_result *resp, char *err);
 
+/* Shapiro–Wilk of response's residuals refitted without the rows the outlier test flags
+ * (bulk.c): diag.sw_w_rest, sw_p_rest; NaN when no row (or more than 10) is flagged or the
+ * rows cannot be removed. Needs sturdy_diagnose_response first. */
+sturdy_status sturdy_bulk_normality(const sturdy_design *d, const sturdy_model *m,
+                                    sturdy_response_result *resp, char *err);
+
 /* Verdict of a finished term at level alpha, with its one-line reason. */
 sturdy_status sturdy_verdict_term(const sturdy_response_result *resp, sturdy_term_result *t,
                                   double alpha, char *err);

@@ -197,6 +197,7 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     dg->sw_w = dg->sw_p = dg->bf_f = dg->bf_df1 = dg->bf_df2 = dg->bf_p = NAN;
     dg->bfm_f = dg->bfm_df1 = dg->bfm_df2 = dg->bfm_p = NAN;
     dg->variance_ratio = NAN;
+    dg->sw_w_rest = dg->sw_p_rest = NAN;
     dg->studentized = sturdy_malloc(n * sizeof *dg->studentized);
     dg->leverage = sturdy_malloc(n * sizeof *dg->leverage);
     if (!dg->studentized || !dg->leverage)
@@ -207,7 +208,9 @@ sturdy_status sturdy_diagnose_response(const sturdy_design *d, const sturdy_mode
     if ((st = normality(dg, e, n, err)) || (st = spread_tests(d, dg, e, err)) ||
         (st = spread_rule(d, resp, err)))
         return st;
-    return flag_outliers(d, m, dg, e, err);
+    if ((st = flag_outliers(d, m, dg, e, err)))
+        return st;
+    return sturdy_bulk_normality(d, m, resp, err);
 }
 
 /* The diagnostic most likely behind a disagreement, as one line. */
@@ -222,6 +225,14 @@ static char *reason_from_diagnostics(const sturdy_response_result *resp,
                                "the unequal-variance test gives p = %.3g",
                                dg->spread_reason ? dg->spread_reason : "",
                                t->uv.p);
+    /* Non-normal even without the flagged rows (bulk.c): the error distribution, not a
+     * few gross rows, is the likely reason. */
+    if (dg->noutliers > 0 && dg->sw_p_rest < DIAG_LEVEL)
+        return sturdy_asprintf("residuals are not normal, even without the %zu row%s the "
+                               "outlier test flags (Shapiro-Wilk p = %.2g without them, "
+                               "skewness %.2f), so the F distribution is only approximate",
+                               dg->noutliers, dg->noutliers == 1 ? "" : "s", dg->sw_p_rest,
+                               dg->skewness);
     /* A gross error sways the F-test and its rearrangements alike (Freedman–Lane permutes
      * the same F), so the reason names the rows and claims no direction. */
     if (dg->noutliers > 0)

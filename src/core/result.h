@@ -156,6 +156,8 @@ typedef struct {
     double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
     size_t noutliers; sturdy_outlier *outliers; /* rows the Bonferroni outlier test flags
                                     (residuals.c: OUTLIER_LEVEL) */
+    double sw_w_rest, sw_p_rest; /* Shapiro–Wilk of the residuals without the flagged rows
+                                    (checks/bulk.c; NaN: none flagged, or more than 10) */
     size_t nlarge; sturdy_outlier *large; /* the other rows with |studentized| > 3: large
                                     residuals, not evidence of an error (NULL if none) */
     int spread_differs;          /* the rule of unequal.c: cell spreads differ enough

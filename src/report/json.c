@@ -502,6 +502,11 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_num(w, "p", g->sw_p);
     jw_str(w, "note", g->sw_note);
     jw_close(w, '}');
+    /* the same without the flagged rows (checks/bulk.c) */
+    jw_open(w, "shapiro_wilk_without_flagged", '{');
+    jw_num(w, "w", g->sw_w_rest);
+    jw_num(w, "p", g->sw_p_rest);
+    jw_close(w, '}');
     jw_num(w, "skewness", g->skewness);
     jw_num(w, "excess_kurtosis", g->excess_kurtosis);
     jw_open(w, "brown_forsythe", '{');

@@ -814,6 +814,12 @@ static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
                            : g->spread_differs
                                ? " → The residuals are not normal and the cell spreads differ; "
                                  "read the unequal-variance column."
+                           : g->noutliers && g->sw_p_rest < w->r->opts.alpha
+                               ? " → The residuals are not normal, even without the rows the "
+                                 "outlier test flags: the errors themselves are skewed or "
+                                 "heavy-tailed; rely on the resampling column, which keeps its "
+                                 "level under such errors of equal spread, and check the "
+                                 "flagged rows (below) all the same."
                            : g->noutliers
                                ? " → The residuals are not normal and the outlier test flags "
                                  "rows (below); a gross error sways the resampled F as much as "
