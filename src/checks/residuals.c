@@ -229,10 +229,10 @@ static char *reason_from_diagnostics(const sturdy_response_result *resp,
      * few gross rows, is the likely reason. */
     if (dg->noutliers > 0 && dg->sw_p_rest < DIAG_LEVEL)
         return sturdy_asprintf("residuals are not normal, even without the %zu row%s the "
-                               "outlier test flags (Shapiro-Wilk p = %.2g without them, "
-                               "skewness %.2f), so the F distribution is only approximate",
+                               "outlier test flags (Shapiro-Wilk p = %.2g without %s), so the "
+                               "F distribution is only approximate",
                                dg->noutliers, dg->noutliers == 1 ? "" : "s", dg->sw_p_rest,
-                               dg->skewness);
+                               dg->noutliers == 1 ? "it" : "them");
     /* A gross error sways the F-test and its rearrangements alike (Freedman–Lane permutes
      * the same F), so the reason names the rows and claims no direction. */
     if (dg->noutliers > 0)

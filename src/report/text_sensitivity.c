@@ -49,16 +49,17 @@ void tw_sensitivity_headline(tw *w)
             p_text(t->p, &s);
             sturdy_buf_puts(&s, " to ");
             p_text(sv->p_without, &s);
+            sturdy_buf_printf(&s, " (%s significant at α)", hides ? "then" : "no longer");
             if (!isnan(t->p_perm) && !isnan(sv->p_perm_without)) {
                 sturdy_buf_puts(&s, ", its resampled p from ");
                 p_text(t->p_perm, &s);
                 sturdy_buf_puts(&s, " to ");
                 p_text(sv->p_perm_without, &s);
             }
-            sturdy_buf_printf(&s, " (%s significant at α). → Check %s for a recording "
+            sturdy_buf_printf(&s, ". → Check %s for a recording "
                               "error; if %s genuine, report the results with and without "
                               "%s. The resampled p rearranges the same F, so such a row can "
-                              "sway it too.", hides ? "then" : "no longer",
+                              "sway it too.",
                               one ? "this row" : "these rows", one ? "it is" : "they are",
                               one ? "it" : "them");
             tw_para(w, 2, 4, s.data ? s.data : "");
