@@ -212,11 +212,72 @@ static int pattern(const double *y, const uint32_t *g, size_t n, const double *m
     return changed;
 }
 
+/* The full model of a factorial design spans group space (r = K): every group has its
+ * own fitted value, and the fit is each group's Huber location, found group by group
+ * with the same Newton steps (D_g μ_g + σΨ_g over D_g) and the same fallback. */
+static int fit_groups(const double *y, const uint32_t *g, size_t n, size_t K, double sigma,
+                      sturdy_huber_work *w, double *mu)
+{
+    const double c = STURDY_HUBER_C;
+    double obj = rho_sum(y, g, n, mu, sigma);
+    memset(w->pat, 2, n);
+    pattern(y, g, n, mu, sigma, w->pat);
+    for (int it = 1; it <= HUBER_MAXIT; it++) {
+        memset(w->W, 0, K * sizeof *w->W);
+        memset(w->P, 0, K * sizeof *w->P);
+        for (size_t i = 0; i < n; i++) {
+            if (w->pat[i] == 0) {
+                w->W[g[i]] += 1.0;
+                w->P[g[i]] += y[i];
+            } else {
+                w->P[g[i]] += sigma * (w->pat[i] > 0 ? c : -c);
+            }
+        }
+        int newton = 1;
+        for (size_t k = 0; k < K && newton; k++) {
+            if (w->W[k] > 0) w->mu_new[k] = w->P[k] / w->W[k];
+            else newton = 0;               /* every row of the group clipped */
+        }
+        double obj_new = newton ? rho_sum(y, g, n, w->mu_new, sigma) : INFINITY;
+        if (newton && !(obj_new <= obj)) {
+            for (int h = 0; h < HUBER_HALVINGS && !(obj_new <= obj); h++) {
+                for (size_t k = 0; k < K; k++) w->mu_new[k] = 0.5 * (w->mu_new[k] + mu[k]);
+                obj_new = rho_sum(y, g, n, w->mu_new, sigma);
+            }
+            newton = 0;
+        }
+        if (!(obj_new <= obj)) {
+            memset(w->W, 0, K * sizeof *w->W);
+            memset(w->P, 0, K * sizeof *w->P);
+            for (size_t i = 0; i < n; i++) {
+                double a = fabs((y[i] - mu[g[i]]) / sigma);
+                double wt = a <= c ? 1.0 : c / a;
+                w->W[g[i]] += wt;
+                w->P[g[i]] += wt * y[i];
+            }
+            for (size_t k = 0; k < K; k++) w->mu_new[k] = w->P[k] / w->W[k];
+            newton = 0;
+            obj_new = rho_sum(y, g, n, w->mu_new, sigma);
+        }
+        double move = 0.0;
+        for (size_t k = 0; k < K; k++) {
+            double dm = fabs(w->mu_new[k] - mu[k]);
+            if (dm > move) move = dm;
+            mu[k] = w->mu_new[k];
+        }
+        int changed = pattern(y, g, n, mu, sigma, w->pat);
+        obj = obj_new;
+        if ((newton && !changed) || move <= HUBER_TOL * sigma) return it;
+    }
+    return -HUBER_MAXIT;
+}
+
 int sturdy_huber_fit(const double *y, const uint32_t *g, size_t n, const double *U, size_t K,
                      size_t r, const double *inv_sqrt, double sigma, sturdy_huber_work *w,
                      double *mu)
 {
     const double c = STURDY_HUBER_C;
+    if (r == K) return fit_groups(y, g, n, K, sigma, w, mu);
     double obj = rho_sum(y, g, n, mu, sigma);
     memset(w->pat, 2, n);                  /* no pattern yet */
     pattern(y, g, n, mu, sigma, w->pat);
