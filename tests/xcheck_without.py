@@ -14,7 +14,8 @@ Invented adhesion data, 3×2×2 (primer × cure × temp), 4 replicates, one deci
   - p_perm_without agrees with an independent numpy Freedman–Lane test on the data without
     the rows (its own random permutations) within 4 Monte Carlo standard errors;
   - null with the reason when the run has no rearrangements (-B 0) or enumerates them all
-    (a tiny blocked design).
+    (a tiny blocked design), and for the block term, which rearrangements within blocks
+    cannot test (present under --flip).
 """
 import json
 import math
@@ -199,6 +200,27 @@ def main():
                all(s["p_perm_without"] is None and "enumerated" in s["perm_note"] for s in svs),
                "enumerated run (4 blocks of 3): p_perm_without null with the reason (%s)"
                % [s["perm_note"] for s in svs])
+        # the block term is not resampled under rearrangements within blocks: neither is
+        # it without its deciding rows; under --flip it is
+        blk = os.path.join(tmp, "blk.csv")
+        rng = np.random.default_rng(2)
+        with open(blk, "w") as f:
+            f.write("a,blk,y\n")
+            for i in range(40):
+                v = rng.normal() + (0.3 if i % 2 else 0) + (i // 10) * 0.3 + (8 if i == 7 else 0)
+                f.write("a%d,b%d,%.4f\n" % (i % 2, i // 10, v))
+        for extra, want_null in (([], True), (["--flip"], False)):
+            p = subprocess.run([BIN, "check", blk, "-y", "y", "-f", "a", "--block", "blk",
+                                "--bootstrap", "0", "--format", "json", "--quiet"] + extra,
+                               capture_output=True, text=True, timeout=60)
+            t = json.loads(p.stdout)["responses"][0]["terms"][0]
+            sv = t["sensitivity"]
+            ok = t["term"] == "blk" and sv["rows_to_change"] is not None and \
+                (sv["p_perm_without"] is None) == want_null and \
+                (t["p_perm"] is None) == want_null
+            report(ok, "block term %s: p_perm %s, p_perm_without %s (%s)"
+                   % (" ".join(extra) or "within blocks", t["p_perm"], sv["p_perm_without"],
+                      sv["perm_note"]))
     finish()
 
 

@@ -111,8 +111,11 @@ static sturdy_status run_set(const sturdy_table *t, const sturdy_run *run, sturd
                     continue;
                 }
                 tsv->f_refit = wt->f;
-                tsv->perm_state = wt->f >= 0 ? STURDY_SENS_PERM_DONE : STURDY_SENS_PERM_NO_TEST;
-                if (!(wt->f >= 0)) wt->f = NAN;
+                /* a term the run does not resample (the block term, rearranged within
+                   blocks; permute.c notes why) has no resampled p without the rows either */
+                int tested = wt->f >= 0 && !r->resp[ri].terms[k].perm_note;
+                tsv->perm_state = tested ? STURDY_SENS_PERM_DONE : STURDY_SENS_PERM_NO_TEST;
+                if (!tested) wt->f = NAN;
             }
         sturdy_run sub = *run;
         sub.exact = 0;               /* drawn from the run's streams, never enumerated */
@@ -192,7 +195,8 @@ const char *sturdy_without_note(int state)
         return "p_perm_without is null: the run enumerated every rearrangement of all rows, "
                "and the data without the rows have other rearrangements";
     case STURDY_SENS_PERM_NO_TEST:
-        return "p_perm_without is null: without the rows the term has no resampling test";
+        return "p_perm_without is null: the term has no resampling test (the block term "
+               "under rearrangements within blocks), or none without the rows";
     default:
         return NULL;
     }
