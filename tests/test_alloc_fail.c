@@ -230,7 +230,8 @@ static void set_model(sturdy_options *o, int m)
         o->spread_scheme = STURDY_SPREAD_PERMUTATION;
     } else {
         /* a covariate (every row its own group) and a block with two levels merged,
-           ter Braak, Type II, wild bootstrap and the wild-bootstrap unequal-variance test */
+           ter Braak, Type II, wild bootstrap and the wild-bootstrap unequal-variance test;
+           the outlier-resistant test */
         o->model.responses = y1;
         o->model.nresponses = 1;
         o->model.covariates = cov;
@@ -241,6 +242,7 @@ static void set_model(sturdy_options *o, int m)
         o->ss_type = 2;
         o->boot_scheme = STURDY_BOOT_WILD;
         o->spread_scheme = STURDY_SPREAD_WILD;
+        o->resistant = 1;
     }
 }
 

@@ -134,7 +134,8 @@ static char *f_dose[] = { "dose" }, *f_mix[] = { "mix" }, *f_both[] = { "dose", 
 static char *notes[] = { "cells scheme with fewer than 10 rows per cell: intervals biased",
                          "odd bytes: \001 and \377 and a \"quote\"" };
 static double mean1[] = { 1, 2, 3, 4 }, sd1[] = { 0.5, NAN, 0.25, 1 };
-static sturdy_outlier outl[] = { { 3, 4, 1, 3.4, 2.9, 0.25 }, { 11, 13, 3, -3.9, -3.2, 0.25 } };
+static sturdy_outlier outl[] = { { 3, 4, 1, 3.4, 2.9, 0.25, 0.04 },
+                                 { 11, 13, 3, -3.9, -3.2, 0.25, 0.01 } };
 static double boot_vals[5 * STURDY_BOOT_COLS];   /* replicates 0–4; the shard has 2–4 */
 
 static const double ONE_THIRD = 1.0 / 3.0;
@@ -569,8 +570,13 @@ static void test_text(sturdy_result *r)
     CHECK("text: not normal with unequal spreads → not the resampling column",
           strstr(s, "The residuals are not normal and the cell spreads differ; read the "
                     "unequal-variance column.") && !strstr(s, "rely on the resampling"));
-    CHECK("text: outliers by row", strstr(s, "row 3 (line 4; dose=low, mix=a×b) at 3.4") &&
-          strstr(s, "row 11 (line 13; dose=high, mix=a×b) at -3.9"));
+    CHECK("text: outliers by row, with the unit",
+          strstr(s, "row 3 (line 4; dose=low, mix=a×b) externally studentized residual 3.4") &&
+          strstr(s, "row 11 (line 13; dose=high, mix=a×b) externally studentized residual "
+                    "-3.9"));
+    CHECK("text: the outlier rule is stated", strstr(s, "the Bonferroni bound, is at most 0.05") != NULL);
+    CHECK("text: no claim that resampling resists a gross error",
+          !strstr(s, "leans on single rows") && strstr(s, "rearranges the same F"));
     CHECK("text: absent values as —", strstr(s, "—") != NULL);
     CHECK("text: footnote reason", strstr(s, "[1] cannot be tested: no \"residual\" df") ||
           strstr(s, "] cannot be tested: no \"residual\" df"));
@@ -693,8 +699,9 @@ static void test_csv(const sturdy_result *r)
               csv_records(s, &nf, &ok), 11);
     CHECK("csv every record has the header's field count", ok);
     /* 56 before the test inversions, + 5 effect sizes × (ti lo, hi, sti lo, hi, rec
-       method, lo, hi) */
-    CHECK_INT("csv fields per record", nf, 91);
+       method, lo, hi), + 11 for single rows (rows_to_change … p_perm_without) and the
+       resistant test (rs_statistic … rs_scale) */
+    CHECK_INT("csv fields per record", nf, 102);
     CHECK("csv test inversion and recommended columns",
           strstr(s, ",partial_eta2_ncf_lo,partial_eta2_ncf_hi,partial_eta2_ti_lo,"
                     "partial_eta2_ti_hi,partial_eta2_sti_lo,partial_eta2_sti_hi,"

@@ -84,7 +84,7 @@ if "$PY" - "$T/out" <<'EOF'
 import json, sys
 d = json.load(open(sys.argv[1]))
 keys = list(d)
-assert keys == ["version", "input", "design", "settings", "notes", "responses"], keys
+assert keys == ["version", "input", "design", "settings", "notes", "family", "responses"], keys
 t = d["responses"][0]["terms"][0]
 assert list(t)[:7] == ["term", "factors", "df", "ss", "ms", "f", "p"], list(t)
 assert d["settings"]["permutations"] == 199 and d["settings"]["bootstrap"] == 50

@@ -49,6 +49,8 @@ compare() { # name data args...
 }
 compare demo demo.csv -y build_min -f runner,cache,tests -B 4999 --bootstrap 500
 compare plates plates.csv -y signal -f reagent,temp --covariates age -B 2999 --bootstrap 400 --ss 1
+# the resistant test and the tests without the deciding rows count their share per rank
+compare resistant demo.csv -y build_min -f runner,cache,tests -B 999 --bootstrap 0 --resistant
 
 # a rank killed mid-run: the run fails, and no output (nor temporary file) appears
 big="-y signal -f reagent,temp --covariates age -B 5000000 --bootstrap 0 --threads 1"

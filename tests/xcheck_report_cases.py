@@ -7,8 +7,9 @@ and the robustness report). Invented property-test data with fixed seeds:
            text must lead with the unequal spread and point to the unequal-variance
            column, never to --flip (sign flipping does not hold α there);
   outlier  2×2 design, 10 rows per cell, two planted gross errors at known rows: the
-           JSON must list exactly those rows (|externally studentized residual| > 3,
-           common practice) with their lines and cells, and the text must name them;
+           JSON must list exactly those rows (flagged by the Bonferroni outlier test on
+           externally studentized residuals, Cook & Weisberg 1982) with their lines and
+           cells, and the text must name them with the residual's unit;
   clean    normal errors, equal variances: no spread advice, no outliers, and the
            headline says every term agrees;
   demo     the built-in demo: the headline names the disagreeing term and its verdict.
@@ -101,8 +102,12 @@ def main():
         report(cells == want, "outlier: cells %r expected %r" % (cells, want))
         rc, text, err = run(["check", path, "-y", "y", "-f", "a,b", "-B", "999",
                              "--bootstrap", "0"])
-        report(all(("row %d " % r) in text for r in planted),
+        flat = " ".join(text.split())
+        report(all(("row %d (" % r) in flat for r in planted),
                "outlier: the text names rows %r" % (planted,))
+        report("externally studentized residual" in flat and "leans on single rows" not in flat,
+               "outlier: the text names the unit and does not claim the resampling test "
+               "resists a gross error")
 
         # --- clean data
         rows = []

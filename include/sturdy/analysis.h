@@ -90,6 +90,8 @@ typedef struct {
     int resample;                /* 1 (default): compute the slice's rearrangements and
                                     replicates; 0: leave the raw material empty, to be
                                     filled by sturdy_result_add_slice (merging shards) */
+    int resistant;               /* 1: also the outlier-resistant test of every term (Huber
+                                    M-estimation, drop in dispersion; default 0) */
 } sturdy_options;
 
 #define STURDY_DEFAULT_SEED 20261201u
@@ -184,6 +186,12 @@ typedef enum {
     STURDY_TV_UV_DF1, STURDY_TV_UV_DF2, STURDY_TV_UV_P,
     STURDY_TV_UV_P_PERM,         /* its resampled p (when asked for) */
     STURDY_TV_ATS_P,             /* ANOVA-type statistic, Box's approximation */
+    STURDY_TV_SENS_ROWS,         /* single rows: the fewest rows (≤ 3, greedy) whose removal
+                                    changes the F-test's conclusion (NaN: none found) */
+    STURDY_TV_SENS_P_WITHOUT,    /* the F-test p without those rows */
+    STURDY_TV_SENS_P_PERM_WITHOUT, /* the resampled p without them */
+    STURDY_TV_RS_STAT,           /* outlier-resistant statistic (options.resistant) */
+    STURDY_TV_RS_P_PERM,         /* its resampled p */
     STURDY_TV_COUNT
 } sturdy_term_value;
 
@@ -340,6 +348,11 @@ typedef struct {
     size_t cmp_boot_cols;        /* the comparisons' replicate values per response and
                                     replicate (0 with NULL: none carried) */
     const double *cmp_boot;      /* nresp × (boot_end − boot_begin) × cmp_boot_cols */
+    const uint64_t *exceed_without; /* nresp × nterms: rearrangements of the data without
+                                    the term's deciding rows (its single-row sensitivity)
+                                    with F* ≥ F (may be NULL: 0) */
+    const uint64_t *exceed_resistant; /* the same, for the outlier-resistant statistic
+                                    (may be NULL: 0) */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

@@ -83,7 +83,8 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
  * a result whose accessors (analysis.h) give what the file holds: the settings, the
  * input's name and row counts, the run's counts, the notes, and per response and term
  * the classical table, effect sizes and intervals, resampling p-values, the
- * unequal-variance test, verdicts and notes. A result read back has no design, so the
+ * unequal-variance test, the single-row sensitivity and the resistant test (files of
+ * earlier versions without them read as not computed), verdicts and notes. A result read back has no design, so the
  * writers decline it (STURDY_EUSAGE). `name` is used in messages. STURDY_EDATA for text
  * that is not such a result (the message says what is wrong and where). */
 sturdy_status sturdy_result_read_json(const char *name, const char *text, size_t len,

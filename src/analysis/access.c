@@ -88,6 +88,11 @@ double sturdy_term_get(const sturdy_result *r, size_t resp, size_t term, sturdy_
     case STURDY_TV_UV_P: return t->uv.p;
     case STURDY_TV_UV_P_PERM: return t->uv.p_perm;
     case STURDY_TV_ATS_P: return t->uv.ats_p;
+    case STURDY_TV_SENS_ROWS: return t->sens.nrows ? (double)t->sens.nrows : NAN;
+    case STURDY_TV_SENS_P_WITHOUT: return t->sens.nrows ? t->sens.p_without : NAN;
+    case STURDY_TV_SENS_P_PERM_WITHOUT: return t->sens.nrows ? t->sens.p_perm_without : NAN;
+    case STURDY_TV_RS_STAT: return r->opts.resistant ? t->rs.stat : NAN;
+    case STURDY_TV_RS_P_PERM: return r->opts.resistant ? t->rs.p_perm : NAN;
     case STURDY_TV_COUNT: break;
     }
     return NAN;

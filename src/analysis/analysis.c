@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "analysis/stages.h"
+#include "analysis/without.h"
 #include "resampling/bootcmp.h"
 #include "checks/checks.h"
 #include "classical/classical.h"
@@ -211,6 +212,7 @@ void sturdy_result_free(sturdy_result *r)
             sturdy_free(tr->verdict_reason);
             sturdy_free(tr->uv.note);
             sturdy_free(tr->uv.perm_note);
+            sturdy_free(tr->rs.note);
         }
         sturdy_free(rr->terms);
         for (size_t i = 0; rr->means && i < rr->nmeans; i++) {
@@ -239,6 +241,7 @@ void sturdy_result_free(sturdy_result *r)
         sturdy_free(rr->diag.vr_note);
         sturdy_free(rr->diag.spread_reason);
         sturdy_free(rr->diag.outliers);
+        sturdy_free(rr->diag.large);
         sturdy_free(rr->diag.studentized);
         sturdy_free(rr->diag.leverage);
     }
@@ -282,8 +285,9 @@ static sturdy_status classical_stage(const sturdy_table *t, const sturdy_run *ru
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     r->uv_hc3 = sturdy_uv_uses_hc3(d);
     for (size_t ri = 0; ri < d->nresp && !st; ri++)
-        if (!(st = sturdy_anova_response(d, *m, ri, o->conf, run->threads, &r->resp[ri], err)))
-            st = sturdy_uv_response(d, *m, ri, &r->resp[ri], err);
+        if (!(st = sturdy_anova_response(d, *m, ri, o->conf, run->threads, &r->resp[ri], err)) &&
+            !(st = sturdy_uv_response(d, *m, ri, &r->resp[ri], err)) && o->resistant)
+            st = sturdy_rs_response(d, *m, ri, &r->resp[ri], err);
     for (size_t k = 0; k < d->nterms && !st; k++) {
         const sturdy_term_basis *tb = &(*m)->terms[k];
         if (tb->deficient && tb->testable && tb->why_short)
@@ -340,10 +344,17 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
         if (!st && !(st = sturdy_compare_stage(d, m, &run->opts, r, err)) &&
             !(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
+            !(st = run->opts.resistant ? sturdy_rs_run(run, d, m, r, err) : STURDY_OK) &&
             !(st = sturdy_bootcmp_alloc(run, m, r, err)) &&
             !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
             r->perm_done = run->perm_end - run->perm_begin;
             r->boot_done = run->boot_end - run->boot_begin;
+            for (size_t ri = 0; ri < d->nresp && !st; ri++)
+                for (size_t k = 0; k < r->resp[ri].nterms && !st; k++)
+                    st = sturdy_sensitivity_term(d, m, ri, k, run->opts.alpha, &r->resp[ri],
+                                                 &r->resp[ri].terms[k], err);
+            if (!st)
+                st = sturdy_without_run(t, run, r, err);
         }
     }
     sturdy_model_free(m);
@@ -402,7 +413,9 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
     for (size_t k = 0; k < s->nresp * s->nterms; k++)
         if (s->exceed[k] > np || s->exceed_fwer[k] > np ||
             (s->uv_exceed_wild && s->uv_exceed_wild[k] > np) ||
-            (s->uv_exceed_perm && s->uv_exceed_perm[k] > np))
+            (s->uv_exceed_perm && s->uv_exceed_perm[k] > np) ||
+            (s->exceed_without && s->exceed_without[k] > np) ||
+            (s->exceed_resistant && s->exceed_resistant[k] > np))
             return sturdy_fail(err, STURDY_EUSAGE,
                                "the part counts more exceedances than its %llu rearrangements",
                                (unsigned long long)np);
@@ -439,6 +452,8 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             tr->exceed_fwer += s->exceed_fwer[k];
             if (s->uv_exceed_wild) tr->uv.exceed_wild += s->uv_exceed_wild[k];
             if (s->uv_exceed_perm) tr->uv.exceed_perm += s->uv_exceed_perm[k];
+            if (s->exceed_without) tr->sens.exceed_without += s->exceed_without[k];
+            if (s->exceed_resistant) tr->rs.exceed += s->exceed_resistant[k];
             if (tr->boot && nb)
                 memcpy(tr->boot + s->boot_begin * STURDY_BOOT_COLS,
                        s->boot + k * nb * STURDY_BOOT_COLS,
@@ -522,10 +537,15 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
             if ((st = sturdy_term_intervals(r, &r->resp[ri], tr, err)) ||
                 (st = sturdy_uv_finish(r, tr, err)))
                 return st;
+
         }
     if ((st = holm(r, err)) || (st = sturdy_bootcmp_finish(r, err)))
         return st;
     sturdy_compare_select(r);
+    for (size_t ri = 0; r->opts.resistant && ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++)
+            sturdy_rs_finish(r, &r->resp[ri], &r->resp[ri].terms[t]);
+    sturdy_without_finish(r);
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             if ((st = sturdy_verdict_term(&r->resp[ri], &r->resp[ri].terms[t], r->opts.alpha,

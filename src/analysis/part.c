@@ -20,7 +20,7 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
     if (!p)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     size_t nv = k * (size_t)nb * STURDY_BOOT_COLS;
-    p->counts = sturdy_calloc(4 * k + 1, sizeof *p->counts);
+    p->counts = sturdy_calloc(STURDY_PART_COUNTS * k + 1, sizeof *p->counts);
     p->boot = sturdy_malloc((nv + 1) * sizeof *p->boot);
     if (!p->counts || !p->boot) {
         sturdy_part_free(p);
@@ -34,6 +34,8 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
     p->s.exceed_fwer = p->counts + k;
     p->s.uv_exceed_wild = p->counts + 2 * k;
     p->s.uv_exceed_perm = p->counts + 3 * k;
+    p->s.exceed_without = p->counts + 4 * k;
+    p->s.exceed_resistant = p->counts + 5 * k;
     p->s.boot = p->boot;
     *out = p;
     return STURDY_OK;
@@ -62,6 +64,8 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
             p->counts[k + j] = tr->exceed_fwer;
             p->counts[2 * k + j] = tr->uv.exceed_wild;
             p->counts[3 * k + j] = tr->uv.exceed_perm;
+            p->counts[4 * k + j] = tr->sens.exceed_without;
+            p->counts[5 * k + j] = tr->rs.exceed;
             if (tr->boot && nb)
                 memcpy(p->boot + j * nb * STURDY_BOOT_COLS,
                        tr->boot + r->boot_begin * STURDY_BOOT_COLS,

@@ -53,5 +53,47 @@ sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model
  * Deferred to the finish of a run: the range's integrals are the costly part of the
  * comparisons, and a shard part does not need them. */
 void sturdy_compare_adjust(sturdy_response_result *rr, double conf);
+/* The outlier-resistant statistic (huber.c). Huber's tuning constant: 95% efficiency at
+ * the normal for a location (Huber 1981, §4.6); the conventional default. */
+#define STURDY_HUBER_C STURDY_RS_TUNING
+
+/* Workspace of the Huber fits for n rows, K groups and bases of at most rmax columns,
+ * one per thread. */
+typedef struct {
+    double *W, *P, *mu, *mu_red, *mu_new, *A, *b, *e, *isq;
+    signed char *pat;
+} sturdy_huber_work;
+
+sturdy_status sturdy_huber_work_alloc(size_t n, size_t K, size_t rmax, sturdy_huber_work *w,
+                                      char *err);
+void sturdy_huber_work_free(sturdy_huber_work *w);
+
+/* Least-squares fitted group values (mu, K) of values y in groups g on basis U (K × r);
+ * inv_sqrt: 1/√n_g. */
+void sturdy_huber_ls(const double *y, const uint32_t *g, size_t n, const double *U, size_t K,
+                     size_t r, const double *inv_sqrt, sturdy_huber_work *w, double *mu);
+
+/* Huber M-fit with the fixed scale sigma on basis U, starting from mu (K fitted group
+ * values, replaced by the fit's). Returns the iterations used, negated when the limit was
+ * reached. */
+int sturdy_huber_fit(const double *y, const uint32_t *g, size_t n, const double *U, size_t K,
+                     size_t r, const double *inv_sqrt, double sigma, sturdy_huber_work *w,
+                     double *mu);
+
+typedef struct {
+    double stat, drop, lambda, scale;
+    int it_full, it_red;
+} sturdy_rs_stat;
+
+/* The drop-in-dispersion statistic of `term` for values y in groups g (w->mu and
+ * w->mu_red hold the full and the reduced fit afterwards). 0 when it cannot be computed
+ * (zero scale, no row inside the clipping, no residual df): out->stat is then NaN. */
+int sturdy_rs_statistic(const double *y, const uint32_t *g, size_t n, const sturdy_model *m,
+                        size_t term, sturdy_huber_work *w, sturdy_rs_stat *out);
+
+/* The statistic of every testable term of response r on the data (t->rs), or the note
+ * saying why it is absent. */
+sturdy_status sturdy_rs_response(const sturdy_design *d, const sturdy_model *m, size_t r,
+                                 sturdy_response_result *out, char *err);
 
 #endif

@@ -56,7 +56,7 @@ static int settings_match(const sturdy_options *was, const sturdy_run_info *info
     return was->seed == o->seed && was->ss_type == o->ss_type && was->method == o->method &&
            was->flip == o->flip && was->boot_scheme == scheme && perms_ok &&
            was->spread_scheme == o->spread_scheme && info->nboot == o->bootstrap &&
-           was->conf == o->conf && was->alpha == o->alpha &&
+           was->conf == o->conf && was->alpha == o->alpha && was->resistant == o->resistant &&
            names_match(a->responses, a->nresponses, b->responses, b->nresponses) &&
            names_match(a->factors, a->nfactors, b->factors, b->nfactors) &&
            names_match(a->covariates, a->ncovariates, b->covariates, b->ncovariates) &&

@@ -54,8 +54,8 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     uint64_t nb = b1 - b0;
     int root = mpi_rank_ == 0;
     size_t nc = own->cmp_exceed ? own->ncomparisons : 0;   /* max-T counts after them */
-    uint64_t *mine_c = calloc(4 * k + nc + 1, sizeof *mine_c);
-    uint64_t *sum = calloc(4 * k + nc + 1, sizeof *sum);
+    uint64_t *mine_c = calloc(6 * k + nc + 1, sizeof *mine_c);
+    uint64_t *sum = calloc(6 * k + nc + 1, sizeof *sum);
     double *boot = root ? malloc((k * nb * STURDY_BOOT_COLS + 1) * sizeof *boot) : NULL;
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
@@ -73,11 +73,13 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
             mine_c[k + j] = own->exceed_fwer[j];
             mine_c[2 * k + j] = own->uv_exceed_wild ? own->uv_exceed_wild[j] : 0;
             mine_c[3 * k + j] = own->uv_exceed_perm ? own->uv_exceed_perm[j] : 0;
+            mine_c[4 * k + j] = own->exceed_without ? own->exceed_without[j] : 0;
+            mine_c[5 * k + j] = own->exceed_resistant ? own->exceed_resistant[j] : 0;
         }
     if (!root)
         for (size_t q = 0; q < nc; q++)
-            mine_c[4 * k + q] = own->cmp_exceed[q];
-    MPI_Reduce(mine_c, sum, (int)(4 * k + nc), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
+            mine_c[6 * k + q] = own->cmp_exceed[q];
+    MPI_Reduce(mine_c, sum, (int)(6 * k + nc), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
     for (int q = 0; q < mpi_size_; q++) {
         uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
         counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_BOOT_COLS);
@@ -117,8 +119,9 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                               .boot_end = b1, .nresp = own->nresp, .nterms = nt,
                               .exceed = sum, .exceed_fwer = sum + k,
                               .uv_exceed_wild = sum + 2 * k, .uv_exceed_perm = sum + 3 * k,
-                              .boot = boot, .ncomparisons = nc,
-                              .cmp_exceed = nc ? sum + 4 * k : NULL,
+                              .boot = boot, .exceed_without = sum + 4 * k,
+                              .exceed_resistant = sum + 5 * k, .ncomparisons = nc,
+                              .cmp_exceed = nc ? sum + 6 * k : NULL,
                               .cmp_boot_cols = cols, .cmp_boot = cb };
         if (!(st = sturdy_result_add_slice(r, &rest, err)))
             st = sturdy_result_finish(r, err);

@@ -16,7 +16,7 @@ enum {
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
     OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER,
-    OPT_COMPARE, OPT_CONTROL
+    OPT_COMPARE, OPT_CONTROL, OPT_RESISTANT
 };
 
 /* The one table of `check`'s long options: getopt_long reads the command line with it
@@ -34,6 +34,7 @@ const struct option cli_check_options[] = {
     { "bootstrap", required_argument, NULL, OPT_BOOTSTRAP },
     { "method", required_argument, NULL, OPT_METHOD },
     { "flip", no_argument, NULL, OPT_FLIP },
+    { "resistant", no_argument, NULL, OPT_RESISTANT },
     { "bootstrap-scheme", required_argument, NULL, OPT_SCHEME },
     { "spread-scheme", required_argument, NULL, OPT_SPREAD },
     { "conf", required_argument, NULL, OPT_CONF },
@@ -101,6 +102,8 @@ static const char check_help[] =
 "      --spread-scheme NAME     resampling of the unequal-variance statistic: none\n"
 "                               (default; its approximate F is used), wild (wild\n"
 "                               bootstrap) or permutation (also reports the wild p)\n"
+"      --resistant              also an outlier-resistant test of every term (Huber\n"
+"                               fits, drop in dispersion), resampled like the F-test\n"
 "      --conf LEVEL             interval level, between 0 and 1 (default 0.95)\n"
 "      --alpha LEVEL            significance level of the verdicts (default 0.05)\n"
 "      --seed N                 random seed (default 20261201)\n"
@@ -434,6 +437,7 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
                                    "raw, not '%s'", arg);
         return 0;
     case OPT_FLIP: o->flip = 1; return 0;
+    case OPT_RESISTANT: o->resistant = 1; return 0;
     case OPT_SCHEME:
         if (!sturdy_boot_scheme_parse(arg, &o->boot_scheme))
             return cli_usage_error(c->command, "--bootstrap-scheme wants residual, wild or "

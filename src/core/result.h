@@ -29,6 +29,75 @@ typedef struct {
     char *perm_note;             /* why p_perm is absent, else NULL */
 } sturdy_uv_result;
 
+/* One row in the single-row sensitivity of a term (checks/influence.c). */
+typedef struct {
+    size_t index;                /* 0-based used row (design order) */
+    size_t row, line, cell;      /* 1-based data row, file line, cell index */
+    double f_without, p_without; /* the term's F and p with this row alone removed */
+} sturdy_sens_row;
+
+enum { SENS_TOP = 3 };           /* most influential rows kept per term */
+typedef enum { STURDY_SENS_NONE, STURDY_SENS_CREATES, STURDY_SENS_HIDES } sturdy_sens_dir;
+
+/* How single rows move a term's F-test (influence.c): exact leave-one-out, and the
+ * fewest rows (greedy, at most 3) whose removal changes the conclusion at alpha. */
+typedef struct {
+    int searched;                /* 0: the term has no F-test, nothing was searched */
+    double alpha;
+    sturdy_sens_dir direction;   /* CREATES: the rows make the term significant; HIDES:
+                                    they keep it from being; NONE: no set found */
+    size_t nrows;                /* rows_to_change (0: none within 3) */
+    sturdy_sens_row rows[3];     /* the set, in the order chosen; each with its own
+                                    leave-one-out F and p */
+    double f_without, p_without; /* the term without the whole set (NaN: none) */
+    int decisive;                /* at most 2 rows change the conclusion and move p at
+                                    least tenfold: the headline opens with it */
+    int empties_cell;            /* the set holds every row of some cell */
+    size_t not_removable;        /* rows whose removal alone changes the design (the only
+                                    row of a cell or block level): not tried */
+    size_t ntop;                 /* the rows that move p most, alone */
+    sturdy_sens_row top[SENS_TOP];
+    /* the resampling test of the data without the set (analysis/without.c) */
+    int perm_state;              /* sturdy_sens_perm: whether it ran, or why not */
+    double f_refit;              /* the term's F refitted on the data without the set */
+    uint64_t exceed_without;     /* the run's rearrangements of those data with F* ≥ F */
+    double p_perm_without;       /* (1 + exceed_without) / (1 + B); NaN: not tested */
+} sturdy_sensitivity;
+
+/* Whether the resampling test without a term's deciding rows ran (without.c). */
+typedef enum {
+    STURDY_SENS_PERM_NONE = 0,   /* no set found (nothing to confirm) */
+    STURDY_SENS_PERM_DONE,       /* counted over the run's rearrangements */
+    STURDY_SENS_PERM_NO_REARRANGEMENTS, /* the run has none */
+    STURDY_SENS_PERM_EXACT,      /* the run enumerated every rearrangement of all rows:
+                                    the data without the rows have other ones */
+    STURDY_SENS_PERM_NO_TEST     /* without the rows the term has no resampling test
+                                    (its design or F changes) */
+} sturdy_sens_perm;
+
+/* The outlier-resistant test of a term (classical/huber.c, resampling/resistant_perm.c):
+ * Huber (1973) M-estimates of the full and the reduced model with one common fixed scale
+ * and the drop-in-dispersion statistic of Schrader & Hettmansperger (1980), resampled by
+ * the run's rearrangements. Present only when the options ask for it. */
+/* Huber's tuning constant c (classical.h: STURDY_HUBER_C), for the writers. */
+#define STURDY_RS_TUNING 1.345
+
+typedef struct {
+    double stat;                 /* 2·(Σρ(e_R/σ) − Σρ(e_F/σ)) / λ̂ (NaN: none, see note) */
+    double drop;                 /* Σρ(e_R/σ) − Σρ(e_F/σ) */
+    double lambda;               /* λ̂ = [Σψ²/(n − p)] / [Σψ'/n] of the full fit */
+    double scale;                /* σ: the response's common scale */
+    uint64_t exceed;             /* rearrangements with statistic* ≥ statistic */
+    double p_perm;               /* (1 + exceed)/(1 + B); NaN: not resampled */
+    sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson of p_perm */
+    int iter_full, iter_red;     /* iterations of the two fits on the data */
+    int disagrees;               /* the headline rule (resistant_perm.c): its conclusion at
+                                    alpha differs from both the F-test's and the resampled
+                                    F's, its p is at least tenfold away from both, and the
+                                    outlier test flags some row */
+    char *note;                  /* why stat or p_perm is absent, else NULL (owned) */
+} sturdy_rs_result;
+
 typedef struct {
     char *label;                 /* "A×B" */
     sturdy_term_kind kind;
@@ -66,6 +135,8 @@ typedef struct {
     char *verdict_reason;        /* one line, or NULL */
     int straddles;               /* the p_perm interval contains alpha */
     sturdy_uv_result uv;         /* unequal-variance test */
+    sturdy_sensitivity sens;     /* single-row sensitivity (influence.c) */
+    sturdy_rs_result rs;         /* outlier-resistant test (only with opts.resistant) */
 } sturdy_term_result;
 
 typedef struct {
@@ -73,6 +144,8 @@ typedef struct {
     double studentized;          /* externally studentized residual (the one tested) */
     double internal;             /* internally studentized residual */
     double leverage;             /* the row's leverage */
+    double p_bonferroni;         /* min(1, n · two-sided t tail of `studentized` on
+                                    n − p − 1 df): the outlier test (Cook & Weisberg 1982) */
 } sturdy_outlier;
 
 typedef struct {
@@ -81,7 +154,12 @@ typedef struct {
     double bf_f, bf_df1, bf_df2, bf_p; char *bf_note;
     double bfm_f, bfm_df1, bfm_df2, bfm_p; char *bfm_note; /* without structural zeros */
     double variance_ratio; char *vr_note;   /* largest / smallest cell variance */
-    size_t noutliers; sturdy_outlier *outliers;
+    size_t noutliers; sturdy_outlier *outliers; /* rows the Bonferroni outlier test flags
+                                    (residuals.c: OUTLIER_LEVEL) */
+    double sw_w_rest, sw_p_rest; /* Shapiro–Wilk of the residuals without the flagged rows
+                                    (checks/bulk.c; NaN: none flagged, or more than 10) */
+    size_t nlarge; sturdy_outlier *large; /* the other rows with |studentized| > 3: large
+                                    residuals, not evidence of an error (NULL if none) */
     int spread_differs;          /* the rule of unequal.c: cell spreads differ enough
                                     that the unequal-variance test leads the report */
     char *spread_reason;         /* one line saying why (owned), or NULL */
@@ -193,10 +271,14 @@ struct sturdy_result {
     char **owned; size_t nowned; /* strings the options point to */
 };
 
+/* Count arrays of a part, in the order of sturdy_slice: exceed, exceed_fwer,
+ * uv_exceed_wild, uv_exceed_perm, exceed_without, exceed_resistant. */
+#define STURDY_PART_COUNTS 6
+
 /* A copy of a slice's raw material (sturdy_result_part, sturdy_part_read_json). */
 struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
-    uint64_t *counts;            /* 4 × nresp × nterms */
+    uint64_t *counts;            /* STURDY_PART_COUNTS × nresp × nterms */
     uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
     double *cmp_boot;            /* the comparisons' replicate values (NULL: none) */
     double *boot;

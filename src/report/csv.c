@@ -100,7 +100,36 @@ static void write_header(sturdy_buf *b)
     }
     sturdy_buf_puts(b, ",exceed,verdict,p_perm_straddles_alpha,verdict_reason,note");
     sturdy_buf_puts(b, ",uv_wald,uv_statistic,uv_df1,uv_df2,uv_p,uv_p_perm,uv_p_perm_lo,"
-                       "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p\n");
+                       "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p");
+    sturdy_buf_puts(b, ",rows_to_change,sens_direction,sens_rows,sens_lines,p_without,"
+                       "p_perm_without,rs_statistic,rs_p_perm,rs_p_perm_lo,rs_p_perm_hi,"
+                       "rs_scale\n");
+}
+
+/* Single rows and the resistant test: rows_to_change, its direction, the rows and their
+ * file lines (joined by ';'), the p without them (F-test, resampled), then the resistant
+ * statistic, its p, interval and scale (empty without --resistant). */
+static void write_sens_rs(sturdy_buf *b, const sturdy_result *r, const sturdy_term_result *t)
+{
+    const sturdy_sensitivity *sv = &t->sens;
+    sturdy_buf_put(b, ",", 1);
+    if (sv->nrows) sturdy_buf_printf(b, "%zu", sv->nrows);
+    sturdy_buf_put(b, ",", 1);
+    if (sv->nrows)
+        sturdy_buf_puts(b, sv->direction == STURDY_SENS_CREATES ? "creates" : "hides");
+    for (int pass = 0; pass < 2; pass++) {
+        sturdy_buf_put(b, ",", 1);
+        for (size_t j = 0; j < sv->nrows; j++)
+            sturdy_buf_printf(b, "%s%zu", j ? ";" : "", pass ? sv->rows[j].line : sv->rows[j].row);
+    }
+    csv_num(b, sv->nrows ? sv->p_without : NAN);
+    csv_num(b, sv->nrows ? sv->p_perm_without : NAN);
+    const sturdy_rs_result *rs = &t->rs;
+    int on = r->opts.resistant;
+    const double v[] = { on ? rs->stat : NAN, on ? rs->p_perm : NAN,
+                         on ? rs->p_perm_ci.lo : NAN, on ? rs->p_perm_ci.hi : NAN,
+                         on ? rs->scale : NAN };
+    for (size_t i = 0; i < sizeof v / sizeof *v; i++) csv_num(b, v[i]);
 }
 
 /* The ASCII joiner of factor names in term names. Not '×' (outside ASCII), and not ':',
@@ -124,7 +153,7 @@ static void term_name(sturdy_buf *b, const sturdy_term_result *t, int ascii)
     sturdy_buf_free(&joined);
 }
 
-static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
+static void write_row(sturdy_buf *b, const sturdy_result *r, const sturdy_response_result *rr,
                       const sturdy_term_result *t, int ascii)
 {
     csv_text(b, rr->name);
@@ -176,6 +205,7 @@ static void write_row(sturdy_buf *b, const sturdy_response_result *rr,
                           u->p_perm_ci.hi, u->ats, u->ats_df1, u->ats_df2, u->ats_p };
     for (size_t i = 0; i < sizeof uv / sizeof *uv; i++)
         csv_num(b, uv[i]);
+    write_sens_rs(b, r, t);
     sturdy_buf_put(b, "\n", 1);
 }
 
@@ -192,7 +222,7 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
         for (size_t k = 0; k < rr->nterms; k++)
-            write_row(out, rr, &rr->terms[k], o->ascii_terms);
+            write_row(out, r, rr, &rr->terms[k], o->ascii_terms);
         write_error_row(out, rr, "residual", rr->df_error, rr->ss_error, rr->ms_error,
                         rr->error_note, tail);
         write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail);

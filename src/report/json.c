@@ -7,7 +7,9 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "analysis/without.h"
 #include "core/result.h"
+#include "report/family.h"
 #include "sturdy/names.h"
 #include "sturdy/report.h"
 
@@ -217,6 +219,7 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_u64(w, "seed", r->opts.seed);
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
+    jw_bool(w, "resistant", r->opts.resistant);
     jw_close(w, '}');
 }
 
@@ -277,6 +280,115 @@ static void write_uv(jw *w, const sturdy_result *r, const sturdy_uv_result *u)
     jw_close(w, '}');
 }
 
+/* Rows of the single-row sensitivity, each with its cell and its own leave-one-out p. */
+static void sens_rows(jw *w, const sturdy_design *d, const char *key, const sturdy_sens_row *rows,
+                      size_t n)
+{
+    sturdy_buf cell;
+    sturdy_buf_init(&cell);
+    jw_open(w, key, '[');
+    for (size_t i = 0; i < n; i++) {
+        cell.len = 0;
+        if (d) sturdy_report_cell_label(d, rows[i].cell, &cell);
+        if (cell.failed) w->b->failed = 1;
+        jw_open(w, NULL, '{');
+        jw_u64(w, "row", rows[i].row);
+        jw_u64(w, "line", rows[i].line);
+        jw_str(w, "cell", cell.data ? cell.data : "?");
+        jw_num(w, "f_without_row", rows[i].f_without);
+        jw_num(w, "p_without_row", rows[i].p_without);
+        jw_close(w, '}');
+    }
+    jw_close(w, ']');
+    sturdy_buf_free(&cell);
+}
+
+/* The term's single-row sensitivity (checks/influence.c). */
+static void write_sensitivity(jw *w, const sturdy_design *d, const sturdy_sensitivity *sv)
+{
+    jw_open(w, "sensitivity", '{');
+    if (sv->searched && sv->nrows) jw_u64(w, "rows_to_change", sv->nrows);
+    else jw_null(w, "rows_to_change");
+    jw_str(w, "direction", sv->direction == STURDY_SENS_CREATES ? "creates"
+                           : sv->direction == STURDY_SENS_HIDES ? "hides" : NULL);
+    sens_rows(w, d, "rows", sv->rows, sv->nrows);
+    jw_num(w, "f_without", sv->f_without);
+    jw_num(w, "p_without", sv->p_without);
+    jw_num(w, "p_perm_without", sv->p_perm_without);
+    if (sv->perm_state == STURDY_SENS_PERM_DONE) jw_u64(w, "exceed_without", sv->exceed_without);
+    else jw_null(w, "exceed_without");
+    jw_num(w, "f_refit", sv->nrows ? sv->f_refit : NAN);
+    jw_str(w, "perm_note", sturdy_without_note(sv->perm_state));
+    if (sv->searched) {
+        jw_bool(w, "decisive", sv->decisive);
+        jw_bool(w, "empties_cell", sv->empties_cell);
+        jw_u64(w, "rows_not_removable", sv->not_removable);
+        sens_rows(w, d, "most_influential", sv->top, sv->ntop);
+        jw_str(w, "note", "exact deletion of rows from the F-test's models; greedy search "
+                          "of at most 3 rows (the first step tries every row, later steps "
+                          "keep the rows chosen), so a set found only jointly may be "
+                          "missed; rows whose removal alone empties a cell or block level "
+                          "are not tried; f_refit is the F refitted on the data without "
+                          "the rows");
+    } else {
+        jw_null(w, "decisive");
+        jw_null(w, "empties_cell");
+        jw_null(w, "rows_not_removable");
+        jw_open(w, "most_influential", '[');
+        jw_close(w, ']');
+        jw_str(w, "note", "not searched: the term has no F-test here");
+    }
+    jw_close(w, '}');
+}
+
+/* Which p the verdicts use and how many terms stay significant family-wise (family.c);
+ * null for a shard, whose p-values are not finished. */
+static void write_family(jw *w, const sturdy_result *r)
+{
+    if (!r->finished) {
+        jw_null(w, "family");
+        return;
+    }
+    sturdy_family f;
+    sturdy_family_count(r, &f);
+    jw_open(w, "family", '{');
+    jw_str(w, "verdict_uses", "per-term");
+    jw_str(w, "adjustment", "westfall-young");
+    jw_u64(w, "terms", f.terms);
+    jw_u64(w, "significant_f", f.significant_f);
+    jw_u64(w, "significant_perm", f.significant);
+    jw_u64(w, "significant_fwer", f.significant_fwer);
+    jw_u64(w, "significant_holm", f.significant_holm);
+    jw_str(w, "note", sturdy_family_rule);
+    jw_close(w, '}');
+}
+
+/* The outlier-resistant test (classical/huber.c, resampling/resistant_perm.c); null when
+ * the run did not ask for it. */
+static void write_resistant(jw *w, const sturdy_result *r, const sturdy_rs_result *rs)
+{
+    if (!r->opts.resistant) {
+        jw_null(w, "resistant");
+        return;
+    }
+    jw_open(w, "resistant", '{');
+    jw_num(w, "statistic", rs->stat);
+    jw_num(w, "p_perm", rs->p_perm);
+    jw_pair(w, "p_perm_ci", rs->p_perm_ci);
+    if (!isnan(rs->p_perm)) jw_u64(w, "exceed", rs->exceed);
+    else jw_null(w, "exceed");
+    jw_num(w, "drop", rs->drop);
+    jw_num(w, "lambda", rs->lambda);
+    jw_num(w, "scale", rs->scale);
+    jw_num(w, "tuning", STURDY_RS_TUNING);
+    if (!isnan(rs->p_perm)) jw_bool(w, "disagrees", rs->disagrees);
+    else jw_null(w, "disagrees");
+    jw_str(w, "scheme", r->opts.flip ? "sign flips of the robust reduced fit's residuals"
+                                     : "rearrangements of the robust reduced fit's residuals");
+    jw_str(w, "note", rs->note);
+    jw_close(w, '}');
+}
+
 static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *t,
                        const sturdy_report_opts *o)
 {
@@ -331,6 +443,8 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     if (has_perm) jw_bool(w, "p_perm_straddles_alpha", t->straddles);
     else jw_null(w, "p_perm_straddles_alpha");
     write_uv(w, r, &t->uv);
+    write_sensitivity(w, r->design, &t->sens);
+    write_resistant(w, r, &t->rs);
     if (o->partial) {
         /* The slice's raw material, which sturdy merge adds up across shards. */
         jw_open(w, "raw", '{');
@@ -338,6 +452,8 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         jw_u64(w, "exceed_fwer", t->exceed_fwer);
         jw_u64(w, "uv_exceed_wild", t->uv.exceed_wild);
         jw_u64(w, "uv_exceed_perm", t->uv.exceed_perm);
+        jw_u64(w, "exceed_without", t->sens.exceed_without);
+        jw_u64(w, "exceed_resistant", t->rs.exceed);
         if (!t->boot) {
             jw_null(w, "boot");
         } else {
@@ -352,6 +468,32 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     jw_close(w, '}');
 }
 
+/* Rows of the outlier check with their cells (name: "outliers" or "large_residuals"). */
+static void outlier_list(jw *w, const sturdy_design *d, const char *name,
+                         const sturdy_outlier *o, size_t n)
+{
+    jw_open(w, name, '[');
+    sturdy_buf cell;
+    sturdy_buf_init(&cell);
+    for (size_t i = 0; i < n; i++) {
+        const sturdy_outlier *ot = &o[i];
+        cell.len = 0;
+        sturdy_report_cell_label(d, ot->cell, &cell);
+        if (cell.failed) w->b->failed = 1;
+        jw_open(w, NULL, '{');
+        jw_u64(w, "row", ot->row);
+        jw_u64(w, "line", ot->line);
+        jw_str(w, "cell", cell.data ? cell.data : "?");
+        jw_num(w, "studentized", ot->studentized);
+        jw_num(w, "studentized_internal", ot->internal);
+        jw_num(w, "leverage", ot->leverage);
+        jw_num(w, "p_bonferroni", ot->p_bonferroni);
+        jw_close(w, '}');
+    }
+    sturdy_buf_free(&cell);
+    jw_close(w, ']');
+}
+
 static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagnostics *g)
 {
     jw_open(w, "diagnostics", '{');
@@ -359,6 +501,11 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_num(w, "w", g->sw_w);
     jw_num(w, "p", g->sw_p);
     jw_str(w, "note", g->sw_note);
+    jw_close(w, '}');
+    /* the same without the flagged rows (checks/bulk.c) */
+    jw_open(w, "shapiro_wilk_without_flagged", '{');
+    jw_num(w, "w", g->sw_w_rest);
+    jw_num(w, "p", g->sw_p_rest);
     jw_close(w, '}');
     jw_num(w, "skewness", g->skewness);
     jw_num(w, "excess_kurtosis", g->excess_kurtosis);
@@ -380,25 +527,11 @@ static void write_diagnostics(jw *w, const sturdy_design *d, const sturdy_diagno
     jw_str(w, "spread_reason", g->spread_reason);
     jw_num(w, "variance_ratio", g->variance_ratio);
     jw_str(w, "variance_ratio_note", g->vr_note);
-    jw_open(w, "outliers", '[');
-    sturdy_buf cell;
-    sturdy_buf_init(&cell);
-    for (size_t i = 0; i < g->noutliers; i++) {
-        const sturdy_outlier *ot = &g->outliers[i];
-        cell.len = 0;
-        sturdy_report_cell_label(d, ot->cell, &cell);
-        if (cell.failed) w->b->failed = 1;
-        jw_open(w, NULL, '{');
-        jw_u64(w, "row", ot->row);
-        jw_u64(w, "line", ot->line);
-        jw_str(w, "cell", cell.data ? cell.data : "?");
-        jw_num(w, "studentized", ot->studentized);
-        jw_num(w, "studentized_internal", ot->internal);
-        jw_num(w, "leverage", ot->leverage);
-        jw_close(w, '}');
-    }
-    sturdy_buf_free(&cell);
-    jw_close(w, ']');
+    jw_str(w, "outlier_rule", "externally studentized residual on t with n - p - 1 df; "
+                              "flagged when n x two-sided p <= 0.05 (Bonferroni; Cook & "
+                              "Weisberg 1982)");
+    outlier_list(w, d, "outliers", g->outliers, g->noutliers);
+    outlier_list(w, d, "large_residuals", g->large, g->nlarge);
     if (d) {
         jw_u64(w, "min_cell", d->min_cell);
         jw_bool(w, "balanced", d->balanced);
@@ -546,6 +679,7 @@ sturdy_status sturdy_report_json(const sturdy_result *r, const sturdy_report_opt
     jw_open(&w, "notes", '[');
     for (size_t i = 0; i < r->nnotes; i++) jw_str(&w, NULL, r->notes[i]);
     jw_close(&w, ']');
+    write_family(&w, r);
     jw_open(&w, "responses", '[');
     for (size_t i = 0; i < r->nresp; i++) write_response(&w, r, &r->resp[i], o);
     jw_close(&w, ']');

@@ -193,7 +193,8 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
              get_bool(s, "exact", &r->exact) && get_u64(s, "bootstrap", &r->nboot) &&
              get_u64(s, "seed", &o->seed) && get_num(s, "conf", &o->conf) &&
              get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
-             get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread);
+             get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread) &&
+             (!jv_get(s, "resistant") || get_bool(s, "resistant", &o->resistant));
     int m = method_of(method), b = boot_scheme_of(scheme), sp = spread_scheme_of(spread);
     sturdy_free(method); sturdy_free(scheme); sturdy_free(spread);
     if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
@@ -260,6 +261,78 @@ static int read_uv(const jv *u, sturdy_uv_result *uv)
 }
 
 /* An effect size's test-inversion interval (η², ω²: none) and recommended interval. */
+/* Rows of a sensitivity list (at most cap; the cell's label is not kept: cell 0). */
+static int read_sens_rows(const jv *a, sturdy_sens_row *rows, size_t cap, size_t *n)
+{
+    *n = 0;
+    if (!is_kind(a, JV_ARRAY) || a->n > cap) return 0;
+    for (size_t i = 0; i < a->n; i++, (*n)++) {
+        const jv *o = &a->items[i];
+        uint64_t row = 0, line = 0;
+        sturdy_sens_row *x = &rows[i];
+        memset(x, 0, sizeof *x);
+        if (!is_kind(o, JV_OBJECT) || !get_u64(o, "row", &row) || !get_u64(o, "line", &line) ||
+            !get_num(o, "f_without_row", &x->f_without) ||
+            !get_num(o, "p_without_row", &x->p_without) || row == 0)
+            return 0;
+        x->row = (size_t)row;
+        x->index = (size_t)row - 1;
+        x->line = (size_t)line;
+    }
+    return 1;
+}
+
+/* The term's "sensitivity" (absent in files of earlier versions: left unsearched). */
+static int read_sens(const jv *v, sturdy_sensitivity *sv)
+{
+    memset(sv, 0, sizeof *sv);
+    sv->f_without = sv->p_without = sv->f_refit = sv->p_perm_without = NAN;
+    if (!v) return 1;
+    const jv *k = jv_get(v, "rows_to_change"), *dec = jv_get(v, "decisive");
+    const jv *ex = jv_get(v, "exceed_without");
+    char *dir = NULL;
+    int ok = is_kind(v, JV_OBJECT) && get_str(v, "direction", &dir) &&
+             read_sens_rows(jv_get(v, "rows"), sv->rows, 3, &sv->nrows) &&
+             get_num(v, "f_without", &sv->f_without) && get_num(v, "p_without", &sv->p_without) &&
+             get_num(v, "p_perm_without", &sv->p_perm_without) &&
+             read_sens_rows(jv_get(v, "most_influential"), sv->top, SENS_TOP, &sv->ntop) &&
+             (is_kind(k, JV_NULL) || (is_kind(k, JV_NUMBER) && (double)sv->nrows ==
+                                                                    jv_double(k)));
+    sv->direction = dir && !strcmp(dir, "creates") ? STURDY_SENS_CREATES
+                    : dir && !strcmp(dir, "hides") ? STURDY_SENS_HIDES : STURDY_SENS_NONE;
+    sturdy_free(dir);
+    if (!ok) return 0;
+    get_num(v, "f_refit", &sv->f_refit);  /* optional: absent before it was added */
+    if (is_kind(ex, JV_NUMBER)) ok = get_u64(v, "exceed_without", &sv->exceed_without);
+    sv->perm_state = isnan(sv->p_perm_without) ? STURDY_SENS_PERM_NONE : STURDY_SENS_PERM_DONE;
+    sv->searched = !is_kind(dec, JV_NULL);
+    if (sv->searched) {
+        uint64_t nr = 0;
+        ok = ok && get_bool(v, "decisive", &sv->decisive) &&
+             get_bool(v, "empties_cell", &sv->empties_cell) &&
+             get_u64(v, "rows_not_removable", &nr);
+        sv->not_removable = (size_t)nr;
+    }
+    return ok;
+}
+
+/* The term's "resistant" test (null when the run did not ask for it). */
+static int read_rs(const jv *v, sturdy_rs_result *rs)
+{
+    memset(rs, 0, sizeof *rs);
+    rs->stat = rs->drop = rs->lambda = rs->scale = rs->p_perm = NAN;
+    rs->p_perm_ci.lo = rs->p_perm_ci.hi = NAN;
+    if (!v || is_kind(v, JV_NULL)) return 1;
+    const jv *ex = jv_get(v, "exceed"), *dis = jv_get(v, "disagrees");
+    int ok = is_kind(v, JV_OBJECT) && get_num(v, "statistic", &rs->stat) &&
+             get_num(v, "p_perm", &rs->p_perm) && get_pair(v, "p_perm_ci", &rs->p_perm_ci) &&
+             get_num(v, "drop", &rs->drop) && get_num(v, "lambda", &rs->lambda) &&
+             get_num(v, "scale", &rs->scale) && get_str(v, "note", &rs->note);
+    if (ok && is_kind(ex, JV_NUMBER)) ok = get_u64(v, "exceed", &rs->exceed);
+    if (ok && !is_kind(dis, JV_NULL)) ok = get_bool(v, "disagrees", &rs->disagrees);
+    return ok;
+}
+
 static int read_recommended(const jv *c, int e, sturdy_term_result *tr)
 {
     const jv *rec = jv_get(c, "recommended"), *m = jv_get(rec, "method");
@@ -296,7 +369,9 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              get_str(t, "ci_note", &tr->ci_note) &&
              get_str(t, "verdict", &verdict) && get_str(t, "verdict_reason", &tr->verdict_reason) &&
              is_kind(ci, JV_OBJECT) && is_kind(factors, JV_ARRAY) &&
-             read_uv(jv_get(t, "unequal_variance"), &tr->uv);
+             read_uv(jv_get(t, "unequal_variance"), &tr->uv) &&
+             read_sens(jv_get(t, "sensitivity"), &tr->sens) &&
+             read_rs(jv_get(t, "resistant"), &tr->rs);
     int v = verdict_of(verdict);
     sturdy_free(verdict);
     if (!ok || v < 0)
@@ -471,14 +546,15 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
 static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, size_t j,
                               char *err)
 {
-    static const char *const keys[4] = { "exceed", "exceed_fwer", "uv_exceed_wild",
-                                         "uv_exceed_perm" };
+    static const char *const keys[STURDY_PART_COUNTS] = {
+        "exceed", "exceed_fwer", "uv_exceed_wild", "uv_exceed_perm", "exceed_without",
+        "exceed_resistant" };
     size_t k = p->s.nresp * p->s.nterms;
     uint64_t np = p->s.perm_end - p->s.perm_begin, nb = p->s.boot_end - p->s.boot_begin;
     char msg[160];
     if (!is_kind(raw, JV_OBJECT))
         return part_fail(err, name, "a term has no 'raw' section");
-    for (int q = 0; q < 4; q++) {
+    for (int q = 0; q < STURDY_PART_COUNTS; q++) {
         uint64_t v = 0;
         if (!get_u64(raw, keys[q], &v) || v > np) {
             snprintf(msg, sizeof msg, "a term's raw '%s' is missing, not a count, or more than "

@@ -17,7 +17,7 @@
 /* Column widths of the tests table (2 + 18+1+4+1+9+1+9+2+8+2+11+2+13+2+14 = 99); SS and
  * F never take more than 9 characters in tw_fmt_num's format. MS is left to JSON and CSV
  * to make room for the unequal-variance test. */
-enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13 };
+enum { W_TERM = 18, W_DF = 4, W_SS = 9, W_F = 9, W_P = 8, W_PP = 11, W_UV = 13, W_RS = 11 };
 /* A longer term label widens the term column of both tables (and the table beyond 99
  * columns) up to this width, so that its numbers stay on its line; only longer labels
  * get a line of their own. 40 holds a three-way term of 12-character names. */
@@ -330,8 +330,11 @@ static void headline(tw *w)
         tw_nl(w);
         return;
     }
+    tw_sensitivity_headline(w);
+    tw_resistant_headline(w);
     if (r->finished) spread_headline(w);
     agreement_lines(w, &ag, a);
+    tw_family_line(w, a);
     close_call_lines(w, a);
     tw_nl(w);
 }
@@ -339,7 +342,7 @@ static void headline(tw *w)
 /* One row of the tests table; `label` NULL leaves the term cell blank. */
 static void tests_row(tw *w, int wterm, const char *label, const char *df, const char *ss,
                       const char *f, const char *p, const char *pp, const char *puv,
-                      const char *verdict, const char *color)
+                      const char *prs, const char *verdict, const char *color)
 {
     tw_indent(w, 2);
     tw_cell(w, label ? label : "", wterm, 0);
@@ -349,6 +352,7 @@ static void tests_row(tw *w, int wterm, const char *label, const char *df, const
     tw_put(w, "  "); tw_cell(w, p, W_P, 1);
     tw_put(w, "  "); tw_cell(w, pp, W_PP, 1);
     tw_put(w, "  "); tw_cell(w, puv, W_UV, 1);
+    if (w->r->opts.resistant) { tw_put(w, "  "); tw_cell(w, prs, W_RS, 1); }
     if (verdict && *verdict) {
         tw_put(w, "  ");
         tw_style(w, color);
@@ -495,7 +499,7 @@ static int term_width(const sturdy_response_result *rr, int base)
 
 static void tests_table(tw *w, const sturdy_response_result *rr)
 {
-    char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], v[64];
+    char df[32], ss[32], ms[32], f[32], p[32], pp[32], puv[32], prs[32], v[64];
     int wt = term_width(rr, W_TERM);
     tw_indent(w, 2);
     tw_style(w, "1");
@@ -506,6 +510,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_put(w, "  "); tw_cell(w, "p F-test", W_P, 1);
     tw_put(w, "  "); tw_cell(w, "p resampled", W_PP, 1);
     tw_put(w, "  "); tw_cell(w, "p unequal var", W_UV, 1);
+    if (w->r->opts.resistant) { tw_put(w, "  "); tw_cell(w, "p resistant", W_RS, 1); }
     tw_put(w, "  F vs resampled");
     tw_style(w, "0");
     tw_nl(w);
@@ -525,7 +530,8 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         tw_fmt_p(t->p, p);
         tw_fmt_p(t->p_perm, pp);
         uv_p_cell(w, t, puv);
-        tests_row(w, wt, term_cell(w, t->label, wt), df, ss, f, p, pp, puv, v,
+        tw_resistant_cell(w, t, prs);
+        tests_row(w, wt, term_cell(w, t->label, wt), df, ss, f, p, pp, puv, prs, v,
                   dis ? "33" : NULL);
         term_details(w, t);
     }
@@ -534,13 +540,14 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
     tw_fmt_num_scaled(rr->ms_error, rr->ss_total, ms);
     v[0] = '\0';
     if (rr->error_note) snprintf(v, sizeof v, "[%zu]", tw_footnote(w, rr->error_note));
-    tests_row(w, wt, "residual", df, ss, "", "", "", "", v, NULL);
+    tests_row(w, wt, "residual", df, ss, "", "", "", "", "", v, NULL);
     tw_fmt_df(rr->df_total, df);
     tw_fmt_num(rr->ss_total, ss);
-    tests_row(w, wt, "total", df, ss, "", "", "", "", NULL, NULL);
+    tests_row(w, wt, "total", df, ss, "", "", "", "", "", NULL, NULL);
     if (!isnan(rr->ms_error))
         tw_paraf(w, 2, 4, "residual mean square %s (SS/df); the mean squares of the terms "
                  "are in the JSON and CSV output", ms);
+    tw_resistant_note(w, rr);
     tw_footnotes(w);
 }
 
@@ -726,34 +733,57 @@ static void cells_table(tw *w, const sturdy_response_result *rr)
     tw_nl(w);
 }
 
+/* "row 7 (line 8; A=a1, B=b2) externally studentized residual 110" for each listed row. */
+static void outlier_rows(tw *w, const sturdy_outlier *o, size_t n, sturdy_buf *s)
+{
+    for (size_t i = 0; i < n && i < LIST_MAX; i++) {
+        char z[32];
+        tw_fmt_g(o[i].studentized, 3, z);
+        sturdy_buf_printf(s, "%srow %zu (line %zu; ", i ? "; " : "", o[i].row, o[i].line);
+        sturdy_report_cell_label(w->r->design, o[i].cell, s);
+        sturdy_buf_printf(s, ") externally studentized residual %s", z);
+    }
+    if (n > LIST_MAX)
+        sturdy_buf_printf(s, "; and %zu more (see the JSON output)", n - LIST_MAX);
+}
+
+/* The outlier test's flags (Bonferroni-bounded, residuals.c) with the rule stated, then
+ * the other rows beyond ±3 as the largest residuals only. */
 static void check_outliers(tw *w, const sturdy_response_result *rr)
 {
     const sturdy_diagnostics *g = &rr->diag;
     sturdy_buf s;
     sturdy_buf_init(&s);
+    char df[32];
+    tw_fmt_df(rr->df_error - 1, df);
+    size_t n = w->r->design ? w->r->design->n : 0;
     /* externally studentized residuals need a residual df beyond the one they drop */
     if (g->noutliers == 0 && !(rr->df_error >= 2)) {
         sturdy_buf_printf(&s, "check not available (%s): studentized residuals need at "
                           "least 2 residual degrees of freedom.",
                           rr->df_error == 0 ? "no residual degrees of freedom"
                                             : "1 residual degree of freedom");
-    } else if (g->noutliers == 0) {
-        sturdy_buf_puts(&s, "no studentized residual beyond ±3.");
     } else {
-        for (size_t i = 0; i < g->noutliers && i < LIST_MAX; i++) {
-            char z[32];
-            tw_fmt_g(g->outliers[i].studentized, 3, z);
-            sturdy_buf_printf(&s, "%srow %zu (line %zu; ", i ? "; " : "", g->outliers[i].row,
-                              g->outliers[i].line);
-            sturdy_report_cell_label(w->r->design, g->outliers[i].cell, &s);
-            sturdy_buf_printf(&s, ") at %s", z);
+        if (g->noutliers == 0) {
+            sturdy_buf_puts(&s, "no row flagged");
+        } else {
+            sturdy_buf_printf(&s, "%zu row%s flagged: ", g->noutliers,
+                              g->noutliers == 1 ? "" : "s");
+            outlier_rows(w, g->outliers, g->noutliers, &s);
         }
-        if (g->noutliers > LIST_MAX)
-            sturdy_buf_printf(&s, "; and %zu more (see the JSON output)",
-                              g->noutliers - LIST_MAX);
-        sturdy_buf_printf(&s, ". → Check %s for recording errors; the resampling test leans "
-                          "on single rows less than the F-test does.",
-                          g->noutliers == 1 ? "this row" : "these rows");
+        sturdy_buf_printf(&s, " (rule: a row is flagged when %zu × its two-sided t-tail on "
+                          "%s df, the Bonferroni bound, is at most 0.05; Cook & Weisberg "
+                          "1982).", n, df);
+        if (g->noutliers)
+            sturdy_buf_printf(&s, " → Check %s for recording errors. The resampled p does "
+                              "not protect against such a row: it rearranges the same F.",
+                              g->noutliers == 1 ? "this row" : "these rows");
+        if (g->nlarge) {
+            sturdy_buf_puts(&s, " Largest residuals, beyond ±3 but not flagged (expected "
+                                "now and then in clean data): ");
+            outlier_rows(w, g->large, g->nlarge, &s);
+            sturdy_buf_puts(&s, ".");
+        }
     }
     tw_labelled(w, "outliers", s.data ? s.data : "");
     if (s.failed) w->b->failed = 1;
@@ -779,15 +809,28 @@ static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
     tw_fmt_g(tw_is_noise(g->excess_kurtosis, 1.0) ? 0.0 : g->excess_kurtosis, 3, x);
     sturdy_buf_printf(s, ", excess kurtosis %s.", x);
     /* Freedman–Lane keeps its level under non-normal errors of equal spread; with unequal
-     * spreads no rearrangement of F does, so the advice follows the spread check. */
+     * spreads no rearrangement of F does, and a gross error sways F and its
+     * rearrangements alike, so the advice follows the spread and outlier checks. */
     if (!isnan(g->sw_p))
         sturdy_buf_puts(s, !(g->sw_p < w->r->opts.alpha)
                                ? " → No clear sign of non-normal residuals."
                            : g->spread_differs
                                ? " → The residuals are not normal and the cell spreads differ; "
                                  "read the unequal-variance column."
+                           : g->noutliers && g->sw_p_rest < w->r->opts.alpha
+                               ? " → The residuals are not normal, even without the rows the "
+                                 "outlier test flags: the errors themselves are skewed or "
+                                 "heavy-tailed; rely on the resampling column, which keeps its "
+                                 "level under such errors of equal spread, and check the "
+                                 "flagged rows (below) all the same."
+                           : g->noutliers
+                               ? " → The residuals are not normal and the outlier test flags "
+                                 "rows (below); a gross error sways the resampled F as much as "
+                                 "the F-test, so check those rows before relying on either "
+                                 "column."
                                : " → The residuals are not normal; rely on the resampling "
-                                 "column.");
+                                 "column, which keeps its level under non-normal errors of "
+                                 "equal spread.");
     tw_labelled(w, "normality", s->data);
 }
 
@@ -837,6 +880,7 @@ static void checks(tw *w, const sturdy_response_result *rr)
     check_normality(w, &rr->diag, &s);
     check_spread(w, &rr->diag, &s);
     check_outliers(w, rr);
+    tw_sensitivity_check(w, rr);
     /* precision of the resampled p-values */
     s.len = 0;
     for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)

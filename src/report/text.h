@@ -64,6 +64,19 @@ void tw_footnotes(tw *w);
 int tw_untested_cause(tw *w);
 /* text_compare.c: the means and differences of the reported terms (nothing when none). */
 void tw_compare_section(tw *w, const sturdy_response_result *rr);
+/* text_sensitivity.c: the headline's lead when at most 2 rows decide a term
+ * (sensitivity.decisive), and the "single rows" line of a response's checks. */
+void tw_sensitivity_headline(tw *w);
+void tw_sensitivity_check(tw *w, const sturdy_response_result *rr);
+/* text_resistant.c: the resistant test's cell of the tests table ("—" with a footnote
+ * when absent), the line stating its tuning constant and scale, and the headline's lead
+ * when it disagrees with both other tests (rs.disagrees). */
+void tw_resistant_cell(tw *w, const sturdy_term_result *t, char *out);
+void tw_resistant_note(tw *w, const sturdy_response_result *rr);
+void tw_resistant_headline(tw *w);
+/* text_resistant.c: the headline's line on multiplicity: which p the verdicts use and how
+ * many terms stay significant after the family-wise adjustment (report/family.h). */
+void tw_family_line(tw *w, const char *alpha);
 /* run.c: the section "The run". */
 void tw_run_section(tw *w);
 

@@ -88,4 +88,15 @@ sturdy_status sturdy_sti_endpoints(const double *rows, size_t stride, uint64_t n
 sturdy_status sturdy_uv_run(const sturdy_run *run, const sturdy_design *d,
                             const sturdy_model *m, sturdy_result *r, char *err);
 
+/* The resistant test's resampling part (resistant_perm.c): adds to rs.exceed of every term
+ * with a resistant statistic over the rearrangement slice, with the run's rearrangements;
+ * notes why a term has no resampled p. Needs sturdy_rs_response's statistics. */
+sturdy_status sturdy_rs_run(const sturdy_run *run, const sturdy_design *d,
+                            const sturdy_model *m, sturdy_result *r, char *err);
+
+/* p_perm of the resistant test from its count in a finished run, and the headline rule
+ * (rs.disagrees; needs t's p and p_perm and resp's outlier flags). */
+void sturdy_rs_finish(const sturdy_result *r, const sturdy_response_result *resp,
+                      sturdy_term_result *t);
+
 #endif

@@ -1,0 +1,203 @@
+/* without.c — the resampling test of each term on the data without its deciding rows
+ * (sensitivity.p_perm_without): the greedy search of checks/influence.c finds the fewest
+ * rows whose removal changes a term's F-test conclusion; this file confirms that set with
+ * the run's own resampling test.
+ *
+ * "The same rearrangements" means the same generators: rearrangement b of the data without
+ * the rows is drawn from sturdy_pcg_for(seed, PERMUTE, b) (rearrange.h) for b in the run's
+ * slice, over the n − |S| rows left (within their blocks; sign flips likewise), with the
+ * run's method. So every split of the run — threads, shards, MPI ranks — counts the same
+ * exceedances and adds them like the main counts (sturdy_slice.exceed_without); merge and
+ * a single run give the same bits. When the run enumerated every rearrangement of all n
+ * rows, the data without the rows have other rearrangements and the test is not run.
+ *
+ * The data without the rows are built the plain way: the rows are marked missing in the
+ * response columns of a shallow copy of the table and the design, the model and the
+ * classical table are rebuilt (the refitted F must equal the deletion formula's, which the
+ * tests check). Terms whose sets are the same rows share one pass. Cost: one rearrangement
+ * pass per distinct set over the run's slice, each about the cost of the main pass for one
+ * term (README states it measured). */
+#include <math.h>
+#include <string.h>
+
+#include "analysis/without.h"
+#include "classical/classical.h"
+#include "core/core.h"
+#include "input/table_layout.h"
+#include "resampling/resampling.h"
+
+/* Are the sets of terms a and b the same rows (in any order)? */
+static int same_set(const sturdy_sensitivity *a, const sturdy_sensitivity *b)
+{
+    if (a->nrows != b->nrows) return 0;
+    for (size_t i = 0; i < a->nrows; i++) {
+        int found = 0;
+        for (size_t j = 0; j < b->nrows; j++) found |= a->rows[i].row == b->rows[j].row;
+        if (!found) return 0;
+    }
+    return 1;
+}
+
+/* A shallow copy of t whose response columns mark the set's rows missing; *masks holds
+ * the new flag arrays (nresp, owned by the caller with the copy's cols). */
+static sturdy_status masked_table(const sturdy_table *t, const sturdy_design *d,
+                                  const sturdy_sensitivity *sv, sturdy_table *out,
+                                  unsigned char **masks, char *err)
+{
+    *out = *t;
+    out->cols = sturdy_malloc(t->ncols * sizeof *out->cols);
+    if (!out->cols) return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    memcpy(out->cols, t->cols, t->ncols * sizeof *out->cols);
+    for (size_t ri = 0; ri < d->nresp; ri++) {
+        size_t c = 0;
+        while (c < t->ncols && strcmp(t->cols[c].name, d->resp_names[ri])) c++;
+        if (c == t->ncols)
+            return sturdy_fail(err, STURDY_EINTERNAL, "response column '%s' not in the table",
+                               d->resp_names[ri]);
+        if (!(masks[ri] = sturdy_malloc(t->nrows ? t->nrows : 1)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        memcpy(masks[ri], out->cols[c].missing, t->nrows);
+        for (size_t j = 0; j < sv->nrows; j++) masks[ri][sv->rows[j].row - 1] = 1;
+        out->cols[c].missing = masks[ri];
+    }
+    return STURDY_OK;
+}
+
+/* One distinct set: the terms in `members` (flags over nresp × nterms) share it. */
+static sturdy_status run_set(const sturdy_table *t, const sturdy_run *run, sturdy_result *r,
+                             const sturdy_sensitivity *sv, const unsigned char *members,
+                             char *err)
+{
+    const sturdy_design *d = r->design;
+    size_t nt = d->nterms;
+    sturdy_table tc;
+    unsigned char **masks = sturdy_calloc(d->nresp, sizeof *masks);
+    sturdy_result *w = sturdy_calloc(1, sizeof *w);
+    sturdy_model *m = NULL;
+    sturdy_status st = STURDY_OK;
+    memset(&tc, 0, sizeof tc);
+    if (!masks || !w) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    w->opts = run->opts;
+    if ((st = masked_table(t, d, sv, &tc, masks, err))) goto done;
+    /* a design that fails or differs in shape is "no test"; out of memory is a failure */
+    char msg[STURDY_ERR_LEN];
+    sturdy_status bst = sturdy_design_build(&tc, &run->opts.model, &w->design, msg);
+    if (!bst) bst = sturdy_model_build(w->design, run->opts.ss_type, &m, msg);
+    if (bst == STURDY_EINTERNAL) {
+        st = sturdy_fail(err, bst, "%s", msg);
+        goto done;
+    }
+    int usable = !bst && w->design->n + sv->nrows == d->n && w->design->nterms == nt;
+    if (usable) {
+        w->nresp = d->nresp;
+        if (!(w->resp = sturdy_calloc(d->nresp, sizeof *w->resp))) {
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            goto done;
+        }
+        for (size_t ri = 0; ri < d->nresp && !st; ri++)
+            st = sturdy_anova_response(w->design, m, ri, run->opts.conf, run->threads,
+                                       &w->resp[ri], err);
+        if (st) goto done;
+        /* only the set's terms are members of the pass (permute.c skips a term without F) */
+        for (size_t ri = 0; ri < d->nresp; ri++)
+            for (size_t k = 0; k < nt; k++) {
+                sturdy_term_result *wt = &w->resp[ri].terms[k];
+                sturdy_sensitivity *tsv = &r->resp[ri].terms[k].sens;
+                if (!members[ri * nt + k]) {
+                    wt->f = NAN;
+                    continue;
+                }
+                tsv->f_refit = wt->f;
+                /* a term the run does not resample (the block term, rearranged within
+                   blocks; permute.c notes why) has no resampled p without the rows either */
+                int tested = wt->f >= 0 && !r->resp[ri].terms[k].perm_note;
+                tsv->perm_state = tested ? STURDY_SENS_PERM_DONE : STURDY_SENS_PERM_NO_TEST;
+                if (!tested) wt->f = NAN;
+            }
+        sturdy_run sub = *run;
+        sub.exact = 0;               /* drawn from the run's streams, never enumerated */
+        sub.progress = NULL;
+        if (run->perm_end > run->perm_begin &&
+            (st = sturdy_permute_run(&sub, w->design, m, w, err)))
+            goto done;
+        for (size_t ri = 0; ri < d->nresp; ri++)
+            for (size_t k = 0; k < nt; k++)
+                if (members[ri * nt + k] &&
+                    r->resp[ri].terms[k].sens.perm_state == STURDY_SENS_PERM_DONE)
+                    r->resp[ri].terms[k].sens.exceed_without += w->resp[ri].terms[k].exceed;
+    } else {
+        for (size_t j = 0; j < d->nresp * nt; j++)
+            if (members[j]) r->resp[j / nt].terms[j % nt].sens.perm_state =
+                                STURDY_SENS_PERM_NO_TEST;
+    }
+done:
+    sturdy_model_free(m);
+    sturdy_result_free(w);
+    for (size_t ri = 0; masks && ri < d->nresp; ri++) sturdy_free(masks[ri]);
+    sturdy_free(masks);
+    sturdy_free(tc.cols);
+    return st;
+}
+
+sturdy_status sturdy_without_run(const sturdy_table *t, const sturdy_run *run,
+                                 sturdy_result *r, char *err)
+{
+    const sturdy_design *d = r->design;
+    size_t nt = d->nterms, total = d->nresp * nt;
+    unsigned char *done = sturdy_calloc(total + 1, 1), *members = sturdy_calloc(total + 1, 1);
+    sturdy_status st = STURDY_OK;
+    if (!done || !members) st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t j = 0; j < total && !st; j++) {
+        sturdy_sensitivity *sv = &r->resp[j / nt].terms[j % nt].sens;
+        if (done[j] || !sv->searched || sv->nrows == 0) continue;
+        if (run->nperm == 0 || run->exact) {
+            sv->perm_state = run->nperm == 0 ? STURDY_SENS_PERM_NO_REARRANGEMENTS
+                                             : STURDY_SENS_PERM_EXACT;
+            continue;
+        }
+        memset(members, 0, total);
+        for (size_t q = j; q < total; q++) {
+            const sturdy_sensitivity *o = &r->resp[q / nt].terms[q % nt].sens;
+            if (!done[q] && o->searched && o->nrows && same_set(sv, o))
+                members[q] = done[q] = 1;
+        }
+        st = run_set(t, run, r, sv, members, err);
+    }
+    sturdy_free(done);
+    sturdy_free(members);
+    return st;
+}
+
+void sturdy_without_finish(sturdy_result *r)
+{
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t k = 0; k < r->resp[ri].nterms; k++) {
+            sturdy_sensitivity *sv = &r->resp[ri].terms[k].sens;
+            sv->p_perm_without = sv->perm_state == STURDY_SENS_PERM_DONE
+                                     ? (1.0 + (double)sv->exceed_without) /
+                                           (1.0 + (double)r->nperm)
+                                     : NAN;
+        }
+}
+
+const char *sturdy_without_note(int state)
+{
+    switch (state) {
+    case STURDY_SENS_PERM_DONE:
+        return "p_perm_without: the run's resampling test (the same generators for "
+               "rearrangement b) on the data without the rows";
+    case STURDY_SENS_PERM_NO_REARRANGEMENTS:
+        return "p_perm_without is null: the run has no rearrangements";
+    case STURDY_SENS_PERM_EXACT:
+        return "p_perm_without is null: the run enumerated every rearrangement of all rows, "
+               "and the data without the rows have other rearrangements";
+    case STURDY_SENS_PERM_NO_TEST:
+        return "p_perm_without is null: the term has no resampling test (the block term "
+               "under rearrangements within blocks), or none without the rows";
+    default:
+        return NULL;
+    }
+}
