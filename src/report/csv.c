@@ -80,7 +80,8 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
     csv_num(b, ms);
     for (size_t i = 0; i < tail; i++) {
         sturdy_buf_put(b, ",", 1);
-        if (i + 1 == tail - 12 && note) csv_text(b, note);   /* 12 uv columns follow */
+        /* 12 unequal-variance and 11 single-row and resistant columns follow the note */
+        if (i + 1 == tail - 23 && note) csv_text(b, note);
     }
     sturdy_buf_put(b, "\n", 1);
 }
