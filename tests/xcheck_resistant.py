@@ -47,7 +47,9 @@ except ImportError as exc:
 BIN = os.environ.get("STURDY_BIN", "./sturdy")
 BUILD = os.environ.get("STURDY_BUILD", "build")
 PROBE = os.path.join(BUILD, "tests", "probe_huber")
-NCAL = int(os.environ.get("STURDY_CALIB_N", "60" if QUICK else "120"))
+# the same 120 datasets in the sanitizer run: at 60, the several cases × terms each
+# checked against a 99% band make a chance excursion likely (one did: 9 of 60)
+NCAL = int(os.environ.get("STURDY_CALIB_N", "120"))
 HUBER_C = 1.345
 
 
