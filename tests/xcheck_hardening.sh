@@ -71,5 +71,71 @@ rc=$?
     ok "--max-columns 3: exit 4, message, no output, no leak" ||
     bad "--max-columns guard: exit $rc, $(head -c 300 err)"
 
+# 11. a signal while the output's temporary file exists removes it and ends the run by
+# that signal; 7. a second batch on a folder in use refuses to start and leaves the
+# first one's files alone. fsync is made slow (a preloaded shim that sleeps in its
+# first call) so that the signal, or the second batch, comes while FILE.tmp.XXXXXX is
+# complete and not yet renamed.
+cat > slow.c <<'C'
+#define _GNU_SOURCE
+#include <stdlib.h>
+#include <sys/syscall.h>
+#include <unistd.h>
+int fsync(int fd)
+{
+    static int calls;
+    const char *s = getenv("SLOW_FSYNC");
+    if (s && !calls++) sleep((unsigned)atoi(s));    /* the first call only */
+    return (int)syscall(SYS_fsync, fd);
+}
+C
+CC=${CC:-cc}
+if "$CC" -shared -fPIC -o slow.so slow.c 2>/dev/null; then
+    # the ASan build accepts a shim loaded before its runtime with this option
+    export ASAN_OPTIONS="${ASAN_OPTIONS:+$ASAN_OPTIONS:}verify_asan_link_order=0"
+    # wait_tmp PATTERN: up to 20 s for a temporary file to appear
+    wait_tmp() { for _ in $(seq 200); do ls $1 >/dev/null 2>&1 && return 0; sleep 0.1; done; return 1; }
+    for sig in TERM HUP; do
+        rm -f sig.json sig.json.tmp.*
+        SLOW_FSYNC=30 LD_PRELOAD="$T/slow.so" "$S" check d.csv "${Q[@]}" --format json \
+            -o sig.json 2>err &
+        pid=$!
+        wait_tmp 'sig.json.tmp.*'; seen=$?
+        kill -$sig $pid; { wait $pid; } 2>/dev/null; rc=$?
+        want=$((128 + $(kill -l $sig)))
+        [ $seen = 0 ] && [ $rc = $want ] && [ -z "$(ls | grep 'sig\.json')" ] &&
+            ok "SIG$sig during the write of -o: exit $rc, no sig.json.tmp.* left, no sig.json" ||
+            bad "SIG$sig during -o: temp seen $seen, exit $rc (want $want), left: $(ls | grep sig)"
+    done
+    # the same inside a batch: the result's temporary file goes with the run
+    printf 'name,data,response,factors,permutations,bootstrap\none,d.csv,build_min,runner,99,0\n' \
+        > sigplan.csv
+    SLOW_FSYNC=30 LD_PRELOAD="$T/slow.so" "$S" batch sigplan.csv -q -o sigdir 2>err &
+    pid=$!
+    wait_tmp 'sigdir/one.json.tmp.*'; seen=$?
+    kill -TERM $pid; wait $pid; rc=$?
+    [ $seen = 0 ] && [ $rc = 143 ] && [ -z "$(ls sigdir | grep -e '\.tmp\.' -e '^one')" ] &&
+        ok "SIGTERM during a batch's write: exit 143, no temporary file left in the folder" ||
+        bad "SIGTERM during batch: temp seen $seen, exit $rc, left: $(ls sigdir)"
+    # 7. the folder's lock: the second batch refuses (exit 5, the holder named) while the
+    # first is writing, removes nothing of it, and the first ends well
+    SLOW_FSYNC=4 LD_PRELOAD="$T/slow.so" "$S" batch sigplan.csv -q -o lockdir 2>err1 &
+    pid=$!
+    wait_tmp 'lockdir/one.json.tmp.*'; seen=$?
+    "$S" batch sigplan.csv -q -o lockdir 2>err2; rc2=$?
+    live=$(ls lockdir | grep -c 'one\.json\.tmp\.')
+    wait $pid; rc1=$?
+    [ $seen = 0 ] && [ $rc2 = 5 ] && grep -q "is in use by another batch (process $pid)" err2 &&
+        [ "$live" = 1 ] && [ $rc1 = 0 ] && [ -s lockdir/one.json ] &&
+        grep -q '^one,ok,0' lockdir/summary.csv &&
+        ok "a second batch on a folder in use: exit 5, names process $pid; the first's live temporary file stays and its run ends ok" ||
+        bad "folder lock: temp seen $seen, second exit $rc2 ($(head -c 200 err2)), live temps $live, first exit $rc1 ($(head -c 200 err1))"
+    "$S" batch sigplan.csv -q -o lockdir --resume 2>err2; rc2=$?
+    [ $rc2 = 0 ] && ok "the lock ends with the batch: the next one runs (exit 0)" ||
+        bad "after the first batch: exit $rc2, $(head -c 200 err2)"
+else
+    echo "skip signal and lock checks: no C compiler for the fsync shim"
+fi
+
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]

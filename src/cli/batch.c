@@ -8,12 +8,14 @@
  * writing the summary live in batch_results.c. */
 #include <dirent.h>
 #include <errno.h>
+#include <fcntl.h>
 #include <getopt.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
+#include <sys/file.h>
 #include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
@@ -27,6 +29,8 @@
 #define BATCH_NAME_MAX 200
 /* mkstemp's suffix after "NAME.json.tmp.": six letters or digits. */
 #define TMP_RANDOM_LEN 6
+/* The lock file inside a results folder (a hidden name no plan name can take). */
+#define LOCK_NAME ".sturdy-batch.lock"
 
 static const char batch_help[] =
 "Usage: sturdy batch PLAN.csv [-o DIR] [--resume] [--compare OLD_DIR] [--threads N]\n"
@@ -71,8 +75,13 @@ static const char batch_help[] =
 "or resampling-only; changed: verdicts that differ from OLD_DIR). summary.txt says the\n"
 "same in words and lists the verdict changes.\n"
 "\n"
+"One batch at a time per folder: a batch locks DIR (flock on DIR/.sturdy-batch.lock)\n"
+"and a second batch on the same folder refuses to start (exit 5) and names the first's\n"
+"process. Ctrl-C, SIGTERM and SIGHUP remove the temporary file being written.\n"
+"\n"
 "Exit status: 0 all done, 2 usage error, 3 plan error (nothing run), 5 a result or the\n"
-"summary could not be written, 6 some analyses failed and the others completed.\n";
+"summary could not be written, or DIR is in use by another batch, 6 some analyses\n"
+"failed and the others completed.\n";
 
 static const char *const required_cols[] = { "name", "data", "response", "factors" };
 enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
@@ -88,6 +97,7 @@ static const char *const batch_cols[] = { "threads", "shard", "format", "output"
 typedef struct {
     const char *plan_path, *dir, *old_dir, *threads;
     int resume, quiet, lead;     /* lead: this process writes and talks (MPI rank 0) */
+    int lock_fd;                 /* the folder's lock, held until the batch ends, or -1 */
     char *plan_dir;              /* folder of the plan, or NULL when it has no '/' */
     sturdy_table *plan;
     long req[NREQUIRED];         /* plan columns of the required fields */
@@ -580,6 +590,53 @@ static int make_dir(const char *dir)
     return STURDY_EOUTPUT;
 }
 
+/* Take the folder's advisory lock (flock on DIR/.sturdy-batch.lock, held until the
+ * process ends), so that a second batch on the same folder refuses to start instead of
+ * removing the first one's live temporary files as stale or overwriting its results.
+ * Returns 0, or STURDY_EOUTPUT after a message. A file system without flock (some
+ * network mounts) runs the batch unlocked, with a warning. */
+static int lock_dir(batch *b)
+{
+    char *path = cli_str_cat3(b->dir, "/", LOCK_NAME);
+    int fd = path ? open(path, O_RDWR | O_CREAT | O_CLOEXEC, 0666) : -1;
+    if (fd < 0) {
+        fprintf(stderr, "sturdy: cannot create the lock file '%s': %s (nothing was run)\n",
+                path ? path : LOCK_NAME, path ? strerror(errno) : "out of memory");
+        free(path);
+        return STURDY_EOUTPUT;
+    }
+    if (flock(fd, LOCK_EX | LOCK_NB) != 0) {
+        int err = errno;
+        if (err != EWOULDBLOCK) {
+            fprintf(stderr, "sturdy: warning: cannot lock '%s' (%s); running without a "
+                            "lock: do not start another batch on this folder meanwhile\n",
+                    path, strerror(err));
+            close(fd);
+            free(path);
+            return 0;
+        }
+        char pid[32] = "";
+        ssize_t n = read(fd, pid, sizeof pid - 1);
+        pid[n > 0 ? n : 0] = '\0';
+        pid[strspn(pid, "0123456789")] = '\0';
+        fprintf(stderr, "sturdy: the results folder '%s' is in use by another batch%s%s%s; "
+                        "wait for it to end or give another folder with -o (nothing was "
+                        "run)\n", b->dir, pid[0] ? " (process " : "", pid, pid[0] ? ")" : "");
+        close(fd);
+        free(path);
+        return STURDY_EOUTPUT;
+    }
+    /* the holder's process id, for the message above (the lock itself is the flock) */
+    char pid[32];
+    int len = snprintf(pid, sizeof pid, "%ld\n", (long)getpid());
+    if (ftruncate(fd, 0) != 0 || pwrite(fd, pid, (size_t)len, 0) != len) {
+        /* the message then names no process; the lock holds all the same */
+    }
+    free(path);
+    b->lock_fd = fd;
+    return 0;
+}
+
 static int run_batch(batch *b)
 {
     int rc = plan_load(b);
@@ -589,7 +646,9 @@ static int run_batch(batch *b)
                                                 : (size_t)(slash - b->plan_path))))
         return STURDY_EINTERNAL;
     if ((rc = make_dir(b->dir))) return rc;
-    if (b->lead) remove_stale(b);
+    /* only the lead rank writes, so only it locks; every rank stops if it cannot */
+    if ((rc = cli_mpi_agree(b->lead ? lock_dir(b) : 0))) return rc;
+    if (b->lead) remove_stale(b);    /* under the lock: no other batch's files are live */
     size_t n = sturdy_table_nrows(b->plan);
     cli_batch_outcome *oc = calloc(n, sizeof *oc);
     if (!oc) return STURDY_EINTERNAL;
@@ -635,6 +694,7 @@ int sturdy_cli_batch(int argc, char **argv)
         { NULL, 0, NULL, 0 }
     };
     batch b = { 0 };
+    b.lock_fd = -1;
     b.lead = cli_mpi_rank() == 0;
     int opt;
     uint64_t u;
@@ -673,6 +733,7 @@ int sturdy_cli_batch(int argc, char **argv)
     char *dir = NULL;
     if (!b.dir && !(b.dir = dir = default_dir(b.plan_path))) return STURDY_EINTERNAL;
     int rc = run_batch(&b);
+    if (b.lock_fd >= 0) close(b.lock_fd);   /* releases the lock; the file stays */
     sturdy_table_free(b.plan);
     free(b.plan_dir);
     free(dir);

@@ -86,6 +86,9 @@ void cli_mpi_finalize(void);
 int cli_mpi_rank(void);
 int cli_mpi_size(void);
 sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err);
+/* The largest of every rank's rc (a collective call: every rank makes it), so that a
+ * step only rank 0 takes can stop all ranks together. */
+int cli_mpi_agree(int rc);
 
 /* Print "sturdy: <message>" and "try 'sturdy <command> --help'" to stderr, the message
  * with the options it concerns named (cli_option_hints); returns 2. */
@@ -119,6 +122,12 @@ void cli_list_free(cli_list *l);
  * through a link, are written in place. Returns 0, or STURDY_EOUTPUT after printing a
  * message naming the file. */
 int cli_write_output(const char *path, const char *data, size_t len);
+
+/* Install handlers for SIGINT, SIGTERM and SIGHUP (those not ignored) that remove the
+ * temporary file cli_write_output is writing, if any, and then end the process by the
+ * same signal. SIGKILL cannot be caught: it may leave a PATH.tmp.XXXXXX (never a partial
+ * PATH). output.c. */
+void cli_cleanup_on_signals(void);
 
 /* 1 when paths a and b name the same existing file (device and inode), else 0. */
 int cli_same_file(const char *a, const char *b);
