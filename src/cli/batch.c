@@ -42,8 +42,9 @@ static const char batch_help[] =
 "\n"
 "  -o, --output DIR       results folder (default: the plan's name without .csv, plus\n"
 "                         '.results', beside the plan); created when missing\n"
-"      --resume           keep results already in DIR that match their plan row (same\n"
-"                         data file, settings and responses, not older than the data)\n"
+"      --resume           keep results already in DIR that match their plan row: the\n"
+"                         data file's bytes, every setting and the program version as\n"
+"                         when the result was written (DIR/.NAME.key); dates are not used\n"
 "      --compare OLD_DIR  list every term whose verdict differs from OLD_DIR/NAME.json\n"
 "      --threads N        threads for each analysis (default 0 = all cores)\n"
 "  -q, --quiet            no work estimates or rates on standard error\n"
@@ -414,10 +415,12 @@ static void announce_row(const batch *b, size_t i, const char *name, const cli_c
     fputs(" ...\n", stderr);
 }
 
-/* Write r as the row's result file out_path (complete or not at all) and read it back
- * into *doc. Returns 0 or an exit status with msg (STURDY_ERR_LEN bytes). */
+/* Write r as the row's result file out_path (complete or not at all), after its key
+ * file key_path, and read it back into *doc. Returns 0 or an exit status with msg
+ * (STURDY_ERR_LEN bytes). */
 static int write_result(const cli_check *c, const sturdy_result *r, const char *out_path,
-                        totals *tot, sturdy_result **doc, char *msg)
+                        const char *key_path, const cli_batch_key *key, totals *tot,
+                        sturdy_result **doc, char *msg)
 {
     int rc;
     sturdy_buf out;
@@ -426,10 +429,17 @@ static int write_result(const cli_check *c, const sturdy_result *r, const char *
         rc = STURDY_EINTERNAL;
         snprintf(msg, STURDY_ERR_LEN, "out of memory while writing the result");
     } else {
+        /* The key goes first: it names the new result's digest, so whatever an
+         * interruption leaves (the old result or none beside the new key) does not
+         * match it and is computed again. Without a key (the data could not be read for
+         * it) the result is written and a later --resume computes it again. */
+        char *kt = cli_batch_key_text(key, out.data, out.len);
         capture cp;
         capture_begin(&cp);
-        rc = cli_write_output(out_path, out.data, out.len);
+        rc = kt ? cli_write_output(key_path, kt, strlen(kt)) : (unlink(key_path), 0);
+        if (!rc) rc = cli_write_output(out_path, out.data, out.len);
         capture_end(&cp, msg, STURDY_ERR_LEN);
+        free(kt);
         if (rc) tot->eoutput = 1;
     }
     if (!rc && sturdy_result_read_json(out_path, out.data, out.len, doc, NULL)) {
@@ -443,14 +453,15 @@ static int write_result(const cli_check *c, const sturdy_result *r, const char *
 /* Compute row i and, on the lead rank, write its result (*doc: the result read back);
  * counts it in tot. Returns 0 or an exit status with msg (STURDY_ERR_LEN bytes). */
 static int compute_row(const batch *b, size_t i, const char *name, cli_check *c,
-                       const char *out_path, totals *tot, sturdy_result **doc, char *msg)
+                       const char *out_path, const char *key_path, const cli_batch_key *key,
+                       totals *tot, sturdy_result **doc, char *msg)
 {
     sturdy_result *r = NULL;
     double t0 = cli_now();
     int rc = cli_check_compute(c, &r, msg);
     double seconds = cli_now() - t0;
     if (!rc && b->lead)          /* under MPI only rank 0 holds the finished result */
-        rc = write_result(c, r, out_path, tot, doc, msg);
+        rc = write_result(c, r, out_path, key_path, key, tot, doc, msg);
     if (!rc) {
         sturdy_run_info info;
         sturdy_result_info(r, &info);
@@ -506,6 +517,8 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     cli_check c;
     int parsed = 0;
     char *out_path = str_printf("%s/%s.json", b->dir, name);
+    char *key_path = str_printf("%s/.%s.key", b->dir, name);
+    cli_batch_key key = { .ok = 0 };
     char *data_path = b->plan_dir && data[0] != '/' ? cli_str_cat3(b->plan_dir, "/", data)
                                                     : NULL;
     sturdy_result *doc = NULL, *old = NULL;
@@ -513,19 +526,22 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
     if (old_path) old = cli_batch_read_result(old_path);
     free(old_path);
-    int rc = out_path && (data_path || !b->plan_dir || data[0] == '/') ? 0 : STURDY_EINTERNAL;
+    int rc = out_path && key_path && (data_path || !b->plan_dir || data[0] == '/')
+             ? 0 : STURDY_EINTERNAL;
     /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
     if (rc) snprintf(msg, sizeof msg, "out of memory");
     if (!rc) rc = parse_row(b, i, &a, &c, &parsed, data_path, msg);
-    if (!rc && b->resume &&
-        (doc = cli_batch_resumable(&c, out_path, data_path ? data_path : c.data))) {
+    /* the data's digest is taken before the analysis reads them: data changed in
+     * between give a key that does not match, never a stale result that does */
+    if (!rc) cli_batch_key_make(&key, a.v, a.n, data_path ? data_path : c.data);
+    if (!rc && b->resume && (doc = cli_batch_resumable(&key, out_path, key_path))) {
         tot->resumed++;
         if (!b->quiet && b->lead)
             fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
                     sturdy_table_nrows(b->plan), name);
     } else if (!rc) {
         if (!b->quiet && b->lead) announce_row(b, i, name, &c, data_path);
-        rc = compute_row(b, i, name, &c, out_path, tot, &doc, msg);
+        rc = compute_row(b, i, name, &c, out_path, key_path, &key, tot, &doc, msg);
     }
     finish_row(b, name, rc, msg, data_path, data, doc, old, tot, oc);
     sturdy_result_free(doc);
@@ -533,13 +549,14 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     if (parsed) cli_check_free(&c);
     arg_free(&a);
     free(out_path);
+    free(key_path);
     free(data_path);
 }
 
 /* --- results folder and summary ------------------------------------------------- */
 
-/* Remove "NAME.json.tmp.XXXXXX" (and the summaries' temporaries) left by a run that was
- * interrupted between creating and renaming them. */
+/* Remove "NAME.json.tmp.XXXXXX", ".NAME.key.tmp.XXXXXX" (and the summaries'
+ * temporaries) left by a run that was killed between creating and renaming them. */
 static void remove_stale(const batch *b)
 {
     DIR *d = opendir(b->dir);
@@ -554,8 +571,10 @@ static void remove_stale(const batch *b)
                                   !strncmp(n, "summary.txt", 11));
         for (size_t i = 0; !ours && stem > 5 && i < sturdy_table_nrows(b->plan); i++) {
             const char *name = cell(b, b->req[COL_NAME], i);
-            ours = strlen(name) == stem - 5 && !strncmp(n, name, stem - 5) &&
-                   !strncmp(n + stem - 5, ".json", 5);
+            size_t nl = strlen(name);
+            ours = (nl == stem - 5 && !strncmp(n, name, nl) && !strncmp(n + nl, ".json", 5)) ||
+                   (nl == stem - 5 && n[0] == '.' && !strncmp(n + 1, name, nl) &&
+                    !strncmp(n + 1 + nl, ".key", 4));
         }
         if (!ours) continue;
         char *path = cli_str_cat3(b->dir, "/", n);

@@ -136,6 +136,20 @@ int cli_same_file(const char *a, const char *b);
  * *len; NULL when it cannot be read. */
 char *cli_read_file(const char *path, size_t *len);
 
+/* SHA-256 (digest.c): init, add bytes, then the 64 hex digits and a NUL. */
+#define CLI_SHA256_HEX 65
+typedef struct {
+    uint32_t h[8];
+    uint64_t len;
+    unsigned char block[64];
+    size_t fill;
+} cli_sha256;
+void cli_sha256_init(cli_sha256 *s);
+void cli_sha256_add(cli_sha256 *s, const void *data, size_t len);
+void cli_sha256_hex(cli_sha256 *s, char hex[CLI_SHA256_HEX]);
+/* The SHA-256 of the file's bytes; 0, or -1 when it cannot be read. */
+int cli_sha256_file(const char *path, char hex[CLI_SHA256_HEX]);
+
 /* Monotonic clock in seconds, for rates and progress. */
 double cli_now(void);
 
@@ -172,11 +186,25 @@ typedef struct {
  * result. */
 sturdy_result *cli_batch_read_result(const char *path);
 
-/* The result at out_path when the parsed check `c` would reproduce it: same data file
- * (data_path, not changed since), settings, responses and model terms. Returns the
- * result read back (sturdy_result_free) or NULL. */
-sturdy_result *cli_batch_resumable(const cli_check *c, const char *out_path,
-                                   const char *data_path);
+/* What a batch result depends on (batch_results.c): digests of the program's version
+ * and the row's `check` arguments (--threads left out), and of the data file's bytes
+ * (ok = 0 when it could not be read). */
+typedef struct {
+    char settings[CLI_SHA256_HEX], data[CLI_SHA256_HEX];
+    int ok;
+} cli_batch_key;
+int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file);
+
+/* The text of the key file DIR/.NAME.key for a result of these bytes (the two digests
+ * above and the result's own), malloc-ed; NULL when the data could not be read or memory
+ * ran out. */
+char *cli_batch_key_text(const cli_batch_key *k, const char *result, size_t len);
+
+/* The result at out_path when its key file says it was computed from this key (same
+ * version, arguments and data bytes) and the result's bytes are those the key names.
+ * Returns the result read back (sturdy_result_free) or NULL. */
+sturdy_result *cli_batch_resumable(const cli_batch_key *k, const char *out_path,
+                                   const char *key_path);
 
 /* Adds the result's terms, tested terms and classical/resampling disagreements to oc.
  * A result with no tested term makes the row "untested": exit_code STURDY_EMODEL and a
