@@ -158,16 +158,20 @@ static int plan_error(const batch *b, size_t line, long col, const char *fmt, ..
     __attribute__((format(printf, 4, 5)));
 static int plan_error(const batch *b, size_t line, long col, const char *fmt, ...)
 {
+    char what[STURDY_ERR_LEN];
     va_list ap;
-    fprintf(stderr, "sturdy: %s: line %zu", b->plan_path, line);
-    if (col >= 0)
-        fprintf(stderr, ", column %ld ('%s')", col + 1,
-                sturdy_table_column(b->plan, (size_t)col));
-    fputs(": ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    vsnprintf(what, sizeof what, fmt, ap);
     va_end(ap);
-    fputs("\nnothing was run\n", stderr);
+    /* the plan's fields and headers are data: escaped before they reach the terminal */
+    char *sp = cli_escaped(b->plan_path), *sw = cli_escaped(what);
+    char *sc = col >= 0 ? cli_escaped(sturdy_table_column(b->plan, (size_t)col)) : NULL;
+    fprintf(stderr, "sturdy: %s: line %zu", sp ? sp : "?", line);
+    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, sc ? sc : "?");
+    fprintf(stderr, ": %s\nnothing was run\n", sw ? sw : "out of memory");
+    free(sp);
+    free(sw);
+    free(sc);
     return STURDY_EDATA;
 }
 
@@ -214,7 +218,9 @@ static int plan_load(batch *b)
     to.missing = nothing_missing;   /* every field as written; empty = not given */
     to.nmissing = 0;
     if (sturdy_table_load(b->plan_path, &to, &b->plan, err)) {
-        fprintf(stderr, "sturdy: %s\nnothing was run\n", err);
+        char *safe = cli_escaped(err);
+        fprintf(stderr, "sturdy: %s\nnothing was run\n", safe ? safe : "out of memory");
+        free(safe);
         return STURDY_EDATA;
     }
     const sturdy_table *t = b->plan;
@@ -489,13 +495,16 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
 {
     oc->exit_code = rc;
     if (rc) {
+        /* the message goes to stderr and the summaries: escaped, as it may quote data */
         char *hinted = cli_option_hints(msg);
-        oc->message = plan_message(hinted ? hinted : msg, data_path, data);
+        char *shown = plan_message(hinted ? hinted : msg, data_path, data);
         free(hinted);
+        oc->message = cli_escaped(shown ? shown : msg);
+        free(shown);
         tot->failed++;
         if (b->lead)
             fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
-                    oc->message ? oc->message : msg);
+                    oc->message ? oc->message : "out of memory");
         return;
     }
     if (cli_batch_tally(doc, oc)) {

@@ -106,8 +106,11 @@ int cli_batch_tally(const sturdy_result *r, cli_batch_outcome *oc)
     if (oc->tested > 0) return 0;
     oc->exit_code = STURDY_EMODEL;
     free(oc->message);
-    oc->message = cli_str_cat3("none of the requested terms could be tested: ",
-                               why ? why : "no term has an F-test", "");
+    char *safe = cli_escaped(why ? why : "no term has an F-test");   /* may quote data */
+    oc->message = safe ? cli_str_cat3("none of the requested terms could be tested: ", safe,
+                                      "")
+                       : NULL;
+    free(safe);
     return 1;
 }
 
@@ -145,8 +148,12 @@ static void diff_verdicts(const char *name, const sturdy_result *a, const sturdy
             if (!tn) continue;
             const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
             if (!strcmp(va, vb) || (skip_present && strcmp(vb, NO_SUCH_TERM))) continue;
-            sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name, rn, tn,
-                              a_is_new ? vb : va, a_is_new ? va : vb);
+            char *srn = cli_escaped(rn), *stn = cli_escaped(tn);   /* names from data */
+            sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name,
+                              srn ? srn : "?", stn ? stn : "?", a_is_new ? vb : va,
+                              a_is_new ? va : vb);
+            free(srn);
+            free(stn);
             oc->changed++;
         }
     }

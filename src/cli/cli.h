@@ -101,8 +101,17 @@ int cli_usage_error(const char *command, const char *fmt, ...)
 char *cli_option_hints(const char *msg);
 
 /* Print "sturdy: PREFIX MESSAGE" to stderr, the library message with its options named
- * (cli_option_hints); prefix may be NULL. hints.c. */
+ * (cli_option_hints) and escaped (cli_escaped); prefix may be NULL. hints.c. */
 void cli_print_error(const char *prefix, const char *msg);
+
+/* A copy of `text` safe to show on a terminal (the caller frees it; NULL when memory ran
+ * out): control characters (C0 and DEL) and bytes that are not UTF-8 as \xHH, the C1
+ * controls U+0080 to U+009F as \u00HH, everything else as it is. Every text that can
+ * hold data (level, factor, column and file names, plan fields, fields of parts,
+ * library messages quoting them) passes through it before it reaches standard error or
+ * a batch summary, so data cannot move the cursor, retitle the window or ring the
+ * bell. hints.c. */
+char *cli_escaped(const char *text);
 
 /* Strict parsers for option values: the whole text must be the number. Return 1 on
  * success. u64: decimal digits only (no sign, no blanks); double: finite. */

@@ -83,6 +83,8 @@ static int dispatch(int argc, char **argv)
         printf("sturdy %s\n", sturdy_version());
         return 0;
     }
-    fprintf(stderr, "sturdy: unknown command '%s'\ntry 'sturdy --help'\n", cmd);
+    char *safe = cli_escaped(cmd);
+    fprintf(stderr, "sturdy: unknown command '%s'\ntry 'sturdy --help'\n", safe ? safe : "?");
+    free(safe);
     return CLI_EXIT_USAGE;
 }
