@@ -145,7 +145,7 @@ int cli_same_file(const char *a, const char *b);
  * *len; NULL when it cannot be read. */
 char *cli_read_file(const char *path, size_t *len);
 
-/* SHA-256 (digest.c): init, add bytes, then the 64 hex digits and a NUL. */
+/* SHA-256 (sha256.c): init, add bytes, then the 64 hex digits and a NUL. */
 #define CLI_SHA256_HEX 65
 typedef struct {
     uint32_t h[8];

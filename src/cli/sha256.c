@@ -1,4 +1,4 @@
-/* digest.c — SHA-256 (FIPS 180-4), for the content keys with which `batch --resume`
+/* sha256.c — SHA-256 (FIPS 180-4), for the content keys with which `batch --resume`
  * decides that a result still matches its data and settings. Plain C, no library. */
 #include <stdio.h>
 #include <string.h>
