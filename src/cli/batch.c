@@ -6,16 +6,13 @@
  * and resumed analyses alike, so that an interrupted and resumed batch writes the same
  * summary bytes as an uninterrupted one. Reading results back (resume, --compare) and
  * writing the summary live in batch_results.c. */
-#include <dirent.h>
 #include <errno.h>
-#include <fcntl.h>
 #include <getopt.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
-#include <sys/file.h>
 #include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
@@ -27,10 +24,6 @@
 /* Longest analysis name: NAME.json.tmp.XXXXXX must stay under the usual 255-byte limit
  * of a file name. */
 #define BATCH_NAME_MAX 200
-/* mkstemp's suffix after "NAME.json.tmp.": six letters or digits. */
-#define TMP_RANDOM_LEN 6
-/* The lock file inside a results folder (a hidden name no plan name can take). */
-#define LOCK_NAME ".sturdy-batch.lock"
 
 static const char batch_help[] =
 "Usage: sturdy batch PLAN.csv [-o DIR] [--resume] [--compare OLD_DIR] [--threads N]\n"
@@ -562,107 +555,18 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     free(data_path);
 }
 
-/* --- results folder and summary ------------------------------------------------- */
+/* --- the run (the results folder: batch_dir.c) ----------------------------------- */
 
-/* Remove "NAME.json.tmp.XXXXXX", ".NAME.key.tmp.XXXXXX" (and the summaries'
- * temporaries) left by a run that was killed between creating and renaming them. */
+/* The temporary files a killed run left in the folder, for the plan's names. */
 static void remove_stale(const batch *b)
 {
-    DIR *d = opendir(b->dir);
-    struct dirent *e;
-    if (!d) return;
-    while ((e = readdir(d))) {
-        const char *n = e->d_name;
-        size_t len = strlen(n), suffix = sizeof ".tmp." - 1 + TMP_RANDOM_LEN;
-        if (len <= suffix || strncmp(n + len - suffix, ".tmp.", 5)) continue;
-        size_t stem = len - suffix;
-        int ours = stem == 11 && (!strncmp(n, "summary.csv", 11) ||
-                                  !strncmp(n, "summary.txt", 11));
-        for (size_t i = 0; !ours && stem > 5 && i < sturdy_table_nrows(b->plan); i++) {
-            const char *name = cell(b, b->req[COL_NAME], i);
-            size_t nl = strlen(name);
-            ours = (nl == stem - 5 && !strncmp(n, name, nl) && !strncmp(n + nl, ".json", 5)) ||
-                   (nl == stem - 5 && n[0] == '.' && !strncmp(n + 1, name, nl) &&
-                    !strncmp(n + 1 + nl, ".key", 4));
-        }
-        if (!ours) continue;
-        char *path = cli_str_cat3(b->dir, "/", n);
-        if (path && unlink(path) == 0 && !b->quiet)
-            fprintf(stderr, "sturdy: removed '%s', left by an interrupted run\n", path);
-        free(path);
-    }
-    closedir(d);
-}
-
-/* The default results folder: the plan's path without ".csv", plus ".results". */
-static char *default_dir(const char *plan)
-{
-    size_t n = strlen(plan);
-    const char *slash = strrchr(plan, '/');
-    size_t stem = n > 4 && !strcmp(plan + n - 4, ".csv") && (!slash || plan + n - 4 > slash + 1)
-                  ? n - 4 : n;
-    char *s = malloc(stem + sizeof ".results");
-    if (!s) return NULL;
-    memcpy(s, plan, stem);
-    memcpy(s + stem, ".results", sizeof ".results");
-    return s;
-}
-
-static int make_dir(const char *dir)
-{
-    struct stat sb;
-    if (mkdir(dir, 0777) == 0 || (errno == EEXIST && stat(dir, &sb) == 0 && S_ISDIR(sb.st_mode)))
-        return 0;
-    fprintf(stderr, "sturdy: cannot create the results folder '%s': %s\n", dir,
-            errno == EEXIST ? "a file of that name is in the way" : strerror(errno));
-    return STURDY_EOUTPUT;
-}
-
-/* Take the folder's advisory lock (flock on DIR/.sturdy-batch.lock, held until the
- * process ends), so that a second batch on the same folder refuses to start instead of
- * removing the first one's live temporary files as stale or overwriting its results.
- * Returns 0, or STURDY_EOUTPUT after a message. A file system without flock (some
- * network mounts) runs the batch unlocked, with a warning. */
-static int lock_dir(batch *b)
-{
-    char *path = cli_str_cat3(b->dir, "/", LOCK_NAME);
-    int fd = path ? open(path, O_RDWR | O_CREAT | O_CLOEXEC, 0666) : -1;
-    if (fd < 0) {
-        fprintf(stderr, "sturdy: cannot create the lock file '%s': %s (nothing was run)\n",
-                path ? path : LOCK_NAME, path ? strerror(errno) : "out of memory");
-        free(path);
-        return STURDY_EOUTPUT;
-    }
-    if (flock(fd, LOCK_EX | LOCK_NB) != 0) {
-        int err = errno;
-        if (err != EWOULDBLOCK) {
-            fprintf(stderr, "sturdy: warning: cannot lock '%s' (%s); running without a "
-                            "lock: do not start another batch on this folder meanwhile\n",
-                    path, strerror(err));
-            close(fd);
-            free(path);
-            return 0;
-        }
-        char pid[32] = "";
-        ssize_t n = read(fd, pid, sizeof pid - 1);
-        pid[n > 0 ? n : 0] = '\0';
-        pid[strspn(pid, "0123456789")] = '\0';
-        fprintf(stderr, "sturdy: the results folder '%s' is in use by another batch%s%s%s; "
-                        "wait for it to end or give another folder with -o (nothing was "
-                        "run)\n", b->dir, pid[0] ? " (process " : "", pid, pid[0] ? ")" : "");
-        close(fd);
-        free(path);
-        return STURDY_EOUTPUT;
-    }
-    /* the holder's process id, for the message above (the lock itself is the flock) */
-    char pid[32];
-    int len = snprintf(pid, sizeof pid, "%ld\n", (long)getpid());
-    if (ftruncate(fd, 0) != 0 || pwrite(fd, pid, (size_t)len, 0) != len) {
-        /* the message then names no process; the lock holds all the same */
-    }
-    free(path);
-    b->lock_fd = fd;
-    return 0;
+    size_t n = sturdy_table_nrows(b->plan);
+    const char **names = calloc(n + 1, sizeof *names);
+    if (!names) return;          /* nothing removed: they are harmless, and a later run
+                                    removes them */
+    for (size_t i = 0; i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
+    cli_batch_remove_stale(b->dir, names, n, b->quiet);
+    free(names);
 }
 
 static int run_batch(batch *b)
@@ -673,9 +577,9 @@ static int run_batch(batch *b)
     if (slash && !(b->plan_dir = strndup(b->plan_path, slash == b->plan_path ? 1
                                                 : (size_t)(slash - b->plan_path))))
         return STURDY_EINTERNAL;
-    if ((rc = make_dir(b->dir))) return rc;
+    if ((rc = cli_batch_make_dir(b->dir))) return rc;
     /* only the lead rank writes, so only it locks; every rank stops if it cannot */
-    if ((rc = cli_mpi_agree(b->lead ? lock_dir(b) : 0))) return rc;
+    if ((rc = cli_mpi_agree(b->lead ? cli_batch_lock(b->dir, &b->lock_fd) : 0))) return rc;
     if (b->lead) remove_stale(b);    /* under the lock: no other batch's files are live */
     size_t n = sturdy_table_nrows(b->plan);
     cli_batch_outcome *oc = calloc(n, sizeof *oc);
@@ -759,7 +663,7 @@ int sturdy_cli_batch(int argc, char **argv)
     if (argc - optind != 1) return cli_usage_error("batch", "name one plan file");
     b.plan_path = argv[optind];
     char *dir = NULL;
-    if (!b.dir && !(b.dir = dir = default_dir(b.plan_path))) return STURDY_EINTERNAL;
+    if (!b.dir && !(b.dir = dir = cli_batch_default_dir(b.plan_path))) return STURDY_EINTERNAL;
     int rc = run_batch(&b);
     if (b.lock_fd >= 0) close(b.lock_fd);   /* releases the lock; the file stays */
     sturdy_table_free(b.plan);

@@ -191,6 +191,21 @@ typedef struct {
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
 } cli_batch_outcome;
 
+/* The results folder (batch_dir.c). The default: the plan's path without ".csv", plus
+ * ".results" (malloc-ed; NULL when memory ran out). */
+char *cli_batch_default_dir(const char *plan);
+/* Create `dir` unless it is a folder already; 0, or STURDY_EOUTPUT after a message. */
+int cli_batch_make_dir(const char *dir);
+/* Take the advisory lock on dir/.sturdy-batch.lock (flock, not waiting) and record this
+ * process's id in it; *lock_fd gets the descriptor, whose closing (or the process's end)
+ * releases the lock. Returns 0, or STURDY_EOUTPUT after a message naming the holder when
+ * another process has it. A file system without flock: a warning, 0, *lock_fd left. */
+int cli_batch_lock(const char *dir, int *lock_fd);
+/* Remove the temporary files a killed run left in dir: NAME.json.tmp.XXXXXX and
+ * .NAME.key.tmp.XXXXXX of the n plan names, and the summaries'; each removal is
+ * reported on standard error unless quiet. Call it only under the lock. */
+void cli_batch_remove_stale(const char *dir, const char *const *names, size_t n, int quiet);
+
 /* A JSON result file read back (sturdy_result_free), or NULL when it is absent or not a
  * result. */
 sturdy_result *cli_batch_read_result(const char *path);
