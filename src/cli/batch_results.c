@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "cli.h"
 
@@ -50,7 +51,11 @@ int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char
         cli_sha256_add(&s, argv[i], strlen(argv[i]) + 1);
     }
     cli_sha256_hex(&s, k->settings);
-    k->ok = cli_sha256_file(data_file, k->data) == 0;
+    /* only a regular file: reading a pipe here would leave nothing for the analysis
+     * (such a row gets no key, so --resume always computes it again) */
+    struct stat sb;
+    k->ok = stat(data_file, &sb) == 0 && S_ISREG(sb.st_mode) &&
+            cli_sha256_file(data_file, k->data) == 0;
     return k->ok ? 0 : -1;
 }
 

@@ -212,7 +212,7 @@ sturdy_result *cli_batch_read_result(const char *path);
 
 /* What a batch result depends on (batch_results.c): digests of the program's version
  * and the row's `check` arguments (--threads left out), and of the data file's bytes
- * (ok = 0 when it could not be read). */
+ * (ok = 0 when it is not a regular file or could not be read). */
 typedef struct {
     char settings[CLI_SHA256_HEX], data[CLI_SHA256_HEX];
     int ok;
