@@ -2,7 +2,8 @@
 # xcheck_batch.sh — `sturdy batch`: a plan of analyses run in process, one result file
 # each, exit 6 when some fail; results complete or absent when the run is killed (-9) at
 # any moment, and a --resume run then gives every result and both summaries byte for byte
-# as an uninterrupted run; --compare lists exactly the terms whose verdict changed; plan
+# as an uninterrupted run; resume compares the data's bytes and the settings, never file
+# dates; --compare lists exactly the terms whose verdict changed; plan
 # errors stop everything (exit 3, no results folder).
 # References: the batch contract in the brief/README (exit codes, file names, resume
 # rules); the expected verdict changes follow from the construction of the data (an
@@ -171,6 +172,52 @@ check "resume: a row whose settings changed (bootstrap 200→300) is computed ag
     "$(grep -c ': kept ' "$T/d.err"):$(grep -c '^\[9/10\] exact: kept' "$T/d.err")" "7:0"
 check "the changed row's result has the new setting" \
     "$(grep -c '"bootstrap": 300,' "$T/C/exact.json")" 1
+
+# --- resume compares content, not dates (issue 15, items 3 and 12) ----------------
+# before.csv and after.csv differ (P shifted); a replacement dated in the past, as mv,
+# cp -p, rsync -t or untar leave it, must not keep the stale result, and a copy of the
+# same bytes with a new date must keep it. Settings the JSON does not record (missing
+# tokens) count as well, and a factor name that is not UTF-8 (which the JSON writer
+# shows as U+FFFD) does not make every resume compute again.
+mkdir -p "$T/R"
+cp "$T/data/before.csv" "$T/R/d.csv"
+printf 'name,data,response,factors,permutations,bootstrap,missing\nr,d.csv,z,"P,Q",999,0,\n' \
+    > "$T/R/plan.csv"
+"$BIN" batch "$T/R/plan.csv" -q; rc=$?
+cp "$T/R/plan.results/r.json" "$T/R/first.json"
+key_data=$(sed -n 's/^data //p' "$T/R/plan.results/.r.key")
+check "key file: exit 0, data digest = sha256sum of the data file" \
+    "$rc:$key_data" "0:$(sha256sum < "$T/R/d.csv" | cut -d' ' -f1)"
+cp "$T/data/after.csv" "$T/R/d.csv"
+touch -d '2001-02-03 04:05:06' "$T/R/d.csv"          # older than the result
+"$BIN" batch "$T/R/plan.csv" --resume 2>"$T/r.err"
+fresh=$(cd "$T/R" && "$BIN" check d.csv -y z -f P,Q -B 999 --bootstrap 0 --format json -q |
+        cmp -s - plan.results/r.json && echo fresh)
+check "resume: data replaced by older-dated different bytes is computed again" \
+    "$(grep -c ': kept ' "$T/r.err"):$fresh" "0:fresh"
+cp "$T/R/plan.results/r.json" "$T/R/second.json"
+cp "$T/data/after.csv" "$T/R/d2.csv"; mv "$T/R/d2.csv" "$T/R/d.csv"   # same bytes, newer
+touch -d '+1 hour' "$T/R/d.csv"
+"$BIN" batch "$T/R/plan.csv" --resume 2>"$T/r.err"
+check "resume: the same bytes with a newer date are kept" \
+    "$(grep -c '^\[1/1\] r: kept ' "$T/r.err"):$(cmp -s "$T/R/second.json" \
+       "$T/R/plan.results/r.json" && echo same)" "1:same"
+sed 's/,$/,NA/' "$T/R/plan.csv" > "$T/R/plan2.csv"; mv "$T/R/plan2.csv" "$T/R/plan.csv"
+touch -d '2001-02-03 04:05:06' "$T/R/d.csv"          # dates alone would keep it
+"$BIN" batch "$T/R/plan.csv" --resume 2>"$T/r.err"
+check "resume: a changed setting the JSON does not record (missing NA) is computed again" \
+    "$(grep -c ': kept ' "$T/r.err")" 0
+"$PY" - "$T/R" <<'PY'
+import sys
+src = open(sys.argv[1] + "/d.csv", "rb").read().split(b"\n", 1)
+open(sys.argv[1] + "/latin.csv", "wb").write(src[0].replace(b"P", b"Pr\xe9", 1) + b"\n" + src[1])
+open(sys.argv[1] + "/latin_plan.csv", "wb").write(
+    b'name,data,response,factors,permutations,bootstrap\nl,latin.csv,z,"Pr\xe9,Q",999,0\n')
+PY
+"$BIN" batch "$T/R/latin_plan.csv" -q; rc1=$?
+"$BIN" batch "$T/R/latin_plan.csv" --resume 2>"$T/r.err"; rc2=$?
+check "resume: a factor name that is not UTF-8 is kept the second time" \
+    "$rc1:$rc2:$(grep -c '^\[1/1\] l: kept ' "$T/r.err")" "0:0:1"
 
 # --- --compare --------------------------------------------------------------------
 mkdir -p "$T/old" "$T/new"

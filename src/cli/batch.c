@@ -6,7 +6,6 @@
  * and resumed analyses alike, so that an interrupted and resumed batch writes the same
  * summary bytes as an uninterrupted one. Reading results back (resume, --compare) and
  * writing the summary live in batch_results.c. */
-#include <dirent.h>
 #include <errno.h>
 #include <getopt.h>
 #include <stdarg.h>
@@ -25,8 +24,6 @@
 /* Longest analysis name: NAME.json.tmp.XXXXXX must stay under the usual 255-byte limit
  * of a file name. */
 #define BATCH_NAME_MAX 200
-/* mkstemp's suffix after "NAME.json.tmp.": six letters or digits. */
-#define TMP_RANDOM_LEN 6
 
 static const char batch_help[] =
 "Usage: sturdy batch PLAN.csv [-o DIR] [--resume] [--compare OLD_DIR] [--threads N]\n"
@@ -38,8 +35,9 @@ static const char batch_help[] =
 "\n"
 "  -o, --output DIR       results folder (default: the plan's name without .csv, plus\n"
 "                         '.results', beside the plan); created when missing\n"
-"      --resume           keep results already in DIR that match their plan row (same\n"
-"                         data file, settings and responses, not older than the data)\n"
+"      --resume           keep results already in DIR that match their plan row: the\n"
+"                         data file's bytes, every setting and the program version as\n"
+"                         when the result was written (DIR/.NAME.key); dates are not used\n"
 "      --compare OLD_DIR  list every term whose verdict differs from OLD_DIR/NAME.json\n"
 "      --threads N        threads for each analysis (default 0 = all cores)\n"
 "  -q, --quiet            no work estimates or rates on standard error\n"
@@ -71,8 +69,13 @@ static const char batch_help[] =
 "or resampling-only; changed: verdicts that differ from OLD_DIR). summary.txt says the\n"
 "same in words and lists the verdict changes.\n"
 "\n"
+"One batch at a time per folder: a batch locks DIR (flock on DIR/.sturdy-batch.lock)\n"
+"and a second batch on the same folder refuses to start (exit 5) and names the first's\n"
+"process. Ctrl-C, SIGTERM and SIGHUP remove the temporary file being written.\n"
+"\n"
 "Exit status: 0 all done, 2 usage error, 3 plan error (nothing run), 5 a result or the\n"
-"summary could not be written, 6 some analyses failed and the others completed.\n";
+"summary could not be written, or DIR is in use by another batch, 6 some analyses\n"
+"failed and the others completed.\n";
 
 static const char *const required_cols[] = { "name", "data", "response", "factors" };
 enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
@@ -88,6 +91,7 @@ static const char *const batch_cols[] = { "threads", "shard", "format", "output"
 typedef struct {
     const char *plan_path, *dir, *old_dir, *threads;
     int resume, quiet, lead;     /* lead: this process writes and talks (MPI rank 0) */
+    int lock_fd;                 /* the folder's lock, held until the batch ends, or -1 */
     char *plan_dir;              /* folder of the plan, or NULL when it has no '/' */
     sturdy_table *plan;
     long req[NREQUIRED];         /* plan columns of the required fields */
@@ -147,16 +151,20 @@ static int plan_error(const batch *b, size_t line, long col, const char *fmt, ..
     __attribute__((format(printf, 4, 5)));
 static int plan_error(const batch *b, size_t line, long col, const char *fmt, ...)
 {
+    char what[STURDY_ERR_LEN];
     va_list ap;
-    fprintf(stderr, "sturdy: %s: line %zu", b->plan_path, line);
-    if (col >= 0)
-        fprintf(stderr, ", column %ld ('%s')", col + 1,
-                sturdy_table_column(b->plan, (size_t)col));
-    fputs(": ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    vsnprintf(what, sizeof what, fmt, ap);
     va_end(ap);
-    fputs("\nnothing was run\n", stderr);
+    /* the plan's fields and headers are data: escaped before they reach the terminal */
+    char *sp = cli_escaped(b->plan_path), *sw = cli_escaped(what);
+    char *sc = col >= 0 ? cli_escaped(sturdy_table_column(b->plan, (size_t)col)) : NULL;
+    fprintf(stderr, "sturdy: %s: line %zu", sp ? sp : "?", line);
+    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, sc ? sc : "?");
+    fprintf(stderr, ": %s\nnothing was run\n", sw ? sw : "out of memory");
+    free(sp);
+    free(sw);
+    free(sc);
     return STURDY_EDATA;
 }
 
@@ -203,7 +211,9 @@ static int plan_load(batch *b)
     to.missing = nothing_missing;   /* every field as written; empty = not given */
     to.nmissing = 0;
     if (sturdy_table_load(b->plan_path, &to, &b->plan, err)) {
-        fprintf(stderr, "sturdy: %s\nnothing was run\n", err);
+        char *safe = cli_escaped(err);
+        fprintf(stderr, "sturdy: %s\nnothing was run\n", safe ? safe : "out of memory");
+        free(safe);
         return STURDY_EDATA;
     }
     const sturdy_table *t = b->plan;
@@ -404,10 +414,12 @@ static void announce_row(const batch *b, size_t i, const char *name, const cli_c
     fputs(" ...\n", stderr);
 }
 
-/* Write r as the row's result file out_path (complete or not at all) and read it back
- * into *doc. Returns 0 or an exit status with msg (STURDY_ERR_LEN bytes). */
+/* Write r as the row's result file out_path (complete or not at all), after its key
+ * file key_path, and read it back into *doc. Returns 0 or an exit status with msg
+ * (STURDY_ERR_LEN bytes). */
 static int write_result(const cli_check *c, const sturdy_result *r, const char *out_path,
-                        totals *tot, sturdy_result **doc, char *msg)
+                        const char *key_path, const cli_batch_key *key, totals *tot,
+                        sturdy_result **doc, char *msg)
 {
     int rc;
     sturdy_buf out;
@@ -416,10 +428,17 @@ static int write_result(const cli_check *c, const sturdy_result *r, const char *
         rc = STURDY_EINTERNAL;
         snprintf(msg, STURDY_ERR_LEN, "out of memory while writing the result");
     } else {
+        /* The key goes first: it names the new result's digest, so whatever an
+         * interruption leaves (the old result or none beside the new key) does not
+         * match it and is computed again. Without a key (the data could not be read for
+         * it) the result is written and a later --resume computes it again. */
+        char *kt = cli_batch_key_text(key, out.data, out.len);
         capture cp;
         capture_begin(&cp);
-        rc = cli_write_output(out_path, out.data, out.len);
+        rc = kt ? cli_write_output(key_path, kt, strlen(kt)) : (unlink(key_path), 0);
+        if (!rc) rc = cli_write_output(out_path, out.data, out.len);
         capture_end(&cp, msg, STURDY_ERR_LEN);
+        free(kt);
         if (rc) tot->eoutput = 1;
     }
     if (!rc && sturdy_result_read_json(out_path, out.data, out.len, doc, NULL)) {
@@ -433,14 +452,15 @@ static int write_result(const cli_check *c, const sturdy_result *r, const char *
 /* Compute row i and, on the lead rank, write its result (*doc: the result read back);
  * counts it in tot. Returns 0 or an exit status with msg (STURDY_ERR_LEN bytes). */
 static int compute_row(const batch *b, size_t i, const char *name, cli_check *c,
-                       const char *out_path, totals *tot, sturdy_result **doc, char *msg)
+                       const char *out_path, const char *key_path, const cli_batch_key *key,
+                       totals *tot, sturdy_result **doc, char *msg)
 {
     sturdy_result *r = NULL;
     double t0 = cli_now();
     int rc = cli_check_compute(c, &r, msg);
     double seconds = cli_now() - t0;
     if (!rc && b->lead)          /* under MPI only rank 0 holds the finished result */
-        rc = write_result(c, r, out_path, tot, doc, msg);
+        rc = write_result(c, r, out_path, key_path, key, tot, doc, msg);
     if (!rc) {
         sturdy_run_info info;
         sturdy_result_info(r, &info);
@@ -468,13 +488,16 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
 {
     oc->exit_code = rc;
     if (rc) {
+        /* the message goes to stderr and the summaries: escaped, as it may quote data */
         char *hinted = cli_option_hints(msg);
-        oc->message = plan_message(hinted ? hinted : msg, data_path, data);
+        char *shown = plan_message(hinted ? hinted : msg, data_path, data);
         free(hinted);
+        oc->message = cli_escaped(shown ? shown : msg);
+        free(shown);
         tot->failed++;
         if (b->lead)
             fprintf(stderr, "sturdy: %s: failed (exit %d): %s\n", name, rc,
-                    oc->message ? oc->message : msg);
+                    oc->message ? oc->message : "out of memory");
         return;
     }
     if (cli_batch_tally(doc, oc)) {
@@ -496,6 +519,8 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     cli_check c;
     int parsed = 0;
     char *out_path = str_printf("%s/%s.json", b->dir, name);
+    char *key_path = str_printf("%s/.%s.key", b->dir, name);
+    cli_batch_key key = { .ok = 0 };
     char *data_path = b->plan_dir && data[0] != '/' ? cli_str_cat3(b->plan_dir, "/", data)
                                                     : NULL;
     sturdy_result *doc = NULL, *old = NULL;
@@ -503,19 +528,22 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
     if (old_path) old = cli_batch_read_result(old_path);
     free(old_path);
-    int rc = out_path && (data_path || !b->plan_dir || data[0] == '/') ? 0 : STURDY_EINTERNAL;
+    int rc = out_path && key_path && (data_path || !b->plan_dir || data[0] == '/')
+             ? 0 : STURDY_EINTERNAL;
     /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
     if (rc) snprintf(msg, sizeof msg, "out of memory");
     if (!rc) rc = parse_row(b, i, &a, &c, &parsed, data_path, msg);
-    if (!rc && b->resume &&
-        (doc = cli_batch_resumable(&c, out_path, data_path ? data_path : c.data))) {
+    /* the data's digest is taken before the analysis reads them: data changed in
+     * between give a key that does not match, never a stale result that does */
+    if (!rc) cli_batch_key_make(&key, a.v, a.n, data_path ? data_path : c.data);
+    if (!rc && b->resume && (doc = cli_batch_resumable(&key, out_path, key_path))) {
         tot->resumed++;
         if (!b->quiet && b->lead)
             fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
                     sturdy_table_nrows(b->plan), name);
     } else if (!rc) {
         if (!b->quiet && b->lead) announce_row(b, i, name, &c, data_path);
-        rc = compute_row(b, i, name, &c, out_path, tot, &doc, msg);
+        rc = compute_row(b, i, name, &c, out_path, key_path, &key, tot, &doc, msg);
     }
     finish_row(b, name, rc, msg, data_path, data, doc, old, tot, oc);
     sturdy_result_free(doc);
@@ -523,61 +551,22 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     if (parsed) cli_check_free(&c);
     arg_free(&a);
     free(out_path);
+    free(key_path);
     free(data_path);
 }
 
-/* --- results folder and summary ------------------------------------------------- */
+/* --- the run (the results folder: batch_dir.c) ----------------------------------- */
 
-/* Remove "NAME.json.tmp.XXXXXX" (and the summaries' temporaries) left by a run that was
- * interrupted between creating and renaming them. */
+/* The temporary files a killed run left in the folder, for the plan's names. */
 static void remove_stale(const batch *b)
 {
-    DIR *d = opendir(b->dir);
-    struct dirent *e;
-    if (!d) return;
-    while ((e = readdir(d))) {
-        const char *n = e->d_name;
-        size_t len = strlen(n), suffix = sizeof ".tmp." - 1 + TMP_RANDOM_LEN;
-        if (len <= suffix || strncmp(n + len - suffix, ".tmp.", 5)) continue;
-        size_t stem = len - suffix;
-        int ours = stem == 11 && (!strncmp(n, "summary.csv", 11) ||
-                                  !strncmp(n, "summary.txt", 11));
-        for (size_t i = 0; !ours && stem > 5 && i < sturdy_table_nrows(b->plan); i++) {
-            const char *name = cell(b, b->req[COL_NAME], i);
-            ours = strlen(name) == stem - 5 && !strncmp(n, name, stem - 5) &&
-                   !strncmp(n + stem - 5, ".json", 5);
-        }
-        if (!ours) continue;
-        char *path = cli_str_cat3(b->dir, "/", n);
-        if (path && unlink(path) == 0 && !b->quiet)
-            fprintf(stderr, "sturdy: removed '%s', left by an interrupted run\n", path);
-        free(path);
-    }
-    closedir(d);
-}
-
-/* The default results folder: the plan's path without ".csv", plus ".results". */
-static char *default_dir(const char *plan)
-{
-    size_t n = strlen(plan);
-    const char *slash = strrchr(plan, '/');
-    size_t stem = n > 4 && !strcmp(plan + n - 4, ".csv") && (!slash || plan + n - 4 > slash + 1)
-                  ? n - 4 : n;
-    char *s = malloc(stem + sizeof ".results");
-    if (!s) return NULL;
-    memcpy(s, plan, stem);
-    memcpy(s + stem, ".results", sizeof ".results");
-    return s;
-}
-
-static int make_dir(const char *dir)
-{
-    struct stat sb;
-    if (mkdir(dir, 0777) == 0 || (errno == EEXIST && stat(dir, &sb) == 0 && S_ISDIR(sb.st_mode)))
-        return 0;
-    fprintf(stderr, "sturdy: cannot create the results folder '%s': %s\n", dir,
-            errno == EEXIST ? "a file of that name is in the way" : strerror(errno));
-    return STURDY_EOUTPUT;
+    size_t n = sturdy_table_nrows(b->plan);
+    const char **names = calloc(n + 1, sizeof *names);
+    if (!names) return;          /* nothing removed: they are harmless, and a later run
+                                    removes them */
+    for (size_t i = 0; i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
+    cli_batch_remove_stale(b->dir, names, n, b->quiet);
+    free(names);
 }
 
 static int run_batch(batch *b)
@@ -588,8 +577,10 @@ static int run_batch(batch *b)
     if (slash && !(b->plan_dir = strndup(b->plan_path, slash == b->plan_path ? 1
                                                 : (size_t)(slash - b->plan_path))))
         return STURDY_EINTERNAL;
-    if ((rc = make_dir(b->dir))) return rc;
-    if (b->lead) remove_stale(b);
+    if ((rc = cli_batch_make_dir(b->dir))) return rc;
+    /* only the lead rank writes, so only it locks; every rank stops if it cannot */
+    if ((rc = cli_mpi_agree(b->lead ? cli_batch_lock(b->dir, &b->lock_fd) : 0))) return rc;
+    if (b->lead) remove_stale(b);    /* under the lock: no other batch's files are live */
     size_t n = sturdy_table_nrows(b->plan);
     cli_batch_outcome *oc = calloc(n, sizeof *oc);
     if (!oc) return STURDY_EINTERNAL;
@@ -635,6 +626,7 @@ int sturdy_cli_batch(int argc, char **argv)
         { NULL, 0, NULL, 0 }
     };
     batch b = { 0 };
+    b.lock_fd = -1;
     b.lead = cli_mpi_rank() == 0;
     int opt;
     uint64_t u;
@@ -671,8 +663,9 @@ int sturdy_cli_batch(int argc, char **argv)
     if (argc - optind != 1) return cli_usage_error("batch", "name one plan file");
     b.plan_path = argv[optind];
     char *dir = NULL;
-    if (!b.dir && !(b.dir = dir = default_dir(b.plan_path))) return STURDY_EINTERNAL;
+    if (!b.dir && !(b.dir = dir = cli_batch_default_dir(b.plan_path))) return STURDY_EINTERNAL;
     int rc = run_batch(&b);
+    if (b.lock_fd >= 0) close(b.lock_fd);   /* releases the lock; the file stays */
     sturdy_table_free(b.plan);
     free(b.plan_dir);
     free(dir);

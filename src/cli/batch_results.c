@@ -35,51 +35,59 @@ sturdy_result *cli_batch_read_result(const char *path)
 
 static int str_eq(const char *a, const char *b) { return a && b && !strcmp(a, b); }
 
-static int names_match(const char *const *a, size_t na, const char *const *b, size_t nb)
+/* The key file holds digests of everything a result depends on, compared as bytes, so
+ * that resume never trusts file dates (a file replaced by an older one, cp -p, rsync -t,
+ * untar) nor names as the JSON writer rewrites them (bytes that are not UTF-8). */
+#define KEY_HEAD "sturdy batch key 1\n"
+
+int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file)
 {
-    if (na != nb) return 0;
-    for (size_t i = 0; i < na; i++)
-        if (!str_eq(a[i], b[i])) return 0;
-    return 1;
+    cli_sha256 s;
+    cli_sha256_init(&s);
+    /* the program's version: defaults and methods may change between versions */
+    cli_sha256_add(&s, STURDY_VERSION, sizeof STURDY_VERSION);
+    for (int i = 0; i < argc; i++) {
+        if (!strcmp(argv[i], "--threads") && i + 1 < argc) { i++; continue; } /* no effect */
+        cli_sha256_add(&s, argv[i], strlen(argv[i]) + 1);
+    }
+    cli_sha256_hex(&s, k->settings);
+    /* only a regular file: reading a pipe here would leave nothing for the analysis
+     * (such a row gets no key, so --resume always computes it again) */
+    struct stat sb;
+    k->ok = stat(data_file, &sb) == 0 && S_ISREG(sb.st_mode) &&
+            cli_sha256_file(data_file, k->data) == 0;
+    return k->ok ? 0 : -1;
 }
 
-/* Do the settings and model of a result read back match what `o` asks for? */
-static int settings_match(const sturdy_options *was, const sturdy_run_info *info,
-                          const sturdy_options *o)
+char *cli_batch_key_text(const cli_batch_key *k, const char *result, size_t len)
 {
-    sturdy_boot_scheme scheme = o->boot_scheme != STURDY_BOOT_DEFAULT ? o->boot_scheme
-                                : o->flip ? STURDY_BOOT_WILD : STURDY_BOOT_RESIDUAL;
-    /* an exhaustive enumeration is what any B at least as large gives too */
-    int perms_ok = info->exact ? info->nperm <= o->permutations
-                               : info->nperm == o->permutations;
-    const sturdy_model_spec *a = &was->model, *b = &o->model;
-    return was->seed == o->seed && was->ss_type == o->ss_type && was->method == o->method &&
-           was->flip == o->flip && was->boot_scheme == scheme && perms_ok &&
-           was->spread_scheme == o->spread_scheme && info->nboot == o->bootstrap &&
-           was->conf == o->conf && was->alpha == o->alpha && was->resistant == o->resistant &&
-           names_match(a->responses, a->nresponses, b->responses, b->nresponses) &&
-           names_match(a->factors, a->nfactors, b->factors, b->nfactors) &&
-           names_match(a->covariates, a->ncovariates, b->covariates, b->ncovariates) &&
-           (b->block ? str_eq(a->block, b->block) : a->block == NULL);
+    if (!k->ok) return NULL;
+    cli_sha256 s;
+    char rhex[CLI_SHA256_HEX];
+    cli_sha256_init(&s);
+    cli_sha256_add(&s, result, len);
+    cli_sha256_hex(&s, rhex);
+    size_t n = sizeof KEY_HEAD + 3 * (CLI_SHA256_HEX + 16);
+    char *text = malloc(n);
+    if (text)
+        snprintf(text, n, KEY_HEAD "settings %s\ndata %s\nresult %s\n", k->settings, k->data,
+                 rhex);
+    return text;
 }
 
-sturdy_result *cli_batch_resumable(const cli_check *c, const char *out_path,
-                                   const char *data_path)
+sturdy_result *cli_batch_resumable(const cli_batch_key *k, const char *out_path,
+                                   const char *key_path)
 {
-    struct stat rs, ds;
-    if (stat(out_path, &rs) != 0 || stat(data_path, &ds) != 0) return NULL;
-    if (ds.st_mtim.tv_sec > rs.st_mtim.tv_sec ||
-        (ds.st_mtim.tv_sec == rs.st_mtim.tv_sec && ds.st_mtim.tv_nsec > rs.st_mtim.tv_nsec))
-        return NULL;             /* the data were edited after the result was written */
-    sturdy_result *r = cli_batch_read_result(out_path);
-    if (!r) return NULL;
-    sturdy_run_info info;
-    sturdy_result_info(r, &info);
-    /* a bootstrap asked for on a model without residual df runs no replicates */
-    int match = str_eq(info.input, c->data) &&
-                settings_match(sturdy_result_options(r), &info, &c->opts) &&
-                sturdy_result_nterms(r) == sturdy_model_spec_terms(&c->opts.model);
-    if (!match) { sturdy_result_free(r); return NULL; }
+    size_t rlen = 0, klen = 0;
+    char *result = cli_read_file(out_path, &rlen), *key = cli_read_file(key_path, &klen);
+    char *want = result && key ? cli_batch_key_text(k, result, rlen) : NULL;
+    sturdy_result *r = NULL;
+    if (want && strlen(want) == klen && !memcmp(want, key, klen) &&
+        sturdy_result_read_json(out_path, result, rlen, &r, NULL) != STURDY_OK)
+        r = NULL;
+    free(want);
+    free(key);
+    free(result);
     return r;
 }
 
@@ -103,8 +111,11 @@ int cli_batch_tally(const sturdy_result *r, cli_batch_outcome *oc)
     if (oc->tested > 0) return 0;
     oc->exit_code = STURDY_EMODEL;
     free(oc->message);
-    oc->message = cli_str_cat3("none of the requested terms could be tested: ",
-                               why ? why : "no term has an F-test", "");
+    char *safe = cli_escaped(why ? why : "no term has an F-test");   /* may quote data */
+    oc->message = safe ? cli_str_cat3("none of the requested terms could be tested: ", safe,
+                                      "")
+                       : NULL;
+    free(safe);
     return 1;
 }
 
@@ -142,8 +153,12 @@ static void diff_verdicts(const char *name, const sturdy_result *a, const sturdy
             if (!tn) continue;
             const char *va = verdict_of(a, rn, tn), *vb = verdict_of(b, rn, tn);
             if (!strcmp(va, vb) || (skip_present && strcmp(vb, NO_SUCH_TERM))) continue;
-            sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name, rn, tn,
-                              a_is_new ? vb : va, a_is_new ? va : vb);
+            char *srn = cli_escaped(rn), *stn = cli_escaped(tn);   /* names from data */
+            sturdy_buf_printf(&oc->changes, "  %s / %s / %s: %s → %s\n", name,
+                              srn ? srn : "?", stn ? stn : "?", a_is_new ? vb : va,
+                              a_is_new ? va : vb);
+            free(srn);
+            free(stn);
             oc->changed++;
         }
     }

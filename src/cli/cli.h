@@ -86,6 +86,9 @@ void cli_mpi_finalize(void);
 int cli_mpi_rank(void);
 int cli_mpi_size(void);
 sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err);
+/* The largest of every rank's rc (a collective call: every rank makes it), so that a
+ * step only rank 0 takes can stop all ranks together. */
+int cli_mpi_agree(int rc);
 
 /* Print "sturdy: <message>" and "try 'sturdy <command> --help'" to stderr, the message
  * with the options it concerns named (cli_option_hints); returns 2. */
@@ -98,8 +101,17 @@ int cli_usage_error(const char *command, const char *fmt, ...)
 char *cli_option_hints(const char *msg);
 
 /* Print "sturdy: PREFIX MESSAGE" to stderr, the library message with its options named
- * (cli_option_hints); prefix may be NULL. hints.c. */
+ * (cli_option_hints) and escaped (cli_escaped); prefix may be NULL. hints.c. */
 void cli_print_error(const char *prefix, const char *msg);
+
+/* A copy of `text` safe to show on a terminal (the caller frees it; NULL when memory ran
+ * out): control characters (C0 and DEL) and bytes that are not UTF-8 as \xHH, the C1
+ * controls U+0080 to U+009F as \u00HH, everything else as it is. Every text that can
+ * hold data (level, factor, column and file names, plan fields, fields of parts,
+ * library messages quoting them) passes through it before it reaches standard error or
+ * a batch summary, so data cannot move the cursor, retitle the window or ring the
+ * bell. hints.c. */
+char *cli_escaped(const char *text);
 
 /* Strict parsers for option values: the whole text must be the number. Return 1 on
  * success. u64: decimal digits only (no sign, no blanks); double: finite. */
@@ -120,12 +132,32 @@ void cli_list_free(cli_list *l);
  * message naming the file. */
 int cli_write_output(const char *path, const char *data, size_t len);
 
+/* Install handlers for SIGINT, SIGTERM and SIGHUP (those not ignored) that remove the
+ * temporary file cli_write_output is writing, if any, and then end the process by the
+ * same signal. SIGKILL cannot be caught: it may leave a PATH.tmp.XXXXXX (never a partial
+ * PATH). output.c. */
+void cli_cleanup_on_signals(void);
+
 /* 1 when paths a and b name the same existing file (device and inode), else 0. */
 int cli_same_file(const char *a, const char *b);
 
 /* The whole file at `path` in a malloc-ed buffer (not NUL-terminated), its size in
  * *len; NULL when it cannot be read. */
 char *cli_read_file(const char *path, size_t *len);
+
+/* SHA-256 (sha256.c): init, add bytes, then the 64 hex digits and a NUL. */
+#define CLI_SHA256_HEX 65
+typedef struct {
+    uint32_t h[8];
+    uint64_t len;
+    unsigned char block[64];
+    size_t fill;
+} cli_sha256;
+void cli_sha256_init(cli_sha256 *s);
+void cli_sha256_add(cli_sha256 *s, const void *data, size_t len);
+void cli_sha256_hex(cli_sha256 *s, char hex[CLI_SHA256_HEX]);
+/* The SHA-256 of the file's bytes; 0, or -1 when it cannot be read. */
+int cli_sha256_file(const char *path, char hex[CLI_SHA256_HEX]);
 
 /* Monotonic clock in seconds, for rates and progress. */
 double cli_now(void);
@@ -159,15 +191,44 @@ typedef struct {
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
 } cli_batch_outcome;
 
+/* The results folder (batch_dir.c). The default: the plan's path without ".csv", plus
+ * ".results" (malloc-ed; NULL when memory ran out). */
+char *cli_batch_default_dir(const char *plan);
+/* Create `dir` unless it is a folder already; 0, or STURDY_EOUTPUT after a message. */
+int cli_batch_make_dir(const char *dir);
+/* Take the advisory lock on dir/.sturdy-batch.lock (flock, not waiting) and record this
+ * process's id in it; *lock_fd gets the descriptor, whose closing (or the process's end)
+ * releases the lock. Returns 0, or STURDY_EOUTPUT after a message naming the holder when
+ * another process has it. A file system without flock: a warning, 0, *lock_fd left. */
+int cli_batch_lock(const char *dir, int *lock_fd);
+/* Remove the temporary files a killed run left in dir: NAME.json.tmp.XXXXXX and
+ * .NAME.key.tmp.XXXXXX of the n plan names, and the summaries'; each removal is
+ * reported on standard error unless quiet. Call it only under the lock. */
+void cli_batch_remove_stale(const char *dir, const char *const *names, size_t n, int quiet);
+
 /* A JSON result file read back (sturdy_result_free), or NULL when it is absent or not a
  * result. */
 sturdy_result *cli_batch_read_result(const char *path);
 
-/* The result at out_path when the parsed check `c` would reproduce it: same data file
- * (data_path, not changed since), settings, responses and model terms. Returns the
- * result read back (sturdy_result_free) or NULL. */
-sturdy_result *cli_batch_resumable(const cli_check *c, const char *out_path,
-                                   const char *data_path);
+/* What a batch result depends on (batch_results.c): digests of the program's version
+ * and the row's `check` arguments (--threads left out), and of the data file's bytes
+ * (ok = 0 when it is not a regular file or could not be read). */
+typedef struct {
+    char settings[CLI_SHA256_HEX], data[CLI_SHA256_HEX];
+    int ok;
+} cli_batch_key;
+int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file);
+
+/* The text of the key file DIR/.NAME.key for a result of these bytes (the two digests
+ * above and the result's own), malloc-ed; NULL when the data could not be read or memory
+ * ran out. */
+char *cli_batch_key_text(const cli_batch_key *k, const char *result, size_t len);
+
+/* The result at out_path when its key file says it was computed from this key (same
+ * version, arguments and data bytes) and the result's bytes are those the key names.
+ * Returns the result read back (sturdy_result_free) or NULL. */
+sturdy_result *cli_batch_resumable(const cli_batch_key *k, const char *out_path,
+                                   const char *key_path);
 
 /* Adds the result's terms, tested terms and classical/resampling disagreements to oc.
  * A result with no tested term makes the row "untested": exit_code STURDY_EMODEL and a

@@ -45,8 +45,56 @@ static const struct {
 void cli_print_error(const char *prefix, const char *msg)
 {
     char *hinted = cli_option_hints(msg);
-    fprintf(stderr, "sturdy: %s%s\n", prefix ? prefix : "", hinted ? hinted : msg);
+    char *safe = cli_escaped(hinted ? hinted : msg);
+    fprintf(stderr, "sturdy: %s%s\n", prefix ? prefix : "", safe ? safe : "out of memory");
+    free(safe);
     free(hinted);
+}
+
+/* Length of the UTF-8 sequence at s (its code point in *cp), or 0 when the bytes there
+ * are not one (overlong forms, surrogates and values past U+10FFFF included). */
+static size_t utf8_seq(const unsigned char *s, unsigned long *cp)
+{
+    size_t n;
+    if (s[0] >= 0xc2 && s[0] <= 0xdf) n = 2;
+    else if (s[0] >= 0xe0 && s[0] <= 0xef) n = 3;
+    else if (s[0] >= 0xf0 && s[0] <= 0xf4) n = 4;
+    else return 0;
+    /* a NUL ends the check at the first byte that is not a continuation */
+    unsigned long v = s[0] & (n == 2 ? 0x1f : n == 3 ? 0x0f : 0x07);
+    for (size_t i = 1; i < n; i++) {
+        if ((s[i] & 0xc0) != 0x80) return 0;
+        v = v << 6 | (s[i] & 0x3f);
+    }
+    if ((n == 3 && (v < 0x800 || (v >= 0xd800 && v <= 0xdfff))) ||
+        (n == 4 && (v < 0x10000 || v > 0x10ffff)))
+        return 0;
+    *cp = v;
+    return n;
+}
+
+char *cli_escaped(const char *text)
+{
+    const unsigned char *s = (const unsigned char *)(text ? text : "");
+    char *out = malloc(strlen((const char *)s) * 6 + 1), *o = out;
+    if (!out) return NULL;
+    while (*s) {
+        unsigned long cp = 0;
+        size_t n = *s < 0x80 ? 1 : utf8_seq(s, &cp);
+        if (*s < 0x20 || *s == 0x7f || n == 0) {          /* C0, DEL, a stray byte */
+            o += sprintf(o, "\\x%02x", *s);
+            s++;
+        } else if (n == 2 && cp >= 0x80 && cp <= 0x9f) {  /* C1: CSI and the like */
+            o += sprintf(o, "\\u%04lx", cp);
+            s += n;
+        } else {
+            memcpy(o, s, n);
+            o += n;
+            s += n;
+        }
+    }
+    *o = '\0';
+    return out;
 }
 
 char *cli_option_hints(const char *msg)

@@ -64,6 +64,8 @@ static int dispatch(int argc, char **argv)
      * remove its temporary file and report, instead of the process being killed */
     signal(SIGXFSZ, SIG_IGN);
 #endif
+    /* Ctrl-C, kill and a closed terminal remove the output's temporary file */
+    cli_cleanup_on_signals();
     if (argc < 2) {
         fputs(main_help, stderr);
         return CLI_EXIT_USAGE;
@@ -81,6 +83,8 @@ static int dispatch(int argc, char **argv)
         printf("sturdy %s\n", sturdy_version());
         return 0;
     }
-    fprintf(stderr, "sturdy: unknown command '%s'\ntry 'sturdy --help'\n", cmd);
+    char *safe = cli_escaped(cmd);
+    fprintf(stderr, "sturdy: unknown command '%s'\ntry 'sturdy --help'\n", safe ? safe : "?");
+    free(safe);
     return CLI_EXIT_USAGE;
 }

@@ -42,7 +42,11 @@ typedef struct {
 
 static int fail(const char *path, const char *what, int code)
 {
-    fprintf(stderr, "sturdy: %s: %s\n", path, what);
+    /* the message may quote a part's fields */
+    char *sp = cli_escaped(path), *sw = cli_escaped(what);
+    fprintf(stderr, "sturdy: %s: %s\n", sp ? sp : "?", sw ? sw : "out of memory");
+    free(sp);
+    free(sw);
     return code;
 }
 
@@ -57,7 +61,7 @@ static int load_part(part *p)
     sturdy_status st = sturdy_part_read_json(p->path, text, len, &p->part, err);
     free(text);
     if (st) {
-        fprintf(stderr, "sturdy: %s\n", err);
+        cli_print_error(NULL, err);
         if (strstr(err, "not a shard part"))
             fputs("sturdy: parts are written by 'sturdy check ... --shard I/N'\n", stderr);
         return (int)st;

@@ -34,6 +34,14 @@ void cli_mpi_finalize(void)
 int cli_mpi_rank(void) { return mpi_rank_; }
 int cli_mpi_size(void) { return mpi_size_; }
 
+int cli_mpi_agree(int rc)
+{
+    int all = rc;
+    if (mpi_on && mpi_size_ > 1)
+        MPI_Allreduce(&rc, &all, 1, MPI_INT, MPI_MAX, MPI_COMM_WORLD);
+    return all;
+}
+
 /* Every rank's (perm_begin, perm_end, boot_begin, boot_end) into all[4 × size]. */
 static void gather_ranges(const sturdy_result *r, uint64_t *all)
 {
@@ -172,6 +180,7 @@ int cli_mpi_init(int *argc, char ***argv)
 void cli_mpi_finalize(void) {}
 int cli_mpi_rank(void) { return 0; }
 int cli_mpi_size(void) { return 1; }
+int cli_mpi_agree(int rc) { return rc; }
 
 sturdy_status cli_mpi_combine(sturdy_result *r, sturdy_status st, char *err)
 {

@@ -163,8 +163,10 @@ int cli_usage_error(const char *command, const char *fmt, ...)
         va_end(ap);
         hinted = cli_option_hints(msg);
     }
+    char *safe = msg ? cli_escaped(hinted ? hinted : msg) : NULL;   /* values from data */
     fprintf(stderr, "sturdy: %s\ntry 'sturdy %s --help'\n",
-            hinted ? hinted : msg ? msg : "out of memory", command ? command : "");
+            safe ? safe : "out of memory", command ? command : "");
+    free(safe);
     free(hinted);
     free(msg);
     return CLI_EXIT_USAGE;

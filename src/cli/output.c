@@ -2,6 +2,9 @@
  * temporary file that is synced and renamed, so that a reader never sees half of it. */
 #include <errno.h>
 #include <fcntl.h>
+#include <limits.h>
+#include <pthread.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -11,6 +14,49 @@
 #include "cli.h"
 
 #define TMP_SUFFIX ".tmp.XXXXXX"
+
+/* The temporary file being written, for the signal handlers: SIGINT, SIGTERM and SIGHUP
+ * remove it and then end the process as the signal would have. Only async-signal-safe
+ * steps happen in the handler (unlink, raise), so the path lives in a static buffer
+ * that is armed while the file exists. One file at a time is written. */
+static char live_tmp[PATH_MAX + sizeof TMP_SUFFIX];
+static volatile sig_atomic_t live_armed;
+static const int cleanup_signals[] = { SIGINT, SIGTERM, SIGHUP };
+#define NCLEANUP_SIGNALS (sizeof cleanup_signals / sizeof *cleanup_signals)
+
+static void on_fatal_signal(int sig)
+{
+    int saved = errno;
+    if (live_armed) unlink(live_tmp);
+    live_armed = 0;
+    errno = saved;
+    raise(sig);                   /* SA_RESETHAND: the default action, so the exit status
+                                     says which signal ended the run */
+}
+
+void cli_cleanup_on_signals(void)
+{
+    for (size_t k = 0; k < NCLEANUP_SIGNALS; k++) {
+        struct sigaction sa, old;
+        if (sigaction(cleanup_signals[k], NULL, &old) != 0 || old.sa_handler == SIG_IGN)
+            continue;             /* an ignored signal (nohup, a background job) stays so */
+        memset(&sa, 0, sizeof sa);
+        sa.sa_handler = on_fatal_signal;
+        sigemptyset(&sa.sa_mask);
+        sa.sa_flags = (int)(SA_RESETHAND | SA_NODEFER);
+        sigaction(cleanup_signals[k], &sa, NULL);
+    }
+}
+
+/* Block (or unblock) the cleanup signals in this thread, so that creating the temporary
+ * file and arming the handler happen as one step. */
+static void hold_signals(int how, sigset_t *saved)
+{
+    sigset_t set;
+    sigemptyset(&set);
+    for (size_t k = 0; k < NCLEANUP_SIGNALS; k++) sigaddset(&set, cleanup_signals[k]);
+    pthread_sigmask(how, how == SIG_BLOCK ? &set : saved, how == SIG_BLOCK ? saved : NULL);
+}
 
 static int write_all(int fd, const char *data, size_t len)
 {
@@ -76,7 +122,16 @@ static int write_atomic(const char *target, const char *shown, const char *data,
     }
     memcpy(tmp, target, plen);
     memcpy(tmp + plen, TMP_SUFFIX, sizeof TMP_SUFFIX);
+    sigset_t saved_mask;
+    hold_signals(SIG_BLOCK, &saved_mask);
     int fd = mkstemp(tmp);
+    /* a path too long for the buffer is not armed (a signal then leaves the file, as
+     * SIGKILL does; batch removes its own on the next run) */
+    if (fd >= 0 && plen + sizeof TMP_SUFFIX <= sizeof live_tmp) {
+        memcpy(live_tmp, tmp, plen + sizeof TMP_SUFFIX);
+        live_armed = 1;
+    }
+    hold_signals(SIG_UNBLOCK, &saved_mask);
     if (fd < 0) {
         fprintf(stderr, "sturdy: cannot write '%s': %s\n", shown, strerror(errno));
         free(tmp);
@@ -92,8 +147,9 @@ static int write_atomic(const char *target, const char *shown, const char *data,
     int saved = errno;
     if (close(fd) != 0 && !step) { saved = errno; step = "close"; }
     if (!step && rename(tmp, target) != 0) { saved = errno; step = "rename onto"; }
+    if (step) unlink(tmp);
+    live_armed = 0;
     if (step) {
-        unlink(tmp);
         fprintf(stderr, "sturdy: cannot %s '%s': %s (nothing was written)\n", step, shown,
                 strerror(saved));
         free(tmp);

@@ -210,14 +210,19 @@ int cli_check_run(cli_check *c)
     /* The report is written (it says why for each term), but a run that could test none
      * of the requested terms did not do what was asked (README: exit 4). */
     if (!rc && sturdy_result_tested_terms(r) == 0) {
+        char *why = cli_escaped(sturdy_result_untested_reason(r));
         fprintf(stderr, "sturdy: none of the requested terms could be tested: %s\n",
-                sturdy_result_untested_reason(r));
+                why ? why : "out of memory");
+        free(why);
         rc = STURDY_EMODEL;
     }
-    /* CSV has no place for the run's notes; keep them visible */
+    /* CSV has no place for the run's notes; keep them visible (they may quote levels) */
     if (!rc && !c->quiet && (c->format == CLI_FMT_CSV || c->format == CLI_FMT_CSV_COMPARISONS))
-        for (size_t i = 0; i < sturdy_result_nnotes(r); i++)
-            fprintf(stderr, "sturdy: note: %s\n", sturdy_result_note(r, i));
+        for (size_t i = 0; i < sturdy_result_nnotes(r); i++) {
+            char *note = cli_escaped(sturdy_result_note(r, i));
+            fprintf(stderr, "sturdy: note: %s\n", note ? note : "out of memory");
+            free(note);
+        }
     sturdy_buf_free(&out);
     sturdy_result_free(r);
     return rc;
