@@ -47,27 +47,8 @@ sturdy_status sturdy_bulk_normality(const sturdy_design *d, const sturdy_model *
         for (size_t c = 0; c <= a; c++)
             A[a * k + c] = (a == c) - hat(m, d->group[S[a]], d->group[S[c]]);
     }
-    for (size_t j = 0; j < k; j++) {           /* Cholesky, then (I − H_SS)⁻¹ e_S */
-        double v = A[j * k + j];
-        for (size_t q = 0; q < j; q++) v -= A[j * k + q] * A[j * k + q];
-        if (!(v > BULK_PIVOT_TOL)) return STURDY_OK;
-        A[j * k + j] = sqrt(v);
-        for (size_t i = j + 1; i < k; i++) {
-            double x = A[i * k + j];
-            for (size_t q = 0; q < j; q++) x -= A[i * k + q] * A[j * k + q];
-            A[i * k + j] = x / A[j * k + j];
-        }
-    }
-    for (size_t i = 0; i < k; i++) {
-        double x = b[i];
-        for (size_t q = 0; q < i; q++) x -= A[i * k + q] * b[q];
-        b[i] = x / A[i * k + i];
-    }
-    for (size_t i = k; i-- > 0;) {
-        double x = b[i];
-        for (size_t q = i + 1; q < k; q++) x -= A[q * k + i] * b[q];
-        b[i] = x / A[i * k + i];
-    }
+    /* (I − H_SS)⁻¹ e_S */
+    if (!sturdy_cholesky_solve(A, k, b, BULK_PIVOT_TOL)) return STURDY_OK;
     double *rest = sturdy_malloc((n - k) * sizeof *rest);
     if (!rest) return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     size_t r = 0;

@@ -167,29 +167,9 @@ static int weighted_solve(const double *U, size_t K, size_t r, const double *inv
             A[c1 * r + c2] = a;
         }
     }
-    for (size_t j = 0; j < r; j++) {
-        double v = A[j * r + j];
-        for (size_t q = 0; q < j; q++) v -= A[j * r + q] * A[j * r + q];
-        /* relative to the unweighted diagonal (1 for an orthonormal U): a pivot this small
-           means some direction of the model has no row inside */
-        if (!(v > STURDY_RANK_TOL)) return 0;
-        A[j * r + j] = sqrt(v);
-        for (size_t i = j + 1; i < r; i++) {
-            double x = A[i * r + j];
-            for (size_t q = 0; q < j; q++) x -= A[i * r + q] * A[j * r + q];
-            A[i * r + j] = x / A[j * r + j];
-        }
-    }
-    for (size_t i = 0; i < r; i++) {
-        double x = b[i];
-        for (size_t q = 0; q < i; q++) x -= A[i * r + q] * b[q];
-        b[i] = x / A[i * r + i];
-    }
-    for (size_t i = r; i-- > 0;) {
-        double x = b[i];
-        for (size_t q = i + 1; q < r; q++) x -= A[q * r + i] * b[q];
-        b[i] = x / A[i * r + i];
-    }
+    /* the pivot is relative to the unweighted diagonal (1 for an orthonormal U): one
+       this small means some direction of the model has no row inside */
+    if (!sturdy_cholesky_solve(A, r, b, STURDY_RANK_TOL)) return 0;
     for (size_t k = 0; k < K; k++) out[k] = 0.0;
     for (size_t c = 0; c < r; c++)
         for (size_t k = 0; k < K; k++) out[k] += U[c * K + k] * b[c];
@@ -210,6 +190,49 @@ static int pattern(const double *y, const uint32_t *g, size_t n, const double *m
         pat[i] = p;
     }
     return changed;
+}
+
+/* Σρ along the step from mu to mu_new, halved until it drops below obj (Σρ is convex
+ * along the line, so some fraction does unless mu is already the minimum); returns Σρ
+ * at the mu_new kept. */
+static double halve_step(const double *y, const uint32_t *g, size_t n, const double *mu,
+                         size_t K, double sigma, double obj, double obj_new, double *mu_new)
+{
+    for (int h = 0; h < HUBER_HALVINGS && !(obj_new <= obj); h++) {
+        for (size_t k = 0; k < K; k++) mu_new[k] = 0.5 * (mu_new[k] + mu[k]);
+        obj_new = rho_sum(y, g, n, mu_new, sigma);
+    }
+    return obj_new;
+}
+
+/* The group sums of an IRLS step: weights 1 inside, c/|u| outside. */
+static void irls_sums(const double *y, const uint32_t *g, size_t n, const double *mu,
+                      size_t K, double sigma, double *W, double *P)
+{
+    const double c = STURDY_HUBER_C;
+    memset(W, 0, K * sizeof *W);
+    memset(P, 0, K * sizeof *P);
+    for (size_t i = 0; i < n; i++) {
+        double a = fabs((y[i] - mu[g[i]]) / sigma);
+        double wt = a <= c ? 1.0 : c / a;
+        W[g[i]] += wt;
+        P[g[i]] += wt * y[i];
+    }
+}
+
+/* Moves mu to mu_new and the pattern with it; 1 when the fit has converged: an undamped
+ * Newton step that kept its pattern, or no fitted value moving by HUBER_TOL·σ. */
+static int take_step(const double *y, const uint32_t *g, size_t n, size_t K, double sigma,
+                     int newton, sturdy_huber_work *w, double *mu)
+{
+    double move = 0.0;
+    for (size_t k = 0; k < K; k++) {
+        double dm = fabs(w->mu_new[k] - mu[k]);
+        if (dm > move) move = dm;
+        mu[k] = w->mu_new[k];
+    }
+    int changed = pattern(y, g, n, mu, sigma, w->pat);
+    return (newton && !changed) || move <= HUBER_TOL * sigma;
 }
 
 /* The full model of a factorial design spans group space (r = K): every group has its
@@ -240,34 +263,17 @@ static int fit_groups(const double *y, const uint32_t *g, size_t n, size_t K, do
         }
         double obj_new = newton ? rho_sum(y, g, n, w->mu_new, sigma) : INFINITY;
         if (newton && !(obj_new <= obj)) {
-            for (int h = 0; h < HUBER_HALVINGS && !(obj_new <= obj); h++) {
-                for (size_t k = 0; k < K; k++) w->mu_new[k] = 0.5 * (w->mu_new[k] + mu[k]);
-                obj_new = rho_sum(y, g, n, w->mu_new, sigma);
-            }
+            obj_new = halve_step(y, g, n, mu, K, sigma, obj, obj_new, w->mu_new);
             newton = 0;
         }
         if (!(obj_new <= obj)) {
-            memset(w->W, 0, K * sizeof *w->W);
-            memset(w->P, 0, K * sizeof *w->P);
-            for (size_t i = 0; i < n; i++) {
-                double a = fabs((y[i] - mu[g[i]]) / sigma);
-                double wt = a <= c ? 1.0 : c / a;
-                w->W[g[i]] += wt;
-                w->P[g[i]] += wt * y[i];
-            }
+            irls_sums(y, g, n, mu, K, sigma, w->W, w->P);
             for (size_t k = 0; k < K; k++) w->mu_new[k] = w->P[k] / w->W[k];
             newton = 0;
             obj_new = rho_sum(y, g, n, w->mu_new, sigma);
         }
-        double move = 0.0;
-        for (size_t k = 0; k < K; k++) {
-            double dm = fabs(w->mu_new[k] - mu[k]);
-            if (dm > move) move = dm;
-            mu[k] = w->mu_new[k];
-        }
-        int changed = pattern(y, g, n, mu, sigma, w->pat);
         obj = obj_new;
-        if ((newton && !changed) || move <= HUBER_TOL * sigma) return it;
+        if (take_step(y, g, n, K, sigma, newton, w, mu)) return it;
     }
     return -HUBER_MAXIT;
 }
@@ -299,38 +305,19 @@ int sturdy_huber_fit(const double *y, const uint32_t *g, size_t n, const double 
         int newton = weighted_solve(U, K, r, inv_sqrt, w->W, w->P, w, w->mu_new);
         double obj_new = newton ? rho_sum(y, g, n, w->mu_new, sigma) : INFINITY;
         if (newton && !(obj_new <= obj)) {
-            /* the pattern changes along the step: halve it until Σρ drops (Σρ is convex
-               along the line, so some fraction does unless μ is already the minimum) */
-            for (int h = 0; h < HUBER_HALVINGS && !(obj_new <= obj); h++) {
-                for (size_t k = 0; k < K; k++) w->mu_new[k] = 0.5 * (w->mu_new[k] + mu[k]);
-                obj_new = rho_sum(y, g, n, w->mu_new, sigma);
-            }
+            /* the pattern changes along the step */
+            obj_new = halve_step(y, g, n, mu, K, sigma, obj, obj_new, w->mu_new);
             newton = 0;                    /* a damped step is not a converged one */
         }
         if (!(obj_new <= obj)) {
-            /* IRLS: weights 1 inside, c/|u| outside */
-            memset(w->W, 0, K * sizeof *w->W);
-            memset(w->P, 0, K * sizeof *w->P);
-            for (size_t i = 0; i < n; i++) {
-                double u = (y[i] - mu[g[i]]) / sigma, a = fabs(u);
-                double wt = a <= c ? 1.0 : c / a;
-                w->W[g[i]] += wt;
-                w->P[g[i]] += wt * y[i];
-            }
+            irls_sums(y, g, n, mu, K, sigma, w->W, w->P);
             newton = 0;
             if (!weighted_solve(U, K, r, inv_sqrt, w->W, w->P, w, w->mu_new))
                 return -it;                /* cannot happen with all weights > 0 */
             obj_new = rho_sum(y, g, n, w->mu_new, sigma);
         }
-        double move = 0.0;
-        for (size_t k = 0; k < K; k++) {
-            double dm = fabs(w->mu_new[k] - mu[k]);
-            if (dm > move) move = dm;
-            mu[k] = w->mu_new[k];
-        }
-        int changed = pattern(y, g, n, mu, sigma, w->pat);
         obj = obj_new;
-        if ((newton && !changed) || move <= HUBER_TOL * sigma) return it;
+        if (take_step(y, g, n, K, sigma, newton, w, mu)) return it;
     }
     return -HUBER_MAXIT;
 }

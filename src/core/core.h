@@ -55,6 +55,12 @@ __extension__ typedef unsigned __int128 sturdy_u128;
 /* qsort comparator of doubles in ascending order (NaNs compare equal to everything). */
 int sturdy_cmp_double(const void *a, const void *b);
 
+/* Solves A x = b for a symmetric positive definite k × k A (row-major, only its lower
+ * triangle read) by Cholesky: A's lower triangle is overwritten by the factor and b by x.
+ * Returns 0, leaving both partly overwritten, when a pivot² is not above tol (a matrix
+ * that is not safely positive definite at the caller's scale). */
+int sturdy_cholesky_solve(double *A, size_t k, double *b, double tol);
+
 /* Σx / n in one pass, in index order (n ≥ 1). */
 double sturdy_mean(const double *x, size_t n);
 

@@ -1,4 +1,7 @@
-/* numeric.c — small numerical helpers shared by the stages: ordering and centred sums. */
+/* numeric.c — small numerical helpers shared by the stages: ordering, centred sums and a
+ * small Cholesky solve. */
+#include <math.h>
+
 #include "core/core.h"
 
 int sturdy_cmp_double(const void *pa, const void *pb)
@@ -27,4 +30,30 @@ double sturdy_centred_ss(const double *x, size_t n, double *mean_out)
     if (mean_out)
         *mean_out = mean + corr / (double)n;
     return ss - corr * corr / (double)n;
+}
+
+int sturdy_cholesky_solve(double *A, size_t k, double *b, double tol)
+{
+    for (size_t j = 0; j < k; j++) {
+        double v = A[j * k + j];
+        for (size_t q = 0; q < j; q++) v -= A[j * k + q] * A[j * k + q];
+        if (!(v > tol)) return 0;
+        A[j * k + j] = sqrt(v);
+        for (size_t i = j + 1; i < k; i++) {
+            double x = A[i * k + j];
+            for (size_t q = 0; q < j; q++) x -= A[i * k + q] * A[j * k + q];
+            A[i * k + j] = x / A[j * k + j];
+        }
+    }
+    for (size_t i = 0; i < k; i++) {           /* L y = b */
+        double x = b[i];
+        for (size_t q = 0; q < i; q++) x -= A[i * k + q] * b[q];
+        b[i] = x / A[i * k + i];
+    }
+    for (size_t i = k; i-- > 0;) {             /* Lᵀ x = y */
+        double x = b[i];
+        for (size_t q = i + 1; q < k; q++) x -= A[q * k + i] * b[q];
+        b[i] = x / A[i * k + i];
+    }
+    return 1;
 }
