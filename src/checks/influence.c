@@ -91,25 +91,11 @@ static int deleted_ss(const infl_term *it, const sturdy_design *d, const double 
             A[a * s + c] = (a == c ? 1.0 : 0.0) - h;
         }
     }
-    /* in-place Cholesky (lower), then ‖L⁻¹ b‖² */
-    for (size_t j = 0; j < s; j++) {
-        double v = A[j * s + j];
-        for (size_t k = 0; k < j; k++) v -= A[j * s + k] * A[j * s + k];
-        if (!(v > PIVOT_TOL)) return 0;
-        A[j * s + j] = sqrt(v);
-        for (size_t i = j + 1; i < s; i++) {
-            double w = A[i * s + j];
-            for (size_t k = 0; k < j; k++) w -= A[i * s + k] * A[j * s + k];
-            A[i * s + j] = w / A[j * s + j];
-        }
-    }
+    /* Cholesky (lower), then ‖L⁻¹ b‖² */
+    if (!sturdy_cholesky(A, s, PIVOT_TOL)) return 0;
+    sturdy_cholesky_forward(A, s, b);
     double q = 0.0;
-    for (size_t i = 0; i < s; i++) {
-        double w = b[i];
-        for (size_t k = 0; k < i; k++) w -= A[i * s + k] * b[k];
-        b[i] = w / A[i * s + i];
-        q += b[i] * b[i];
-    }
+    for (size_t i = 0; i < s; i++) q += b[i] * b[i];
     *out = q;
     return 1;
 }

@@ -60,6 +60,10 @@ int sturdy_cmp_double(const void *a, const void *b);
  * Returns 0, leaving both partly overwritten, when a pivot² is not above tol (a matrix
  * that is not safely positive definite at the caller's scale). */
 int sturdy_cholesky_solve(double *A, size_t k, double *b, double tol);
+/* The factor alone (lower triangle of A overwritten by L; 0 as above), and the forward
+ * substitution L y = b in place. */
+int sturdy_cholesky(double *A, size_t k, double tol);
+void sturdy_cholesky_forward(const double *L, size_t k, double *b);
 
 /* Σx / n in one pass, in index order (n ≥ 1). */
 double sturdy_mean(const double *x, size_t n);

@@ -32,7 +32,7 @@ double sturdy_centred_ss(const double *x, size_t n, double *mean_out)
     return ss - corr * corr / (double)n;
 }
 
-int sturdy_cholesky_solve(double *A, size_t k, double *b, double tol)
+int sturdy_cholesky(double *A, size_t k, double tol)
 {
     for (size_t j = 0; j < k; j++) {
         double v = A[j * k + j];
@@ -45,11 +45,22 @@ int sturdy_cholesky_solve(double *A, size_t k, double *b, double tol)
             A[i * k + j] = x / A[j * k + j];
         }
     }
-    for (size_t i = 0; i < k; i++) {           /* L y = b */
+    return 1;
+}
+
+void sturdy_cholesky_forward(const double *L, size_t k, double *b)
+{
+    for (size_t i = 0; i < k; i++) {
         double x = b[i];
-        for (size_t q = 0; q < i; q++) x -= A[i * k + q] * b[q];
-        b[i] = x / A[i * k + i];
+        for (size_t q = 0; q < i; q++) x -= L[i * k + q] * b[q];
+        b[i] = x / L[i * k + i];
     }
+}
+
+int sturdy_cholesky_solve(double *A, size_t k, double *b, double tol)
+{
+    if (!sturdy_cholesky(A, k, tol)) return 0;
+    sturdy_cholesky_forward(A, k, b);          /* L y = b */
     for (size_t i = k; i-- > 0;) {             /* Lᵀ x = y */
         double x = b[i];
         for (size_t q = i + 1; q < k; q++) x -= A[q * k + i] * b[q];
