@@ -168,7 +168,8 @@ def check_range():
     probe = need_probe("probe_range")
     qs = []
     for k in (2, 3, 5, 10, 20):
-        for dfv in (2, 5, 12, 40, 200, "inf"):
+        # df below 5 (Games–Howell with small cells) take the outer integral over log s
+        for dfv in (1, 1.5, 2, 3.3, 4.9, 5, 12, 40, 200, "inf"):
             for q in (0.5, 2.0, 3.5, 5.0, 8.0):
                 qs.append(("upper", q, k, dfv))
             qs.append(("quant", 0.95, k, dfv))
