@@ -14,7 +14,8 @@
 #define CLI_EXIT_USAGE 2
 #define CLI_DONE (-1)   /* parsing printed help or version: exit 0 */
 
-typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV, CLI_FMT_CSV_COMPARISONS } cli_format;
+typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV, CLI_FMT_CSV_COMPARISONS,
+               CLI_FMT_HTML } cli_format;
 
 /* A list option (-y A,B -y C): owned copies of the names. */
 typedef struct {
@@ -51,6 +52,7 @@ typedef struct {
     cli_format format;
     int format_given;
     const char *out_path;        /* NULL: standard output */
+    const char *figures_dir;     /* --figures DIR: each figure as an SVG file, or NULL */
     int quiet;
 } cli_check;
 
@@ -143,7 +145,12 @@ int sturdy_cli_batch(int argc, char **argv);
 
 /* batch */
 
-/* The format a file name's extension asks for (.json, .csv), or -1. options.c. */
+/* Write each figure of the HTML report into folder `dir` (made when missing) as
+ * "<name>.svg", each file atomically; returns 0 or STURDY_EOUTPUT after printing why.
+ * figures_out.c. */
+int cli_write_figures(const char *dir, const sturdy_result *r);
+
+/* The format a file name's extension asks for (.json, .csv, .html), or -1. options.c. */
 int cli_format_of_path(const char *path);
 
 /* a, b and c joined in a new string (the caller frees it), or NULL when memory ran out. */
