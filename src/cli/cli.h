@@ -164,6 +164,8 @@ typedef struct {
     int compared;                /* an earlier result was found and compared */
     size_t changed;
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
+    int resumed;                 /* the result in place was kept (--resume) */
+    double seconds;              /* time computing it in this run (index.html only) */
 } cli_batch_outcome;
 
 /* A JSON result file read back (sturdy_result_free), or NULL when it is absent or not a
@@ -191,5 +193,11 @@ void cli_batch_compare(const char *name, const sturdy_result *old, const sturdy_
 int cli_batch_write_summary(const char *plan_path, const char *dir, const char *old_dir,
                             const char *const *names, const cli_batch_outcome *oc,
                             size_t n);
+
+/* Writes dir/index.html: one row per analysis with its verdicts (read from
+ * dir/NAME.json), the changes against old_dir, its time, and links to NAME.html (when
+ * present) and NAME.json. Returns 0, or STURDY_EOUTPUT after a message. batch_index.c. */
+int cli_batch_write_index(const char *plan_path, const char *dir, const char *old_dir,
+                          const char *const *names, const cli_batch_outcome *oc, size_t n);
 
 #endif

@@ -221,6 +221,7 @@ sturdy_status sturdy_report_html(const sturdy_result *r, const sturdy_report_opt
     sturdy_svg_escape(out, d->source);
     sturdy_buf_puts(out, ")</title>\n");
     sturdy_buf_puts(out, page_style);
+    sturdy_buf_printf(out, "<style>\n%s\n</style>\n", sturdy_svg_style());
     sturdy_buf_puts(out, "</head>\n<body>\n<header>\n<h1>");
     for (size_t i = 0; i < r->nresp; i++) {
         if (i) sturdy_buf_puts(out, ", ");
@@ -303,7 +304,12 @@ static int put_file(void *arg, const sturdy_fig *f)
     file_figs *ff = arg;
     ff->file.len = 0;
     sturdy_buf_puts(&ff->file, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
-    sturdy_buf_put(&ff->file, f->svg->data, f->svg->len);
+    /* the stylesheet after the text alternative, where a standalone file needs it */
+    const char *s = f->svg->data, *at = strstr(s, "</desc>\n");
+    size_t head = at ? (size_t)(at - s) + strlen("</desc>\n") : 0;
+    sturdy_buf_put(&ff->file, s, head);
+    sturdy_buf_printf(&ff->file, "<style>%s</style>\n", sturdy_svg_style());
+    sturdy_buf_put(&ff->file, s + head, f->svg->len - head);
     if (ff->file.failed)
         return 1;
     return ff->fn(ff->arg, f->name, ff->file.data, ff->file.len);

@@ -132,7 +132,7 @@ void sturdy_svg_escape(sturdy_buf *b, const char *s)
  * in lightness as well as in hue (a blue–orange axis, which the common colour-vision
  * deficiencies keep apart), and every series also has its own dash and marker shape. */
 static const char *const svg_style =
-    "<style>"
+    ""
     "text{font-family:system-ui,sans-serif;font-size:12px;fill:#1b2430}"
     ".hd{font-size:14px;font-weight:600}"
     ".ax{stroke:#1b2430;stroke-width:1;fill:none}"
@@ -154,22 +154,25 @@ static const char *const svg_style =
     ".ref{stroke:#1b2430;stroke-width:1;stroke-dasharray:4 3;fill:none}"
     ".den{stroke:#5e3c99;stroke-width:2;fill:none}"
     ".rec{stroke-width:4}"
-    ".pt{fill-opacity:0.75;stroke:none}"
-    "</style>";
+    ".pt{fill-opacity:0.75;stroke:none}";
+
+const char *sturdy_svg_style(void)
+{
+    return svg_style;
+}
 
 void sturdy_svg_begin(sturdy_buf *b, double width, double height, const char *id,
                       const char *title, const char *desc)
 {
     sturdy_buf_printf(b, "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 %.0f %.0f\" "
-                      "width=\"%.0f\" height=\"%.0f\" role=\"img\" aria-labelledby=\"%s-t %s-d\" "
-                      "id=\"%s\">\n<title id=\"%s-t\">", width, height, width, height, id, id, id,
-                      id);
+                      "width=\"%.0f\" height=\"%.0f\" role=\"img\" class=\"%s\" aria-label=\"",
+                      width, height, width, height, id);
     sturdy_svg_escape(b, title);
-    sturdy_buf_printf(b, "</title>\n<desc id=\"%s-d\">", id);
+    sturdy_buf_puts(b, "\">\n<title>");
+    sturdy_svg_escape(b, title);
+    sturdy_buf_puts(b, "</title>\n<desc>");
     sturdy_svg_escape(b, desc);
     sturdy_buf_puts(b, "</desc>\n");
-    sturdy_buf_puts(b, svg_style);
-    sturdy_buf_puts(b, "\n");
 }
 
 void sturdy_svg_end(sturdy_buf *b)

@@ -58,11 +58,15 @@ typedef struct {
                                     slanted category labels */
 } sturdy_svg_plot;
 
-/* Open an <svg> of the given size with role="img", its <title> and <desc>, and the
- * stylesheet of the figures. `id` (ASCII) names the figure. */
+/* Open an <svg> of the given size with role="img", aria-label, <title> and <desc>.
+ * `id` (ASCII) is set as its class. The stylesheet (sturdy_svg_style) is not included:
+ * a page carries it once, a standalone file after its <desc>. */
 void sturdy_svg_begin(sturdy_buf *b, double width, double height, const char *id,
                       const char *title, const char *desc);
 void sturdy_svg_end(sturdy_buf *b);
+
+/* The figures' CSS rules (without the <style> element). */
+const char *sturdy_svg_style(void);
 
 /* Set up the plot area (margins in pixels) and the axes for the data ranges; draws the
  * grid, the axes with tick labels, the axis titles and the heading. */
