@@ -1,0 +1,222 @@
+/* test_svg.c — the SVG writer's geometry and text: nice-number ticks (Heckbert 1990,
+ * "Nice numbers for graph labels", Graphics Gems I, worked by hand below), linear scales,
+ * Liang–Barsky clipping, marker and bar clipping, escaping of level names; and the fixed
+ * bins of the resampled F* (their upper edges from F quantiles computed with scipy
+ * 1.10, scipy.stats.f.isf(0.001, df1, df2)). */
+#include <stdlib.h>
+#include <string.h>
+
+#include "check.h"
+#include "report/svg.h"
+#include "classical/classical.h"
+#include "sturdy/analysis.h"
+
+static void ticks_case(const char *name, double lo, double hi, int want, double elo,
+                       double ehi, double estep, size_t en, int enfrac)
+{
+    sturdy_svg_ticks t;
+    char what[160];
+    sturdy_svg_ticks_make(lo, hi, want, &t);
+    snprintf(what, sizeof what, "%s: first tick", name);
+    CHECK_ABS(what, t.lo, elo, 1e-12);
+    snprintf(what, sizeof what, "%s: last tick", name);
+    CHECK_ABS(what, t.hi, ehi, 1e-12);
+    snprintf(what, sizeof what, "%s: step", name);
+    CHECK_REL(what, t.step, estep, 1e-12);
+    snprintf(what, sizeof what, "%s: ticks", name);
+    CHECK_INT(what, t.n, en);
+    snprintf(what, sizeof what, "%s: decimals", name);
+    CHECK_INT(what, t.nfrac, enfrac);
+}
+
+static void label_case(const sturdy_svg_ticks *t, size_t i, const char *expect)
+{
+    char buf[32], what[160];
+    sturdy_svg_tick_label(t, i, buf);
+    snprintf(what, sizeof what, "tick label %zu: observed '%s' expected '%s'", i, buf, expect);
+    CHECK(what, !strcmp(buf, expect));
+}
+
+static void escape_case(const char *in, const char *expect)
+{
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    sturdy_svg_escape(&b, in);
+    char what[400];
+    snprintf(what, sizeof what, "escape: observed '%s' expected '%s'", b.data ? b.data : "",
+             expect);
+    CHECK(what, b.data && !strcmp(b.data, expect));
+    sturdy_buf_free(&b);
+}
+
+static void clip_case(const char *name, double x0, double y0, double x1, double y1, int evis,
+                      double e0, double e1, double e2, double e3)
+{
+    sturdy_svg_rect r = { 0, 0, 10, 10 };
+    double s[4] = { NAN, NAN, NAN, NAN };
+    int vis = sturdy_svg_clip(&r, x0, y0, x1, y1, s);
+    char what[160];
+    snprintf(what, sizeof what, "clip %s: visible", name);
+    CHECK_INT(what, vis, evis);
+    if (!evis)
+        return;
+    double e[4] = { e0, e1, e2, e3 };
+    for (int k = 0; k < 4; k++) {
+        snprintf(what, sizeof what, "clip %s: end coordinate %d", name, k);
+        CHECK_ABS(what, s[k], e[k], 1e-12);
+    }
+}
+
+/* Every number after M or L in the path data lies inside the area. */
+static int path_inside(const char *svg, const sturdy_svg_rect *a)
+{
+    const char *d = strstr(svg, " d=\"");
+    if (!d)
+        return 0;
+    d += 4;
+    int ok = 1, npts = 0;
+    while (*d && *d != '"') {
+        if (*d == 'M' || *d == 'L') {
+            char *end;
+            double x = strtod(d + 1, &end), y = strtod(end, &end);
+            ok &= x >= a->x0 - 0.05 && x <= a->x1 + 0.05 && y >= a->y0 - 0.05 &&
+                  y <= a->y1 + 0.05;
+            npts++;
+            d = end;
+        } else {
+            d++;
+        }
+    }
+    return ok && npts >= 2;
+}
+
+int main(void)
+{
+    /* nicenum: round to the nearest of 1, 2, 5, 10 (thresholds 1.5, 3, 7), or take the
+       smallest at least x */
+    CHECK_REL("nicenum(6.9, round) = 5", sturdy_svg_nicenum(6.9, 1), 5.0, 1e-12);
+    CHECK_REL("nicenum(7, round) = 10", sturdy_svg_nicenum(7.0, 1), 10.0, 1e-12);
+    CHECK_REL("nicenum(0.149, round) = 0.1", sturdy_svg_nicenum(0.149, 1), 0.1, 1e-12);
+    CHECK_REL("nicenum(2.1, ceiling) = 5", sturdy_svg_nicenum(2.1, 0), 5.0, 1e-12);
+    CHECK_REL("nicenum(2, ceiling) = 2", sturdy_svg_nicenum(2.0, 0), 2.0, 1e-12);
+    CHECK_REL("nicenum(1000, ceiling) = 1000", sturdy_svg_nicenum(1000.0, 0), 1000.0, 1e-12);
+
+    /* Heckbert's loose labels: range = nicenum(hi − lo), step = nicenum(range/(n−1), round) */
+    ticks_case("[0, 1] in 5", 0.0, 1.0, 5, 0.0, 1.0, 0.2, 6, 1);
+    ticks_case("[-3.7, 12.2] in 6", -3.7, 12.2, 6, -5.0, 15.0, 5.0, 5, 0);
+    ticks_case("[0.00123, 0.00456] in 5", 0.00123, 0.00456, 5, 0.001, 0.005, 0.001, 5, 3);
+    ticks_case("[-1, 1] in 5", -1.0, 1.0, 5, -1.0, 1.0, 0.5, 5, 1);
+    ticks_case("[5, 5] widened", 5.0, 5.0, 5, 4.4, 5.6, 0.2, 7, 1);
+    ticks_case("[0, 0] widened", 0.0, 0.0, 5, -1.0, 1.0, 0.5, 5, 1);
+    ticks_case("[12, 3] reversed", 12.0, 3.0, 5, 2.0, 12.0, 2.0, 6, 0);
+    ticks_case("[NaN, 1] falls back to [0, 1]", NAN, 1.0, 5, 0.0, 1.0, 0.2, 6, 1);
+    sturdy_svg_ticks t;
+    sturdy_svg_ticks_make(-1.0, 1.0, 5, &t);
+    label_case(&t, 0, "-1.0");
+    label_case(&t, 2, "0.0");      /* never "-0.0" */
+    label_case(&t, 4, "1.0");
+    sturdy_svg_ticks_make(0.00123, 0.00456, 5, &t);
+    label_case(&t, 2, "0.003");
+    /* range nicenum(0.6) = 1, step nicenum(1/6, round) = 0.2: -0.4 … 0.4, each label
+       exact (k·step, not a sum that drifts to 0.20000000000000004) */
+    ticks_case("[-0.3, 0.3] in 7", -0.3, 0.3, 7, -0.4, 0.4, 0.2, 5, 1);
+    sturdy_svg_ticks_make(-0.3, 0.3, 7, &t);
+    label_case(&t, 0, "-0.4");
+    label_case(&t, 2, "0.0");
+    label_case(&t, 3, "0.2");
+    label_case(&t, 4, "0.4");
+
+    /* scales */
+    sturdy_svg_scale sx = { 0.0, 10.0, 100.0, 200.0 }, sy = { 0.0, 1.0, 300.0, 50.0 };
+    CHECK_ABS("x scale: 2.5 → 125", sturdy_svg_map(&sx, 2.5), 125.0, 1e-12);
+    CHECK_ABS("x scale: -10 → 0 (extrapolates)", sturdy_svg_map(&sx, -10.0), 0.0, 1e-12);
+    CHECK_ABS("y scale runs upwards: 0.2 → 250", sturdy_svg_map(&sy, 0.2), 250.0, 1e-12);
+    sturdy_svg_scale flat = { 3.0, 3.0, 0.0, 10.0 };
+    CHECK_ABS("empty data range maps to the middle", sturdy_svg_map(&flat, 7.0), 5.0, 1e-12);
+
+    /* clipping to [0, 10]² */
+    clip_case("inside", 1, 2, 3, 4, 1, 1, 2, 3, 4);
+    clip_case("across", -5, 5, 15, 5, 1, 0, 5, 10, 5);
+    clip_case("diagonal in", -5, -5, 5, 5, 1, 0, 0, 5, 5);
+    clip_case("outside right", 11, 0, 20, 5, 0, 0, 0, 0, 0);
+    clip_case("vertical outside", 12, -3, 12, 13, 0, 0, 0, 0, 0);
+    clip_case("corner miss", -1, 1, 1, -1.5, 0, 0, 0, 0, 0);
+    clip_case("both ends out, through", 5, -10, 5, 20, 1, 5, 0, 5, 10);
+
+    /* drawing through a plot: nothing leaves the plot area */
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    sturdy_svg_plot p;
+    memset(&p, 0, sizeof p);
+    sturdy_svg_frame(&p, &b, 640, 360, 0.0, 10.0, 0.0, 1.0, "t", "x", "y");
+    CHECK("frame: area inside the drawing", p.area.x0 > 0 && p.area.x1 < 640 &&
+          p.area.y0 > 0 && p.area.y1 < 360);
+    CHECK_ABS("frame: x axis starts at the area's left", sturdy_svg_px(&p, 0.0), p.area.x0, 1e-9);
+    CHECK_ABS("frame: y axis top at the last tick", sturdy_svg_py(&p, p.yt.hi), p.area.y0, 1e-9);
+    sturdy_buf_free(&b);
+    sturdy_buf_init(&b);
+    p.b = &b;
+    double xs[] = { -5, 0, 5, 10, 20 }, ys[] = { 0.5, 2.0, 0.5, -1.0, 0.5 };
+    sturdy_svg_polyline(&p, xs, ys, 5, "ln");
+    CHECK("polyline: every point clipped into the area", b.data && path_inside(b.data, &p.area));
+    sturdy_buf_free(&b);
+    sturdy_buf_init(&b);
+    p.b = &b;
+    sturdy_svg_marker(&p, 11.0, 0.5, 0, "s0");
+    sturdy_svg_marker(&p, 5.0, -0.2, 1, "s1");
+    CHECK("markers outside the area are not drawn", b.len == 0);
+    sturdy_svg_marker(&p, 5.0, 0.5, 0, "s0");
+    CHECK("a marker inside is drawn", b.data && strstr(b.data, "<circle") != NULL);
+    sturdy_buf_free(&b);
+    sturdy_buf_init(&b);
+    p.b = &b;
+    sturdy_svg_bar(&p, 1.0, 2.0, 0.0, 5.0, "bar");   /* top far above the axis */
+    double y = NAN, h = NAN;
+    const char *at = b.data ? strstr(b.data, " y=\"") : NULL;
+    if (at) y = strtod(at + 4, NULL);
+    at = b.data ? strstr(b.data, " height=\"") : NULL;
+    if (at) h = strtod(at + 9, NULL);
+    CHECK_ABS("bar clipped at the area's top", y, p.area.y0, 0.051);
+    CHECK_ABS("bar clipped to the area's height", h, p.area.y1 - p.area.y0, 0.11);
+    sturdy_buf_free(&b);
+
+    /* escaping of level names */
+    escape_case("a<b & \"c\" 'd' >", "a&lt;b &amp; &quot;c&quot; &#39;d&#39; &gt;");
+    escape_case("Müller × 20 °C", "Müller × 20 °C");
+    escape_case("日本語", "日本語");
+    escape_case("bad\xff byte", "bad\xEF\xBF\xBD byte");
+    escape_case("tab\there", "tab\xEF\xBF\xBDhere");
+    escape_case("c1 \xC2\x85 control", "c1 \xEF\xBF\xBD control");
+    escape_case("cut \xE6\x97", "cut \xEF\xBF\xBD\xEF\xBF\xBD");
+    /* a name in a whole drawing stays one text element */
+    sturdy_buf_init(&b);
+    sturdy_svg_begin(&b, 100, 100, "f0", "<script>x</script>", "a & b");
+    sturdy_svg_text(&b, 1, 2, "start", "lab", "</text><g>");
+    sturdy_svg_end(&b);
+    CHECK("no raw markup from names reaches the drawing",
+          b.data && !strstr(b.data, "<script>") && !strstr(b.data, "</text><g>") &&
+          strstr(b.data, "&lt;/text&gt;&lt;g&gt;"));
+    sturdy_buf_free(&b);
+
+    /* the fixed bins of F* */
+    CHECK_REL("F* bins: top for F 3.31 on (2, 57) = 10 (q.999 = 7.817)",
+              sturdy_fhist_top(3.31, 2, 57), 10.0, 1e-12);
+    CHECK_REL("F* bins: stretched to show F 20 on (2, 57): 25", sturdy_fhist_top(20, 2, 57),
+              25.0, 1e-12);
+    CHECK_REL("F* bins: at most 4 × q.999 for F 500 on (2, 57): 50",
+              sturdy_fhist_top(500, 2, 57), 50.0, 1e-12);
+    CHECK_REL("F* bins: top for F 3 on (1, 57) = 20 (q.999 = 12.04)",
+              sturdy_fhist_top(3, 1, 57), 20.0, 1e-12);
+    CHECK_REL("F* bins: F 7.5 on (4, 20) just past q.999 = 7.096: 10",
+              sturdy_fhist_top(7.5, 4, 20), 10.0, 1e-12);
+    CHECK("F* bins: no F, no bins", isnan(sturdy_fhist_top(NAN, 2, 57)));
+    CHECK_INT("bin of 0.1 on [0, 10)", sturdy_fhist_bin(0.1, 10), 0);
+    CHECK_INT("bin of 0.25 (an edge) on [0, 10)", sturdy_fhist_bin(0.25, 10), 1);
+    CHECK_INT("bin of 9.99", sturdy_fhist_bin(9.99, 10), STURDY_FHIST_BINS - 2);
+    CHECK_INT("bin of 10 (top): the last", sturdy_fhist_bin(10, 10), STURDY_FHIST_BINS - 1);
+    CHECK_INT("bin of +inf: the last", sturdy_fhist_bin(INFINITY, 10), STURDY_FHIST_BINS - 1);
+    CHECK_INT("bin of -1: the first", sturdy_fhist_bin(-1, 10), 0);
+    CHECK_REL("F(2, 57) density at 1.5 (scipy 0.2202147253237757)",
+              sturdy_f_density(1.5, 2, 57), 0.2202147253237757, 1e-10);
+    return check_done();
+}
