@@ -19,7 +19,10 @@ void fig_num(double v, char *buf)
         snprintf(buf, 32, "%s", v != v ? "—" : v > 0 ? "∞" : "−∞");
         return;
     }
-    snprintf(buf, 32, "%.4g", v);
+    if (fabs(v) >= 1e4 && fabs(v) < 1e9)
+        snprintf(buf, 32, "%.0f", v);           /* 14933, not 1.493e+04 */
+    else
+        snprintf(buf, 32, "%.4g", v);
 }
 
 static void sanitise(const char *s, char *out, size_t n, size_t *k)

@@ -33,8 +33,9 @@ static const char *const page_style =
     "details{margin:.3rem 0}summary{cursor:pointer;color:var(--accent)}\n"
     ".scroll{overflow-x:auto}\n"
     "table{border-collapse:collapse;font-size:.85rem;margin:.4rem 0}\n"
-    "th,td{border-bottom:1px solid var(--line);padding:.2rem .5rem;text-align:right;"
+    "th,td{border-bottom:1px solid var(--line);padding:.2rem .4rem;text-align:right;"
     "white-space:nowrap}\n"
+    "thead th{white-space:normal;vertical-align:bottom}\n"
     "th:first-child,td:first-child,caption{text-align:left}\n"
     "caption{font-weight:600;padding:.3rem 0}\n"
     ".verdict-mixed{font-weight:600}\n"
@@ -274,12 +275,13 @@ sturdy_status sturdy_report_html(const sturdy_result *r, const sturdy_report_opt
         sturdy_svg_escape(out, h);
         sturdy_buf_puts(out, "</h2>\n");
         tests_table(out, r, &r->resp[ri]);
-        sturdy_buf_puts(out, "<h3>The report</h3>\n");
-        pre_block(out, &parts[k]);
+        /* the figures before the long text: the data are looked at first */
         sturdy_buf_puts(out, "<h3>Figures</h3>\n");
         page_figs pf = { out, ri };
         if ((st = sturdy_figures_each(r, put_figure, &pf)))
             break;
+        sturdy_buf_puts(out, "<h3>The report in full</h3>\n");
+        pre_block(out, &parts[k]);
         sturdy_buf_puts(out, "</section>\n");
     }
     sturdy_buf_puts(out, "</main>\n<footer><p class=\"sub\">Made by sturdy " STURDY_VERSION
