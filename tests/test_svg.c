@@ -2,14 +2,16 @@
  * "Nice numbers for graph labels", Graphics Gems I, worked by hand below), linear scales,
  * Liang–Barsky clipping, marker and bar clipping, escaping of level names; and the fixed
  * bins of the resampled F* (their upper edges from F quantiles computed with scipy
- * 1.10, scipy.stats.f.isf(0.001, df1, df2)). */
+ * 1.10, scipy.stats.f.isf(0.001, df1, df2)); the page and the figure files of the demo
+ * data through the public API. Run from the repository root (examples/demo.csv). */
 #include <stdlib.h>
 #include <string.h>
 
 #include "check.h"
 #include "report/svg.h"
 #include "classical/classical.h"
-#include "sturdy/analysis.h"
+#include "sturdy/sturdy.h"
+#include "core/result.h"
 
 static void ticks_case(const char *name, double lo, double hi, int want, double elo,
                        double ehi, double estep, size_t en, int enfrac)
@@ -88,6 +90,109 @@ static int path_inside(const char *svg, const sturdy_svg_rect *a)
         }
     }
     return ok && npts >= 2;
+}
+
+typedef struct { size_t calls, stop_after; int bad_name; char names[32][160]; } sink;
+
+static int count_figure(void *arg, const char *name, const char *svg, size_t len)
+{
+    sink *k = arg;
+    for (const char *c = name; *c; c++)
+        if (!((*c >= 'a' && *c <= 'z') || (*c >= 'A' && *c <= 'Z') || (*c >= '0' && *c <= '9') ||
+              *c == '.' || *c == '_' || *c == '-'))
+            k->bad_name = 1;
+    if (!svg || len < 100 || strncmp(svg, "<?xml", 5) || !strstr(svg, "<style>"))
+        k->bad_name = 1;
+    if (k->calls < 32)
+        snprintf(k->names[k->calls], sizeof k->names[0], "%s", name);
+    k->calls++;
+    return k->stop_after && k->calls >= k->stop_after;
+}
+
+/* The page and the figures of the demo data through the public API. */
+static void page_checks(void)
+{
+    char err[STURDY_ERR_LEN] = "";
+    sturdy_table *t = NULL;
+    if (sturdy_table_load("examples/demo.csv", NULL, &t, err)) {
+        CHECK("examples/demo.csv loads (run from the repository root)", 0);
+        return;
+    }
+    static const char *ys[] = { "build_min" }, *fs[] = { "runner", "cache", "tests" };
+    sturdy_options o;
+    sturdy_options_init(&o);
+    o.model.responses = ys;
+    o.model.nresponses = 1;
+    o.model.factors = fs;
+    o.model.nfactors = 3;
+    o.permutations = 199;
+    o.bootstrap = 0;
+    sturdy_result *r = NULL;
+    sturdy_context ctx;
+    sturdy_context_init(&ctx);
+    ctx.threads = 1;
+    CHECK_INT("demo analysed", sturdy_analyze(t, &o, &ctx, &r, err), STURDY_OK);
+    sturdy_table_free(t);
+    if (!r)
+        return;
+    /* every rearrangement lands in exactly one bin of each tested term */
+    int sums = 1;
+    for (size_t k = 0; k < r->resp[0].nterms; k++) {
+        uint64_t sum = 0;
+        for (size_t q = 0; q < STURDY_FHIST_BINS; q++)
+            sum += r->resp[0].terms[k].f_hist[q];
+        sums &= sum == 199;
+    }
+    CHECK("F* bins of every term add up to the 199 rearrangements", sums);
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    CHECK_INT("html written", sturdy_report_html(r, NULL, &b), STURDY_OK);
+    size_t nsvg = 0;
+    for (const char *p = b.data; p && (p = strstr(p, "<svg ")); p++)
+        nsvg++;
+    /* means of 3 main effects and 3 two-factor terms, the effect sizes (the noncentral-F
+       interval needs no bootstrap), F* of 7 terms, 3 residual figures, influential rows */
+    CHECK_INT("html: 18 drawings", nsvg, 18);
+    CHECK("html: a whole document", b.data && !strncmp(b.data, "<!DOCTYPE html>", 15) &&
+          strstr(b.data, "</html>\n") == b.data + b.len - 8);
+    sturdy_buf c;
+    sturdy_buf_init(&c);
+    sturdy_report_html(r, NULL, &c);
+    CHECK("html: the same bytes twice", c.len == b.len && !memcmp(c.data, b.data, b.len));
+    sturdy_buf_free(&c);
+    sturdy_buf_free(&b);
+    sink k = { 0 };
+    CHECK_INT("figures: all handed over", sturdy_report_figures(r, count_figure, &k), STURDY_OK);
+    CHECK_INT("figures: 18 files", k.calls, 18);
+    CHECK("figures: safe names, XML files with their own style", !k.bad_name);
+    int unique = 1;
+    for (size_t i = 0; i < k.calls && i < 32; i++)
+        for (size_t j = 0; j < i; j++)
+            unique &= strcmp(k.names[i], k.names[j]) != 0;
+    CHECK("figures: names unique", unique);
+    CHECK("figures: named by response and term",
+          !strcmp(k.names[3], "build_min-means-runner_by_cache"));
+    sink stop = { 0 };
+    stop.stop_after = 3;
+    CHECK_INT("figures: a sink that stops gives STURDY_EOUTPUT",
+              sturdy_report_figures(r, count_figure, &stop), STURDY_EOUTPUT);
+    CHECK_INT("figures: and is called no more", stop.calls, 3);
+    /* a result read back has no design: no page */
+    sturdy_buf j;
+    sturdy_buf_init(&j);
+    sturdy_report_json(r, NULL, &j);
+    sturdy_result *back = NULL;
+    CHECK_INT("JSON read back", sturdy_result_read_json("j", j.data, j.len, &back, err),
+              STURDY_OK);
+    sturdy_buf_init(&b);
+    CHECK_INT("html of a result read back: STURDY_EUSAGE", sturdy_report_html(back, NULL, &b),
+              STURDY_EUSAGE);
+    CHECK_INT("figures of a result read back: STURDY_EUSAGE",
+              sturdy_report_figures(back, count_figure, &k), STURDY_EUSAGE);
+    sturdy_buf_free(&b);
+    sturdy_buf_free(&j);
+    sturdy_result_free(back);
+    sturdy_result_free(r);
 }
 
 int main(void)
@@ -218,5 +323,6 @@ int main(void)
     CHECK_INT("bin of -1: the first", sturdy_fhist_bin(-1, 10), 0);
     CHECK_REL("F(2, 57) density at 1.5 (scipy 0.2202147253237757)",
               sturdy_f_density(1.5, 2, 57), 0.2202147253237757, 1e-10);
+    page_checks();
     return check_done();
 }

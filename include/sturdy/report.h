@@ -12,8 +12,9 @@
  *   [partial only: shard{index, count, perm_range, boot_range}, data_checksum],
  *   notes[], responses[{response, terms[...], error{df, ss, ms, note}, total{df, ss},
  *   cells[{mean, sd}], diagnostics{...}}].
- * With `partial` (a shard) each term also carries raw{exceed, exceed_fwer, boot}: the
- * slice's counts, and one [5 effect sizes] row per replicate in [boot_begin, boot_end)
+ * With `partial` (a shard) each term also carries raw{exceed, exceed_fwer, ..., f_hist,
+ * boot}: the slice's counts (f_hist: its F* on the STURDY_FHIST_BINS fixed bins), and one
+ * row of raw material per replicate in [boot_begin, boot_end)
  * (null when the term has no replicates), for `sturdy merge` to add up.
  * Row numbers ("row") are 1-based data rows (the first record after the header is row
  * 1); "line" is the file line. The thread count never appears, so results of any split
