@@ -39,7 +39,8 @@ static const char *const page_style =
     "th:first-child,td:first-child,caption{text-align:left}\n"
     "caption{font-weight:600;padding:.3rem 0}\n"
     ".verdict-mixed{font-weight:600}\n"
-    "@media (max-width:40rem){body{padding:.5rem}pre{font-size:.62rem}}\n"
+    "@media (max-width:40rem){body{padding:.5rem}pre{font-size:.62rem}"
+    "pre.prose{white-space:pre-wrap;font-size:.72rem}}\n"
     "@media print{@page{size:A4;margin:14mm}body{max-width:none;padding:0}"
     "pre{font-size:7pt;background:none;overflow:visible;white-space:pre-wrap}"
     "figure{break-inside:avoid}summary{display:none}nav{display:none}"
@@ -109,14 +110,15 @@ static void heading_text(const text_part *p, char *out, size_t n)
     out[len] = 0;
 }
 
-static void pre_block(sturdy_buf *b, const text_part *p)
+/* The text under a heading; `prose` text (headline, run, notes) may wrap on a phone. */
+static void pre_block(sturdy_buf *b, const text_part *p, int prose)
 {
     size_t n = p->body_len;
     while (n && p->body[n - 1] == '\n')
         n--;
     if (!n)
         return;
-    sturdy_buf_puts(b, "<pre>");
+    sturdy_buf_puts(b, prose ? "<pre class=\"prose\">" : "<pre>");
     esc_lines(b, p->body, n);
     sturdy_buf_puts(b, "</pre>\n");
 }
@@ -266,7 +268,7 @@ sturdy_status sturdy_report_html(const sturdy_result *r, const sturdy_report_opt
             sturdy_buf_printf(out, "<section id=\"part-%zu\">\n<h2>", k);
             sturdy_svg_escape(out, h);
             sturdy_buf_puts(out, "</h2>\n");
-            pre_block(out, &parts[k]);
+            pre_block(out, &parts[k], 1);
             sturdy_buf_puts(out, "</section>\n");
             continue;
         }
@@ -281,7 +283,7 @@ sturdy_status sturdy_report_html(const sturdy_result *r, const sturdy_report_opt
         if ((st = sturdy_figures_each(r, put_figure, &pf)))
             break;
         sturdy_buf_puts(out, "<h3>The report in full</h3>\n");
-        pre_block(out, &parts[k]);
+        pre_block(out, &parts[k], 0);
         sturdy_buf_puts(out, "</section>\n");
     }
     sturdy_buf_puts(out, "</main>\n<footer><p class=\"sub\">Made by sturdy " STURDY_VERSION
