@@ -204,6 +204,14 @@ if [ -n "$CHROME" ] && [ -f "$I" ]; then
         && ok "chromium: index links each page and shows verdicts and the failure" \
         || bad "chromium: index lacks links, verdicts or the failure"
 fi
+# temporaries of pages and of the index left by an interrupted run are removed on resume
+touch "$T/b/out/first.html.tmp.AbC123" "$T/b/out/index.html.tmp.XyZ789" "$T/b/out/keep.html.tmp.QQQQQQ"
+"$S" batch "$T/b/plan.csv" -q --resume -o "$T/b/out" 2>/dev/null
+[ ! -e "$T/b/out/first.html.tmp.AbC123" ] && [ ! -e "$T/b/out/index.html.tmp.XyZ789" ] \
+    && [ -e "$T/b/out/keep.html.tmp.QQQQQQ" ] && [ -f "$T/b/out/first.html" ] \
+    && grep -qF '>kept<' "$T/b/out/index.html" \
+    && ok "batch --resume: stale page and index temporaries removed, others kept; pages stay" \
+    || bad "batch --resume: temporaries or pages handled wrongly"
 
 echo "$pass passed, $fail failed"
 [ $fail = 0 ]

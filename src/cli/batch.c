@@ -561,7 +561,8 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
 
 /* --- results folder and summary ------------------------------------------------- */
 
-/* Remove "NAME.json.tmp.XXXXXX" (and the summaries' temporaries) left by a run that was
+/* Remove "NAME.json.tmp.XXXXXX", "NAME.html.tmp.XXXXXX" (and the summaries' and the
+ * index's temporaries) left by a run that was
  * interrupted between creating and renaming them. */
 static void remove_stale(const batch *b)
 {
@@ -573,12 +574,13 @@ static void remove_stale(const batch *b)
         size_t len = strlen(n), suffix = sizeof ".tmp." - 1 + TMP_RANDOM_LEN;
         if (len <= suffix || strncmp(n + len - suffix, ".tmp.", 5)) continue;
         size_t stem = len - suffix;
-        int ours = stem == 11 && (!strncmp(n, "summary.csv", 11) ||
-                                  !strncmp(n, "summary.txt", 11));
+        int ours = (stem == 11 && (!strncmp(n, "summary.csv", 11) ||
+                                   !strncmp(n, "summary.txt", 11))) ||
+                   (stem == 10 && !strncmp(n, "index.html", 10));
         for (size_t i = 0; !ours && stem > 5 && i < sturdy_table_nrows(b->plan); i++) {
             const char *name = cell(b, b->req[COL_NAME], i);
             ours = strlen(name) == stem - 5 && !strncmp(n, name, stem - 5) &&
-                   !strncmp(n + stem - 5, ".json", 5);
+                   (!strncmp(n + stem - 5, ".json", 5) || !strncmp(n + stem - 5, ".html", 5));
         }
         if (!ours) continue;
         char *path = cli_str_cat3(b->dir, "/", n);
