@@ -325,6 +325,8 @@ static int fig_effects(const sturdy_result *r, size_t ri, fig_work *f)
                      "term", "partial η² (0 to 1)");
     fig_categories(&p, labels, n);
     fig_legend(&p, mnames, nmeth, 0);
+    sturdy_svg_text(&f->svg, w - 8, h - 8, "end", "lab",
+                    "thick: the recommended interval; black tick: the estimate");
     const char *heads[] = { "term", "estimate", "noncentral F", "percentile", "BCa",
                             "test inversion", "studentized test inversion", "recommended",
                             NULL };
@@ -510,6 +512,8 @@ static int fig_influence(const sturdy_result *r, size_t ri, fig_work *f)
         sturdy_svg_marker(&p, (double)i - 0.15, log10(tr->p), 0, "s0");
         char pa[32];
         fig_num(tr->p, pa);
+        double used[SENS_TOP];       /* label heights so far: close ones are moved apart */
+        size_t nused = 0;
         for (size_t k = 0; k < tr->sens.ntop; k++) {
             const sturdy_sens_row *sr = &tr->sens.top[k];
             double y = sr->p_without > 0 ? log10(sr->p_without) : NAN;
@@ -518,9 +522,19 @@ static int fig_influence(const sturdy_result *r, size_t ri, fig_work *f)
             sturdy_svg_marker(&p, x, y, 1, "s1");
             char lab[48], a[32], b[32], c[32], d[32];
             snprintf(lab, sizeof lab, "row %zu", sr->row);
-            if (isfinite(y))
-                sturdy_svg_text(&f->svg, sturdy_svg_px(&p, x) + 7, sturdy_svg_py(&p, y) + 4,
-                                "start", "lab", lab);
+            if (isfinite(y)) {
+                double py = sturdy_svg_py(&p, y) + 4;
+                for (int moved = 1; moved;) {
+                    moved = 0;
+                    for (size_t u = 0; u < nused; u++)
+                        if (fabs(py - used[u]) < 11.0) {
+                            py = used[u] + 11.0;
+                            moved = 1;
+                        }
+                }
+                used[nused++] = py;
+                sturdy_svg_text(&f->svg, sturdy_svg_px(&p, x) + 7, py, "start", "lab", lab);
+            }
             snprintf(a, sizeof a, "%zu", sr->row);
             snprintf(b, sizeof b, "%zu", sr->line);
             fig_num(sr->f_without, c);

@@ -213,7 +213,19 @@ int fig_spread(const sturdy_result *r, size_t ri, fig_work *f)
         double x = (double)k - 0.12 + 0.06 * (double)(seen[k]++ % 4);
         const sturdy_outlier *o = flagged(r, &rr->diag, i);
         sturdy_svg_marker(&p, x, rr->residual[i], o ? 1 : 0, o ? "s1" : "s0 pt");
+        if (o && isfinite(rr->residual[i])) {
+            char lab[48];
+            snprintf(lab, sizeof lab, "row %zu", d->row[i] + 1);
+            sturdy_svg_text(&f->svg, sturdy_svg_px(&p, x) + 8, sturdy_svg_py(&p, rr->residual[i]) + 4,
+                            "start", "lab", lab);
+        }
     }
+    const char *leg[] = { "residual", "row the outlier test flags", "± the cell's SD" };
+    fig_legend(&p, leg, 2, 0);
+    sturdy_buf_printf(&f->svg, "<line class=\"eb s2 rec\" x1=\"%.1f\" y1=\"27\" x2=\"%.1f\" "
+                      "y2=\"37\"/>\n", 8.0 + 30 + 6.5 * 8 + 30 + 6.5 * 26 + 9,
+                      8.0 + 30 + 6.5 * 8 + 30 + 6.5 * 26 + 9);
+    sturdy_svg_text(&f->svg, 8.0 + 30 + 6.5 * 8 + 30 + 6.5 * 26 + 24, 36, "start", "lab", leg[2]);
     const char *heads[] = { "cell", "rows", "mean", "SD", NULL };
     fig_table_open(&f->table, "Rows, mean and standard deviation of each cell", heads);
     for (size_t k = 0; k < K; k++) {
