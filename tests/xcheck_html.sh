@@ -149,8 +149,14 @@ sys.exit(0 if share > 0.03 and colour > 100 else 1)
 PY
     then ok "chromium: the screenshot is not blank (ink and colour present)"
     else bad "chromium: the screenshot is blank or missing"; fi
-fi
 
+    # printed: A4 pages (the page's @page rule), more than one
+    browse --print-to-pdf="$T/demo.pdf" "$P" --no-pdf-header-footer >/dev/null
+    a4=$(grep -a -c 'MediaBox \[0 0 59[45]\.[0-9]* 841\.[0-9]*\]' "$T/demo.pdf" 2>/dev/null || true)
+    other=$(grep -a -o 'MediaBox \[[^]]*\]' "$T/demo.pdf" 2>/dev/null | grep -vc 'MediaBox \[0 0 59[45]\.[0-9]* 841\.' || true)
+    [ "${a4:-0}" -ge 2 ] && [ "${other:-0}" = 0 ] && ok "chromium: printed on $a4 A4 pages" \
+        || bad "chromium: printed pages not A4 ($a4 A4, $other other)"
+fi
 # 5. level names with markup, quotes and non-ASCII letters stay text
 /usr/bin/python3 - "$T/odd.csv" <<'PY'
 import random, sys

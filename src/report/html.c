@@ -44,7 +44,8 @@ static const char *const page_style =
     "@media print{@page{size:A4;margin:14mm}body{max-width:none;padding:0}"
     "pre{font-size:7pt;background:none;overflow:visible;white-space:pre-wrap}"
     "figure{break-inside:avoid}summary{display:none}nav{display:none}"
-    "h2{break-after:avoid}}\n"
+    ".scroll{overflow:visible}table{font-size:7pt}th,td{padding:.05rem .2rem}"
+    "h2,h3{break-after:avoid}}\n"
     "</style>\n";
 
 /* Text escaped for HTML character data, keeping line breaks. */
