@@ -94,6 +94,75 @@ static int path_inside(const char *svg, const sturdy_svg_rect *a)
 
 typedef struct { size_t calls, stop_after; int bad_name; char names[32][160]; } sink;
 
+/* An allocator that refuses request number fail_at and counts the blocks alive. The
+ * renderings below run on one thread. */
+typedef struct { unsigned long n, fail_at; long live; int refused; } fault;
+
+static void *fault_malloc(size_t size, void *arg)
+{
+    fault *f = arg;
+    if (++f->n == f->fail_at) { f->refused = 1; return NULL; }
+    void *p = malloc(size);
+    if (p) f->live++;
+    return p;
+}
+
+static void *fault_realloc(void *ptr, size_t size, void *arg)
+{
+    fault *f = arg;
+    if (++f->n == f->fail_at) { f->refused = 1; return NULL; }
+    void *p = realloc(ptr, size);
+    if (p && !ptr) f->live++;
+    return p;
+}
+
+static void fault_free(void *ptr, void *arg)
+{
+    fault *f = arg;
+    f->live--;
+    free(ptr);
+}
+
+static int ignore_figure(void *arg, const char *name, const char *svg, size_t len)
+{
+    (void)arg; (void)name; (void)svg; (void)len;
+    return 0;
+}
+
+/* Refuse every allocation of the page (figures: 1) in turn: each refusal gives
+ * STURDY_EINTERNAL, never a page that looks whole, and leaves nothing allocated. */
+static void sweep_faults(const sturdy_result *r, int figures)
+{
+    unsigned long k = 1, wrong = 0, leaks = 0;
+    for (;; k++) {
+        fault f = { 0, k, 0, 0 };
+        sturdy_allocator a = { fault_malloc, fault_realloc, fault_free, &f };
+        sturdy_set_allocator(&a);
+        sturdy_buf b;
+        sturdy_buf_init(&b);
+        sturdy_status st = figures ? sturdy_report_figures(r, ignore_figure, NULL)
+                                   : sturdy_report_html(r, NULL, &b);
+        sturdy_buf_free(&b);
+        sturdy_set_allocator(NULL);
+        if (f.live != 0)
+            leaks++;
+        if (!f.refused) {
+            if (st != STURDY_OK)
+                wrong++;
+            break;
+        }
+        if (st != STURDY_EINTERNAL)
+            wrong++;
+    }
+    char what[200];
+    snprintf(what, sizeof what, "%s: each of %lu allocations refused in turn gives "
+             "STURDY_EINTERNAL (%lu did not)", figures ? "figures" : "html", k - 1, wrong);
+    CHECK(what, wrong == 0 && k > 20);
+    snprintf(what, sizeof what, "%s: nothing left allocated after a refusal (%lu leaked)",
+             figures ? "figures" : "html", leaks);
+    CHECK(what, leaks == 0);
+}
+
 static int count_figure(void *arg, const char *name, const char *svg, size_t len)
 {
     sink *k = arg;
@@ -177,6 +246,8 @@ static void page_checks(void)
     CHECK_INT("figures: a sink that stops gives STURDY_EOUTPUT",
               sturdy_report_figures(r, count_figure, &stop), STURDY_EOUTPUT);
     CHECK_INT("figures: and is called no more", stop.calls, 3);
+    sweep_faults(r, 0);
+    sweep_faults(r, 1);
     /* a result read back has no design: no page */
     sturdy_buf j;
     sturdy_buf_init(&j);
