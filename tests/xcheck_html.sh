@@ -49,6 +49,14 @@ if diff -rq "$T/figs1" "$T/figs3" >/dev/null && diff -rq "$T/figs1" "$T/figs2" >
     ok "figure files: the same bytes from 1 thread, 2 threads and merged shards"
 else bad "figure files differ between runs"; fi
 
+# --figures onto a file: exit 5; with --shard: a usage error (exit 2); neither writes
+touch "$T/afile"
+(cd "$T" && "$S" check demo.csv "${A[@]}" -o x.html --figures afile 2>/dev/null); rc1=$?
+(cd "$T" && "$S" check demo.csv "${A[@]}" --shard 1/2 -o y.json --figures figs9 2>/dev/null); rc2=$?
+[ $rc1 = 5 ] && [ $rc2 = 2 ] && [ ! -e "$T/figs9" ] && [ ! -e "$T/y.json" ] \
+    && ok "--figures: onto a file exit 5, with --shard exit 2" \
+    || bad "--figures refusals: exit $rc1 and $rc2 (want 5 and 2)"
+
 # 2. the page's structure and its resources
 P="$T/one.html"
 # main effects 3 + two-factor means 3 + effect sizes 1 + F* per term 7 + quantile plot,
