@@ -57,7 +57,8 @@ TEST_BIN += $(PROBE_SRC:tests/%.c=$(BUILD)/tests/%)
 # Debian packages: what the program needs to build and run, and the test oracles.
 RUNTIME_PKGS := libcsv-dev liblapacke-dev libopenblas-dev libgsl-dev
 ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libpcg-cpp-dev \
-                libopenmpi-dev openmpi-bin valgrind g++ mandoc man-db pkg-config
+                libopenmpi-dev openmpi-bin valgrind g++ mandoc man-db pkg-config \
+                chromium tidy
 MPI_PKGS     := libopenmpi-dev openmpi-bin
 
 .PHONY: all sturdy shared deps deps-test demo check test-bins sanitize install uninstall clean \

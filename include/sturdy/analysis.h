@@ -118,6 +118,12 @@ enum {
  * replicate's residuals (the studentized test inversion's studentizer). */
 #define STURDY_BOOT_COLS (STURDY_NES + 4)
 
+/* The resampling null distribution of a term's F as counts on fixed bins, for figures:
+ * STURDY_FHIST_BINS − 1 equal bins on [0, top) and a last one for F* ≥ top, where top
+ * depends only on the observed F and the degrees of freedom (sturdy_fhist_top in the
+ * library), so every slice counts on the same edges and slices add up exactly. */
+#define STURDY_FHIST_BINS 41
+
 /* JSON names of the effect sizes, indexed as above. */
 extern const char *const sturdy_es_names[STURDY_NES];
 
@@ -353,6 +359,8 @@ typedef struct {
                                     with F* ≥ F (may be NULL: 0) */
     const uint64_t *exceed_resistant; /* the same, for the outlier-resistant statistic
                                     (may be NULL: 0) */
+    const uint64_t *f_hist;      /* nresp × nterms × STURDY_FHIST_BINS: the slice's F* on
+                                    the fixed bins (may be NULL: none carried) */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

@@ -12,8 +12,9 @@
  *   [partial only: shard{index, count, perm_range, boot_range}, data_checksum],
  *   notes[], responses[{response, terms[...], error{df, ss, ms, note}, total{df, ss},
  *   cells[{mean, sd}], diagnostics{...}}].
- * With `partial` (a shard) each term also carries raw{exceed, exceed_fwer, boot}: the
- * slice's counts, and one [5 effect sizes] row per replicate in [boot_begin, boot_end)
+ * With `partial` (a shard) each term also carries raw{exceed, exceed_fwer, ..., f_hist,
+ * boot}: the slice's counts (f_hist: its F* on the STURDY_FHIST_BINS fixed bins), and one
+ * row of raw material per replicate in [boot_begin, boot_end)
  * (null when the term has no replicates), for `sturdy merge` to add up.
  * Row numbers ("row") are 1-based data rows (the first record after the header is row
  * 1); "line" is the file line. The thread count never appears, so results of any split
@@ -76,6 +77,26 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
  * conventions of sturdy_report_csv. */
 sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
                                             const sturdy_report_opts *o, sturdy_buf *out);
+
+/* One self-contained HTML page (UTF-8): the text report's sections, a table of the tests
+ * per response, and figures drawn as inline SVG, each with a title, a text alternative
+ * (<title>/<desc>) and its numbers in a table behind a <details> toggle: means with
+ * intervals of every main effect and two-factor interaction, the effect sizes with all
+ * their intervals, each term's resampled F* on fixed bins with the F density, residual
+ * plots, spread by cell and the most influential rows. No script, no external resource
+ * and no time stamp: the same result gives the same bytes. STURDY_EUSAGE for a result
+ * read back from a file, STURDY_EINTERNAL when memory ran out. */
+sturdy_status sturdy_report_html(const sturdy_result *r, const sturdy_report_opts *o,
+                                 sturdy_buf *out);
+
+/* Receives one figure as a standalone SVG file's bytes and its file stem `name` (the
+ * response and the figure, sanitised to [A-Za-z0-9._-]; the caller adds ".svg").
+ * Returns 0 to go on, nonzero to stop. */
+typedef int (*sturdy_figure_fn)(void *arg, const char *name, const char *svg, size_t len);
+
+/* Hand every figure of the HTML page to fn, in the page's order. STURDY_EOUTPUT when fn
+ * stopped, STURDY_EUSAGE for a result read back, STURDY_EINTERNAL when memory ran out. */
+sturdy_status sturdy_report_figures(const sturdy_result *r, sturdy_figure_fn fn, void *arg);
 
 /* --- reading back ----------------------------------------------------------------- */
 

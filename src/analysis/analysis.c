@@ -419,6 +419,16 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             return sturdy_fail(err, STURDY_EUSAGE,
                                "the part counts more exceedances than its %llu rearrangements",
                                (unsigned long long)np);
+    for (size_t k = 0; s->f_hist && k < s->nresp * s->nterms; k++) {
+        uint64_t sum = 0;
+        for (size_t q = 0; q < STURDY_FHIST_BINS; q++) {
+            uint64_t v = s->f_hist[k * STURDY_FHIST_BINS + q];
+            if (v > np - sum)
+                return sturdy_fail(err, STURDY_EUSAGE, "the part's F* histogram counts more "
+                                   "than its %llu rearrangements", (unsigned long long)np);
+            sum += v;
+        }
+    }
     if (s->cmp_exceed) {
         size_t total = 0;
         for (size_t ri = 0; ri < r->nresp; ri++)
@@ -454,6 +464,8 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             if (s->uv_exceed_perm) tr->uv.exceed_perm += s->uv_exceed_perm[k];
             if (s->exceed_without) tr->sens.exceed_without += s->exceed_without[k];
             if (s->exceed_resistant) tr->rs.exceed += s->exceed_resistant[k];
+            for (size_t q = 0; s->f_hist && q < STURDY_FHIST_BINS; q++)
+                tr->f_hist[q] += s->f_hist[k * STURDY_FHIST_BINS + q];
             if (tr->boot && nb)
                 memcpy(tr->boot + s->boot_begin * STURDY_BOOT_COLS,
                        s->boot + k * nb * STURDY_BOOT_COLS,

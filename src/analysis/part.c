@@ -22,7 +22,8 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
     size_t nv = k * (size_t)nb * STURDY_BOOT_COLS;
     p->counts = sturdy_calloc(STURDY_PART_COUNTS * k + 1, sizeof *p->counts);
     p->boot = sturdy_malloc((nv + 1) * sizeof *p->boot);
-    if (!p->counts || !p->boot) {
+    p->f_hist = sturdy_calloc(k * STURDY_FHIST_BINS + 1, sizeof *p->f_hist);
+    if (!p->counts || !p->boot || !p->f_hist) {
         sturdy_part_free(p);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
@@ -37,6 +38,7 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
     p->s.exceed_without = p->counts + 4 * k;
     p->s.exceed_resistant = p->counts + 5 * k;
     p->s.boot = p->boot;
+    p->s.f_hist = p->f_hist;
     *out = p;
     return STURDY_OK;
 }
@@ -66,6 +68,7 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
             p->counts[3 * k + j] = tr->uv.exceed_perm;
             p->counts[4 * k + j] = tr->sens.exceed_without;
             p->counts[5 * k + j] = tr->rs.exceed;
+            memcpy(p->f_hist + j * STURDY_FHIST_BINS, tr->f_hist, sizeof tr->f_hist);
             if (tr->boot && nb)
                 memcpy(p->boot + j * nb * STURDY_BOOT_COLS,
                        tr->boot + r->boot_begin * STURDY_BOOT_COLS,
@@ -110,6 +113,7 @@ void sturdy_part_free(sturdy_part *p)
     if (!p)
         return;
     sturdy_free(p->counts);
+    sturdy_free(p->f_hist);
     sturdy_free(p->cmp_counts);
     sturdy_free(p->cmp_boot);
     sturdy_free(p->boot);

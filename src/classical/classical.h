@@ -96,4 +96,15 @@ int sturdy_rs_statistic(const double *y, const uint32_t *g, size_t n, const stur
 sturdy_status sturdy_rs_response(const sturdy_design *d, const sturdy_model *m, size_t r,
                                  sturdy_response_result *out, char *err);
 
+/* The fixed bins of a term's resampled F* (fhist.c): the upper edge of the last finite
+ * bin, from the observed F and the degrees of freedom only (never from the replicates),
+ * so that every slice of a run counts on the same edges. NaN when f is not finite. */
+double sturdy_fhist_top(double f, double df1, double df2);
+
+/* The bin of F* = fstar on those edges: 0 … STURDY_FHIST_BINS − 1 (the last: ≥ top). */
+size_t sturdy_fhist_bin(double fstar, double top);
+
+/* The F(df1, df2) density at x (0 outside its support; NaN for bad df). */
+double sturdy_f_density(double x, double df1, double df2);
+
 #endif

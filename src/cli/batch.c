@@ -30,8 +30,10 @@ static const char batch_help[] =
 "                    [--quiet]\n"
 "\n"
 "Runs one analysis per row of the plan, each as the equivalent 'sturdy check ... --format\n"
-"json', and writes DIR/NAME.json for each (complete or not at all), then DIR/summary.csv\n"
-"and DIR/summary.txt. A failing analysis is recorded and the others go on.\n"
+"json', and writes DIR/NAME.json for each (complete or not at all) with its page\n"
+"DIR/NAME.html, then DIR/summary.csv, DIR/summary.txt and DIR/index.html (a page with\n"
+"one row per analysis: verdicts, changes, time, links). A failing analysis is recorded\n"
+"and the others go on.\n"
 "\n"
 "  -o, --output DIR       results folder (default: the plan's name without .csv, plus\n"
 "                         '.results', beside the plan); created when missing\n"
@@ -414,6 +416,33 @@ static void announce_row(const batch *b, size_t i, const char *name, const cli_c
     fputs(" ...\n", stderr);
 }
 
+/* The analysis's HTML page beside its result: NAME.html for NAME.json (index.html links
+ * it). Returns 0 or an exit status with msg. */
+static int write_page(const cli_check *c, const sturdy_result *r, const char *out_path,
+                      totals *tot, char *msg)
+{
+    cli_check hc = *c;           /* the same settings, rendered as the page */
+    hc.format = CLI_FMT_HTML;
+    size_t n = strlen(out_path);
+    char *page = n > 5 ? str_printf("%.*s.html", (int)(n - 5), out_path) : NULL;
+    sturdy_buf out;
+    sturdy_buf_init(&out);
+    int rc = 0;
+    if (!page || cli_render(&hc, r, &out) != STURDY_OK || !out.data || out.failed) {
+        rc = STURDY_EINTERNAL;
+        snprintf(msg, STURDY_ERR_LEN, "out of memory while writing the HTML page");
+    } else {
+        capture cp;
+        capture_begin(&cp);
+        rc = cli_write_output(page, out.data, out.len);
+        capture_end(&cp, msg, STURDY_ERR_LEN);
+        if (rc) tot->eoutput = 1;
+    }
+    sturdy_buf_free(&out);
+    free(page);
+    return rc;
+}
+
 /* Write r as the row's result file out_path (complete or not at all), after its key
  * file key_path, and read it back into *doc. Returns 0 or an exit status with msg
  * (STURDY_ERR_LEN bytes). */
@@ -441,6 +470,7 @@ static int write_result(const cli_check *c, const sturdy_result *r, const char *
         free(kt);
         if (rc) tot->eoutput = 1;
     }
+    if (!rc) rc = write_page(c, r, out_path, tot, msg);
     if (!rc && sturdy_result_read_json(out_path, out.data, out.len, doc, NULL)) {
         rc = STURDY_EINTERNAL;
         snprintf(msg, STURDY_ERR_LEN, "the result could not be read back");
@@ -536,14 +566,23 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     /* the data's digest is taken before the analysis reads them: data changed in
      * between give a key that does not match, never a stale result that does */
     if (!rc) cli_batch_key_make(&key, a.v, a.n, data_path ? data_path : c.data);
-    if (!rc && b->resume && (doc = cli_batch_resumable(&key, out_path, key_path))) {
+    /* a result kept by --resume needs its page too (a run killed between writing the
+       two left the result alone): without it the row is computed again */
+    char *page_path = str_printf("%s/%s.html", b->dir, name);
+    int have_page = page_path && access(page_path, F_OK) == 0;
+    free(page_path);
+    if (!rc && b->resume && have_page &&
+        (doc = cli_batch_resumable(&key, out_path, key_path))) {
         tot->resumed++;
+        oc->resumed = 1;
         if (!b->quiet && b->lead)
             fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
                     sturdy_table_nrows(b->plan), name);
     } else if (!rc) {
         if (!b->quiet && b->lead) announce_row(b, i, name, &c, data_path);
+        double before = tot->seconds;
         rc = compute_row(b, i, name, &c, out_path, key_path, &key, tot, &doc, msg);
+        oc->seconds = tot->seconds - before;
     }
     finish_row(b, name, rc, msg, data_path, data, doc, old, tot, oc);
     sturdy_result_free(doc);
@@ -595,6 +634,8 @@ static int run_batch(batch *b)
                 : b->lead ? cli_batch_write_summary(b->plan_path, b->dir, b->old_dir, names,
                                                     oc, n)
                           : 0;
+    if (!wrote && names && b->lead)
+        wrote = cli_batch_write_index(b->plan_path, b->dir, b->old_dir, names, oc, n);
     free(names);
     if (!b->quiet && b->lead) {
         fprintf(stderr, "sturdy: batch: %zu analyses: %zu computed, %zu kept, %zu failed",

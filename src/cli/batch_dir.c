@@ -18,7 +18,7 @@
 /* The lock file inside a results folder (a hidden name no plan name can take). */
 #define LOCK_NAME ".sturdy-batch.lock"
 
-/* Remove "NAME.json.tmp.XXXXXX", ".NAME.key.tmp.XXXXXX" (and the summaries'
+/* Remove "NAME.json.tmp.XXXXXX", "NAME.html.tmp.XXXXXX", ".NAME.key.tmp.XXXXXX" (and the summaries', the index's
  * temporaries) left by a run that was killed between creating and renaming them. */
 void cli_batch_remove_stale(const char *dir, const char *const *names, size_t n, int quiet)
 {
@@ -30,12 +30,14 @@ void cli_batch_remove_stale(const char *dir, const char *const *names, size_t n,
         size_t len = strlen(f), suffix = sizeof ".tmp." - 1 + TMP_RANDOM_LEN;
         if (len <= suffix || strncmp(f + len - suffix, ".tmp.", 5)) continue;
         size_t stem = len - suffix;
-        int ours = stem == 11 && (!strncmp(f, "summary.csv", 11) ||
-                                  !strncmp(f, "summary.txt", 11));
+        int ours = (stem == 11 && (!strncmp(f, "summary.csv", 11) ||
+                                   !strncmp(f, "summary.txt", 11))) ||
+                   (stem == 10 && !strncmp(f, "index.html", 10));
         for (size_t i = 0; !ours && stem > 5 && i < n; i++) {
             const char *name = names[i];
             size_t nl = strlen(name);
-            ours = (nl == stem - 5 && !strncmp(f, name, nl) && !strncmp(f + nl, ".json", 5)) ||
+            ours = (nl == stem - 5 && !strncmp(f, name, nl) &&
+                    (!strncmp(f + nl, ".json", 5) || !strncmp(f + nl, ".html", 5))) ||
                    (nl == stem - 5 && f[0] == '.' && !strncmp(f + 1, name, nl) &&
                     !strncmp(f + 1 + nl, ".key", 4));
         }

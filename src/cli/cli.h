@@ -14,7 +14,8 @@
 #define CLI_EXIT_USAGE 2
 #define CLI_DONE (-1)   /* parsing printed help or version: exit 0 */
 
-typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV, CLI_FMT_CSV_COMPARISONS } cli_format;
+typedef enum { CLI_FMT_TEXT = 0, CLI_FMT_JSON, CLI_FMT_CSV, CLI_FMT_CSV_COMPARISONS,
+               CLI_FMT_HTML } cli_format;
 
 /* A list option (-y A,B -y C): owned copies of the names. */
 typedef struct {
@@ -51,6 +52,7 @@ typedef struct {
     cli_format format;
     int format_given;
     const char *out_path;        /* NULL: standard output */
+    const char *figures_dir;     /* --figures DIR: each figure as an SVG file, or NULL */
     int quiet;
 } cli_check;
 
@@ -175,7 +177,12 @@ int sturdy_cli_batch(int argc, char **argv);
 
 /* batch */
 
-/* The format a file name's extension asks for (.json, .csv), or -1. options.c. */
+/* Write each figure of the HTML report into folder `dir` (made when missing) as
+ * "<name>.svg", each file atomically; returns 0 or STURDY_EOUTPUT after printing why.
+ * figures_out.c. */
+int cli_write_figures(const char *dir, const sturdy_result *r);
+
+/* The format a file name's extension asks for (.json, .csv, .html), or -1. options.c. */
 int cli_format_of_path(const char *path);
 
 /* a, b and c joined in a new string (the caller frees it), or NULL when memory ran out. */
@@ -189,6 +196,8 @@ typedef struct {
     int compared;                /* an earlier result was found and compared */
     size_t changed;
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
+    int resumed;                 /* the result in place was kept (--resume) */
+    double seconds;              /* time computing it in this run (index.html only) */
 } cli_batch_outcome;
 
 /* The results folder (batch_dir.c). The default: the plan's path without ".csv", plus
@@ -245,5 +254,11 @@ void cli_batch_compare(const char *name, const sturdy_result *old, const sturdy_
 int cli_batch_write_summary(const char *plan_path, const char *dir, const char *old_dir,
                             const char *const *names, const cli_batch_outcome *oc,
                             size_t n);
+
+/* Writes dir/index.html: one row per analysis with its verdicts (read from
+ * dir/NAME.json), the changes against old_dir, its time, and links to NAME.html (when
+ * present) and NAME.json. Returns 0, or STURDY_EOUTPUT after a message. batch_index.c. */
+int cli_batch_write_index(const char *plan_path, const char *dir, const char *old_dir,
+                          const char *const *names, const cli_batch_outcome *oc, size_t n);
 
 #endif

@@ -15,7 +15,7 @@
 #include "cli.h"
 
 static const char merge_help[] =
-"Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv] [--data FILE]\n"
+"Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv|html] [--data FILE]\n"
 "\n"
 "Combines the JSON parts written by 'sturdy check --shard I/N' into the result that a\n"
 "single run would give, bit for bit. The data are read again from the path the parts\n"
@@ -24,8 +24,9 @@ static const char merge_help[] =
 "repeated slices.\n"
 "\n"
 "  -o, --output FILE    write the result here (through a temporary file); default stdout\n"
-"      --format F       text, json or csv (default text, or as -o FILE.json/.csv\n"
-"                       says: the same rule as check)\n"
+"      --format F       text, json, csv or html (default text, or as -o FILE.json,\n"
+"                       .csv or .html says: the same rule as check)\n"
+"      --figures DIR    also write each figure as an SVG file into DIR\n"
 "      --data FILE      read the data from FILE instead\n"
 "      --threads N      threads for the set-up (default all)\n"
 "  -q, --quiet          no remarks on standard error\n"
@@ -121,6 +122,7 @@ static int setup_check(const part *p, cli_check *c)
 
 typedef struct {
     const char *out_path, *data;
+    const char *figures_dir;     /* --figures DIR, or NULL */
     cli_format format;
     uint64_t threads;
     int quiet;
@@ -133,6 +135,7 @@ static int parse_args(int argc, char **argv, merge_args *m)
         { "output", required_argument, NULL, 'o' },
         { "format", required_argument, NULL, 'F' },
         { "data", required_argument, NULL, 'D' },
+        { "figures", required_argument, NULL, 'G' },
         { "threads", required_argument, NULL, 'T' },
         { "quiet", no_argument, NULL, 'q' },
         { "help", no_argument, NULL, 'h' },
@@ -148,6 +151,7 @@ static int parse_args(int argc, char **argv, merge_args *m)
         case 'h': fputs(merge_help, stdout); return CLI_DONE;
         case 'o': m->out_path = optarg; break;
         case 'D': m->data = optarg; break;
+        case 'G': m->figures_dir = optarg; break;
         case 'q': m->quiet = 1; break;
         case 'T':
             if (!cli_parse_u64(optarg, &m->threads) || m->threads > 4096)
@@ -157,7 +161,8 @@ static int parse_args(int argc, char **argv, merge_args *m)
             if (!strcmp(optarg, "text")) m->format = CLI_FMT_TEXT;
             else if (!strcmp(optarg, "json")) m->format = CLI_FMT_JSON;
             else if (!strcmp(optarg, "csv")) m->format = CLI_FMT_CSV;
-            else return cli_usage_error("merge", "--format wants text, json or csv, not '%s'",
+            else if (!strcmp(optarg, "html")) m->format = CLI_FMT_HTML;
+            else return cli_usage_error("merge", "--format wants text, json, csv or html, not '%s'",
                                         optarg);
             format_given = 1;
             break;
@@ -257,6 +262,8 @@ static int combine(cli_check *c, const part *parts, int nparts, const char *out_
         else
             rc = cli_write_output(out_path, out.data, out.len);
         sturdy_buf_free(&out);
+        if (!rc && c->figures_dir)
+            rc = cli_write_figures(c->figures_dir, r);
     }
     sturdy_result_free(r);
     return rc;
@@ -286,6 +293,7 @@ int sturdy_cli_merge(int argc, char **argv)
         c.threads = (int)m.threads;
         c.out_path = m.out_path;
         c.format = m.format;
+        c.figures_dir = m.figures_dir;
         c.quiet = m.quiet;
         rc = locate_data(&parts[0], &m, &c, &joined);
     }

@@ -62,8 +62,9 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     uint64_t nb = b1 - b0;
     int root = mpi_rank_ == 0;
     size_t nc = own->cmp_exceed ? own->ncomparisons : 0;   /* max-T counts after them */
-    uint64_t *mine_c = calloc(6 * k + nc + 1, sizeof *mine_c);
-    uint64_t *sum = calloc(6 * k + nc + 1, sizeof *sum);
+    size_t nh = own->f_hist ? k * STURDY_FHIST_BINS : 0; /* F* histograms last */
+    uint64_t *mine_c = calloc(6 * k + nc + nh + 1, sizeof *mine_c);
+    uint64_t *sum = calloc(6 * k + nc + nh + 1, sizeof *sum);
     double *boot = root ? malloc((k * nb * STURDY_BOOT_COLS + 1) * sizeof *boot) : NULL;
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
@@ -87,7 +88,10 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     if (!root)
         for (size_t q = 0; q < nc; q++)
             mine_c[6 * k + q] = own->cmp_exceed[q];
-    MPI_Reduce(mine_c, sum, (int)(6 * k + nc), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
+    if (!root)
+        for (size_t q = 0; q < nh; q++)
+            mine_c[6 * k + nc + q] = own->f_hist[q];
+    MPI_Reduce(mine_c, sum, (int)(6 * k + nc + nh), MPI_UINT64_T, MPI_SUM, 0, MPI_COMM_WORLD);
     for (int q = 0; q < mpi_size_; q++) {
         uint64_t lo = ranges[4 * q + 2], hi = ranges[4 * q + 3];
         counts[q] = q == 0 ? 0 : (int)((hi - lo) * STURDY_BOOT_COLS);
@@ -130,7 +134,8 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                               .boot = boot, .exceed_without = sum + 4 * k,
                               .exceed_resistant = sum + 5 * k, .ncomparisons = nc,
                               .cmp_exceed = nc ? sum + 6 * k : NULL,
-                              .cmp_boot_cols = cols, .cmp_boot = cb };
+                              .cmp_boot_cols = cols, .cmp_boot = cb,
+                              .f_hist = nh ? sum + 6 * k + nc : NULL };
         if (!(st = sturdy_result_add_slice(r, &rest, err)))
             st = sturdy_result_finish(r, err);
     }

@@ -15,7 +15,7 @@ enum {
     OPT_COVARIATES = 256, OPT_BLOCK, OPT_ORDER, OPT_SS, OPT_BOOTSTRAP, OPT_METHOD, OPT_FLIP,
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
-    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_TERM_ORDER,
+    OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_FIGURES, OPT_TERM_ORDER,
     OPT_COMPARE, OPT_CONTROL, OPT_RESISTANT
 };
 
@@ -54,6 +54,7 @@ const struct option cli_check_options[] = {
     { "merge-numeric-levels", no_argument, NULL, OPT_MERGE_NUMERIC },
     { "ascii-terms", no_argument, NULL, OPT_ASCII_TERMS },
     { "csv-bom", no_argument, NULL, OPT_CSV_BOM },
+    { "figures", required_argument, NULL, OPT_FIGURES },
     { "max-levels", required_argument, NULL, OPT_MAX_LEVELS },
     { "max-columns", required_argument, NULL, OPT_MAX_COLUMNS },
     { "help", no_argument, NULL, 'h' },
@@ -120,7 +121,10 @@ static const char check_help[] =
 "      --max-columns N          refuse a design with more coded columns (default 4000)\n"
 "\n"
 "Output\n"
-"      --format text|json|csv   report format (default text, or as -o FILE.json/.csv)\n"
+"      --format text|json|csv|html  report format (default text, or as -o FILE.json,\n"
+"                               .csv or .html); html: one self-contained page with\n"
+"                               figures (inline SVG, no network)\n"
+"      --figures DIR            also write each figure as an SVG file into DIR\n"
 "  -o, --output FILE            write to FILE (complete or not at all) instead of\n"
 "                               standard output\n"
 "      --ascii-terms            CSV: join factor names in term names with '_by_', not\n"
@@ -148,7 +152,8 @@ static const char demo_help[] =
 "Options: those of 'sturdy check' (see 'sturdy check --help') except the ones that\n"
 "describe the data (-y, -f, --covariates, --block, --delimiter, --missing,\n"
 "--missing-only), e.g.\n"
-"  -B N, --bootstrap N, --seed N, --threads N, --format text|json|csv, -o FILE, --quiet\n";
+"  -B N, --bootstrap N, --seed N, --threads N, --format text|json|csv|html, -o FILE,\n"
+"  --figures DIR, --quiet\n";
 
 int cli_usage_error(const char *command, const char *fmt, ...)
 {
@@ -328,6 +333,8 @@ int cli_format_of_path(const char *path)
     size_t n = strlen(path);
     if (n > 5 && strcmp(path + n - 5, ".json") == 0) return CLI_FMT_JSON;
     if (n > 4 && strcmp(path + n - 4, ".csv") == 0) return CLI_FMT_CSV;
+    if (n > 5 && strcmp(path + n - 5, ".html") == 0) return CLI_FMT_HTML;
+    if (n > 4 && strcmp(path + n - 4, ".htm") == 0) return CLI_FMT_HTML;
     return -1;
 }
 
@@ -418,6 +425,10 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
     case OPT_MERGE_NUMERIC: o->model.merge_numeric_levels = 1; return 0;
     case OPT_ASCII_TERMS: c->ascii_terms = 1; return 0;
     case OPT_CSV_BOM: c->csv_bom = 1; return 0;
+    case OPT_FIGURES:
+        if (!*arg) return cli_usage_error(c->command, "--figures wants a folder name");
+        c->figures_dir = arg;
+        return 0;
     case OPT_BLOCK:
         if (!*arg) return cli_usage_error(c->command, "--block wants a column name");
         o->model.block = arg;
@@ -465,7 +476,8 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         else if (!strcmp(arg, "json")) c->format = CLI_FMT_JSON;
         else if (!strcmp(arg, "csv")) c->format = CLI_FMT_CSV;
         else if (!strcmp(arg, "csv-comparisons")) c->format = CLI_FMT_CSV_COMPARISONS;
-        else return cli_usage_error(c->command, "--format wants text, json, csv or csv-comparisons, not '%s'",
+        else if (!strcmp(arg, "html")) c->format = CLI_FMT_HTML;
+        else return cli_usage_error(c->command, "--format wants text, json, csv, csv-comparisons or html, not '%s'",
                                     arg);
         c->format_given = 1;
         return 0;
@@ -553,6 +565,9 @@ static int finish(cli_check *c)
             return cli_usage_error(c->command, "--shard writes JSON for 'sturdy merge'; "
                                    "leave out --format or use --format json");
         c->format = CLI_FMT_JSON;
+        if (c->figures_dir)
+            return cli_usage_error(c->command, "--figures needs the whole run: a shard has "
+                                   "only part of it (give --figures to 'sturdy merge')");
     }
     return 0;
 }

@@ -109,6 +109,7 @@ int cli_render(const cli_check *c, const sturdy_result *r, sturdy_buf *out)
     case CLI_FMT_JSON: return sturdy_report_json(r, &ro, out);
     case CLI_FMT_CSV: return sturdy_report_csv(r, &ro, out);
     case CLI_FMT_CSV_COMPARISONS: return sturdy_report_csv_comparisons(r, &ro, out);
+    case CLI_FMT_HTML: return sturdy_report_html(r, &ro, out);
     case CLI_FMT_TEXT: break;
     }
     return sturdy_report_text(r, &ro, out);
@@ -207,6 +208,8 @@ int cli_check_run(cli_check *c)
     } else {
         rc = cli_write_output(c->out_path, out.data, out.len);
     }
+    if (!rc && c->figures_dir)
+        rc = cli_write_figures(c->figures_dir, r);
     /* The report is written (it says why for each term), but a run that could test none
      * of the requested terms did not do what was asked (README: exit 4). */
     if (!rc && sturdy_result_tested_terms(r) == 0) {

@@ -113,6 +113,8 @@ typedef struct {
     double p_perm, p_perm_fwer, p_perm_holm;
     sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson on exceed */
     char *perm_note;
+    uint64_t f_hist[STURDY_FHIST_BINS]; /* F* of the rearrangements on the fixed bins of
+                                    sturdy_fhist_top (classical/fhist.c) */
     /* bootstrap */
     double *boot;                /* nboot × STURDY_BOOT_COLS row-major replicate rows
                                     (analysis.h: the effect sizes, vᵀu*, ‖u*‖², SSE*, κ*),
@@ -279,6 +281,7 @@ struct sturdy_result {
 struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
     uint64_t *counts;            /* STURDY_PART_COUNTS × nresp × nterms */
+    uint64_t *f_hist;            /* nresp × nterms × STURDY_FHIST_BINS */
     uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
     double *cmp_boot;            /* the comparisons' replicate values (NULL: none) */
     double *boot;

@@ -127,6 +127,15 @@ static void jw_nums_inline(jw *w, const char *key, const double *v, size_t n)
     sturdy_buf_put(w->b, "]", 1);
 }
 
+static void jw_u64s_inline(jw *w, const char *key, const uint64_t *v, size_t n)
+{
+    jw_item(w, key);
+    sturdy_buf_put(w->b, "[", 1);
+    for (size_t i = 0; i < n; i++)
+        sturdy_buf_printf(w->b, "%s%" PRIu64, i ? ", " : "", v[i]);
+    sturdy_buf_put(w->b, "]", 1);
+}
+
 static void jw_pair(jw *w, const char *key, sturdy_pair p)
 {
     double v[2] = { p.lo, p.hi };
@@ -454,6 +463,7 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         jw_u64(w, "uv_exceed_perm", t->uv.exceed_perm);
         jw_u64(w, "exceed_without", t->sens.exceed_without);
         jw_u64(w, "exceed_resistant", t->rs.exceed);
+        jw_u64s_inline(w, "f_hist", t->f_hist, STURDY_FHIST_BINS);
         if (!t->boot) {
             jw_null(w, "boot");
         } else {

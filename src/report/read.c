@@ -563,6 +563,22 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
         }
         p->counts[(size_t)q * k + j] = v;
     }
+    /* the F* histogram (absent from parts written before it existed: none) */
+    const jv *fh = jv_get(raw, "f_hist");
+    if (fh && !is_kind(fh, JV_NULL)) {
+        if (!is_kind(fh, JV_ARRAY) || fh->n != STURDY_FHIST_BINS)
+            return part_fail(err, name, "a term's raw 'f_hist' does not hold 41 counts");
+        uint64_t sum = 0;
+        for (size_t q = 0; q < STURDY_FHIST_BINS; q++) {
+            int ok = 0;
+            uint64_t v = jv_u64(&fh->items[q], &ok);
+            if (!ok || v > np - sum)
+                return part_fail(err, name, "a term's raw 'f_hist' holds something other "
+                                            "than counts within the part's rearrangements");
+            sum += v;
+            p->f_hist[j * STURDY_FHIST_BINS + q] = v;
+        }
+    }
     const jv *b = jv_get(raw, "boot");
     if (is_kind(b, JV_NULL))
         return STURDY_OK;

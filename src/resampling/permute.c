@@ -31,6 +31,7 @@
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
 #include "resampling/maxt.h"
+#include "classical/classical.h"
 
 /* Work per thread and block is bounded by this many bytes of group sums. */
 #define PERM_BLOCK_BYTES (16u << 20)
@@ -47,6 +48,8 @@ typedef struct {
     size_t df;
     double vv;           /* ‖v‖² */
     double c;            /* count b when num* ≥ c·den*:  c = F_obs·df/df_error·(1−tol) */
+    double to_f;         /* df_error/df: F* = to_f · num* / den* */
+    double top;          /* upper edge of F*'s fixed bins (fhist.c); NaN: none */
 } member;
 
 typedef struct {
@@ -105,6 +108,7 @@ typedef struct {
     double *num, *den;   /* M × nb */
     uint64_t *exceed, *fwer;
     uint64_t *cexceed;   /* C: max-T counts of the comparisons */
+    uint64_t *hist;      /* M × STURDY_FHIST_BINS: F* on the fixed bins */
     double *t2;          /* C × nb: t*² of the comparisons */
 } perm_work;
 
@@ -115,7 +119,7 @@ static void work_free(perm_work *w)
     sturdy_free(w->lab); sturdy_free(w->pool); sturdy_free(w->sign); sturdy_free(w->tmp);
     sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
-    sturdy_free(w->cexceed); sturdy_free(w->t2);
+    sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -138,8 +142,9 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->fwer = sturdy_calloc(M + 1, sizeof *w->fwer);
     w->cexceed = sturdy_calloc(c->maxt.C + 1, sizeof *w->cexceed);
     w->t2 = sturdy_malloc((c->maxt.C * nb + 1) * sizeof *w->t2);
+    w->hist = sturdy_calloc(M * STURDY_FHIST_BINS + 1, sizeof *w->hist);
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
-           w->exceed && w->fwer && w->cexceed && w->t2;
+           w->exceed && w->fwer && w->cexceed && w->t2 && w->hist;
 }
 
 /* Is F* = (num/df)/(den/df_err) at least the threshold that `c` encodes (num ≥ c·den)?
@@ -265,6 +270,21 @@ static void comparison_stats(const perm_ctx *c, size_t nb, perm_work *w)
     sturdy_maxt_count(&c->maxt, w->t2, nb, w->cexceed);
 }
 
+/* Add F* of one rearrangement to member j's fixed bins; an undefined F* (no residual
+ * and no term part, see PERM_ZERO_RTOL) is not counted, as at_least never counts it. */
+static inline void hist_add(const member *mj, double num, double den, uint64_t *hist)
+{
+    double zero = PERM_ZERO_RTOL * mj->vv;
+    if (!(mj->top > 0))
+        return;
+    if (den <= zero) {
+        if (num > zero)
+            hist[STURDY_FHIST_BINS - 1]++;
+        return;
+    }
+    hist[sturdy_fhist_bin(mj->to_f * num / den, mj->top)]++;
+}
+
 /* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
 static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
 {
@@ -279,6 +299,9 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
             if (at_least(w->num[j * nb + bb], w->den[j * nb + bb], c->mem[j].c,
                          c->mem[j].vv))
                 w->exceed[j]++;
+        for (size_t j = 0; j < M; j++)
+            hist_add(&c->mem[j], w->num[j * nb + bb], w->den[j * nb + bb],
+                     w->hist + j * STURDY_FHIST_BINS);
         /* Westfall–Young: is the smallest p* over the family ≤ p_j? */
         for (size_t j = 0; j < M; j++)
             for (size_t t = 0; t < M; t++)
@@ -322,6 +345,8 @@ static sturdy_status choose_members(perm_ctx *c, const sturdy_run *run, sturdy_r
             mb->U = m->terms[t].Uterm;
             mb->df = m->terms[t].df;
             mb->c = tr->f * (double)mb->df / (double)m->df_error * (1.0 - STURDY_TIE_RTOL);
+            mb->to_f = (double)m->df_error / (double)mb->df;
+            mb->top = sturdy_fhist_top(tr->f, (double)mb->df, (double)m->df_error);
         }
     return STURDY_OK;
 }
@@ -438,12 +463,13 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     uint64_t *exceed = sturdy_calloc(c.M + 1, sizeof *exceed);
     uint64_t *fwer = sturdy_calloc(c.M + 1, sizeof *fwer);
     uint64_t *cexceed = sturdy_calloc(c.maxt.C + 1, sizeof *cexceed);
+    uint64_t *hist = sturdy_calloc(c.M * STURDY_FHIST_BINS + 1, sizeof *hist);
     int failed = 0;
     uint64_t done_count = 0;
     double last_report = sturdy_now_seconds();
     int nthreads = run->threads;
-    if (!exceed || !fwer || !cexceed) {
-        sturdy_free(exceed); sturdy_free(fwer); sturdy_free(cexceed);
+    if (!exceed || !fwer || !cexceed || !hist) {
+        sturdy_free(exceed); sturdy_free(fwer); sturdy_free(cexceed); sturdy_free(hist);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
@@ -478,6 +504,8 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
                 }
                 for (size_t q = 0; q < c.maxt.C; q++)
                     cexceed[q] += w.cexceed[q];
+                for (size_t q = 0; q < c.M * STURDY_FHIST_BINS; q++)
+                    hist[q] += w.hist[q];
             }
         }
         work_free(&w);
@@ -491,6 +519,8 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             sturdy_term_result *tr = &r->resp[c.mem[j].resp].terms[c.mem[j].term];
             tr->exceed += exceed[j];
             tr->exceed_fwer += fwer[j];
+            for (size_t q = 0; q < STURDY_FHIST_BINS; q++)
+                tr->f_hist[q] += hist[j * STURDY_FHIST_BINS + q];
         }
         for (size_t q = 0; q < c.maxt.C; q++)
             c.maxt.cm[q].cmp->exceed_maxt += cexceed[q];
@@ -498,6 +528,7 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     sturdy_free(exceed);
     sturdy_free(fwer);
     sturdy_free(cexceed);
+    sturdy_free(hist);
 done:
     sturdy_free(c.mem);
     sturdy_free(c.V);
