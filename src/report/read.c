@@ -504,7 +504,7 @@ static int get_range(const jv *sh, const char *key, uint64_t *a, uint64_t *b)
 
 /* The envelope: shard index and count, ranges, checksum, command and folder. */
 static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part *p,
-                                   uint64_t *pr, uint64_t *br, char *err)
+                                   uint64_t *pr, uint64_t *br, uint64_t *digest, char *err)
 {
     uint64_t version = 0;
     const jv *sh = jv_get(doc, "shard"), *args = jv_get(sh, "args"), *cwd = jv_get(sh, "cwd");
@@ -526,6 +526,13 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
     if (!is_kind(sum, JV_STRING) || strlen(sum->text) != 16 ||
         (p->data_checksum = strtoull(sum->text, &end, 16), errno) || *end)
         return part_fail(err, name, "its data_checksum is not 16 hexadecimal digits");
+    const jv *dg = jv_get(sh, "raw_digest");
+    errno = 0;
+    if (!is_kind(dg, JV_STRING) || strlen(dg->text) != 16 ||
+        (*digest = strtoull(dg->text, &end, 16), errno) || *end)
+        return part_fail(err, name, "its shard section has no raw_digest of 16 hexadecimal "
+                                    "digits (a part written by an older version? write it "
+                                    "again)");
     /* the command may be empty (a part written by an embedding program) */
     if (!is_kind(args, JV_ARRAY) || (cwd && !is_kind(cwd, JV_STRING) &&
                                      !is_kind(cwd, JV_NULL)))
@@ -664,8 +671,8 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
         return st;
     sturdy_part env;
     memset(&env, 0, sizeof env);
-    uint64_t pr[2] = {0, 0}, br[2] = {0, 0};
-    st = read_envelope(name, doc, &env, pr, br, err);
+    uint64_t pr[2] = {0, 0}, br[2] = {0, 0}, digest = 0;
+    st = read_envelope(name, doc, &env, pr, br, &digest, err);
     const jv *resps = jv_get(doc, "responses");
     size_t nresp = is_kind(resps, JV_ARRAY) ? resps->n : 0;
     const jv *t0 = nresp ? jv_get(&resps->items[0], "terms") : NULL;
@@ -689,6 +696,10 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
         }
         if (!st)
             st = read_cmp_raw(name, resps, p, err);
+        if (!st && sturdy_part_digest(p) != digest)
+            st = part_fail(err, name, "its raw counts or replicates differ from those it was "
+                                      "written with (the raw_digest does not match): the part "
+                                      "was edited or damaged; compute it again");
     }
     for (size_t i = 0; i < env.nargs; i++)
         sturdy_free(env.args[i]);
