@@ -86,5 +86,54 @@ grep -q "column 2 has an empty name" err &&
     ok "an empty name before the duplicate is reported first" ||
     bad "empty name first: $(head -c 300 err)"
 
+# --- designs whose model build would exhaust memory: refused before the build
+"$PY" - <<'PYEOF'
+import itertools, random
+random.seed(4)
+for k in (6, 10, 11):
+    with open("f%d.csv" % k, "w") as f:
+        f.write(",".join("f%d" % i for i in range(k)) + ",y\n")
+        for cell in itertools.product("ab", repeat=k):
+            for r in range(2):
+                f.write(",".join(cell) + ",%.3f\n" % random.gauss(0, 1))
+PYEOF
+for k in 10 11; do
+    fs=$(seq -s, -f 'f%g' 0 $((k - 1)))
+    start=$(date +%s%N)
+    timeout 20 "$S" check "f$k.csv" -y y -f "$fs" -B 19 --bootstrap 0 -q -o big.json 2>err; rc=$?
+    ms=$(( ($(date +%s%N) - start) / 1000000 ))
+    [ $rc = 4 ] && [ $ms -lt 2000 ] && [ ! -e big.json ] &&
+        grep -q "the model would need about [0-9.]* GiB of memory" err &&
+        grep -q "limit on memory (--max-memory) of 2 GiB" err &&
+        ok "$k two-level factors, full model: refused in ${ms} ms (exit 4), the estimate and --max-memory named" ||
+        bad "$k factors: exit $rc in ${ms} ms, $(head -c 400 err)"
+done
+"$S" check f10.csv -y y -f "$(seq -s, -f 'f%g' 0 9)" --order 2 -B 19 --bootstrap 0 -q \
+    --format csv -o order2.csv 2>err; rc=$?
+[ $rc = 0 ] && [ "$(grep -c '^y,' order2.csv)" = 57 ] &&
+    ok "the same 10 factors to order 2 run within the default budget (55 terms, residual, total)" ||
+    bad "10 factors, order 2: exit $rc, $(head -c 300 err)"
+# six factors (about 2 MiB): refused under 1M, run under 3M
+F6=(f6.csv -y y -f f0,f1,f2,f3,f4,f5 -B 19 --bootstrap 0 -q)
+"$S" check "${F6[@]}" --max-memory 1M -o small.json 2>err; rc=$?
+[ $rc = 4 ] && grep -q "about 2.06 MiB of memory" err && grep -q "of 1 MiB" err &&
+    ok "--max-memory 1M refuses a model of about 2 MiB (exit 4)" ||
+    bad "--max-memory 1M: exit $rc, $(head -c 300 err)"
+"$S" check "${F6[@]}" --max-memory 3M --format csv -o small.csv 2>err; rc=$?
+[ $rc = 0 ] && [ "$(grep -c '^y,' small.csv)" = 65 ] &&
+    ok "--max-memory 3M (just enough) runs the six-factor model: 63 terms, residual, total" ||
+    bad "--max-memory 3M: exit $rc, $(head -c 300 err)"
+"$S" check "${F6[@]}" --max-memory 3145728 --format csv -o bytes.csv 2>/dev/null &&
+    cmp -s small.csv bytes.csv && ok "--max-memory in bytes = with a suffix" ||
+    bad "--max-memory 3145728 differs from 3M"
+wrong=""
+for bad_size in 0 1X 1.5G -1 99999999999T; do
+    "$S" check "${F6[@]}" --max-memory "$bad_size" -o x.json 2>err; rc=$?
+    [ $rc = 2 ] && grep -q -- "--max-memory wants a size" err && [ ! -e x.json ] ||
+        wrong="$wrong $bad_size(exit $rc)"
+done
+[ -z "$wrong" ] && ok "malformed sizes (0, 1X, 1.5G, -1, beyond 2^64) are usage errors" ||
+    bad "malformed sizes accepted or misreported:$wrong"
+
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]

@@ -11,6 +11,9 @@
 /* Guards against designs that would exhaust memory; overridable in the spec. */
 #define STURDY_DEFAULT_MAX_LEVELS 1000
 #define STURDY_DEFAULT_MAX_COLUMNS 4000
+/* Bytes the coded design and the model's bases may take (2 GiB): a full model of 10
+ * two-level factors would need 8.6 GB, of 9 1.07 GB. */
+#define STURDY_DEFAULT_MAX_MEMORY ((size_t)2 << 30)
 
 /* The order of one factor's levels, as the user gives it (--levels FACTOR=a,b,c). */
 typedef struct {
@@ -34,6 +37,9 @@ typedef struct {
                                    the order of the table. NULL: the default order */
     size_t max_levels;          /* per factor; 0 = STURDY_DEFAULT_MAX_LEVELS */
     size_t max_columns;         /* coded columns in all; 0 = STURDY_DEFAULT_MAX_COLUMNS */
+    size_t max_memory;          /* bytes the coded design and the model's bases may take,
+                                   estimated from the design's dimensions before they are
+                                   built; 0 = STURDY_DEFAULT_MAX_MEMORY */
     const sturdy_level_order *level_orders; size_t nlevel_orders; /* NULL/0: natural */
     int merge_numeric_levels;   /* 1: levels equal as numbers ("60", "60.0") are one level,
                                    named by the first in natural order; a note says so */

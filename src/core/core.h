@@ -78,4 +78,8 @@ sturdy_status sturdy_bucket_rows(const size_t *label, size_t n, size_t nlabels,
 /* Monotonic clock in seconds (for progress and rates only; never in results). */
 double sturdy_now_seconds(void);
 
+/* A size in bytes for messages, in binary units with three significant digits ("143
+ * MiB", "8 GiB"); buf holds at least 32 characters and is returned. */
+const char *sturdy_format_bytes(double bytes, char *buf);
+
 #endif

@@ -21,3 +21,15 @@ sturdy_status sturdy_note_once(char **slot, const char *text, char *err)
     *slot = sturdy_strdup(text);
     return *slot ? STURDY_OK : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
 }
+
+const char *sturdy_format_bytes(double bytes, char *buf)
+{
+    static const char *const unit[] = { "bytes", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB" };
+    int u = 0;
+    while (bytes >= 1024.0 && u < 6) {
+        bytes /= 1024.0;
+        u++;
+    }
+    snprintf(buf, 32, "%.3g %s", bytes, unit[u]);
+    return buf;
+}
