@@ -135,5 +135,23 @@ done
 [ -z "$wrong" ] && ok "malformed sizes (0, 1X, 1.5G, -1, beyond 2^64) are usage errors" ||
     bad "malformed sizes accepted or misreported:$wrong"
 
+# --- under an address-space limit (as schedulers set): a 1,000,000-row run fails with
+# exit 1 and "out of memory" within seconds, never hangs (bounded by timeout)
+"$PY" - <<'PYEOF'
+import random
+random.seed(5)
+with open("rows1m.csv", "w") as f:
+    f.write("a,b,y\n")
+    f.writelines("%s,%s,%.3f\n" % ("abc"[i % 3], "wxyz"[(i // 3) % 4], random.gauss(0, 1))
+                 for i in range(1000000))
+PYEOF
+start=$(date +%s%N)
+( ulimit -v 600000; exec timeout 60 "$S" check rows1m.csv -y y -f a,b -q -o lim.json ) 2>err
+rc=$?
+ms=$(( ($(date +%s%N) - start) / 1000000 ))
+[ $rc = 1 ] && [ $ms -lt 30000 ] && grep -q "out of memory" err && [ ! -e lim.json ] &&
+    ok "1,000,000 rows under ulimit -v 600M: exit 1, 'out of memory' in ${ms} ms" ||
+    bad "1,000,000 rows under ulimit -v 600M: exit $rc after ${ms} ms, $(head -c 300 err)"
+
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
