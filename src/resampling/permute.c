@@ -430,9 +430,10 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
 #define PERM_THREAD_RESERVE ((double)(64u << 20))
 
 /* One workspace per thread, allocated before the threads start: under an address-space
- * limit the blocks are sized to what it leaves, and without room for them the block
- * shrinks (down to one rearrangement), then the threads; when even one thread with one
- * rearrangement per block does not fit, "out of memory" at once. Smaller blocks and
+ * limit the blocks are sized to what it leaves, and without room for them (or when an
+ * allocation fails) the block shrinks (down to one rearrangement), then the threads;
+ * when even one thread with one rearrangement per block does not fit, "out of memory"
+ * at once. Without a limit a failed allocation is out of memory. Smaller blocks and
  * fewer threads give the same counts (rearrangement b depends on b alone). */
 static sturdy_status alloc_workspaces(perm_ctx *c, int *nthreads, perm_work **out, char *err)
 {
@@ -455,6 +456,9 @@ static sturdy_status alloc_workspaces(perm_ctx *c, int *nthreads, perm_work **ou
             for (int i = 0; ws && i < nt; i++)
                 work_free(&ws[i]);
             sturdy_free(ws);
+            if (!limited)       /* no limit to size against: the machine is out */
+                return sturdy_fail(err, STURDY_EINTERNAL,
+                                   "out of memory for permutation workspaces");
         }
         if (c->nb > 1) {
             c->nb /= 2;
@@ -462,14 +466,11 @@ static sturdy_status alloc_workspaces(perm_ctx *c, int *nthreads, perm_work **ou
             nt--;
         } else {
             char a[32], b[32];
-            if (limited)
-                return sturdy_fail(err, STURDY_EINTERNAL,
-                                   "out of memory for the permutation tests: they need "
-                                   "about %s, and the address-space limit leaves %s",
-                                   sturdy_format_bytes(need, a),
-                                   sturdy_format_bytes((double)left, b));
             return sturdy_fail(err, STURDY_EINTERNAL,
-                               "out of memory for permutation workspaces");
+                               "out of memory for the permutation tests: they need "
+                               "about %s, and the address-space limit leaves %s",
+                               sturdy_format_bytes(need, a),
+                               sturdy_format_bytes((double)left, b));
         }
     }
 }
