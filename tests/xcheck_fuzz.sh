@@ -31,7 +31,7 @@ for h in analysis read; do
     fi
     mkdir -p "$T/corpus_$h"
     max_len=8192; [ "$h" = read ] && max_len=65536
-    if "$bin" -max_total_time="$SECS" -max_len=$max_len -timeout=20 -rss_limit_mb=4096 \
+    if "$bin" -max_total_time="$SECS" -max_len=$max_len -timeout=60 -rss_limit_mb=4096 \
            -print_final_stats=1 -artifact_prefix="$T/crash-" "$T/corpus_$h" \
            tests/fuzz/corpus/"$h" >"$T/$h.log" 2>&1; then
         ok "$h: fuzzed $SECS s, $(grep -o 'number_of_executed_units: [0-9]*' "$T/$h.log" | awk '{print $2}') inputs, no crash"

@@ -21,7 +21,7 @@ for bin in "$B"/fuzz_*; do
     fi
     max_len=8192; [ "$h" = read ] && max_len=65536
     echo "fuzzing $h for $SECS s"
-    if "$bin" -max_total_time="$SECS" -max_len=$max_len -timeout=20 -rss_limit_mb=4096 \
+    if "$bin" -max_total_time="$SECS" -max_len=$max_len -timeout=60 -rss_limit_mb=4096 \
            -print_final_stats=1 -artifact_prefix="$B/crash-$h-" \
            "$B/corpus/$h" "tests/fuzz/corpus/$h" >"$B/$h.log" 2>&1; then
         echo "ok   $h: $(grep -o 'stat::number_of_executed_units: [0-9]*' "$B/$h.log" | awk '{print $2}') inputs, no crash"
