@@ -37,15 +37,15 @@ typedef struct {
                                    the order of the table. NULL: the default order */
     size_t max_levels;          /* per factor; 0 = STURDY_DEFAULT_MAX_LEVELS */
     size_t max_columns;         /* coded columns in all; 0 = STURDY_DEFAULT_MAX_COLUMNS */
-    size_t max_memory;          /* bytes the coded design and the model's bases may take,
-                                   estimated from the design's dimensions before they are
-                                   built; 0 = STURDY_DEFAULT_MAX_MEMORY */
     const sturdy_level_order *level_orders; size_t nlevel_orders; /* NULL/0: natural */
     int merge_numeric_levels;   /* 1: levels equal as numbers ("60", "60.0") are one level,
                                    named by the first in natural order; a note says so */
     int row_groups;             /* 1: every row its own group, even without covariates —
                                    the straightforward n-row path that the tests compare
                                    the cell-sum path against (same results, slower) */
+    size_t max_memory;          /* bytes the coded design and the model's bases may take,
+                                   estimated from the design's dimensions before they are
+                                   built; 0 = STURDY_DEFAULT_MAX_MEMORY */
 } sturdy_model_spec;
 
 void sturdy_model_spec_init(sturdy_model_spec *s);
