@@ -58,10 +58,10 @@ TEST_BIN += $(PROBE_SRC:tests/%.c=$(BUILD)/tests/%)
 RUNTIME_PKGS := libcsv-dev liblapacke-dev libopenblas-dev libgsl-dev
 ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libpcg-cpp-dev \
                 libopenmpi-dev openmpi-bin valgrind g++ mandoc man-db pkg-config \
-                chromium tidy
+                chromium tidy clang libomp-dev
 MPI_PKGS     := libopenmpi-dev openmpi-bin
 
-.PHONY: all sturdy shared deps deps-test demo check test-bins sanitize install uninstall clean \
+.PHONY: all sturdy shared deps deps-test demo check test-bins sanitize install uninstall clean fuzz fuzz-bins \
         bench calibration coverage
 
 all: sturdy shared
@@ -139,7 +139,7 @@ demo: deps
 test-bins: $(TEST_BIN)
 
 check: deps-test
-	$(MAKE) sturdy shared test-bins
+	$(MAKE) sturdy shared test-bins fuzz-bins
 	bash tests/run.sh
 
 # ASan + UBSan build of everything, then the same test suite.
@@ -195,4 +195,32 @@ bench: deps-test sturdy
 	bash bench/run.sh
 
 clean:
-	rm -rf build build-san build-mpi sturdy
+	rm -rf build build-san build-mpi build-fuzz sturdy
+
+# libFuzzer harnesses (tests/fuzz/fuzz_*.c) over the library built with clang's
+# coverage, ASan and UBSan in build-fuzz/. `make fuzz` runs each for FUZZ_SECONDS
+# (default 600) from its seed corpus (tests/fuzz/corpus/<harness>/), new inputs kept in
+# build-fuzz/corpus/; a crash input lands in build-fuzz/ (copy it to
+# tests/fuzz/regressions/<harness>/, which tests/xcheck_fuzz.sh replays). `make check`
+# runs each for FUZZ_CHECK_SECONDS only (default 20: the suite's time budget is tight).
+FUZZ_SECONDS ?= 600
+FUZZ_CC    := clang
+FUZZ_BUILD := build-fuzz
+FUZZ_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L -g -O1 -fno-omit-frame-pointer \
+               -fsanitize=address,undefined -fno-sanitize-recover=undefined -fopenmp \
+               -Wall -Wextra -Werror
+FUZZ_OBJ   := $(LIB_SRC:src/%.c=$(FUZZ_BUILD)/lib/%.o)
+FUZZ_SRC   := $(wildcard tests/fuzz/fuzz_*.c)
+FUZZ_BIN   := $(FUZZ_SRC:tests/fuzz/%.c=$(FUZZ_BUILD)/%)
+
+$(FUZZ_BUILD)/lib/%.o: src/%.c $(wildcard include/sturdy/*.h) $(LIB_HDR)
+	@mkdir -p $(dir $@)
+	$(FUZZ_CC) -Iinclude -Isrc $(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link -c -o $@ $<
+
+$(FUZZ_BUILD)/fuzz_%: tests/fuzz/fuzz_%.c $(FUZZ_OBJ)
+	$(FUZZ_CC) -Iinclude $(FUZZ_CFLAGS) -fsanitize=fuzzer -o $@ $< $(FUZZ_OBJ) $(LDLIBS)
+
+fuzz-bins: $(FUZZ_BIN)
+
+fuzz: deps-test fuzz-bins
+	FUZZ_SECONDS=$(FUZZ_SECONDS) FUZZ_BUILD=$(FUZZ_BUILD) bash tests/fuzz/run.sh

@@ -317,6 +317,23 @@ static void test_bad_parts(const sturdy_table *t)
                  "a replicate value that is text", "neither a number nor null");
     refused_part(text, "\"boot\": [\n", "\n              [", "\n              [1, ",
                  "a replicate row of 10 values", "does not hold 9 values");
+    /* a hand edit that keeps every number in range: the first count one lower (one
+     * higher at 0), and the first replicate value made another plausible number */
+    const char *ex = strstr(strstr(text, raw), "\"exceed\": ");
+    if (ex) {
+        char from[64], to[64];
+        unsigned long long v = strtoull(ex + strlen("\"exceed\": "), NULL, 10);
+        snprintf(from, sizeof from, "\"exceed\": %llu,", v);
+        snprintf(to, sizeof to, "\"exceed\": %llu,", v ? v - 1 : v + 1);
+        refused_part(text, raw, from, to, "a count edited within its range", "raw_digest");
+    } else {
+        CHECK("a raw exceed count in the part", 0);
+    }
+    if (first[0])
+        refused_part(text, "\"boot\": [\n", first, strcmp(first, "[0.5") ? "[0.5" : "[0.25",
+                     "a replicate value edited", "raw_digest");
+    refused_part(text, "\"shard\"", "\"raw_digest\": \"", "\"raw_digestx\": \"",
+                 "a part without its digest", "raw_digest");
     free(text);
     sturdy_result_free(r);
 }

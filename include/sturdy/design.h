@@ -79,6 +79,9 @@ typedef struct {
                                            terms by order, then by factor index */
     size_t p;               /* coded columns including the intercept (column 0) */
     double *Xg;             /* ngroups × p column-major: the coded columns per group */
+    size_t max_memory;      /* the spec's budget for the design and the model's bases
+                               (0: STURDY_DEFAULT_MAX_MEMORY); sturdy_model_build
+                               refuses a model whose estimate exceeds it */
 } sturdy_design;
 
 /* Build the design. Rows with a missing value in any used column are dropped and listed

@@ -63,6 +63,13 @@ sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_mod
 
 void sturdy_model_free(sturdy_model *m);
 
+/* What sturdy_model_build would take for `ss_type`, from the design's dimensions alone
+ * (nothing is allocated): *bytes, an upper bound of the bases and the work matrix (K ×
+ * the columns of the full model, of every term's reduced model and of the term), and
+ * *flops, the floating-point operations of their QR factorisations. The build refuses
+ * (STURDY_EMODEL) when *bytes plus the coded design exceed d->max_memory. */
+void sturdy_model_estimate(const sturdy_design *d, int ss_type, double *bytes, double *flops);
+
 /* Group sums of a row vector v (length n) into s (length K), divided by √n_g. */
 void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
                                const double *v, double *s);

@@ -11,6 +11,9 @@
 /* Guards against designs that would exhaust memory; overridable in the spec. */
 #define STURDY_DEFAULT_MAX_LEVELS 1000
 #define STURDY_DEFAULT_MAX_COLUMNS 4000
+/* Bytes the coded design and the model's bases may take (2 GiB): a full model of 10
+ * two-level factors would need 8.6 GB, of 9 1.07 GB. */
+#define STURDY_DEFAULT_MAX_MEMORY ((size_t)2 << 30)
 
 /* The order of one factor's levels, as the user gives it (--levels FACTOR=a,b,c). */
 typedef struct {
@@ -40,6 +43,9 @@ typedef struct {
     int row_groups;             /* 1: every row its own group, even without covariates —
                                    the straightforward n-row path that the tests compare
                                    the cell-sum path against (same results, slower) */
+    size_t max_memory;          /* bytes the coded design and the model's bases may take,
+                                   estimated from the design's dimensions before they are
+                                   built; 0 = STURDY_DEFAULT_MAX_MEMORY */
 } sturdy_model_spec;
 
 void sturdy_model_spec_init(sturdy_model_spec *s);

@@ -103,6 +103,65 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
     return STURDY_OK;
 }
 
+/* --- the raw section's digest -------------------------------------------------------- */
+
+typedef struct { uint64_t h; } fnv;
+
+static void fnv_u64(fnv *f, uint64_t v)
+{
+    for (int i = 0; i < 8; i++) {          /* little-endian bytes, whatever the machine */
+        f->h ^= (v >> (8 * i)) & 0xFF;
+        f->h *= 1099511628211ULL;
+    }
+}
+
+/* A replicate value as the file holds it: every non-finite value is written as null and
+ * read back as NaN, and −0 may be written as 0, so both hash as one value each. */
+static void fnv_double(fnv *f, double x)
+{
+    uint64_t bits;
+    if (!isfinite(x)) {
+        bits = 0x7FF8000000000000ULL;
+    } else {
+        if (x == 0.0) x = 0.0;
+        memcpy(&bits, &x, sizeof bits);
+    }
+    fnv_u64(f, bits);
+}
+
+uint64_t sturdy_part_digest(const sturdy_part *p)
+{
+    const sturdy_slice *s = &p->s;
+    size_t k = s->nresp * s->nterms;
+    uint64_t nb = s->boot_end - s->boot_begin;
+    fnv f = { 14695981039346656037ULL };
+    fnv_u64(&f, 0x7374757264793031ULL);    /* the digest's own version */
+    fnv_u64(&f, p->index);
+    fnv_u64(&f, p->count);
+    fnv_u64(&f, p->data_checksum);
+    fnv_u64(&f, s->perm_begin);
+    fnv_u64(&f, s->perm_end);
+    fnv_u64(&f, s->boot_begin);
+    fnv_u64(&f, s->boot_end);
+    fnv_u64(&f, s->nresp);
+    fnv_u64(&f, s->nterms);
+    for (size_t i = 0; i < STURDY_PART_COUNTS * k; i++)
+        fnv_u64(&f, p->counts[i]);
+    for (size_t i = 0; i < k * STURDY_FHIST_BINS; i++)
+        fnv_u64(&f, p->f_hist[i]);
+    for (size_t i = 0; i < k * (size_t)nb * STURDY_BOOT_COLS; i++)
+        fnv_double(&f, p->boot[i]);
+    fnv_u64(&f, s->ncomparisons);
+    for (size_t i = 0; p->cmp_counts && i < s->ncomparisons; i++)
+        fnv_u64(&f, p->cmp_counts[i]);
+    /* a part of no replicates carries no comparison columns in its file */
+    size_t cols = nb && p->cmp_boot ? s->cmp_boot_cols : 0;
+    fnv_u64(&f, cols);
+    for (size_t i = 0; i < s->nresp * (size_t)nb * cols; i++)
+        fnv_double(&f, p->cmp_boot[i]);
+    return f.h;
+}
+
 const sturdy_slice *sturdy_part_slice(const sturdy_part *p)
 {
     return p ? &p->s : NULL;

@@ -118,6 +118,9 @@ char *cli_escaped(const char *text);
 /* Strict parsers for option values: the whole text must be the number. Return 1 on
  * success. u64: decimal digits only (no sign, no blanks); double: finite. */
 int cli_parse_u64(const char *s, uint64_t *v);
+/* A size: bytes, or a whole number with K, M, G or T (also KiB/KB, …), powers of 1024;
+ * 0 when malformed or beyond 2^64 − 1. */
+int cli_parse_size(const char *s, uint64_t *v);
 int cli_parse_double(const char *s, double *v);
 
 /* Split "a,b,c" and append the parts to `l`; keep_empty keeps empty parts (for

@@ -16,7 +16,7 @@ enum {
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
     OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_FIGURES, OPT_TERM_ORDER,
-    OPT_COMPARE, OPT_CONTROL, OPT_RESISTANT
+    OPT_COMPARE, OPT_CONTROL, OPT_RESISTANT, OPT_MAX_MEMORY
 };
 
 /* The one table of `check`'s long options: getopt_long reads the command line with it
@@ -57,6 +57,7 @@ const struct option cli_check_options[] = {
     { "figures", required_argument, NULL, OPT_FIGURES },
     { "max-levels", required_argument, NULL, OPT_MAX_LEVELS },
     { "max-columns", required_argument, NULL, OPT_MAX_COLUMNS },
+    { "max-memory", required_argument, NULL, OPT_MAX_MEMORY },
     { "help", no_argument, NULL, 'h' },
     { "version", no_argument, NULL, OPT_VERSION },
     { NULL, 0, NULL, 0 }
@@ -111,7 +112,10 @@ static const char check_help[] =
 "      --threads N              threads to use (default 0 = all cores); the results are\n"
 "                               the same for any number\n"
 "      --shard I/N              compute only part I of N, as JSON for 'sturdy merge'\n"
-"\n"
+"\n";
+
+/* The rest of check's help (a separate string: ISO C bounds a literal's length). */
+static const char check_help_input[] =
 "Input\n"
 "      --delimiter C            field separator (default ','; 'tab' for tabs)\n"
 "      --missing TOKEN[,...]    more values meaning missing, besides the defaults (the\n"
@@ -119,6 +123,9 @@ static const char check_help[] =
 "      --missing-only TOKEN[,...]  values meaning missing, instead of the defaults\n"
 "      --max-levels N           refuse a factor with more levels (default 1000)\n"
 "      --max-columns N          refuse a design with more coded columns (default 4000)\n"
+"      --max-memory SIZE        refuse a model whose coded design and bases would take\n"
+"                               more memory, estimated before they are built (default\n"
+"                               2G; SIZE in bytes or with K, M, G or T: powers of 1024)\n"
 "\n"
 "Output\n"
 "      --format text|json|csv|html  report format (default text, or as -o FILE.json,\n"
@@ -184,6 +191,29 @@ int cli_parse_u64(const char *s, uint64_t *v)
     errno = 0;
     unsigned long long x = strtoull(s, &end, 10);
     if (errno || *end) return 0;
+    *v = (uint64_t)x;
+    return 1;
+}
+
+int cli_parse_size(const char *s, uint64_t *v)
+{
+    if (!s || *s < '0' || *s > '9') return 0;
+    char *end;
+    errno = 0;
+    unsigned long long x = strtoull(s, &end, 10);
+    if (errno) return 0;
+    static const char units[] = "KMGT";
+    const char *u = *end ? strchr(units, *end) : NULL;
+    if (*end && !u) return 0;
+    if (u) {
+        end++;
+        if (!strcmp(end, "iB") || !strcmp(end, "B")) end += strlen(end);
+        for (int k = 0; k <= u - units; k++) {
+            if (x > UINT64_MAX / 1024) return 0;
+            x *= 1024;
+        }
+    }
+    if (*end) return 0;
     *v = (uint64_t)x;
     return 1;
 }
@@ -495,6 +525,13 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
         if (want_u64(c, "--max-columns", arg, 1, &u)) return CLI_EXIT_USAGE;
         o->model.max_columns = (size_t)u;
         return 0;
+    case OPT_MAX_MEMORY:
+        if (!cli_parse_size(arg, &u) || u == 0 || u > SIZE_MAX)
+            return cli_usage_error(c->command, "--max-memory wants a size of at least one "
+                                   "byte, in bytes or with K, M, G or T (e.g. 4G), not '%s'",
+                                   arg);
+        o->model.max_memory = (size_t)u;
+        return 0;
     }
     return cli_usage_error(c->command, "unhandled option %s", spelled);
 }
@@ -600,6 +637,7 @@ int cli_check_parse(int argc, char **argv, int demo, cli_check *c)
         const char *spelled = argv[optind - 1];
         if (opt == 'h') {
             fputs(demo ? demo_help : check_help, stdout);
+            if (!demo) fputs(check_help_input, stdout);
             fputs(compare_help, stdout);
             return CLI_DONE;
         }

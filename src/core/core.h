@@ -88,4 +88,13 @@ sturdy_status sturdy_bucket_rows(const size_t *label, size_t n, size_t nlabels,
 /* Monotonic clock in seconds (for progress and rates only; never in results). */
 double sturdy_now_seconds(void);
 
+/* A size in bytes for messages, in binary units with three significant digits ("143
+ * MiB", "8 GiB"); buf holds at least 32 characters and is returned. */
+const char *sturdy_format_bytes(double bytes, char *buf);
+
+/* The address space this process may still map under its limit (RLIMIT_AS, as `ulimit
+ * -v` sets): 1 with *bytes when a limit is set and the current size is known (Linux's
+ * /proc/self/statm), 0 when there is no limit to respect. */
+int sturdy_address_space_left(size_t *bytes);
+
 #endif

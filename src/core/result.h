@@ -296,4 +296,10 @@ struct sturdy_part {
 sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy_part **out,
                                 char *err);
 
+/* FNV-1a (64 bits) of the part's envelope numbers and raw material: counts, replicate
+ * values (non-finite ones as one NaN, −0 as 0) and the comparisons' counts and values.
+ * A part's file records it ("raw_digest" in its shard section) and the reader recomputes
+ * it, so a hand edit that keeps every number in range is still refused. */
+uint64_t sturdy_part_digest(const sturdy_part *p);
+
 #endif

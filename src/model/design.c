@@ -510,6 +510,18 @@ static sturdy_status make_terms(sturdy_design *d, const sturdy_model_spec *s,
     if ((st = sturdy_terms_make(d, s->order, max_columns, err)) ||
         (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err)))
         return st;
+    d->max_memory = s->max_memory ? s->max_memory : STURDY_DEFAULT_MAX_MEMORY;
+    /* one row per group: with covariates every row is a group (n × p doubles) */
+    double need = (double)d->ngroups * (double)d->p * sizeof *d->Xg;
+    if (need > (double)d->max_memory) {
+        char a[32], b[32];
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "the coded design needs %s of memory (%zu groups × %zu coded "
+                           "columns), more than the limit on memory of %s; lower the "
+                           "interaction order or raise the limit on memory",
+                           sturdy_format_bytes(need, a), d->ngroups, d->p,
+                           sturdy_format_bytes((double)d->max_memory, b));
+    }
     d->Xg = sturdy_malloc(d->ngroups * d->p * sizeof *d->Xg);
     if (!d->Xg)
         return sturdy_fail(err, STURDY_EINTERNAL,

@@ -296,9 +296,58 @@ void sturdy_model_free(sturdy_model *m)
     sturdy_free(m);
 }
 
+/* Columns of term t's reduced model (the intercept included) under the SS type. */
+static size_t reduced_columns(const sturdy_design *d, int ss_type, size_t t)
+{
+    size_t k = 1;
+    for (size_t j = 0; j < d->nterms; j++)
+        if (in_reduced(d, ss_type, t, j))
+            k += d->terms[j].ncols;
+    return k;
+}
+
+void sturdy_model_estimate(const sturdy_design *d, int ss_type, double *bytes, double *flops)
+{
+    double K = (double)d->ngroups, p = (double)d->p;
+    double cols = 2.0 * p;                  /* the work matrix and the full basis */
+    double f = 4.0 * K * p * p;             /* its QR and Q */
+    for (size_t t = 0; t < d->nterms; t++) {
+        double kr = (double)reduced_columns(d, ss_type, t), c = (double)d->terms[t].ncols;
+        if (kr > K) kr = K;                 /* no basis outgrows the groups */
+        if (c > K) c = K;
+        cols += kr + c;
+        f += 4.0 * K * kr * kr + 4.0 * K * kr * c + 4.0 * K * c * c;
+    }
+    *bytes = cols * K * sizeof(double);
+    *flops = f;
+}
+
+/* The model's estimated memory within the design's budget, or STURDY_EMODEL. */
+static sturdy_status check_budget(const sturdy_design *d, int ss_type, char *err)
+{
+    double bytes, flops;
+    sturdy_model_estimate(d, ss_type, &bytes, &flops);
+    double design = (double)d->ngroups * (double)d->p * sizeof(double);
+    size_t limit = d->max_memory ? d->max_memory : STURDY_DEFAULT_MAX_MEMORY;
+    if (bytes + design <= (double)limit)
+        return STURDY_OK;
+    char a[32], b[32];
+    return sturdy_fail(err, STURDY_EMODEL,
+                       "the model would need about %s of memory and %.2g floating-point "
+                       "operations to build (%zu groups; %zu terms, each with a basis of "
+                       "its reduced model of up to %zu columns), more than the limit on "
+                       "memory of %s; lower the interaction order or raise the limit on "
+                       "memory",
+                       sturdy_format_bytes(bytes + design, a), flops, d->ngroups, d->nterms,
+                       d->p, sturdy_format_bytes((double)limit, b));
+}
+
 static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
 {
     size_t K = d->ngroups, p = d->p;
+    sturdy_status budget = check_budget(d, m->ss_type, err);
+    if (budget)
+        return budget;
     m->n = d->n;
     m->K = K;
     m->nterms = d->nterms;

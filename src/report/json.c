@@ -246,6 +246,16 @@ static void write_shard(jw *w, const sturdy_result *r, const sturdy_report_opts 
     sturdy_buf_printf(w->b, "[%" PRIu64 ", %" PRIu64 "]", r->perm_begin, r->perm_end);
     jw_item(w, "boot_range");
     sturdy_buf_printf(w->b, "[%" PRIu64 ", %" PRIu64 "]", r->boot_begin, r->boot_end);
+    /* the digest of the raw material below, which the reader recomputes */
+    sturdy_part *p = NULL;
+    char err[STURDY_ERR_LEN];
+    if (sturdy_result_part(r, &p, err) != STURDY_OK) {
+        w->b->failed = 1;
+    } else {
+        jw_item(w, "raw_digest");
+        sturdy_buf_printf(w->b, "\"%016" PRIx64 "\"", sturdy_part_digest(p));
+        sturdy_part_free(p);
+    }
     jw_close(w, '}');
     jw_item(w, "data_checksum");
     sturdy_buf_printf(w->b, "\"%016" PRIx64 "\"", r->data_checksum);

@@ -504,7 +504,7 @@ static int get_range(const jv *sh, const char *key, uint64_t *a, uint64_t *b)
 
 /* The envelope: shard index and count, ranges, checksum, command and folder. */
 static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part *p,
-                                   uint64_t *pr, uint64_t *br, char *err)
+                                   uint64_t *pr, uint64_t *br, uint64_t *digest, char *err)
 {
     uint64_t version = 0;
     const jv *sh = jv_get(doc, "shard"), *args = jv_get(sh, "args"), *cwd = jv_get(sh, "cwd");
@@ -526,6 +526,13 @@ static sturdy_status read_envelope(const char *name, const jv *doc, sturdy_part 
     if (!is_kind(sum, JV_STRING) || strlen(sum->text) != 16 ||
         (p->data_checksum = strtoull(sum->text, &end, 16), errno) || *end)
         return part_fail(err, name, "its data_checksum is not 16 hexadecimal digits");
+    const jv *dg = jv_get(sh, "raw_digest");
+    errno = 0;
+    if (!is_kind(dg, JV_STRING) || strlen(dg->text) != 16 ||
+        (*digest = strtoull(dg->text, &end, 16), errno) || *end)
+        return part_fail(err, name, "its shard section has no raw_digest of 16 hexadecimal "
+                                    "digits (a part written by an older version? write it "
+                                    "again)");
     /* the command may be empty (a part written by an embedding program) */
     if (!is_kind(args, JV_ARRAY) || (cwd && !is_kind(cwd, JV_STRING) &&
                                      !is_kind(cwd, JV_NULL)))
@@ -563,21 +570,20 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
         }
         p->counts[(size_t)q * k + j] = v;
     }
-    /* the F* histogram (absent from parts written before it existed: none) */
+    /* the F* histogram */
     const jv *fh = jv_get(raw, "f_hist");
-    if (fh && !is_kind(fh, JV_NULL)) {
-        if (!is_kind(fh, JV_ARRAY) || fh->n != STURDY_FHIST_BINS)
-            return part_fail(err, name, "a term's raw 'f_hist' does not hold 41 counts");
-        uint64_t sum = 0;
-        for (size_t q = 0; q < STURDY_FHIST_BINS; q++) {
-            int ok = 0;
-            uint64_t v = jv_u64(&fh->items[q], &ok);
-            if (!ok || v > np - sum)
-                return part_fail(err, name, "a term's raw 'f_hist' holds something other "
-                                            "than counts within the part's rearrangements");
-            sum += v;
-            p->f_hist[j * STURDY_FHIST_BINS + q] = v;
-        }
+    if (!is_kind(fh, JV_ARRAY) || fh->n != STURDY_FHIST_BINS)
+        return part_fail(err, name, "a term's raw 'f_hist' is missing or does not hold "
+                                    "41 counts");
+    uint64_t hsum = 0;
+    for (size_t q = 0; q < STURDY_FHIST_BINS; q++) {
+        int ok = 0;
+        uint64_t v = jv_u64(&fh->items[q], &ok);
+        if (!ok || v > np - hsum)
+            return part_fail(err, name, "a term's raw 'f_hist' holds something other "
+                                        "than counts within the part's rearrangements");
+        hsum += v;
+        p->f_hist[j * STURDY_FHIST_BINS + q] = v;
     }
     const jv *b = jv_get(raw, "boot");
     if (is_kind(b, JV_NULL))
@@ -680,8 +686,8 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
         return st;
     sturdy_part env;
     memset(&env, 0, sizeof env);
-    uint64_t pr[2] = {0, 0}, br[2] = {0, 0};
-    st = read_envelope(name, doc, &env, pr, br, err);
+    uint64_t pr[2] = {0, 0}, br[2] = {0, 0}, digest = 0;
+    st = read_envelope(name, doc, &env, pr, br, &digest, err);
     const jv *resps = jv_get(doc, "responses");
     size_t nresp = is_kind(resps, JV_ARRAY) ? resps->n : 0;
     const jv *t0 = nresp ? jv_get(&resps->items[0], "terms") : NULL;
@@ -705,6 +711,10 @@ sturdy_status sturdy_part_read_json(const char *name, const char *text, size_t l
         }
         if (!st)
             st = read_cmp_raw(name, resps, p, err);
+        if (!st && sturdy_part_digest(p) != digest)
+            st = part_fail(err, name, "its raw counts or replicates differ from those it was "
+                                      "written with (the raw_digest does not match): the part "
+                                      "was edited or damaged; compute it again");
     }
     for (size_t i = 0; i < env.nargs; i++)
         sturdy_free(env.args[i]);

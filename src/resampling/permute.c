@@ -23,6 +23,7 @@
 #include <assert.h>
 #include <cblas.h>
 #include <math.h>
+#include <omp.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -120,6 +121,19 @@ static void work_free(perm_work *w)
     sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
     sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
+}
+
+/* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
+static double work_bytes(const perm_ctx *c)
+{
+    double n = (double)c->d->n, K = (double)c->m->K, M = (double)c->M;
+    double nb = (double)c->nb, MC = M + (double)c->maxt.C, maxdf = (double)c->m->rank;
+    for (size_t j = 0; j < c->M; j++)
+        if ((double)c->mem[j].df > maxdf)
+            maxdf = (double)c->mem[j].df;
+    return n * 9.0 + 8.0 * (K * (double)c->Mp + MC * K * nb + maxdf * nb + 2.0 * MC * nb +
+                            2.0 * M + (double)c->maxt.C * (nb + 1.0) +
+                            M * STURDY_FHIST_BINS + 8.0);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -433,6 +447,60 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     return STURDY_OK;
 }
 
+/* Address space kept free for each thread beyond the calling one, besides its
+ * workspace: the BLAS library's own buffer (OpenBLAS maps 32–64 MiB for each thread that
+ * calls it at the same time; the calling thread's exists from the model's
+ * factorisations), the thread's stack and its malloc arena. Under an address-space limit
+ * (ulimit -v) a BLAS library that cannot map its buffer may wait forever instead of
+ * failing, so it must never be left short. */
+#define PERM_THREAD_RESERVE ((double)(64u << 20))
+
+/* One workspace per thread, allocated before the threads start: under an address-space
+ * limit the blocks are sized to what it leaves, and without room for them (or when an
+ * allocation fails) the block shrinks (down to one rearrangement), then the threads;
+ * when even one thread with one rearrangement per block does not fit, "out of memory"
+ * at once. Without a limit a failed allocation is out of memory. Smaller blocks and
+ * fewer threads give the same counts (rearrangement b depends on b alone). */
+static sturdy_status alloc_workspaces(perm_ctx *c, int *nthreads, perm_work **out, char *err)
+{
+    size_t left = 0;
+    int limited = sturdy_address_space_left(&left);
+    int nt = *nthreads > 0 ? *nthreads : 1;
+    *out = NULL;
+    for (;;) {
+        double need = work_bytes(c) * nt + PERM_THREAD_RESERVE * (nt - 1);
+        if (!limited || need <= (double)left) {
+            perm_work *ws = sturdy_calloc((size_t)nt, sizeof *ws);
+            int ok = ws != NULL;
+            for (int i = 0; ok && i < nt; i++)
+                ok = work_alloc(c, &ws[i]);
+            if (ok) {
+                *nthreads = nt;
+                *out = ws;
+                return STURDY_OK;
+            }
+            for (int i = 0; ws && i < nt; i++)
+                work_free(&ws[i]);
+            sturdy_free(ws);
+            if (!limited)       /* no limit to size against: the machine is out */
+                return sturdy_fail(err, STURDY_EINTERNAL,
+                                   "out of memory for permutation workspaces");
+        }
+        if (c->nb > 1) {
+            c->nb /= 2;
+        } else if (nt > 1) {
+            nt--;
+        } else {
+            char a[32], b[32];
+            return sturdy_fail(err, STURDY_EINTERNAL,
+                               "out of memory for the permutation tests: they need "
+                               "about %s, and the address-space limit leaves %s",
+                               sturdy_format_bytes(need, a),
+                               sturdy_format_bytes((double)left, b));
+        }
+    }
+}
+
 /* Progress after `add` more rearrangements of `total`: at most every 0.2 s, and at the
  * end. Called inside a critical section. */
 static void report_progress(const sturdy_run *run, uint64_t add, uint64_t total,
@@ -456,7 +524,9 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     c.flip = run->opts.flip;
     sturdy_status st = setup(&c, run, r, err);
     uint64_t b0 = run->perm_begin, b1 = run->perm_end;
-    if (st || c.M + c.maxt.C == 0 || b1 <= b0)
+    perm_work *ws = NULL;
+    int nthreads = run->threads;
+    if (st || c.M + c.maxt.C == 0 || b1 <= b0 || (st = alloc_workspaces(&c, &nthreads, &ws, err)))
         goto done;
     uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
     int64_t nblocks = (int64_t)(last_blk - first_blk);
@@ -464,10 +534,8 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     uint64_t *fwer = sturdy_calloc(c.M + 1, sizeof *fwer);
     uint64_t *cexceed = sturdy_calloc(c.maxt.C + 1, sizeof *cexceed);
     uint64_t *hist = sturdy_calloc(c.M * STURDY_FHIST_BINS + 1, sizeof *hist);
-    int failed = 0;
     uint64_t done_count = 0;
     double last_report = sturdy_now_seconds();
-    int nthreads = run->threads;
     if (!exceed || !fwer || !cexceed || !hist) {
         sturdy_free(exceed); sturdy_free(fwer); sturdy_free(cexceed); sturdy_free(hist);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
@@ -475,44 +543,33 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     }
 #pragma omp parallel num_threads(nthreads)
     {
-        perm_work w;
-        int ok = work_alloc(&c, &w);
-        if (!ok) {
-#pragma omp atomic write
-            failed = 1;
-        }
+        perm_work *w = &ws[omp_get_thread_num()];
 #pragma omp for schedule(dynamic, 1)
         for (int64_t k = 0; k < nblocks; k++) {
-            if (!ok || sturdy_run_cancelled(run))
+            if (sturdy_run_cancelled(run))
                 continue;
             uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
             if (lo < b0) lo = b0;
             if (hi > b1) hi = b1;
             assert(lo < hi && hi <= run->nperm);
-            run_block(&c, lo, (size_t)(hi - lo), &w);
+            run_block(&c, lo, (size_t)(hi - lo), w);
             if (run->progress) {
 #pragma omp critical(sturdy_progress)
                 report_progress(run, hi - lo, b1 - b0, &done_count, &last_report);
             }
         }
-        if (ok) {
-#pragma omp critical(sturdy_perm_reduce)
-            {
-                for (size_t j = 0; j < c.M; j++) {
-                    exceed[j] += w.exceed[j];
-                    fwer[j] += w.fwer[j];
-                }
-                for (size_t q = 0; q < c.maxt.C; q++)
-                    cexceed[q] += w.cexceed[q];
-                for (size_t q = 0; q < c.M * STURDY_FHIST_BINS; q++)
-                    hist[q] += w.hist[q];
-            }
-        }
-        work_free(&w);
     }
-    if (failed) {
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for permutation workspaces");
-    } else if (sturdy_run_cancelled(run)) {
+    for (int i = 0; i < nthreads; i++) {      /* in thread order: the sums are integers */
+        for (size_t j = 0; j < c.M; j++) {
+            exceed[j] += ws[i].exceed[j];
+            fwer[j] += ws[i].fwer[j];
+        }
+        for (size_t q = 0; q < c.maxt.C; q++)
+            cexceed[q] += ws[i].cexceed[q];
+        for (size_t q = 0; q < c.M * STURDY_FHIST_BINS; q++)
+            hist[q] += ws[i].hist[q];
+    }
+    if (sturdy_run_cancelled(run)) {
         st = sturdy_fail(err, STURDY_ECANCELLED, "cancelled during the permutation tests");
     } else {
         for (size_t j = 0; j < c.M; j++) {
@@ -530,6 +587,9 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     sturdy_free(cexceed);
     sturdy_free(hist);
 done:
+    for (int i = 0; ws && i < nthreads; i++)
+        work_free(&ws[i]);
+    sturdy_free(ws);
     sturdy_free(c.mem);
     sturdy_free(c.V);
     sturdy_free(c.thr);
