@@ -310,7 +310,7 @@ typedef struct {
 typedef struct {
     const char *term, *factor, *level, *versus;
     const char *by_factor, *by_level;   /* NULL unless a simple effect */
-    const char *adjustment;      /* "tukey-kramer" or "games-howell" */
+    const char *adjustment;      /* "tukey-kramer", "games-howell" or "dunnett" */
     double estimate, se, df, t, p;      /* unadjusted t test (Welch df for Games–Howell) */
     double hedges_g;             /* estimate / pooled residual SD × (1 − 3/(4·df_error − 1)) */
     double ci_lo, ci_hi;         /* unadjusted interval */

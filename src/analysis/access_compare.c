@@ -54,7 +54,9 @@ int sturdy_result_comparison(const sturdy_result *r, size_t resp, size_t i,
         out->by_factor = d->factors[c->by_factor].name;
         out->by_level = d->factors[c->by_factor].levels[c->by_level];
     }
-    out->adjustment = c->method == STURDY_ADJ_GAMES_HOWELL ? "games-howell" : "tukey-kramer";
+    out->adjustment = c->method == STURDY_ADJ_GAMES_HOWELL ? "games-howell"
+                      : c->method == STURDY_ADJ_DUNNETT ? "dunnett"
+                                                        : "tukey-kramer";
     out->estimate = c->estimate;
     out->se = c->se;
     out->df = c->df;

@@ -10,7 +10,14 @@
  * integral the published algorithms evaluate, Copenhaver & Holland 1988). The inner
  * integrand is written as a difference of powers through expm1/log1p, so that small
  * upper tails keep their relative accuracy; both integrals use adaptive Gauss–Kronrod
- * (7/15 points) with an absolute tolerance far below the accuracy the tests ask for. */
+ * (7/15 points) with an absolute tolerance far below the accuracy the tests ask for.
+ *
+ * Many-to-one (Dunnett 1955): m differences with a common control whose correlations
+ * have the product form ρ_ij = λ_iλ_j (|λ_i| < 1) are, up to the common s,
+ * T_i = (λ_i Z + √(1−λ_i²) Z_i)/s with Z, Z_i independent N(0,1), so
+ *   P(max |T_i| ≤ c) = ∫₀^∞ f_s(s) ∫ φ(z) Π_i [Φ((λ_i z + cs)/√(1−λ_i²))
+ *                                            − Φ((λ_i z − cs)/√(1−λ_i²))] dz ds,
+ * the same outer integral over s as the range and an inner one over z. */
 #include <assert.h>
 #include <float.h>
 #include <math.h>
@@ -208,6 +215,98 @@ double sturdy_range_quantile(double p, double k, double df)
         if (!(c > a && c < b))
             c = 0.5 * (a + b);
         double fc = sturdy_range_upper(c, k, df) - target;
+        if (fc == 0)
+            return c;
+        if ((fc > 0) == (fa > 0)) {
+            a = c; fa = fc;
+            if (side == -1) fb *= 0.5;
+            side = -1;
+        } else {
+            b = c; fb = fc;
+            if (side == 1) fa *= 0.5;
+            side = 1;
+        }
+    }
+    return 0.5 * (a + b);
+}
+
+typedef struct { double c; size_t m; const double *lambda; } dun_arg;
+
+static double dunnett_inner(double z, const void *p)
+{
+    const dun_arg *a = p;
+    double prod = 1.0;
+    for (size_t i = 0; i < a->m && prod > 0; i++) {
+        double l = a->lambda[i], r = sqrt(1.0 - l * l);
+        double hi = (l * z + a->c) / r, lo = (l * z - a->c) / r;
+        /* Φ(hi) − Φ(lo) through the tails, accurate when both are far out */
+        prod *= 0.5 * (erfc(-hi / sqrt(2.0)) - erfc(-lo / sqrt(2.0)));
+    }
+    return exp(-0.5 * z * z) * INV_SQRT_2PI * prod;
+}
+
+/* P(max |Z-part| ≤ c) with s = 1. */
+static double dunnett_cdf_known(double c, size_t m, const double *lambda)
+{
+    if (c <= 0)
+        return 0.0;
+    dun_arg a = {c, m, lambda};
+    /* smooth in z (φ times a product of smooth steps): fixed panels, as range_upper */
+    double v = integrate(dunnett_inner, &a, -RANGE_Z, RANGE_Z, 0, 2 * RANGE_PANELS);
+    return fmin(1.0, fmax(0.0, v));
+}
+
+typedef struct { double c, df, logc; size_t m; const double *lambda; } dun_outer_arg;
+
+static double dunnett_outer(double s, const void *p)
+{
+    const dun_outer_arg *a = p;
+    if (s <= 0)
+        return 0;
+    double logf = a->logc + (a->df - 1) * log(s) - 0.5 * a->df * s * s;
+    /* the upper tail 1 − P, so that small adjusted p keep their accuracy */
+    return exp(logf) * (1.0 - dunnett_cdf_known(a->c * s, a->m, a->lambda));
+}
+
+double sturdy_manyone_upper(double c, size_t m, const double *lambda, double df)
+{
+    if (isnan(c) || isnan(df) || !(df > 0) || m == 0)
+        return NAN;
+    if (c <= 0)
+        return 1.0;
+    if (isinf(df) || df > RANGE_DF_INF)
+        return 1.0 - dunnett_cdf_known(c, m, lambda);
+    dun_outer_arg a = {c, df, 0, m, lambda};
+    a.logc = log(2.0) + 0.5 * df * log(0.5 * df) - lgamma(0.5 * df);
+    double sd = 1.0 / sqrt(2.0 * df);
+    double lo = fmax(0.0, 1.0 - RANGE_SPAN * sd), hi = 1.0 + RANGE_SPAN * sd;
+    if (df < 2)
+        hi = fmax(hi, sqrt(2.0 * 80.0 / df));
+    double v = df >= RANGE_FIXED_DF ? integrate(dunnett_outer, &a, lo, hi, 0, RANGE_PANELS)
+                                    : integrate(dunnett_outer, &a, lo, hi, RANGE_TOL, 4);
+    return fmin(1.0, fmax(0.0, v));
+}
+
+double sturdy_manyone_quantile(double p, size_t m, const double *lambda, double df)
+{
+    if (!(p > 0 && p < 1) || !(df > 0) || m == 0)
+        return NAN;
+    double target = 1.0 - p;
+    double a = 0.0, fa = 1.0 - target;
+    double b = 4.0, fb = sturdy_manyone_upper(b, m, lambda, df) - target;
+    while (fb > 0) {
+        a = b; fa = fb;
+        b *= 2;
+        fb = sturdy_manyone_upper(b, m, lambda, df) - target;
+        if (b > 1e6)
+            return NAN;
+    }
+    int side = 0;
+    for (int it = 0; it < 200 && b - a > RANGE_QTOL * fmax(1.0, b); it++) {
+        double c = (a * fb - b * fa) / (fb - fa);
+        if (!(c > a && c < b))
+            c = 0.5 * (a + b);
+        double fc = sturdy_manyone_upper(c, m, lambda, df) - target;
         if (fc == 0)
             return c;
         if ((fc > 0) == (fa > 0)) {

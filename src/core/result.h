@@ -185,7 +185,9 @@ typedef struct {
 /* How the classical simultaneous interval of a comparison is found. */
 typedef enum {
     STURDY_ADJ_TUKEY_KRAMER = 0, /* pooled residual variance (Tukey 1953; Kramer 1956) */
-    STURDY_ADJ_GAMES_HOWELL = 1  /* cell variances, Welch df (Games & Howell 1976) */
+    STURDY_ADJ_GAMES_HOWELL = 1, /* cell variances, Welch df (Games & Howell 1976) */
+    STURDY_ADJ_DUNNETT = 2       /* many-to-one with a control, exact multivariate t of
+                                    product correlation (Dunnett 1955) */
 } sturdy_adjust_method;
 
 /* One difference of two marginal means: mean(level) − mean(versus) of `factor`, within
@@ -199,6 +201,7 @@ typedef struct {
     size_t by_factor, by_level;
     sturdy_adjust_method method;
     double range_k;              /* means in the studentized range of its adjustment */
+    double lambda;               /* Dunnett: ρ_ij = λ_iλ_j within the family */
     double estimate, se, df, t, p; /* unadjusted t test */
     double g;                    /* Hedges' g: estimate / pooled residual SD × J(df) */
     sturdy_pair ci, ci_simultaneous;

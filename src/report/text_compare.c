@@ -54,8 +54,8 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
         return;
     double conf = w->r->opts.conf * 100;
     tw_paraf(w, 2, 2, "Differences of least-squares means, in the response's units: %g%% "
-             "simultaneous intervals over each term's family, classical (Tukey–Kramer or "
-             "Games–Howell) and bootstrap (max-|t|); p adj: classical; p max-T: permutation "
+             "simultaneous intervals over each term's family, classical (Tukey–Kramer, "
+             "Games–Howell or Dunnett) and bootstrap (max-|t|); p adj: classical; p max-T: permutation "
              "(Westfall–Young); g: Hedges' g on the pooled residual SD", conf);
     for (size_t t = 0; t < rr->nterms; t++) {
         if (!rr->compare_shown[t]) continue;
@@ -63,7 +63,10 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
         for (size_t i = 0; i < rr->ncomparisons && !adj; i++)
             if (rr->comparisons[i].term == t)
                 adj = rr->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL
-                          ? "Games–Howell (cell spreads differ)" : "Tukey–Kramer";
+                          ? "Games–Howell (cell spreads differ)"
+                      : rr->comparisons[i].method == STURDY_ADJ_DUNNETT
+                          ? "Dunnett (many-to-one with the control, exact)"
+                          : "Tukey–Kramer";
         tw_paraf(w, 2, 4, "%s — %s", rr->terms[t].label, adj ? adj : "no comparisons");
         mean_line(w, rr, t);
         tw_indent(w, 4);
