@@ -125,6 +125,13 @@ def identity_checks(tmp):
     same = (single is not None and mj is not None and
             single["responses"][0]["comparisons"] == mj["responses"][0]["comparisons"])
     report(same, "3 shards merged: comparisons identical to the single run [DESIGN.md]")
+    mcsv = subprocess.run([BIN, "merge", parts[1], parts[0], parts[2], "--format",
+                           "csv-comparisons", "-q"], capture_output=True, text=True)
+    scsv = run(path, args + ["--threads", "1", "--format", "csv-comparisons", "-q"])
+    report(mcsv.returncode == 0 and scsv is not None and mcsv.stdout == scsv and
+           scsv.count("\n") > 5,
+           "merge --format csv-comparisons: byte-identical to the single run's "
+           "(exit %d) [DESIGN.md]" % mcsv.returncode)
     # the same with own-SE studentisation (spreads differ: Games–Howell families)
     rng = np.random.default_rng(35)
     ns, sds = [16, 12, 10, 8], [1, 1, 1, 5]

@@ -15,7 +15,8 @@
 #include "cli.h"
 
 static const char merge_help[] =
-"Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv] [--data FILE]\n"
+"Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv|csv-comparisons]\n"
+"                    [--data FILE]\n"
 "\n"
 "Combines the JSON parts written by 'sturdy check --shard I/N' into the result that a\n"
 "single run would give, bit for bit. The data are read again from the path the parts\n"
@@ -24,8 +25,9 @@ static const char merge_help[] =
 "repeated slices.\n"
 "\n"
 "  -o, --output FILE    write the result here (through a temporary file); default stdout\n"
-"      --format F       text, json or csv (default text, or as -o FILE.json/.csv\n"
-"                       says: the same rule as check)\n"
+"      --format F       text, json, csv or csv-comparisons (the means and comparisons,\n"
+"                       one row each; default text, or as -o FILE.json/.csv says:\n"
+"                       the same rule as check)\n"
 "      --data FILE      read the data from FILE instead\n"
 "      --threads N      threads for the set-up (default all)\n"
 "  -q, --quiet          no remarks on standard error\n"
@@ -153,7 +155,9 @@ static int parse_args(int argc, char **argv, merge_args *m)
             if (!strcmp(optarg, "text")) m->format = CLI_FMT_TEXT;
             else if (!strcmp(optarg, "json")) m->format = CLI_FMT_JSON;
             else if (!strcmp(optarg, "csv")) m->format = CLI_FMT_CSV;
-            else return cli_usage_error("merge", "--format wants text, json or csv, not '%s'",
+            else if (!strcmp(optarg, "csv-comparisons")) m->format = CLI_FMT_CSV_COMPARISONS;
+            else return cli_usage_error("merge", "--format wants text, json, csv or "
+                                        "csv-comparisons, not '%s'",
                                         optarg);
             format_given = 1;
             break;
