@@ -321,8 +321,9 @@ typedef struct {
     const char *note, *perm_note;
 } sturdy_comparison_info;
 
-/* Counts (0 for a result read back: it keeps no design) and entries; an entry call
- * returns 0 and leaves *out untouched when resp or i is out of range. */
+/* Counts and entries; a result read back (sturdy_result_read_json) gives those its file
+ * holds, with the strings owned by the result. An entry call returns 0 and leaves *out
+ * untouched when resp or i is out of range. */
 size_t sturdy_result_nmeans(const sturdy_result *r, size_t resp);
 int sturdy_result_mean(const sturdy_result *r, size_t resp, size_t i, sturdy_mean_info *out);
 size_t sturdy_result_ncomparisons(const sturdy_result *r, size_t resp);

@@ -235,6 +235,10 @@ typedef struct {
                                     |t*| of each family, then each mean's replicate value
                                     (owned; NULL: no bootstrap) */
     char *cmp_boot_note;         /* why the bootstrap intervals are absent */
+    /* read back (read.c): the means and comparisons as the file gives them, with their
+       names (a result read back has no design); strings in the result's `owned` */
+    size_t rb_nmeans; sturdy_mean_info *rb_means;
+    size_t rb_ncomparisons; sturdy_comparison_info *rb_comparisons;
     double df_error, ss_error, ms_error;
     double df_total, ss_total;
     char *error_note;            /* e.g. no residual degrees of freedom */
