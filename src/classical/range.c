@@ -252,7 +252,7 @@ static double dunnett_cdf_known(double c, size_t m, const double *lambda)
         return 0.0;
     dun_arg a = {c, m, lambda};
     /* smooth in z (φ times a product of smooth steps): fixed panels, as range_upper */
-    double v = integrate(dunnett_inner, &a, -RANGE_Z, RANGE_Z, 0, 2 * RANGE_PANELS);
+    double v = integrate(dunnett_inner, &a, -RANGE_Z, RANGE_Z, 0, RANGE_PANELS);
     return fmin(1.0, fmax(0.0, v));
 }
 
