@@ -32,10 +32,14 @@ Checks (the reference is named on every line):
     families studentise each difference by its own SE (maxt.c, bootcmp.c). Over those
     datasets the max-T family-wise error must lie in the binomial 99% band around 0.05
     and the max-|t| band's simultaneous coverage must reach the binomial 99% lower band
-    of 0.95. The pooled-SE versions (before this change) gave 0.164 and 0.82 on 116
+    of 0.95 (STURDY_SLOW=1: 0.93, as the issue asks). The pooled-SE versions (before this change) gave 0.164 and 0.82 on 116
     such datasets (docs/compare_study.md), outside both bands. The same checks with
     SDs all 1 (equal spreads) over all datasets. Quick tier: 100 datasets per case
-    (about 60 s on 2 cores); STURDY_SLOW=1: 1000.
+    (about 40 s on 2 cores); STURDY_SLOW=1: 1000, where the max-T family-wise error
+    under unequal spreads was measured at 0.077 over 917 datasets, above the band
+    [0.033, 0.070]: the permutation of studentised differences is still somewhat
+    liberal in cells of 8 rows (docs/compare_study.md); that check fails there and is
+    kept, as a known shortfall, rather than widened.
 Prints one line per check and "N passed, N failed"; exits 1 on any failure. A missing
 library or binary is a failure, never a skip.
 """
@@ -278,7 +282,9 @@ def unequal_spreads(tmp):
                "%s: max-T family-wise error %.3f over %d datasets%s in the binomial 99%% band "
                "[%.3f, %.3f] [Westfall & Young 1993; own-SE studentisation]"
                % (case, fw / used, used, " where the rule fired" if only_fired else "", lo, hi))
-        floor = 0.95 - 2.58 * np.sqrt(0.95 * 0.05 / used)
+        # quick tier: the binomial 99% lower band; slow tier: 0.93, as the other coverage
+        # checks of the 1000-dataset tier (the issue's floor for 95%)
+        floor = 0.93 if slow else 0.95 - 2.58 * np.sqrt(0.95 * 0.05 / used)
         report(cov / used >= floor,
                "%s: max-|t| band simultaneous coverage %.3f over %d datasets ≥ %.3f "
                "[nominal 0.95; binomial 99%% lower band]" % (case, cov / used, used, floor))
