@@ -62,7 +62,7 @@ ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libp
 MPI_PKGS     := libopenmpi-dev openmpi-bin
 
 .PHONY: all sturdy shared deps deps-test demo check test-bins sanitize install uninstall clean fuzz fuzz-bins \
-        bench calibration coverage
+        bench calibration coverage compare-study
 
 all: sturdy shared
 
@@ -190,6 +190,14 @@ calibration: deps-test sturdy
 # 2 cores at 1000). `make check` runs only the asserted rows.
 coverage: deps-test sturdy
 	STURDY_COVERAGE_FULL=1 $(PYTHON3) tests/xcheck_coverage.py
+
+# The comparisons' resampling study (tests/xcheck_maxt.py at STURDY_SLOW=1): family-wise
+# error of the max-T p over 1000 null datasets, simultaneous coverage of the max-|t|
+# bootstrap band over 1000 datasets under the global null and with true differences
+# (skewed errors), and both under unequal and equal spreads over 1000 datasets each;
+# about 25 minutes on 2 cores. docs/compare_study.md holds its figures.
+compare-study: deps-test sturdy
+	STURDY_SLOW=1 $(PYTHON3) tests/xcheck_maxt.py
 
 bench: deps-test sturdy
 	bash bench/run.sh

@@ -189,6 +189,45 @@ static void test_recommended(const sturdy_table *t, const sturdy_result *a)
     sturdy_result_free(r);
 }
 
+static int same_d(double x, double y) { return (isnan(x) && isnan(y)) || x == y; }
+static int same_s(const char *x, const char *y) { return (!x && !y) || (x && y && !strcmp(x, y)); }
+
+/* The means and comparisons of a result read back equal the run's, field by field. */
+static void same_compare(const sturdy_result *a, const sturdy_result *b)
+{
+    size_t nm = sturdy_result_nmeans(a, 0), nc = sturdy_result_ncomparisons(a, 0);
+    CHECK("read back: as many means and comparisons (and some)",
+          nm > 0 && nc > 0 && nm == sturdy_result_nmeans(b, 0) &&
+          nc == sturdy_result_ncomparisons(b, 0));
+    int same = 1;
+    for (size_t i = 0; i < nm && i < sturdy_result_nmeans(b, 0); i++) {
+        sturdy_mean_info x, y;
+        sturdy_result_mean(a, 0, i, &x);
+        sturdy_result_mean(b, 0, i, &y);
+        same &= same_s(x.term, y.term) && x.nfactors == y.nfactors && same_d(x.estimate, y.estimate) &&
+                same_d(x.se, y.se) && same_d(x.df, y.df) && same_d(x.ci_lo, y.ci_lo) &&
+                same_d(x.ci_hi, y.ci_hi) && same_s(x.note, y.note);
+        for (size_t f = 0; f < x.nfactors && f < y.nfactors; f++)
+            same &= same_s(x.factors[f], y.factors[f]) && same_s(x.levels[f], y.levels[f]);
+    }
+    for (size_t i = 0; i < nc && i < sturdy_result_ncomparisons(b, 0); i++) {
+        sturdy_comparison_info x, y;
+        sturdy_result_comparison(a, 0, i, &x);
+        sturdy_result_comparison(b, 0, i, &y);
+        same &= same_s(x.term, y.term) && same_s(x.factor, y.factor) && same_s(x.level, y.level) &&
+                same_s(x.versus, y.versus) && same_s(x.by_factor, y.by_factor) &&
+                same_s(x.by_level, y.by_level) && same_s(x.adjustment, y.adjustment) &&
+                same_d(x.estimate, y.estimate) && same_d(x.se, y.se) && same_d(x.df, y.df) &&
+                same_d(x.t, y.t) && same_d(x.p, y.p) && same_d(x.hedges_g, y.hedges_g) &&
+                same_d(x.ci_lo, y.ci_lo) && same_d(x.ci_hi, y.ci_hi) &&
+                same_d(x.sim_lo, y.sim_lo) && same_d(x.sim_hi, y.sim_hi) &&
+                same_d(x.p_adjusted, y.p_adjusted) && same_d(x.p_perm_adjusted, y.p_perm_adjusted) &&
+                same_d(x.boot_sim_lo, y.boot_sim_lo) && same_d(x.boot_sim_hi, y.boot_sim_hi) &&
+                x.reported == y.reported && same_s(x.note, y.note) && same_s(x.perm_note, y.perm_note);
+    }
+    CHECK("read back: every mean and comparison field equals the run's", same);
+}
+
 static void test_read_back(const sturdy_result *r)
 {
     char *text = json_of(r, 0);
@@ -198,6 +237,7 @@ static void test_read_back(const sturdy_result *r)
     CHECK("a JSON result reads back", st == STURDY_OK);
     if (back) {
         same_numbers("read back: every accessor number equals the run's", r, back);
+        same_compare(r, back);
         sturdy_run_info a, b;
         sturdy_result_info(r, &a);
         sturdy_result_info(back, &b);

@@ -21,6 +21,17 @@ Checks and tolerances (the reference is named on every line):
     with a note; the means that do not involve it still match statsmodels;
   * --control: only comparisons against the control level, each as level − control;
     --levels: the comparisons follow the order given;
+  * Dunnett's exact many-to-one adjustment (--control on a main effect; Dunnett 1955):
+    the comparisons' correlation matrix from statsmodels (contrast vectors through
+    cov_params), tested for the product form ρ_ij = λ_iλ_j to 1e-9; where it holds
+    sturdy must say "dunnett" and its adjusted p and interval ends must match this
+    script's own integral (400-point Gauss–Legendre over z ~ N(0,1) inside
+    scipy.integrate.quad over the density of s = √(χ²_df/df), scipy.stats.chi; the
+    interval from scipy.optimize.brentq) to
+    absolute 1e-8; where it does not hold (a covariate) sturdy must keep
+    "tukey-kramer". The integral is also checked by Monte Carlo from the full
+    correlation matrix (numpy seed 9, 400 000 draws of a multivariate t): within 4
+    binomial SEs;
   * Games–Howell where the spread rule fires (one-way, SDs 1, 1, 6, 12): SE
     √(s_i²/n_i + s_j²/n_j), Welch df, adjusted p and interval from scipy's studentized
     range at that df, absolute 1e-9 (SE, df relative 1e-10; Games & Howell 1976).
@@ -209,6 +220,111 @@ def check_control_and_order():
            % (bad.returncode, bad.stderr.strip().splitlines()[0][:80] if bad.stderr.strip() else ""))
 
 
+def dunnett_upper(c, lam, dfe):
+    """P(max |T_i| > c) for product correlation λ_iλ_j (Dunnett 1955), by nested quad."""
+    from scipy import integrate
+    from scipy.special import roots_legendre
+    from scipy.stats import chi, norm
+    lam = np.asarray(lam)[:, None]
+    r = np.sqrt(1 - lam ** 2)
+    zn, zw = roots_legendre(400)          # the inner integral over z ∈ [−9, 9]
+    z, zw = 9.0 * zn, 9.0 * zw
+
+    def inner(x):
+        g = norm.cdf((lam * z + x) / r) - norm.cdf((lam * z - x) / r)
+        return float(np.sum(zw * norm.pdf(z) * np.prod(g, axis=0)))
+
+    dens = chi(dfe, scale=1 / np.sqrt(dfe))
+    lo, hi = dens.ppf(1e-16), dens.isf(1e-16)
+    return integrate.quad(lambda s: dens.pdf(s) * (1 - inner(c * s)), lo, hi,
+                          epsabs=1e-13, epsrel=1e-11, limit=200)[0]
+
+
+def product_form(R):
+    """λ with R_ij = λ_iλ_j (i ≠ j) to 1e-9, or None."""
+    m = len(R)
+    if m == 1:
+        return [0.0]
+    if m == 2:
+        l0 = np.sqrt(abs(R[0, 1]))
+    else:
+        j, k = max(((j, k) for j in range(1, m) for k in range(j + 1, m)),
+                   key=lambda jk: abs(R[jk]))
+        l2 = R[0, j] * R[0, k] / R[j, k]
+        if l2 <= 0:
+            return None
+        l0 = np.sqrt(l2)
+    lam = np.array([l0] + [R[0, i] / l0 for i in range(1, m)])
+    ok = all(abs(lam[i] * lam[j] - R[i, j]) <= 1e-9 for i in range(m) for j in range(i + 1, m))
+    return lam if ok and np.all(np.abs(lam) < 1) else None
+
+
+def check_dunnett():
+    from scipy.optimize import brentq
+    src = "own Dunnett 1955 integral, scipy.integrate.quad + scipy.stats.chi"
+    cases = []
+    rng = np.random.default_rng(41)
+    ns = [6, 4, 5, 7, 3]
+    y = np.concatenate([rng.normal(0.4 * i, 1, n) for i, n in enumerate(ns)])
+    cases.append(("one-way", pd.DataFrame({"A": np.repeat(list("vwxyz"), ns), "y": y.round(5)}),
+                  ["A"], "A=w", False))
+    rows = [dict(A=a, B=b, y=round(rng.normal(0.5 * "pqrs".index(a), 1), 5),
+                 x=round(rng.normal(), 4))
+            for a in "pqrs" for b in "uv" for _ in range(int(rng.integers(2, 6)))]
+    two = pd.DataFrame(rows)
+    cases.append(("two-way unbalanced", two, ["A", "B"], "A=q", False))
+    # a covariate whose level means differ: the least-squares means share the slope's
+    # error, so with 4 comparisons the product form fails (3 always fit one)
+    rows = [dict(A=a, B=b, x=round(rng.normal("pqrst".index(a) ** 1.5, 1), 4),
+                 y=round(rng.normal(0.5 * "pqrst".index(a), 1), 5))
+            for a in "pqrst" for b in "uv" for _ in range(int(rng.integers(2, 6)))]
+    cases.append(("two-way with covariate", pd.DataFrame(rows), ["A", "B"], "A=q", True))
+    for tag, df, factors, ctl, cov in cases:
+        extra = ["--control", ctl] + (["--covariates", "x"] if cov else [])
+        js = run_sturdy(df, factors, extra)
+        if js is None:
+            continue
+        cf, cl = ctl.split("=")
+        comps = [c for c in js["responses"][0]["comparisons"] if c["term"] == cf]
+        rhs = " * ".join("C(%s, Sum)" % f for f in factors) + (" + x" if cov else "")
+        fit = smf.ols("y ~ " + rhs, data=df).fit()
+        L = np.array([contrast(fit, df, factors, {cf: c["level"]}, cov) -
+                      contrast(fit, df, factors, {cf: cl}, cov) for c in comps])
+        V = L @ fit.cov_params().to_numpy() @ L.T
+        R = V / np.sqrt(np.outer(np.diag(V), np.diag(V)))
+        lam = product_form(R)
+        want = "dunnett" if lam is not None else "tukey-kramer"
+        report(all(c["adjustment"] == want for c in comps),
+               "%s: --control %s adjustment %s (product form %s) [%s correlations]"
+               % (tag, ctl, [c["adjustment"] for c in comps][0],
+                  "holds" if lam is not None else "fails", SRC))
+        if lam is None:
+            continue
+        dfe = fit.df_resid
+        q = brentq(lambda c: dunnett_upper(c, lam, dfe) - 0.05, 1.0, 10.0, xtol=1e-13)
+        for c in comps:
+            label = "%s Dunnett %s - %s" % (tag, c["level"], c["versus"])
+            close(label + " p_adjusted", c["p_adjusted"], dunnett_upper(abs(c["t"]), lam, dfe),
+                  1e-8, False, src)
+            close(label + " ci_simultaneous lo", c["ci_simultaneous"][0],
+                  c["estimate"] - q * c["se"], 1e-8, False, src)
+            close(label + " ci_simultaneous hi", c["ci_simultaneous"][1],
+                  c["estimate"] + q * c["se"], 1e-8, False, src)
+        if tag == "one-way":   # Monte Carlo from the full correlation matrix
+            mc = np.random.default_rng(9)
+            n = 400000
+            z = mc.multivariate_normal(np.zeros(len(R)), R, size=n)
+            s = np.sqrt(mc.chisquare(dfe, size=n) / dfe)
+            mx = np.abs(z).max(axis=1) / s
+            for c in comps[:2]:
+                pm = float(np.mean(mx > abs(c["t"])))
+                se = np.sqrt(pm * (1 - pm) / n)
+                report(abs(pm - c["p_adjusted"]) <= 4 * se + 1e-12,
+                       "%s Dunnett %s - %s p_adjusted %.6f vs Monte Carlo %.6f ± %.6f "
+                       "[multivariate t from the full correlation matrix, 4 SE]"
+                       % (tag, c["level"], c["versus"], c["p_adjusted"], pm, se))
+
+
 def check_games_howell():
     rng = np.random.default_rng(31)
     sds = {"g1": 1.0, "g2": 1.0, "g3": 6.0, "g4": 12.0}
@@ -256,6 +372,7 @@ def main():
     check_design("empty cell", dfe, ["A", "B"], covariate=False, empty={"A": "a2", "B": "b1"},
                  extra=["--ss", "2"])
     check_control_and_order()
+    check_dunnett()
     finish()
 
 

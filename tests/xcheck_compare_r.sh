@@ -6,9 +6,16 @@
 # Tukey–Kramer case), two-way balanced (main effects and the A:B cells), and a two-way
 # balanced set with 4 and 3 levels (k = 12 cells; at k = 20, df = 40 R's ptukey was
 # measured 2–3e-8 away from both sturdy and scipy, which agree to 1e-15, so larger k is
-# checked against scipy in xcheck_compare.py). (Two-way unbalanced is left out: TukeyHSD then
-# compares the sequential projections' means, not least-squares means, so it does not
-# define the same quantity.) For each row R reports diff, the adjusted p ("p adj",
+# checked against scipy in xcheck_compare.py). Two-way unbalanced: TukeyHSD compares the
+# means of the sequential projections (model.tables), which are least-squares means
+# exactly when the cell counts are proportional (n_ij = n_i· n_·j / n) and the model is
+# additive (y ~ A + B; sturdy --order 1): the projections are then orthogonal and the
+# equal-weight and count-weighted averages over the other factor differ by a constant
+# common to all levels. Two such sets are checked (3 × 2 with counts 2:3:4 × 1:2, and
+# 4 × 3 with counts 1:2:1:3 × 2:1:3), each with both factors' families. With an
+# interaction, or counts not proportional, TukeyHSD's means are not least-squares
+# means and R does not define sturdy's quantity; those are checked against statsmodels
+# in xcheck_compare.py. For each row R reports diff, the adjusted p ("p adj",
 # ptukey) and the interval. R's qtukey is accurate only to about 4 decimals (R's
 # documentation), so the interval is rebuilt from R's own numbers with a precise
 # quantile: half-width = (upr − diff) / qtukey(conf, k, df) × q*, where q* solves
@@ -41,10 +48,10 @@ dir <- args[1]
 set.seed(20261202)
 qstar <- function(conf, k, df)
     uniroot(function(q) ptukey(q, k, df) - conf, c(0.5, 50), tol = 1e-14)$root
-emit <- function(name, d, factors, conf = 0.95) {
+emit <- function(name, d, factors, conf = 0.95, op = "*") {
     write.csv(d, file.path(dir, paste0(name, ".csv")), row.names = FALSE)
     d <- read.csv(file.path(dir, paste0(name, ".csv")), stringsAsFactors = TRUE)
-    f <- as.formula(paste("y ~", paste(factors, collapse = "*")))
+    f <- as.formula(paste("y ~", paste(factors, collapse = op)))
     fit <- aov(f, data = d)
     tk <- TukeyHSD(fit, conf.level = conf)
     out <- NULL
@@ -82,6 +89,19 @@ res <- rbind(res, emit("twoway_bal", d3, c("A", "B")))
 d4 <- mk(list(A = c("p", "q", "r", "s"), B = c("u", "v", "w")), 3,
          function(r) 0.8 * as.integer(factor(r$A)) - (r$B == "w"))
 res <- rbind(res, emit("twoway_bal2", d4, c("A", "B")))
+prop <- function(lv, ca, cb, shift) {
+    g <- expand.grid(lapply(lv, function(l) l))
+    cnt <- as.vector(outer(ca, cb))            # expand.grid: A fastest
+    rows <- g[rep(seq_len(nrow(g)), cnt), , drop = FALSE]
+    rows$y <- round(20 + shift(rows) + rexp(nrow(rows), 0.5), 3)
+    rows
+}
+d5 <- prop(list(A = c("a1", "a2", "a3"), B = c("b1", "b2")), c(2, 3, 4), c(1, 2),
+           function(r) 1.2 * (r$A == "a2") - 0.7 * (r$B == "b2") + (r$A == "a3") * (r$B == "b2"))
+res <- rbind(res, emit("twoway_prop_additive", d5, c("A", "B"), op = "+"))
+d6 <- prop(list(A = c("p", "q", "r", "s"), B = c("u", "v", "w")), c(1, 2, 1, 3), c(2, 1, 3),
+           function(r) 0.6 * as.integer(factor(r$A)) + 0.9 * (r$B == "v"))
+res <- rbind(res, emit("twoway_prop_additive2", d6, c("A", "B"), op = "+"))
 write.csv(res, file.path(dir, "tukey.csv"), row.names = FALSE)
 RSCRIPT
 
@@ -103,9 +123,10 @@ for r in rows:
     name = r["data"]
     if name not in cache:
         factors = ["A"] if name.startswith("oneway") else ["A", "B"]
+        extra = ["--order", "1"] if "additive" in name else []
         out = subprocess.run([binary, "check", os.path.join(work, name + ".csv"), "-y", "y",
                               "-f", ",".join(factors), "-B", "0", "--bootstrap", "0",
-                              "--format", "json", "--compare", "all"],
+                              "--format", "json", "--compare", "all"] + extra,
                              capture_output=True, text=True)
         if out.returncode:
             check(False, "sturdy on %s exited %d: %s" % (name, out.returncode, out.stderr))

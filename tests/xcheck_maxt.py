@@ -26,6 +26,20 @@ Checks (the reference is named on every line):
     6 true differences lies in its interval. Quick tier (make check): 150 datasets each,
     asserting coverage ≥ 0.95 − 2.58·√(0.95·0.05/150) = 0.90 (binomial 99% lower
     band); STURDY_SLOW=1: 1000 datasets each, asserting ≥ 0.93 as the issue asks.
+  * unequal spreads: one-way, 4 cells with SDs 1, 1, 1, 4 and n 16, 12, 10, 8 (the noisy
+    cell smallest; normal errors, numpy seed 33; -B 199, --bootstrap 199, seeds 1..N).
+    Where the spread rule fires, the comparisons are Games–Howell and both resampling
+    families studentise each difference by its own SE (maxt.c, bootcmp.c). Over those
+    datasets the max-T family-wise error must lie in the binomial 99% band around 0.05
+    and the max-|t| band's simultaneous coverage must reach the binomial 99% lower band
+    of 0.95 (STURDY_SLOW=1: 0.93, as the issue asks). The pooled-SE versions (before this change) gave 0.164 and 0.82 on 116
+    such datasets (docs/compare_study.md), outside both bands. The same checks with
+    SDs all 1 (equal spreads) over all datasets. Quick tier: 100 datasets per case
+    (about 40 s on 2 cores); STURDY_SLOW=1: 1000, where the max-T family-wise error
+    under unequal spreads was measured at 0.077 over 917 datasets, above the band
+    [0.033, 0.070]: the permutation of studentised differences is still somewhat
+    liberal in cells of 8 rows (docs/compare_study.md); that check fails there and is
+    kept, as a known shortfall, rather than widened.
 Prints one line per check and "N passed, N failed"; exits 1 on any failure. A missing
 library or binary is a failure, never a skip.
 """
@@ -46,7 +60,7 @@ except ImportError as exc:   # pragma: no cover
     missing_library(exc, "python3-numpy python3-pandas python3-scipy")
 
 BIN = need_binary()
-N_SIM = 300
+N_SIM = 1000 if os.environ.get("STURDY_SLOW") == "1" else 300
 ALPHA = 0.05
 
 
@@ -115,6 +129,46 @@ def identity_checks(tmp):
     same = (single is not None and mj is not None and
             single["responses"][0]["comparisons"] == mj["responses"][0]["comparisons"])
     report(same, "3 shards merged: comparisons identical to the single run [DESIGN.md]")
+    mcsv = subprocess.run([BIN, "merge", parts[1], parts[0], parts[2], "--format",
+                           "csv-comparisons", "-q"], capture_output=True, text=True)
+    scsv = run(path, args + ["--threads", "1", "--format", "csv-comparisons", "-q"])
+    report(mcsv.returncode == 0 and scsv is not None and mcsv.stdout == scsv and
+           scsv.count("\n") > 5,
+           "merge --format csv-comparisons: byte-identical to the single run's "
+           "(exit %d) [DESIGN.md]" % mcsv.returncode)
+    # the same with own-SE studentisation (spreads differ: Games–Howell families)
+    rng = np.random.default_rng(35)
+    ns, sds = [16, 12, 10, 8], [1, 1, 1, 5]
+    y = np.concatenate([rng.normal(0, sds[i], ns[i]) for i in range(4)])
+    path = os.path.join(tmp, "het.csv")
+    pd.DataFrame({"g": np.repeat(list("abcd"), ns), "y": np.round(y, 6)}).to_csv(path, index=False)
+    for extra in ([], ["--flip"]):
+        args = ["-y", "y", "-f", "g", "-B", "999", "--bootstrap", "499", "--format", "json",
+                "--compare", "all"] + extra
+        outs = [run(path, args + ["--threads", str(t)]) for t in (1, 3)]
+        comps = json.loads(outs[0])["responses"][0]["comparisons"] if outs[0] else []
+        report(bool(comps) and all(c["adjustment"] == "games-howell" for c in comps) and
+               all(0 < c["p_perm_adjusted"] <= 1 and c["ci_bootstrap_simultaneous"][0] is not None
+                   for c in comps),
+               "spreads differ%s: Games–Howell families with max-T p and band [maxt.c, bootcmp.c]"
+               % (" (--flip)" if extra else ""))
+        report(outs[0] is not None and outs[0] == outs[1],
+               "spreads differ%s: --threads 1 and 3 give byte-identical JSON [DESIGN.md]"
+               % (" (--flip)" if extra else ""))
+        parts = []
+        for i in (1, 2, 3):
+            p = os.path.join(tmp, "hpart%d.json" % i)
+            run(path, args + ["--shard", "%d/3" % i, "-o", p])
+            parts.append(p)
+        merged = os.path.join(tmp, "hmerged.json")
+        subprocess.run([BIN, "merge", parts[1], parts[2], parts[0], "-o", merged],
+                       capture_output=True, text=True)
+        try:
+            mj = json.load(open(merged))["responses"][0]["comparisons"]
+        except (OSError, ValueError):
+            mj = None
+        report(mj is not None and mj == comps, "spreads differ%s: 3 shards merged give the "
+               "single run's comparisons [DESIGN.md]" % (" (--flip)" if extra else ""))
 
 
 def fwer_simulation(tmp):
@@ -186,11 +240,62 @@ def boot_coverage(tmp):
                "datasets ≥ %.3f [nominal 0.95; binomial band]" % (name, rate, n_sets, floor))
 
 
+def band99(n, p):
+    """Binomial 99% band of a share over n trials at rate p: P(X < lo), P(X > hi) ≤ 0.005."""
+    return binom.ppf(0.005, n, p) / n, binom.isf(0.005, n, p) / n
+
+
+def unequal_spreads(tmp):
+    slow = os.environ.get("STURDY_SLOW") == "1"
+    n_sets = 1000 if slow else 100
+    ns = [16, 12, 10, 8]
+    levels = ["a", "b", "c", "d"]
+    rng = np.random.default_rng(33)
+    for case, sds, only_fired in (("SDs 1,1,1,4", [1, 1, 1, 4], True),
+                                  ("equal SDs", [1, 1, 1, 1], False)):
+        used = fw = cov = fired = 0
+        for s in range(n_sets):
+            y = np.concatenate([rng.normal(0, sds[i], ns[i]) for i in range(4)])
+            df = pd.DataFrame({"g": np.repeat(levels, ns), "y": np.round(y, 6)})
+            path = os.path.join(tmp, "uneq.csv")
+            df.to_csv(path, index=False)
+            text = run(path, ["-y", "y", "-f", "g", "-B", "199", "--bootstrap", "199",
+                              "--format", "json", "--compare", "all", "--seed", str(s + 1),
+                              "--threads", "1"])
+            if text is None:
+                return
+            comps = json.loads(text)["responses"][0]["comparisons"]
+            gh = comps[0]["adjustment"] == "games-howell"
+            fired += gh
+            if only_fired and not gh:
+                continue
+            used += 1
+            fw += any(c["p_perm_adjusted"] <= ALPHA for c in comps)
+            cov += all(c["ci_bootstrap_simultaneous"][0] is not None and
+                       c["ci_bootstrap_simultaneous"][0] <= 0 <= c["ci_bootstrap_simultaneous"][1]
+                       for c in comps)
+        if used < 20:
+            report(False, "%s: the spread rule fired in only %d of %d datasets" % (case, fired, n_sets))
+            continue
+        lo, hi = band99(used, ALPHA)
+        report(lo <= fw / used <= hi,
+               "%s: max-T family-wise error %.3f over %d datasets%s in the binomial 99%% band "
+               "[%.3f, %.3f] [Westfall & Young 1993; own-SE studentisation]"
+               % (case, fw / used, used, " where the rule fired" if only_fired else "", lo, hi))
+        # quick tier: the binomial 99% lower band; slow tier: 0.93, as the other coverage
+        # checks of the 1000-dataset tier (the issue's floor for 95%)
+        floor = 0.93 if slow else 0.95 - 2.58 * np.sqrt(0.95 * 0.05 / used)
+        report(cov / used >= floor,
+               "%s: max-|t| band simultaneous coverage %.3f over %d datasets ≥ %.3f "
+               "[nominal 0.95; binomial 99%% lower band]" % (case, cov / used, used, floor))
+
+
 def main():
     with tempfile.TemporaryDirectory() as tmp:
         identity_checks(tmp)
         fwer_simulation(tmp)
         boot_coverage(tmp)
+        unequal_spreads(tmp)
     finish()
 
 

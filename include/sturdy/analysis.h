@@ -316,7 +316,7 @@ typedef struct {
 typedef struct {
     const char *term, *factor, *level, *versus;
     const char *by_factor, *by_level;   /* NULL unless a simple effect */
-    const char *adjustment;      /* "tukey-kramer" or "games-howell" */
+    const char *adjustment;      /* "tukey-kramer", "games-howell" or "dunnett" */
     double estimate, se, df, t, p;      /* unadjusted t test (Welch df for Games–Howell) */
     double hedges_g;             /* estimate / pooled residual SD × (1 − 3/(4·df_error − 1)) */
     double ci_lo, ci_hi;         /* unadjusted interval */
@@ -327,8 +327,9 @@ typedef struct {
     const char *note, *perm_note;
 } sturdy_comparison_info;
 
-/* Counts (0 for a result read back: it keeps no design) and entries; an entry call
- * returns 0 and leaves *out untouched when resp or i is out of range. */
+/* Counts and entries; a result read back (sturdy_result_read_json) gives those its file
+ * holds, with the strings owned by the result. An entry call returns 0 and leaves *out
+ * untouched when resp or i is out of range. */
 size_t sturdy_result_nmeans(const sturdy_result *r, size_t resp);
 int sturdy_result_mean(const sturdy_result *r, size_t resp, size_t i, sturdy_mean_info *out);
 size_t sturdy_result_ncomparisons(const sturdy_result *r, size_t resp);

@@ -5,18 +5,27 @@
 
 size_t sturdy_result_nmeans(const sturdy_result *r, size_t resp)
 {
-    return r && r->design && resp < r->nresp ? r->resp[resp].nmeans : 0;
+    if (!r || resp >= r->nresp)
+        return 0;
+    return r->read_back ? r->resp[resp].rb_nmeans : r->design ? r->resp[resp].nmeans : 0;
 }
 
 size_t sturdy_result_ncomparisons(const sturdy_result *r, size_t resp)
 {
-    return r && r->design && resp < r->nresp ? r->resp[resp].ncomparisons : 0;
+    if (!r || resp >= r->nresp)
+        return 0;
+    return r->read_back ? r->resp[resp].rb_ncomparisons
+                        : r->design ? r->resp[resp].ncomparisons : 0;
 }
 
 int sturdy_result_mean(const sturdy_result *r, size_t resp, size_t i, sturdy_mean_info *out)
 {
     if (i >= sturdy_result_nmeans(r, resp))
         return 0;
+    if (r->read_back) {   /* as read from the file (read.c) */
+        *out = r->resp[resp].rb_means[i];
+        return 1;
+    }
     const sturdy_design *d = r->design;
     const sturdy_response_result *rr = &r->resp[resp];
     const sturdy_mean_result *m = &rr->means[i];
@@ -41,6 +50,10 @@ int sturdy_result_comparison(const sturdy_result *r, size_t resp, size_t i,
 {
     if (i >= sturdy_result_ncomparisons(r, resp))
         return 0;
+    if (r->read_back) {
+        *out = r->resp[resp].rb_comparisons[i];
+        return 1;
+    }
     const sturdy_design *d = r->design;
     const sturdy_response_result *rr = &r->resp[resp];
     const sturdy_comparison *c = &rr->comparisons[i];
@@ -54,7 +67,9 @@ int sturdy_result_comparison(const sturdy_result *r, size_t resp, size_t i,
         out->by_factor = d->factors[c->by_factor].name;
         out->by_level = d->factors[c->by_factor].levels[c->by_level];
     }
-    out->adjustment = c->method == STURDY_ADJ_GAMES_HOWELL ? "games-howell" : "tukey-kramer";
+    out->adjustment = c->method == STURDY_ADJ_GAMES_HOWELL ? "games-howell"
+                      : c->method == STURDY_ADJ_DUNNETT ? "dunnett"
+                                                        : "tukey-kramer";
     out->estimate = c->estimate;
     out->se = c->se;
     out->df = c->df;

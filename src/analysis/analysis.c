@@ -229,6 +229,8 @@ void sturdy_result_free(sturdy_result *r)
         }
         sturdy_free(rr->comparisons);
         sturdy_free(rr->compare_shown);
+        sturdy_free(rr->rb_means);
+        sturdy_free(rr->rb_comparisons);
         sturdy_free(rr->name);
         sturdy_free(rr->error_note);
         sturdy_free(rr->cell_mean);

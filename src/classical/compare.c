@@ -18,9 +18,14 @@
  * k, the number of means of the range: the factor's levels for a main effect; for the
  * simple effects of a two-factor term the term's cells — every simple effect is a
  * difference of two cells, so the all-pairs-of-cells range bounds the family
- * (conservative). With a control level only comparisons against it are made; the range
- * over all k levels then bounds the smaller family (conservative: Dunnett's exact
- * many-to-one distribution is not computed). */
+ * (conservative). With a control level only comparisons against it are made. For a
+ * main effect under Tukey–Kramer (pooled variance) the family's correlations are those
+ * of its contrasts, ρ_ij = w_iᵀw_j/(‖w_i‖‖w_j‖); when they have the product form
+ * ρ_ij = λ_iλ_j (checked to 1e-9: one-way designs, and least-squares means whose
+ * covariance is diagonal plus the control's, as balanced or proportional designs) the
+ * adjustment is Dunnett's (1955) exact many-to-one multivariate t (range.c). Otherwise
+ * (simple effects of a two-factor term, Games–Howell, covariates that break the form)
+ * the range over all k levels bounds the smaller family (conservative). */
 #include <assert.h>
 #include <gsl/gsl_cdf.h>
 #include <math.h>
@@ -179,6 +184,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     cp->p_perm_adjusted = NAN;
     cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
     cp->method = c->gh ? STURDY_ADJ_GAMES_HOWELL : STURDY_ADJ_TUKEY_KRAMER;
+    cp->lambda = NAN;
     sturdy_lsm_vector(d, mask, la, c->L);
     sturdy_lsm_vector(d, mask, lb, c->L2);
     for (size_t j = 0; j < d->p; j++)
@@ -272,6 +278,59 @@ static sturdy_status family(ctx *c, size_t term, sturdy_comparison *cps, size_t 
     return STURDY_OK;
 }
 
+/* Dunnett's product form for the control family [b, e) of a main effect: sets method and
+ * lambda of each member when ρ_ij = λ_iλ_j holds (|λ| < 1), else leaves them. */
+static void manyone_form(const ctx *c, sturdy_comparison *cps, size_t b, size_t e)
+{
+    size_t m = e - b, r = c->lsm.rank;
+    if (m == 0 || m > STURDY_MANYONE_MAX || c->gh)
+        return;
+    for (size_t i = b; i < e; i++)
+        if (!cps[i].w || !isfinite(cps[i].t) || cps[i].method != STURDY_ADJ_TUKEY_KRAMER)
+            return;
+#define RHO(i, j) (dot(cps[b + (i)].w, cps[b + (j)].w, r) /                         \
+                   sqrt(dot(cps[b + (i)].w, cps[b + (i)].w, r) *                    \
+                        dot(cps[b + (j)].w, cps[b + (j)].w, r)))
+    double l0;
+    if (m == 1) {
+        cps[b].lambda = 0.0;
+        cps[b].method = STURDY_ADJ_DUNNETT;
+        return;
+    } else if (m == 2) {
+        l0 = sqrt(fabs(RHO(0, 1)));
+    } else {
+        size_t bj = 1, bk = 2;
+        double best = 0;
+        for (size_t j = 1; j < m; j++)
+            for (size_t k = j + 1; k < m; k++)
+                if (fabs(RHO(j, k)) > best) {
+                    best = fabs(RHO(j, k));
+                    bj = j;
+                    bk = k;
+                }
+        if (best == 0)
+            return;
+        double l2 = RHO(0, bj) * RHO(0, bk) / RHO(bj, bk);
+        if (!(l2 >= 0))
+            return;
+        l0 = sqrt(l2);
+    }
+    if (!(l0 > 0 && l0 < 1))
+        return;
+    for (size_t i = 0; i < m; i++)
+        cps[b + i].lambda = i == 0 ? l0 : RHO(0, i) / l0;
+    for (size_t i = 0; i < m; i++) {
+        if (!(fabs(cps[b + i].lambda) < 1))
+            return;
+        for (size_t j = i + 1; j < m; j++)
+            if (fabs(cps[b + i].lambda * cps[b + j].lambda - RHO(i, j)) > 1e-9)
+                return;
+    }
+#undef RHO
+    for (size_t i = b; i < e; i++)
+        cps[i].method = STURDY_ADJ_DUNNETT;
+}
+
 /* Games–Howell applies: spreads differ and the cell means are the model's fit. */
 static int gh_applies(const ctx *c)
 {
@@ -361,6 +420,8 @@ sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model
         if (!st && (t->order == 1 || t->order == 2)) {
             size_t before = out->ncomparisons;
             st = family(&c, ti, out->comparisons, &out->ncomparisons, err);
+            if (!st && t->order == 1 && cs->control_factor == (size_t)__builtin_ctz(t->mask))
+                manyone_form(&c, out->comparisons, before, out->ncomparisons);
             if (out->ncomparisons > before)
                 out->nfamilies++;
         }
@@ -381,6 +442,24 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf)
     double last_k = NAN, last_df = NAN, q = NAN;
     for (size_t i = 0; i < rr->ncomparisons; i++) {
         sturdy_comparison *cp = &rr->comparisons[i];
+        if (cp->method == STURDY_ADJ_DUNNETT) {   /* the whole family at once */
+            double lambda[STURDY_MANYONE_MAX];
+            size_t e = i;
+            while (e < rr->ncomparisons && rr->comparisons[e].family == cp->family &&
+                   rr->comparisons[e].method == STURDY_ADJ_DUNNETT)
+                e++;
+            for (size_t j = i; j < e; j++)
+                lambda[j - i] = rr->comparisons[j].lambda;
+            double qd = sturdy_manyone_quantile(conf, e - i, lambda, cp->df);
+            for (size_t j = i; j < e; j++) {
+                sturdy_comparison *cj = &rr->comparisons[j];
+                cj->p_adjusted = sturdy_manyone_upper(fabs(cj->t), e - i, lambda, cj->df);
+                cj->ci_simultaneous.lo = cj->estimate - qd * cj->se;
+                cj->ci_simultaneous.hi = cj->estimate + qd * cj->se;
+            }
+            i = e - 1;
+            continue;
+        }
         if (!isfinite(cp->t) || !(cp->range_k >= 2))
             continue;
         if (cp->range_k != last_k || cp->df != last_df) {

@@ -3,11 +3,24 @@
 #ifndef STURDY_RANGE_H
 #define STURDY_RANGE_H
 
+#include <stddef.h>
+
 /* P(Q > q) for the studentized range of k ≥ 2 means with df degrees of freedom (df may be
  * fractional, as Welch's; INFINITY: a known variance). NaN for df ≤ 0 or NaN input. */
 double sturdy_range_upper(double q, double k, double df);
 
 /* q with P(Q ≤ q) = p, to a relative 1e-12; NaN outside 0 < p < 1 or for df ≤ 0. */
 double sturdy_range_quantile(double p, double k, double df);
+
+/* The largest many-to-one family given the exact adjustment (compare.c); a factor with
+ * more levels keeps the range bound. */
+#define STURDY_MANYONE_MAX 256
+
+/* P(max_i |T_i| > c) for m many-to-one t statistics with df degrees of freedom whose
+ * correlations are ρ_ij = λ_iλ_j (|λ_i| < 1; Dunnett 1955). NaN for df ≤ 0. */
+double sturdy_manyone_upper(double c, size_t m, const double *lambda, double df);
+
+/* c with P(max |T_i| ≤ c) = p, to a relative 1e-12. */
+double sturdy_manyone_quantile(double p, size_t m, const double *lambda, double df);
 
 #endif

@@ -15,7 +15,8 @@
 #include "cli.h"
 
 static const char merge_help[] =
-"Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv|html] [--data FILE]\n"
+"Usage: sturdy merge PART.json... [-o FILE] [--format text|json|csv|html|csv-comparisons]\n"
+"                    [--data FILE]\n"
 "\n"
 "Combines the JSON parts written by 'sturdy check --shard I/N' into the result that a\n"
 "single run would give, bit for bit. The data are read again from the path the parts\n"
@@ -24,7 +25,8 @@ static const char merge_help[] =
 "repeated slices.\n"
 "\n"
 "  -o, --output FILE    write the result here (through a temporary file); default stdout\n"
-"      --format F       text, json, csv or html (default text, or as -o FILE.json,\n"
+"      --format F       text, json, csv, html or csv-comparisons (the means and\n"
+"                       comparisons, one row each; default text, or as -o FILE.json,\n"
 "                       .csv or .html says: the same rule as check)\n"
 "      --figures DIR    also write each figure as an SVG file into DIR\n"
 "      --data FILE      read the data from FILE instead\n"
@@ -162,7 +164,9 @@ static int parse_args(int argc, char **argv, merge_args *m)
             else if (!strcmp(optarg, "json")) m->format = CLI_FMT_JSON;
             else if (!strcmp(optarg, "csv")) m->format = CLI_FMT_CSV;
             else if (!strcmp(optarg, "html")) m->format = CLI_FMT_HTML;
-            else return cli_usage_error("merge", "--format wants text, json, csv or html, not '%s'",
+            else if (!strcmp(optarg, "csv-comparisons")) m->format = CLI_FMT_CSV_COMPARISONS;
+            else return cli_usage_error("merge", "--format wants text, json, csv, html or "
+                                        "csv-comparisons, not '%s'",
                                         optarg);
             format_given = 1;
             break;

@@ -187,7 +187,9 @@ typedef struct {
 /* How the classical simultaneous interval of a comparison is found. */
 typedef enum {
     STURDY_ADJ_TUKEY_KRAMER = 0, /* pooled residual variance (Tukey 1953; Kramer 1956) */
-    STURDY_ADJ_GAMES_HOWELL = 1  /* cell variances, Welch df (Games & Howell 1976) */
+    STURDY_ADJ_GAMES_HOWELL = 1, /* cell variances, Welch df (Games & Howell 1976) */
+    STURDY_ADJ_DUNNETT = 2       /* many-to-one with a control, exact multivariate t of
+                                    product correlation (Dunnett 1955) */
 } sturdy_adjust_method;
 
 /* One difference of two marginal means: mean(level) − mean(versus) of `factor`, within
@@ -201,6 +203,7 @@ typedef struct {
     size_t by_factor, by_level;
     sturdy_adjust_method method;
     double range_k;              /* means in the studentized range of its adjustment */
+    double lambda;               /* Dunnett: ρ_ij = λ_iλ_j within the family */
     double estimate, se, df, t, p; /* unadjusted t test */
     double g;                    /* Hedges' g: estimate / pooled residual SD × J(df) */
     sturdy_pair ci, ci_simultaneous;
@@ -234,6 +237,10 @@ typedef struct {
                                     |t*| of each family, then each mean's replicate value
                                     (owned; NULL: no bootstrap) */
     char *cmp_boot_note;         /* why the bootstrap intervals are absent */
+    /* read back (read.c): the means and comparisons as the file gives them, with their
+       names (a result read back has no design); strings in the result's `owned` */
+    size_t rb_nmeans; sturdy_mean_info *rb_means;
+    size_t rb_ncomparisons; sturdy_comparison_info *rb_comparisons;
     double df_error, ss_error, ms_error;
     double df_total, ss_total;
     char *error_note;            /* e.g. no residual degrees of freedom */

@@ -617,6 +617,7 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_num(w, "hedges_g", c->g);
         jw_pair(w, "ci", c->ci);
         jw_str(w, "adjustment", c->method == STURDY_ADJ_GAMES_HOWELL ? "games-howell"
+                                : c->method == STURDY_ADJ_DUNNETT ? "dunnett"
                                                                     : "tukey-kramer");
         jw_pair(w, "ci_simultaneous", c->ci_simultaneous);
         jw_num(w, "p_adjusted", c->p_adjusted);

@@ -409,6 +409,92 @@ static int read_diag(const jv *g, sturdy_diagnostics *dg)
 }
 
 /* Responses, with their terms, error and total rows, and main checks. */
+/* A string field of the means or comparisons, owned by the result (NULL: null). */
+static int cmp_str(sturdy_result *r, const jv *o, const char *key, const char **out)
+{
+    char *s = NULL;
+    if (!get_str(o, key, &s))
+        return 0;
+    *out = s ? own(r, s) : NULL;
+    return !s || *out;
+}
+
+/* The first (only) key and value of a one-entry object such as "within": {"B": "b1"}. */
+static int cmp_single(sturdy_result *r, const jv *o, const char **key, const char **val)
+{
+    if (is_kind(o, JV_NULL) || !o) {
+        *key = *val = NULL;
+        return 1;
+    }
+    if (!is_kind(o, JV_OBJECT) || o->n != 1)
+        return 0;
+    char *k = rd_strdup(o->keys[0]);
+    if (!k || !(*key = own(r, k)))
+        return 0;
+    return cmp_str(r, o, o->keys[0], val);
+}
+
+/* responses[].means[] and .comparisons[] into the read-back lists (accessors); a file
+ * written before they existed has neither and reads back with none. */
+static int read_compare(sturdy_result *r, const jv *rj, sturdy_response_result *rr)
+{
+    const jv *means = jv_get(rj, "means"), *comps = jv_get(rj, "comparisons");
+    if (!means && !comps)
+        return 1;
+    if (!is_kind(means, JV_ARRAY) || !is_kind(comps, JV_ARRAY))
+        return 0;
+    rr->rb_means = rd_calloc(means->n + 1, sizeof *rr->rb_means);
+    rr->rb_comparisons = rd_calloc(comps->n + 1, sizeof *rr->rb_comparisons);
+    if (!rr->rb_means || !rr->rb_comparisons)
+        return 0;
+    for (size_t i = 0; i < means->n; i++) {
+        const jv *m = &means->items[i], *lv = jv_get(m, "levels");
+        sturdy_mean_info *x = &rr->rb_means[i];
+        sturdy_pair ci;
+        if (!cmp_str(r, m, "term", &x->term) || !x->term || !is_kind(lv, JV_OBJECT) ||
+            lv->n > STURDY_MAX_FACTORS || !get_num(m, "estimate", &x->estimate) ||
+            !get_num(m, "se", &x->se) || !get_num(m, "df", &x->df) ||
+            !get_pair(m, "ci", &ci) || !cmp_str(r, m, "note", &x->note))
+            return 0;
+        x->ci_lo = ci.lo;
+        x->ci_hi = ci.hi;
+        for (size_t f = 0; f < lv->n; f++) {
+            char *k = rd_strdup(lv->keys[f]);
+            if (!k || !(x->factors[f] = own(r, k)) ||
+                !cmp_str(r, lv, lv->keys[f], &x->levels[f]) || !x->levels[f])
+                return 0;
+        }
+        x->nfactors = lv->n;
+        rr->rb_nmeans++;
+    }
+    for (size_t i = 0; i < comps->n; i++) {
+        const jv *c = &comps->items[i];
+        sturdy_comparison_info *x = &rr->rb_comparisons[i];
+        sturdy_pair ci, sim, boot;
+        if (!cmp_str(r, c, "term", &x->term) || !x->term || !get_bool(c, "reported", &x->reported) ||
+            !cmp_str(r, c, "factor", &x->factor) || !cmp_str(r, c, "level", &x->level) ||
+            !cmp_str(r, c, "versus", &x->versus) || !x->factor || !x->level || !x->versus ||
+            !cmp_single(r, jv_get(c, "within"), &x->by_factor, &x->by_level) ||
+            !get_num(c, "estimate", &x->estimate) || !get_num(c, "se", &x->se) ||
+            !get_num(c, "df", &x->df) || !get_num(c, "t", &x->t) || !get_num(c, "p", &x->p) ||
+            !get_num(c, "hedges_g", &x->hedges_g) || !get_pair(c, "ci", &ci) ||
+            !cmp_str(r, c, "adjustment", &x->adjustment) ||
+            !get_pair(c, "ci_simultaneous", &sim) || !get_num(c, "p_adjusted", &x->p_adjusted) ||
+            !get_num(c, "p_perm_adjusted", &x->p_perm_adjusted) ||
+            !get_pair(c, "ci_bootstrap_simultaneous", &boot) ||
+            !cmp_str(r, c, "note", &x->note) || !cmp_str(r, c, "perm_note", &x->perm_note))
+            return 0;
+        x->ci_lo = ci.lo;
+        x->ci_hi = ci.hi;
+        x->sim_lo = sim.lo;
+        x->sim_hi = sim.hi;
+        x->boot_sim_lo = boot.lo;
+        x->boot_sim_hi = boot.hi;
+        rr->rb_ncomparisons++;
+    }
+    return 1;
+}
+
 static const char *read_responses(sturdy_result *r, const jv *doc)
 {
     const jv *resps = jv_get(doc, "responses");
@@ -440,6 +526,8 @@ static const char *read_responses(sturdy_result *r, const jv *doc)
         for (size_t k = 0; k < nt; k++)
             if (!read_term(&terms->items[k], &rr->terms[k]))
                 return "responses[].terms[]";
+        if (!read_compare(r, rj, rr))
+            return "responses[].means/comparisons";
     }
     return NULL;
 }

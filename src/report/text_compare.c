@@ -32,10 +32,19 @@ static void mean_line(tw *w, const sturdy_response_result *rr, size_t term)
                 first = 0;
             }
         sturdy_buf_printf(&s, " %s", est);
+        int boot = m->ci_boot.lo == m->ci_boot.lo && m->ci_boot.hi == m->ci_boot.hi;
         if (m->se == m->se) {
             char se[32];
             tw_fmt_g(m->se, 2, se);
-            sturdy_buf_printf(&s, " (SE %s)", se);
+            sturdy_buf_printf(&s, " (SE %s%s", se, boot ? "; " : ")");
+        } else if (boot) {
+            sturdy_buf_puts(&s, " (");
+        }
+        if (boot) {   /* the bootstrap percentile interval, in the response's units */
+            char lo[32], hi[32];
+            tw_fmt_g(m->ci_boot.lo, 3, lo);
+            tw_fmt_g(m->ci_boot.hi, 3, hi);
+            sturdy_buf_printf(&s, "bootstrap [%s, %s])", lo, hi);
         }
     }
     if (s.data) tw_paraf(w, 4, 6, "means: %s", s.data);
@@ -54,16 +63,20 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
         return;
     double conf = w->r->opts.conf * 100;
     tw_paraf(w, 2, 2, "Differences of least-squares means, in the response's units: %g%% "
-             "simultaneous intervals over each term's family, classical (Tukey–Kramer or "
-             "Games–Howell) and bootstrap (max-|t|); p adj: classical; p max-T: permutation "
-             "(Westfall–Young); g: Hedges' g on the pooled residual SD", conf);
+             "simultaneous intervals over each term's family, classical (Tukey–Kramer, "
+             "Games–Howell or Dunnett) and bootstrap (max-|t|); p adj: classical; p max-T: permutation "
+             "(Westfall–Young); g: Hedges' g on the pooled residual SD; means: SE and %g%% "
+             "bootstrap percentile interval", conf, conf);
     for (size_t t = 0; t < rr->nterms; t++) {
         if (!rr->compare_shown[t]) continue;
         const char *adj = NULL;
         for (size_t i = 0; i < rr->ncomparisons && !adj; i++)
             if (rr->comparisons[i].term == t)
                 adj = rr->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL
-                          ? "Games–Howell (cell spreads differ)" : "Tukey–Kramer";
+                          ? "Games–Howell (cell spreads differ)"
+                      : rr->comparisons[i].method == STURDY_ADJ_DUNNETT
+                          ? "Dunnett (many-to-one with the control, exact)"
+                          : "Tukey–Kramer";
         tw_paraf(w, 2, 4, "%s — %s", rr->terms[t].label, adj ? adj : "no comparisons");
         mean_line(w, rr, t);
         tw_indent(w, 4);

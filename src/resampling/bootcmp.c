@@ -9,14 +9,30 @@
  * values. Comparisons: the bootstrap-t maximum over the family, M* = max |wᵀUᵀs_r| /
  * (σ*‖w‖), whose conf-quantile q gives estimate ± q·SE for every comparison of the
  * family at once (the max-|t| simultaneous band; Westfall & Young 1993, §2.6;
- * Beran 1988). Studentising by the pooled SE keeps the band valid under the wild scheme
- * with unequal spreads (the resamples keep each row's spread), though not the narrowest. */
+ * Beran 1988).
+ *
+ * Unequal spreads. When the family's classical side is Games–Howell (the spread rule
+ * fired and the cell means are the model's fit, compare.c) the band is built as the
+ * unequal-variance tests of the main table are: a wild bootstrap of the residuals,
+ * e*_i = s_i e_i/√(1 − h_i) with Rademacher signs s (Wu 1986; Davidson & Flachaire 2008;
+ * the signs of the wild test's stream, whatever the run's scheme), and each difference
+ * studentised by its own SE from the replicate's cell variances,
+ *   t*_c = zᵀs* ÷ √(Σ_g z_g² s*_g²)   (z = Uw, the Games–Howell SE of the replicate),
+ * taken on the p scale as in maxt.c (the Welch df of a family's differences differ):
+ * the family's replicate value is max_c −ln p_c(t*_c), p_c the two-sided t tail at the
+ * observed Welch df_c; with L its conf-quantile each difference gets the multiplier
+ * t_{df_c} quantile at two-sided level e^−L, so the band is estimate ± mult_c·SE_GH
+ * (single-step min-p inverted; Westfall & Young 1993, §2.6). A pooled-SE band
+ * under a residual resample spreads one pooled error law over every cell, which
+ * under-covers the differences of the noisy cells (docs/compare_study.md). */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "resampling/bootcmp.h"
 #include "core/core.h"
+#include "sturdy/dist.h"
+#include "sturdy/pcg.h"
 
 sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                                    sturdy_result *r, char *err)
@@ -44,13 +60,77 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
     return STURDY_OK;
 }
 
-void sturdy_bootcmp_replicate(const sturdy_model *m, sturdy_response_result *resp,
-                              uint64_t b, const double *sr, double sse, double *work)
+/* Does the response studentise its comparisons by their own (Games–Howell) SE? */
+static int het_family(const sturdy_response_result *resp)
+{
+    for (size_t i = 0; i < resp->ncomparisons; i++)
+        if (resp->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL)
+            return 1;
+    return 0;
+}
+
+/* Row b's family maxima under the wild resample with own-SE studentisation. */
+static void het_replicate(const sturdy_design *d, const sturdy_model *m,
+                          const sturdy_response_result *resp, uint64_t seed, uint64_t b,
+                          signed char *sign, double *work, double *row)
+{
+    size_t n = d->n, K = m->K, rank = m->rank;
+    double *A = work + rank, *V = A + K;   /* cell sums of e*, then cell variances */
+    sturdy_pcg64 g;
+    sturdy_pcg_for(&g, seed, STURDY_STREAM_WILD_TEST, b);
+    sturdy_pcg_signs(&g, sign, n);
+    for (size_t k = 0; k < K; k++)
+        A[k] = V[k] = 0.0;
+    for (size_t i = 0; i < n; i++) {
+        size_t k = d->group[i];
+        double a = resp->residual[i] / sqrt(1.0 - m->leverage[k]);
+        A[k] += sign[i] * a;
+        V[k] += a * a;                     /* (s_i a_i)² = a_i² */
+    }
+    for (size_t k = 0; k < K; k++) {
+        double nk = (double)d->group_count[k];
+        V[k] = nk >= 2 ? (V[k] - A[k] * A[k] / nk) / (nk - 1.0) : 0.0;
+        A[k] /= m->sqrt_count[k];          /* scaled sums, as sr */
+    }
+    for (size_t a = 0; a < rank; a++) {
+        double u = 0.0;
+        for (size_t k = 0; k < K; k++)
+            u += m->U[a * K + k] * A[k];
+        work[a] = u;
+    }
+    for (size_t i = 0; i < resp->ncomparisons; i++) {
+        const sturdy_comparison *c = &resp->comparisons[i];
+        if (!c->w || !isfinite(c->t))
+            continue;
+        double est = 0.0, var = 0.0;
+        for (size_t a = 0; a < rank; a++)
+            est += c->w[a] * work[a];
+        for (size_t k = 0; k < K; k++) {
+            double z = 0.0;
+            for (size_t a = 0; a < rank; a++)
+                z += m->U[a * K + k] * c->w[a];
+            var += z * z * V[k];
+        }
+        double t2 = var > 0 ? est * est / var : (est != 0 ? INFINITY : 0.0);
+        double lp = isinf(t2) ? INFINITY : -log(sturdy_f_sf(t2, 1.0, c->df));
+        if (lp > row[c->family])
+            row[c->family] = lp;
+    }
+}
+
+void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
+                              sturdy_response_result *resp, uint64_t seed, uint64_t b,
+                              const double *sr, double sse, signed char *sign, double *work)
 {
     if (!resp->cmp_boot)
         return;
     size_t K = m->K, rank = m->rank, cols = sturdy_bootcmp_cols(resp);
     double *row = resp->cmp_boot + b * cols;
+    for (size_t f = 0; f < resp->nfamilies; f++)
+        row[f] = -1.0;
+    int het = het_family(resp);
+    if (het)
+        het_replicate(d, m, resp, seed, b, sign, work, row);
     for (size_t a = 0; a < rank; a++) {
         double u = 0.0;
         for (size_t g = 0; g < K; g++)
@@ -58,18 +138,16 @@ void sturdy_bootcmp_replicate(const sturdy_model *m, sturdy_response_result *res
         work[a] = u;
     }
     double sigma = sqrt(sse / (double)m->df_error);
-    for (size_t f = 0; f < resp->nfamilies; f++)
-        row[f] = -1.0;
-    for (size_t i = 0; i < resp->ncomparisons; i++) {
+    for (size_t i = 0; i < resp->ncomparisons && !het; i++) {
         const sturdy_comparison *c = &resp->comparisons[i];
         if (!c->w || !isfinite(c->t_pooled))
             continue;
-        double d = 0.0, ww = 0.0;
+        double est = 0.0, ww = 0.0;
         for (size_t a = 0; a < rank; a++) {
-            d += c->w[a] * work[a];
+            est += c->w[a] * work[a];
             ww += c->w[a] * c->w[a];
         }
-        double t = sigma > 0 ? fabs(d) / (sigma * sqrt(ww)) : (d != 0 ? INFINITY : 0.0);
+        double t = sigma > 0 ? fabs(est) / (sigma * sqrt(ww)) : (est != 0 ? INFINITY : 0.0);
         if (t > row[c->family])
             row[c->family] = t;
     }
@@ -146,8 +224,13 @@ sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
                 sturdy_comparison *c = &rr->comparisons[i];
                 if (c->family != f || !c->w || !isfinite(c->t_pooled))
                     continue;
-                c->ci_boot_simultaneous.lo = c->estimate - q * c->se_pooled;
-                c->ci_boot_simultaneous.hi = c->estimate + q * c->se_pooled;
+                int het = c->method == STURDY_ADJ_GAMES_HOWELL;
+                double se = het ? c->se : c->se_pooled;
+                double mult = het ? sqrt(sturdy_f_isf(exp(-q), 1.0, c->df)) : q;
+                if (!isfinite(se) || !isfinite(mult))
+                    continue;
+                c->ci_boot_simultaneous.lo = c->estimate - mult * se;
+                c->ci_boot_simultaneous.hi = c->estimate + mult * se;
             }
         }
     }

@@ -5,6 +5,7 @@
 
 #include "core/result.h"
 #include "core/run.h"
+#include "sturdy/design.h"
 #include "sturdy/fit.h"
 
 /* Columns of a replicate row of resp->cmp_boot: the families, then the means. */
@@ -19,10 +20,14 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                                    sturdy_result *r, char *err);
 
 /* Fill row b of resp->cmp_boot from the replicate's resampled errors: their scaled group
- * sums sr (K) and residual SS sse. `work` has room for rank doubles. Called from the
- * bootstrap's replicate loop (bootstrap.c); touches row b only. */
-void sturdy_bootcmp_replicate(const sturdy_model *m, sturdy_response_result *resp,
-                              uint64_t b, const double *sr, double sse, double *work);
+ * sums sr (K) and residual SS sse. Families studentised by their own SE (Games–Howell
+ * comparisons) use a wild resample of the response's residuals instead, with the signs
+ * of sturdy_pcg_for(seed, STURDY_STREAM_WILD_TEST, b) into `sign` (n). `work` has room
+ * for rank + 2K doubles. Called from the bootstrap's replicate loop (bootstrap.c);
+ * touches row b only. */
+void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
+                              sturdy_response_result *resp, uint64_t seed, uint64_t b,
+                              const double *sr, double sse, signed char *sign, double *work);
 
 /* Intervals of a finished run: means' percentile intervals, comparisons' max-|t|
  * simultaneous intervals at the run's level. */

@@ -163,9 +163,9 @@ static void one_replicate(const boot_ctx *c, uint64_t b, double *rs, double *sr,
         sturdy_response_result *resp = &c->r->resp[ri];
         double kappa = kurtosis_estimate(residual_fourth(d, m, rs, sr, work), sse,
                                          (double)m->df_error, resp->kurt_c1, resp->kurt_c2);
-        /* the comparisons' replicate values (bootcmp.c), from the same resample; it uses
-           rs as its workspace, so everything read from rs comes before */
-        sturdy_bootcmp_replicate(m, resp, b, sr, sse, rs);
+        /* the comparisons' replicate values (bootcmp.c), from the same resample (its
+           Games–Howell families draw their own wild signs into `sign`, already used) */
+        sturdy_bootcmp_replicate(d, m, resp, c->run->opts.seed, b, sr, sse, sign, work);
         double sst = rb->ff + 2.0 * fr + rr - sum * sum / (double)n;
         for (size_t q = 0; q < K; q++)
             s[q] = rb->sf[q] + sr[q];
@@ -498,7 +498,7 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
     {
         double *rs = sturdy_malloc(n * sizeof *rs), *sr = sturdy_malloc(K * sizeof *sr);
         double *s = sturdy_malloc(K * sizeof *s);
-        double *work = sturdy_malloc((K + m->rank + 1) * sizeof *work);
+        double *work = sturdy_malloc((2 * K + m->rank + 1) * sizeof *work);
         signed char *sign = sturdy_malloc(n);
         int ok = rs && sr && s && sign && work;
         if (!ok) {

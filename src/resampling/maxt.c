@@ -12,13 +12,29 @@
  * the full residuals, raw the centred response. The family is one term's comparisons
  * in one response; the adjusted p of c is the share of rearrangements whose max over
  * the family of |t*| reaches |t_c|. Studentising each rearranged difference by its own
- * SE makes the maximum fair across differences of unequal precision. */
+ * SE makes the maximum fair across differences of unequal precision.
+ *
+ * Unequal spreads. When the comparison's classical side is Games–Howell (the run's spread
+ * rule fired and the cell means are the model's fit, compare.c), each rearranged
+ * difference is studentised by its own heteroscedasticity-consistent SE instead,
+ *   t*_c = zᵀs* / √(Σ_g z_g² s*_g²),   s*_g²: the within-cell variance of the rearranged
+ * vector (the model's fit is constant within a cell, so it is the replicate's), which
+ * is the Games–Howell SE of the rearranged data: the cell weights of the contrast are
+ * a_g = z_g √n_g (estimate = Σ a_g ȳ_g) and Σ a_g² s_g²/n_g = Σ z_g² s_g². The observed
+ * statistic is the Games–Howell t. The differences of a family then have Welch df far
+ * apart (a noisy small cell gives 7, the others 20), so the maximum is taken on the
+ * p scale, min over c of p_c(t*_c) with p_c the two-sided t(df_c) tail at the observed
+ * Welch df (single-step min-p, Westfall & Young 1993, §2.6), stored as −ln p: a max of
+ * raw |t| would be decided by the heavy-tailed differences alone. The studentisation
+ * makes each rearranged statistic's law nearly free of the cell spreads (Janssen 1997),
+ * which the pooled t is not. */
 #include <math.h>
 #include <string.h>
 
 #include "resampling/maxt.h"
 #include "core/core.h"
 #include "resampling/resampling.h"
+#include "sturdy/dist.h"
 
 sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const sturdy_model *m,
                                const sturdy_run *run, sturdy_result *r, char *err)
@@ -55,7 +71,10 @@ sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const stu
             sturdy_maxt_member *mb = &x->cm[x->C++];
             mb->cmp = cp;
             mb->family = x->nfam - 1;
-            mb->t2obs = cp->t_pooled * cp->t_pooled;
+            mb->het = cp->method == STURDY_ADJ_GAMES_HOWELL && isfinite(cp->t);
+            mb->df = cp->df;
+            mb->t2obs = mb->het ? -log(sturdy_f_sf(cp->t * cp->t, 1.0, cp->df))
+                                : cp->t_pooled * cp->t_pooled;
             if (!(mb->z = sturdy_calloc(K, sizeof *mb->z)))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             double ww = 0;
@@ -68,6 +87,9 @@ sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const stu
         }
     }
     x->fam_begin[x->nfam] = x->C;
+    for (size_t q = 0; q < x->C; q++)
+        if (x->cm[q].het)
+            x->Csq = x->C;
     (void)d;
     return STURDY_OK;
 }
@@ -78,6 +100,7 @@ void sturdy_maxt_free(sturdy_maxt *x)
         sturdy_free(x->cm[q].z);
     sturdy_free(x->cm);
     sturdy_free(x->fam_begin);
+    sturdy_free(x->Qfix);
     memset(x, 0, sizeof *x);
 }
 
@@ -126,6 +149,26 @@ double sturdy_maxt_t2(const sturdy_maxt *x, size_t q, double num, double den, do
     if (den <= zero)
         return num > zero ? INFINITY : NAN;
     return num * x->dfe / (mb->ww * den);
+}
+
+double sturdy_maxt_t2_het(const sturdy_maxt *x, size_t q, const double *S, const double *Q,
+                          const double *sqrt_count, size_t K, double num, double zero_rtol)
+{
+    const sturdy_maxt_member *mb = &x->cm[q];
+    double var = 0.0;
+    for (size_t g = 0; g < K; g++) {
+        double ng = sqrt_count[g] * sqrt_count[g];
+        if (mb->z[g] == 0.0 || ng < 2.0)
+            continue;
+        /* S_g = Σv/√n_g, Q_g = Σv²/√n_g: within-cell SS = √n_g·Q_g − S_g² */
+        double ss = sqrt_count[g] * Q[g] - S[g] * S[g];
+        if (ss < 0) ss = 0;
+        var += mb->z[g] * mb->z[g] * ss / (ng - 1.0);
+    }
+    double zero = zero_rtol * mb->vv * mb->ww;
+    if (var <= zero)
+        return num > zero ? INFINITY : NAN;
+    return -log(sturdy_f_sf(num / var, 1.0, mb->df));
 }
 
 void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count)

@@ -12,7 +12,11 @@ typedef struct {
     size_t family;               /* index of its family (response × term) */
     double *z;                   /* K: U·w, the contrast's direction in group space */
     double ww;                   /* ‖w‖² */
-    double t2obs;                /* observed t², pooled SE */
+    double t2obs;                /* observed t²: pooled SE, or its own (Games–Howell) SE
+                                    when het */
+    int het;                     /* studentised by its own, cell-variance SE; its t² and
+                                    t2obs are then −ln of the two-sided t(df) p */
+    double df;                   /* Welch df of a het comparison */
     double vv;                   /* ‖v‖² of its rearranged vector (set by permute.c) */
 } sturdy_maxt_member;
 
@@ -22,6 +26,12 @@ typedef struct {
     size_t nfam;                 /* families; members of one family are contiguous */
     size_t *fam_begin;           /* nfam + 1 */
     double dfe;                  /* residual df */
+    size_t Csq;                  /* 0, or C when some comparison is het: column C + q of
+                                    the gathered block then holds comparison q's squared
+                                    values, whose group sums give the cell variances */
+    double *Qfix;                /* C × K (sign flipping, set by permute.c): the scaled
+                                    group sums of squares, which flips leave unchanged;
+                                    Csq is then 0 */
 } sturdy_maxt;
 
 /* The comparisons of every response with a pooled t; the others get the note saying why
@@ -46,6 +56,13 @@ void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, siz
  * (below zero_rtol·‖v‖²). */
 double sturdy_maxt_t2(const sturdy_maxt *x, size_t q, double num, double den,
                       double zero_rtol);
+
+/* −ln p of a het comparison q from the scaled group sums S (K) and scaled group sums of
+ * squares Q (K) of its rearranged vector: t*² = (zᵀs*)² ÷ Σ_g z_g² s*_g², with s*_g² the
+ * within-cell variance (n_g ≥ 2), p its two-sided t tail at the comparison's Welch df;
+ * +∞ / NaN as sturdy_maxt_t2 when no variance is left. */
+double sturdy_maxt_t2_het(const sturdy_maxt *x, size_t q, const double *S, const double *Q,
+                          const double *sqrt_count, size_t K, double num, double zero_rtol);
 
 /* Count, per comparison, the rearrangements whose largest t*² over its family is at
  * least its observed t² (tie rule of the engine); t2 is C × nb. */

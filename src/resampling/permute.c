@@ -139,7 +139,7 @@ static double work_bytes(const perm_ctx *c)
 static int work_alloc(const perm_ctx *c, perm_work *w)
 {
     size_t n = c->d->n, K = c->m->K, M = c->M, nb = c->nb, maxdf = c->m->rank;
-    size_t MC = M + c->maxt.C;
+    size_t MC = M + c->maxt.C + c->maxt.Csq;
     for (size_t j = 0; j < M; j++)
         if (c->mem[j].df > maxdf)
             maxdf = c->mem[j].df;
@@ -175,7 +175,7 @@ static inline int at_least(double num, double den, double c, double vv)
  * w->S[(j·nb + bb)·K + g]. One pass over the rows per rearrangement serves all members. */
 static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
 {
-    size_t n = c->d->n, K = c->m->K, M = c->M + c->maxt.C, Mp = c->Mp;
+    size_t n = c->d->n, K = c->m->K, M = c->M + c->maxt.C + c->maxt.Csq, Mp = c->Mp;
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -278,6 +278,16 @@ static void comparison_stats(const perm_ctx *c, size_t nb, perm_work *w)
                 den[bb] = c->maxt.cm[q].vv - s2;
             }
         }
+        if (c->maxt.cm[q].het) {
+            const double *Q = c->maxt.Qfix ? c->maxt.Qfix + q * K
+                                           : w->S + (c->M + c->maxt.C + q) * nb * K;
+            size_t step = c->maxt.Qfix ? 0 : K;
+            for (size_t bb = 0; bb < nb; bb++)
+                w->t2[q * nb + bb] =
+                    sturdy_maxt_t2_het(&c->maxt, q, S + bb * K, Q + bb * step, m->sqrt_count,
+                                       K, num[bb], PERM_ZERO_RTOL);
+            continue;
+        }
         for (size_t bb = 0; bb < nb; bb++)
             w->t2[q * nb + bb] = sturdy_maxt_t2(&c->maxt, q, num[bb], den[bb], PERM_ZERO_RTOL);
     }
@@ -379,7 +389,12 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     size_t M = c->M;
     if (M + c->maxt.C == 0)
         return STURDY_OK;
-    c->Mp = (M + c->maxt.C + 3) & ~(size_t)3;
+    if (c->flip && c->maxt.Csq) {   /* flips keep each row's square: no columns needed */
+        c->maxt.Csq = 0;
+        if (!(c->maxt.Qfix = sturdy_calloc(c->maxt.C * K + 1, sizeof *c->maxt.Qfix)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    c->Mp = (M + c->maxt.C + c->maxt.Csq + 3) & ~(size_t)3;
     if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, run->exact, run->opts.seed, err)))
         return st;
     c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
@@ -424,9 +439,15 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         for (size_t k = 0; k < n; k++) {
             double x = v[c->ra.blk_rows[k]];
             c->V[k * c->Mp + M + q] = x;
+            if (c->maxt.Csq)   /* its squares: the cell variances of het comparisons */
+                c->V[k * c->Mp + M + c->maxt.C + q] = x * x;
+            if (c->maxt.Qfix)
+                c->maxt.Qfix[q * K + c->ra.lab0[k]] += x * x;
             vv += x * x;
         }
         c->maxt.cm[q].vv = vv;
+        for (size_t g = 0; c->maxt.Qfix && g < K; g++)
+            c->maxt.Qfix[q * K + g] /= m->sqrt_count[g];
     }
     sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
