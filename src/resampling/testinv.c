@@ -162,6 +162,10 @@ static int sti_verdict(sti_ctx *c, double lam)
         double t = (l - c->lmse[b] - L) / sqrt(v1 + c->dv[b]);
         at_most += t <= t_obs;
         at_least += t >= t_obs;
+        /* both order statistics already on the accepting side: the rest cannot change
+           the verdict (most λ inside the interval end here after a few replicates) */
+        if (at_least > c->k_lo && at_most > c->k_hi)
+            return 0;
     }
     /* q_hi = T*_(B − k_lo) ≥ T_obs ⇔ at least k_lo + 1 replicates reach T_obs;
        q_lo = T*_(k_hi + 1) ≤ T_obs ⇔ at least k_hi + 1 replicates stay at or below it */
