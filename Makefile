@@ -228,6 +228,9 @@ $(FUZZ_BUILD)/lib/%.o: src/%.c $(wildcard include/sturdy/*.h) $(LIB_HDR)
 $(FUZZ_BUILD)/fuzz_%: tests/fuzz/fuzz_%.c $(FUZZ_OBJ)
 	$(FUZZ_CC) -Iinclude $(FUZZ_CFLAGS) -fsanitize=fuzzer -o $@ $< $(FUZZ_OBJ) $(LDLIBS)
 
+# kept: as prerequisites of a pattern rule only, make would delete them after each build
+.SECONDARY: $(FUZZ_OBJ)
+
 fuzz-bins: $(FUZZ_BIN)
 
 fuzz: deps-test fuzz-bins
