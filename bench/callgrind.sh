@@ -3,7 +3,10 @@
 # Counts instructions (valgrind --tool=callgrind) of `sturdy check` on the balanced
 # 2×5×8 design (n = 2000, 7 terms) with -B $CG_B and with -B 0, one thread, no
 # bootstrap, and prints (Ir(B) − Ir(0)) / (B · 7 · 2000): instructions per
-# rearrangement·term·observation, then the hottest functions of the B run.
+# rearrangement·term·observation, then the hottest functions of the B run; and the
+# set-up's own count (the -B 0 run: reading, fit, classical table, comparisons,
+# diagnostics, sensitivity, intervals, output) against its baseline, with the inclusive
+# cost of its stages.
 # Instruction counts do not depend on the machine's load, unlike wall time.
 # OpenBLAS is pinned to one thread and the Haswell kernel so the count is reproducible.
 set -eu
@@ -11,6 +14,8 @@ cd "$(dirname "$0")/.."
 STURDY="${STURDY_BIN:-./sturdy}"
 CG_B="${CG_B:-999}"
 BASELINE=11.96   # instructions per rearrangement·term·observation, measured 2026-12-01 (README)
+SETUP_BASELINE=18590808716   # instructions at -B 0, measured 2026-12-02 (README, "Set-up")
+SETUP_TARGET=30000000        # issue 17's target for the set-up at n = 2000
 OUT=bench/out
 command -v valgrind >/dev/null || { echo "FAIL valgrind not installed (Debian package valgrind)"; exit 1; }
 [ -f $OUT/bal2000.csv ] || /usr/bin/python3 bench/gen_designs.py >/dev/null
@@ -34,3 +39,11 @@ awk -v a="$ir0" -v b="$irb" -v B="$CG_B" -v base="$BASELINE" 'BEGIN {
 echo "hottest functions at -B $CG_B (self instructions, whole run):"
 callgrind_annotate "$OUT/callgrind.$CG_B.out" 2>/dev/null |
     grep -E '^ *[0-9,]+ \([ 0-9.]+%\) ' | head -n 8
+awk -v a="$ir0" -v base="$SETUP_BASELINE" -v tgt="$SETUP_TARGET" 'BEGIN {
+    printf "set-up (-B 0 --bootstrap 0): %.1f M instructions; baseline %.1f M (bench/README.md): now %.2fx of it%s; target %.0f M: %s\n",
+           a / 1e6, base / 1e6, a / base, (a > base * 1.1) ? "  <-- more than 10% above: a slowdown" : "",
+           tgt / 1e6, (a <= tgt) ? "reached" : "not reached" }'
+echo "set-up stages (inclusive instructions at -B 0):"
+callgrind_annotate --inclusive=yes --threshold=100 --auto=no "$OUT/callgrind.0.out" 2>/dev/null |
+    grep -E ':(sturdy_compare_adjust|sturdy_sensitivity_term|sturdy_compare_stage|cli_render|sturdy_model_build|sturdy_design_build|sturdy_table_load|sturdy_anova_response|sturdy_ncf_eta2_interval|sturdy_diagnose_response|sturdy_uv_response|sturdy_permute_run|_dl_start) ' |
+    sed -e 's#/[^ ]*/src/#src/#' -e 's# \[[^]]*\]$##'
