@@ -356,6 +356,7 @@ double sturdy_ncf_cdf(double f, double df1, double df2, double lambda)
  * depend on λ computed once. */
 struct ncf_target {
     double x, y, a, b, ilow, target;
+    double lambda0; /* where the bracketing starts: the moment estimate df1·f, ≥ 1 */
 };
 
 /* P(F ≤ f | λ) − target, for λ > 0 (NaN if it could not be evaluated). */
@@ -389,10 +390,9 @@ static sturdy_status ncf_solve(const struct ncf_target *c, double cdf0, double *
         *lambda = 0.0;
         return STURDY_OK;
     }
-    /* Bracket by doubling from the moment estimate λ ≈ df1·f = 2a·x/y (P(F ≤ f | λ)
-     * falls with λ: g(lo) ≥ 0 > g(hi)). */
-    double lo = 0.0, glo = cdf0 - c->target;
-    double hi = fmax(1.0, 2.0 * c->a * (c->x / c->y)), ghi;
+    /* Bracket by doubling from the moment estimate λ ≈ df1·f (P(F ≤ f | λ) falls
+     * with λ: g(lo) ≥ 0 > g(hi)). */
+    double lo = 0.0, glo = cdf0 - c->target, hi = c->lambda0, ghi;
     for (;;) {
         if (hi > NCF_LAMBDA_MAX) return STURDY_EINTERNAL;
         ghi = ncf_gap(hi, c);
@@ -440,8 +440,9 @@ sturdy_status sturdy_ncf_eta2_interval(double f_obs, double df1, double df2, dou
     double llo = 0.0, lhi = 0.0, x, y;
     f_to_beta(f_obs, df1, df2, &x, &y);
     if (f_obs > 0 && y == 0) return STURDY_EINTERNAL; /* F too large for any λ ≤ 1e9 */
-    struct ncf_target clo = {x, y, df1 / 2, df2 / 2, cdf0, 1.0 - alpha / 2};
-    struct ncf_target chi = {x, y, df1 / 2, df2 / 2, cdf0, alpha / 2};
+    double lambda0 = fmax(1.0, df1 * f_obs);
+    struct ncf_target clo = {x, y, df1 / 2, df2 / 2, cdf0, 1.0 - alpha / 2, lambda0};
+    struct ncf_target chi = {x, y, df1 / 2, df2 / 2, cdf0, alpha / 2, lambda0};
     sturdy_status st = ncf_solve(&clo, cdf0, &llo);
     if (st == STURDY_OK) st = ncf_solve(&chi, cdf0, &lhi);
     if (st != STURDY_OK) return st;
