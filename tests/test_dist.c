@@ -62,6 +62,13 @@ int main(void)
     /* P(F(2,24) ≤ 0.03) = 1 − 1.0025^−12 ≈ 0.0295 < 0.05: no positive root at all. */
     st = sturdy_ncf_eta2_interval(0.03, 2, 24, 0.9, &elo, &ehi, NULL, NULL);
     CHECK("ncF interval f=0.03: both bounds 0", st == STURDY_OK && elo == 0 && ehi == 0);
+    /* Few error df, many term df: the upper bound lies near 1e8, far above the starting
+     * point df1·f of the bracketing; a start from df1²f/df2 (a slip once made) would
+     * pass 1e9 and fail. */
+    st = sturdy_ncf_eta2_interval(1e5, 167, 1, 0.95, &elo, &ehi, &llo, &lhi);
+    CHECK_INT("ncF interval df2=1 status", st, STURDY_OK);
+    CHECK_ABS("ncF interval df2=1 lower root", sturdy_ncf_cdf(1e5, 167, 1, llo), 0.975, 1e-13);
+    CHECK_ABS("ncF interval df2=1 upper root", sturdy_ncf_cdf(1e5, 167, 1, lhi), 0.025, 1e-13);
     CHECK_INT("ncF interval conf=0 rejected",
               sturdy_ncf_eta2_interval(3, 2, 24, 0, &elo, &ehi, NULL, NULL), STURDY_EUSAGE);
     CHECK_INT("ncF interval NaN f rejected",

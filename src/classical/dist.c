@@ -268,6 +268,73 @@ double sturdy_f_isf(double q, double df1, double df2)
 
 /* ---------- noncentral F ---------- */
 
+/* The terms of the downward sum below come from two-term recurrences, each step three
+ * roundings; every NCF_ANCHOR_EVERY steps (and wherever a value is too small for the
+ * recurrence to carry, or it misbehaves) both are evaluated directly again, which keeps
+ * their relative error below ~2·32·DBL_EPSILON ≈ 1.4e-14 and, in the sum of positive
+ * terms, the result's below that too. */
+#define NCF_ANCHOR_EVERY 32
+
+/* Smallest value the recurrences start from; below it a term is evaluated directly
+ * (a recurrence from 0 or a subnormal would lose the term altogether). */
+#define NCF_RECUR_MIN 1e-280
+
+/* P(F ≤ f | λ) from x = df1·f/(df2 + df1·f), y = 1 − x, a = df1/2, b = df2/2,
+ * mu = λ/2 > 0, and ilow = I_x(a, b) (which does not depend on λ: the interval search
+ * passes it once for all its evaluations). NaN if an incomplete beta failed. */
+static double ncf_cdf_core(double x, double y, double a, double b, double mu, double ilow)
+{
+    double mode = floor(mu);
+
+    /* Highest index: past the mode the weights fall by at least r = mu/(j+1) per
+     * step, so what lies beyond j is at most w_j r/(1−r); and I_x(a+j, b) falls with
+     * j, so relative to w_mode·I_x(a+mode, b) ≤ CDF this bounds the truncation. The
+     * ratio w_j/w_mode is the running product of the r (no density evaluated). */
+    double jhi = mode, rel = 1.0;
+    for (;;) {
+        double r = mu / (jhi + 1.0);
+        if (rel * r / (1.0 - r) <= NCF_TAIL_REL) break;
+        jhi += 1.0;
+        rel *= r;
+    }
+
+    /* Sum downward from jhi: I_x(a+j, b) = I_x(a+j+1, b) + step(a+j) only adds
+     * positive terms, so every I keeps its relative precision (the upward direction
+     * subtracts and would cancel). One incomplete beta is evaluated directly, and
+     * I_x(a, b) ≥ every term's I bounds what the indices below could add. The
+     * Poisson weight and the step follow their ratios,
+     *   w_j = w_{j+1}·(j+1)/mu,   step(a+j) = step(a+j+1)·(a+j+1)/(x·(a+j+b)),
+     * re-anchored by direct evaluation (Loader's forms) every NCF_ANCHOR_EVERY steps. */
+    double ib = beta_cdf(x, y, a + jhi, b, 0);
+    if (isnan(ib) || isnan(ilow)) return NAN;
+    double w = pois_pmf(jhi, mu);
+    double sum = w * ib, step = 0.0;
+    int since = NCF_ANCHOR_EVERY;
+    for (double j = jhi - 1.0; j >= 0; j -= 1.0) {
+        if (since < NCF_ANCHOR_EVERY && step >= NCF_RECUR_MIN && w >= NCF_RECUR_MIN) {
+            step *= (a + j + 1.0) / (x * (a + j + b));
+            w *= (j + 1.0) / mu;
+            since++;
+        } else {
+            step = w = 0.0; /* forces the direct evaluation below */
+        }
+        if (!(step >= NCF_RECUR_MIN && step <= 1.0 && w >= NCF_RECUR_MIN && w <= 1.0)) {
+            step = beta_step(a + j, b, x, y);
+            w = pois_pmf(j, mu);
+            since = 0;
+        }
+        ib += step;
+        sum += w * ib;
+        /* Below the mode the weights fall by at least r = j/mu per step: stop once
+         * what the rest could add is negligible against the sum, or underflows. */
+        if (j < mu && j > 0) {
+            double r = j / mu, rest = w * r / (1.0 - r) * ilow;
+            if (rest <= NCF_TAIL_REL * sum || rest < DBL_MIN) break;
+        }
+    }
+    return sum > 1.0 ? 1.0 : sum;
+}
+
 double sturdy_ncf_cdf(double f, double df1, double df2, double lambda)
 {
     if (isnan(f) || isnan(lambda) || bad_df(df1, df2) || !(lambda >= 0) ||
@@ -281,68 +348,78 @@ double sturdy_ncf_cdf(double f, double df1, double df2, double lambda)
     f_to_beta(f, df1, df2, &x, &y);
     if (x == 0) return 0.0;
     if (y == 0) return 1.0;
-    double a = df1 / 2, b = df2 / 2, mu = lambda / 2;
-    double mode = floor(mu);
-
-    /* Highest index: past the mode the weights fall by at least r = mu/(j+1) per
-     * step, so what lies beyond j is at most w_j r/(1−r); and I_x(a+j, b) falls with
-     * j, so relative to w_mode·I_x(a+mode, b) ≤ CDF this bounds the truncation. */
-    double wmode = pois_pmf(mode, mu), jhi = mode;
-    for (;;) {
-        double r = mu / (jhi + 1.0);
-        if (pois_pmf(jhi, mu) * r / (1.0 - r) <= NCF_TAIL_REL * wmode) break;
-        jhi += 1.0;
-    }
-
-    /* Sum downward from jhi: I_x(a+j, b) = I_x(a+j+1, b) + step(a+j) only adds
-     * positive terms, so every I keeps its relative precision (the upward direction
-     * subtracts and would cancel). One incomplete beta is evaluated directly, and one
-     * more, I_x(a, b) ≥ every term's I, bounds what the indices below could add. */
-    double ib = beta_cdf(x, y, a + jhi, b, 0), ilow = beta_cdf(x, y, a, b, 0);
-    if (isnan(ib) || isnan(ilow)) return NAN;
-    double sum = pois_pmf(jhi, mu) * ib;
-    for (double j = jhi - 1.0; j >= 0; j -= 1.0) {
-        ib += beta_step(a + j, b, x, y);
-        double w = pois_pmf(j, mu);
-        sum += w * ib;
-        /* Below the mode the weights fall by at least r = j/mu per step: stop once
-         * what the rest could add is negligible against the sum, or underflows. */
-        if (j < mu && j > 0) {
-            double r = j / mu, rest = w * r / (1.0 - r) * ilow;
-            if (rest <= NCF_TAIL_REL * sum || rest < DBL_MIN) break;
-        }
-    }
-    return sum > 1.0 ? 1.0 : sum;
+    double a = df1 / 2, b = df2 / 2;
+    return ncf_cdf_core(x, y, a, b, lambda / 2, beta_cdf(x, y, a, b, 0));
 }
 
+/* One equation P(F ≤ f | λ) = target of the interval search, with what does not
+ * depend on λ computed once. */
 struct ncf_target {
-    double f, df1, df2, target;
+    double x, y, a, b, ilow, target;
+    double lambda0; /* where the bracketing starts: the moment estimate df1·f, ≥ 1 */
 };
+
+/* P(F ≤ f | λ) − target, for λ > 0 (NaN if it could not be evaluated). */
+static double ncf_gap(double lambda, const struct ncf_target *c)
+{
+    return ncf_cdf_core(c->x, c->y, c->a, c->b, lambda / 2, c->ilow) - c->target;
+}
 
 /* P(F ≤ f | λ) decreases in λ: beyond the root once it is below the target. */
 static int ncf_side(double lambda, const void *ctx)
 {
-    const struct ncf_target *c = ctx;
-    double p = sturdy_ncf_cdf(c->f, c->df1, c->df2, lambda);
-    return isnan(p) ? -1 : p < c->target;
+    double g = ncf_gap(lambda, ctx);
+    return isnan(g) ? -1 : g < 0;
 }
 
-/* The λ ≥ 0 with P(F ≤ f | λ) = target; 0 when even λ = 0 is below it. */
+/* The interval search narrows [lo, hi] by regula falsi with the Illinois modification
+ * (the end that stays put twice has its value halved, so both ends move and the
+ * convergence is superlinear) until it is this narrow relative to hi; bisection on the
+ * doubles then finishes it, so the result is the same adjacent-doubles flip point of
+ * the predicate that bisection alone finds (it reaches it in a few steps from here). */
+#define NCF_FALSI_REL 1e-13
+
+/* Regula-falsi steps at most (it usually needs 5–10); bisection takes over after. */
+#define NCF_FALSI_MAX 60
+
+/* The λ ≥ 0 with P(F ≤ f | λ) = target; 0 when even λ = 0 is at or below it. cdf0 is
+ * P(F ≤ f | 0) = I_x(a, b). */
 static sturdy_status ncf_solve(const struct ncf_target *c, double cdf0, double *lambda)
 {
     if (cdf0 <= c->target) {
         *lambda = 0.0;
         return STURDY_OK;
     }
-    /* Bracket by doubling from the moment estimate λ ≈ df1·f, then bisect. */
-    double lo = 0.0, hi = fmax(1.0, c->df1 * c->f);
+    /* Bracket by doubling from the moment estimate λ ≈ df1·f (P(F ≤ f | λ) falls
+     * with λ: g(lo) ≥ 0 > g(hi)). */
+    double lo = 0.0, glo = cdf0 - c->target, hi = c->lambda0, ghi;
     for (;;) {
         if (hi > NCF_LAMBDA_MAX) return STURDY_EINTERNAL;
-        int s = ncf_side(hi, c);
-        if (s < 0) return STURDY_EINTERNAL;
-        if (s) break;
+        ghi = ncf_gap(hi, c);
+        if (isnan(ghi)) return STURDY_EINTERNAL;
+        if (ghi < 0) break;
         lo = hi;
+        glo = ghi;
         hi *= 2.0;
+    }
+    /* Illinois: glo ≥ 0 > ghi throughout. */
+    int kept = 0; /* +1: lo stayed put last step, −1: hi did */
+    for (int it = 0; it < NCF_FALSI_MAX && hi - lo > NCF_FALSI_REL * hi; it++) {
+        double m = lo + (hi - lo) * (glo / (glo - ghi));
+        if (!(m > lo && m < hi)) m = lo + (hi - lo) / 2; /* rounding: stay inside */
+        double gm = ncf_gap(m, c);
+        if (isnan(gm)) return STURDY_EINTERNAL;
+        if (gm < 0) {
+            hi = m;
+            ghi = gm;
+            if (kept > 0) glo /= 2;
+            kept = 1;
+        } else {
+            lo = m;
+            glo = gm;
+            if (kept < 0) ghi /= 2;
+            kept = -1;
+        }
     }
     double r = bisect_doubles(lo, hi, ncf_side, c);
     if (isnan(r)) return STURDY_EINTERNAL;
@@ -360,9 +437,12 @@ sturdy_status sturdy_ncf_eta2_interval(double f_obs, double df1, double df2, dou
     double cdf0 = f_cdf(f_obs, df1, df2);
     if (isnan(cdf0)) return STURDY_EINTERNAL;
 
-    struct ncf_target clo = {f_obs, df1, df2, 1.0 - alpha / 2};
-    struct ncf_target chi = {f_obs, df1, df2, alpha / 2};
-    double llo, lhi;
+    double llo = 0.0, lhi = 0.0, x, y;
+    f_to_beta(f_obs, df1, df2, &x, &y);
+    if (f_obs > 0 && y == 0) return STURDY_EINTERNAL; /* F too large for any λ ≤ 1e9 */
+    double lambda0 = fmax(1.0, df1 * f_obs);
+    struct ncf_target clo = {x, y, df1 / 2, df2 / 2, cdf0, 1.0 - alpha / 2, lambda0};
+    struct ncf_target chi = {x, y, df1 / 2, df2 / 2, cdf0, alpha / 2, lambda0};
     sturdy_status st = ncf_solve(&clo, cdf0, &llo);
     if (st == STURDY_OK) st = ncf_solve(&chi, cdf0, &lhi);
     if (st != STURDY_OK) return st;

@@ -1,6 +1,7 @@
 /* main.c — the `sturdy` program: picks the subcommand and hands over to it. The
  * program uses libsturdy only through its public headers; it alone prints and exits. */
 #include <cblas.h>
+#include <lapacke.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -33,21 +34,32 @@ static int check_or_demo(int argc, char **argv, int demo)
 
 static int dispatch(int argc, char **argv);
 
+/* OpenBLAS (its pthreads build, Debian's default) starts a pool of worker threads in
+ * its initialiser, before main(), unless OPENBLAS_NUM_THREADS says otherwise; the
+ * workers spin for ~0.1 s of CPU before they sleep, competing for the cores. sturdy
+ * runs BLAS single-threaded inside its own threads and needs no pool. The variable
+ * cannot be set in time from inside the program: even an executable's
+ * DT_PREINIT_ARRAY function, which runs before the libraries' initialisers, runs before
+ * the C library has set up its environment, which then replaces what was set (tried:
+ * OpenBLAS still saw no variable). So the pool is stopped instead, through the
+ * function OpenBLAS registers as its own pthread_atfork handler for the same purpose
+ * (it tells the idle workers to exit and joins them; BLAS then runs in the calling
+ * thread, and the pool would be rebuilt only for a multi-threaded BLAS call, which
+ * sturdy never makes). It is looked up weakly: with another BLAS, or an OpenBLAS
+ * without it, nothing happens. */
+extern int blas_thread_shutdown_(void) __attribute__((weak));
+
 int main(int argc, char **argv)
 {
-    /* OpenBLAS starts a pool of threads when it is loaded, unless OPENBLAS_NUM_THREADS
-     * says otherwise. sturdy runs BLAS single-threaded inside its own threads, and the
-     * idle pool costs tens of milliseconds of system time per run and competes for the
-     * cores. The variable is read only at load time, so set it and start once more
-     * (an explicit setting of the user's is left alone). */
-    if (!getenv("OPENBLAS_NUM_THREADS")) {
-        setenv("OPENBLAS_NUM_THREADS", "1", 1);
-        execv("/proc/self/exe", argv);
-        /* no /proc: carry on with the pool */
-    }
     /* BLAS threads are process-wide state, the application's to set (sturdy.h): the
      * library calls LAPACK from inside its own threads, so BLAS runs single-threaded */
     openblas_set_num_threads(1);
+    if (blas_thread_shutdown_) blas_thread_shutdown_();
+    /* LAPACKE scans every input matrix for NaN before each call (two O(r²) passes per
+     * solve, a fifth of the set-up at n = 2000 through the marginal means); the library
+     * passes it only finite matrices that it built itself, and LAPACK's own checks
+     * still report a factorisation that fails */
+    LAPACKE_set_nancheck(0);
     if (cli_mpi_init(&argc, &argv) != 0) {
         fputs("sturdy: MPI could not be started\n", stderr);
         return STURDY_EINTERNAL;
