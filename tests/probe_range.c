@@ -2,6 +2,8 @@
  * each answer with %.17g, for tests/xcheck_compare.sh:
  *   upper Q K DF   → P(Q > q)
  *   quant P K DF   → q with P(Q ≤ q) = p
+ *   many P K DF... → on one line: 1 when sturdy_range_quantiles interpolated (else 0),
+ *                    then its quantiles for the (up to 64) df
  * An unreadable line prints "error" and makes the exit status 2. */
 #include <stdio.h>
 #include <string.h>
@@ -10,10 +12,30 @@
 
 int main(void)
 {
-    char line[256], cmd[16];
+    char line[4096], cmd[16];
     double a, k, df;
     int rc = 0;
     while (fgets(line, sizeof line, stdin)) {
+        if (!strncmp(line, "many ", 5)) {
+            double dfs[64], qs[64], work[64];
+            size_t n = 0;
+            int used = 0, off = 5;
+            if (sscanf(line + off, "%lf %lf%n", &a, &k, &used) != 2) {
+                printf("error\n");
+                rc = 2;
+                continue;
+            }
+            off += used;
+            while (n < 64 && sscanf(line + off, "%lf%n", &dfs[n], &used) == 1) {
+                off += used;
+                n++;
+            }
+            printf("%d", sturdy_range_quantiles(a, k, dfs, n, qs, work));
+            for (size_t i = 0; i < n; i++)
+                printf(" %.17g", qs[i]);
+            printf("\n");
+            continue;
+        }
         if (sscanf(line, "%15s %lf %lf %lf", cmd, &a, &k, &df) != 4 || k < 2) {
             printf("error\n");
             rc = 2;

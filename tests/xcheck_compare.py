@@ -196,6 +196,30 @@ def check_range():
                   1e-9, True, src)
 
 
+def check_range_many():
+    """sturdy_range_quantiles: a Games–Howell family's quantiles (one k, a Welch df per
+    pair) through the Chebyshev series in 1/df, against scipy at every df."""
+    probe = need_probe("probe_range")
+    rng = np.random.default_rng(5)
+    for k, lo, hi in ((5, 6.0, 30.0), (8, 3.5, 12.0), (3, 10.0, 400.0)):
+        dfs = np.round(rng.uniform(lo, hi, 40), 6)
+        out = probe(["many 0.95 %d %s" % (k, " ".join("%r" % float(d) for d in dfs))])[0].split()
+        report(out[0] == "1", "range quantiles, k=%d, 40 df in [%g, %g]: interpolated [%s]"
+               % (k, lo, hi, out[0]))
+        out = out[1:] + [None]
+        src = "scipy studentized_range.ppf k=%d" % k
+        worst = max(abs(float(q) - studentized_range.ppf(0.95, k, d)) / studentized_range.ppf(0.95, k, d)
+                    for q, d in zip(out[:-1], dfs))
+        report(worst <= 1e-9, "range quantiles, k=%d: worst relative error %.2e <= 1e-9 [%s]"
+               % (k, worst, src))
+    out = probe(["many 0.95 2 %s" % " ".join("%r" % d for d in (3.0, 7.5, 20.0, 1e9))])[0].split()
+    out = out[1:] + [None]
+    worst = max(abs(float(q) - studentized_range.ppf(0.95, 2, d)) / studentized_range.ppf(0.95, 2, d)
+                for q, d in zip(out[:-1], (3.0, 7.5, 20.0, 1e9)))
+    report(worst <= 1e-9, "range quantiles, k=2 (sqrt 2 times Student's t): worst relative "
+           "error %.2e <= 1e-9 [scipy studentized_range.ppf]" % worst)
+
+
 def check_control_and_order():
     df = make_data(11, {"A": ["p", "q", "r", "s"], "B": ["u", "v"]})
     js = run_sturdy(df, ["A", "B"], ["--control", "A=r", "--levels", "A=s,r,q,p"])
@@ -361,6 +385,7 @@ def check_games_howell():
 
 def main():
     check_range()
+    check_range_many()
     check_games_howell()
     df2 = make_data(3, {"A": ["a1", "a2", "a3"], "B": ["b1", "b2"]})
     check_design("2-factor+cov", df2, ["A", "B"])

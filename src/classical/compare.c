@@ -435,11 +435,14 @@ done:
     return st;
 }
 
+/* Comparisons whose range quantiles are found together (range.c); a longer run of one
+ * family and k is split (each piece interpolated over its own df). */
+#define COMPARE_QBATCH 512
+
 void sturdy_compare_adjust(sturdy_response_result *rr, double conf)
 {
     /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
        (the same residual df), one per comparison under Games–Howell */
-    double last_k = NAN, last_df = NAN, q = NAN;
     for (size_t i = 0; i < rr->ncomparisons; i++) {
         sturdy_comparison *cp = &rr->comparisons[i];
         if (cp->method == STURDY_ADJ_DUNNETT) {   /* the whole family at once */
@@ -462,13 +465,26 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf)
         }
         if (!isfinite(cp->t) || !(cp->range_k >= 2))
             continue;
-        if (cp->range_k != last_k || cp->df != last_df) {
-            last_k = cp->range_k;
-            last_df = cp->df;
-            q = sturdy_range_quantile(conf, last_k, last_df);
+        /* the run of this family's comparisons with the same k (all of a Tukey–Kramer
+           family, one df; a Games–Howell family has a df per pair): their quantiles at
+           once (range.c interpolates many distinct df) */
+        size_t e = i;
+        double dfs[COMPARE_QBATCH], qs[COMPARE_QBATCH], work[COMPARE_QBATCH];
+        while (e < rr->ncomparisons && e - i < COMPARE_QBATCH &&
+               rr->comparisons[e].family == cp->family &&
+               rr->comparisons[e].method != STURDY_ADJ_DUNNETT &&
+               rr->comparisons[e].range_k == cp->range_k && isfinite(rr->comparisons[e].t))
+            e++;
+        for (size_t j = i; j < e; j++)
+            dfs[j - i] = rr->comparisons[j].df;
+        sturdy_range_quantiles(conf, cp->range_k, dfs, e - i, qs, work);
+        for (size_t j = i; j < e; j++) {
+            sturdy_comparison *cj = &rr->comparisons[j];
+            double q = qs[j - i];
+            cj->p_adjusted = sturdy_range_upper(sqrt(2.0) * fabs(cj->t), cj->range_k, cj->df);
+            cj->ci_simultaneous.lo = cj->estimate - q / sqrt(2.0) * cj->se;
+            cj->ci_simultaneous.hi = cj->estimate + q / sqrt(2.0) * cj->se;
         }
-        cp->p_adjusted = sturdy_range_upper(sqrt(2.0) * fabs(cp->t), cp->range_k, cp->df);
-        cp->ci_simultaneous.lo = cp->estimate - q / sqrt(2.0) * cp->se;
-        cp->ci_simultaneous.hi = cp->estimate + q / sqrt(2.0) * cp->se;
+        i = e - 1;
     }
 }

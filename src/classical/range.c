@@ -26,8 +26,10 @@
 #include <assert.h>
 #include <math.h>
 #include <stddef.h>
+#include <stdlib.h>
 
 #include "classical/range.h"
+#include "sturdy/dist.h"
 
 /* Above this many degrees of freedom s is taken as 1 (ν = ∞): the density of s is then
  * narrower than 1e-3 around 1 and the difference is below the tolerance of the tests. */
@@ -243,6 +245,14 @@ static double range_eval(const range_setup *r, double q, double *dens)
     return fmin(1.0, fmax(0.0, v));
 }
 
+/* Two means: Q/√2 = |t_ν|, so P(Q > q) = P(F(1, ν) > q²/2) (ν = ∞: 2·Q_N(q/√2)). */
+static double range2_upper(double q, double df)
+{
+    if (isinf(df) || df > RANGE_DF_INF)
+        return erfc(0.5 * q);
+    return sturdy_f_sf(0.5 * q * q, 1.0, df);
+}
+
 double sturdy_range_upper(double q, double k, double df)
 {
     assert(k >= 2);
@@ -250,6 +260,8 @@ double sturdy_range_upper(double q, double k, double df)
         return NAN;
     if (q <= 0)
         return 1.0;
+    if (k == 2)
+        return range2_upper(q, df);
     range_setup r;
     range_prepare(&r, k, df);
     return range_eval(&r, q, NULL);
@@ -260,6 +272,9 @@ double sturdy_range_quantile(double p, double k, double df)
     assert(k >= 2);
     if (!(p > 0 && p < 1) || !(df > 0))
         return NAN;
+    if (k == 2)
+        return isinf(df) || df > RANGE_DF_INF ? sqrt(2.0) * -sturdy_norm_ppf(0.5 * (1.0 - p))
+                                              : sqrt(2.0 * sturdy_f_isf(1.0 - p, 1.0, df));
     range_setup r;
     range_prepare(&r, k, df);
     double target = 1.0 - p;
@@ -383,4 +398,83 @@ double sturdy_manyone_quantile(double p, size_t m, const double *lambda, double 
         }
     }
     return 0.5 * (a + b);
+}
+
+/* Quantiles for many df at once (a Games–Howell family: one k, a Welch df per pair).
+ * The quantile is an analytic, slowly varying function of x = 1/ν, so over the family's
+ * range of x it is interpolated by a Chebyshev series through RANGE_CHEB nodes, each an
+ * exact quantile; the series is kept only when it matches exact quantiles at both ends
+ * of the range and at its middle to RANGE_CHEB_TOL relative, else every df gets its own
+ * exact quantile. Few distinct df: exact ones. */
+#define RANGE_CHEB 12
+#define RANGE_PI 3.14159265358979323846
+#define RANGE_CHEB_MIN 16            /* distinct df from which interpolation pays */
+#define RANGE_CHEB_TOL 1e-11
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static double cheb_eval(const double *c, double a, double b, double x)
+{
+    double u = (2.0 * x - a - b) / (b - a), b1 = 0.0, b2 = 0.0;
+    for (int m = RANGE_CHEB - 1; m >= 1; m--) {
+        double t = 2.0 * u * b1 - b2 + c[m];
+        b2 = b1;
+        b1 = t;
+    }
+    return u * b1 - b2 + 0.5 * c[0];
+}
+
+int sturdy_range_quantiles(double p, double k, const double *df, size_t n, double *q,
+                           double *work)
+{
+    size_t m = 0;
+    for (size_t i = 0; i < n; i++)
+        if (df[i] > 0 && !isnan(df[i]))
+            work[m++] = 1.0 / df[i];
+    qsort(work, m, sizeof *work, cmp_double);
+    size_t distinct = 0;
+    for (size_t i = 0; i < m; i++)
+        distinct += i == 0 || work[i] != work[i - 1];
+    double a = m ? work[0] : 0.0, b = m ? work[m - 1] : 0.0;
+    if (k > 2 && distinct >= RANGE_CHEB_MIN && b > a) {
+        double f[RANGE_CHEB], c[RANGE_CHEB];
+        for (int j = 0; j < RANGE_CHEB; j++) {
+            double x = 0.5 * (a + b) + 0.5 * (b - a) * cos(RANGE_PI * (j + 0.5) / RANGE_CHEB);
+            f[j] = sturdy_range_quantile(p, k, x > 0 ? 1.0 / x : INFINITY);
+        }
+        for (int j = 0; j < RANGE_CHEB; j++) {
+            double sum = 0.0;
+            for (int i = 0; i < RANGE_CHEB; i++)
+                sum += f[i] * cos(RANGE_PI * j * (i + 0.5) / RANGE_CHEB);
+            c[j] = 2.0 * sum / RANGE_CHEB;
+        }
+        int good = 1;
+        const double check[3] = {a, 0.5 * (a + b), b};
+        for (int j = 0; j < 3 && good; j++) {
+            double exact = sturdy_range_quantile(p, k, check[j] > 0 ? 1.0 / check[j] : INFINITY);
+            double approx = cheb_eval(c, a, b, check[j]);
+            good = isfinite(exact) && fabs(approx - exact) <= RANGE_CHEB_TOL * exact;
+        }
+        if (good) {
+            for (size_t i = 0; i < n; i++)
+                q[i] = df[i] > 0 && !isnan(df[i]) ? cheb_eval(c, a, b, 1.0 / df[i]) : NAN;
+            return 1;
+        }
+    }
+    /* exact, once per distinct df (a family under Tukey–Kramer has one) */
+    for (size_t i = 0; i < n; i++) {
+        q[i] = NAN;
+        for (size_t j = 0; j < i; j++)
+            if (df[j] == df[i]) {
+                q[i] = q[j];
+                break;
+            }
+        if (isnan(q[i]))
+            q[i] = sturdy_range_quantile(p, k, df[i]);
+    }
+    return 0;
 }
