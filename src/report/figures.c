@@ -277,6 +277,26 @@ static int fig_means(const sturdy_result *r, size_t ri, size_t t, fig_work *f)
 
 /* ---- effect sizes with every interval --------------------------------------------- */
 
+/* The frame of a figure with one category per term on x (effect sizes, influential
+ * rows): its width *w from the number of terms, its height *h with room below for
+ * slanted labels. */
+static void term_frame(fig_work *f, sturdy_svg_plot *p, const char *const *labels, size_t n,
+                       const char *desc, double ylo, double yhi, const char *ylabel,
+                       double *w_out, double *h_out)
+{
+    memset(p, 0, sizeof *p);
+    p->x_categories = 1;
+    double w = fmax(FIG_W, 110.0 * (double)n + 80.0);
+    p->margin_bottom = slanted_margin(labels, n, w);
+    double h = FIG_H + p->margin_bottom;
+    sturdy_svg_begin(&f->svg, w, h, f->id, f->title, desc);
+    sturdy_svg_frame(p, &f->svg, w, h, -0.5, (double)n - 0.5, ylo, yhi, f->title, "term",
+                     ylabel);
+    fig_categories(p, labels, n);
+    *w_out = w;
+    *h_out = h;
+}
+
 static int fig_effects(const sturdy_result *r, size_t ri, fig_work *f)
 {
     const sturdy_response_result *rr = &r->resp[ri];
@@ -315,15 +335,8 @@ static int fig_effects(const sturdy_result *r, size_t ri, fig_work *f)
              "BCa, test inversion and studentized test inversion; the recommended interval is "
              "drawn thick and named in the table.", conf);
     sturdy_svg_plot p;
-    memset(&p, 0, sizeof p);
-    p.x_categories = 1;
-    double w = fmax(FIG_W, 110.0 * (double)n + 80.0);
-    p.margin_bottom = slanted_margin(labels, n, w);
-    double h = FIG_H + p.margin_bottom;
-    sturdy_svg_begin(&f->svg, w, h, f->id, f->title, desc);
-    sturdy_svg_frame(&p, &f->svg, w, h, -0.5, (double)n - 0.5, 0.0, fmin(1.0, hi), f->title,
-                     "term", "partial η² (0 to 1)");
-    fig_categories(&p, labels, n);
+    double w, h;
+    term_frame(f, &p, labels, n, desc, 0.0, fmin(1.0, hi), "partial η² (0 to 1)", &w, &h);
     fig_legend(&p, mnames, nmeth, 0);
     sturdy_svg_text(&f->svg, w - 8, h - 8, "end", "lab",
                     "thick: the recommended interval; black tick: the estimate");
@@ -492,15 +505,9 @@ static int fig_influence(const sturdy_result *r, size_t ri, fig_work *f)
              "and with each of its most influential rows removed alone (squares, labelled by "
              "data row), on a log scale; the dashed line is alpha = %g.", alpha);
     sturdy_svg_plot p;
-    memset(&p, 0, sizeof p);
-    p.x_categories = 1;
-    double w = fmax(FIG_W, 110.0 * (double)n + 80.0);
-    p.margin_bottom = slanted_margin(labels, n, w);
-    double h = FIG_H + p.margin_bottom;
-    sturdy_svg_begin(&f->svg, w, h, f->id, f->title, desc);
-    sturdy_svg_frame(&p, &f->svg, w, h, -0.5, (double)n - 0.5, fmin(lo, log10(alpha)), 0.0,
-                     f->title, "term", "log10 of the F-test p");
-    fig_categories(&p, labels, n);
+    double w, h;
+    term_frame(f, &p, labels, n, desc, fmin(lo, log10(alpha)), 0.0, "log10 of the F-test p", &w,
+               &h);
     const char *leg[] = { "all rows", "without one row" };
     fig_legend(&p, leg, 2, 0);
     sturdy_svg_line(&p, -0.5, log10(alpha), (double)n - 0.5, log10(alpha), "ref");
