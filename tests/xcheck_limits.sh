@@ -145,6 +145,13 @@ with open("rows1m.csv", "w") as f:
     f.writelines("%s,%s,%.3f\n" % ("abc"[i % 3], "wxyz"[(i // 3) % 4], random.gauss(0, 1))
                  for i in range(1000000))
 PYEOF
+# AddressSanitizer reserves terabytes of address space for its shadow memory, so a
+# sanitized binary cannot start under this limit at all: the check belongs to the plain
+# build (make check), and the sanitizer run says so rather than failing on ASan itself
+if ldd "$S" 2>/dev/null | grep -q libasan || nm "$S" 2>/dev/null | grep -q __asan_init; then
+    echo "note 1,000,000 rows under ulimit -v 600M: not run on an AddressSanitizer build" \
+         "(its shadow memory cannot be mapped under the limit); make check runs it"
+else
 start=$(date +%s%N)
 ( ulimit -v 600000; exec timeout 60 "$S" check rows1m.csv -y y -f a,b -q -o lim.json ) 2>err
 rc=$?
@@ -152,6 +159,7 @@ ms=$(( ($(date +%s%N) - start) / 1000000 ))
 [ $rc = 1 ] && [ $ms -lt 30000 ] && grep -q "out of memory" err && [ ! -e lim.json ] &&
     ok "1,000,000 rows under ulimit -v 600M: exit 1, 'out of memory' in ${ms} ms" ||
     bad "1,000,000 rows under ulimit -v 600M: exit $rc after ${ms} ms, $(head -c 300 err)"
+fi
 
 echo "$pass passed, $fail failed"
 [ "$fail" = 0 ]
