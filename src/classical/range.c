@@ -29,6 +29,7 @@
 #include <stdlib.h>
 
 #include "classical/range.h"
+#include "core/core.h"
 #include "sturdy/dist.h"
 
 /* Above this many degrees of freedom s is taken as 1 (ν = ∞): the density of s is then
@@ -149,13 +150,11 @@ static double range_upper(double w, const inner_table *t, double *dens)
     return fmin(1.0, fmax(0.0, k * sum));
 }
 
-/* Everything P(Q > q) needs for one (k, df), q aside: the inner table and, where the
- * outer integral uses fixed panels (df ≥ RANGE_FIXED_DF), its nodes s and weights
- * (the rule's weight times the density of s). */
+/* Everything P(Q > q) needs for one (k, df), q aside: the inner table and the outer
+ * integral's nodes s with their weights (the rule's weight times the density of s). */
 typedef struct {
     inner_table in;
-    double df, logc, lo, hi;
-    int kind;                    /* 0: ν = ∞ (s = 1); 1: fixed outer panels */
+    int kind;                    /* 0: ν = ∞ (s = 1); 1: the outer integral on nodes */
     int nout;                    /* outer nodes in use */
     double s[RANGE_OUTER_MAX], ws[RANGE_OUTER_MAX];
 } range_setup;
@@ -169,31 +168,27 @@ static double log_t_density(double t, double df)
 static void range_prepare(range_setup *r, double k, double df)
 {
     inner_build(&r->in, k);
-    r->df = df;
     if (isinf(df) || df > RANGE_DF_INF) {
         r->kind = 0;
         return;
     }
-    r->logc = log(2.0) + 0.5 * df * log(0.5 * df) - lgamma(0.5 * df);
-    /* s = √(χ²_ν/ν) has mean ≈ 1 and sd ≈ 1/√(2ν); its mode is √((ν−1)/ν) */
-    double sd = 1.0 / sqrt(2.0 * df);
-    r->lo = fmax(0.0, 1.0 - RANGE_SPAN * sd);
-    r->hi = 1.0 + RANGE_SPAN * sd;
-    if (df < 2)   /* heavier right tail of s: exp(−ν s²/2) decides the cut */
-        r->hi = fmax(r->hi, sqrt(2.0 * 80.0 / df));
+    double logc = log(2.0) + 0.5 * df * log(0.5 * df) - lgamma(0.5 * df);
     r->kind = 1;
     if (df >= RANGE_FIXED_DF) {
         /* the density of s is smooth and narrow enough for fixed panels over s (checked
-           against scipy at df 5 to 200 in xcheck_compare.py) */
-        double h = (r->hi - r->lo) / RANGE_PANELS;
+           against scipy at df 5 to 200 in xcheck_compare.py); s = √(χ²_ν/ν) has mean ≈ 1
+           and sd ≈ 1/√(2ν) */
+        double sd = 1.0 / sqrt(2.0 * df);
+        double slo = fmax(0.0, 1.0 - RANGE_SPAN * sd), shi = 1.0 + RANGE_SPAN * sd;
+        double h = (shi - slo) / RANGE_PANELS;
         r->nout = RANGE_NODES;
         for (int i = 0; i < RANGE_PANELS; i++) {
-            double lo = r->lo + i * h, hi = i == RANGE_PANELS - 1 ? r->hi : lo + h;
+            double lo = slo + i * h, hi = i == RANGE_PANELS - 1 ? shi : lo + h;
             kronrod_nodes(lo, hi, r->s + 15 * i, r->ws + 15 * i);
             for (int j = 0; j < 15; j++) {
                 int n = 15 * i + j;
                 double s = r->s[n];
-                r->ws[n] *= s > 0 ? exp(r->logc + (df - 1) * log(s) - 0.5 * df * s * s) : 0;
+                r->ws[n] *= s > 0 ? exp(logc + (df - 1) * log(s) - 0.5 * df * s * s) : 0;
             }
         }
         return;
@@ -215,7 +210,7 @@ static void range_prepare(range_setup *r, double k, double df)
         for (int j = 0; j < 15; j++) {
             int n = 15 * i + j;
             double t = r->s[n];
-            r->ws[n] *= exp(r->logc + log_t_density(t, df));
+            r->ws[n] *= exp(logc + log_t_density(t, df));
             r->s[n] = exp(t);
         }
     }
@@ -411,12 +406,6 @@ double sturdy_manyone_quantile(double p, size_t m, const double *lambda, double 
 #define RANGE_CHEB_MIN 16            /* distinct df from which interpolation pays */
 #define RANGE_CHEB_TOL 1e-11
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 static double cheb_eval(const double *c, double a, double b, double x)
 {
     double u = (2.0 * x - a - b) / (b - a), b1 = 0.0, b2 = 0.0;
@@ -435,7 +424,7 @@ int sturdy_range_quantiles(double p, double k, const double *df, size_t n, doubl
     for (size_t i = 0; i < n; i++)
         if (df[i] > 0 && !isnan(df[i]))
             work[m++] = 1.0 / df[i];
-    qsort(work, m, sizeof *work, cmp_double);
+    qsort(work, m, sizeof *work, sturdy_cmp_double);
     size_t distinct = 0;
     for (size_t i = 0; i < m; i++)
         distinct += i == 0 || work[i] != work[i - 1];
