@@ -568,11 +568,13 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     if (!rc) cli_batch_key_make(&key, a.v, a.n, data_path ? data_path : c.data);
     /* a result kept by --resume needs its page too (a run killed between writing the
        two left the result alone): without it the row is computed again */
-    char *page_path = str_printf("%s/%s.html", b->dir, name);
-    int have_page = page_path && access(page_path, F_OK) == 0;
-    free(page_path);
-    if (!rc && b->resume && have_page &&
-        (doc = cli_batch_resumable(&key, out_path, key_path))) {
+    int have_page = 0;
+    if (b->resume) {
+        char *page_path = str_printf("%s/%s.html", b->dir, name);
+        have_page = page_path && access(page_path, F_OK) == 0;
+        free(page_path);
+    }
+    if (!rc && have_page && (doc = cli_batch_resumable(&key, out_path, key_path))) {
         tot->resumed++;
         oc->resumed = 1;
         if (!b->quiet && b->lead)
