@@ -221,6 +221,7 @@ void sturdy_result_free(sturdy_result *r)
         }
         sturdy_free(rr->cmp_boot);
         sturdy_free(rr->cmp_boot_note);
+        sturdy_free(rr->cmp_z);
         sturdy_free(rr->means);
         for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
             sturdy_free(rr->comparisons[i].note);

@@ -237,6 +237,8 @@ typedef struct {
                                     |t*| of each family, then each mean's replicate value
                                     (owned; NULL: no bootstrap) */
     char *cmp_boot_note;         /* why the bootstrap intervals are absent */
+    double *cmp_z;               /* ncomparisons × K: z = U·w of each comparison, for the
+                                    own-SE replicates of bootcmp.c (NULL: none) */
     /* read back (read.c): the means and comparisons as the file gives them, with their
        names (a result read back has no design); strings in the result's `owned` */
     size_t rb_nmeans; sturdy_mean_info *rb_means;

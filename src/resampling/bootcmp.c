@@ -34,6 +34,15 @@
 #include "sturdy/dist.h"
 #include "sturdy/pcg.h"
 
+/* Does the response studentise its comparisons by their own (Games–Howell) SE? */
+static int het_family(const sturdy_response_result *resp)
+{
+    for (size_t i = 0; i < resp->ncomparisons; i++)
+        if (resp->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL)
+            return 1;
+    return 0;
+}
+
 sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                                    sturdy_result *r, char *err)
 {
@@ -50,6 +59,21 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
         }
         if (cols == 0)
             continue;
+        if (het_family(rr)) {   /* each comparison's z = U·w, once, for het_replicate */
+            size_t K = m->K;
+            if (!(rr->cmp_z = sturdy_calloc(rr->ncomparisons * K + 1, sizeof *rr->cmp_z)))
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            for (size_t i = 0; i < rr->ncomparisons; i++) {
+                const sturdy_comparison *c = &rr->comparisons[i];
+                double *z = rr->cmp_z + i * K;
+                for (size_t k = 0; c->w && k < K; k++) {
+                    double v = 0.0;
+                    for (size_t a = 0; a < m->rank; a++)
+                        v += m->U[a * K + k] * c->w[a];
+                    z[k] = v;
+                }
+            }
+        }
         size_t cnt = (size_t)run->nboot * cols;
         if (!(rr->cmp_boot = sturdy_malloc(cnt * sizeof *rr->cmp_boot)))
             return sturdy_fail(err, STURDY_EINTERNAL,
@@ -58,15 +82,6 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
             rr->cmp_boot[k] = NAN;
     }
     return STURDY_OK;
-}
-
-/* Does the response studentise its comparisons by their own (Games–Howell) SE? */
-static int het_family(const sturdy_response_result *resp)
-{
-    for (size_t i = 0; i < resp->ncomparisons; i++)
-        if (resp->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL)
-            return 1;
-    return 0;
 }
 
 /* Row b's family maxima under the wild resample with own-SE studentisation. */
@@ -103,14 +118,11 @@ static void het_replicate(const sturdy_design *d, const sturdy_model *m,
         if (!c->w || !isfinite(c->t))
             continue;
         double est = 0.0, var = 0.0;
+        const double *z = resp->cmp_z + i * K;
         for (size_t a = 0; a < rank; a++)
             est += c->w[a] * work[a];
-        for (size_t k = 0; k < K; k++) {
-            double z = 0.0;
-            for (size_t a = 0; a < rank; a++)
-                z += m->U[a * K + k] * c->w[a];
-            var += z * z * V[k];
-        }
+        for (size_t k = 0; k < K; k++)
+            var += z[k] * z[k] * V[k];
         double t2 = var > 0 ? est * est / var : (est != 0 ? INFINITY : 0.0);
         double lp = isinf(t2) ? INFINITY : -log(sturdy_f_sf(t2, 1.0, c->df));
         if (lp > row[c->family])
