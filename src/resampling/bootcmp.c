@@ -30,6 +30,7 @@
 #include <string.h>
 
 #include "resampling/bootcmp.h"
+#include "resampling/maxt.h"
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "sturdy/pcg.h"
@@ -124,9 +125,7 @@ static void het_replicate(const sturdy_design *d, const sturdy_model *m,
         for (size_t k = 0; k < K; k++)
             var += z[k] * z[k] * V[k];
         double t2 = var > 0 ? est * est / var : (est != 0 ? INFINITY : 0.0);
-        double lp = isinf(t2) ? INFINITY : -log(sturdy_f_sf(t2, 1.0, c->df));
-        if (lp > row[c->family])
-            row[c->family] = lp;
+        sturdy_maxt_fold_lp(t2, c->df, &row[c->family]);
     }
 }
 

@@ -168,7 +168,36 @@ double sturdy_maxt_t2_het(const sturdy_maxt *x, size_t q, const double *S, const
     double zero = zero_rtol * mb->vv * mb->ww;
     if (var <= zero)
         return num > zero ? INFINITY : NAN;
-    return -log(sturdy_f_sf(num / var, 1.0, mb->df));
+    return num / var;
+}
+
+double sturdy_maxt_lp(double t2, double df)
+{
+    if (isnan(t2))
+        return NAN;
+    return isinf(t2) ? INFINITY : -log(sturdy_f_sf(t2, 1.0, df));
+}
+
+/* An upper bound of sturdy_maxt_lp(t2, df) for every df: the two-sided t tail is larger
+ * than the normal one at every |t| > 0 and finite df (its distribution function rises
+ * with df for t > 0), so −ln p is at most −ln 2Q(|t|); the margin covers the rounding
+ * of both tails (each within 1e-13 relative of its value, −ln p within 1e-12). The
+ * normal tail costs a twentieth of the t tail's incomplete beta. */
+double sturdy_maxt_lp_bound(double t2)
+{
+    if (!(t2 > 0))
+        return isnan(t2) ? NAN : 1e-9;
+    double p = erfc(sqrt(0.5 * t2));
+    return p > 0 ? -log(p) * (1.0 + 1e-9) + 1e-9 : INFINITY;
+}
+
+void sturdy_maxt_fold_lp(double t2, double df, double *mx)
+{
+    if (isnan(t2) || !(sturdy_maxt_lp_bound(t2) > *mx))
+        return;                 /* NaN never wins; nor does a value bounded by the max */
+    double v = sturdy_maxt_lp(t2, df);
+    if (v > *mx)
+        *mx = v;
 }
 
 void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count)
@@ -179,7 +208,10 @@ void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64
             double mx = -1.0;
             for (size_t q = q0; q < q1; q++) {
                 double v = t2[q * nb + bb];
-                if (v > mx) mx = v;   /* NaN never wins */
+                if (x->cm[q].het)       /* on the p scale, −ln p, only where it can win */
+                    sturdy_maxt_fold_lp(v, x->cm[q].df, &mx);
+                else if (v > mx)
+                    mx = v;   /* NaN never wins */
             }
             for (size_t q = q0; q < q1; q++)
                 if (mx >= x->cm[q].t2obs * (1.0 - STURDY_TIE_RTOL))

@@ -57,15 +57,25 @@ void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, siz
 double sturdy_maxt_t2(const sturdy_maxt *x, size_t q, double num, double den,
                       double zero_rtol);
 
-/* −ln p of a het comparison q from the scaled group sums S (K) and scaled group sums of
+/* t*² of a het comparison q from the scaled group sums S (K) and scaled group sums of
  * squares Q (K) of its rearranged vector: t*² = (zᵀs*)² ÷ Σ_g z_g² s*_g², with s*_g² the
- * within-cell variance (n_g ≥ 2), p its two-sided t tail at the comparison's Welch df;
- * +∞ / NaN as sturdy_maxt_t2 when no variance is left. */
+ * within-cell variance (n_g ≥ 2); +∞ / NaN as sturdy_maxt_t2 when no variance is left.
+ * sturdy_maxt_count takes it to the p scale (sturdy_maxt_lp at the Welch df). */
 double sturdy_maxt_t2_het(const sturdy_maxt *x, size_t q, const double *S, const double *Q,
                           const double *sqrt_count, size_t K, double num, double zero_rtol);
 
+/* −ln p of t² on the p scale of het comparisons: p the two-sided t(df) tail (+∞ for an
+ * infinite t², NaN for NaN). */
+double sturdy_maxt_lp(double t2, double df);
+/* A cheap upper bound of sturdy_maxt_lp(t2, df) over every df (the normal tail's). */
+double sturdy_maxt_lp_bound(double t2);
+/* *mx = max(*mx, sturdy_maxt_lp(t2, df)), evaluating the t tail only when the bound says
+ * it can exceed *mx: the same maximum as evaluating every value. */
+void sturdy_maxt_fold_lp(double t2, double df, double *mx);
+
 /* Count, per comparison, the rearrangements whose largest t*² over its family is at
- * least its observed t² (tie rule of the engine); t2 is C × nb. */
+ * least its observed t² (tie rule of the engine); t2 is C × nb, raw t*² for het
+ * members too (taken to −ln p here). */
 void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count);
 
 #endif
