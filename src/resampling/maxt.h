@@ -32,6 +32,15 @@ typedef struct {
     double *Qfix;                /* C × K (sign flipping, set by permute.c): the scaled
                                     group sums of squares, which flips leave unchanged;
                                     Csq is then 0 */
+    /* The rearranged vectors in row form (sturdy_maxt_rows): comparison q's value at
+     * position k is E[k·nresp + resp(q)] + A[g·Cp + q], g the position's own group, so a
+     * rearrangement reads one value per response and row and a K × Cp table that stays in
+     * cache, instead of an n × C matrix. */
+    size_t Cp;                   /* C rounded up to a multiple of 4 (A's and T's rows) */
+    size_t nresp;
+    size_t *resp_begin;          /* nresp + 1: comparisons of each response */
+    double *E;                   /* n × nresp, positions in block order */
+    double *A;                   /* K × Cp: the per-cell part (zero beyond C) */
 } sturdy_maxt;
 
 /* The comparisons of every response with a pooled t; the others get the note saying why
@@ -46,6 +55,21 @@ void sturdy_maxt_free(sturdy_maxt *x);
 void sturdy_maxt_vector(const sturdy_maxt *x, size_t q, const sturdy_design *d,
                         const sturdy_model *m, const sturdy_result *r, sturdy_method method,
                         double *v);
+
+/* Fill E, A and resp_begin for the rearranger's positions (blk_rows: the row at each
+ * position, lab0: its group), every comparison's ‖v‖² (vv) and, for sign flips of het
+ * comparisons, Qfix: the vectors of sturdy_maxt_vector, the same doubles. */
+sturdy_status sturdy_maxt_rows(sturdy_maxt *x, const sturdy_design *d, const sturdy_model *m,
+                               const sturdy_result *r, sturdy_method method,
+                               const size_t *blk_rows, const uint32_t *lab0, int flip,
+                               char *err);
+
+/* Add every comparison's rearranged values to T (K × Cp, by the group each position now
+ * carries: lab[k]) and, when T2 is given, their squares; with sign (flips), s_k times
+ * the value. In position order, as the terms' gather. */
+void sturdy_maxt_gather(const sturdy_maxt *x, size_t n, const uint32_t *lab,
+                        const uint32_t *lab0, const signed char *sign, double *T,
+                        double *T2);
 
 /* (zᵀs*)² of comparison q for nb rearrangements' group sums S (K × nb) into num. */
 void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, size_t K,

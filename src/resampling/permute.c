@@ -111,6 +111,8 @@ typedef struct {
     uint64_t *cexceed;   /* C: max-T counts of the comparisons */
     uint64_t *hist;      /* M × STURDY_FHIST_BINS: F* on the fixed bins */
     double *t2;          /* C × nb: t*² of the comparisons */
+    double *T, *T2;      /* K × Cp: the comparisons' group sums (and of squares) of one
+                            rearrangement (maxt.c) */
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -121,6 +123,7 @@ static void work_free(perm_work *w)
     sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
     sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
+    sturdy_free(w->T); sturdy_free(w->T2);
 }
 
 /* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
@@ -131,9 +134,11 @@ static double work_bytes(const perm_ctx *c)
     for (size_t j = 0; j < c->M; j++)
         if ((double)c->mem[j].df > maxdf)
             maxdf = (double)c->mem[j].df;
+    if (c->maxt.Csq)
+        MC += (double)c->maxt.Csq;
     return n * 9.0 + 8.0 * (K * (double)c->Mp + MC * K * nb + maxdf * nb + 2.0 * MC * nb +
                             2.0 * M + (double)c->maxt.C * (nb + 1.0) +
-                            M * STURDY_FHIST_BINS + 8.0);
+                            2.0 * K * (double)c->maxt.Cp + M * STURDY_FHIST_BINS + 8.0);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -157,8 +162,10 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->cexceed = sturdy_calloc(c->maxt.C + 1, sizeof *w->cexceed);
     w->t2 = sturdy_malloc((c->maxt.C * nb + 1) * sizeof *w->t2);
     w->hist = sturdy_calloc(M * STURDY_FHIST_BINS + 1, sizeof *w->hist);
+    w->T = sturdy_calloc(K * c->maxt.Cp + 1, sizeof *w->T);
+    w->T2 = sturdy_calloc(c->maxt.Csq ? K * c->maxt.Cp : 1, sizeof *w->T2);
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
-           w->exceed && w->fwer && w->cexceed && w->t2 && w->hist;
+           w->exceed && w->fwer && w->cexceed && w->t2 && w->hist && w->T && w->T2;
 }
 
 /* Is F* = (num/df)/(den/df_err) at least the threshold that `c` encodes (num ≥ c·den)?
@@ -175,7 +182,8 @@ static inline int at_least(double num, double den, double c, double vv)
  * w->S[(j·nb + bb)·K + g]. One pass over the rows per rearrangement serves all members. */
 static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
 {
-    size_t n = c->d->n, K = c->m->K, M = c->M + c->maxt.C + c->maxt.Csq, Mp = c->Mp;
+    size_t n = c->d->n, K = c->m->K, M = c->M, Mp = c->Mp;
+    size_t C = c->maxt.C, Cp = c->maxt.Cp, Csq = c->maxt.Csq;
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -205,12 +213,23 @@ static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
                 }
             }
         }
+        if (C)   /* the comparisons' vectors, from their row form */
+            sturdy_maxt_gather(&c->maxt, n, lab, c->ra.lab0, c->flip ? w->sign : NULL,
+                               w->T, Csq ? w->T2 : NULL);
         for (size_t g = 0; g < K; g++) {
             double inv = 1.0 / c->m->sqrt_count[g];
             for (size_t j = 0; j < M; j++)
                 w->S[(j * nb + bb) * K + g] = tmp[g * Mp + j] * inv;
             for (size_t j = 0; j < Mp; j++)
                 tmp[g * Mp + j] = 0.0;
+            for (size_t q = 0; q < C; q++)
+                w->S[((M + q) * nb + bb) * K + g] = w->T[g * Cp + q] * inv;
+            for (size_t q = 0; q < Csq; q++)
+                w->S[((M + C + q) * nb + bb) * K + g] = w->T2[g * Cp + q] * inv;
+            for (size_t q = 0; C && q < Cp; q++)
+                w->T[g * Cp + q] = 0.0;
+            for (size_t q = 0; Csq && q < Cp; q++)
+                w->T2[g * Cp + q] = 0.0;
         }
     }
 }
@@ -389,13 +408,12 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     size_t M = c->M;
     if (M + c->maxt.C == 0)
         return STURDY_OK;
-    if (c->flip && c->maxt.Csq) {   /* flips keep each row's square: no columns needed */
-        c->maxt.Csq = 0;
-        if (!(c->maxt.Qfix = sturdy_calloc(c->maxt.C * K + 1, sizeof *c->maxt.Qfix)))
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    c->Mp = (M + c->maxt.C + c->maxt.Csq + 3) & ~(size_t)3;
+    c->Mp = (M + 3) & ~(size_t)3;
     if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, run->exact, run->opts.seed, err)))
+        return st;
+    if (c->maxt.C &&
+        (st = sturdy_maxt_rows(&c->maxt, d, m, r, run->opts.method, c->ra.blk_rows,
+                               c->ra.lab0, c->flip, err)))
         return st;
     c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
     c->thr = sturdy_malloc(M * M * sizeof *c->thr + 1);
@@ -432,23 +450,6 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         }
         mb->vv = vv;
     }
-    /* the comparisons' vectors, in the same block order of rows */
-    for (size_t q = 0; q < c->maxt.C; q++) {
-        sturdy_maxt_vector(&c->maxt, q, d, m, r, run->opts.method, v);
-        double vv = 0.0;
-        for (size_t k = 0; k < n; k++) {
-            double x = v[c->ra.blk_rows[k]];
-            c->V[k * c->Mp + M + q] = x;
-            if (c->maxt.Csq)   /* its squares: the cell variances of het comparisons */
-                c->V[k * c->Mp + M + c->maxt.C + q] = x * x;
-            if (c->maxt.Qfix)
-                c->maxt.Qfix[q * K + c->ra.lab0[k]] += x * x;
-            vv += x * x;
-        }
-        c->maxt.cm[q].vv = vv;
-        for (size_t g = 0; c->maxt.Qfix && g < K; g++)
-            c->maxt.Qfix[q * K + g] /= m->sqrt_count[g];
-    }
     sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
     for (size_t t = 0; t < M; t++)
@@ -463,7 +464,8 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
                                 (1.0 - STURDY_TIE_RTOL);
         }
-    size_t nb = PERM_BLOCK_BYTES / (c->Mp * K * sizeof(double) + 1);
+    size_t nb = PERM_BLOCK_BYTES /
+                ((c->Mp + c->maxt.C + c->maxt.Csq) * K * sizeof(double) + 1);
     c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
     return STURDY_OK;
 }
