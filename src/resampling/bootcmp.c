@@ -24,7 +24,15 @@
  * t_{df_c} quantile at two-sided level e^−L, so the band is estimate ± mult_c·SE_GH
  * (single-step min-p inverted; Westfall & Young 1993, §2.6). A pooled-SE band
  * under a residual resample spreads one pooled error law over every cell, which
- * under-covers the differences of the noisy cells (docs/compare_study.md). */
+ * under-covers the differences of the noisy cells (docs/compare_study.md).
+ *
+ * Adjusted p. The same replicate maxima give each comparison a single-step max-T p,
+ * p_boot_adjusted = (1 + #{b : M*_b ≥ m}) / (B + 1), m the observed statistic on the
+ * maxima's scale (|t| pooled, −ln p at its Welch df under Games–Howell) and B the
+ * family's finite replicates: the band's inverse up to the replicates' discreteness.
+ * The replicates are centred on the observed estimates, so this needs no null model;
+ * under unequal spreads it is the resampling adjusted p to quote, as the permutation
+ * max-T (maxt.c) moves rows between cells of unequal spread and is only approximate. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
