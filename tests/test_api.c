@@ -324,6 +324,35 @@ static sturdy_table *unequal_table(void)
     return t;
 }
 
+/* The column header line of the text report's comparisons holds `col`, and the text
+ * `phrase` (NULL: no check); the header line is the one with "difference" and
+ * "estimate". */
+static int report_quotes(const sturdy_result *r, const char *col, const char *phrase)
+{
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    int ok = sturdy_report_text(r, NULL, &b) == STURDY_OK && b.data;
+    const char *at = ok ? strstr(b.data, "difference ") : NULL;
+    const char *end = at ? strchr(at, '\n') : NULL;
+    ok = at && end && strstr(at, "estimate") && strstr(at, "estimate") < end;
+    if (ok) {
+        const char *c = strstr(at, col);
+        ok = c && c < end;
+    }
+    if (ok && phrase) {   /* the phrase may be wrapped: whitespace runs as one space */
+        size_t k = 0;
+        for (size_t i = 0; i < b.len; i++) {
+            int sp = b.data[i] == ' ' || b.data[i] == '\n';
+            if (!sp || (k && b.data[k - 1] != ' '))
+                b.data[k++] = sp ? ' ' : b.data[i];
+        }
+        b.data[k] = '\0';
+        ok = strstr(b.data, phrase) != NULL;
+    }
+    sturdy_buf_free(&b);
+    return ok;
+}
+
 /* Runs t under o at other levels: the bootstrap max-T p is the same at each (the same
  * replicates) and inverts each level's band. The levels include, for each p of r below
  * 0.5, one just above 1 − p (where that band must exclude 0) and one 2.5/(B + 1) below it
@@ -365,6 +394,8 @@ static void test_boot_adjusted(const sturdy_table *t, const sturdy_result *a)
     o.bootstrap = 199;
     o.compare_mode = STURDY_COMPARE_ALL;
     sturdy_result *r = run(t, &o, 2, STURDY_OK);
+    CHECK("text report, pooled families: the permutation max-T p is quoted (p max-T)",
+          r && report_quotes(r, "p max-T", NULL) && !report_quotes(r, "p boot", NULL));
     if (r) {
         boot_inverts("pooled families, B = 199", r, 199, 0.05, &excl, &incl);
         inverts_at_levels("pooled families (|t|)", t, o, r, &excl, &incl);
@@ -388,6 +419,10 @@ static void test_boot_adjusted(const sturdy_table *t, const sturdy_result *a)
     r = u ? run(u, &o, 3, STURDY_OK) : NULL;
     CHECK("unequal spreads: Games–Howell families",
           r && sturdy_result_comparison(r, 0, 0, &c) && !strcmp(c.adjustment, "games-howell"));
+    CHECK("text report, Games–Howell families: the bootstrap max-T p is quoted (p boot), "
+          "saying why", r && report_quotes(r, "p boot", "permutation max-T is only "
+                                           "approximate when spreads differ") &&
+          !report_quotes(r, "p max-T", NULL));
     if (r) {
         boot_inverts("Games–Howell families, B = 499", r, 499, 0.05, &excl, &incl);
         inverts_at_levels("Games–Howell families (p scale)", u, o, r, &excl, &incl);
@@ -400,6 +435,12 @@ static void test_boot_adjusted(const sturdy_table *t, const sturdy_result *a)
         sturdy_result_free(back);
         free(text);
     }
+    sturdy_result_free(r);
+    o.bootstrap = 0;
+    r = u ? run(u, &o, 1, STURDY_OK) : NULL;
+    CHECK("text report, Games–Howell families without a bootstrap: p max-T, said to be "
+          "approximate", r && report_quotes(r, "p max-T", "only approximate when spreads "
+                                            "differ (run a bootstrap"));
     sturdy_result_free(r);
     sturdy_table_free(u);
     char line[128];
