@@ -323,6 +323,8 @@ typedef struct {
     double sim_lo, sim_hi, p_adjusted;  /* classical simultaneous interval, adjusted p */
     double p_perm_adjusted;      /* single-step max-T over the family (NaN: none) */
     double boot_sim_lo, boot_sim_hi;    /* max-|t| bootstrap simultaneous interval */
+    double p_boot_adjusted;      /* single-step max-T from the same bootstrap replicates:
+                                    the band's inverse (NaN: none) */
     int reported;                /* the term is among those the report shows */
     const char *note, *perm_note;
 } sturdy_comparison_info;

@@ -181,7 +181,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     cp->estimate = cp->se = cp->df = cp->t = cp->p = cp->g = cp->p_adjusted = NAN;
     cp->t_pooled = cp->se_pooled = cp->range_k = NAN;
     cp->ci.lo = cp->ci.hi = cp->ci_simultaneous.lo = cp->ci_simultaneous.hi = NAN;
-    cp->p_perm_adjusted = NAN;
+    cp->p_perm_adjusted = cp->p_boot_adjusted = NAN;
     cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
     cp->method = c->gh ? STURDY_ADJ_GAMES_HOWELL : STURDY_ADJ_TUKEY_KRAMER;
     cp->lambda = NAN;

@@ -210,6 +210,8 @@ typedef struct {
     double p_adjusted;
     double p_perm_adjusted;      /* single-step max-T (NaN: not computed, perm_note) */
     sturdy_pair ci_boot_simultaneous; /* max-|t| bootstrap (NaN: not computed) */
+    double p_boot_adjusted;      /* single-step max-T from the band's replicate maxima
+                                    (bootcmp.c; NaN: not computed) */
     char *note;                  /* why the numbers are absent, else NULL */
     char *perm_note;             /* why the resampling family is absent */
     /* max-T raw material (permute.c) */

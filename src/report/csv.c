@@ -242,7 +242,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
     sturdy_buf_puts(out, "kind,response,term,levels,factor,level,versus,within,estimate,se,df,"
                          "t,p,hedges_g,ci_lo,ci_hi,adjustment,ci_simultaneous_lo,"
-                         "ci_simultaneous_hi,p_adjusted,p_perm_adjusted,"
+                         "ci_simultaneous_hi,p_adjusted,p_perm_adjusted,p_boot_adjusted,"
                          "ci_bootstrap_lo,ci_bootstrap_hi,reported,note\n");
     sturdy_buf s;
     sturdy_buf_init(&s);
@@ -266,7 +266,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
             sturdy_buf_puts(out, ",,,");
             csv_num(out, m.ci_lo);
             csv_num(out, m.ci_hi);
-            sturdy_buf_puts(out, ",,,,,");
+            sturdy_buf_puts(out, ",,,,,,");
             csv_num(out, r->resp[i].means[k].ci_boot.lo);
             csv_num(out, r->resp[i].means[k].ci_boot.hi);
             sturdy_buf_puts(out, ",,");
@@ -303,6 +303,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
             csv_num(out, c.sim_hi);
             csv_num(out, c.p_adjusted);
             csv_num(out, c.p_perm_adjusted);
+            csv_num(out, c.p_boot_adjusted);
             csv_num(out, c.boot_sim_lo);
             csv_num(out, c.boot_sim_hi);
             sturdy_buf_puts(out, c.reported ? ",true," : ",false,");

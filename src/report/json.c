@@ -622,6 +622,7 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_pair(w, "ci_simultaneous", c->ci_simultaneous);
         jw_num(w, "p_adjusted", c->p_adjusted);
         jw_num(w, "p_perm_adjusted", c->p_perm_adjusted);
+        jw_num(w, "p_boot_adjusted", c->p_boot_adjusted);
         jw_pair(w, "ci_bootstrap_simultaneous", c->ci_boot_simultaneous);
         jw_str(w, "note", c->note);
         jw_str(w, "perm_note", c->perm_note);

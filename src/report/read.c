@@ -490,6 +490,9 @@ static int read_compare(sturdy_result *r, const jv *rj, sturdy_response_result *
         x->sim_hi = sim.hi;
         x->boot_sim_lo = boot.lo;
         x->boot_sim_hi = boot.hi;
+        x->p_boot_adjusted = NAN;   /* optional: absent in files written before it was added */
+        if (jv_get(c, "p_boot_adjusted") && !get_num(c, "p_boot_adjusted", &x->p_boot_adjusted))
+            return 0;
         rr->rb_ncomparisons++;
     }
     return 1;
