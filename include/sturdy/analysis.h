@@ -127,6 +127,10 @@ enum {
  * library), so every slice counts on the same edges and slices add up exactly. */
 #define STURDY_FHIST_BINS 41
 
+/* --tail-fit: F* values each term keeps for its tail fit, the 250 largest and the next
+ * one below them (Knijnenburg et al. 2009 start at N_exc = 250 exceedances). */
+#define STURDY_TAIL_KEEP 251
+
 /* JSON names of the effect sizes, indexed as above. */
 extern const char *const sturdy_es_names[STURDY_NES];
 
@@ -366,8 +370,8 @@ typedef struct {
                                     (may be NULL: 0) */
     const uint64_t *f_hist;      /* nresp × nterms × STURDY_FHIST_BINS: the slice's F* on
                                     the fixed bins (may be NULL: none carried) */
-    const double *f_top;         /* --tail-fit: nresp × nterms × 251 (STURDY_TAIL_KEEP in
-                                    the library): each term's largest F* of the slice,
+    const double *f_top;         /* --tail-fit: nresp × nterms × STURDY_TAIL_KEEP: each
+                                    term's largest F* of the slice,
                                     n_top[k] of them, in any order (+∞ allowed; NULL:
                                     none carried) */
     const size_t *n_top;         /* nresp × nterms (with f_top) */

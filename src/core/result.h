@@ -6,10 +6,6 @@
 #include "sturdy/analysis.h"
 #include "sturdy/advanced.h"
 
-/* F* values kept per term for the tail fit: the 250 largest and the next one below
- * them (Knijnenburg et al. 2009 start at N_exc = 250 exceedances). */
-#define STURDY_TAIL_KEEP 251
-
 /* A number that may be absent: NaN in the double fields below means "null", and the
  * matching *_note (owned string) says why. */
 typedef struct { double lo, hi; } sturdy_pair;
