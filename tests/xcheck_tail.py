@@ -23,7 +23,15 @@ resampling/tail.c; issue 17, item 4; Knijnenburg, Wessels, Reinders & Shmulevich
    5e-4).
 4. Determinism: identical JSON for 1 and 2 threads, and for 3 shards merged in another
    order (the largest F* are a multiset, merged order-free); a part written without
-   --tail-fit carries no f_top. (tests/xcheck_shards.sh also runs a --tail-fit case.)
+   --tail-fit carries no f_top. (tests/xcheck_shards.sh and xcheck_mpi.sh also run a
+   --tail-fit case.)
+5. The fall-backs, through probe_tail estimate (the engine's heap and merge, then the
+   procedure): each reason on values built to reach it — fewer than 31 values
+   (few_values), 10 or more exceedances (not_needed), an infinite F* (infinite_values),
+   F* rounded to halves so that ties sit at the thresholds (gof_rejected), uniform values
+   (shape ξ̂ ≈ −1: shape_invalid), a GPD(−0.3) sample with F beyond its fitted end
+   (beyond_support); and a known tail: 999 draws of F(2, 20) give p_tail for F = 30
+   within a factor 3 of scipy.stats.f.sf(30, 2, 20) = 9.5e-7.
 """
 import json
 import math
@@ -200,6 +208,32 @@ def main():
            "determinism: 3 shards merged in another order = the single run (bytes)")
     report('"p_tail": null' not in b1.decode().split('"terms"')[1].split('"term": "site"')[0],
            "determinism: the compared run has a fitted p_tail for dose")
+    # 5. fall-backs and a known tail
+    def est(vals, F, B, ex):
+        out = subprocess.run([PROBE, "estimate", repr(F), str(B), str(ex)],
+                             input="\n".join(repr(float(v)) for v in vals),
+                             capture_output=True, text=True, timeout=120).stdout.split()
+        return out[0], float(out[1])
+    r5 = np.random.default_rng(5)
+    x = stats.f.rvs(2, 20, size=999, random_state=r5)
+    st, p = est(x, 30.0, 999, 0)
+    ref = stats.f.sf(30, 2, 20)
+    report(st == "fitted" and ref / 3 < p < ref * 3,
+           "known tail: p_tail %.3g for F = 30 from 999 F(2,20) draws vs %.3g "
+           "[scipy.stats.f.sf; within a factor 3]" % (p, ref))
+    for label, vals, F, B, ex, want in (
+            ("25 values", x[:25], 30.0, 25, 0, "few_values"),
+            ("40 exceedances", x, 3.0, 999, 40, "not_needed"),
+            ("an infinite F*", list(x) + [math.inf], 30.0, 1000, 1, "infinite_values"),
+            ("F* rounded to halves", np.round(x * 2) / 2, 30.0, 999, 0, "gof_rejected"),
+            ("uniform values", r5.uniform(0, 1, 999), 1.5, 999, 0, "shape_invalid"),
+            ("GPD(-0.3), F beyond its end",
+             stats.genpareto.rvs(-0.3, size=999, random_state=r5), 10.0, 999, 0,
+             "beyond_support")):
+        st, p = est(vals, F, B, ex)
+        report(st == want and math.isnan(p), "fall-back on %s: %s (want %s), p_tail %s"
+               % (label, st, want, p))
+
     sturdy(*base, "-B", "99", "--shard", "1/2", "-o", "plain.json")
     report('"f_top"' not in open(os.path.join(TMP, "plain.json")).read(),
            "a part written without --tail-fit carries no f_top")
