@@ -2,6 +2,9 @@
  *   probe_tail fit      < z values   → "xi sigma loglik ad ad_p" (%.17g; exit 1: no fit)
  *   probe_tail estimate F B EXCEED < F* values (any order)
  *                                     → "status p n_exc threshold xi sigma ad ad_p"
+ *   probe_tail top K < values        → the largest STURDY_TAIL_KEEP, descending, one a
+ *                                     line: value i goes to heap i mod K (K "threads"),
+ *                                     the K heaps then merged in reverse order
  * The estimate keeps the largest STURDY_TAIL_KEEP values with the engine's heap and
  * merge (sturdy_tail_push, sturdy_tail_merge), as a run does. */
 #include <stdio.h>
@@ -25,6 +28,21 @@ int main(int argc, char **argv)
         double ad = sturdy_gpd_ad(v, n, xi, sg);
         double adp = n <= STURDY_TAIL_KEEP ? sturdy_gpd_ad_pvalue(n, xi, sg, ad, work) : -1;
         printf("%.17g %.17g %.17g %.17g %.17g\n", xi, sg, ll, ad, adp);
+        return 0;
+    }
+    if (argc == 3 && !strcmp(argv[1], "top")) {
+        enum { KMAX = 8 };
+        static double heaps[KMAX][STURDY_TAIL_KEEP];
+        size_t nh[KMAX] = { 0 }, nt = 0, k = strtoul(argv[2], NULL, 10);
+        double top[STURDY_TAIL_KEEP];
+        if (k < 1 || k > KMAX)
+            return 2;
+        for (size_t i = 0; i < n; i++)
+            sturdy_tail_push(heaps[i % k], &nh[i % k], v[i]);
+        for (size_t q = k; q-- > 0;)
+            sturdy_tail_merge(top, &nt, heaps[q], nh[q]);
+        for (size_t i = 0; i < nt; i++)
+            printf("%.17g\n", top[i]);
         return 0;
     }
     if (argc == 5 && !strcmp(argv[1], "estimate")) {

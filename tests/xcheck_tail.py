@@ -21,7 +21,8 @@ resampling/tail.c; issue 17, item 4; Knijnenburg, Wessels, Reinders & Shmulevich
    of 2 of the large-B p, and at least 15 of 20 within a factor of 10 (measured: 17 of
    20; the extrapolation 100-fold beyond 1/B is noisy: single runs ranged from 4e-10 to
    5e-4).
-4. Determinism: identical JSON for 1 and 2 threads, and for 3 shards merged in another
+4. Determinism: the min-heaps of tail.c keep exactly Python's sorted()[:251] of a set,
+   whatever its split over 1, 3 or 8 heaps (probe_tail top); identical JSON for 1 and 2 threads, and for 3 shards merged in another
    order (the largest F* are a multiset, merged order-free); a part written without
    --tail-fit carries no f_top. (tests/xcheck_shards.sh and xcheck_mpi.sh also run a
    --tail-fit case.)
@@ -208,6 +209,21 @@ def main():
            "determinism: 3 shards merged in another order = the single run (bytes)")
     report('"p_tail": null' not in b1.decode().split('"terms"')[1].split('"term": "site"')[0],
            "determinism: the compared run has a fitted p_tail for dose")
+    # the engine's heaps: the largest 251 exactly, whatever the split
+    r4 = np.random.default_rng(4)
+    for label, vals in (("5000 normal values", r4.standard_normal(5000)),
+                        ("3000 values with ties", np.round(r4.exponential(size=3000), 1)),
+                        ("100 values", r4.standard_normal(100))):
+        want = sorted(vals, reverse=True)[:251]
+        same = True
+        for k in (1, 3, 8):
+            out = subprocess.run([PROBE, "top", str(k)],
+                                 input="\n".join(repr(float(v)) for v in vals),
+                                 capture_output=True, text=True, timeout=60).stdout.split()
+            same &= [float(v) for v in out] == [float(v) for v in want]
+        report(same, "heaps: %s, split over 1, 3 and 8 heaps: the 251 largest exactly "
+               "[sorted() in Python]" % label)
+
     # 5. fall-backs and a known tail
     def est(vals, F, B, ex):
         out = subprocess.run([PROBE, "estimate", repr(F), str(B), str(ex)],
