@@ -98,6 +98,28 @@ typedef struct {
     char *note;                  /* why stat or p_perm is absent, else NULL (owned) */
 } sturdy_rs_result;
 
+/* The generalised Pareto tail of a term's F* (tail.c, --tail-fit): how the fit went. */
+typedef enum {
+    STURDY_TAIL_OFF = 0,         /* not asked for, or no permutation p */
+    STURDY_TAIL_FITTED,          /* p_tail computed */
+    STURDY_TAIL_NOT_NEEDED,      /* STURDY_TAIL_MAX_EXCEED or more exceedances */
+    STURDY_TAIL_EXACT,           /* rearrangements enumerated: p_perm is exact */
+    STURDY_TAIL_FEW,             /* fewer than STURDY_TAIL_NEXC_MIN + 1 F* values */
+    STURDY_TAIL_INFINITE,        /* an infinite F* among the largest */
+    STURDY_TAIL_GOF_REJECTED,    /* the Anderson–Darling test rejected at every N_exc */
+    STURDY_TAIL_SHAPE_INVALID,   /* no regular ML estimate (ξ ≤ −1/2 or none) */
+    STURDY_TAIL_BEYOND_SUPPORT   /* F beyond the fitted tail's upper end (ξ < 0) */
+} sturdy_tail_status;
+
+typedef struct {
+    int status;                  /* sturdy_tail_status */
+    size_t n_exc;                /* exceedances fitted (the accepted fit, or the last tried) */
+    size_t n_tried;              /* N_exc values tried */
+    double threshold;            /* t: midway between the N_exc-th and (N_exc+1)-th F* */
+    double xi, sigma;            /* ML shape and scale (NaN: none) */
+    double ad, ad_p;             /* Anderson–Darling A² and its bootstrap p (NaN: none) */
+} sturdy_tail_fit;
+
 typedef struct {
     char *label;                 /* "A×B" */
     sturdy_term_kind kind;
@@ -115,6 +137,12 @@ typedef struct {
     char *perm_note;
     uint64_t f_hist[STURDY_FHIST_BINS]; /* F* of the rearrangements on the fixed bins of
                                     sturdy_fhist_top (classical/fhist.c) */
+    /* --tail-fit (tail.c): the largest F* of the rearrangements so far, descending, and
+       the generalised Pareto tail p fitted to them (NaN: none, see tail.status) */
+    size_t n_top;
+    double f_top[STURDY_TAIL_KEEP];
+    double p_tail;
+    sturdy_tail_fit tail;
     /* bootstrap */
     double *boot;                /* nboot × STURDY_BOOT_COLS row-major replicate rows
                                     (analysis.h: the effect sizes, vᵀu*, ‖u*‖², SSE*, κ*),
@@ -293,6 +321,8 @@ struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
     uint64_t *counts;            /* STURDY_PART_COUNTS × nresp × nterms */
     uint64_t *f_hist;            /* nresp × nterms × STURDY_FHIST_BINS */
+    double *f_top;               /* nresp × nterms × STURDY_TAIL_KEEP (NULL: none) */
+    size_t *n_top;               /* nresp × nterms */
     uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
     double *cmp_boot;            /* the comparisons' replicate values (NULL: none) */
     double *boot;
@@ -306,6 +336,9 @@ struct sturdy_part {
 /* A zeroed part for nresp × nterms counts and nb replicates per term (boot NaN). */
 sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy_part **out,
                                 char *err);
+
+/* Give a part room for the largest F* of each term (--tail-fit; zero of each). */
+sturdy_status sturdy_part_alloc_top(sturdy_part *p, char *err);
 
 /* FNV-1a (64 bits) of the part's envelope numbers and raw material: counts, replicate
  * values (non-finite ones as one NaN, −0 as 0) and the comparisons' counts and values.

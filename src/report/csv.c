@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "core/result.h"
+#include "resampling/tail.h"
 #include "sturdy/report.h"
 
 /* A text field, quoted (RFC 4180: quotes doubled) when it holds the delimiter, a quote,
@@ -50,7 +51,7 @@ static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
     sturdy_buf_free(&joined);
 }
 
-static void write_header(sturdy_buf *b);
+static void write_header(sturdy_buf *b, int tail_fit);
 
 /* Columns of the header after response, term, df, ss, ms: each a comma, never a line
  * break, so counting them from the header keeps the residual rows in step with it.
@@ -59,7 +60,7 @@ static size_t header_tail(sturdy_buf *out)
 {
     sturdy_buf h;
     sturdy_buf_init(&h);
-    write_header(&h);
+    write_header(&h, 0);
     if (h.failed) out->failed = 1;
     size_t commas = 0;
     for (size_t i = 0; i < h.len; i++) commas += h.data[i] == ',';
@@ -70,7 +71,7 @@ static size_t header_tail(sturdy_buf *out)
 /* "residual" or "total" row: df, ss, ms (empty when NaN); `note` in the note column. */
 static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
                             const char *what, double df, double ss, double ms,
-                            const char *note, size_t tail)
+                            const char *note, size_t tail, int tail_fit)
 {
     csv_text(b, rr->name);
     sturdy_buf_put(b, ",", 1);
@@ -83,10 +84,15 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
         /* 12 unequal-variance and 11 single-row and resistant columns follow the note */
         if (i + 1 == tail - 23 && note) csv_text(b, note);
     }
+    if (tail_fit) sturdy_buf_puts(b, ",,,,,,,,");
     sturdy_buf_put(b, "\n", 1);
 }
 
-static void write_header(sturdy_buf *b)
+/* With --tail-fit only, after the others: the GPD tail's p and its fit (tail.c). */
+#define CSV_TAIL_COLUMNS ",p_tail,tail_status,tail_n_exc,tail_threshold,tail_shape," \
+                         "tail_scale,tail_ad,tail_ad_p"
+
+static void write_header(sturdy_buf *b, int tail_fit)
 {
     sturdy_buf_puts(b, "response,term,df,ss,ms,f,p,p_perm,p_perm_lo,p_perm_hi,"
                        "p_perm_fwer,p_perm_holm");
@@ -104,7 +110,22 @@ static void write_header(sturdy_buf *b)
                        "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p");
     sturdy_buf_puts(b, ",rows_to_change,sens_direction,sens_rows,sens_lines,p_without,"
                        "p_perm_without,rs_statistic,rs_p_perm,rs_p_perm_lo,rs_p_perm_hi,"
-                       "rs_scale\n");
+                       "rs_scale");
+    sturdy_buf_puts(b, tail_fit ? CSV_TAIL_COLUMNS "\n" : "\n");
+}
+
+static void write_tail(sturdy_buf *b, const sturdy_term_result *t)
+{
+    const sturdy_tail_fit *f = &t->tail;
+    csv_num(b, t->p_tail);
+    sturdy_buf_put(b, ",", 1);
+    if (f->status != STURDY_TAIL_OFF) sturdy_buf_puts(b, sturdy_tail_status_name(f->status));
+    csv_num(b, f->n_tried ? (double)f->n_exc : NAN);
+    csv_num(b, f->threshold);
+    csv_num(b, f->xi);
+    csv_num(b, f->sigma);
+    csv_num(b, f->ad);
+    csv_num(b, f->ad_p);
 }
 
 /* Single rows and the resistant test: rows_to_change, its direction, the rows and their
@@ -207,6 +228,7 @@ static void write_row(sturdy_buf *b, const sturdy_result *r, const sturdy_respon
     for (size_t i = 0; i < sizeof uv / sizeof *uv; i++)
         csv_num(b, uv[i]);
     write_sens_rs(b, r, t);
+    if (r->opts.tail_fit) write_tail(b, t);
     sturdy_buf_put(b, "\n", 1);
 }
 
@@ -218,15 +240,15 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
         return STURDY_EUSAGE;   /* no design to describe: the file read is the report */
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
-    write_header(out);
+    write_header(out, r->opts.tail_fit);
     size_t tail = header_tail(out);
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
         for (size_t k = 0; k < rr->nterms; k++)
             write_row(out, r, rr, &rr->terms[k], o->ascii_terms);
         write_error_row(out, rr, "residual", rr->df_error, rr->ss_error, rr->ms_error,
-                        rr->error_note, tail);
-        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail);
+                        rr->error_note, tail, r->opts.tail_fit);
+        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail, r->opts.tail_fit);
     }
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;
 }

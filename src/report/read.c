@@ -194,7 +194,8 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
              get_u64(s, "seed", &o->seed) && get_num(s, "conf", &o->conf) &&
              get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
              get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread) &&
-             (!jv_get(s, "resistant") || get_bool(s, "resistant", &o->resistant));
+             (!jv_get(s, "resistant") || get_bool(s, "resistant", &o->resistant)) &&
+             (!jv_get(s, "tail_fit") || get_bool(s, "tail_fit", &o->tail_fit));
     int m = method_of(method), b = boot_scheme_of(scheme), sp = spread_scheme_of(spread);
     sturdy_free(method); sturdy_free(scheme); sturdy_free(spread);
     if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
@@ -372,6 +373,8 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              read_uv(jv_get(t, "unequal_variance"), &tr->uv) &&
              read_sens(jv_get(t, "sensitivity"), &tr->sens) &&
              read_rs(jv_get(t, "resistant"), &tr->rs);
+    tr->p_tail = NAN;                /* present with --tail-fit only */
+    ok = ok && (!jv_get(t, "p_tail") || get_num(t, "p_tail", &tr->p_tail));
     int v = verdict_of(verdict);
     sturdy_free(verdict);
     if (!ok || v < 0)
@@ -675,6 +678,26 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
                                         "than counts within the part's rearrangements");
         hsum += v;
         p->f_hist[j * STURDY_FHIST_BINS + q] = v;
+    }
+    /* the largest F*, descending, with --tail-fit only (null: +∞, an F* without residual) */
+    const jv *ft = jv_get(raw, "f_top");
+    if (ft || p->f_top) {
+        sturdy_status st;
+        if (!is_kind(ft, JV_ARRAY) || ft->n > STURDY_TAIL_KEEP || ft->n > np)
+            return part_fail(err, name, "a term's raw 'f_top' is missing, or holds more than "
+                                        "251 values or than the part's rearrangements");
+        if ((st = sturdy_part_alloc_top(p, err)))
+            return st;
+        for (size_t q = 0; q < ft->n; q++) {
+            const jv *x = &ft->items[q];
+            double v = is_kind(x, JV_NULL) ? INFINITY : jv_double(x);
+            if ((!is_kind(x, JV_NULL) && !is_kind(x, JV_NUMBER)) || !(v >= 0) ||
+                (q && !(v <= p->f_top[j * STURDY_TAIL_KEEP + q - 1])))
+                return part_fail(err, name, "a term's raw 'f_top' holds something other than "
+                                            "non-negative numbers in descending order");
+            p->f_top[j * STURDY_TAIL_KEEP + q] = v;
+        }
+        p->n_top[j] = ft->n;
     }
     const jv *b = jv_get(raw, "boot");
     if (is_kind(b, JV_NULL))

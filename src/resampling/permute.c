@@ -31,6 +31,7 @@
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
+#include "resampling/tail.h"
 #include "resampling/maxt.h"
 #include "classical/classical.h"
 
@@ -68,6 +69,7 @@ typedef struct {
     int flip;
     sturdy_rearranger ra; /* rows in block order and the rearrangements */
     size_t nb;           /* rearrangements per dgemm block */
+    int tail;            /* --tail-fit: keep each member's largest F* (tail.c) */
 } perm_ctx;
 
 sturdy_status sturdy_permute_count(const sturdy_design *d, int flip, uint64_t *count,
@@ -113,6 +115,8 @@ typedef struct {
     double *t2;          /* C × nb: t*² of the comparisons */
     double *T, *T2;      /* K × Cp: the comparisons' group sums (and of squares) of one
                             rearrangement (maxt.c) */
+    double *top;         /* --tail-fit: M min-heaps of STURDY_TAIL_KEEP largest F* */
+    size_t *ntop;        /* their sizes */
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -124,6 +128,7 @@ static void work_free(perm_work *w)
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
     sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
     sturdy_free(w->T); sturdy_free(w->T2);
+    sturdy_free(w->top); sturdy_free(w->ntop);
 }
 
 /* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
@@ -138,7 +143,8 @@ static double work_bytes(const perm_ctx *c)
         MC += (double)c->maxt.Csq;
     return n * 9.0 + 8.0 * (K * (double)c->Mp + MC * K * nb + maxdf * nb + 2.0 * MC * nb +
                             2.0 * M + (double)c->maxt.C * (nb + 1.0) +
-                            2.0 * K * (double)c->maxt.Cp + M * STURDY_FHIST_BINS + 8.0);
+                            2.0 * K * (double)c->maxt.Cp + M * STURDY_FHIST_BINS + 8.0 +
+                            (c->tail ? M * (STURDY_TAIL_KEEP + 1.0) : 0.0));
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -164,6 +170,9 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->hist = sturdy_calloc(M * STURDY_FHIST_BINS + 1, sizeof *w->hist);
     w->T = sturdy_calloc(K * c->maxt.Cp + 1, sizeof *w->T);
     w->T2 = sturdy_calloc(c->maxt.Csq ? K * c->maxt.Cp : 1, sizeof *w->T2);
+    if (c->tail && (!(w->top = sturdy_malloc((M * STURDY_TAIL_KEEP + 1) * sizeof *w->top)) ||
+                    !(w->ntop = sturdy_calloc(M + 1, sizeof *w->ntop))))
+        return 0;
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer && w->cexceed && w->t2 && w->hist && w->T && w->T2;
 }
@@ -328,6 +337,18 @@ static inline void hist_add(const member *mj, double num, double den, uint64_t *
     hist[sturdy_fhist_bin(mj->to_f * num / den, mj->top)]++;
 }
 
+/* Add F* of one rearrangement to member j's largest (--tail-fit), with hist_add's rule:
+ * no residual but a term part is +∞, neither is undefined and not kept. */
+static inline void top_add(const member *mj, double num, double den, double *heap,
+                           size_t *n)
+{
+    double zero = PERM_ZERO_RTOL * mj->vv;
+    if (den > zero)
+        sturdy_tail_push(heap, n, mj->to_f * num / den);
+    else if (num > zero)
+        sturdy_tail_push(heap, n, INFINITY);
+}
+
 /* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
 static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
 {
@@ -345,6 +366,9 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
         for (size_t j = 0; j < M; j++)
             hist_add(&c->mem[j], w->num[j * nb + bb], w->den[j * nb + bb],
                      w->hist + j * STURDY_FHIST_BINS);
+        for (size_t j = 0; c->tail && j < M; j++)
+            top_add(&c->mem[j], w->num[j * nb + bb], w->den[j * nb + bb],
+                    w->top + j * STURDY_TAIL_KEEP, &w->ntop[j]);
         /* Westfall–Young: is the smallest p* over the family ≤ p_j? */
         for (size_t j = 0; j < M; j++)
             for (size_t t = 0; t < M; t++)
@@ -545,6 +569,7 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     c.d = d;
     c.m = m;
     c.flip = run->opts.flip;
+    c.tail = run->opts.tail_fit;
     sturdy_status st = setup(&c, run, r, err);
     uint64_t b0 = run->perm_begin, b1 = run->perm_end;
     perm_work *ws = NULL;
@@ -601,6 +626,9 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             tr->exceed_fwer += fwer[j];
             for (size_t q = 0; q < STURDY_FHIST_BINS; q++)
                 tr->f_hist[q] += hist[j * STURDY_FHIST_BINS + q];
+            for (int i = 0; c.tail && i < nthreads; i++)   /* order-free: a multiset */
+                sturdy_tail_merge(tr->f_top, &tr->n_top, ws[i].top + j * STURDY_TAIL_KEEP,
+                                  ws[i].ntop[j]);
         }
         for (size_t q = 0; q < c.maxt.C; q++)
             c.maxt.cm[q].cmp->exceed_maxt += cexceed[q];
