@@ -390,6 +390,7 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
     if (!r)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     r->opts = run.opts;
+    r->threads = run.threads;
     st = analyze(t, &run, r, err);
     if (!st && o->shard_count == 0 && o->resample)
         st = sturdy_result_finish(r, err);
