@@ -45,6 +45,22 @@ awk -v a="$ir0" -v b="$irb" -v B="$CG_B" -v base="$BASELINE" 'BEGIN {
     printf "instructions per rearrangement*term*observation: %.3f (B=%d, 7 terms, n=2000)\n", x, B
     printf "regression baseline %.3f (bench/README.md): now %.2fx of it%s\n", base, x / base,
            (x > base * 1.1) ? "  <-- more than 10% above: a slowdown" : "" }'
+# The difference of the two runs also holds the re-tests of each term without its
+# deciding rows (analysis/without.c: one more pass of the engine per distinct row set,
+# over n − |S| rows, with the set's terms only). The engine's own figure is the main
+# pass alone: sturdy_permute_run's inclusive count as called from sturdy_analyze.
+main_pass=$(callgrind_annotate --tree=caller --inclusive=yes "$OUT/callgrind.$CG_B.out" 2>/dev/null |
+    grep -B4 '\*  .*permute.c:sturdy_permute_run \[' | grep 'sturdy_analyze' | head -n 1 |
+    awk '{gsub(",", "", $1); print $1}')
+without=$(callgrind_annotate --tree=caller --inclusive=yes "$OUT/callgrind.$CG_B.out" 2>/dev/null |
+    grep -B4 '\*  .*permute.c:sturdy_permute_run \[' | grep 'without.c:run_set' | head -n 1 |
+    awk '{gsub(",", "", $1); print $1}')
+awk -v m="${main_pass:-0}" -v w="${without:-0}" -v B="$CG_B" -v base="$BASELINE" 'BEGIN {
+    x = m / (B * 7 * 2000)
+    printf "the engine alone (main pass, sturdy_permute_run from sturdy_analyze): %.3f per r*t*o, %.2fx the baseline%s\n",
+           x, x / base, (x > base * 1.1) ? "  <-- more than 10% above" : ""
+    printf "the re-tests without the deciding rows (without.c): %.1f M instructions, %.2fx the main pass\n",
+           w / 1e6, (m > 0) ? w / m : 0 }'
 echo "hottest functions at -B $CG_B --compare none (self instructions, whole run):"
 callgrind_annotate "$OUT/callgrind.$CG_B.out" 2>/dev/null |
     grep -E '^ *[0-9,]+ \([ 0-9.]+%\) ' | head -n 8
