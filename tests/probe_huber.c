@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "classical/classical.h"
+#include "core/core.h"
 #include "sturdy/advanced.h"
 #include "sturdy/table.h"
 
@@ -76,7 +77,14 @@ int main(int argc, char **argv)
             continue;
         }
         sturdy_rs_stat st;
-        int ok = sturdy_rs_statistic(y, g, n, m, k, &w, &st);
+        double *Ured = NULL;
+        size_t rred = 0;
+        if (sturdy_model_reduced_basis(d, m, k, &Ured, &rred, err)) {
+            fprintf(stderr, "%s\n", err);
+            return 2;
+        }
+        int ok = sturdy_rs_statistic(y, g, n, m, Ured, rred, &w, &st);
+        sturdy_free(Ured);
         printf("TERM %s\nSTAT %.17g %.17g %.17g %.17g %d %d %d\n", d->terms[k].label, st.stat,
                st.drop, st.lambda, st.scale, st.it_full, st.it_red, ok);
         printf("FULL");

@@ -13,6 +13,8 @@ ok()  { pass=$((pass + 1)); echo "ok   $*"; }
 bad() { fail=$((fail + 1)); echo "FAIL $*"; }
 S=${STURDY_BIN:-./sturdy}
 case "$S" in /*) ;; *) S="$PWD/$S" ;; esac
+PM=${STURDY_BUILD:-build}/tests/probe_model
+case "$PM" in /*) ;; *) PM="$PWD/$PM" ;; esac
 PY=${PYTHON:-/usr/bin/python3}
 T=$(mktemp -d); trap 'rm -rf "$T"' EXIT
 cp examples/demo.csv "$T/d.csv"
@@ -86,46 +88,147 @@ grep -q "column 2 has an empty name" err &&
     ok "an empty name before the duplicate is reported first" ||
     bad "empty name first: $(head -c 300 err)"
 
-# --- designs whose model build would exhaust memory: refused before the build
+# --- designs whose model build would exhaust memory: refused before the build; the
+# build keeps each term's reduced model in the smaller of two forms (its own basis or its
+# complement within the full model; fit.h), so that under Type III a full factorial keeps
+# only K × p numbers per model instead of K × p per term
 "$PY" - <<'PYEOF'
 import itertools, random
 random.seed(4)
-for k in (6, 10, 11):
+for k in (6, 8, 10, 11):
     with open("f%d.csv" % k, "w") as f:
         f.write(",".join("f%d" % i for i in range(k)) + ",y\n")
         for cell in itertools.product("ab", repeat=k):
             for r in range(2):
                 f.write(",".join(cell) + ",%.3f\n" % random.gauss(0, 1))
 PYEOF
-for k in 10 11; do
-    fs=$(seq -s, -f 'f%g' 0 $((k - 1)))
+F11=$(seq -s, -f 'f%g' 0 10)
+for ss in 1 2; do
     start=$(date +%s%N)
-    timeout 20 "$S" check "f$k.csv" -y y -f "$fs" -B 19 --bootstrap 0 -q -o big.json 2>err; rc=$?
+    timeout 20 "$S" check f11.csv -y y -f "$F11" --ss $ss -B 19 --bootstrap 0 -q -o big.json 2>err; rc=$?
     ms=$(( ($(date +%s%N) - start) / 1000000 ))
     [ $rc = 4 ] && [ $ms -lt 2000 ] && [ ! -e big.json ] &&
         grep -q "the model would need about [0-9.]* GiB of memory" err &&
         grep -q "limit on memory (--max-memory) of 2 GiB" err &&
-        ok "$k two-level factors, full model: refused in ${ms} ms (exit 4), the estimate and --max-memory named" ||
-        bad "$k factors: exit $rc in ${ms} ms, $(head -c 400 err)"
+        ok "11 two-level factors, full model, Type $ss: refused in ${ms} ms (exit 4), the estimate and --max-memory named" ||
+        bad "11 factors, Type $ss: exit $rc in ${ms} ms, $(head -c 400 err)"
 done
+# Type III keeps no basis per term beyond the term's own: 10 factors (8.02 GiB before)
+# and 11 (64.1 GiB before) fit the default budget. Only the estimate is read here (the
+# 10-factor build itself takes minutes: 1023 QR factorisations of 1024 × 1023), then the
+# CLI is seen to start the build instead of refusing it.
+read -r _ est10 _ _ des10 < <("$PM" f10.csv 3 y "$(seq -s, -f 'f%g' 0 9)" estimate)
+read -r _ est11 _ _ _ < <("$PM" f11.csv 3 y "$F11" estimate)
+[ -n "$est10" ] && [ "$est10" -lt $((64 << 20)) ] && [ "$est11" -lt $((256 << 20)) ] &&
+    ok "Type III full models: 10 factors estimated at $((est10 >> 20)) MiB (coded design $((des10 >> 20)) MiB included), 11 at $((est11 >> 20)) MiB" ||
+    bad "Type III estimates: 10 factors ${est10:-?} bytes, 11 factors ${est11:-?} bytes"
+timeout 4 "$S" check f10.csv -y y -f "$(seq -s, -f 'f%g' 0 9)" -B 0 --bootstrap 0 --compare none \
+    -q -o big10.json 2>err; rc=$?
+{ [ $rc = 124 ] || [ $rc = 0 ]; } && ! grep -q "would need" err &&
+    ok "10 two-level factors, full model, Type III: the default budget admits the build (exit $rc)" ||
+    bad "10 factors, Type III: exit $rc, $(head -c 400 err)"
 "$S" check f10.csv -y y -f "$(seq -s, -f 'f%g' 0 9)" --order 2 -B 19 --bootstrap 0 -q \
     --format csv -o order2.csv 2>err; rc=$?
 [ $rc = 0 ] && [ "$(grep -c '^y,' order2.csv)" = 57 ] &&
     ok "the same 10 factors to order 2 run within the default budget (55 terms, residual, total)" ||
     bad "10 factors, order 2: exit $rc, $(head -c 300 err)"
-# six factors (about 2 MiB): refused under 1M, run under 3M
+# the estimate against the build's measured growth of the resident set (getrusage),
+# for 8 two-level factors under each type: within a factor of 2, give or take 4 MiB of
+# the allocator's and the BLAS library's own (measured: 36.2, 16.1 and 3.6 MiB of growth
+# for estimates of 34.5, 14.8 and 2.5 MiB under Types I, II and III)
+# (not on an AddressSanitizer build: its quarantine keeps freed blocks resident, so the
+# resident set grows with everything allocated, not with what is live)
+F8=$(seq -s, -f 'f%g' 0 7)
+if ldd "$PM" 2>/dev/null | grep -q libasan || nm "$PM" 2>/dev/null | grep -q __asan_init; then
+    echo "note the estimate against the resident set: not measured on an AddressSanitizer build"
+else
+for ss in 1 2 3; do
+    rm -f msg; line=$(OPENBLAS_NUM_THREADS=1 "$PM" f8.csv $ss y "$F8" | head -1)
+    "$PY" - "$ss" "$line" <<'PYEOF' && ok "8 factors, Type $ss: $(cat msg)" || bad "8 factors, Type $ss: $(cat msg)"
+import sys
+ss, f = sys.argv[1], sys.argv[2].split()
+est, before, peak = float(f[1]), float(f[6]) * 1024, float(f[8]) * 1024
+grow = peak - before
+msg = "estimate %.1f MiB, resident set grew %.1f MiB during the build" % (est / 2**20, grow / 2**20)
+open("msg", "w").write(msg)
+sys.exit(0 if grow <= 2 * est + 4 * 2**20 and est <= 2 * grow + 4 * 2**20 else 1)
+PYEOF
+done
+fi
+# the table of a full factorial whose terms all keep the complement form (Type III) or a
+# mix (Types I and II), on unequal cells (1 to 3 rows: the terms are not orthogonal),
+# against least squares in numpy: for each term the rise in the residual sum of squares
+# when its columns leave the reduced-versus-augmented pair of its type (sum-to-zero
+# ±1 coding, products for interactions), F on the full model's residual mean square
+"$PY" - <<'PYEOF'
+import itertools, random
+random.seed(15)
+with open("f7u.csv", "w") as f:
+    f.write(",".join("f%d" % i for i in range(7)) + ",y\n")
+    for cell in itertools.product("ab", repeat=7):
+        for r in range(random.randint(1, 3)):
+            mu = 0.4 * (cell[0] == "a") + 0.3 * (cell[1] == cell[2])
+            f.write(",".join(cell) + ",%.4f\n" % (mu + random.gauss(0, 1)))
+PYEOF
+for ss in 3 1 2; do
+    rm -f msg; "$S" check f7u.csv -y y -f "$(seq -s, -f 'f%g' 0 6)" --ss $ss -B 0 --bootstrap 0 \
+        --compare none -q --format json -o t$ss.json 2>err; rc=$?
+    "$PY" - "$ss" "t$ss.json" <<'PYEOF' && ok "7 factors on unequal cells, Type $ss: $(cat msg)" ||
+import csv, json, sys
+import numpy as np
+from scipy import stats
+ss, res = int(sys.argv[1]), json.load(open(sys.argv[2]))
+rows = list(csv.reader(open("f7u.csv")))
+head, rows = rows[0], rows[1:]
+y = np.array([float(r[-1]) for r in rows])
+z = {h: np.array([1.0 if r[i] == "a" else -1.0 for r in rows]) for i, h in enumerate(head[:-1])}
+terms = res["responses"][0]["terms"]
+fs = [tuple(t["factors"]) for t in terms]
+col = {f: np.prod([z[x] for x in f], axis=0) for f in fs}
+def resid(keep, v):
+    X = np.column_stack([np.ones(len(y))] + [col[f] for f in keep])
+    return v - X @ np.linalg.lstsq(X, v, rcond=None)[0]
+e = resid(fs, y)
+full = e @ e
+dfe = len(y) - 1 - len(fs)
+worst = 0.0
+for i, (f, t) in enumerate(zip(fs, terms)):
+    if ss == 3: red = [g for g in fs if g != f]
+    elif ss == 1: red = fs[:i]
+    else: red = [g for g in fs if g != f and not set(f) < set(g)]
+    # the rise in RSS when the term joins, without a difference of two large sums:
+    # (rᵀy)² / rᵀr with r the term's column residualised against the reduced model
+    r = resid(red, col[f])
+    s = (r @ y) ** 2 / (r @ r)
+    F = s / (full / dfe)
+    p = stats.f.sf(F, 1, dfe)
+    assert t["df"] == 1, t
+    for a, b in ((t["ss"], s), (t["f"], F)):
+        worst = max(worst, abs(a - b) / max(abs(b), 1e-300))
+    worst = max(worst, abs(t["p"] - p) / max(p, 1e-3))
+e = res["responses"][0]["error"]
+worst = max(worst, abs(e["ss"] - full) / full)
+assert e["df"] == dfe, e
+msg = "%d terms, n = %d: SS, F and p of every term and the error SS agree to %.1e (p below 0.001: absolute)" % (len(fs), len(y), worst)
+open("msg", "w").write(msg)
+sys.exit(0 if worst < 1e-9 and len(fs) == 127 else 1)
+PYEOF
+    bad "7 factors, Type $ss: exit $rc, $(cat msg 2>/dev/null) $(head -c 300 err)"
+done
+# six factors (about 159 KiB with the coded design; 2.06 MiB before): refused under
+# 100K, run under 160K
 F6=(f6.csv -y y -f f0,f1,f2,f3,f4,f5 -B 19 --bootstrap 0 -q)
-"$S" check "${F6[@]}" --max-memory 1M -o small.json 2>err; rc=$?
-[ $rc = 4 ] && grep -q "about 2.06 MiB of memory" err && grep -q "of 1 MiB" err &&
-    ok "--max-memory 1M refuses a model of about 2 MiB (exit 4)" ||
-    bad "--max-memory 1M: exit $rc, $(head -c 300 err)"
-"$S" check "${F6[@]}" --max-memory 3M --format csv -o small.csv 2>err; rc=$?
+"$S" check "${F6[@]}" --max-memory 100K -o small.json 2>err; rc=$?
+[ $rc = 4 ] && grep -q "about 159 KiB of memory" err && grep -q "of 100 KiB" err &&
+    ok "--max-memory 100K refuses a model of about 159 KiB (exit 4)" ||
+    bad "--max-memory 100K: exit $rc, $(head -c 300 err)"
+"$S" check "${F6[@]}" --max-memory 160K --format csv -o small.csv 2>err; rc=$?
 [ $rc = 0 ] && [ "$(grep -c '^y,' small.csv)" = 65 ] &&
-    ok "--max-memory 3M (just enough) runs the six-factor model: 63 terms, residual, total" ||
-    bad "--max-memory 3M: exit $rc, $(head -c 300 err)"
-"$S" check "${F6[@]}" --max-memory 3145728 --format csv -o bytes.csv 2>/dev/null &&
+    ok "--max-memory 160K (just enough) runs the six-factor model: 63 terms, residual, total" ||
+    bad "--max-memory 160K: exit $rc, $(head -c 300 err)"
+"$S" check "${F6[@]}" --max-memory 163840 --format csv -o bytes.csv 2>/dev/null &&
     cmp -s small.csv bytes.csv && ok "--max-memory in bytes = with a suffix" ||
-    bad "--max-memory 3145728 differs from 3M"
+    bad "--max-memory 163840 differs from 160K"
 wrong=""
 for bad_size in 0 1X 1.5G -1 99999999999T; do
     "$S" check "${F6[@]}" --max-memory "$bad_size" -o x.json 2>err; rc=$?

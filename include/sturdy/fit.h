@@ -36,8 +36,17 @@ typedef struct {
     char *why_short;        /* when testable with df < df_nominal: where the rest went
                                (owned), else NULL */
     size_t rank_red;        /* rank of R */
-    double *Ured;           /* K × rank_red basis of R */
     double *Uterm;          /* K × df basis of the part of A orthogonal to R */
+    /* R itself is kept in whichever form is smaller (sturdy_model_reduced_* read
+     * either): its own basis, or the basis of its complement within the full model,
+     * span(R) = span(U) ⊖ span(C), so that projections onto R are U Uᵀ s − C Cᵀ s.
+     * When A is the full model (Type III; the last term of Type I) the complement is
+     * Uterm itself and nothing more is stored. */
+    int complement;         /* 1: R is kept as its complement C */
+    double *Ured;           /* K × rank_red basis of R, or NULL when C is kept */
+    size_t rank_comp;       /* rank − rank_red when C is kept, else 0 */
+    double *Ucomp;          /* K × rank_comp basis of C when it is kept and is not
+                               Uterm (owned), else NULL */
 } sturdy_term_basis;
 
 typedef struct {
@@ -64,11 +73,35 @@ sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_mod
 void sturdy_model_free(sturdy_model *m);
 
 /* What sturdy_model_build would take for `ss_type`, from the design's dimensions alone
- * (nothing is allocated): *bytes, an upper bound of the bases and the work matrix (K ×
- * the columns of the full model, of every term's reduced model and of the term), and
- * *flops, the floating-point operations of their QR factorisations. The build refuses
- * (STURDY_EMODEL) when *bytes plus the coded design exceed d->max_memory. */
+ * (nothing is allocated): *bytes, the peak of the bases and work matrices (K × the
+ * columns of the work matrix, the full model, every term's kept bases — Uterm and R's
+ * smaller form, nothing more under Type III — and the largest pair of bases built for
+ * one term at a time): an upper bound of what the build allocates for them, rank
+ * deficiency included, unless a complement's rank decision disagrees with R's at the
+ * tolerance (R's basis is then kept); and *flops, the floating-point operations of
+ * their QR factorisations. The build refuses (STURDY_EMODEL) when *bytes plus the coded
+ * design exceed d->max_memory. */
 void sturdy_model_estimate(const sturdy_design *d, int ss_type, double *bytes, double *flops);
+
+/* The reduced model R of term t, in whichever form the model keeps (see above):
+ *   reduced_projection  gval_g = (P_R s)_g / √n_g, the value every row of group g gets
+ *                       from the projection onto R; `work` has room for m->rank doubles
+ *   reduced_project     the same spread to the n rows (out); `work` has room for
+ *                       m->rank + K doubles; `s` must be sturdy_model_group_scaled(v)
+ *   reduced_hat         h_g = ‖(basis of R)_g·‖², the diagonal of P_R in group space
+ *                       (a row's leverage in R is h_g / n_g)
+ *   reduced_basis       an explicit K × *r basis of R, for the fits that need a basis
+ *                       of R itself: a copy of the kept one, or rebuilt from the design
+ *                       exactly as sturdy_model_build built it (same columns, same QR:
+ *                       the same numbers). *U is the caller's, from the library's
+ *                       allocator (released with sturdy_free). */
+void sturdy_model_reduced_projection(const sturdy_model *m, size_t t, const double *s,
+                                     double *work, double *gval);
+void sturdy_model_reduced_project(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                  const double *s, double *work, double *out);
+void sturdy_model_reduced_hat(const sturdy_model *m, size_t t, double *h);
+sturdy_status sturdy_model_reduced_basis(const sturdy_design *d, const sturdy_model *m,
+                                         size_t t, double **U, size_t *r, char *err);
 
 /* Group sums of a row vector v (length n) into s (length K), divided by √n_g. */
 void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,

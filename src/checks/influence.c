@@ -48,6 +48,8 @@
 typedef struct {
     size_t K, rR, rT, rF;
     double *UR, *UT, *UF;   /* K × r, row-major: row g is group g's coordinates */
+    size_t rC;              /* R kept as its complement C within F (fit.h): UR is NULL, */
+    double *UC;             /* H_R = H_F − H_C; UC is UT when C is the term's own basis */
     const double *inv_sqrt; /* K: 1/√n_g */
     double *eR, *eA, *eF;   /* n residuals of R, A and F */
     double ss_term, sse;    /* the term's SS and the error SS with every row */
@@ -72,12 +74,18 @@ static double dot_rows(const double *U, size_t r, size_t gi, size_t gj)
     return s;
 }
 
-/* e_Sᵀ (I − H_SS)⁻¹ e_S for the model with bases U1 (and U2, whose hat matrix adds to
- * it; NULL for none), by Cholesky; returns 0 when I − H_SS is not safely positive
+/* A basis whose hat matrix is added to (sign +1) or taken from (−1) a model's. */
+typedef struct {
+    const double *U;
+    size_t r;
+    double sign;
+} hat_part;
+
+/* e_Sᵀ (I − H_SS)⁻¹ e_S for the model whose hat matrix is the signed sum of the parts'
+ * (the first with sign +1), by Cholesky; returns 0 when I − H_SS is not safely positive
  * definite (the set takes a dimension of the model with it). */
-static int deleted_ss(const infl_term *it, const sturdy_design *d, const double *U1,
-                      size_t r1, const double *U2, size_t r2, const double *e,
-                      const size_t *S, size_t s, double *out)
+static int deleted_ss(const infl_term *it, const sturdy_design *d, const hat_part *part,
+                      size_t np, const double *e, const size_t *S, size_t s, double *out)
 {
     double A[SENS_MAX_ROWS * SENS_MAX_ROWS], b[SENS_MAX_ROWS];
     for (size_t a = 0; a < s; a++) {
@@ -85,8 +93,11 @@ static int deleted_ss(const infl_term *it, const sturdy_design *d, const double 
         b[a] = e[S[a]];
         for (size_t c = 0; c <= a; c++) {
             size_t gc = d->group[S[c]];
-            double h = dot_rows(U1, r1, ga, gc);
-            if (U2) h += dot_rows(U2, r2, ga, gc);
+            double h = dot_rows(part[0].U, part[0].r, ga, gc);
+            for (size_t k = 1; k < np; k++) {
+                if (part[k].sign > 0) h += dot_rows(part[k].U, part[k].r, ga, gc);
+                else h -= dot_rows(part[k].U, part[k].r, ga, gc);
+            }
             h *= it->inv_sqrt[ga] * it->inv_sqrt[gc];
             A[a * s + c] = (a == c ? 1.0 : 0.0) - h;
         }
@@ -105,9 +116,19 @@ static int eval_set(const infl_term *it, const sturdy_design *d, const size_t *S
                     double *f, double *p)
 {
     double qR, qA, qF;
-    if (!deleted_ss(it, d, it->UF, it->rF, NULL, 0, it->eF, S, s, &qF) ||
-        !deleted_ss(it, d, it->UR, it->rR, NULL, 0, it->eR, S, s, &qR) ||
-        !deleted_ss(it, d, it->UR, it->rR, it->UT, it->rT, it->eA, S, s, &qA))
+    hat_part F[1] = { { it->UF, it->rF, 1.0 } };
+    /* R = its own basis, or F less its complement; A = R plus the term */
+    hat_part R[3] = { { it->UR, it->rR, 1.0 }, { it->UT, it->rT, 1.0 }, { NULL, 0, 0 } };
+    size_t nR = 1;
+    if (!it->UR) {
+        R[0] = (hat_part){ it->UF, it->rF, 1.0 };
+        R[1] = (hat_part){ it->UC, it->rC, -1.0 };
+        R[2] = (hat_part){ it->UT, it->rT, 1.0 };
+        nR = 2;
+    }
+    if (!deleted_ss(it, d, F, 1, it->eF, S, s, &qF) ||
+        !deleted_ss(it, d, R, nR, it->eR, S, s, &qR) ||
+        !deleted_ss(it, d, R, nR + 1, it->eA, S, s, &qA))
         return 0;
     double dfe = it->dfe - (double)s, sse = it->sse - qF;
     if (!(dfe >= 1.0) || !(sse > 0.0)) return 0;
@@ -121,6 +142,7 @@ static int eval_set(const infl_term *it, const sturdy_design *d, const size_t *S
 static void infl_free(infl_term *it)
 {
     sturdy_free(it->UR);
+    if (it->UC != it->UT) sturdy_free(it->UC);
     sturdy_free(it->UT);
     sturdy_free(it->UF);
     sturdy_free(it->eR);
@@ -155,8 +177,16 @@ static sturdy_status infl_init(const sturdy_design *d, const sturdy_model *m, si
     it->rF = m->rank;
     it->df = (double)tb->df;
     it->dfe = (double)m->df_error;
-    it->UR = row_major(tb->Ured, K, it->rR);
     it->UT = row_major(tb->Uterm, K, it->rT);
+    int have_r = 1;         /* R's basis, or its complement (fit.h keeps the smaller) */
+    if (!tb->complement) {
+        it->UR = row_major(tb->Ured, K, it->rR);
+        have_r = it->UR != NULL;
+    } else {
+        it->rC = tb->rank_comp;
+        it->UC = tb->Ucomp ? row_major(tb->Ucomp, K, it->rC) : it->UT;
+        have_r = it->UC != NULL;
+    }
     it->UF = row_major(m->U, K, it->rF);
     it->eR = sturdy_malloc(n * sizeof *it->eR);
     it->eA = sturdy_malloc(n * sizeof *it->eA);
@@ -165,12 +195,12 @@ static sturdy_status infl_init(const sturdy_design *d, const sturdy_model *m, si
     double *gR = sturdy_malloc(K * sizeof *gR), *gT = sturdy_malloc(K * sizeof *gT);
     double *gF = sturdy_malloc(K * sizeof *gF), *isq = sturdy_malloc(K * sizeof *isq);
     sturdy_status st = STURDY_OK;
-    if (!it->UR || !it->UT || !it->UF || !it->eR || !it->eA || !it->eF || !s || !work ||
+    if (!have_r || !it->UT || !it->UF || !it->eR || !it->eA || !it->eF || !s || !work ||
         !gR || !gT || !gF || !isq) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     } else {
         sturdy_model_group_scaled(d, m, y, s);
-        fitted(m, tb->Ured, it->rR, s, work, gR);
+        sturdy_model_reduced_projection(m, k, s, work, gR);
         fitted(m, tb->Uterm, it->rT, s, work, gT);
         fitted(m, m->U, it->rF, s, work, gF);
         for (size_t g = 0; g < K; g++) isq[g] = 1.0 / m->sqrt_count[g];

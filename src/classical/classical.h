@@ -85,11 +85,14 @@ typedef struct {
     int it_full, it_red;
 } sturdy_rs_stat;
 
-/* The drop-in-dispersion statistic of `term` for values y in groups g (w->mu and
- * w->mu_red hold the full and the reduced fit afterwards). 0 when it cannot be computed
- * (zero scale, no row inside the clipping, no residual df): out->stat is then NaN. */
+/* The drop-in-dispersion statistic of a term for values y in groups g, given an
+ * explicit K × rred basis Ured of the term's reduced model (sturdy_model_reduced_basis)
+ * (w->mu and w->mu_red hold the full and the reduced fit afterwards). 0 when it cannot be
+ * computed (zero scale, no row inside the clipping, no residual df): out->stat is then
+ * NaN. */
 int sturdy_rs_statistic(const double *y, const uint32_t *g, size_t n, const sturdy_model *m,
-                        size_t term, sturdy_huber_work *w, sturdy_rs_stat *out);
+                        const double *Ured, size_t rred, sturdy_huber_work *w,
+                        sturdy_rs_stat *out);
 
 /* The statistic of every testable term of response r on the data (t->rs), or the note
  * saying why it is absent. */

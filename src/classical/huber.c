@@ -323,9 +323,9 @@ int sturdy_huber_fit(const double *y, const uint32_t *g, size_t n, const double 
 }
 
 int sturdy_rs_statistic(const double *y, const uint32_t *g, size_t n, const sturdy_model *m,
-                        size_t term, sturdy_huber_work *w, sturdy_rs_stat *out)
+                        const double *Ured, size_t rred, sturdy_huber_work *w,
+                        sturdy_rs_stat *out)
 {
-    const sturdy_term_basis *tb = &m->terms[term];
     size_t K = m->K, p = m->rank;
     out->stat = out->drop = out->lambda = out->scale = NAN;
     out->it_full = out->it_red = 0;
@@ -337,9 +337,8 @@ int sturdy_rs_statistic(const double *y, const uint32_t *g, size_t n, const stur
     out->scale = sigma;
     if (!(sigma > 0) || !isfinite(sigma)) return 0;
     out->it_full = sturdy_huber_fit(y, g, n, m->U, K, p, w->isq, sigma, w, w->mu);
-    sturdy_huber_ls(y, g, n, tb->Ured, K, tb->rank_red, w->isq, w, w->mu_red);
-    out->it_red = sturdy_huber_fit(y, g, n, tb->Ured, K, tb->rank_red, w->isq, sigma, w,
-                                   w->mu_red);
+    sturdy_huber_ls(y, g, n, Ured, K, rred, w->isq, w, w->mu_red);
+    out->it_red = sturdy_huber_fit(y, g, n, Ured, K, rred, w->isq, sigma, w, w->mu_red);
     double dF = 0.0, dR = 0.0, psi2 = 0.0, dpsi = 0.0;
     for (size_t i = 0; i < n; i++) {
         double u = (y[i] - w->mu[g[i]]) / sigma, ur = (y[i] - w->mu_red[g[i]]) / sigma;
@@ -397,7 +396,12 @@ sturdy_status sturdy_rs_response(const sturdy_design *d, const sturdy_model *m, 
             continue;
         }
         sturdy_rs_stat s;
-        int ok = sturdy_rs_statistic(y, g, n, m, k, &w, &s);
+        double *Ured = NULL;    /* R's basis for this term alone (fit.h keeps the smaller form) */
+        size_t rred = 0;
+        if ((st = sturdy_model_reduced_basis(d, m, k, &Ured, &rred, err)))
+            break;
+        int ok = sturdy_rs_statistic(y, g, n, m, Ured, rred, &w, &s);
+        sturdy_free(Ured);
         rs->scale = s.scale;
         rs->iter_full = s.it_full;
         rs->iter_red = s.it_red;

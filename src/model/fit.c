@@ -103,14 +103,11 @@ static int in_reduced(const sturdy_design *d, int ss_type, size_t t, size_t j)
     }
 }
 
-/* The basis of term t against its reduced model, leaving term `skip` (an index, or
- * nterms for none) out of the reduced model: tb's Ured, rank_red, Uterm and df. `A` has
- * room for K × p doubles. */
-static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t t,
-                          size_t skip, double *A, sturdy_term_basis *tb, char *err)
+/* The basis of term t's reduced model, leaving term `skip` (an index, or nterms for
+ * none) out of it: *U (K × *r, owned). `A` has room for K × p doubles. */
+static sturdy_status reduced_span(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                  size_t skip, double *A, double **U, size_t *r, char *err)
 {
-    size_t K = d->ngroups;
-    const sturdy_term *term = &d->terms[t];
     /* reduced model: intercept + the terms the SS type keeps */
     size_t k = 0;
     take_columns(d, m->sqrt_count, 0, 1, A, k++);
@@ -119,17 +116,16 @@ static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t 
             take_columns(d, m->sqrt_count, d->terms[j].col0, d->terms[j].ncols, A, k);
             k += d->terms[j].ncols;
         }
-    assert(k + term->ncols <= d->p);    /* A has room for K × p */
-    sturdy_status st = orth_basis(A, K, k, NULL, &tb->Ured, &tb->rank_red, err);
-    if (st)
-        return st;
-    /* the term's columns, residualised twice against the reduced basis (one pass of
-     * classical Gram–Schmidt loses orthogonality when columns are nearly dependent) */
-    size_t c = term->ncols;
-    double *Z = A, *nrm = sturdy_malloc(c * sizeof *nrm);
-    if (!nrm)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    take_columns(d, m->sqrt_count, term->col0, c, Z, 0);
+    assert(k + d->terms[t].ncols <= d->p);    /* A has room for K × p */
+    return orth_basis(A, d->ngroups, k, NULL, U, r, err);
+}
+
+/* Columns Z (K × c) residualised twice against the basis U (K × r): one pass of
+ * classical Gram–Schmidt loses orthogonality when columns are nearly dependent.
+ * nrm[j] gets column j's norm before. */
+static void residualise(double *Z, size_t K, size_t c, const double *U, size_t r,
+                        double *nrm)
+{
     for (size_t j = 0; j < c; j++) {
         double s = 0.0;
         for (size_t g = 0; g < K; g++)
@@ -138,14 +134,34 @@ static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t 
     }
     for (int pass = 0; pass < 2; pass++)
         for (size_t j = 0; j < c; j++)
-            for (size_t q = 0; q < tb->rank_red; q++) {
-                const double *u = tb->Ured + q * K;
+            for (size_t q = 0; q < r; q++) {
+                const double *u = U + q * K;
                 double dot = 0.0;
                 for (size_t g = 0; g < K; g++)
                     dot += u[g] * Z[j * K + g];
                 for (size_t g = 0; g < K; g++)
                     Z[j * K + g] -= dot * u[g];
             }
+}
+
+/* The basis of term t against its reduced model, leaving term `skip` (an index, or
+ * nterms for none) out of the reduced model: tb's Ured, rank_red, Uterm and df. `A` has
+ * room for K × p doubles. */
+static sturdy_status span(const sturdy_design *d, const sturdy_model *m, size_t t,
+                          size_t skip, double *A, sturdy_term_basis *tb, char *err)
+{
+    size_t K = d->ngroups;
+    const sturdy_term *term = &d->terms[t];
+    sturdy_status st = reduced_span(d, m, t, skip, A, &tb->Ured, &tb->rank_red, err);
+    if (st)
+        return st;
+    /* the term's columns, residualised against the reduced basis */
+    size_t c = term->ncols;
+    double *Z = A, *nrm = sturdy_malloc(c * sizeof *nrm);
+    if (!nrm)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    take_columns(d, m->sqrt_count, term->col0, c, Z, 0);
+    residualise(Z, K, c, tb->Ured, tb->rank_red, nrm);
     st = orth_basis(Z, K, c, nrm, &tb->Uterm, &tb->df, err);
     sturdy_free(nrm);
     return st;
@@ -279,6 +295,54 @@ static sturdy_status term_basis(const sturdy_design *d, const sturdy_model *m, s
     return STURDY_OK;
 }
 
+/* Keep term t's reduced model in the smaller form (fit.h): its complement within the
+ * full model when that has fewer columns, else its own basis. When the term's columns
+ * complete the reduced model to the full one, the complement is Uterm and costs
+ * nothing; otherwise it is the full model's columns left out of R, residualised
+ * against R (its rank must come out as rank − rank_red, or R's basis is kept). */
+static sturdy_status keep_smaller(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                  double *A, sturdy_term_basis *tb, char *err)
+{
+    size_t K = d->ngroups;
+    assert(tb->rank_red >= 1 && tb->rank_red <= m->rank);
+    size_t rc = m->rank - tb->rank_red;
+    if (tb->rank_red + tb->df == m->rank) {
+        sturdy_free(tb->Ured);
+        tb->Ured = NULL;
+        tb->complement = 1;
+        tb->rank_comp = tb->df;
+        return STURDY_OK;
+    }
+    if (rc >= tb->rank_red)
+        return STURDY_OK;
+    size_t c = 0;
+    for (size_t j = 0; j < d->nterms; j++)
+        if (!in_reduced(d, m->ss_type, t, j)) {
+            take_columns(d, m->sqrt_count, d->terms[j].col0, d->terms[j].ncols, A, c);
+            c += d->terms[j].ncols;
+        }
+    double *nrm = sturdy_malloc((c ? c : 1) * sizeof *nrm);
+    if (!nrm)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    residualise(A, K, c, tb->Ured, tb->rank_red, nrm);
+    double *C = NULL;
+    size_t r = 0;
+    sturdy_status st = orth_basis(A, K, c, nrm, &C, &r, err);
+    sturdy_free(nrm);
+    if (st)
+        return st;
+    if (r != rc) {          /* the rank decisions disagree: keep R's own basis */
+        sturdy_free(C);
+        return STURDY_OK;
+    }
+    sturdy_free(tb->Ured);
+    tb->Ured = NULL;
+    tb->complement = 1;
+    tb->rank_comp = rc;
+    tb->Ucomp = C;
+    return STURDY_OK;
+}
+
 void sturdy_model_free(sturdy_model *m)
 {
     if (!m)
@@ -291,6 +355,7 @@ void sturdy_model_free(sturdy_model *m)
         sturdy_free(m->terms[t].why_short);
         sturdy_free(m->terms[t].Ured);
         sturdy_free(m->terms[t].Uterm);
+        sturdy_free(m->terms[t].Ucomp);
     }
     sturdy_free(m->terms);
     sturdy_free(m);
@@ -309,15 +374,39 @@ static size_t reduced_columns(const sturdy_design *d, int ss_type, size_t t)
 void sturdy_model_estimate(const sturdy_design *d, int ss_type, double *bytes, double *flops)
 {
     double K = (double)d->ngroups, p = (double)d->p;
-    double cols = 2.0 * p;                  /* the work matrix and the full basis */
+    double kp = p < K ? p : K;
+    double cols = p + kp;                   /* the work matrix and the full basis */
     double f = 4.0 * K * p * p;             /* its QR and Q */
+    double kept = 0.0, passing = 0.0;       /* bases kept; the largest built for one term */
     for (size_t t = 0; t < d->nterms; t++) {
         double kr = (double)reduced_columns(d, ss_type, t), c = (double)d->terms[t].ncols;
-        if (kr > K) kr = K;                 /* no basis outgrows the groups */
-        if (c > K) c = K;
-        cols += kr + c;
-        f += 4.0 * K * kr * kr + 4.0 * K * kr * c + 4.0 * K * c * c;
+        double rest = p - kr;               /* the full model's columns outside R */
+        double krK = kr < K ? kr : K;       /* no basis outgrows the groups */
+        double cK = c < K ? c : K;
+        double now = krK;                   /* R's basis, built for every term */
+        kept += cK;                         /* Uterm */
+        f += 4.0 * K * krK * krK + 4.0 * K * krK * cK + 4.0 * K * cK * cK;
+        if (rest > c) {
+            /* R plus the term is not the full model: R is kept as its own basis or as
+             * its complement (rank − rank_R ≤ rest columns), whichever is smaller, and
+             * the complement is built only when it may be the smaller */
+            double comp = rest < K ? rest : K;
+            if (comp < krK) {
+                kept += comp;
+                f += 4.0 * K * krK * comp + 4.0 * K * comp * comp;
+            } else {
+                kept += krK;
+            }
+            now += comp < krK ? comp : krK;
+        }
+        /* else the complement is Uterm: nothing more is kept (Type III) */
+        if (now > passing)
+            passing = now;
     }
+    cols += kept + passing;
+    if (d->has_block)                       /* the block's confounding check: one more
+                                               work matrix and its bases */
+        cols += p + kp;
     *bytes = cols * K * sizeof(double);
     *flops = f;
 }
@@ -334,10 +423,9 @@ static sturdy_status check_budget(const sturdy_design *d, int ss_type, char *err
     char a[32], b[32];
     return sturdy_fail(err, STURDY_EMODEL,
                        "the model would need about %s of memory and %.2g floating-point "
-                       "operations to build (%zu groups; %zu terms, each with a basis of "
-                       "its reduced model of up to %zu columns), more than the limit on "
-                       "memory of %s; lower the interaction order or raise the limit on "
-                       "memory",
+                       "operations to build (%zu groups; %zu terms, each with bases of up "
+                       "to %zu columns), more than the limit on memory of %s; lower the "
+                       "interaction order or raise the limit on memory",
                        sturdy_format_bytes(bytes + design, a), flops, d->ngroups, d->nterms,
                        d->p, sturdy_format_bytes((double)limit, b));
 }
@@ -377,7 +465,8 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
         m->leverage[g] = h / (double)d->group_count[g];
     }
     for (size_t t = 0; t < d->nterms; t++)
-        if ((st = term_basis(d, m, t, A, &m->terms[t], err))) {
+        if ((st = term_basis(d, m, t, A, &m->terms[t], err)) ||
+            (st = keep_smaller(d, m, t, A, &m->terms[t], err))) {
             sturdy_free(A);
             return st;
         }
@@ -476,4 +565,107 @@ void sturdy_model_project(const sturdy_design *d, const sturdy_model *m, const d
     sturdy_model_group_projection(m, U, r, s, work, gval);
     for (size_t i = 0; i < d->n; i++)
         out[i] = gval[d->group[i]];
+}
+
+/* The complement's basis of a term kept that way. */
+static const double *comp_basis(const sturdy_term_basis *tb)
+{
+    return tb->Ucomp ? tb->Ucomp : tb->Uterm;
+}
+
+void sturdy_model_reduced_projection(const sturdy_model *m, size_t t, const double *s,
+                                     double *work, double *gval)
+{
+    const sturdy_term_basis *tb = &m->terms[t];
+    if (!tb->complement) {
+        sturdy_model_group_projection(m, tb->Ured, tb->rank_red, s, work, gval);
+        return;
+    }
+    size_t K = m->K, rc = tb->rank_comp;
+    const double *U = m->U, *C = comp_basis(tb);
+    double *coef = work;
+    for (size_t q = 0; q < m->rank; q++) {
+        const double *u = U + q * K;
+        double dot = 0.0;
+        for (size_t g = 0; g < K; g++)
+            dot += u[g] * s[g];
+        coef[q] = dot;
+    }
+    for (size_t g = 0; g < K; g++) {
+        double v = 0.0;
+        for (size_t q = 0; q < m->rank; q++)
+            v += U[q * K + g] * coef[q];
+        gval[g] = v;
+    }
+    for (size_t q = 0; q < rc; q++) {
+        const double *u = C + q * K;
+        double dot = 0.0;
+        for (size_t g = 0; g < K; g++)
+            dot += u[g] * s[g];
+        coef[q] = dot;
+    }
+    for (size_t g = 0; g < K; g++) {
+        double v = 0.0;
+        for (size_t q = 0; q < rc; q++)
+            v += C[q * K + g] * coef[q];
+        gval[g] = (gval[g] - v) / m->sqrt_count[g];
+    }
+}
+
+void sturdy_model_reduced_project(const sturdy_design *d, const sturdy_model *m, size_t t,
+                                  const double *s, double *work, double *out)
+{
+    double *gval = work + m->rank;
+    sturdy_model_reduced_projection(m, t, s, work, gval);
+    for (size_t i = 0; i < d->n; i++)
+        out[i] = gval[d->group[i]];
+}
+
+void sturdy_model_reduced_hat(const sturdy_model *m, size_t t, double *h)
+{
+    const sturdy_term_basis *tb = &m->terms[t];
+    size_t K = m->K;
+    for (size_t g = 0; g < K; g++) {
+        double v = 0.0;
+        if (!tb->complement) {
+            for (size_t q = 0; q < tb->rank_red; q++)
+                v += tb->Ured[q * K + g] * tb->Ured[q * K + g];
+        } else {
+            const double *C = comp_basis(tb);
+            double c = 0.0;
+            for (size_t q = 0; q < m->rank; q++)
+                v += m->U[q * K + g] * m->U[q * K + g];
+            for (size_t q = 0; q < tb->rank_comp; q++)
+                c += C[q * K + g] * C[q * K + g];
+            v -= c;
+        }
+        h[g] = v;
+    }
+}
+
+sturdy_status sturdy_model_reduced_basis(const sturdy_design *d, const sturdy_model *m,
+                                         size_t t, double **U, size_t *r, char *err)
+{
+    const sturdy_term_basis *tb = &m->terms[t];
+    size_t K = m->K;
+    assert(K == d->ngroups && t < d->nterms);
+    *U = NULL;
+    *r = 0;
+    if (!tb->complement) {
+        double *c = sturdy_malloc(K * tb->rank_red * sizeof *c);   /* 0 is served as 1 byte */
+        if (!c)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        memcpy(c, tb->Ured, K * tb->rank_red * sizeof *c);
+        *U = c;
+        *r = tb->rank_red;
+        return STURDY_OK;
+    }
+    double *A = sturdy_malloc(K * d->p * sizeof *A);
+    if (!A)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory (a basis of %zu × %zu)",
+                           K, d->p);
+    sturdy_status st = reduced_span(d, m, t, d->nterms, A, U, r, err);
+    sturdy_free(A);
+    assert(st || *r == tb->rank_red);
+    return st;
 }

@@ -266,7 +266,7 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
     sturdy_model_group_scaled(d, m, y, s);
-    sturdy_model_project(d, m, tb->Ured, tb->rank_red, s, work, ered);
+    sturdy_model_reduced_project(d, m, t, s, work, ered);
     sturdy_model_project(d, m, tb->Uterm, tb->df, s, work, eaug);
     double rss_red = 0.0, rss_aug = 0.0, mean = sturdy_mean(y, n);
     for (size_t i = 0; i < n; i++) {
@@ -275,9 +275,8 @@ static sturdy_status acceleration(const boot_ctx *c, size_t ri, size_t t, char *
         rss_red += ered[i] * ered[i];
         rss_aug += eaug[i] * eaug[i];
     }
+    sturdy_model_reduced_hat(m, t, hred);
     for (size_t g = 0; g < K; g++) {
-        for (size_t q = 0; q < tb->rank_red; q++)
-            hred[g] += tb->Ured[q * K + g] * tb->Ured[q * K + g];
         double ht = 0.0;
         for (size_t q = 0; q < tb->df; q++)
             ht += tb->Uterm[q * K + g] * tb->Uterm[q * K + g];

@@ -460,9 +460,8 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             for (size_t i = 0; i < n; i++)
                 v[i] = y[i] - mean;
         } else { /* Freedman–Lane: residuals of the reduced model */
-            const sturdy_term_basis *tb = &m->terms[mb->term];
             sturdy_model_group_scaled(d, m, y, s);
-            sturdy_model_project(d, m, tb->Ured, tb->rank_red, s, work, fit);
+            sturdy_model_reduced_project(d, m, mb->term, s, work, fit);
             for (size_t i = 0; i < n; i++)
                 v[i] = y[i] - fit[i];
         }

@@ -82,70 +82,57 @@ static sturdy_status members(const sturdy_run *run, const sturdy_design *d, stur
     return st;
 }
 
-/* Observed reduced fits of the members, as rearrangeable vectors. */
-static sturdy_status member_vectors(const sturdy_design *d, const sturdy_model *m,
-                                    const sturdy_rearranger *ra, rs_member *mem, size_t M,
-                                    rs_work *w, char *err)
+/* Observed reduced fit of member j, as a rearrangeable vector (Ured: the basis of its
+ * term's reduced model). */
+static sturdy_status member_vector(const sturdy_design *d, const sturdy_model *m,
+                                   const sturdy_rearranger *ra, rs_member *mb,
+                                   const double *Ured, size_t rred, rs_work *w, char *err)
 {
     size_t n = d->n;
     for (size_t i = 0; i < n; i++) w->g[i] = (uint32_t)d->group[i];
-    for (size_t j = 0; j < M; j++) {
-        mem[j].mu = sturdy_malloc(m->K * sizeof *mem[j].mu);
-        mem[j].v = sturdy_malloc((n ? n : 1) * sizeof *mem[j].v);
-        if (!mem[j].mu || !mem[j].v) return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        const double *y = d->y + mem[j].resp * n;
-        sturdy_rs_stat s;
-        sturdy_rs_statistic(y, w->g, n, m, mem[j].term, &w->h, &s);
-        memcpy(mem[j].mu, w->h.mu_red, m->K * sizeof *mem[j].mu);
-        for (size_t k = 0; k < n; k++) {
-            size_t i = ra->blk_rows[k];
-            mem[j].v[k] = y[i] - mem[j].mu[d->group[i]];
-        }
+    mb->mu = sturdy_malloc(m->K * sizeof *mb->mu);
+    mb->v = sturdy_malloc((n ? n : 1) * sizeof *mb->v);
+    if (!mb->mu || !mb->v) return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    const double *y = d->y + mb->resp * n;
+    sturdy_rs_stat s;
+    sturdy_rs_statistic(y, w->g, n, m, Ured, rred, &w->h, &s);
+    memcpy(mb->mu, w->h.mu_red, m->K * sizeof *mb->mu);
+    for (size_t k = 0; k < n; k++) {
+        size_t i = ra->blk_rows[k];
+        mb->v[k] = y[i] - mb->mu[d->group[i]];
     }
     return STURDY_OK;
 }
 
-/* Rearrangement b for every member. */
+/* Rearrangement b for the members of one term (sel: their indices, ns of them). */
 static void one(const sturdy_rearranger *ra, const sturdy_model *m, const rs_member *mem,
-                size_t M, int flip, uint64_t b, rs_work *w)
+                const size_t *sel, size_t ns, const double *Ured, size_t rred, int flip,
+                uint64_t b, rs_work *w)
 {
     size_t n = ra->d->n;
     sturdy_rearrange(ra, b, w->lab, w->sign, w->pool);
     const uint32_t *lab = flip ? ra->lab0 : w->lab;
-    for (size_t j = 0; j < M; j++) {
+    for (size_t q = 0; q < ns; q++) {
+        size_t j = sel[q];
         for (size_t k = 0; k < n; k++)
             w->y[k] = mem[j].mu[lab[k]] + (flip ? (double)w->sign[k] * mem[j].v[k]
                                                 : mem[j].v[k]);
         sturdy_rs_stat s;
-        if (sturdy_rs_statistic(w->y, lab, n, m, mem[j].term, &w->h, &s) &&
+        if (sturdy_rs_statistic(w->y, lab, n, m, Ured, rred, &w->h, &s) &&
             s.stat >= mem[j].stat * (1.0 - STURDY_TIE_RTOL))
             w->exceed[j]++;
     }
 }
 
-sturdy_status sturdy_rs_run(const sturdy_run *run, const sturdy_design *d,
-                            const sturdy_model *m, sturdy_result *r, char *err)
+/* The rearrangements [b0, b0 + total) for the members sel (all of one term): their
+ * counts are added to exceed. 0, or -1 when a thread's work could not be allocated. */
+static int run_term(const sturdy_run *run, const sturdy_rearranger *ra,
+                    const sturdy_model *m, const rs_member *mem, size_t M, const size_t *sel,
+                    size_t ns, const double *Ured, size_t rred, uint64_t b0, int64_t total,
+                    uint64_t *exceed)
 {
-    size_t M = 0, n = d->n;
-    rs_member *mem = sturdy_calloc(r->nresp * d->nterms + 1, sizeof *mem);
-    if (!mem) return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    sturdy_rearranger ra;
-    memset(&ra, 0, sizeof ra);
-    rs_work w0;
-    memset(&w0, 0, sizeof w0);
-    sturdy_status st = members(run, d, r, mem, &M, err);
-    uint64_t b0 = run->perm_begin, b1 = run->perm_end;
-    if (st || M == 0 || b1 <= b0) goto done;
-    if ((st = sturdy_rearranger_init(&ra, d, run->opts.flip, run->exact, run->opts.seed, err)))
-        goto done;
-    if (!work_alloc(n, m, M, &w0)) {
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        goto done;
-    }
-    if ((st = member_vectors(d, m, &ra, mem, M, &w0, err))) goto done;
-    uint64_t *exceed = w0.exceed;            /* the totals */
+    size_t n = ra->d->n;
     int failed = 0, flip = run->opts.flip;
-    int64_t total = (int64_t)(b1 - b0);
 #pragma omp parallel num_threads(run->threads)
     {
         rs_work w;
@@ -157,28 +144,75 @@ sturdy_status sturdy_rs_run(const sturdy_run *run, const sturdy_design *d,
 #pragma omp for schedule(dynamic, 16)
         for (int64_t q = 0; q < total; q++) {
             if (!ok || sturdy_run_cancelled(run)) continue;
-            one(&ra, m, mem, M, flip, b0 + (uint64_t)q, &w);
+            one(ra, m, mem, sel, ns, Ured, rred, flip, b0 + (uint64_t)q, &w);
         }
         if (ok) {
 #pragma omp critical(sturdy_rs_reduce)
-            for (size_t j = 0; j < M; j++) exceed[j] += w.exceed[j];
+            for (size_t q = 0; q < ns; q++) exceed[sel[q]] += w.exceed[sel[q]];
         }
         work_free(&w);
     }
-    if (failed) {
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the resistant test");
-    } else if (sturdy_run_cancelled(run)) {
-        st = sturdy_fail(err, STURDY_ECANCELLED, "cancelled during the resistant test");
-    } else {
+    return failed ? -1 : 0;
+}
+
+sturdy_status sturdy_rs_run(const sturdy_run *run, const sturdy_design *d,
+                            const sturdy_model *m, sturdy_result *r, char *err)
+{
+    size_t M = 0, n = d->n;
+    rs_member *mem = sturdy_calloc(r->nresp * d->nterms + 1, sizeof *mem);
+    size_t *sel = sturdy_malloc((r->nresp * d->nterms + 1) * sizeof *sel);
+    if (!mem || !sel) {
+        sturdy_free(mem);
+        sturdy_free(sel);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    sturdy_rearranger ra;
+    memset(&ra, 0, sizeof ra);
+    rs_work w0;
+    memset(&w0, 0, sizeof w0);
+    double *Ured = NULL;
+    sturdy_status st = members(run, d, r, mem, &M, err);
+    uint64_t b0 = run->perm_begin, b1 = run->perm_end;
+    if (st || M == 0 || b1 <= b0) goto done;
+    if ((st = sturdy_rearranger_init(&ra, d, run->opts.flip, run->exact, run->opts.seed, err)))
+        goto done;
+    if (!work_alloc(n, m, M, &w0)) {
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        goto done;
+    }
+    uint64_t *exceed = w0.exceed;            /* the totals */
+    int64_t total = (int64_t)(b1 - b0);
+    /* one term at a time: its reduced model's basis exists only while its members run
+     * (the model keeps the smaller form, fit.h); the counts of every (member,
+     * rearrangement) are the same in any order */
+    for (size_t t = 0; t < d->nterms && !st; t++) {
+        size_t ns = 0, rred = 0;
+        for (size_t j = 0; j < M; j++)
+            if (mem[j].term == t) sel[ns++] = j;
+        if (ns == 0) continue;
+        if ((st = sturdy_model_reduced_basis(d, m, t, &Ured, &rred, err))) break;
+        for (size_t q = 0; q < ns && !st; q++)
+            st = member_vector(d, m, &ra, &mem[sel[q]], Ured, rred, &w0, err);
+        if (st) break;
+        if (run_term(run, &ra, m, mem, M, sel, ns, Ured, rred, b0, total, exceed)) {
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory for the resistant test");
+        } else if (sturdy_run_cancelled(run)) {
+            st = sturdy_fail(err, STURDY_ECANCELLED, "cancelled during the resistant test");
+        }
+        sturdy_free(Ured);
+        Ured = NULL;
+    }
+    if (!st)
         for (size_t j = 0; j < M; j++) r->resp[mem[j].resp].terms[mem[j].term].rs.exceed +=
                                            exceed[j];
-    }
 done:
     for (size_t j = 0; j < M; j++) {
         sturdy_free(mem[j].mu);
         sturdy_free(mem[j].v);
     }
+    sturdy_free(Ured);
     sturdy_free(mem);
+    sturdy_free(sel);
     work_free(&w0);
     sturdy_rearranger_free(&ra);
     return st;
