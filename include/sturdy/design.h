@@ -82,6 +82,8 @@ typedef struct {
     size_t max_memory;      /* the spec's budget for the design and the model's bases
                                (0: STURDY_DEFAULT_MAX_MEMORY); sturdy_model_build
                                refuses a model whose estimate exceeds it */
+    double max_build_ops;   /* the spec's budget of floating-point operations for the
+                               model build (0: STURDY_DEFAULT_MAX_BUILD_OPS), likewise */
 } sturdy_design;
 
 /* Build the design. Rows with a missing value in any used column are dropped and listed

@@ -23,6 +23,7 @@ static const struct {
     { "the interaction order", "--order" },
     { "the limit on coded columns", "--max-columns" },
     { "the limit on memory", "--max-memory" },
+    { "the limit on build work", "--max-build-work" },
     { "the limit on levels per factor", "--max-levels" },
     { "set the delimiter to tab", "--delimiter tab" },
     { "set the delimiter to ';'", "--delimiter ';'" },

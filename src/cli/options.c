@@ -2,6 +2,7 @@
  * strict number parsing, and the help text. */
 #include <errno.h>
 #include <getopt.h>
+#include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -16,7 +17,8 @@ enum {
     OPT_SCHEME, OPT_CONF, OPT_ALPHA, OPT_SEED, OPT_THREADS, OPT_SHARD, OPT_FORMAT,
     OPT_DELIMITER, OPT_MISSING, OPT_MAX_LEVELS, OPT_MAX_COLUMNS, OPT_VERSION, OPT_SPREAD,
     OPT_LEVELS, OPT_MERGE_NUMERIC, OPT_MISSING_ONLY, OPT_ASCII_TERMS, OPT_CSV_BOM, OPT_FIGURES, OPT_TERM_ORDER,
-    OPT_COMPARE, OPT_CONTROL, OPT_RESISTANT, OPT_MAX_MEMORY, OPT_TAIL_FIT
+    OPT_COMPARE, OPT_CONTROL, OPT_RESISTANT, OPT_MAX_MEMORY, OPT_TAIL_FIT,
+    OPT_MAX_BUILD_WORK
 };
 
 /* The one table of `check`'s long options: getopt_long reads the command line with it
@@ -59,6 +61,7 @@ const struct option cli_check_options[] = {
     { "max-levels", required_argument, NULL, OPT_MAX_LEVELS },
     { "max-columns", required_argument, NULL, OPT_MAX_COLUMNS },
     { "max-memory", required_argument, NULL, OPT_MAX_MEMORY },
+    { "max-build-work", required_argument, NULL, OPT_MAX_BUILD_WORK },
     { "help", no_argument, NULL, 'h' },
     { "version", no_argument, NULL, OPT_VERSION },
     { NULL, 0, NULL, 0 }
@@ -130,6 +133,9 @@ static const char check_help_input[] =
 "      --max-memory SIZE        refuse a model whose coded design and bases would take\n"
 "                               more memory, estimated before they are built (default\n"
 "                               2G; SIZE in bytes or with K, M, G or T: powers of 1024)\n"
+"      --max-build-work OPS     refuse a model whose build would take more floating-point\n"
+"                               operations, estimated likewise (the default, 1e13, is\n"
+"                               minutes of one core)\n"
 "\n"
 "Output\n"
 "      --format text|json|csv|html  report format (default text, or as -o FILE.json,\n"
@@ -537,6 +543,17 @@ static int apply_option(cli_check *c, int opt, const char *arg, const char *spel
                                    arg);
         o->model.max_memory = (size_t)u;
         return 0;
+    case OPT_MAX_BUILD_WORK: {
+        char *end = NULL;
+        errno = 0;
+        double ops = strtod(arg, &end);
+        if (end == arg || *end || errno || !(ops >= 1) || !isfinite(ops))
+            return cli_usage_error(c->command, "--max-build-work wants a number of "
+                                   "floating-point operations of at least 1 (e.g. 1e14), "
+                                   "not '%s'", arg);
+        o->model.max_build_ops = ops;
+        return 0;
+    }
     }
     return cli_usage_error(c->command, "unhandled option %s", spelled);
 }

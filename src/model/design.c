@@ -511,6 +511,7 @@ static sturdy_status make_terms(sturdy_design *d, const sturdy_model_spec *s,
         (st = sturdy_terms_reorder(d, s->term_order, s->nterm_order, err)))
         return st;
     d->max_memory = s->max_memory ? s->max_memory : STURDY_DEFAULT_MAX_MEMORY;
+    d->max_build_ops = s->max_build_ops > 0 ? s->max_build_ops : STURDY_DEFAULT_MAX_BUILD_OPS;
     /* one row per group: with covariates every row is a group (n × p doubles) */
     double need = (double)d->ngroups * (double)d->p * sizeof *d->Xg;
     if (need > (double)d->max_memory) {

@@ -418,9 +418,19 @@ static sturdy_status check_budget(const sturdy_design *d, int ss_type, char *err
     sturdy_model_estimate(d, ss_type, &bytes, &flops);
     double design = (double)d->ngroups * (double)d->p * sizeof(double);
     size_t limit = d->max_memory ? d->max_memory : STURDY_DEFAULT_MAX_MEMORY;
+    double ops = d->max_build_ops > 0 ? d->max_build_ops : STURDY_DEFAULT_MAX_BUILD_OPS;
+    char a[32], b[32];
+    if (bytes + design <= (double)limit && flops > ops)
+        return sturdy_fail(err, STURDY_EMODEL,
+                           "the model would take about %.2g floating-point operations to "
+                           "build (%zu groups; %zu terms, each with bases of up to %zu "
+                           "columns; about %s of memory), more than the limit on build work "
+                           "of %.2g; lower the interaction order or raise the limit on "
+                           "build work",
+                           flops, d->ngroups, d->nterms, d->p,
+                           sturdy_format_bytes(bytes + design, a), ops);
     if (bytes + design <= (double)limit)
         return STURDY_OK;
-    char a[32], b[32];
     return sturdy_fail(err, STURDY_EMODEL,
                        "the model would need about %s of memory and %.2g floating-point "
                        "operations to build (%zu groups; %zu terms, each with bases of up "
