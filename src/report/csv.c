@@ -80,8 +80,9 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
     csv_num(b, ms);
     for (size_t i = 0; i < tail; i++) {
         sturdy_buf_put(b, ",", 1);
-        /* 12 unequal-variance and 11 single-row and resistant columns follow the note */
-        if (i + 1 == tail - 23 && note) csv_text(b, note);
+        /* 12 unequal-variance, 11 single-row and resistant and 2 sequential-stopping
+           columns follow the note */
+        if (i + 1 == tail - 25 && note) csv_text(b, note);
     }
     sturdy_buf_put(b, "\n", 1);
 }
@@ -104,7 +105,7 @@ static void write_header(sturdy_buf *b)
                        "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p");
     sturdy_buf_puts(b, ",rows_to_change,sens_direction,sens_rows,sens_lines,p_without,"
                        "p_perm_without,rs_statistic,rs_p_perm,rs_p_perm_lo,rs_p_perm_hi,"
-                       "rs_scale\n");
+                       "rs_scale,perm_used,stopped_early\n");
 }
 
 /* Single rows and the resistant test: rows_to_change, its direction, the rows and their
@@ -207,6 +208,12 @@ static void write_row(sturdy_buf *b, const sturdy_result *r, const sturdy_respon
     for (size_t i = 0; i < sizeof uv / sizeof *uv; i++)
         csv_num(b, uv[i]);
     write_sens_rs(b, r, t);
+    /* --stop-early: the rearrangements behind p_perm and whether the term stopped */
+    int seq = r->opts.stop_early && !r->exact && !isnan(t->p_perm);
+    sturdy_buf_put(b, ",", 1);
+    if (seq) sturdy_buf_printf(b, "%" PRIu64, t->perm_used);
+    sturdy_buf_put(b, ",", 1);
+    if (seq) sturdy_buf_puts(b, t->stopped_early ? "yes" : "no");
     sturdy_buf_put(b, "\n", 1);
 }
 

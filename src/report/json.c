@@ -229,6 +229,11 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
     jw_bool(w, "resistant", r->opts.resistant);
+    if (r->opts.stop_early) {    /* only when asked: other runs' files stay as they were */
+        jw_bool(w, "stop_early", 1);
+        jw_u64(w, "stop_early_h", STURDY_STOP_EARLY_H);
+        jw_u64(w, "permutations_asked", r->nperm_asked);
+    }
     jw_close(w, '}');
 }
 
@@ -429,6 +434,15 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     if (has_perm && !isnan(t->p_perm_fwer)) jw_u64(w, "exceed_fwer", t->exceed_fwer);
     else jw_null(w, "exceed_fwer");
     jw_str(w, "perm_note", t->perm_note);
+    if (r->opts.stop_early && !r->exact) {
+        if (has_perm) {
+            jw_u64(w, "perm_used", t->perm_used);
+            jw_bool(w, "stopped_early", t->stopped_early);
+        } else {
+            jw_null(w, "perm_used");
+            jw_null(w, "stopped_early");
+        }
+    }
     for (int e = 0; e < STURDY_NES; e++) jw_num(w, sturdy_es_names[e], t->es[e]);
     jw_open(w, "ci", '{');
     for (int e = 0; e < STURDY_NES; e++) {
