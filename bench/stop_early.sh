@@ -8,7 +8,8 @@
 # floor), and how many terms changed their decision at alpha = 0.05. Two settings:
 # --bootstrap 0 --compare none (the rearrangements' own cost) and the defaults
 # (bootstrap 2000, comparisons). Run alone: bash bench/stop_early.sh (about 3 minutes
-# on 2 cores). Needs /usr/bin/python3 with numpy.
+# on 2 cores; TAGS=lean runs only the first setting, REPS=N repeats each batch N times
+# and keeps the smallest CPU time, default 3). Needs /usr/bin/python3 with numpy and scipy.
 set -eu
 BIN=${STURDY_BIN:-./build/sturdy}
 OUT=${OUT:-bench/out/stop_early}
@@ -50,9 +51,22 @@ cpu() {   # CPU seconds of one batch run (user + system), the smallest of $REPS
 }
 decisions() {  # "changed/total" decisions at 0.05 between two result folders
     $PY - "$1" "$2" <<'PYEOF'
-import json, sys, glob, os
+import json, sys, glob, os, math
+from scipy.stats import binom
 a, b = sys.argv[1:3]
-ch = tot = stopped = 0
+H, ALPHA = 20, 0.05
+def within_error(p, B=9999):
+    # the band of tests/xcheck_stop_early.py: some p within 3 SE of the full-B estimate
+    # makes the sequential decision differ with probability > 1e-3
+    se = math.sqrt(max(p * (1 - p), 1.0 / B) / B)
+    lo, hi = max(p - 3 * se, 0.0), min(p + 3 * se, 1.0)
+    if (lo <= ALPHA) != (hi <= ALPHA):
+        return True
+    m = math.ceil(H / ALPHA) - 1
+    q = [lo + (hi - lo) * k / 40 for k in range(41)]
+    f = [binom.cdf(H - 1, m, x) if x > ALPHA else 1 - binom.cdf(H - 1, m, x) for x in q]
+    return max(f) > 1e-3
+ch = tot = stopped = outside = 0
 used = []
 for fa in sorted(glob.glob(a + "/r*.json")):
     da = json.load(open(fa)); db = json.load(open(os.path.join(b, os.path.basename(fa))))
@@ -62,13 +76,16 @@ for fa in sorted(glob.glob(a + "/r*.json")):
             if ta["p_perm"] is None: continue
             tot += 1
             stopped += bool(tb.get("stopped_early"))
-            ch += (ta["p_perm"] <= 0.05) != (tb["p_perm"] <= 0.05)
+            if (ta["p_perm"] <= ALPHA) != (tb["p_perm"] <= ALPHA):
+                ch += 1
+                outside += not within_error(ta["p_perm"])
 used.sort()
-print("%d of %d terms changed decision at 0.05; %d stopped early; rearrangements made per "
-      "analysis: median %d, max %d" % (ch, tot, stopped, used[len(used)//2], used[-1]))
+print("%d of %d terms changed decision at 0.05 (%d outside their Monte Carlo error band); "
+      "%d stopped early; rearrangements made per analysis: mean %.0f, median %d, max %d"
+      % (ch, tot, outside, stopped, sum(used) / len(used), used[len(used)//2], used[-1]))
 PYEOF
 }
-for tag in lean default; do
+for tag in ${TAGS:-lean default}; do
     c0=$(cpu "$OUT/plan_${tag}_0_no.csv")
     cfull=$(cpu "$OUT/plan_${tag}_9999_no.csv")
     rm -rf "$OUT/full"; cp -r "$OUT/res" "$OUT/full"
