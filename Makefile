@@ -192,10 +192,11 @@ coverage: deps-test sturdy
 	STURDY_COVERAGE_FULL=1 $(PYTHON3) tests/xcheck_coverage.py
 
 # The comparisons' resampling study (tests/xcheck_maxt.py at STURDY_SLOW=1): family-wise
-# error of the max-T p over 1000 null datasets, simultaneous coverage of the max-|t|
-# bootstrap band over 1000 datasets under the global null and with true differences
-# (skewed errors), and both under unequal and equal spreads over 1000 datasets each;
-# about 25 minutes on 2 cores. docs/compare_study.md holds its figures.
+# error of the permutation and bootstrap max-T p over 1000 null datasets, simultaneous
+# coverage of the max-|t| bootstrap band over 1000 datasets under the global null and
+# with true differences (skewed errors), and all three under unequal and equal spreads
+# over 1000 datasets each; about 25 minutes on 2 cores. docs/compare_study.md holds its
+# figures.
 compare-study: deps-test sturdy
 	STURDY_SLOW=1 $(PYTHON3) tests/xcheck_maxt.py
 

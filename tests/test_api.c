@@ -223,6 +223,7 @@ static void same_compare(const sturdy_result *a, const sturdy_result *b)
                 same_d(x.sim_lo, y.sim_lo) && same_d(x.sim_hi, y.sim_hi) &&
                 same_d(x.p_adjusted, y.p_adjusted) && same_d(x.p_perm_adjusted, y.p_perm_adjusted) &&
                 same_d(x.boot_sim_lo, y.boot_sim_lo) && same_d(x.boot_sim_hi, y.boot_sim_hi) &&
+                same_d(x.p_boot_adjusted, y.p_boot_adjusted) &&
                 x.reported == y.reported && same_s(x.note, y.note) && same_s(x.perm_note, y.perm_note);
     }
     CHECK("read back: every mean and comparison field equals the run's", same);
@@ -258,6 +259,194 @@ static void test_read_back(const sturdy_result *r)
     CHECK("a cut result is refused, naming the file",
           st == STURDY_EDATA && !back && strstr(err, "cut.json"));
     free(text);
+}
+
+/* The bootstrap max-T p of every comparison inverts its simultaneous band: p ≤ 1 − conf
+ * only where the band excludes 0, and the band excludes 0 only where p < 1 − conf +
+ * 2/(B + 1) (the replicate maxima's discreteness; bootcmp.c); within a family the
+ * larger statistic never has the larger p; p is (1 + e)/(B + 1) for a whole e. Counts
+ * the comparisons whose band excludes 0 and those whose band holds it into *excl, *incl. */
+static void boot_inverts(const char *what, const sturdy_result *r, double B, double alpha,
+                         int *excl, int *incl)
+{
+    int ok = 1, have = 0;
+    size_t nc = sturdy_result_ncomparisons(r, 0);
+    for (size_t i = 0; i < nc; i++) {
+        sturdy_comparison_info c, d;
+        sturdy_result_comparison(r, 0, i, &c);
+        if (isnan(c.p_boot_adjusted))
+            continue;
+        have++;
+        int out = !(c.boot_sim_lo <= 0 && 0 <= c.boot_sim_hi);
+        *excl += out;
+        *incl += !out;
+        double e = c.p_boot_adjusted * (B + 1) - 1;
+        ok &= c.p_boot_adjusted > 0 && c.p_boot_adjusted <= 1 && fabs(e - nearbyint(e)) < 1e-9;
+        ok &= !(c.p_boot_adjusted <= alpha) || out;
+        ok &= !out || c.p_boot_adjusted < alpha + 2 / (B + 1);
+        int gh = !strcmp(c.adjustment, "games-howell");
+        for (size_t j = 0; j < nc; j++) {   /* the statistic of the max: |t| at its df */
+            sturdy_result_comparison(r, 0, j, &d);
+            if (strcmp(c.term, d.term) || isnan(d.p_boot_adjusted))
+                continue;
+            /* pooled: |t| (the pooled t); Games–Howell: −ln p at its Welch df */
+            double sc = gh ? -c.p : fabs(c.t), sd = gh ? -d.p : fabs(d.t);
+            ok &= !(sc > sd) || c.p_boot_adjusted <= d.p_boot_adjusted;
+        }
+    }
+    char line[256];
+    snprintf(line, sizeof line, "%s: the bootstrap max-T p inverts the max-|t| band at "
+             "level %g (%d comparisons)", what, 1 - alpha, have);
+    CHECK(line, ok && have > 0);
+}
+
+/* A one-way table whose last cell is five times as spread as the others (n 16, 12, 10,
+ * 8): the spread rule fires and the families are Games–Howell. */
+static sturdy_table *unequal_table(void)
+{
+    static const int ns[] = { 16, 12, 10, 8 };
+    static const char *const lv[] = { "a", "b", "c", "d" }, *const names[] = { "g", "y" };
+    static const char *fields[2][46];
+    static char text[46][32];
+    int i = 0;
+    for (int g = 0; g < 4; g++)
+        for (int k = 0; k < ns[g]; k++, i++) {
+            double u = ((i * 7919 + 3) % 13 - 6) / 3.74;   /* sd ≈ 1 */
+            snprintf(text[i], 32, "%.4f", 10.0 + 0.45 * g + (g == 3 ? 5.0 : 1.0) * u);
+            fields[0][i] = lv[g];
+            fields[1][i] = text[i];
+        }
+    const char *const *cols[2] = { fields[0], fields[1] };
+    sturdy_table *t = NULL;
+    char err[STURDY_ERR_LEN] = "";
+    CHECK("the unequal-spread table", sturdy_table_from_columns("mem", names, 2, cols, i,
+                                                                NULL, &t, err) == STURDY_OK);
+    return t;
+}
+
+/* The column header line of the text report's comparisons holds `col`, and the text
+ * `phrase` (NULL: no check); the header line is the one with "difference" and
+ * "estimate". */
+static int report_quotes(const sturdy_result *r, const char *col, const char *phrase)
+{
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    int ok = sturdy_report_text(r, NULL, &b) == STURDY_OK && b.data;
+    const char *at = ok ? strstr(b.data, "difference ") : NULL;
+    const char *end = at ? strchr(at, '\n') : NULL;
+    ok = at && end && strstr(at, "estimate") && strstr(at, "estimate") < end;
+    if (ok) {
+        const char *c = strstr(at, col);
+        ok = c && c < end;
+    }
+    if (ok && phrase) {   /* the phrase may be wrapped: whitespace runs as one space */
+        size_t k = 0;
+        for (size_t i = 0; i < b.len; i++) {
+            int sp = b.data[i] == ' ' || b.data[i] == '\n';
+            if (!sp || (k && b.data[k - 1] != ' '))
+                b.data[k++] = sp ? ' ' : b.data[i];
+        }
+        b.data[k] = '\0';
+        ok = strstr(b.data, phrase) != NULL;
+    }
+    sturdy_buf_free(&b);
+    return ok;
+}
+
+/* Runs t under o at other levels: the bootstrap max-T p is the same at each (the same
+ * replicates) and inverts each level's band. The levels include, for each p of r below
+ * 0.5, one just above 1 − p (where that band must exclude 0) and one 2.5/(B + 1) below it
+ * (where it must hold 0), so a statistic on another scale than the band's fails. */
+static void inverts_at_levels(const char *what, const sturdy_table *t, sturdy_options o,
+                              const sturdy_result *r, int *excl, int *incl)
+{
+    double B = (double)o.bootstrap, confs[24] = { 0.6, 0.75, 0.9, 0.99 };
+    size_t nconf = 4;
+    sturdy_comparison_info c, x;
+    for (size_t i = 0; sturdy_result_comparison(r, 0, i, &c) && nconf + 2 <= 24; i++)
+        if (c.p_boot_adjusted < 0.5 && c.p_boot_adjusted > 3 / (B + 1)) {
+            confs[nconf++] = 1 - (c.p_boot_adjusted + 0.25 / (B + 1));
+            confs[nconf++] = 1 - (c.p_boot_adjusted - 2.5 / (B + 1));
+        }
+    int same = 1;
+    for (size_t k = 0; k < nconf; k++) {
+        o.conf = confs[k];
+        sturdy_result *rk = run(t, &o, 1, STURDY_OK);
+        if (!rk) continue;
+        boot_inverts(what, rk, B, 1 - confs[k], excl, incl);
+        for (size_t i = 0; sturdy_result_comparison(r, 0, i, &c); i++)
+            same &= sturdy_result_comparison(rk, 0, i, &x) &&
+                    same_d(x.p_boot_adjusted, c.p_boot_adjusted);
+        sturdy_result_free(rk);
+    }
+    char line[256];
+    snprintf(line, sizeof line, "%s: the bootstrap max-T p does not depend on the level "
+             "(%zu levels, %zu near a p)", what, nconf, nconf - 4);
+    CHECK(line, same && nconf > 4);
+}
+
+static void test_boot_adjusted(const sturdy_table *t, const sturdy_result *a)
+{
+    int excl = 0, incl = 0;
+    boot_inverts("pooled families (Tukey–Kramer)", a, 99, 0.05, &excl, &incl);
+    sturdy_options o;
+    set_options(&o);
+    o.bootstrap = 199;
+    o.compare_mode = STURDY_COMPARE_ALL;
+    sturdy_result *r = run(t, &o, 2, STURDY_OK);
+    CHECK("text report, pooled families: the permutation max-T p is quoted (p max-T)",
+          r && report_quotes(r, "p max-T", NULL) && !report_quotes(r, "p boot", NULL));
+    if (r) {
+        boot_inverts("pooled families, B = 199", r, 199, 0.05, &excl, &incl);
+        inverts_at_levels("pooled families (|t|)", t, o, r, &excl, &incl);
+    }
+    sturdy_result_free(r);
+    o.bootstrap = 0;
+    r = run(t, &o, 1, STURDY_OK);
+    sturdy_comparison_info c;
+    CHECK("no bootstrap: no bootstrap max-T p",
+          r && sturdy_result_comparison(r, 0, 0, &c) && isnan(c.p_boot_adjusted) &&
+          !isnan(c.p_perm_adjusted));
+    sturdy_result_free(r);
+    sturdy_table *u = unequal_table();
+    static const char *uy[] = { "y" }, *uf[] = { "g" };
+    set_options(&o);
+    o.model.responses = uy;
+    o.model.factors = uf;
+    o.model.nfactors = 1;
+    o.bootstrap = 499;
+    o.compare_mode = STURDY_COMPARE_ALL;
+    r = u ? run(u, &o, 3, STURDY_OK) : NULL;
+    CHECK("unequal spreads: Games–Howell families",
+          r && sturdy_result_comparison(r, 0, 0, &c) && !strcmp(c.adjustment, "games-howell"));
+    CHECK("text report, Games–Howell families: the bootstrap max-T p is quoted (p boot), "
+          "saying why", r && report_quotes(r, "p boot", "permutation max-T is only "
+                                           "approximate when spreads differ") &&
+          !report_quotes(r, "p max-T", NULL));
+    if (r) {
+        boot_inverts("Games–Howell families, B = 499", r, 499, 0.05, &excl, &incl);
+        inverts_at_levels("Games–Howell families (p scale)", u, o, r, &excl, &incl);
+        char *text = json_of(r, 0);
+        sturdy_result *back = NULL;
+        char err[STURDY_ERR_LEN] = "";
+        CHECK("unequal spreads: the result reads back",
+              sturdy_result_read_json("u.json", text, strlen(text), &back, err) == STURDY_OK);
+        if (back) same_compare(r, back);
+        sturdy_result_free(back);
+        free(text);
+    }
+    sturdy_result_free(r);
+    o.bootstrap = 0;
+    r = u ? run(u, &o, 1, STURDY_OK) : NULL;
+    CHECK("text report, Games–Howell families without a bootstrap: p max-T, said to be "
+          "approximate", r && report_quotes(r, "p max-T", "only approximate when spreads "
+                                            "differ (run a bootstrap"));
+    sturdy_result_free(r);
+    sturdy_table_free(u);
+    char line[128];
+    snprintf(line, sizeof line, "the inversion was tried both ways (%d bands exclude 0, %d "
+             "hold it)", excl, incl);
+    CHECK(line, excl > 0 && incl > 0);
 }
 
 /* Parts of a 3-way split read back from their JSON and added up = the whole run. */
@@ -436,6 +625,7 @@ int main(void)
               isnan(sturdy_term_get(a, 1, 0, STURDY_TV_F)));
         test_recommended(tc, a);
         test_read_back(a);
+        test_boot_adjusted(tc, a);
         test_parts(tv, a);
         test_bad_parts(tv);
         test_cancel(tv);

@@ -51,6 +51,8 @@ compare demo demo.csv -y build_min -f runner,cache,tests -B 4999 --bootstrap 500
 compare plates plates.csv -y signal -f reagent,temp --covariates age -B 2999 --bootstrap 400 --ss 1
 # the resistant test and the tests without the deciding rows count their share per rank
 compare resistant demo.csv -y build_min -f runner,cache,tests -B 999 --bootstrap 0 --resistant
+# --tail-fit: every rank's largest F* gathered to rank 0 and merged (runner is fitted)
+compare tail demo.csv -y build_min -f runner,cache,tests -B 999 --bootstrap 0 --tail-fit
 
 # a rank killed mid-run: the run fails, and no output (nor temporary file) appears
 big="-y signal -f reagent,temp --covariates age -B 5000000 --bootstrap 0 --threads 1"

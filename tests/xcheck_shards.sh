@@ -48,6 +48,8 @@ run_case demo demo.csv -y build_min -f runner,cache,tests -B 2999 --bootstrap 30
 run_case cov cov.csv -y wear,gloss -f site,coat --covariates thick --block lot -B 1999 --bootstrap 250 --ss 2
 run_case flip demo.csv -y build_min -f runner,cache,tests -B 999 --bootstrap 200 --flip --method ter-braak
 # the unequal-variance test permuted with the run's rearrangements (blocks, covariate: HC3)
+# --tail-fit: every term's largest F* travel in the parts (raw f_top) and merge order-free
+run_case tail demo.csv -y build_min -f runner,cache,tests -B 999 --bootstrap 50 --tail-fit
 run_case spread-perm cov.csv -y wear,gloss -f site,coat --covariates thick --block lot -B 999 --bootstrap 0 --spread-scheme permutation
 
 # refusals: each names the offending file, exits 2 and writes nothing

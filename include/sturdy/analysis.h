@@ -95,6 +95,9 @@ typedef struct {
     int stop_early;              /* 1: sequential stopping of the permutation tests
                                     (Besag & Clifford 1991, h = STURDY_STOP_EARLY_H; whole
                                     runs only, not with shards; default 0) */
+    int tail_fit;                /* 1: also p_tail, a generalised Pareto tail fitted to
+                                    the largest F* where fewer than 10 reach F (Knijnenburg
+                                    et al. 2009; default 0) */
 } sturdy_options;
 
 #define STURDY_DEFAULT_SEED 20261201u
@@ -129,6 +132,10 @@ enum {
  * depends only on the observed F and the degrees of freedom (sturdy_fhist_top in the
  * library), so every slice counts on the same edges and slices add up exactly. */
 #define STURDY_FHIST_BINS 41
+
+/* --tail-fit: F* values each term keeps for its tail fit, the 250 largest and the next
+ * one below them (Knijnenburg et al. 2009 start at N_exc = 250 exceedances). */
+#define STURDY_TAIL_KEEP 251
 
 /* JSON names of the effect sizes, indexed as above. */
 extern const char *const sturdy_es_names[STURDY_NES];
@@ -204,6 +211,7 @@ typedef enum {
     STURDY_TV_SENS_P_PERM_WITHOUT, /* the resampled p without them */
     STURDY_TV_RS_STAT,           /* outlier-resistant statistic (options.resistant) */
     STURDY_TV_RS_P_PERM,         /* its resampled p */
+    STURDY_TV_P_TAIL,            /* p from the fitted F* tail (options.tail_fit) */
     STURDY_TV_COUNT
 } sturdy_term_value;
 
@@ -329,6 +337,8 @@ typedef struct {
     double sim_lo, sim_hi, p_adjusted;  /* classical simultaneous interval, adjusted p */
     double p_perm_adjusted;      /* single-step max-T over the family (NaN: none) */
     double boot_sim_lo, boot_sim_hi;    /* max-|t| bootstrap simultaneous interval */
+    double p_boot_adjusted;      /* single-step max-T from the same bootstrap replicates:
+                                    the band's inverse (NaN: none) */
     int reported;                /* the term is among those the report shows */
     const char *note, *perm_note;
 } sturdy_comparison_info;
@@ -368,6 +378,11 @@ typedef struct {
                                     (may be NULL: 0) */
     const uint64_t *f_hist;      /* nresp × nterms × STURDY_FHIST_BINS: the slice's F* on
                                     the fixed bins (may be NULL: none carried) */
+    const double *f_top;         /* --tail-fit: nresp × nterms × STURDY_TAIL_KEEP: each
+                                    term's largest F* of the slice,
+                                    n_top[k] of them, in any order (+∞ allowed; NULL:
+                                    none carried) */
+    const size_t *n_top;         /* nresp × nterms (with f_top) */
 } sturdy_slice;
 
 /* Add a slice's raw material to `r` (built by sturdy_analyze of the same data and

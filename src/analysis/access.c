@@ -93,6 +93,7 @@ double sturdy_term_get(const sturdy_result *r, size_t resp, size_t term, sturdy_
     case STURDY_TV_SENS_P_PERM_WITHOUT: return t->sens.nrows ? t->sens.p_perm_without : NAN;
     case STURDY_TV_RS_STAT: return r->opts.resistant ? t->rs.stat : NAN;
     case STURDY_TV_RS_P_PERM: return r->opts.resistant ? t->rs.p_perm : NAN;
+    case STURDY_TV_P_TAIL: return r->opts.tail_fit ? t->p_tail : NAN;
     case STURDY_TV_COUNT: break;
     }
     return NAN;

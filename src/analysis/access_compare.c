@@ -84,6 +84,7 @@ int sturdy_result_comparison(const sturdy_result *r, size_t resp, size_t i,
     out->p_perm_adjusted = c->p_perm_adjusted;
     out->boot_sim_lo = c->ci_boot_simultaneous.lo;
     out->boot_sim_hi = c->ci_boot_simultaneous.hi;
+    out->p_boot_adjusted = c->p_boot_adjusted;
     out->reported = rr->compare_shown && rr->compare_shown[c->term];
     out->note = c->note;
     out->perm_note = c->perm_note;

@@ -11,6 +11,7 @@
 #include "checks/checks.h"
 #include "classical/classical.h"
 #include "resampling/resampling.h"
+#include "resampling/tail.h"
 #include "core/core.h"
 #include "input/table_layout.h"
 #include "sturdy/dist.h"
@@ -228,6 +229,7 @@ void sturdy_result_free(sturdy_result *r)
         }
         sturdy_free(rr->cmp_boot);
         sturdy_free(rr->cmp_boot_note);
+        sturdy_free(rr->cmp_z);
         sturdy_free(rr->means);
         for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
             sturdy_free(rr->comparisons[i].note);
@@ -427,6 +429,7 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
     if (!r)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     r->opts = run.opts;
+    r->threads = run.threads;
     st = analyze(t, &run, r, err);
     if (!st && o->shard_count == 0 && o->resample)
         st = sturdy_result_finish(r, err);
@@ -470,6 +473,18 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             sum += v;
         }
     }
+    if (r->opts.tail_fit && np && !s->f_top)
+        return sturdy_fail(err, STURDY_EUSAGE, "the part carries no largest F* values for "
+                           "--tail-fit (written without it?)");
+    for (size_t k = 0; s->f_top && k < s->nresp * s->nterms; k++) {
+        if (s->n_top[k] > STURDY_TAIL_KEEP || s->n_top[k] > np)
+            return sturdy_fail(err, STURDY_EUSAGE, "the part keeps more largest F* values "
+                               "than its %llu rearrangements", (unsigned long long)np);
+        for (size_t q = 0; q < s->n_top[k]; q++)
+            if (!(s->f_top[k * STURDY_TAIL_KEEP + q] >= 0))
+                return sturdy_fail(err, STURDY_EUSAGE, "the part's largest F* values hold "
+                                   "something other than non-negative numbers");
+    }
     if (s->cmp_exceed) {
         size_t total = 0;
         for (size_t ri = 0; ri < r->nresp; ri++)
@@ -507,6 +522,9 @@ sturdy_status sturdy_result_add_slice(sturdy_result *r, const sturdy_slice *s, c
             if (s->exceed_resistant) tr->rs.exceed += s->exceed_resistant[k];
             for (size_t q = 0; s->f_hist && q < STURDY_FHIST_BINS; q++)
                 tr->f_hist[q] += s->f_hist[k * STURDY_FHIST_BINS + q];
+            if (s->f_top && r->opts.tail_fit)
+                sturdy_tail_merge(tr->f_top, &tr->n_top, s->f_top + k * STURDY_TAIL_KEEP,
+                                  s->n_top[k]);
             if (tr->boot && nb)
                 memcpy(tr->boot + s->boot_begin * STURDY_BOOT_COLS,
                        s->boot + k * nb * STURDY_BOOT_COLS,
@@ -586,6 +604,9 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
                                            &tr->p_perm_ci.lo, &tr->p_perm_ci.hi);
                 }
                 tr->p_perm_fwer = fmax(tr->p_perm_fwer, tr->p_perm);
+                if (r->opts.tail_fit)   /* beside p_perm, never replacing it */
+                    sturdy_tail_estimate(tr->f_top, tr->n_top, tr->f, r->nperm, tr->exceed,
+                                         r->exact, &tr->p_tail, &tr->tail);
             }
             const char *why_no_boot =
                 !(tr->f >= 0) ? (tr->note ? tr->note : "no effect size to resample")

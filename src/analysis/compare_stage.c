@@ -89,7 +89,7 @@ void sturdy_compare_select(sturdy_result *r)
     const sturdy_options *o = &r->opts;
     const sturdy_design *d = r->design;
     for (size_t ri = 0; ri < r->nresp; ri++)
-        sturdy_compare_adjust(&r->resp[ri], o->conf);
+        sturdy_compare_adjust(&r->resp[ri], o->conf, r->threads);
     /* max-T adjusted p from the counts, as the terms' p (Phipson & Smyth 2010; exact
        when enumerated) */
     for (size_t ri = 0; ri < r->nresp; ri++)

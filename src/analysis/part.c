@@ -43,6 +43,20 @@ sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy
     return STURDY_OK;
 }
 
+sturdy_status sturdy_part_alloc_top(sturdy_part *p, char *err)
+{
+    size_t k = p->s.nresp * p->s.nterms;
+    if (p->f_top)
+        return STURDY_OK;
+    p->f_top = sturdy_calloc(k * STURDY_TAIL_KEEP + 1, sizeof *p->f_top);
+    p->n_top = sturdy_calloc(k + 1, sizeof *p->n_top);
+    if (!p->f_top || !p->n_top)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    p->s.f_top = p->f_top;
+    p->s.n_top = p->n_top;
+    return STURDY_OK;
+}
+
 sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char *err)
 {
     size_t nt = r->nresp ? r->resp[0].nterms : 0, k = r->nresp * nt;
@@ -74,6 +88,21 @@ sturdy_status sturdy_result_part(const sturdy_result *r, sturdy_part **out, char
                        tr->boot + r->boot_begin * STURDY_BOOT_COLS,
                        nb * STURDY_BOOT_COLS * sizeof *p->boot);
         }
+    if (r->opts.tail_fit) {           /* the largest F* of each term (--tail-fit) */
+        if ((st = sturdy_part_alloc_top(p, err))) {
+            sturdy_part_free(p);
+            *out = NULL;
+            return st;
+        }
+        for (size_t ri = 0; ri < r->nresp; ri++)
+            for (size_t t = 0; t < nt; t++) {
+                const sturdy_term_result *tr = &r->resp[ri].terms[t];
+                size_t j = ri * nt + t;
+                p->n_top[j] = tr->n_top;
+                memcpy(p->f_top + j * STURDY_TAIL_KEEP, tr->f_top,
+                       tr->n_top * sizeof *p->f_top);
+            }
+    }
     size_t nc = 0;
     for (size_t ri = 0; ri < r->nresp; ri++)
         nc += r->resp[ri].ncomparisons;
@@ -151,6 +180,12 @@ uint64_t sturdy_part_digest(const sturdy_part *p)
         fnv_u64(&f, p->f_hist[i]);
     for (size_t i = 0; i < k * (size_t)nb * STURDY_BOOT_COLS; i++)
         fnv_double(&f, p->boot[i]);
+    /* the largest F* (--tail-fit), only when carried: other parts' digests unchanged */
+    for (size_t i = 0; p->f_top && i < k; i++) {
+        fnv_u64(&f, 0x746F70ULL + p->n_top[i]);
+        for (size_t q = 0; q < p->n_top[i]; q++)
+            fnv_double(&f, p->f_top[i * STURDY_TAIL_KEEP + q]);
+    }
     fnv_u64(&f, s->ncomparisons);
     for (size_t i = 0; p->cmp_counts && i < s->ncomparisons; i++)
         fnv_u64(&f, p->cmp_counts[i]);
@@ -173,6 +208,8 @@ void sturdy_part_free(sturdy_part *p)
         return;
     sturdy_free(p->counts);
     sturdy_free(p->f_hist);
+    sturdy_free(p->f_top);
+    sturdy_free(p->n_top);
     sturdy_free(p->cmp_counts);
     sturdy_free(p->cmp_boot);
     sturdy_free(p->boot);

@@ -120,6 +120,7 @@ static sturdy_status run_set(const sturdy_table *t, const sturdy_run *run, sturd
         sturdy_run sub = *run;
         sub.exact = 0;               /* drawn from the run's streams, never enumerated */
         sub.progress = NULL;
+        sub.opts.tail_fit = 0;       /* only the counts are used here */
         if (run->perm_end > run->perm_begin &&
             (st = sturdy_permute_run(&sub, w->design, m, w, err)))
             goto done;

@@ -128,6 +128,8 @@ static sturdy_status term_identity(const sturdy_design *d, size_t t, sturdy_term
     for (int e = 0; e < STURDY_NES; e++)
         tr->es[e] = NAN;
     tr->p_perm = tr->p_perm_fwer = tr->p_perm_holm = NAN;
+    tr->p_tail = tr->tail.threshold = tr->tail.xi = tr->tail.sigma = NAN;
+    tr->tail.ad = tr->tail.ad_p = NAN;
     tr->p_perm_ci.lo = tr->p_perm_ci.hi = NAN;
     for (int e = 0; e < STURDY_NES; e++) {
         tr->ci_pct[e].lo = tr->ci_pct[e].hi = tr->ci_bca[e].lo = tr->ci_bca[e].hi = NAN;

@@ -181,7 +181,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
     cp->estimate = cp->se = cp->df = cp->t = cp->p = cp->g = cp->p_adjusted = NAN;
     cp->t_pooled = cp->se_pooled = cp->range_k = NAN;
     cp->ci.lo = cp->ci.hi = cp->ci_simultaneous.lo = cp->ci_simultaneous.hi = NAN;
-    cp->p_perm_adjusted = NAN;
+    cp->p_perm_adjusted = cp->p_boot_adjusted = NAN;
     cp->ci_boot_simultaneous.lo = cp->ci_boot_simultaneous.hi = NAN;
     cp->method = c->gh ? STURDY_ADJ_GAMES_HOWELL : STURDY_ADJ_TUKEY_KRAMER;
     cp->lambda = NAN;
@@ -439,52 +439,94 @@ done:
  * family and k is split (each piece interpolated over its own df). */
 #define COMPARE_QBATCH 512
 
-void sturdy_compare_adjust(sturdy_response_result *rr, double conf)
+/* The comparisons [i, e) that share their simultaneous quantile: a Dunnett family, or
+ * a run of one family's comparisons with the same k (all of a Tukey–Kramer family, one
+ * df; a Games–Howell family has a df per pair, whose quantiles range.c takes at once,
+ * interpolating many distinct df), at most COMPARE_QBATCH; e = i for a comparison without
+ * one. */
+static size_t batch_end(const sturdy_response_result *rr, size_t i)
 {
-    /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
-       (the same residual df), one per comparison under Games–Howell */
-    for (size_t i = 0; i < rr->ncomparisons; i++) {
-        sturdy_comparison *cp = &rr->comparisons[i];
-        if (cp->method == STURDY_ADJ_DUNNETT) {   /* the whole family at once */
-            double lambda[STURDY_MANYONE_MAX];
-            size_t e = i;
-            while (e < rr->ncomparisons && rr->comparisons[e].family == cp->family &&
-                   rr->comparisons[e].method == STURDY_ADJ_DUNNETT)
-                e++;
-            for (size_t j = i; j < e; j++)
-                lambda[j - i] = rr->comparisons[j].lambda;
-            double qd = sturdy_manyone_quantile(conf, e - i, lambda, cp->df);
-            for (size_t j = i; j < e; j++) {
-                sturdy_comparison *cj = &rr->comparisons[j];
-                cj->p_adjusted = sturdy_manyone_upper(fabs(cj->t), e - i, lambda, cj->df);
-                cj->ci_simultaneous.lo = cj->estimate - qd * cj->se;
-                cj->ci_simultaneous.hi = cj->estimate + qd * cj->se;
-            }
-            i = e - 1;
-            continue;
-        }
-        if (!isfinite(cp->t) || !(cp->range_k >= 2))
-            continue;
-        /* the run of this family's comparisons with the same k (all of a Tukey–Kramer
-           family, one df; a Games–Howell family has a df per pair): their quantiles at
-           once (range.c interpolates many distinct df) */
-        size_t e = i;
-        double dfs[COMPARE_QBATCH], qs[COMPARE_QBATCH], work[COMPARE_QBATCH];
-        while (e < rr->ncomparisons && e - i < COMPARE_QBATCH &&
-               rr->comparisons[e].family == cp->family &&
-               rr->comparisons[e].method != STURDY_ADJ_DUNNETT &&
-               rr->comparisons[e].range_k == cp->range_k && isfinite(rr->comparisons[e].t))
+    const sturdy_comparison *cp = &rr->comparisons[i];
+    size_t e = i;
+    if (cp->method == STURDY_ADJ_DUNNETT) {
+        while (e < rr->ncomparisons && rr->comparisons[e].family == cp->family &&
+               rr->comparisons[e].method == STURDY_ADJ_DUNNETT)
             e++;
+        return e;
+    }
+    if (!isfinite(cp->t) || !(cp->range_k >= 2))
+        return i;
+    while (e < rr->ncomparisons && e - i < COMPARE_QBATCH &&
+           rr->comparisons[e].family == cp->family &&
+           rr->comparisons[e].method != STURDY_ADJ_DUNNETT &&
+           rr->comparisons[e].range_k == cp->range_k && isfinite(rr->comparisons[e].t))
+        e++;
+    return e;
+}
+
+/* The simultaneous intervals and adjusted p of the comparisons [i, e) of one batch. */
+static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double conf)
+{
+    sturdy_comparison *cp = &rr->comparisons[i];
+    if (cp->method == STURDY_ADJ_DUNNETT) {   /* the whole family at once */
+        double lambda[STURDY_MANYONE_MAX] = {0};
         for (size_t j = i; j < e; j++)
-            dfs[j - i] = rr->comparisons[j].df;
-        sturdy_range_quantiles(conf, cp->range_k, dfs, e - i, qs, work);
+            lambda[j - i] = rr->comparisons[j].lambda;
+        double qd = sturdy_manyone_quantile(conf, e - i, lambda, cp->df);
         for (size_t j = i; j < e; j++) {
             sturdy_comparison *cj = &rr->comparisons[j];
-            double q = qs[j - i];
-            cj->p_adjusted = sturdy_range_upper(sqrt(2.0) * fabs(cj->t), cj->range_k, cj->df);
-            cj->ci_simultaneous.lo = cj->estimate - q / sqrt(2.0) * cj->se;
-            cj->ci_simultaneous.hi = cj->estimate + q / sqrt(2.0) * cj->se;
+            cj->p_adjusted = sturdy_manyone_upper(fabs(cj->t), e - i, lambda, cj->df);
+            cj->ci_simultaneous.lo = cj->estimate - qd * cj->se;
+            cj->ci_simultaneous.hi = cj->estimate + qd * cj->se;
         }
-        i = e - 1;
+        return;
     }
+    double dfs[COMPARE_QBATCH] = {0}, qs[COMPARE_QBATCH], work[COMPARE_QBATCH];
+    for (size_t j = i; j < e; j++)
+        dfs[j - i] = rr->comparisons[j].df;
+    sturdy_range_quantiles(conf, cp->range_k, dfs, e - i, qs, work);
+    for (size_t j = i; j < e; j++) {
+        sturdy_comparison *cj = &rr->comparisons[j];
+        double q = qs[j - i];
+        cj->ci_simultaneous.lo = cj->estimate - q / sqrt(2.0) * cj->se;
+        cj->ci_simultaneous.hi = cj->estimate + q / sqrt(2.0) * cj->se;
+    }
+}
+
+void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
+{
+    /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
+       (the same residual df), one per comparison under Games–Howell. Batches and
+       comparisons are independent of each other (each value is computed alone), so
+       the threads change nothing but the time. */
+    size_t nc = rr->ncomparisons, nb = 0;
+    size_t *begin = sturdy_malloc((nc + 1) * sizeof *begin);
+    int nt = threads > 1 && begin ? threads : 1;
+    for (size_t i = 0; i < nc;) {
+        size_t e = batch_end(rr, i);
+        if (e == i) {
+            i++;
+            continue;
+        }
+        if (begin)
+            begin[nb++] = i;
+        else
+            adjust_batch(rr, i, e, conf);
+        i = e;
+    }
+#pragma omp parallel num_threads(nt)
+    {
+#pragma omp for schedule(dynamic, 1) nowait
+        for (size_t b = 0; b < nb; b++)
+            adjust_batch(rr, begin[b], batch_end(rr, begin[b]), conf);
+        /* the range-based adjusted p, one tail per comparison */
+#pragma omp for schedule(dynamic, 4)
+        for (size_t j = 0; j < nc; j++) {
+            sturdy_comparison *cj = &rr->comparisons[j];
+            if (cj->method != STURDY_ADJ_DUNNETT && isfinite(cj->t) && cj->range_k >= 2)
+                cj->p_adjusted =
+                    sturdy_range_upper(sqrt(2.0) * fabs(cj->t), cj->range_k, cj->df);
+        }
+    }
+    sturdy_free(begin);
 }

@@ -51,6 +51,28 @@ static void gather_ranges(const sturdy_result *r, uint64_t *all)
     MPI_Allgather(mine, 4, MPI_UINT64_T, all, 4, MPI_UINT64_T, MPI_COMM_WORLD);
 }
 
+/* --tail-fit: top[0..*n) descending becomes the largest STURDY_TAIL_KEEP of it and
+ * add[0..nadd), descending (the library's merge, redone here on a rank's values: the
+ * largest values of a multiset are the same in any order of arrival). */
+static int cmp_desc(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x < y) - (x > y);
+}
+
+static void merge_top(double *top, size_t *n, const double *add, size_t nadd)
+{
+    double buf[2 * STURDY_TAIL_KEEP];
+    if (nadd > STURDY_TAIL_KEEP)
+        nadd = STURDY_TAIL_KEEP;
+    memcpy(buf, top, *n * sizeof *buf);
+    memcpy(buf + *n, add, nadd * sizeof *buf);
+    size_t m = *n + nadd;
+    qsort(buf, m, sizeof *buf, cmp_desc);
+    *n = m < STURDY_TAIL_KEEP ? m : STURDY_TAIL_KEEP;
+    memcpy(top, buf, *n * sizeof *buf);
+}
+
 /* Rank 0 adds the slices of ranks 1..N-1 (contiguous, in rank order) as one slice: the
  * counts summed, the replicates gathered into place. */
 static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
@@ -68,7 +90,14 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
     double *boot = root ? malloc((k * nb * STURDY_BOOT_COLS + 1) * sizeof *boot) : NULL;
     int *counts = calloc((size_t)mpi_size_, sizeof *counts);
     int *displs = calloc((size_t)mpi_size_, sizeof *displs);
-    int ok = mine_c && sum && counts && displs && (boot || !root), all_ok = 0;
+    /* --tail-fit: each rank's largest F* per term as doubles (the count, then the values) */
+    size_t per = own->f_top ? k * (STURDY_TAIL_KEEP + 1) : 0;
+    double *mine_t = per ? calloc(per, sizeof *mine_t) : NULL;
+    double *all_t = per && root ? calloc(per * (size_t)mpi_size_, sizeof *all_t) : NULL;
+    double *rest_top = per && root ? calloc(k * STURDY_TAIL_KEEP + 1, sizeof *rest_top) : NULL;
+    size_t *rest_n = per && root ? calloc(k + 1, sizeof *rest_n) : NULL;
+    int ok = mine_c && sum && counts && displs && (boot || !root) &&
+             (!per || (mine_t && (!root || (all_t && rest_top && rest_n)))), all_ok = 0;
     MPI_Allreduce(&ok, &all_ok, 1, MPI_INT, MPI_MIN, MPI_COMM_WORLD);
     sturdy_status st = STURDY_OK;
     if (!all_ok) {
@@ -126,6 +155,21 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                     MPI_DOUBLE, root ? cb + ri * nb * cols : NULL, counts, displs,
                     MPI_DOUBLE, 0, MPI_COMM_WORLD);
     }
+    if (per) {
+        for (size_t j = 0; j < k; j++) {
+            mine_t[j * (STURDY_TAIL_KEEP + 1)] = (double)own->n_top[j];
+            memcpy(mine_t + j * (STURDY_TAIL_KEEP + 1) + 1, own->f_top + j * STURDY_TAIL_KEEP,
+                   own->n_top[j] * sizeof *mine_t);
+        }
+        MPI_Gather(mine_t, (int)per, MPI_DOUBLE, all_t, (int)per, MPI_DOUBLE, 0,
+                   MPI_COMM_WORLD);
+        for (int q = 1; root && q < mpi_size_; q++)   /* rank 0's own are in r already */
+            for (size_t j = 0; j < k; j++) {
+                const double *src = all_t + (size_t)q * per + j * (STURDY_TAIL_KEEP + 1);
+                merge_top(rest_top + j * STURDY_TAIL_KEEP, &rest_n[j], src + 1,
+                          (size_t)src[0]);
+            }
+    }
     if (root) {
         sturdy_slice rest = { .perm_begin = p0, .perm_end = p1, .boot_begin = b0,
                               .boot_end = b1, .nresp = own->nresp, .nterms = nt,
@@ -135,13 +179,16 @@ static sturdy_status combine_rest(sturdy_result *r, const sturdy_slice *own,
                               .exceed_resistant = sum + 5 * k, .ncomparisons = nc,
                               .cmp_exceed = nc ? sum + 6 * k : NULL,
                               .cmp_boot_cols = cols, .cmp_boot = cb,
-                              .f_hist = nh ? sum + 6 * k + nc : NULL };
+                              .f_hist = nh ? sum + 6 * k + nc : NULL,
+                              .f_top = per ? rest_top : NULL,
+                              .n_top = per ? rest_n : NULL };
         if (!(st = sturdy_result_add_slice(r, &rest, err)))
             st = sturdy_result_finish(r, err);
     }
     free(cb);
 done:
     free(mine_c); free(sum); free(boot); free(counts); free(displs);
+    free(mine_t); free(all_t); free(rest_top); free(rest_n);
     return st;
 }
 

@@ -98,6 +98,28 @@ typedef struct {
     char *note;                  /* why stat or p_perm is absent, else NULL (owned) */
 } sturdy_rs_result;
 
+/* The generalised Pareto tail of a term's F* (tail.c, --tail-fit): how the fit went. */
+typedef enum {
+    STURDY_TAIL_OFF = 0,         /* not asked for, or no permutation p */
+    STURDY_TAIL_FITTED,          /* p_tail computed */
+    STURDY_TAIL_NOT_NEEDED,      /* STURDY_TAIL_MAX_EXCEED or more exceedances */
+    STURDY_TAIL_EXACT,           /* rearrangements enumerated: p_perm is exact */
+    STURDY_TAIL_FEW,             /* fewer than STURDY_TAIL_NEXC_MIN + 1 F* values */
+    STURDY_TAIL_INFINITE,        /* an infinite F* among the largest */
+    STURDY_TAIL_GOF_REJECTED,    /* the Anderson–Darling test rejected at every N_exc */
+    STURDY_TAIL_SHAPE_INVALID,   /* no regular ML estimate (ξ ≤ −1/2 or none) */
+    STURDY_TAIL_BEYOND_SUPPORT   /* F beyond the fitted tail's upper end (ξ < 0) */
+} sturdy_tail_status;
+
+typedef struct {
+    int status;                  /* sturdy_tail_status */
+    size_t n_exc;                /* exceedances fitted (the accepted fit, or the last tried) */
+    size_t n_tried;              /* N_exc values tried */
+    double threshold;            /* t: midway between the N_exc-th and (N_exc+1)-th F* */
+    double xi, sigma;            /* ML shape and scale (NaN: none) */
+    double ad, ad_p;             /* Anderson–Darling A² and its bootstrap p (NaN: none) */
+} sturdy_tail_fit;
+
 typedef struct {
     char *label;                 /* "A×B" */
     sturdy_term_kind kind;
@@ -118,6 +140,12 @@ typedef struct {
     int stopped_early;           /* --stop-early: h exceedances were seen; p_perm = h/L */
     uint64_t f_hist[STURDY_FHIST_BINS]; /* F* of the rearrangements on the fixed bins of
                                     sturdy_fhist_top (classical/fhist.c) */
+    /* --tail-fit (tail.c): the largest F* of the rearrangements so far, descending, and
+       the generalised Pareto tail p fitted to them (NaN: none, see tail.status) */
+    size_t n_top;
+    double f_top[STURDY_TAIL_KEEP];
+    double p_tail;
+    sturdy_tail_fit tail;
     /* bootstrap */
     double *boot;                /* nboot × STURDY_BOOT_COLS row-major replicate rows
                                     (analysis.h: the effect sizes, vᵀu*, ‖u*‖², SSE*, κ*),
@@ -213,6 +241,8 @@ typedef struct {
     double p_adjusted;
     double p_perm_adjusted;      /* single-step max-T (NaN: not computed, perm_note) */
     sturdy_pair ci_boot_simultaneous; /* max-|t| bootstrap (NaN: not computed) */
+    double p_boot_adjusted;      /* single-step max-T from the band's replicate maxima
+                                    (bootcmp.c; NaN: not computed) */
     char *note;                  /* why the numbers are absent, else NULL */
     char *perm_note;             /* why the resampling family is absent */
     /* max-T raw material (permute.c) */
@@ -240,6 +270,8 @@ typedef struct {
                                     |t*| of each family, then each mean's replicate value
                                     (owned; NULL: no bootstrap) */
     char *cmp_boot_note;         /* why the bootstrap intervals are absent */
+    double *cmp_z;               /* ncomparisons × K: z = U·w of each comparison, for the
+                                    own-SE replicates of bootcmp.c (NULL: none) */
     /* read back (read.c): the means and comparisons as the file gives them, with their
        names (a result read back has no design); strings in the result's `owned` */
     size_t rb_nmeans; sturdy_mean_info *rb_means;
@@ -275,6 +307,8 @@ struct sturdy_result {
     uint64_t nperm_asked;        /* --stop-early: the B asked for (nperm: those made) */
     uint64_t perm_stop;          /* --stop-early: where the permutation stage stopped */
     int finished;                /* p-values and intervals computed (not a bare shard) */
+    int threads;                 /* threads for the work of sturdy_result_finish (the
+                                    analysis's count; 0, as read back or merged: one) */
     size_t nresp; sturdy_response_result *resp;
     size_t nnotes; char **notes; /* run-wide remarks (warnings) for the report */
     uint64_t data_checksum;      /* FNV-1a of the used columns' text, to match shards */
@@ -294,6 +328,8 @@ struct sturdy_part {
     sturdy_slice s;              /* points into the arrays below */
     uint64_t *counts;            /* STURDY_PART_COUNTS × nresp × nterms */
     uint64_t *f_hist;            /* nresp × nterms × STURDY_FHIST_BINS */
+    double *f_top;               /* nresp × nterms × STURDY_TAIL_KEEP (NULL: none) */
+    size_t *n_top;               /* nresp × nterms */
     uint64_t *cmp_counts;        /* s.ncomparisons max-T counts (NULL: none) */
     double *cmp_boot;            /* the comparisons' replicate values (NULL: none) */
     double *boot;
@@ -307,6 +343,9 @@ struct sturdy_part {
 /* A zeroed part for nresp × nterms counts and nb replicates per term (boot NaN). */
 sturdy_status sturdy_part_alloc(size_t nresp, size_t nterms, uint64_t nb, sturdy_part **out,
                                 char *err);
+
+/* Give a part room for the largest F* of each term (--tail-fit; zero of each). */
+sturdy_status sturdy_part_alloc_top(sturdy_part *p, char *err);
 
 /* FNV-1a (64 bits) of the part's envelope numbers and raw material: counts, replicate
  * values (non-finite ones as one NaN, −0 as 0) and the comparisons' counts and values.

@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "core/result.h"
+#include "resampling/tail.h"
 #include "sturdy/report.h"
 
 /* A text field, quoted (RFC 4180: quotes doubled) when it holds the delimiter, a quote,
@@ -50,7 +51,7 @@ static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
     sturdy_buf_free(&joined);
 }
 
-static void write_header(sturdy_buf *b);
+static void write_header(sturdy_buf *b, int tail_fit, int stop_early);
 
 /* Columns of the header after response, term, df, ss, ms: each a comma, never a line
  * break, so counting them from the header keeps the residual rows in step with it.
@@ -59,7 +60,7 @@ static size_t header_tail(sturdy_buf *out)
 {
     sturdy_buf h;
     sturdy_buf_init(&h);
-    write_header(&h);
+    write_header(&h, 0, 0);
     if (h.failed) out->failed = 1;
     size_t commas = 0;
     for (size_t i = 0; i < h.len; i++) commas += h.data[i] == ',';
@@ -70,7 +71,7 @@ static size_t header_tail(sturdy_buf *out)
 /* "residual" or "total" row: df, ss, ms (empty when NaN); `note` in the note column. */
 static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
                             const char *what, double df, double ss, double ms,
-                            const char *note, size_t tail)
+                            const char *note, size_t tail, int tail_fit, int stop_early)
 {
     csv_text(b, rr->name);
     sturdy_buf_put(b, ",", 1);
@@ -80,14 +81,22 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
     csv_num(b, ms);
     for (size_t i = 0; i < tail; i++) {
         sturdy_buf_put(b, ",", 1);
-        /* 12 unequal-variance, 11 single-row and resistant and 2 sequential-stopping
-           columns follow the note */
-        if (i + 1 == tail - 25 && note) csv_text(b, note);
+        /* 12 unequal-variance and 11 single-row and resistant columns follow the note */
+        if (i + 1 == tail - 23 && note) csv_text(b, note);
     }
+    if (tail_fit) sturdy_buf_puts(b, ",,,,,,,,");
+    if (stop_early) sturdy_buf_puts(b, ",,");
     sturdy_buf_put(b, "\n", 1);
 }
 
-static void write_header(sturdy_buf *b)
+/* With --tail-fit only, after the others: the GPD tail's p and its fit (tail.c). */
+#define CSV_TAIL_COLUMNS ",p_tail,tail_status,tail_n_exc,tail_threshold,tail_shape," \
+                         "tail_scale,tail_ad,tail_ad_p"
+
+/* With --stop-early only, last: the rearrangements behind p_perm, whether it stopped. */
+#define CSV_STOP_COLUMNS ",perm_used,stopped_early"
+
+static void write_header(sturdy_buf *b, int tail_fit, int stop_early)
 {
     sturdy_buf_puts(b, "response,term,df,ss,ms,f,p,p_perm,p_perm_lo,p_perm_hi,"
                        "p_perm_fwer,p_perm_holm");
@@ -105,7 +114,23 @@ static void write_header(sturdy_buf *b)
                        "uv_p_perm_hi,ats_statistic,ats_df1,ats_df2,ats_p");
     sturdy_buf_puts(b, ",rows_to_change,sens_direction,sens_rows,sens_lines,p_without,"
                        "p_perm_without,rs_statistic,rs_p_perm,rs_p_perm_lo,rs_p_perm_hi,"
-                       "rs_scale,perm_used,stopped_early\n");
+                       "rs_scale");
+    if (tail_fit) sturdy_buf_puts(b, CSV_TAIL_COLUMNS);
+    sturdy_buf_puts(b, stop_early ? CSV_STOP_COLUMNS "\n" : "\n");
+}
+
+static void write_tail(sturdy_buf *b, const sturdy_term_result *t)
+{
+    const sturdy_tail_fit *f = &t->tail;
+    csv_num(b, t->p_tail);
+    sturdy_buf_put(b, ",", 1);
+    if (f->status != STURDY_TAIL_OFF) sturdy_buf_puts(b, sturdy_tail_status_name(f->status));
+    csv_num(b, f->n_tried ? (double)f->n_exc : NAN);
+    csv_num(b, f->threshold);
+    csv_num(b, f->xi);
+    csv_num(b, f->sigma);
+    csv_num(b, f->ad);
+    csv_num(b, f->ad_p);
 }
 
 /* Single rows and the resistant test: rows_to_change, its direction, the rows and their
@@ -208,12 +233,14 @@ static void write_row(sturdy_buf *b, const sturdy_result *r, const sturdy_respon
     for (size_t i = 0; i < sizeof uv / sizeof *uv; i++)
         csv_num(b, uv[i]);
     write_sens_rs(b, r, t);
-    /* --stop-early: the rearrangements behind p_perm and whether the term stopped */
-    int seq = r->opts.stop_early && !r->exact && !isnan(t->p_perm);
-    sturdy_buf_put(b, ",", 1);
-    if (seq) sturdy_buf_printf(b, "%" PRIu64, t->perm_used);
-    sturdy_buf_put(b, ",", 1);
-    if (seq) sturdy_buf_puts(b, t->stopped_early ? "yes" : "no");
+    if (r->opts.tail_fit) write_tail(b, t);
+    if (r->opts.stop_early) {   /* with --stop-early only, last */
+        int seq = !r->exact && !isnan(t->p_perm);
+        sturdy_buf_put(b, ",", 1);
+        if (seq) sturdy_buf_printf(b, "%" PRIu64, t->perm_used);
+        sturdy_buf_put(b, ",", 1);
+        if (seq) sturdy_buf_puts(b, t->stopped_early ? "yes" : "no");
+    }
     sturdy_buf_put(b, "\n", 1);
 }
 
@@ -225,15 +252,16 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
         return STURDY_EUSAGE;   /* no design to describe: the file read is the report */
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
-    write_header(out);
+    write_header(out, r->opts.tail_fit, r->opts.stop_early);
     size_t tail = header_tail(out);
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
         for (size_t k = 0; k < rr->nterms; k++)
             write_row(out, r, rr, &rr->terms[k], o->ascii_terms);
         write_error_row(out, rr, "residual", rr->df_error, rr->ss_error, rr->ms_error,
-                        rr->error_note, tail);
-        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail);
+                        rr->error_note, tail, r->opts.tail_fit, r->opts.stop_early);
+        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail,
+                        r->opts.tail_fit, r->opts.stop_early);
     }
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;
 }
@@ -249,7 +277,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
     sturdy_buf_puts(out, "kind,response,term,levels,factor,level,versus,within,estimate,se,df,"
                          "t,p,hedges_g,ci_lo,ci_hi,adjustment,ci_simultaneous_lo,"
-                         "ci_simultaneous_hi,p_adjusted,p_perm_adjusted,"
+                         "ci_simultaneous_hi,p_adjusted,p_perm_adjusted,p_boot_adjusted,"
                          "ci_bootstrap_lo,ci_bootstrap_hi,reported,note\n");
     sturdy_buf s;
     sturdy_buf_init(&s);
@@ -273,7 +301,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
             sturdy_buf_puts(out, ",,,");
             csv_num(out, m.ci_lo);
             csv_num(out, m.ci_hi);
-            sturdy_buf_puts(out, ",,,,,");
+            sturdy_buf_puts(out, ",,,,,,");
             csv_num(out, r->resp[i].means[k].ci_boot.lo);
             csv_num(out, r->resp[i].means[k].ci_boot.hi);
             sturdy_buf_puts(out, ",,");
@@ -310,6 +338,7 @@ sturdy_status sturdy_report_csv_comparisons(const sturdy_result *r,
             csv_num(out, c.sim_hi);
             csv_num(out, c.p_adjusted);
             csv_num(out, c.p_perm_adjusted);
+            csv_num(out, c.p_boot_adjusted);
             csv_num(out, c.boot_sim_lo);
             csv_num(out, c.boot_sim_hi);
             sturdy_buf_puts(out, c.reported ? ",true," : ",false,");

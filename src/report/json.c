@@ -10,6 +10,7 @@
 #include "analysis/without.h"
 #include "core/result.h"
 #include "report/family.h"
+#include "resampling/tail.h"
 #include "sturdy/names.h"
 #include "sturdy/report.h"
 
@@ -229,6 +230,8 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_num(w, "conf", r->opts.conf);
     jw_num(w, "alpha", r->opts.alpha);
     jw_bool(w, "resistant", r->opts.resistant);
+    if (r->opts.tail_fit)               /* absent without it: older files unchanged */
+        jw_bool(w, "tail_fit", 1);
     if (r->opts.stop_early) {    /* only when asked: other runs' files stay as they were */
         jw_bool(w, "stop_early", 1);
         jw_u64(w, "stop_early_h", STURDY_STOP_EARLY_H);
@@ -413,6 +416,39 @@ static void write_resistant(jw *w, const sturdy_result *r, const sturdy_rs_resul
     jw_close(w, '}');
 }
 
+/* --tail-fit: the GPD tail's p and how its fit went (tail.c); null before finishing. */
+static void write_tail(jw *w, const sturdy_term_result *t)
+{
+    jw_num(w, "p_tail", t->p_tail);
+    const sturdy_tail_fit *f = &t->tail;
+    if (f->status == STURDY_TAIL_OFF) {
+        jw_null(w, "tail_fit");
+        return;
+    }
+    jw_open(w, "tail_fit", '{');
+    jw_str(w, "status", sturdy_tail_status_name(f->status));
+    jw_str(w, "reason", sturdy_tail_status_reason(f->status));
+    if (f->n_tried)
+        jw_str(w, "method", "generalised Pareto, maximum likelihood, on the exceedances of the "
+                        "largest F* over a threshold (Knijnenburg et al. 2009); "
+                        "Anderson-Darling p by parametric bootstrap");
+    if (f->n_tried) {
+        jw_u64(w, "n_exc", f->n_exc);
+        jw_u64(w, "n_exc_tried", f->n_tried);
+    } else {
+        jw_null(w, "n_exc");
+        jw_u64(w, "n_exc_tried", 0);
+    }
+    jw_num(w, "threshold", f->threshold);
+    jw_num(w, "shape", f->xi);
+    jw_num(w, "scale", f->sigma);
+    jw_num(w, "ad_statistic", f->ad);
+    jw_num(w, "ad_p", f->ad_p);
+    if (isnan(f->ad_p)) jw_null(w, "ad_decision");
+    else jw_str(w, "ad_decision", f->ad_p > STURDY_TAIL_GOF_ALPHA ? "accepted" : "rejected");
+    jw_close(w, '}');
+}
+
 static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *t,
                        const sturdy_report_opts *o)
 {
@@ -434,6 +470,8 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     if (has_perm && !isnan(t->p_perm_fwer)) jw_u64(w, "exceed_fwer", t->exceed_fwer);
     else jw_null(w, "exceed_fwer");
     jw_str(w, "perm_note", t->perm_note);
+    if (r->opts.tail_fit)
+        write_tail(w, t);
     if (r->opts.stop_early && !r->exact) {
         if (has_perm) {
             jw_u64(w, "perm_used", t->perm_used);
@@ -488,6 +526,8 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         jw_u64(w, "exceed_without", t->sens.exceed_without);
         jw_u64(w, "exceed_resistant", t->rs.exceed);
         jw_u64s_inline(w, "f_hist", t->f_hist, STURDY_FHIST_BINS);
+        if (r->opts.tail_fit)   /* descending; +∞ as null */
+            jw_nums_inline(w, "f_top", t->f_top, t->n_top);
         if (!t->boot) {
             jw_null(w, "boot");
         } else {
@@ -636,6 +676,7 @@ static void write_compare(jw *w, const sturdy_result *r, const sturdy_response_r
         jw_pair(w, "ci_simultaneous", c->ci_simultaneous);
         jw_num(w, "p_adjusted", c->p_adjusted);
         jw_num(w, "p_perm_adjusted", c->p_perm_adjusted);
+        jw_num(w, "p_boot_adjusted", c->p_boot_adjusted);
         jw_pair(w, "ci_bootstrap_simultaneous", c->ci_boot_simultaneous);
         jw_str(w, "note", c->note);
         jw_str(w, "perm_note", c->perm_note);

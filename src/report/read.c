@@ -195,6 +195,7 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
              get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
              get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread) &&
              (!jv_get(s, "resistant") || get_bool(s, "resistant", &o->resistant)) &&
+             (!jv_get(s, "tail_fit") || get_bool(s, "tail_fit", &o->tail_fit)) &&
              (!jv_get(s, "stop_early") || get_bool(s, "stop_early", &o->stop_early)) &&
              (!jv_get(s, "permutations_asked") ||
               get_u64(s, "permutations_asked", &r->nperm_asked));
@@ -379,6 +380,8 @@ static int read_term(const jv *t, sturdy_term_result *tr)
               get_u64(t, "perm_used", &tr->perm_used)) &&
              (is_kind(jv_get(t, "stopped_early"), JV_NULL) || !jv_get(t, "stopped_early") ||
               get_bool(t, "stopped_early", &tr->stopped_early));
+    tr->p_tail = NAN;                /* present with --tail-fit only */
+    ok = ok && (!jv_get(t, "p_tail") || get_num(t, "p_tail", &tr->p_tail));
     int v = verdict_of(verdict);
     sturdy_free(verdict);
     if (!ok || v < 0)
@@ -497,6 +500,9 @@ static int read_compare(sturdy_result *r, const jv *rj, sturdy_response_result *
         x->sim_hi = sim.hi;
         x->boot_sim_lo = boot.lo;
         x->boot_sim_hi = boot.hi;
+        x->p_boot_adjusted = NAN;   /* optional: absent in files written before it was added */
+        if (jv_get(c, "p_boot_adjusted") && !get_num(c, "p_boot_adjusted", &x->p_boot_adjusted))
+            return 0;
         rr->rb_ncomparisons++;
     }
     return 1;
@@ -679,6 +685,26 @@ static sturdy_status read_raw(const char *name, const jv *raw, sturdy_part *p, s
                                         "than counts within the part's rearrangements");
         hsum += v;
         p->f_hist[j * STURDY_FHIST_BINS + q] = v;
+    }
+    /* the largest F*, descending, with --tail-fit only (null: +∞, an F* without residual) */
+    const jv *ft = jv_get(raw, "f_top");
+    if (ft || p->f_top) {
+        sturdy_status st;
+        if (!is_kind(ft, JV_ARRAY) || ft->n > STURDY_TAIL_KEEP || ft->n > np)
+            return part_fail(err, name, "a term's raw 'f_top' is missing, or holds more than "
+                                        "251 values or than the part's rearrangements");
+        if ((st = sturdy_part_alloc_top(p, err)))
+            return st;
+        for (size_t q = 0; q < ft->n; q++) {
+            const jv *x = &ft->items[q];
+            double v = is_kind(x, JV_NULL) ? INFINITY : jv_double(x);
+            if ((!is_kind(x, JV_NULL) && !is_kind(x, JV_NUMBER)) || !(v >= 0) ||
+                (q && !(v <= p->f_top[j * STURDY_TAIL_KEEP + q - 1])))
+                return part_fail(err, name, "a term's raw 'f_top' holds something other than "
+                                            "non-negative numbers in descending order");
+            p->f_top[j * STURDY_TAIL_KEEP + q] = v;
+        }
+        p->n_top[j] = ft->n;
     }
     const jv *b = jv_get(raw, "boot");
     if (is_kind(b, JV_NULL))

@@ -557,6 +557,7 @@ static void tests_table(tw *w, const sturdy_response_result *rr)
         tw_paraf(w, 2, 4, "residual mean square %s (SS/df); the mean squares of the terms "
                  "are in the JSON and CSV output", ms);
     tw_resistant_note(w, rr);
+    tw_tail_note(w, rr);
     tw_footnotes(w);
 }
 

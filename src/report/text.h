@@ -73,6 +73,8 @@ void tw_sensitivity_check(tw *w, const sturdy_response_result *rr);
  * when it disagrees with both other tests (rs.disagrees). */
 void tw_resistant_cell(tw *w, const sturdy_term_result *t, char *out);
 void tw_resistant_note(tw *w, const sturdy_response_result *rr);
+/* The tail p-values of --tail-fit (text_tail.c): a paragraph under the tests table. */
+void tw_tail_note(tw *w, const sturdy_response_result *rr);
 void tw_resistant_headline(tw *w);
 /* text_resistant.c: the headline's line on multiplicity: which p the verdicts use and how
  * many terms stay significant after the family-wise adjustment (report/family.h). */

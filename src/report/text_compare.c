@@ -65,19 +65,35 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
     tw_paraf(w, 2, 2, "Differences of least-squares means, in the response's units: %g%% "
              "simultaneous intervals over each term's family, classical (Tukey–Kramer, "
              "Games–Howell or Dunnett) and bootstrap (max-|t|); p adj: classical; p max-T: permutation "
-             "(Westfall–Young); g: Hedges' g on the pooled residual SD; means: SE and %g%% "
-             "bootstrap percentile interval", conf, conf);
+             "(Westfall–Young), or p boot: the bootstrap band's own max-T p, quoted instead "
+             "where cell spreads differ; g: Hedges' g on the pooled residual SD; means: SE "
+             "and %g%% bootstrap percentile interval", conf, conf);
     for (size_t t = 0; t < rr->nterms; t++) {
         if (!rr->compare_shown[t]) continue;
         const char *adj = NULL;
-        for (size_t i = 0; i < rr->ncomparisons && !adj; i++)
-            if (rr->comparisons[i].term == t)
-                adj = rr->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL
+        int gh = 0, boot = 0;   /* Games–Howell family; with a bootstrap max-T p */
+        for (size_t i = 0; i < rr->ncomparisons; i++) {
+            const sturdy_comparison *c = &rr->comparisons[i];
+            if (c->term != t) continue;
+            gh |= c->method == STURDY_ADJ_GAMES_HOWELL;
+            boot |= !isnan(c->p_boot_adjusted);
+            if (!adj)
+                adj = c->method == STURDY_ADJ_GAMES_HOWELL
                           ? "Games–Howell (cell spreads differ)"
-                      : rr->comparisons[i].method == STURDY_ADJ_DUNNETT
+                      : c->method == STURDY_ADJ_DUNNETT
                           ? "Dunnett (many-to-one with the control, exact)"
                           : "Tukey–Kramer";
-        tw_paraf(w, 2, 4, "%s — %s", rr->terms[t].label, adj ? adj : "no comparisons");
+        }
+        /* Under unequal spreads the permutation max-T moves rows between cells of unequal
+           spread and is only approximate; the wild bootstrap's max-T p (the band's
+           inverse) is the resampling adjusted p to quote (docs/compare_study.md). */
+        int use_boot = gh && boot;
+        tw_paraf(w, 2, 4, "%s — %s%s", rr->terms[t].label, adj ? adj : "no comparisons",
+                 use_boot ? "; resampling adjusted p: the wild bootstrap's max-T (p boot), "
+                            "as permutation max-T is only approximate when spreads differ"
+                 : gh ? "; p max-T is only approximate when spreads differ (run a "
+                        "bootstrap for the bootstrap max-T p)"
+                      : "");
         mean_line(w, rr, t);
         tw_indent(w, 4);
         tw_style(w, "1");
@@ -86,7 +102,7 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
         tw_cell(w, "  classical", CW_RANGE, 0);
         tw_cell(w, "  bootstrap", CW_RANGE, 0);
         tw_cell(w, "p adj", CW_P, 1);
-        tw_cell(w, "p max-T", CW_P, 1);
+        tw_cell(w, use_boot ? "p boot" : "p max-T", CW_P, 1);
         tw_cell(w, "g", 6, 1);
         tw_style(w, "0");
         tw_nl(w);
@@ -112,7 +128,7 @@ void tw_compare_section(tw *w, const sturdy_response_result *rr)
             else
                 snprintf(brng, sizeof brng, "  —");
             tw_fmt_p(c->p_adjusted, pa);
-            tw_fmt_p(c->p_perm_adjusted, pp);
+            tw_fmt_p(use_boot ? c->p_boot_adjusted : c->p_perm_adjusted, pp);
             tw_fmt_g(c->g, 2, g);
             tw_indent(w, 4);
             tw_cell(w, label, CW_LABEL, 0);

@@ -24,15 +24,34 @@
  * t_{df_c} quantile at two-sided level e^−L, so the band is estimate ± mult_c·SE_GH
  * (single-step min-p inverted; Westfall & Young 1993, §2.6). A pooled-SE band
  * under a residual resample spreads one pooled error law over every cell, which
- * under-covers the differences of the noisy cells (docs/compare_study.md). */
+ * under-covers the differences of the noisy cells (docs/compare_study.md).
+ *
+ * Adjusted p. The same replicate maxima give each comparison a single-step max-T p,
+ * p_boot_adjusted = (1 + #{b : M*_b ≥ m}) / (B + 1), m the observed statistic on the
+ * maxima's scale (|t| pooled, −ln p at its Welch df under Games–Howell) and B the
+ * family's finite replicates: the band's inverse up to the replicates' discreteness.
+ * The replicates are centred on the observed estimates, so this needs no null model;
+ * under unequal spreads it is the resampling adjusted p to quote, as the permutation
+ * max-T (maxt.c) moves rows between cells of unequal spread and is only approximate. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "resampling/bootcmp.h"
+#include "resampling/maxt.h"
 #include "core/core.h"
+#include "resampling/resampling.h"
 #include "sturdy/dist.h"
 #include "sturdy/pcg.h"
+
+/* Does the response studentise its comparisons by their own (Games–Howell) SE? */
+static int het_family(const sturdy_response_result *resp)
+{
+    for (size_t i = 0; i < resp->ncomparisons; i++)
+        if (resp->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL)
+            return 1;
+    return 0;
+}
 
 sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                                    sturdy_result *r, char *err)
@@ -50,6 +69,21 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
         }
         if (cols == 0)
             continue;
+        if (het_family(rr)) {   /* each comparison's z = U·w, once, for het_replicate */
+            size_t K = m->K;
+            if (!(rr->cmp_z = sturdy_calloc(rr->ncomparisons * K + 1, sizeof *rr->cmp_z)))
+                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            for (size_t i = 0; i < rr->ncomparisons; i++) {
+                const sturdy_comparison *c = &rr->comparisons[i];
+                double *z = rr->cmp_z + i * K;
+                for (size_t k = 0; c->w && k < K; k++) {
+                    double v = 0.0;
+                    for (size_t a = 0; a < m->rank; a++)
+                        v += m->U[a * K + k] * c->w[a];
+                    z[k] = v;
+                }
+            }
+        }
         size_t cnt = (size_t)run->nboot * cols;
         if (!(rr->cmp_boot = sturdy_malloc(cnt * sizeof *rr->cmp_boot)))
             return sturdy_fail(err, STURDY_EINTERNAL,
@@ -58,15 +92,6 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
             rr->cmp_boot[k] = NAN;
     }
     return STURDY_OK;
-}
-
-/* Does the response studentise its comparisons by their own (Games–Howell) SE? */
-static int het_family(const sturdy_response_result *resp)
-{
-    for (size_t i = 0; i < resp->ncomparisons; i++)
-        if (resp->comparisons[i].method == STURDY_ADJ_GAMES_HOWELL)
-            return 1;
-    return 0;
 }
 
 /* Row b's family maxima under the wild resample with own-SE studentisation. */
@@ -103,18 +128,13 @@ static void het_replicate(const sturdy_design *d, const sturdy_model *m,
         if (!c->w || !isfinite(c->t))
             continue;
         double est = 0.0, var = 0.0;
+        const double *z = resp->cmp_z + i * K;
         for (size_t a = 0; a < rank; a++)
             est += c->w[a] * work[a];
-        for (size_t k = 0; k < K; k++) {
-            double z = 0.0;
-            for (size_t a = 0; a < rank; a++)
-                z += m->U[a * K + k] * c->w[a];
-            var += z * z * V[k];
-        }
+        for (size_t k = 0; k < K; k++)
+            var += z[k] * z[k] * V[k];
         double t2 = var > 0 ? est * est / var : (est != 0 ? INFINITY : 0.0);
-        double lp = isinf(t2) ? INFINITY : -log(sturdy_f_sf(t2, 1.0, c->df));
-        if (lp > row[c->family])
-            row[c->family] = lp;
+        sturdy_maxt_fold_lp(t2, c->df, &row[c->family]);
     }
 }
 
@@ -198,6 +218,26 @@ static size_t column(const sturdy_result *r, const sturdy_response_result *rr, s
     return k;
 }
 
+/* Single-step max-T adjusted p of an observed statistic m from the k sorted finite
+ * replicate maxima of its family: (1 + #{M* ≥ m}) / (k + 1), with the permutation
+ * engine's tie rule (M* ≥ m(1 − STURDY_TIE_RTOL)). The replicates are centred (each is
+ * a deviation from the observed estimate), so this is the band's inverse: with q the
+ * conf-quantile of the same maxima, p ≤ 1 − conf implies m > q (the band excludes 0),
+ * and m > q implies p ≤ 1 − conf + 2/(k + 1) (Westfall & Young 1993, §2.6). */
+static double adjusted_p(const double *sorted, size_t k, double m)
+{
+    double cut = isinf(m) ? m : m * (1.0 - STURDY_TIE_RTOL);
+    size_t lo = 0, hi = k;                 /* first index with sorted[i] ≥ cut */
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (sorted[mid] >= cut)
+            hi = mid;
+        else
+            lo = mid + 1;
+    }
+    return (1.0 + (double)(k - lo)) / (1.0 + (double)k);
+}
+
 sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
 {
     double conf = r->opts.conf;
@@ -215,6 +255,7 @@ sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
                 rr->means[i].ci_boot.hi = quantile_sorted(buf, k, 0.5 + 0.5 * conf);
             }
         }
+        int het_resp = het_family(rr);
         for (size_t f = 0; f < rr->nfamilies; f++) {
             size_t k = column(r, rr, f, buf);
             if (k < 2)
@@ -222,7 +263,17 @@ sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
             double q = quantile_sorted(buf, k, conf);
             for (size_t i = 0; i < rr->ncomparisons; i++) {
                 sturdy_comparison *c = &rr->comparisons[i];
-                if (c->family != f || !c->w || !isfinite(c->t_pooled))
+                if (c->family != f || !c->w)
+                    continue;
+                /* the adjusted p: the observed statistic on the scale of the replicate
+                   maxima (the members sturdy_bootcmp_replicate takes the maximum over) */
+                double mobs = het_resp ? (isfinite(c->t) ? -log(sturdy_f_sf(c->t * c->t, 1.0,
+                                                                            c->df))
+                                                         : NAN)
+                                       : fabs(c->t_pooled);
+                if (!isnan(mobs))
+                    c->p_boot_adjusted = adjusted_p(buf, k, mobs);
+                if (!isfinite(c->t_pooled))
                     continue;
                 int het = c->method == STURDY_ADJ_GAMES_HOWELL;
                 double se = het ? c->se : c->se_pooled;

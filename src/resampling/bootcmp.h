@@ -30,7 +30,8 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
                               const double *sr, double sse, signed char *sign, double *work);
 
 /* Intervals of a finished run: means' percentile intervals, comparisons' max-|t|
- * simultaneous intervals at the run's level. */
+ * simultaneous intervals at the run's level and their single-step max-T adjusted p
+ * (p_boot_adjusted) from the same replicate maxima. */
 sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err);
 
 #endif

@@ -94,6 +94,115 @@ sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const stu
     return STURDY_OK;
 }
 
+sturdy_status sturdy_maxt_rows(sturdy_maxt *x, const sturdy_design *d, const sturdy_model *m,
+                               const sturdy_result *r, sturdy_method method,
+                               const size_t *blk_rows, const uint32_t *lab0, int flip,
+                               char *err)
+{
+    size_t n = d->n, K = m->K, C = x->C;
+    x->Cp = (C + 3) & ~(size_t)3;
+    x->nresp = r->nresp;
+    x->resp_begin = sturdy_calloc(r->nresp + 1, sizeof *x->resp_begin);
+    x->E = sturdy_calloc(n * r->nresp + 1, sizeof *x->E);
+    x->A = sturdy_calloc(K * x->Cp + 1, sizeof *x->A);
+    if (!x->resp_begin || !x->E || !x->A)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (flip && x->Csq) {   /* flips keep each row's square: no columns needed */
+        x->Csq = 0;
+        if (!(x->Qfix = sturdy_calloc(C * K + 1, sizeof *x->Qfix)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (size_t ri = 0; ri < r->nresp; ri++) {
+        const sturdy_response_result *rr = &r->resp[ri];
+        const double *y = d->y + ri * n;
+        double mean = method == STURDY_METHOD_RAW ? sturdy_mean(y, n) : 0.0;
+        for (size_t k = 0; k < n; k++) {
+            size_t i = blk_rows[k];
+            x->E[k * r->nresp + ri] = method == STURDY_METHOD_RAW ? y[i] - mean
+                                                                  : rr->residual[i];
+        }
+    }
+    size_t ri = 0;
+    for (size_t q = 0; q < C; q++) {
+        const sturdy_maxt_member *mb = &x->cm[q];
+        while (ri < r->nresp && !(mb->cmp >= r->resp[ri].comparisons &&
+                                  mb->cmp < r->resp[ri].comparisons + r->resp[ri].ncomparisons))
+            x->resp_begin[++ri] = q;
+        /* r + q_c (q_cᵀy), as sturdy_maxt_vector: row i of Qw is z_g / √n_g */
+        double scale = method == STURDY_METHOD_FREEDMAN_LANE ? mb->cmp->estimate / mb->ww
+                                                             : 0.0;
+        for (size_t g = 0; method != STURDY_METHOD_RAW && g < K; g++)
+            x->A[g * x->Cp + q] = scale * mb->z[g] / m->sqrt_count[g];
+    }
+    while (ri < r->nresp)
+        x->resp_begin[++ri] = C;
+    for (size_t rj = 0; rj < r->nresp; rj++)
+        for (size_t q = x->resp_begin[rj]; q < x->resp_begin[rj + 1]; q++) {
+            double vv = 0.0;
+            for (size_t k = 0; k < n; k++) {
+                double v = x->E[k * r->nresp + rj] + x->A[lab0[k] * x->Cp + q];
+                if (x->Qfix)
+                    x->Qfix[q * K + lab0[k]] += v * v;
+                vv += v * v;
+            }
+            x->cm[q].vv = vv;
+            for (size_t g = 0; x->Qfix && g < K; g++)
+                x->Qfix[q * K + g] /= m->sqrt_count[g];
+        }
+    return STURDY_OK;
+}
+
+void sturdy_maxt_gather(const sturdy_maxt *x, size_t n, const uint32_t *lab,
+                        const uint32_t *lab0, const signed char *sign, double *T,
+                        double *T2)
+{
+    size_t Cp = x->Cp, nr = x->nresp;
+    for (size_t k = 0; k < n; k++) {
+        const double *restrict a = x->A + (size_t)lab0[k] * Cp;
+        double *restrict dst = T + (size_t)lab[k] * Cp;
+        double sg = sign ? (double)sign[k] : 1.0;
+        for (size_t ri = 0; ri < nr; ri++) {
+            double e = x->E[k * nr + ri];
+            size_t q0 = x->resp_begin[ri], q1 = x->resp_begin[ri + 1];
+            if (nr == 1) {      /* one response: whole groups of 4, padding included,
+                                   which the compiler turns into vector operations */
+                if (T2) {
+                    double *restrict dst2 = T2 + (size_t)lab[k] * Cp;
+                    for (size_t q = 0; q < Cp; q += 4) {
+                        double v0 = e + a[q], v1 = e + a[q + 1];
+                        double v2 = e + a[q + 2], v3 = e + a[q + 3];
+                        dst[q] += v0; dst[q + 1] += v1; dst[q + 2] += v2; dst[q + 3] += v3;
+                        dst2[q] += v0 * v0; dst2[q + 1] += v1 * v1;
+                        dst2[q + 2] += v2 * v2; dst2[q + 3] += v3 * v3;
+                    }
+                } else {
+                    for (size_t q = 0; q < Cp; q += 4) {
+                        dst[q] += sg * (e + a[q]);
+                        dst[q + 1] += sg * (e + a[q + 1]);
+                        dst[q + 2] += sg * (e + a[q + 2]);
+                        dst[q + 3] += sg * (e + a[q + 3]);
+                    }
+                }
+                continue;
+            }
+            if (T2) {
+                double *restrict dst2 = T2 + (size_t)lab[k] * Cp;
+                for (size_t q = q0; q < q1; q++) {
+                    double v = e + a[q];
+                    dst[q] += v;
+                    dst2[q] += v * v;
+                }
+            } else if (sign) {
+                for (size_t q = q0; q < q1; q++)
+                    dst[q] += sg * (e + a[q]);
+            } else {
+                for (size_t q = q0; q < q1; q++)
+                    dst[q] += e + a[q];
+            }
+        }
+    }
+}
+
 void sturdy_maxt_free(sturdy_maxt *x)
 {
     for (size_t q = 0; x->cm && q < x->C; q++)
@@ -101,6 +210,9 @@ void sturdy_maxt_free(sturdy_maxt *x)
     sturdy_free(x->cm);
     sturdy_free(x->fam_begin);
     sturdy_free(x->Qfix);
+    sturdy_free(x->resp_begin);
+    sturdy_free(x->E);
+    sturdy_free(x->A);
     memset(x, 0, sizeof *x);
 }
 
@@ -168,7 +280,36 @@ double sturdy_maxt_t2_het(const sturdy_maxt *x, size_t q, const double *S, const
     double zero = zero_rtol * mb->vv * mb->ww;
     if (var <= zero)
         return num > zero ? INFINITY : NAN;
-    return -log(sturdy_f_sf(num / var, 1.0, mb->df));
+    return num / var;
+}
+
+double sturdy_maxt_lp(double t2, double df)
+{
+    if (isnan(t2))
+        return NAN;
+    return isinf(t2) ? INFINITY : -log(sturdy_f_sf(t2, 1.0, df));
+}
+
+/* An upper bound of sturdy_maxt_lp(t2, df) for every df: the two-sided t tail is larger
+ * than the normal one at every |t| > 0 and finite df (its distribution function rises
+ * with df for t > 0), so −ln p is at most −ln 2Q(|t|); the margin covers the rounding
+ * of both tails (each within 1e-13 relative of its value, −ln p within 1e-12). The
+ * normal tail costs a twentieth of the t tail's incomplete beta. */
+double sturdy_maxt_lp_bound(double t2)
+{
+    if (!(t2 > 0))
+        return isnan(t2) ? NAN : 1e-9;
+    double p = erfc(sqrt(0.5 * t2));
+    return p > 0 ? -log(p) * (1.0 + 1e-9) + 1e-9 : INFINITY;
+}
+
+void sturdy_maxt_fold_lp(double t2, double df, double *mx)
+{
+    if (isnan(t2) || !(sturdy_maxt_lp_bound(t2) > *mx))
+        return;                 /* NaN never wins; nor does a value bounded by the max */
+    double v = sturdy_maxt_lp(t2, df);
+    if (v > *mx)
+        *mx = v;
 }
 
 void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count)
@@ -179,7 +320,10 @@ void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64
             double mx = -1.0;
             for (size_t q = q0; q < q1; q++) {
                 double v = t2[q * nb + bb];
-                if (v > mx) mx = v;   /* NaN never wins */
+                if (x->cm[q].het)       /* on the p scale, −ln p, only where it can win */
+                    sturdy_maxt_fold_lp(v, x->cm[q].df, &mx);
+                else if (v > mx)
+                    mx = v;   /* NaN never wins */
             }
             for (size_t q = q0; q < q1; q++)
                 if (mx >= x->cm[q].t2obs * (1.0 - STURDY_TIE_RTOL))

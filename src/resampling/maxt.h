@@ -32,6 +32,15 @@ typedef struct {
     double *Qfix;                /* C × K (sign flipping, set by permute.c): the scaled
                                     group sums of squares, which flips leave unchanged;
                                     Csq is then 0 */
+    /* The rearranged vectors in row form (sturdy_maxt_rows): comparison q's value at
+     * position k is E[k·nresp + resp(q)] + A[g·Cp + q], g the position's own group, so a
+     * rearrangement reads one value per response and row and a K × Cp table that stays in
+     * cache, instead of an n × C matrix. */
+    size_t Cp;                   /* C rounded up to a multiple of 4 (A's and T's rows) */
+    size_t nresp;
+    size_t *resp_begin;          /* nresp + 1: comparisons of each response */
+    double *E;                   /* n × nresp, positions in block order */
+    double *A;                   /* K × Cp: the per-cell part (zero beyond C) */
 } sturdy_maxt;
 
 /* The comparisons of every response with a pooled t; the others get the note saying why
@@ -47,6 +56,21 @@ void sturdy_maxt_vector(const sturdy_maxt *x, size_t q, const sturdy_design *d,
                         const sturdy_model *m, const sturdy_result *r, sturdy_method method,
                         double *v);
 
+/* Fill E, A and resp_begin for the rearranger's positions (blk_rows: the row at each
+ * position, lab0: its group), every comparison's ‖v‖² (vv) and, for sign flips of het
+ * comparisons, Qfix: the vectors of sturdy_maxt_vector, the same doubles. */
+sturdy_status sturdy_maxt_rows(sturdy_maxt *x, const sturdy_design *d, const sturdy_model *m,
+                               const sturdy_result *r, sturdy_method method,
+                               const size_t *blk_rows, const uint32_t *lab0, int flip,
+                               char *err);
+
+/* Add every comparison's rearranged values to T (K × Cp, by the group each position now
+ * carries: lab[k]) and, when T2 is given, their squares; with sign (flips), s_k times
+ * the value. In position order, as the terms' gather. */
+void sturdy_maxt_gather(const sturdy_maxt *x, size_t n, const uint32_t *lab,
+                        const uint32_t *lab0, const signed char *sign, double *T,
+                        double *T2);
+
 /* (zᵀs*)² of comparison q for nb rearrangements' group sums S (K × nb) into num. */
 void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, size_t K,
                             size_t nb, double *num);
@@ -57,15 +81,25 @@ void sturdy_maxt_numerators(const sturdy_maxt *x, size_t q, const double *S, siz
 double sturdy_maxt_t2(const sturdy_maxt *x, size_t q, double num, double den,
                       double zero_rtol);
 
-/* −ln p of a het comparison q from the scaled group sums S (K) and scaled group sums of
+/* t*² of a het comparison q from the scaled group sums S (K) and scaled group sums of
  * squares Q (K) of its rearranged vector: t*² = (zᵀs*)² ÷ Σ_g z_g² s*_g², with s*_g² the
- * within-cell variance (n_g ≥ 2), p its two-sided t tail at the comparison's Welch df;
- * +∞ / NaN as sturdy_maxt_t2 when no variance is left. */
+ * within-cell variance (n_g ≥ 2); +∞ / NaN as sturdy_maxt_t2 when no variance is left.
+ * sturdy_maxt_count takes it to the p scale (sturdy_maxt_lp at the Welch df). */
 double sturdy_maxt_t2_het(const sturdy_maxt *x, size_t q, const double *S, const double *Q,
                           const double *sqrt_count, size_t K, double num, double zero_rtol);
 
+/* −ln p of t² on the p scale of het comparisons: p the two-sided t(df) tail (+∞ for an
+ * infinite t², NaN for NaN). */
+double sturdy_maxt_lp(double t2, double df);
+/* A cheap upper bound of sturdy_maxt_lp(t2, df) over every df (the normal tail's). */
+double sturdy_maxt_lp_bound(double t2);
+/* *mx = max(*mx, sturdy_maxt_lp(t2, df)), evaluating the t tail only when the bound says
+ * it can exceed *mx: the same maximum as evaluating every value. */
+void sturdy_maxt_fold_lp(double t2, double df, double *mx);
+
 /* Count, per comparison, the rearrangements whose largest t*² over its family is at
- * least its observed t² (tie rule of the engine); t2 is C × nb. */
+ * least its observed t² (tie rule of the engine); t2 is C × nb, raw t*² for het
+ * members too (taken to −ln p here). */
 void sturdy_maxt_count(const sturdy_maxt *x, const double *t2, size_t nb, uint64_t *count);
 
 #endif

@@ -31,6 +31,7 @@
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
+#include "resampling/tail.h"
 #include "resampling/maxt.h"
 #include "resampling/sequential.h"
 #include "classical/classical.h"
@@ -69,6 +70,7 @@ typedef struct {
     int flip;
     sturdy_rearranger ra; /* rows in block order and the rearrangements */
     size_t nb;           /* rearrangements per dgemm block */
+    int tail;            /* --tail-fit: keep each member's largest F* (tail.c) */
 } perm_ctx;
 
 sturdy_status sturdy_permute_count(const sturdy_design *d, int flip, uint64_t *count,
@@ -112,6 +114,10 @@ typedef struct {
     uint64_t *cexceed;   /* C: max-T counts of the comparisons */
     uint64_t *hist;      /* M × STURDY_FHIST_BINS: F* on the fixed bins */
     double *t2;          /* C × nb: t*² of the comparisons */
+    double *T, *T2;      /* K × Cp: the comparisons' group sums (and of squares) of one
+                            rearrangement (maxt.c) */
+    double *top;         /* --tail-fit: M min-heaps of STURDY_TAIL_KEEP largest F* */
+    size_t *ntop;        /* their sizes */
     sturdy_seq_thread *seq; /* --stop-early: the exceedances' indices (sequential.c);
                             NULL without it (not owned) */
 } perm_work;
@@ -124,6 +130,8 @@ static void work_free(perm_work *w)
     sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
     sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
+    sturdy_free(w->T); sturdy_free(w->T2);
+    sturdy_free(w->top); sturdy_free(w->ntop);
 }
 
 /* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
@@ -134,9 +142,12 @@ static double work_bytes(const perm_ctx *c)
     for (size_t j = 0; j < c->M; j++)
         if ((double)c->mem[j].df > maxdf)
             maxdf = (double)c->mem[j].df;
+    if (c->maxt.Csq)
+        MC += (double)c->maxt.Csq;
     return n * 9.0 + 8.0 * (K * (double)c->Mp + MC * K * nb + maxdf * nb + 2.0 * MC * nb +
                             2.0 * M + (double)c->maxt.C * (nb + 1.0) +
-                            M * STURDY_FHIST_BINS + 8.0);
+                            2.0 * K * (double)c->maxt.Cp + M * STURDY_FHIST_BINS + 8.0 +
+                            (c->tail ? M * (STURDY_TAIL_KEEP + 1.0) : 0.0));
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -160,8 +171,13 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->cexceed = sturdy_calloc(c->maxt.C + 1, sizeof *w->cexceed);
     w->t2 = sturdy_malloc((c->maxt.C * nb + 1) * sizeof *w->t2);
     w->hist = sturdy_calloc(M * STURDY_FHIST_BINS + 1, sizeof *w->hist);
+    w->T = sturdy_calloc(K * c->maxt.Cp + 1, sizeof *w->T);
+    w->T2 = sturdy_calloc(c->maxt.Csq ? K * c->maxt.Cp : 1, sizeof *w->T2);
+    if (c->tail && (!(w->top = sturdy_malloc((M * STURDY_TAIL_KEEP + 1) * sizeof *w->top)) ||
+                    !(w->ntop = sturdy_calloc(M + 1, sizeof *w->ntop))))
+        return 0;
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
-           w->exceed && w->fwer && w->cexceed && w->t2 && w->hist;
+           w->exceed && w->fwer && w->cexceed && w->t2 && w->hist && w->T && w->T2;
 }
 
 /* Is F* = (num/df)/(den/df_err) at least the threshold that `c` encodes (num ≥ c·den)?
@@ -178,7 +194,8 @@ static inline int at_least(double num, double den, double c, double vv)
  * w->S[(j·nb + bb)·K + g]. One pass over the rows per rearrangement serves all members. */
 static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
 {
-    size_t n = c->d->n, K = c->m->K, M = c->M + c->maxt.C + c->maxt.Csq, Mp = c->Mp;
+    size_t n = c->d->n, K = c->m->K, M = c->M, Mp = c->Mp;
+    size_t C = c->maxt.C, Cp = c->maxt.Cp, Csq = c->maxt.Csq;
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -208,12 +225,23 @@ static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
                 }
             }
         }
+        if (C)   /* the comparisons' vectors, from their row form */
+            sturdy_maxt_gather(&c->maxt, n, lab, c->ra.lab0, c->flip ? w->sign : NULL,
+                               w->T, Csq ? w->T2 : NULL);
         for (size_t g = 0; g < K; g++) {
             double inv = 1.0 / c->m->sqrt_count[g];
             for (size_t j = 0; j < M; j++)
                 w->S[(j * nb + bb) * K + g] = tmp[g * Mp + j] * inv;
             for (size_t j = 0; j < Mp; j++)
                 tmp[g * Mp + j] = 0.0;
+            for (size_t q = 0; q < C; q++)
+                w->S[((M + q) * nb + bb) * K + g] = w->T[g * Cp + q] * inv;
+            for (size_t q = 0; q < Csq; q++)
+                w->S[((M + C + q) * nb + bb) * K + g] = w->T2[g * Cp + q] * inv;
+            for (size_t q = 0; C && q < Cp; q++)
+                w->T[g * Cp + q] = 0.0;
+            for (size_t q = 0; Csq && q < Cp; q++)
+                w->T2[g * Cp + q] = 0.0;
         }
     }
 }
@@ -312,6 +340,18 @@ static inline void hist_add(const member *mj, double num, double den, uint64_t *
     hist[sturdy_fhist_bin(mj->to_f * num / den, mj->top)]++;
 }
 
+/* Add F* of one rearrangement to member j's largest (--tail-fit), with hist_add's rule:
+ * no residual but a term part is +∞, neither is undefined and not kept. */
+static inline void top_add(const member *mj, double num, double den, double *heap,
+                           size_t *n)
+{
+    double zero = PERM_ZERO_RTOL * mj->vv;
+    if (den > zero)
+        sturdy_tail_push(heap, n, mj->to_f * num / den);
+    else if (num > zero)
+        sturdy_tail_push(heap, n, INFINITY);
+}
+
 /* Statistics of rearrangements [b0, b0 + cnt) and their counts. */
 static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
 {
@@ -332,6 +372,9 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
         for (size_t j = 0; j < M; j++)
             hist_add(&c->mem[j], w->num[j * nb + bb], w->den[j * nb + bb],
                      w->hist + j * STURDY_FHIST_BINS);
+        for (size_t j = 0; c->tail && j < M; j++)
+            top_add(&c->mem[j], w->num[j * nb + bb], w->den[j * nb + bb],
+                    w->top + j * STURDY_TAIL_KEEP, &w->ntop[j]);
         /* Westfall–Young: is the smallest p* over the family ≤ p_j? */
         for (size_t j = 0; j < M; j++)
             for (size_t t = 0; t < M; t++)
@@ -395,13 +438,12 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     size_t M = c->M;
     if (M + c->maxt.C == 0)
         return STURDY_OK;
-    if (c->flip && c->maxt.Csq) {   /* flips keep each row's square: no columns needed */
-        c->maxt.Csq = 0;
-        if (!(c->maxt.Qfix = sturdy_calloc(c->maxt.C * K + 1, sizeof *c->maxt.Qfix)))
-            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    c->Mp = (M + c->maxt.C + c->maxt.Csq + 3) & ~(size_t)3;
+    c->Mp = (M + 3) & ~(size_t)3;
     if ((st = sturdy_rearranger_init(&c->ra, d, c->flip, run->exact, run->opts.seed, err)))
+        return st;
+    if (c->maxt.C &&
+        (st = sturdy_maxt_rows(&c->maxt, d, m, r, run->opts.method, c->ra.blk_rows,
+                               c->ra.lab0, c->flip, err)))
         return st;
     c->V = sturdy_calloc(n * c->Mp, sizeof *c->V);
     c->thr = sturdy_malloc(M * M * sizeof *c->thr + 1);
@@ -438,23 +480,6 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         }
         mb->vv = vv;
     }
-    /* the comparisons' vectors, in the same block order of rows */
-    for (size_t q = 0; q < c->maxt.C; q++) {
-        sturdy_maxt_vector(&c->maxt, q, d, m, r, run->opts.method, v);
-        double vv = 0.0;
-        for (size_t k = 0; k < n; k++) {
-            double x = v[c->ra.blk_rows[k]];
-            c->V[k * c->Mp + M + q] = x;
-            if (c->maxt.Csq)   /* its squares: the cell variances of het comparisons */
-                c->V[k * c->Mp + M + c->maxt.C + q] = x * x;
-            if (c->maxt.Qfix)
-                c->maxt.Qfix[q * K + c->ra.lab0[k]] += x * x;
-            vv += x * x;
-        }
-        c->maxt.cm[q].vv = vv;
-        for (size_t g = 0; c->maxt.Qfix && g < K; g++)
-            c->maxt.Qfix[q * K + g] /= m->sqrt_count[g];
-    }
     sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
     for (size_t t = 0; t < M; t++)
@@ -469,7 +494,8 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
                                 (1.0 - STURDY_TIE_RTOL);
         }
-    size_t nb = PERM_BLOCK_BYTES / (c->Mp * K * sizeof(double) + 1);
+    size_t nb = PERM_BLOCK_BYTES /
+                ((c->Mp + c->maxt.C + c->maxt.Csq) * K * sizeof(double) + 1);
     c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
     return STURDY_OK;
 }
@@ -641,6 +667,7 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     c.d = d;
     c.m = m;
     c.flip = run->opts.flip;
+    c.tail = run->opts.tail_fit;
     sturdy_status st = setup(&c, run, r, err);
     uint64_t b0 = run->perm_begin, b1 = run->perm_end;
     perm_work *ws = NULL;
@@ -683,6 +710,9 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
             tr->exceed_fwer += fwer[j];
             for (size_t q = 0; q < STURDY_FHIST_BINS; q++)
                 tr->f_hist[q] += hist[j * STURDY_FHIST_BINS + q];
+            for (int i = 0; c.tail && i < nthreads; i++)   /* order-free: a multiset */
+                sturdy_tail_merge(tr->f_top, &tr->n_top, ws[i].top + j * STURDY_TAIL_KEEP,
+                                  ws[i].ntop[j]);
         }
         for (size_t q = 0; q < c.maxt.C; q++)
             c.maxt.cm[q].cmp->exceed_maxt += cexceed[q];
