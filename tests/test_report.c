@@ -700,7 +700,7 @@ static void test_csv(const sturdy_result *r)
     CHECK("csv every record has the header's field count", ok);
     /* 56 before the test inversions, + 5 effect sizes × (ti lo, hi, sti lo, hi, rec
        method, lo, hi), + 11 for single rows (rows_to_change … p_perm_without) and the
-       resistant test (rs_statistic … rs_scale) */
+       resistant test (rs_statistic … rs_scale); --tail-fit and --stop-early add theirs */
     CHECK_INT("csv fields per record", nf, 102);
     CHECK("csv test inversion and recommended columns",
           strstr(s, ",partial_eta2_ncf_lo,partial_eta2_ncf_hi,partial_eta2_ti_lo,"

@@ -92,12 +92,18 @@ typedef struct {
                                     filled by sturdy_result_add_slice (merging shards) */
     int resistant;               /* 1: also the outlier-resistant test of every term (Huber
                                     M-estimation, drop in dispersion; default 0) */
+    int stop_early;              /* 1: sequential stopping of the permutation tests
+                                    (Besag & Clifford 1991, h = STURDY_STOP_EARLY_H; whole
+                                    runs only, not with shards; default 0) */
     int tail_fit;                /* 1: also p_tail, a generalised Pareto tail fitted to
                                     the largest F* where fewer than 10 reach F (Knijnenburg
                                     et al. 2009; default 0) */
 } sturdy_options;
 
 #define STURDY_DEFAULT_SEED 20261201u
+/* --stop-early: a term's permutation test stops at its h-th rearrangement at least as
+ * extreme as the data, with p = h/L (L: that rearrangement's 1-based index); README. */
+#define STURDY_STOP_EARLY_H 20
 /* Cells-scheme bootstrap shrinks within-cell variance by (n_c − 1)/n_c; below this many
  * rows per cell the bias is large enough to warn (DESIGN.md, measured coverage 0.74). */
 #define STURDY_CELLS_WARN_ROWS 10

@@ -84,6 +84,13 @@ sturdy_status sturdy_options_validate(const sturdy_options *o, char *err)
         return sturdy_fail(err, STURDY_EUSAGE, "shard I of N needs 1 ≤ I ≤ N");
     if (o->model.order < 0)
         return sturdy_fail(err, STURDY_EUSAGE, "the interaction order must be 0 (all) or more");
+    /* where the whole run stops depends on every earlier rearrangement's counts, which a
+       shard (or an MPI rank) does not see: sequential stopping is for whole runs */
+    if (o->stop_early && o->shard_count)
+        return sturdy_fail(err, STURDY_EUSAGE,
+                           "--stop-early needs the whole run in one process: it cannot be "
+                           "combined with shards (--shard) or MPI ranks, whose slices do not "
+                           "see the counts that decide where the run stops");
     return STURDY_OK;
 }
 
@@ -322,6 +329,7 @@ static sturdy_status plan_resampling(const sturdy_table *t, const sturdy_model *
     }
     r->exact = run->exact;
     r->nperm = run->nperm;
+    r->nperm_asked = run->nperm;
     r->nboot = run->nboot;
     r->perm_begin = run->perm_begin;
     r->perm_end = run->perm_end;
@@ -331,6 +339,36 @@ static sturdy_status plan_resampling(const sturdy_table *t, const sturdy_model *
     assert(run->perm_begin <= run->perm_end && run->perm_end <= run->nperm);
     assert(run->boot_begin <= run->boot_end && run->boot_end <= run->nboot);
     return STURDY_OK;
+}
+
+/* --stop-early: the stages after the permutation tests (unequal-variance, resistant and
+ * without-rows counts, and the max-T and family-wise counts already made) use the
+ * rearrangements the permutation stage made, [0, perm_stop): the run's B becomes that. */
+static sturdy_status stop_early_apply(sturdy_run *run, sturdy_result *r, char *err)
+{
+    if (run->opts.stop_early && run->exact)
+        return add_note(r, sturdy_asprintf("--stop-early has no effect: every rearrangement "
+                                           "was enumerated, so nothing is left to chance"),
+                        err);
+    if (!run->opts.stop_early || run->nperm == 0)
+        return STURDY_OK;
+    assert(run->perm_begin == 0 && run->perm_end == run->nperm);
+    if (r->perm_stop > 0 && r->perm_stop < run->nperm)
+        run->nperm = run->perm_end = r->nperm = r->perm_end = r->perm_stop;
+    size_t stopped = 0, tested = 0;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        for (size_t t = 0; t < r->resp[ri].nterms; t++) {
+            const sturdy_term_result *tr = &r->resp[ri].terms[t];
+            tested += tr->perm_used > 0;
+            stopped += tr->stopped_early != 0;
+        }
+    return add_note(r, sturdy_asprintf(
+        "sequential stopping (Besag & Clifford 1991): %zu of %zu tested terms stopped at "
+        "their %dth rearrangement at least as extreme as the data (p = %d/L); the run made "
+        "%llu of the %llu rearrangements asked for, which the family-wise and max-T "
+        "adjustments, the F* distribution and the other resampled tests use",
+        stopped, tested, STURDY_STOP_EARLY_H, STURDY_STOP_EARLY_H,
+        (unsigned long long)r->nperm, (unsigned long long)r->nperm_asked), err);
 }
 
 static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_result *r,
@@ -347,6 +385,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
             st = sturdy_diagnose_response(d, m, &r->resp[ri], err);
         if (!st && !(st = sturdy_compare_stage(d, m, &run->opts, r, err)) &&
             !(st = run_notes(r, err)) && !(st = sturdy_permute_run(run, d, m, r, err)) &&
+            !(st = stop_early_apply(run, r, err)) &&
             !(st = sturdy_uv_run(run, d, m, r, err)) &&
             !(st = run->opts.resistant ? sturdy_rs_run(run, d, m, r, err) : STURDY_OK) &&
             !(st = sturdy_bootcmp_alloc(run, m, r, err)) &&
@@ -547,7 +586,13 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             if (!tr->perm_note) {
                 double B = (double)r->nperm;
-                if (r->exact) {
+                if (tr->stopped_early) {
+                    /* Besag & Clifford (1991): h exceedances by the L-th rearrangement */
+                    tr->p_perm = (double)tr->exceed / (double)tr->perm_used;
+                    tr->p_perm_fwer = (1.0 + (double)tr->exceed_fwer) / (1.0 + B);
+                    sturdy_clopper_pearson(tr->exceed, tr->perm_used, PERM_CI_LEVEL,
+                                           &tr->p_perm_ci.lo, &tr->p_perm_ci.hi);
+                } else if (r->exact) {
                     tr->p_perm = (double)tr->exceed / B;
                     tr->p_perm_fwer = (double)tr->exceed_fwer / B;
                     tr->p_perm_ci.lo = tr->p_perm_ci.hi = tr->p_perm;

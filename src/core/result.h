@@ -135,6 +135,9 @@ typedef struct {
     double p_perm, p_perm_fwer, p_perm_holm;
     sturdy_pair p_perm_ci;       /* 99% Clopper–Pearson on exceed */
     char *perm_note;
+    uint64_t perm_used;          /* --stop-early: the rearrangements behind p_perm (L when
+                                    stopped, else the run's); 0 without it */
+    int stopped_early;           /* --stop-early: h exceedances were seen; p_perm = h/L */
     uint64_t f_hist[STURDY_FHIST_BINS]; /* F* of the rearrangements on the fixed bins of
                                     sturdy_fhist_top (classical/fhist.c) */
     /* --tail-fit (tail.c): the largest F* of the rearrangements so far, descending, and
@@ -301,6 +304,8 @@ struct sturdy_result {
     uint64_t perm_begin, perm_end; /* the slice computed by this run */
     uint64_t boot_begin, boot_end;
     uint64_t perm_done, boot_done; /* rearrangements / replicates filled in so far */
+    uint64_t nperm_asked;        /* --stop-early: the B asked for (nperm: those made) */
+    uint64_t perm_stop;          /* --stop-early: where the permutation stage stopped */
     int finished;                /* p-values and intervals computed (not a bare shard) */
     int threads;                 /* threads for the work of sturdy_result_finish (the
                                     analysis's count; 0, as read back or merged: one) */

@@ -51,7 +51,7 @@ static void csv_notes(sturdy_buf *b, const sturdy_term_result *t)
     sturdy_buf_free(&joined);
 }
 
-static void write_header(sturdy_buf *b, int tail_fit);
+static void write_header(sturdy_buf *b, int tail_fit, int stop_early);
 
 /* Columns of the header after response, term, df, ss, ms: each a comma, never a line
  * break, so counting them from the header keeps the residual rows in step with it.
@@ -60,7 +60,7 @@ static size_t header_tail(sturdy_buf *out)
 {
     sturdy_buf h;
     sturdy_buf_init(&h);
-    write_header(&h, 0);
+    write_header(&h, 0, 0);
     if (h.failed) out->failed = 1;
     size_t commas = 0;
     for (size_t i = 0; i < h.len; i++) commas += h.data[i] == ',';
@@ -71,7 +71,7 @@ static size_t header_tail(sturdy_buf *out)
 /* "residual" or "total" row: df, ss, ms (empty when NaN); `note` in the note column. */
 static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
                             const char *what, double df, double ss, double ms,
-                            const char *note, size_t tail, int tail_fit)
+                            const char *note, size_t tail, int tail_fit, int stop_early)
 {
     csv_text(b, rr->name);
     sturdy_buf_put(b, ",", 1);
@@ -85,6 +85,7 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
         if (i + 1 == tail - 23 && note) csv_text(b, note);
     }
     if (tail_fit) sturdy_buf_puts(b, ",,,,,,,,");
+    if (stop_early) sturdy_buf_puts(b, ",,");
     sturdy_buf_put(b, "\n", 1);
 }
 
@@ -92,7 +93,10 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
 #define CSV_TAIL_COLUMNS ",p_tail,tail_status,tail_n_exc,tail_threshold,tail_shape," \
                          "tail_scale,tail_ad,tail_ad_p"
 
-static void write_header(sturdy_buf *b, int tail_fit)
+/* With --stop-early only, last: the rearrangements behind p_perm, whether it stopped. */
+#define CSV_STOP_COLUMNS ",perm_used,stopped_early"
+
+static void write_header(sturdy_buf *b, int tail_fit, int stop_early)
 {
     sturdy_buf_puts(b, "response,term,df,ss,ms,f,p,p_perm,p_perm_lo,p_perm_hi,"
                        "p_perm_fwer,p_perm_holm");
@@ -111,7 +115,8 @@ static void write_header(sturdy_buf *b, int tail_fit)
     sturdy_buf_puts(b, ",rows_to_change,sens_direction,sens_rows,sens_lines,p_without,"
                        "p_perm_without,rs_statistic,rs_p_perm,rs_p_perm_lo,rs_p_perm_hi,"
                        "rs_scale");
-    sturdy_buf_puts(b, tail_fit ? CSV_TAIL_COLUMNS "\n" : "\n");
+    if (tail_fit) sturdy_buf_puts(b, CSV_TAIL_COLUMNS);
+    sturdy_buf_puts(b, stop_early ? CSV_STOP_COLUMNS "\n" : "\n");
 }
 
 static void write_tail(sturdy_buf *b, const sturdy_term_result *t)
@@ -229,6 +234,13 @@ static void write_row(sturdy_buf *b, const sturdy_result *r, const sturdy_respon
         csv_num(b, uv[i]);
     write_sens_rs(b, r, t);
     if (r->opts.tail_fit) write_tail(b, t);
+    if (r->opts.stop_early) {   /* with --stop-early only, last */
+        int seq = !r->exact && !isnan(t->p_perm);
+        sturdy_buf_put(b, ",", 1);
+        if (seq) sturdy_buf_printf(b, "%" PRIu64, t->perm_used);
+        sturdy_buf_put(b, ",", 1);
+        if (seq) sturdy_buf_puts(b, t->stopped_early ? "yes" : "no");
+    }
     sturdy_buf_put(b, "\n", 1);
 }
 
@@ -240,15 +252,16 @@ sturdy_status sturdy_report_csv(const sturdy_result *r, const sturdy_report_opts
         return STURDY_EUSAGE;   /* no design to describe: the file read is the report */
     if (!o) { sturdy_report_opts_init(&defaults); o = &defaults; }
     if (o->bom) sturdy_buf_puts(out, "\xEF\xBB\xBF");
-    write_header(out, r->opts.tail_fit);
+    write_header(out, r->opts.tail_fit, r->opts.stop_early);
     size_t tail = header_tail(out);
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
         for (size_t k = 0; k < rr->nterms; k++)
             write_row(out, r, rr, &rr->terms[k], o->ascii_terms);
         write_error_row(out, rr, "residual", rr->df_error, rr->ss_error, rr->ms_error,
-                        rr->error_note, tail, r->opts.tail_fit);
-        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail, r->opts.tail_fit);
+                        rr->error_note, tail, r->opts.tail_fit, r->opts.stop_early);
+        write_error_row(out, rr, "total", rr->df_total, rr->ss_total, NAN, NULL, tail,
+                        r->opts.tail_fit, r->opts.stop_early);
     }
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;
 }

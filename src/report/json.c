@@ -232,6 +232,11 @@ static void write_settings(jw *w, const sturdy_result *r)
     jw_bool(w, "resistant", r->opts.resistant);
     if (r->opts.tail_fit)               /* absent without it: older files unchanged */
         jw_bool(w, "tail_fit", 1);
+    if (r->opts.stop_early) {    /* only when asked: other runs' files stay as they were */
+        jw_bool(w, "stop_early", 1);
+        jw_u64(w, "stop_early_h", STURDY_STOP_EARLY_H);
+        jw_u64(w, "permutations_asked", r->nperm_asked);
+    }
     jw_close(w, '}');
 }
 
@@ -467,6 +472,15 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
     jw_str(w, "perm_note", t->perm_note);
     if (r->opts.tail_fit)
         write_tail(w, t);
+    if (r->opts.stop_early && !r->exact) {
+        if (has_perm) {
+            jw_u64(w, "perm_used", t->perm_used);
+            jw_bool(w, "stopped_early", t->stopped_early);
+        } else {
+            jw_null(w, "perm_used");
+            jw_null(w, "stopped_early");
+        }
+    }
     for (int e = 0; e < STURDY_NES; e++) jw_num(w, sturdy_es_names[e], t->es[e]);
     jw_open(w, "ci", '{');
     for (int e = 0; e < STURDY_NES; e++) {

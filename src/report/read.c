@@ -195,7 +195,10 @@ static const char *read_settings(sturdy_result *r, const jv *doc)
              get_num(s, "alpha", &o->alpha) && get_str(s, "method", &method) &&
              get_str(s, "bootstrap_scheme", &scheme) && get_str(s, "spread_scheme", &spread) &&
              (!jv_get(s, "resistant") || get_bool(s, "resistant", &o->resistant)) &&
-             (!jv_get(s, "tail_fit") || get_bool(s, "tail_fit", &o->tail_fit));
+             (!jv_get(s, "tail_fit") || get_bool(s, "tail_fit", &o->tail_fit)) &&
+             (!jv_get(s, "stop_early") || get_bool(s, "stop_early", &o->stop_early)) &&
+             (!jv_get(s, "permutations_asked") ||
+              get_u64(s, "permutations_asked", &r->nperm_asked));
     int m = method_of(method), b = boot_scheme_of(scheme), sp = spread_scheme_of(spread);
     sturdy_free(method); sturdy_free(scheme); sturdy_free(spread);
     if (!ok || ss < 1 || ss > 3 || m < 0 || b < 0 || sp < 0)
@@ -372,7 +375,11 @@ static int read_term(const jv *t, sturdy_term_result *tr)
              is_kind(ci, JV_OBJECT) && is_kind(factors, JV_ARRAY) &&
              read_uv(jv_get(t, "unequal_variance"), &tr->uv) &&
              read_sens(jv_get(t, "sensitivity"), &tr->sens) &&
-             read_rs(jv_get(t, "resistant"), &tr->rs);
+             read_rs(jv_get(t, "resistant"), &tr->rs) &&
+             (!is_kind(jv_get(t, "perm_used"), JV_NUMBER) ||
+              get_u64(t, "perm_used", &tr->perm_used)) &&
+             (is_kind(jv_get(t, "stopped_early"), JV_NULL) || !jv_get(t, "stopped_early") ||
+              get_bool(t, "stopped_early", &tr->stopped_early));
     tr->p_tail = NAN;                /* present with --tail-fit only */
     ok = ok && (!jv_get(t, "p_tail") || get_num(t, "p_tail", &tr->p_tail));
     int v = verdict_of(verdict);

@@ -124,6 +124,11 @@ static void resampling_line(tw *w, const sturdy_design *d, sturdy_buf *s)
                           (unsigned long long)r->nperm,
                           r->exact ? "rearrangements, all there are (exact)"
                                    : "random rearrangements");
+        if (r->opts.stop_early && !r->exact)
+            sturdy_buf_printf(s, " of the %llu asked for, sequential stopping (--stop-early: "
+                              "each term stops at its %dth as extreme as the data; Besag & "
+                              "Clifford 1991)", (unsigned long long)r->nperm_asked,
+                              STURDY_STOP_EARLY_H);
         /* rearrange.c: with sign flips there is one block and the flips are row by row */
         if (d && d->has_block && r->opts.flip)
             sturdy_buf_printf(s, ", row by row (the block '%s' does not restrict the flips; "

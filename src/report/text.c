@@ -471,6 +471,15 @@ static void term_details(tw *w, const sturdy_term_result *t)
         else {
             tw_fmt_range(t->p_perm_ci, tw_fmt_pr, x);
             n = snprintf(s, sizeof s, "resampled p: 99%% range %s", x);
+            /* --stop-early: which rule gave p, from how many rearrangements */
+            unsigned long long L = (unsigned long long)t->perm_used;
+            if (r->opts.stop_early && t->stopped_early && n > 0 && (size_t)n < sizeof s)
+                n += snprintf(s + n, sizeof s - (size_t)n, "; stopped early: %d as extreme "
+                              "by rearrangement %llu, p = %d/%llu", STURDY_STOP_EARLY_H, L,
+                              STURDY_STOP_EARLY_H, L);
+            else if (r->opts.stop_early && n > 0 && (size_t)n < sizeof s)
+                n += snprintf(s + n, sizeof s - (size_t)n, "; ran to the end: fewer than %d "
+                              "as extreme in %llu", STURDY_STOP_EARLY_H, L);
         }
         if (!isnan(t->p_perm_fwer) && n > 0 && (size_t)n < sizeof s) {
             tw_fmt_p(t->p_perm_fwer, y);

@@ -33,6 +33,7 @@
 #include "resampling/rearrange.h"
 #include "resampling/tail.h"
 #include "resampling/maxt.h"
+#include "resampling/sequential.h"
 #include "classical/classical.h"
 
 /* Work per thread and block is bounded by this many bytes of group sums. */
@@ -117,6 +118,8 @@ typedef struct {
                             rearrangement (maxt.c) */
     double *top;         /* --tail-fit: M min-heaps of STURDY_TAIL_KEEP largest F* */
     size_t *ntop;        /* their sizes */
+    sturdy_seq_thread *seq; /* --stop-early: the exceedances' indices (sequential.c);
+                            NULL without it (not owned) */
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -361,8 +364,11 @@ static void run_block(const perm_ctx *c, uint64_t b0, size_t cnt, perm_work *w)
     for (size_t bb = 0; bb < nb; bb++) {
         for (size_t j = 0; j < M; j++)
             if (at_least(w->num[j * nb + bb], w->den[j * nb + bb], c->mem[j].c,
-                         c->mem[j].vv))
+                         c->mem[j].vv)) {
                 w->exceed[j]++;
+                if (w->seq)
+                    sturdy_seq_note(w->seq, j, b0 + bb);
+            }
         for (size_t j = 0; j < M; j++)
             hist_add(&c->mem[j], w->num[j * nb + bb], w->den[j * nb + bb],
                      w->hist + j * STURDY_FHIST_BINS);
@@ -560,6 +566,98 @@ static void report_progress(const sturdy_run *run, uint64_t add, uint64_t total,
     }
 }
 
+typedef struct {
+    uint64_t done;
+    double last;
+    uint64_t total;
+} perm_progress;
+
+/* Rearrangements [b0, b1) over the threads, in blocks of c->nb aligned on multiples of
+ * c->nb; each thread adds to its own workspace's counts. */
+static void run_range(const perm_ctx *c, const sturdy_run *run, perm_work *ws, int nthreads,
+                      uint64_t b0, uint64_t b1, perm_progress *prog)
+{
+    uint64_t first_blk = b0 / c->nb, last_blk = (b1 + c->nb - 1) / c->nb;
+    int64_t nblocks = (int64_t)(last_blk - first_blk);
+#pragma omp parallel num_threads(nthreads)
+    {
+        perm_work *w = &ws[omp_get_thread_num()];
+#pragma omp for schedule(dynamic, 1)
+        for (int64_t k = 0; k < nblocks; k++) {
+            if (sturdy_run_cancelled(run))
+                continue;
+            uint64_t lo = (first_blk + (uint64_t)k) * c->nb, hi = lo + c->nb;
+            if (lo < b0) lo = b0;
+            if (hi > b1) hi = b1;
+            assert(lo < hi && hi <= run->nperm);
+            run_block(c, lo, (size_t)(hi - lo), w);
+            if (run->progress) {
+#pragma omp critical(sturdy_progress)
+                report_progress(run, hi - lo, prog->total, &prog->done, &prog->last);
+            }
+        }
+    }
+}
+
+/* --stop-early (sequential.c): rounds of rearrangements up to fixed checkpoints; at each,
+ * the members whose h-th exceedance fell in the round stop (Besag & Clifford 1991), and
+ * the run stops when all have. Sets the stopped members' exceed (h), perm_used (L) and
+ * stopped_early in r, and r->perm_stop (the rearrangements the run made: the counts in
+ * the workspaces cover [0, perm_stop)). Whole runs only (no shards: analysis.c). */
+static sturdy_status run_sequential(const perm_ctx *c, const sturdy_run *run, perm_work *ws,
+                                    int nthreads, perm_progress *prog, sturdy_result *r,
+                                    char *err)
+{
+    unsigned h = STURDY_STOP_EARLY_H;
+    uint64_t B = run->perm_end;
+    assert(run->perm_begin == 0);
+    sturdy_seq seq;
+    sturdy_seq_thread *ts = sturdy_calloc((size_t)nthreads, sizeof *ts);
+    uint64_t *total = sturdy_calloc(c->M + 1, sizeof *total);
+    int ok = ts && total && !sturdy_seq_init(&seq, c->M, h, nthreads);
+    for (int i = 0; ok && i < nthreads; i++)
+        ok = !sturdy_seq_thread_init(&ts[i], c->M, h);
+    if (!ok) {
+        for (int i = 0; ts && i < nthreads; i++)
+            sturdy_seq_thread_free(&ts[i]);
+        sturdy_free(ts);
+        sturdy_free(total);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    for (int i = 0; i < nthreads; i++)
+        ws[i].seq = &ts[i];
+    uint64_t lo = 0, hi = 0;
+    while (lo < B && seq.left > 0 && !sturdy_run_cancelled(run)) {
+        hi = sturdy_seq_next_checkpoint(lo, B);
+        run_range(c, run, ws, nthreads, lo, hi, prog);
+        for (size_t j = 0; j < c->M; j++) {
+            total[j] = 0;
+            for (int i = 0; i < nthreads; i++)
+                total[j] += ws[i].exceed[j];
+        }
+        sturdy_seq_checkpoint(&seq, total, ts, nthreads);
+        lo = hi;
+    }
+    r->perm_stop = lo;
+    for (size_t j = 0; j < c->M; j++) {
+        sturdy_term_result *tr = &r->resp[c->mem[j].resp].terms[c->mem[j].term];
+        tr->stopped_early = seq.stop[j] != 0;
+        tr->perm_used = seq.stop[j] ? seq.stop[j] : lo;
+        if (seq.stop[j])
+            tr->exceed = h;
+    }
+    if (run->progress && prog->done < prog->total)   /* the progress line ends */
+        run->progress(run->progress_arg, prog->total, prog->total);
+    for (int i = 0; i < nthreads; i++) {
+        ws[i].seq = NULL;
+        sturdy_seq_thread_free(&ts[i]);
+    }
+    sturdy_free(ts);
+    sturdy_free(total);
+    sturdy_seq_free(&seq);
+    return STURDY_OK;
+}
+
 sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
                                  const sturdy_model *m, sturdy_result *r, char *err)
 {
@@ -575,36 +673,21 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     int nthreads = run->threads;
     if (st || c.M + c.maxt.C == 0 || b1 <= b0 || (st = alloc_workspaces(&c, &nthreads, &ws, err)))
         goto done;
-    uint64_t first_blk = b0 / c.nb, last_blk = (b1 + c.nb - 1) / c.nb;
-    int64_t nblocks = (int64_t)(last_blk - first_blk);
     uint64_t *exceed = sturdy_calloc(c.M + 1, sizeof *exceed);
     uint64_t *fwer = sturdy_calloc(c.M + 1, sizeof *fwer);
     uint64_t *cexceed = sturdy_calloc(c.maxt.C + 1, sizeof *cexceed);
     uint64_t *hist = sturdy_calloc(c.M * STURDY_FHIST_BINS + 1, sizeof *hist);
-    uint64_t done_count = 0;
-    double last_report = sturdy_now_seconds();
+    perm_progress prog = { 0, sturdy_now_seconds(), b1 - b0 };
     if (!exceed || !fwer || !cexceed || !hist) {
         sturdy_free(exceed); sturdy_free(fwer); sturdy_free(cexceed); sturdy_free(hist);
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         goto done;
     }
-#pragma omp parallel num_threads(nthreads)
-    {
-        perm_work *w = &ws[omp_get_thread_num()];
-#pragma omp for schedule(dynamic, 1)
-        for (int64_t k = 0; k < nblocks; k++) {
-            if (sturdy_run_cancelled(run))
-                continue;
-            uint64_t lo = (first_blk + (uint64_t)k) * c.nb, hi = lo + c.nb;
-            if (lo < b0) lo = b0;
-            if (hi > b1) hi = b1;
-            assert(lo < hi && hi <= run->nperm);
-            run_block(&c, lo, (size_t)(hi - lo), w);
-            if (run->progress) {
-#pragma omp critical(sturdy_progress)
-                report_progress(run, hi - lo, b1 - b0, &done_count, &last_report);
-            }
-        }
+    if (!run->opts.stop_early || run->exact) {
+        run_range(&c, run, ws, nthreads, b0, b1, &prog);
+    } else if ((st = run_sequential(&c, run, ws, nthreads, &prog, r, err))) {
+        sturdy_free(exceed); sturdy_free(fwer); sturdy_free(cexceed); sturdy_free(hist);
+        goto done;
     }
     for (int i = 0; i < nthreads; i++) {      /* in thread order: the sums are integers */
         for (size_t j = 0; j < c.M; j++) {
@@ -621,7 +704,8 @@ sturdy_status sturdy_permute_run(const sturdy_run *run, const sturdy_design *d,
     } else {
         for (size_t j = 0; j < c.M; j++) {
             sturdy_term_result *tr = &r->resp[c.mem[j].resp].terms[c.mem[j].term];
-            tr->exceed += exceed[j];
+            tr->exceed += tr->stopped_early ? 0 : exceed[j]; /* stopped: set by
+                                                               run_sequential */
             tr->exceed_fwer += fwer[j];
             for (size_t q = 0; q < STURDY_FHIST_BINS; q++)
                 tr->f_hist[q] += hist[j * STURDY_FHIST_BINS + q];
