@@ -2,6 +2,7 @@
  * each answer with %.17g, for tests/xcheck_compare.sh:
  *   upper Q K DF   → P(Q > q)
  *   quant P K DF   → q with P(Q ≤ q) = p
+ *   tupper, tquant → the same through a table of the inner tail (sturdy_range_table)
  *   many P K DF... → on one line: 1 when sturdy_range_quantiles interpolated (else 0),
  *                    then its quantiles for the (up to 64) df
  * An unreadable line prints "error" and makes the exit status 2. */
@@ -43,6 +44,16 @@ int main(void)
             printf("%.17g\n", sturdy_range_upper(a, k, df));
         } else if (!strcmp(cmd, "quant")) {
             printf("%.17g\n", sturdy_range_quantile(a, k, df));
+        } else if (!strcmp(cmd, "tupper") || !strcmp(cmd, "tquant")) {
+            sturdy_range_table *t = sturdy_range_table_new(k);
+            if (!t) {
+                printf("error\n");
+                rc = 2;
+                continue;
+            }
+            printf("%.17g\n", cmd[1] == 'u' ? sturdy_range_upper_tab(t, a, k, df)
+                                            : sturdy_range_quantile_tab(t, a, k, df));
+            sturdy_range_table_free(t);
         } else {
             printf("error\n");
             rc = 2;

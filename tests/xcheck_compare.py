@@ -15,7 +15,8 @@ Checks and tolerances (the reference is named on every line):
   * the Tukey–Kramer adjusted p and simultaneous interval of each difference:
     scipy.stats.studentized_range.sf(√2·|t|, k, df) and .ppf(conf, k, df), absolute
     1e-9 (scipy integrates numerically to about 1e-11);
-  * the studentized range itself (probe_range) against scipy.stats.studentized_range
+  * the studentized range itself (probe_range) against scipy.stats.studentized_range,
+    integrated and through the comparisons' table of its inner tail
     over k 2..20 and df 2..200 and ∞: upper tail absolute 1e-10, quantile relative 1e-9;
   * an empty cell: its cell mean and the marginal means that average over it are null
     with a note; the means that do not involve it still match statsmodels;
@@ -194,6 +195,41 @@ def check_range():
         else:
             close("range q(%g)" % a, float(line), float(studentized_range.ppf(a, k, d)),
                   1e-9, True, src)
+
+
+def check_range_table():
+    """The tabulated inner tail (sturdy_range_table, used by the comparisons): tails and
+    quantiles against scipy at the tolerances of check_range, and against the integral
+    itself (the untabulated functions) far into the tails."""
+    probe = need_probe("probe_range")
+    qs = []
+    for k in (3, 5, 10, 20):
+        for dfv in (1, 3.3, 5, 40, "inf"):
+            for q in (2.0, 5.0, 8.0):
+                qs.append(("tupper", q, k, dfv))
+            qs.append(("tquant", 0.95, k, dfv))
+    out = probe(["%s %r %d %s" % x for x in qs])
+    for (kind, a, k, dfv), line in zip(qs, out):
+        d = np.inf if dfv == "inf" else float(dfv)
+        src = "scipy studentized_range k=%d df=%s" % (k, dfv)
+        if kind == "tupper":
+            close("table: range P(Q>%g)" % a, float(line), float(studentized_range.sf(a, k, d)),
+                  1e-10, False, src)
+        else:
+            close("table: range q(%g)" % a, float(line), float(studentized_range.ppf(a, k, d)),
+                  1e-9, True, src)
+    keys = [(k, dfv, p) for k in (3, 8, 50) for dfv in ("2", "12", "1000", "inf")
+            for p in ("0.95", "0.999999", "0.999999999")]
+    exact_q = probe(["quant %s %d %s" % (p, k, dfv) for k, dfv, p in keys])
+    tab_q = probe(["tquant %s %d %s" % (p, k, dfv) for k, dfv, p in keys])
+    worst_q = max(abs(float(a) - float(b)) / float(a) for a, b in zip(exact_q, tab_q))
+    report(worst_q <= 1e-13, "table: quantiles at 0.95, 1-1e-6, 1-1e-9 (k 3, 8, 50; df 2 to "
+           "inf) within %.1e of the integral's <= 1e-13 [sturdy_range_quantile]" % worst_q)
+    exact_u = probe(["upper %s %d %s" % (q, k, dfv) for (k, dfv, _), q in zip(keys, exact_q)])
+    tab_u = probe(["tupper %s %d %s" % (q, k, dfv) for (k, dfv, _), q in zip(keys, exact_q)])
+    worst_u = max(abs(float(a) - float(b)) / float(a) for a, b in zip(exact_u, tab_u))
+    report(worst_u <= 1e-13, "table: tails down to 1e-9 within %.1e of the integral's "
+           "(relative) <= 1e-13 [sturdy_range_upper]" % worst_u)
 
 
 def check_range_many():
@@ -385,6 +421,7 @@ def check_games_howell():
 
 def main():
     check_range()
+    check_range_table()
     check_range_many()
     check_games_howell()
     df2 = make_data(3, {"A": ["a1", "a2", "a3"], "B": ["b1", "b2"]})

@@ -438,6 +438,8 @@ done:
 /* Comparisons whose range quantiles are found together (range.c); a longer run of one
  * family and k is split (each piece interpolated over its own df). */
 #define COMPARE_QBATCH 512
+/* distinct k tabulated per response (more are integrated) */
+#define COMPARE_NTAB 32
 
 /* The comparisons [i, e) that share their simultaneous quantile: a Dunnett family, or
  * a run of one family's comparisons with the same k (all of a Tukey–Kramer family, one
@@ -464,8 +466,19 @@ static size_t batch_end(const sturdy_response_result *rr, size_t i)
     return e;
 }
 
+/* The table of the range's inner tail for k among tabs (nt of them), or NULL. */
+static const sturdy_range_table *table_of(sturdy_range_table *const *tabs, const double *tk,
+                                          size_t nt, double k)
+{
+    for (size_t i = 0; i < nt; i++)
+        if (tk[i] == k)
+            return tabs[i];
+    return NULL;
+}
+
 /* The simultaneous intervals and adjusted p of the comparisons [i, e) of one batch. */
-static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double conf)
+static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double conf,
+                         const sturdy_range_table *tab)
 {
     sturdy_comparison *cp = &rr->comparisons[i];
     if (cp->method == STURDY_ADJ_DUNNETT) {   /* the whole family at once */
@@ -484,7 +497,18 @@ static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double 
     double dfs[COMPARE_QBATCH] = {0}, qs[COMPARE_QBATCH], work[COMPARE_QBATCH];
     for (size_t j = i; j < e; j++)
         dfs[j - i] = rr->comparisons[j].df;
-    sturdy_range_quantiles(conf, cp->range_k, dfs, e - i, qs, work);
+    if (tab) {   /* with the tabulated inner tail an exact quantile per distinct df is cheap */
+        for (size_t j = 0; j < e - i; j++) {
+            qs[j] = NAN;
+            for (size_t l = 0; l < j && isnan(qs[j]); l++)
+                if (dfs[l] == dfs[j])
+                    qs[j] = qs[l];
+            if (isnan(qs[j]))
+                qs[j] = sturdy_range_quantile_tab(tab, conf, cp->range_k, dfs[j]);
+        }
+    } else {
+        sturdy_range_quantiles(conf, cp->range_k, dfs, e - i, qs, work);
+    }
     for (size_t j = i; j < e; j++) {
         sturdy_comparison *cj = &rr->comparisons[j];
         double q = qs[j - i];
@@ -499,9 +523,27 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
        (the same residual df), one per comparison under Games–Howell. Batches and
        comparisons are independent of each other (each value is computed alone), so
        the threads change nothing but the time. */
-    size_t nc = rr->ncomparisons, nb = 0;
+    size_t nc = rr->ncomparisons, nb = 0, ntab = 0;
     size_t *begin = sturdy_malloc((nc + 1) * sizeof *begin);
     int nt = threads > 1 && begin ? threads : 1;
+    /* one table of the range's inner tail per k above 2 (the families' level counts);
+       without memory for one, that k is integrated as before (the same values to
+       2e-14) */
+    double tk[COMPARE_NTAB];
+    sturdy_range_table *tabs[COMPARE_NTAB];
+    for (size_t i = 0; i < nc && ntab < COMPARE_NTAB; i++) {
+        const sturdy_comparison *cp = &rr->comparisons[i];
+        int seen = 0;
+        for (size_t j = 0; j < ntab; j++)
+            seen |= tk[j] == cp->range_k;
+        if (cp->method == STURDY_ADJ_DUNNETT || !isfinite(cp->t) || !(cp->range_k > 2) || seen)
+            continue;
+        tk[ntab] = cp->range_k;
+        tabs[ntab++] = NULL;
+    }
+#pragma omp parallel for schedule(dynamic, 1) num_threads(nt)
+    for (size_t i = 0; i < ntab; i++)
+        tabs[i] = sturdy_range_table_new(tk[i]);
     for (size_t i = 0; i < nc;) {
         size_t e = batch_end(rr, i);
         if (e == i) {
@@ -511,22 +553,26 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
         if (begin)
             begin[nb++] = i;
         else
-            adjust_batch(rr, i, e, conf);
+            adjust_batch(rr, i, e, conf, table_of(tabs, tk, ntab, rr->comparisons[i].range_k));
         i = e;
     }
 #pragma omp parallel num_threads(nt)
     {
 #pragma omp for schedule(dynamic, 1) nowait
         for (size_t b = 0; b < nb; b++)
-            adjust_batch(rr, begin[b], batch_end(rr, begin[b]), conf);
+            adjust_batch(rr, begin[b], batch_end(rr, begin[b]), conf,
+                         table_of(tabs, tk, ntab, rr->comparisons[begin[b]].range_k));
         /* the range-based adjusted p, one tail per comparison */
 #pragma omp for schedule(dynamic, 4)
         for (size_t j = 0; j < nc; j++) {
             sturdy_comparison *cj = &rr->comparisons[j];
             if (cj->method != STURDY_ADJ_DUNNETT && isfinite(cj->t) && cj->range_k >= 2)
                 cj->p_adjusted =
-                    sturdy_range_upper(sqrt(2.0) * fabs(cj->t), cj->range_k, cj->df);
+                    sturdy_range_upper_tab(table_of(tabs, tk, ntab, cj->range_k),
+                                           sqrt(2.0) * fabs(cj->t), cj->range_k, cj->df);
         }
     }
+    for (size_t i = 0; i < ntab; i++)
+        sturdy_range_table_free(tabs[i]);
     sturdy_free(begin);
 }
