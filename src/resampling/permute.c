@@ -31,6 +31,7 @@
 #include "core/core.h"
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
+#include "resampling/cellcount.h"
 #include "resampling/maxt.h"
 #include "classical/classical.h"
 
@@ -67,6 +68,7 @@ typedef struct {
     double *thr;         /* M × M: thr[t·M + j] = c-factor of member t at p_j */
     int flip;
     sturdy_rearranger ra; /* rows in block order and the rearrangements */
+    sturdy_cellcount *cc; /* the group sums from cell counts (cellcount.c); NULL: gather */
     size_t nb;           /* rearrangements per dgemm block */
 } perm_ctx;
 
@@ -111,6 +113,7 @@ typedef struct {
     uint64_t *cexceed;   /* C: max-T counts of the comparisons */
     uint64_t *hist;      /* M × STURDY_FHIST_BINS: F* on the fixed bins */
     double *t2;          /* C × nb: t*² of the comparisons */
+    sturdy_cellcount_work *ccw;
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -121,6 +124,7 @@ static void work_free(perm_work *w)
     sturdy_free(w->S); sturdy_free(w->C);
     sturdy_free(w->num); sturdy_free(w->den); sturdy_free(w->exceed); sturdy_free(w->fwer);
     sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
+    sturdy_cellcount_work_free(w->ccw);
 }
 
 /* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
@@ -133,7 +137,8 @@ static double work_bytes(const perm_ctx *c)
             maxdf = (double)c->mem[j].df;
     return n * 9.0 + 8.0 * (K * (double)c->Mp + MC * K * nb + maxdf * nb + 2.0 * MC * nb +
                             2.0 * M + (double)c->maxt.C * (nb + 1.0) +
-                            M * STURDY_FHIST_BINS + 8.0);
+                            M * STURDY_FHIST_BINS + 8.0) +
+           sturdy_cellcount_work_bytes(c->cc);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -157,6 +162,8 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     w->cexceed = sturdy_calloc(c->maxt.C + 1, sizeof *w->cexceed);
     w->t2 = sturdy_malloc((c->maxt.C * nb + 1) * sizeof *w->t2);
     w->hist = sturdy_calloc(M * STURDY_FHIST_BINS + 1, sizeof *w->hist);
+    if (c->cc && !(w->ccw = sturdy_cellcount_work_alloc(c->cc)))
+        return 0;
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer && w->cexceed && w->t2 && w->hist;
 }
@@ -181,7 +188,9 @@ static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
         double *tmp = w->tmp;
         /* the values in order, each added to the group its position now carries */
         const uint32_t *lab = c->flip ? c->ra.lab0 : w->lab;
-        if (c->flip) {
+        if (c->cc) {
+            sturdy_cellcount_sums(c->cc, w->ccw, w->lab, w->sign, tmp);
+        } else if (c->flip) {
             for (size_t k = 0; k < n; k++) {
                 const double *row = c->V + k * Mp;
                 double *dst = tmp + (size_t)lab[k] * Mp;
@@ -369,6 +378,8 @@ static sturdy_status choose_members(perm_ctx *c, const sturdy_run *run, sturdy_r
             mb->U = m->terms[t].Uterm;
             mb->df = m->terms[t].df;
             mb->c = tr->f * (double)mb->df / (double)m->df_error * (1.0 - STURDY_TIE_RTOL);
+            if (!(tr->f > STURDY_TIE_ZERO))
+                mb->c = 0.0;        /* zero up to rounding: every rearrangement counts */
             mb->to_f = (double)m->df_error / (double)mb->df;
             mb->top = sturdy_fhist_top(tr->f, (double)mb->df, (double)m->df_error);
         }
@@ -450,6 +461,14 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             c->maxt.Qfix[q * K + g] /= m->sqrt_count[g];
     }
     sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
+    /* the group sums from cell counts where the cost model prefers it: V is then unused */
+    if ((st = sturdy_cellcount_init(&c->cc, c->V, n, c->Mp, M + c->maxt.C, c->maxt.Csq,
+                                    c->ra.lab0, K, c->flip, err)))
+        return st;
+    if (c->cc) {
+        sturdy_free(c->V);
+        c->V = NULL;
+    }
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
     for (size_t t = 0; t < M; t++)
         for (size_t j = 0; j < M; j++) {
@@ -615,6 +634,7 @@ done:
     sturdy_free(c.V);
     sturdy_free(c.thr);
     sturdy_rearranger_free(&c.ra);
+    sturdy_cellcount_free(c.cc);
     sturdy_maxt_free(&c.maxt);
     return st;
 }
