@@ -75,6 +75,8 @@ sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const stu
             mb->df = cp->df;
             mb->t2obs = mb->het ? -log(sturdy_f_sf(cp->t * cp->t, 1.0, cp->df))
                                 : cp->t_pooled * cp->t_pooled;
+            if (mb->t2obs <= (mb->het ? STURDY_TIE_ZERO_LOGP : STURDY_TIE_ZERO))
+                mb->t2obs = 0.0;    /* zero up to rounding: every rearrangement counts */
             if (!(mb->z = sturdy_calloc(K, sizeof *mb->z)))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             double ww = 0;
