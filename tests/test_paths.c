@@ -6,7 +6,7 @@
  * Then the two ways the engine forms the group sums of a rearrangement (forced through
  * STURDY_PERM_PATH): the row gather and the cell-count table (cellcount.c), which must
  * give identical exceedance, family-wise and max-T counts and F* bins on every method,
- * flip and SS type, over many data sets: continuous, heavily tied (integer responses),
+ * flip and SS type, over nine more data sets: continuous, heavily tied (integer responses),
  * and with cell spreads unequal enough that the comparisons are studentised per cell
  * (their squared columns); and the cell-count sums against a direct sum. */
 #include <math.h>
@@ -331,7 +331,7 @@ int main(void)
     g_boot = 0;
     g_compare = STURDY_COMPARE_ALL;
     static const char *kinds[] = {"continuous", "tied", "unequal-spread"};
-    for (uint64_t seed = 100; seed < 106; seed++)
+    for (uint64_t seed = 100; seed < 103; seed++)
         for (int kind = 0; kind < 3; kind++) {
             int unb = (int)(seed % 2);
             char *csv = make_csv_kind(seed, 4 + (size_t)(seed % 3), unb, kind);
