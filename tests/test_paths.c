@@ -1,7 +1,14 @@
 /* test_paths.c — the cell-sum path against the straightforward n-row path: identical
  * exceedance counts (and matching bootstrap intervals) on balanced, unbalanced and
  * blocked designs, for every method and SS type. The row path treats every row as its
- * own group (sturdy_model_spec.row_groups), so its projections are n-row products. */
+ * own group (sturdy_model_spec.row_groups), so its projections are n-row products.
+ *
+ * Then the two ways the engine forms the group sums of a rearrangement (forced through
+ * STURDY_PERM_PATH): the row gather and the cell-count table (cellcount.c), which must
+ * give identical exceedance, family-wise and max-T counts and F* bins on every method,
+ * flip and SS type, over nine more data sets: continuous, heavily tied (integer responses),
+ * and with cell spreads unequal enough that the comparisons are studentised per cell
+ * (their squared columns); and the cell-count sums against a direct sum. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -9,7 +16,20 @@
 
 #include "check.h"
 #include "core/result.h"
+#include "resampling/cellcount.h"
 #include "sturdy/sturdy.h"
+
+/* what run() asks besides its arguments */
+static uint64_t g_boot = 300;
+static sturdy_compare_mode g_compare = STURDY_COMPARE_SIGNIFICANT;
+
+static void set_path(const char *p)
+{
+    if (p)
+        setenv(STURDY_PERM_PATH_ENV, p, 1);
+    else
+        unsetenv(STURDY_PERM_PATH_ENV);
+}
 
 /* Bootstrap endpoints of the two paths differ only by rounding in sums of different
  * length; 1e-9 relative leaves room for that and nothing else. */
@@ -17,7 +37,9 @@
 
 /* Invented property-test data: 3 factors (3×2×2), `per` rows per cell (plus `extra`
  * rows in some cells for unbalance), a block of 3 levels, skewed errors. */
-static char *make_csv(uint64_t seed, size_t per, int unbalanced)
+/* kind 0: as above; 1: responses rounded to whole units (y) and halves (z), so many
+ * rearrangements tie; 2: spreads that differ by factor a (y) and b (z) several-fold. */
+static char *make_csv_kind(uint64_t seed, size_t per, int unbalanced, int kind)
 {
     sturdy_pcg64 g;
     sturdy_pcg_for(&g, seed, 7, 0);
@@ -31,13 +53,22 @@ static char *make_csv(uint64_t seed, size_t per, int unbalanced)
                 for (size_t i = 0; i < k; i++) {
                     double u = sturdy_pcg_unit(&g), v = sturdy_pcg_unit(&g);
                     double e = -log(1.0 - u) - 1.0; /* centred exponential */
-                    double y = 10 + 0.8 * a + 0.5 * (b == c) + e;
-                    double z = 3 + 0.3 * b + (v - 0.5);
+                    double y = 10 + 0.8 * a + 0.5 * (b == c) + e * (kind == 2 ? 1 + 3 * a : 1);
+                    double z = 3 + 0.3 * b + (v - 0.5) * (kind == 2 ? 1 + 5 * b : 1);
+                    if (kind == 1) {
+                        y = floor(y + 0.5);
+                        z = floor(2 * z + 0.5) / 2;
+                    }
                     len += (size_t)snprintf(csv + len, cap - len, "a%d,b%d,c%d,k%zu,%.6f,%.6f\n",
                                             a, b, c, i % 3, y, z);
                 }
             }
     return csv;
+}
+
+static char *make_csv(uint64_t seed, size_t per, int unbalanced)
+{
+    return make_csv_kind(seed, per, unbalanced, 0);
 }
 
 static sturdy_result *run(const char *csv, int rows, int method, int flip, int ss, int block,
@@ -64,7 +95,8 @@ static sturdy_result *run(const char *csv, int rows, int method, int flip, int s
     o.flip = flip;
     o.ss_type = ss;
     o.permutations = B;
-    o.bootstrap = 300;
+    o.bootstrap = g_boot;
+    o.compare_mode = g_compare;
     sturdy_context ctx;
     sturdy_context_init(&ctx);
     ctx.threads = 2;
@@ -100,6 +132,163 @@ static void compare(const char *what, const sturdy_result *a, const sturdy_resul
         }
 }
 
+/* Everything the rearrangements count, identical between two runs of the same data. */
+static void compare_counts(const char *what, const sturdy_result *a, const sturdy_result *b)
+{
+    char name[256];
+    CHECK(what, a && b);
+    if (!a || !b)
+        return;
+    for (size_t ri = 0; ri < a->nresp; ri++) {
+        for (size_t t = 0; t < a->resp[ri].nterms; t++) {
+            const sturdy_term_result *x = &a->resp[ri].terms[t], *y = &b->resp[ri].terms[t];
+            snprintf(name, sizeof name, "%s %s %s exceed", what, a->resp[ri].name, x->label);
+            CHECK_INT(name, x->exceed, y->exceed);
+            snprintf(name, sizeof name, "%s %s %s exceed_fwer", what, a->resp[ri].name,
+                     x->label);
+            CHECK_INT(name, x->exceed_fwer, y->exceed_fwer);
+            int same = 1;
+            uint64_t tot = 0;
+            for (size_t q = 0; q < STURDY_FHIST_BINS; q++) {
+                same &= x->f_hist[q] == y->f_hist[q];
+                tot += x->f_hist[q];
+            }
+            snprintf(name, sizeof name, "%s %s %s F* bins identical (%llu counted)", what,
+                     a->resp[ri].name, x->label, (unsigned long long)tot);
+            CHECK(name, same);
+        }
+        CHECK_INT("same number of comparisons", a->resp[ri].ncomparisons,
+                  b->resp[ri].ncomparisons);
+        for (size_t i = 0; i < a->resp[ri].ncomparisons && i < b->resp[ri].ncomparisons; i++) {
+            const sturdy_comparison *x = &a->resp[ri].comparisons[i],
+                                    *y = &b->resp[ri].comparisons[i];
+            snprintf(name, sizeof name, "%s %s comparison %zu%s (t %.3g) exceed_maxt", what,
+                     a->resp[ri].name, i, x->method == STURDY_ADJ_GAMES_HOWELL ? " (het)" : "",
+                     x->t_pooled);
+            CHECK_INT(name, x->exceed_maxt, y->exceed_maxt);
+        }
+    }
+}
+
+/* One data set on every method, flip and SS type, gather against cell counts. */
+static void gather_vs_cells(const char *tag, const char *csv, int block, uint64_t B)
+{
+    static const char *methods[] = {"freedman-lane", "ter-braak", "raw"};
+    char what[160];
+    for (int ss = 1; ss <= 3; ss++)
+        for (int method = 0; method < 3; method++)
+            for (int flip = 0; flip <= 1; flip++) {
+                if (flip && method == 2 && ss != 3)
+                    continue;
+                set_path("gather");
+                sturdy_result *a = run(csv, 0, method, flip, ss, block, B);
+                set_path("cells");
+                sturdy_result *b = run(csv, 0, method, flip, ss, block, B);
+                set_path(NULL);
+                snprintf(what, sizeof what, "cells %s%s ss%d %s%s", tag, block ? "+block" : "",
+                         ss, methods[method], flip ? "+flip" : "");
+                compare_counts(what, a, b);
+                sturdy_result_free(a);
+                sturdy_result_free(b);
+            }
+}
+
+/* sturdy_cellcount_sums against the direct sum of the rearranged columns, on columns of
+ * two kinds (two bases) plus squares, with K = 7 groups of unequal size; and the cost
+ * model's choice at the benchmark shapes. */
+static void unit_cellcount(void)
+{
+    enum { n = 500, K = 7, nlin = 6, nsq = 3, Mp = 12 };
+    static double V[n * Mp], ref[K * Mp], got[K * Mp], e2[2][n], a[nlin][K];
+    static uint32_t lab0[n], lab[n];
+    static signed char sign[n];
+    char err[STURDY_ERR_LEN];
+    sturdy_pcg64 g;
+    sturdy_pcg_for(&g, 5, 9, 0);
+    for (size_t k = 0; k < n; k++) {
+        lab0[k] = (uint32_t)((k * k + 3 * k) % K);
+        e2[0][k] = sturdy_pcg_unit(&g) - 0.5;
+        e2[1][k] = 3.0 * (sturdy_pcg_unit(&g) - 0.5);
+    }
+    for (int b = 0; b < 2; b++) {      /* zero mean in every group */
+        double s[K] = {0}, c[K] = {0};
+        for (size_t k = 0; k < n; k++) { s[lab0[k]] += e2[b][k]; c[lab0[k]]++; }
+        for (size_t k = 0; k < n; k++) e2[b][k] -= s[lab0[k]] / c[lab0[k]];
+    }
+    for (size_t j = 0; j < nlin; j++)
+        for (size_t h = 0; h < K; h++)
+            a[j][h] = 10.0 * sturdy_pcg_unit(&g) - 5.0;
+    for (size_t k = 0; k < n; k++) {
+        for (size_t j = 0; j < nlin; j++)
+            V[k * Mp + j] = e2[j % 2][k] + a[j][lab0[k]];
+        for (size_t q = 0; q < nsq; q++)
+            V[k * Mp + nlin + q] = V[k * Mp + nlin - nsq + q] * V[k * Mp + nlin - nsq + q];
+    }
+    for (int flip = 0; flip <= 1; flip++) {
+        size_t sq = flip ? 0 : nsq;
+        sturdy_cellcount *cc = NULL;
+        set_path("gather");
+        CHECK("forced gather: no cell-count set-up",
+              sturdy_cellcount_init(&cc, V, n, Mp, nlin, sq, lab0, K, flip, err) == STURDY_OK &&
+                  cc == NULL);
+        set_path("cells");
+        CHECK("forced cells: a cell-count set-up",
+              sturdy_cellcount_init(&cc, V, n, Mp, nlin, sq, lab0, K, flip, err) == STURDY_OK &&
+                  cc != NULL);
+        set_path(NULL);
+        if (!cc)
+            continue;
+        sturdy_cellcount_work *w = sturdy_cellcount_work_alloc(cc);
+        CHECK("cell-count workspace", w != NULL);
+        double worst = 0.0;
+        for (int rep = 0; w && rep < 20; rep++) {
+            memcpy(lab, lab0, sizeof lab);
+            for (size_t i = n; i > 1; i--) {
+                size_t j = (size_t)sturdy_pcg_bounded(&g, i);
+                uint32_t t = lab[i - 1]; lab[i - 1] = lab[j]; lab[j] = t;
+            }
+            for (size_t k = 0; k < n; k++)
+                sign[k] = sturdy_pcg_unit(&g) < 0.5 ? -1 : 1;
+            memset(ref, 0, sizeof ref);
+            memset(got, 0, sizeof got);
+            for (size_t k = 0; k < n; k++)
+                for (size_t j = 0; j < nlin + sq; j++)
+                    ref[(flip ? lab0[k] : lab[k]) * Mp + j] += (flip ? sign[k] : 1) * V[k * Mp + j];
+            sturdy_cellcount_sums(cc, w, lab, sign, got);
+            for (size_t i = 0; i < K * Mp; i++)
+                worst = fmax(worst, fabs(got[i] - ref[i]) / (1.0 + fabs(ref[i])));
+        }
+        CHECK_ABS(flip ? "cell-count sums = direct sums (flips)"
+                       : "cell-count sums = direct sums (permutations, squares)",
+                  worst, 0.0, 1e-12);
+        sturdy_cellcount_work_free(w);
+        sturdy_cellcount_free(cc);
+    }
+    /* the cost model: an f3_200k-like shape (n = 100,000, K = 60, 16 columns) takes the cell
+     * counts, bal2000's (n = 2000, K = 80, 8 columns) keeps the gather */
+    struct { size_t n, K, Mp; int want; const char *what; } shapes[] = {
+        {100000, 60, 16, 1, "cost model: n 100000, K 60, 16 columns -> cells"},
+        {2000, 80, 8, 0, "cost model: n 2000, K 80, 8 columns -> gather"},
+    };
+    for (size_t s = 0; s < 2; s++) {
+        size_t nn = shapes[s].n, KK = shapes[s].K, MM = shapes[s].Mp;
+        double *VV = calloc(nn * MM, sizeof *VV);
+        uint32_t *l0 = malloc(nn * sizeof *l0);
+        for (size_t k = 0; k < nn; k++) {
+            l0[k] = (uint32_t)(k % KK);
+            double e = sturdy_pcg_unit(&g) - 0.5;
+            for (size_t j = 0; j + 1 < MM; j++)
+                VV[k * MM + j] = e + (double)(j % 5) * (double)l0[k];
+        }
+        sturdy_cellcount *cc = NULL;
+        sturdy_status st = sturdy_cellcount_init(&cc, VV, nn, MM, MM - 1, 0, l0, KK, 0, err);
+        CHECK(shapes[s].what, st == STURDY_OK && (cc != NULL) == shapes[s].want);
+        sturdy_cellcount_free(cc);
+        free(VV);
+        free(l0);
+    }
+}
+
 int main(void)
 {
     static const char *methods[] = {"freedman-lane", "ter-braak", "raw"};
@@ -112,16 +301,45 @@ int main(void)
                     for (int flip = 0; flip <= 1; flip++) {
                         if (flip && method == 2 && ss != 3)
                             continue;
+                        set_path("gather");
                         sturdy_result *a = run(csv, 0, method, flip, ss, block, 499);
                         sturdy_result *b = run(csv, 1, method, flip, ss, block, 499);
+                        set_path("cells");
+                        g_boot = 0;
+                        sturdy_result *c = run(csv, 0, method, flip, ss, block, 499);
+                        sturdy_result *e = run(csv, 1, method, flip, ss, block, 499);
+                        g_boot = 300;
+                        set_path(NULL);
                         snprintf(what, sizeof what, "%s%s ss%d %s%s",
                                  unb ? "unbalanced" : "balanced", block ? "+block" : "", ss,
                                  methods[method], flip ? "+flip" : "");
                         compare(what, a, b);
+                        char w2[160];
+                        snprintf(w2, sizeof w2, "cells vs gather, %s", what);
+                        compare_counts(w2, a, c);
+                        snprintf(w2, sizeof w2, "cells vs gather, rows, %s", what);
+                        compare_counts(w2, b, e);
                         sturdy_result_free(a);
                         sturdy_result_free(b);
+                        sturdy_result_free(c);
+                        sturdy_result_free(e);
                     }
         free(csv);
     }
+    unit_cellcount();
+    /* many data sets, every comparison computed: continuous, tied and unequal spreads */
+    g_boot = 0;
+    g_compare = STURDY_COMPARE_ALL;
+    static const char *kinds[] = {"continuous", "tied", "unequal-spread"};
+    for (uint64_t seed = 100; seed < 103; seed++)
+        for (int kind = 0; kind < 3; kind++) {
+            int unb = (int)(seed % 2);
+            char *csv = make_csv_kind(seed, 4 + (size_t)(seed % 3), unb, kind);
+            char tag[96];
+            snprintf(tag, sizeof tag, "seed %llu %s %s", (unsigned long long)seed,
+                     kinds[kind], unb ? "unbalanced" : "balanced");
+            gather_vs_cells(tag, csv, kind != 2 && seed % 3 == 0, 199);
+            free(csv);
+        }
     return check_done();
 }

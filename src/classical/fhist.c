@@ -43,14 +43,20 @@ double sturdy_fhist_top(double f, double df1, double df2)
     return round_up(want);
 }
 
+/* An F* within this fraction below an edge is counted above it: an F* that equals an edge
+ * exactly (tied data give round values, and the edges are round numbers) then lands in the
+ * same bin whatever the order of its floating-point sums — the engine's tie rule
+ * (STURDY_TIE_RTOL) applied to the edges. */
+#define FHIST_EDGE_RTOL 1e-10
+
 size_t sturdy_fhist_bin(double fstar, double top)
 {
     const size_t last = STURDY_FHIST_BINS - 1;
-    if (!(fstar < top))                   /* ≥ top, +∞ and NaN (never counted as less) */
+    if (!(fstar < top * (1.0 - FHIST_EDGE_RTOL))) /* ≥ top, +∞, NaN (never counted as less) */
         return last;
     if (!(fstar > 0))
         return 0;
-    double k = floor(fstar / top * (double)last);
+    double k = floor(fstar / top * (double)last * (1.0 + FHIST_EDGE_RTOL));
     return k >= (double)last ? last - 1 : (size_t)k;
 }
 

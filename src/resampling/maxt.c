@@ -75,6 +75,8 @@ sturdy_status sturdy_maxt_init(sturdy_maxt *x, const sturdy_design *d, const stu
             mb->df = cp->df;
             mb->t2obs = mb->het ? -log(sturdy_f_sf(cp->t * cp->t, 1.0, cp->df))
                                 : cp->t_pooled * cp->t_pooled;
+            if (mb->t2obs <= (mb->het ? STURDY_TIE_ZERO_LOGP : STURDY_TIE_ZERO))
+                mb->t2obs = 0.0;    /* zero up to rounding: every rearrangement counts */
             if (!(mb->z = sturdy_calloc(K, sizeof *mb->z)))
                 return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
             double ww = 0;
@@ -150,6 +152,14 @@ sturdy_status sturdy_maxt_rows(sturdy_maxt *x, const sturdy_design *d, const stu
                 x->Qfix[q * K + g] /= m->sqrt_count[g];
         }
     return STURDY_OK;
+}
+
+double sturdy_maxt_value(const sturdy_maxt *x, size_t q, size_t k, uint32_t g)
+{
+    size_t ri = 0;
+    while (ri + 1 < x->nresp && q >= x->resp_begin[ri + 1])
+        ri++;
+    return x->E[k * x->nresp + ri] + x->A[(size_t)g * x->Cp + q];
 }
 
 void sturdy_maxt_gather(const sturdy_maxt *x, size_t n, const uint32_t *lab,

@@ -64,6 +64,9 @@ sturdy_status sturdy_maxt_rows(sturdy_maxt *x, const sturdy_design *d, const stu
                                const size_t *blk_rows, const uint32_t *lab0, int flip,
                                char *err);
 
+/* Comparison q's value at position k, whose own group is g (from the row form). */
+double sturdy_maxt_value(const sturdy_maxt *x, size_t q, size_t k, uint32_t g);
+
 /* Add every comparison's rearranged values to T (K × Cp, by the group each position now
  * carries: lab[k]) and, when T2 is given, their squares; with sign (flips), s_k times
  * the value. In position order, as the terms' gather. */

@@ -32,6 +32,7 @@
 #include "sturdy/dist.h"
 #include "resampling/rearrange.h"
 #include "resampling/tail.h"
+#include "resampling/cellcount.h"
 #include "resampling/maxt.h"
 #include "resampling/sequential.h"
 #include "classical/classical.h"
@@ -69,6 +70,7 @@ typedef struct {
     double *thr;         /* M × M: thr[t·M + j] = c-factor of member t at p_j */
     int flip;
     sturdy_rearranger ra; /* rows in block order and the rearrangements */
+    sturdy_cellcount *cc; /* the group sums from cell counts (cellcount.c); NULL: gather */
     size_t nb;           /* rearrangements per dgemm block */
     int tail;            /* --tail-fit: keep each member's largest F* (tail.c) */
 } perm_ctx;
@@ -120,6 +122,7 @@ typedef struct {
     size_t *ntop;        /* their sizes */
     sturdy_seq_thread *seq; /* --stop-early: the exceedances' indices (sequential.c);
                             NULL without it (not owned) */
+    sturdy_cellcount_work *ccw;
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -132,6 +135,7 @@ static void work_free(perm_work *w)
     sturdy_free(w->cexceed); sturdy_free(w->t2); sturdy_free(w->hist);
     sturdy_free(w->T); sturdy_free(w->T2);
     sturdy_free(w->top); sturdy_free(w->ntop);
+    sturdy_cellcount_work_free(w->ccw);
 }
 
 /* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
@@ -147,7 +151,8 @@ static double work_bytes(const perm_ctx *c)
     return n * 9.0 + 8.0 * (K * (double)c->Mp + MC * K * nb + maxdf * nb + 2.0 * MC * nb +
                             2.0 * M + (double)c->maxt.C * (nb + 1.0) +
                             2.0 * K * (double)c->maxt.Cp + M * STURDY_FHIST_BINS + 8.0 +
-                            (c->tail ? M * (STURDY_TAIL_KEEP + 1.0) : 0.0));
+                            (c->tail ? M * (STURDY_TAIL_KEEP + 1.0) : 0.0)) +
+           sturdy_cellcount_work_bytes(c->cc);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -176,6 +181,8 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
     if (c->tail && (!(w->top = sturdy_malloc((M * STURDY_TAIL_KEEP + 1) * sizeof *w->top)) ||
                     !(w->ntop = sturdy_calloc(M + 1, sizeof *w->ntop))))
         return 0;
+    if (c->cc && !(w->ccw = sturdy_cellcount_work_alloc(c->cc)))
+        return 0;
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer && w->cexceed && w->t2 && w->hist && w->T && w->T2;
 }
@@ -201,7 +208,9 @@ static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
         double *tmp = w->tmp;
         /* the values in order, each added to the group its position now carries */
         const uint32_t *lab = c->flip ? c->ra.lab0 : w->lab;
-        if (c->flip) {
+        if (c->cc) {
+            sturdy_cellcount_sums(c->cc, w->ccw, w->lab, w->sign, tmp);
+        } else if (c->flip) {
             for (size_t k = 0; k < n; k++) {
                 const double *row = c->V + k * Mp;
                 double *dst = tmp + (size_t)lab[k] * Mp;
@@ -224,6 +233,16 @@ static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
                     dst[j + 3] += row[j + 3];
                 }
             }
+        }
+        if (c->cc) {   /* every column's sums, the comparisons' too, are in tmp */
+            for (size_t g = 0; g < K; g++) {
+                double inv = 1.0 / c->m->sqrt_count[g];
+                for (size_t j = 0; j < M + C + Csq; j++)
+                    w->S[(j * nb + bb) * K + g] = tmp[g * Mp + j] * inv;
+                for (size_t j = 0; j < Mp; j++)
+                    tmp[g * Mp + j] = 0.0;
+            }
+            continue;
         }
         if (C)   /* the comparisons' vectors, from their row form */
             sturdy_maxt_gather(&c->maxt, n, lab, c->ra.lab0, c->flip ? w->sign : NULL,
@@ -418,6 +437,8 @@ static sturdy_status choose_members(perm_ctx *c, const sturdy_run *run, sturdy_r
             mb->U = m->terms[t].Uterm;
             mb->df = m->terms[t].df;
             mb->c = tr->f * (double)mb->df / (double)m->df_error * (1.0 - STURDY_TIE_RTOL);
+            if (!(tr->f > STURDY_TIE_ZERO))
+                mb->c = 0.0;        /* zero up to rounding: every rearrangement counts */
             mb->to_f = (double)m->df_error / (double)mb->df;
             mb->top = sturdy_fhist_top(tr->f, (double)mb->df, (double)m->df_error);
         }
@@ -480,6 +501,37 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         mb->vv = vv;
     }
     sturdy_free(v); sturdy_free(s); sturdy_free(work); sturdy_free(fit);
+    /* the group sums from cell counts where the cost model prefers it (cellcount.c, which
+       reads the split into deviations and per-cell parts off the columns: with
+       comparisons, their columns and squares are laid out beside the members' for it, as
+       the gather had them before their row form); V is then unused */
+    size_t C = c->maxt.C, Csq = c->maxt.Csq, Mf = (M + C + Csq + 3) & ~(size_t)3;
+    double *Vf = c->V;
+    if (C) {
+        if (!(Vf = sturdy_calloc(n * Mf + 1, sizeof *Vf)))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        for (size_t k = 0; k < n; k++) {
+            for (size_t j = 0; j < M; j++)
+                Vf[k * Mf + j] = c->V[k * c->Mp + j];
+            for (size_t q = 0; q < C; q++) {
+                double x = sturdy_maxt_value(&c->maxt, q, k, c->ra.lab0[k]);
+                Vf[k * Mf + M + q] = x;
+                if (Csq)
+                    Vf[k * Mf + M + C + q] = x * x;
+            }
+        }
+    }
+    st = sturdy_cellcount_init(&c->cc, Vf, n, C ? Mf : c->Mp, M + C, Csq, c->ra.lab0, K,
+                               c->flip, err);
+    if (C)
+        sturdy_free(Vf);
+    if (st)
+        return st;
+    if (c->cc) {
+        sturdy_free(c->V);
+        c->V = NULL;
+        c->Mp = C ? Mf : c->Mp;   /* the stride of the sums cellcount.c writes */
+    }
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
     for (size_t t = 0; t < M; t++)
         for (size_t j = 0; j < M; j++) {
@@ -493,8 +545,7 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
                                 (1.0 - STURDY_TIE_RTOL);
         }
-    size_t nb = PERM_BLOCK_BYTES /
-                ((c->Mp + c->maxt.C + c->maxt.Csq) * K * sizeof(double) + 1);
+    size_t nb = PERM_BLOCK_BYTES / (Mf * K * sizeof(double) + 1);
     c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
     return STURDY_OK;
 }
@@ -728,6 +779,7 @@ done:
     sturdy_free(c.V);
     sturdy_free(c.thr);
     sturdy_rearranger_free(&c.ra);
+    sturdy_cellcount_free(c.cc);
     sturdy_maxt_free(&c.maxt);
     return st;
 }

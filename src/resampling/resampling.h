@@ -15,6 +15,15 @@
  * the rounding noise of those sums (≈1e-14 relative) and far below any F difference that
  * matters to a p-value. */
 #define STURDY_TIE_RTOL 1e-10
+/* An observed statistic below these is zero up to rounding (an F of a term whose sum of
+ * squares vanishes, a comparison of two equal means: the rounding of such a statistic is
+ * ~1e-30, where a relative tolerance means nothing); it is taken as exactly zero, so that
+ * every rearrangement counts as at least as extreme on every computational path instead
+ * of those whose own rounding happens to exceed the observed rounding. F and pooled t²
+ * below 1e-16 (|t| < 1e-8); a Games–Howell comparison's −ln p below 1e-8 (about the
+ * same |t|). */
+#define STURDY_TIE_ZERO 1e-16
+#define STURDY_TIE_ZERO_LOGP 1e-8
 
 /* Permutation stage: adds to exceed / exceed_fwer of every term of every response over
  * the rearrangements [run->perm_begin, run->perm_end). Reads each term's F and p and the

@@ -1,0 +1,40 @@
+/* cellcount.h — the group sums of the permutation engine's columns from the cell-count
+ * table of each rearrangement (private to permute.c; see cellcount.c). */
+#ifndef STURDY_CELLCOUNT_H
+#define STURDY_CELLCOUNT_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "core/core.h"
+
+typedef struct sturdy_cellcount sturdy_cellcount;
+typedef struct sturdy_cellcount_work sturdy_cellcount_work;
+
+/* The environment variable that forces a path (tests and benchmarks): "cells" uses the
+ * cell-count path wherever its algebra holds, "gather" never; unset or anything else:
+ * the cost model decides. */
+#define STURDY_PERM_PATH_ENV "STURDY_PERM_PATH"
+
+/* Decide whether the cell-count path computes the group sums of the columns of V
+ * (n × Mp, rows in position order, lab0[k] the group of position k, K groups): columns
+ * [0, nlin) are vectors to rearrange, columns [nlin, nlin + nsq) the squares of columns
+ * [nlin − nsq, nlin) (nsq = 0 with flips), the rest zero padding. On STURDY_OK, *out is
+ * the path's set-up, or NULL when the row gather stays (cheaper by the cost model,
+ * forced, or the columns do not have the form the path needs). */
+sturdy_status sturdy_cellcount_init(sturdy_cellcount **out, const double *V, size_t n,
+                                    size_t Mp, size_t nlin, size_t nsq, const uint32_t *lab0,
+                                    size_t K, int flip, char *err);
+void sturdy_cellcount_free(sturdy_cellcount *cc);
+
+/* Bytes of one thread's workspace. */
+double sturdy_cellcount_work_bytes(const sturdy_cellcount *cc);
+sturdy_cellcount_work *sturdy_cellcount_work_alloc(const sturdy_cellcount *cc);
+void sturdy_cellcount_work_free(sturdy_cellcount_work *w);
+
+/* Add the unscaled group sums of every column under one rearrangement to tmp (K × Mp,
+ * row-major, zero on entry): lab (n labels, see sturdy_rearrange) or, with flips, sign. */
+void sturdy_cellcount_sums(const sturdy_cellcount *cc, sturdy_cellcount_work *w,
+                           const uint32_t *lab, const signed char *sign, double *tmp);
+
+#endif
