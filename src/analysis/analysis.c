@@ -621,7 +621,8 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
         }
     if ((st = holm(r, err)) || (st = sturdy_bootcmp_finish(r, err)))
         return st;
-    sturdy_compare_select(r);
+    if ((st = sturdy_compare_select(r, err)))
+        return st;
     for (size_t ri = 0; r->opts.resistant && ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++)
             sturdy_rs_finish(r, &r->resp[ri], &r->resp[ri].terms[t]);

@@ -84,12 +84,13 @@ sturdy_status sturdy_compare_stage(const sturdy_design *d, const sturdy_model *m
     return STURDY_OK;
 }
 
-void sturdy_compare_select(sturdy_result *r)
+sturdy_status sturdy_compare_select(sturdy_result *r, char *err)
 {
     const sturdy_options *o = &r->opts;
     const sturdy_design *d = r->design;
     for (size_t ri = 0; ri < r->nresp; ri++)
-        sturdy_compare_adjust(&r->resp[ri], o->conf, r->threads);
+        if (sturdy_compare_adjust(&r->resp[ri], o->conf, r->threads))
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     /* max-T adjusted p from the counts, as the terms' p (Phipson & Smyth 2010; exact
        when enumerated) */
     for (size_t ri = 0; ri < r->nresp; ri++)
@@ -119,4 +120,5 @@ void sturdy_compare_select(sturdy_result *r)
             rr->compare_shown[t] = (unsigned char)on;
         }
     }
+    return STURDY_OK;
 }

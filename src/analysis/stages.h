@@ -11,7 +11,8 @@
 sturdy_status sturdy_compare_stage(const sturdy_design *d, const sturdy_model *m,
                                    const sturdy_options *o, sturdy_result *r, char *err);
 
-/* Mark the terms whose comparisons are reported (needs the finished p-values). */
-void sturdy_compare_select(sturdy_result *r);
+/* The comparisons' classical adjustment, their max-T p from the counts, and the terms
+ * whose comparisons are reported (needs the finished p-values). */
+sturdy_status sturdy_compare_select(sturdy_result *r, char *err);
 
 #endif

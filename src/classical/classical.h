@@ -52,7 +52,10 @@ sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model
  * comparisons (Tukey–Kramer or Games–Howell, from the studentized range at level conf).
  * Deferred to the finish of a run: the range's integrals are the costly part of the
  * comparisons, and a shard part does not need them. */
-void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads);
+/* Simultaneous intervals and range-based adjusted p of every comparison, on `threads`
+ * threads; nonzero when out of memory (nothing is then half-filled that a report reads:
+ * the run fails). */
+int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads);
 /* The outlier-resistant statistic (huber.c). Huber's tuning constant: 95% efficiency at
  * the normal for a location (Huber 1981, §4.6); the conventional default. */
 #define STURDY_HUBER_C STURDY_RS_TUNING

@@ -517,7 +517,7 @@ static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double 
     }
 }
 
-void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
+int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
 {
     /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
        (the same residual df), one per comparison under Games–Howell. Batches and
@@ -525,10 +525,11 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
        the threads change nothing but the time. */
     size_t nc = rr->ncomparisons, nb = 0, ntab = 0;
     size_t *begin = sturdy_malloc((nc + 1) * sizeof *begin);
-    int nt = threads > 1 && begin ? threads : 1;
-    /* one table of the range's inner tail per k above 2 (the families' level counts);
-       without memory for one, that k is integrated as before (the same values to
-       2e-14) */
+    int nt = threads > 1 ? threads : 1;
+    if (!begin)
+        return 1;
+    /* one table of the range's inner tail per k above 2 (the families' level counts;
+       beyond COMPARE_NTAB distinct k the rest are integrated, the same values to 2e-14) */
     double tk[COMPARE_NTAB];
     sturdy_range_table *tabs[COMPARE_NTAB];
     for (size_t i = 0; i < nc && ntab < COMPARE_NTAB; i++) {
@@ -544,16 +545,22 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
 #pragma omp parallel for schedule(dynamic, 1) num_threads(nt)
     for (size_t i = 0; i < ntab; i++)
         tabs[i] = sturdy_range_table_new(tk[i]);
+    int short_of_memory = 0;
+    for (size_t i = 0; i < ntab; i++)
+        short_of_memory |= tabs[i] == NULL;
+    if (short_of_memory) {
+        for (size_t i = 0; i < ntab; i++)
+            sturdy_range_table_free(tabs[i]);
+        sturdy_free(begin);
+        return 1;
+    }
     for (size_t i = 0; i < nc;) {
         size_t e = batch_end(rr, i);
         if (e == i) {
             i++;
             continue;
         }
-        if (begin)
-            begin[nb++] = i;
-        else
-            adjust_batch(rr, i, e, conf, table_of(tabs, tk, ntab, rr->comparisons[i].range_k));
+        begin[nb++] = i;
         i = e;
     }
 #pragma omp parallel num_threads(nt)
@@ -575,4 +582,5 @@ void sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
     for (size_t i = 0; i < ntab; i++)
         sturdy_range_table_free(tabs[i]);
     sturdy_free(begin);
+    return 0;
 }
