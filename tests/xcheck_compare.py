@@ -185,16 +185,22 @@ def check_range():
             for q in (0.5, 2.0, 3.5, 5.0, 8.0):
                 qs.append(("upper", q, k, dfv))
             qs.append(("quant", 0.95, k, dfv))
+    against_scipy(probe, qs, "")
+
+
+def against_scipy(probe, qs, label):
+    """Each (kind, a, k, df) query of probe_range against scipy.stats.studentized_range:
+    tails (upper, tupper) to 1e-10 relative, quantiles (quant, tquant) to 1e-9."""
     out = probe(["%s %r %d %s" % x for x in qs])
     for (kind, a, k, dfv), line in zip(qs, out):
         d = np.inf if dfv == "inf" else float(dfv)
         src = "scipy studentized_range k=%d df=%s" % (k, dfv)
-        if kind == "upper":
-            close("range P(Q>%g)" % a, float(line), float(studentized_range.sf(a, k, d)),
-                  1e-10, False, src)
+        if kind.endswith("upper"):
+            close("%srange P(Q>%g)" % (label, a), float(line),
+                  float(studentized_range.sf(a, k, d)), 1e-10, False, src)
         else:
-            close("range q(%g)" % a, float(line), float(studentized_range.ppf(a, k, d)),
-                  1e-9, True, src)
+            close("%srange q(%g)" % (label, a), float(line),
+                  float(studentized_range.ppf(a, k, d)), 1e-9, True, src)
 
 
 def check_range_table():
@@ -208,16 +214,7 @@ def check_range_table():
             for q in (2.0, 5.0, 8.0):
                 qs.append(("tupper", q, k, dfv))
             qs.append(("tquant", 0.95, k, dfv))
-    out = probe(["%s %r %d %s" % x for x in qs])
-    for (kind, a, k, dfv), line in zip(qs, out):
-        d = np.inf if dfv == "inf" else float(dfv)
-        src = "scipy studentized_range k=%d df=%s" % (k, dfv)
-        if kind == "tupper":
-            close("table: range P(Q>%g)" % a, float(line), float(studentized_range.sf(a, k, d)),
-                  1e-10, False, src)
-        else:
-            close("table: range q(%g)" % a, float(line), float(studentized_range.ppf(a, k, d)),
-                  1e-9, True, src)
+    against_scipy(probe, qs, "table: ")
     keys = [(k, dfv, p) for k in (3, 8, 50) for dfv in ("2", "12", "1000", "inf")
             for p in ("0.95", "0.999999", "0.999999999")]
     exact_q = probe(["quant %s %d %s" % (p, k, dfv) for k, dfv, p in keys])
