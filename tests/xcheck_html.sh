@@ -227,5 +227,14 @@ touch "$T/b/out/first.html.tmp.AbC123" "$T/b/out/index.html.tmp.XyZ789" "$T/b/ou
     && ok "batch --resume: stale page and index temporaries removed, others kept; pages stay" \
     || bad "batch --resume: temporaries or pages handled wrongly"
 
+# two influence labels exactly one line apart, whose sum rounds below the spacing: the
+# label placement looped forever on this file (null data, n = 200, three factors)
+LR=tests/data/input/label_rounding.csv
+timeout 60 "$S" check "$LR" -y strength -f line,shift,batch -B 0 --bootstrap 0 --compare none \
+    --format html -o "$T/lr.html" -q 2>"$T/lr.err"; rc=$?
+[ $rc = 0 ] && grep -q 'influential-rows' "$T/lr.html" \
+    && ok "html: labels one line apart after rounding are placed and the page ends (label_rounding.csv)" \
+    || bad "html: label_rounding.csv gave exit $rc (124: it hung)"
+
 echo "$pass passed, $fail failed"
 [ $fail = 0 ]

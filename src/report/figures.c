@@ -531,10 +531,14 @@ static int fig_influence(const sturdy_result *r, size_t ri, fig_work *f)
             snprintf(lab, sizeof lab, "row %zu", sr->row);
             if (isfinite(y)) {
                 double py = sturdy_svg_py(&p, y) + 4;
+                /* move the label below every earlier one closer than a line; the
+                   margin keeps a label placed exactly one line (11 px) below another
+                   from counting as closer when the sum rounds down, which looped
+                   forever. Each move raises py by more than the margin, so it ends. */
                 for (int moved = 1; moved;) {
                     moved = 0;
                     for (size_t u = 0; u < nused; u++)
-                        if (fabs(py - used[u]) < 11.0) {
+                        if (fabs(py - used[u]) < 11.0 - 1e-6) {
                             py = used[u] + 11.0;
                             moved = 1;
                         }
