@@ -44,6 +44,9 @@
  * dimension of the model with it (the same margin as a leverage of 1; core.h). */
 #define PIVOT_TOL STURDY_LEVERAGE_ONE_TOL
 
+/* The three models of a term's test, as indexes of the hat caches below. */
+enum { MOD_F, MOD_R, MOD_A, NMOD };
+
 /* One term's models as row-major group bases, the fitted values and the sums. */
 typedef struct {
     size_t K, rR, rT, rF;
@@ -54,6 +57,19 @@ typedef struct {
     double *eR, *eA, *eF;   /* n residuals of R, A and F */
     double ss_term, sse;    /* the term's SS and the error SS with every row */
     double df, dfe;
+    /* The hat matrix entries the search reads, per model, so that trying a row costs
+       O(|S|³) instead of O(|S|²·rank): the diagonal for every group, and for each row
+       the search has fixed so far, its entries against every group (hat_fix). One block
+       of (1 + SENS_MAX_ROWS)·NMOD·K values. */
+    double *hat;
+    double *diag[NMOD];
+    double *cross[NMOD][SENS_MAX_ROWS];
+    /* The Cholesky factor of I − H_SS over the fixed rows (row-major, stride
+       SENS_MAX_ROWS), L⁻¹ e_S over them, and its squared length over the first j rows
+       (qfix[j]); a trial row borders them (deleted_ss). */
+    double L[NMOD][SENS_MAX_ROWS * SENS_MAX_ROWS];
+    double z[NMOD][SENS_MAX_ROWS];
+    double qfix[NMOD][SENS_MAX_ROWS + 1];
 } infl_term;
 
 /* Row-major copy of a K × r column-major basis. */
@@ -81,62 +97,129 @@ typedef struct {
     double sign;
 } hat_part;
 
-/* e_Sᵀ (I − H_SS)⁻¹ e_S for the model whose hat matrix is the signed sum of the parts'
- * (the first with sign +1), by Cholesky; returns 0 when I − H_SS is not safely positive
- * definite (the set takes a dimension of the model with it). */
-static int deleted_ss(const infl_term *it, const sturdy_design *d, const hat_part *part,
-                      size_t np, const double *e, const size_t *S, size_t s, double *out)
+/* Model mod's hat matrix as a signed sum of bases (the first with sign +1); returns the
+   number of parts. R is its own basis or F less its complement; A is R plus the term. */
+static size_t model_parts(const infl_term *it, int mod, hat_part part[3])
 {
-    double A[SENS_MAX_ROWS * SENS_MAX_ROWS], b[SENS_MAX_ROWS];
-    for (size_t a = 0; a < s; a++) {
-        size_t ga = d->group[S[a]];
-        b[a] = e[S[a]];
-        for (size_t c = 0; c <= a; c++) {
-            size_t gc = d->group[S[c]];
-            double h = dot_rows(part[0].U, part[0].r, ga, gc);
-            for (size_t k = 1; k < np; k++) {
-                if (part[k].sign > 0) h += dot_rows(part[k].U, part[k].r, ga, gc);
-                else h -= dot_rows(part[k].U, part[k].r, ga, gc);
-            }
-            h *= it->inv_sqrt[ga] * it->inv_sqrt[gc];
-            A[a * s + c] = (a == c ? 1.0 : 0.0) - h;
-        }
+    if (mod == MOD_F) {
+        part[0] = (hat_part){ it->UF, it->rF, 1.0 };
+        return 1;
     }
-    /* Cholesky (lower), then ‖L⁻¹ b‖² */
-    if (!sturdy_cholesky(A, s, PIVOT_TOL)) return 0;
-    sturdy_cholesky_forward(A, s, b);
-    double q = 0.0;
-    for (size_t i = 0; i < s; i++) q += b[i] * b[i];
-    *out = q;
+    size_t np = 1;
+    if (it->UR) {
+        part[0] = (hat_part){ it->UR, it->rR, 1.0 };
+    } else {
+        part[0] = (hat_part){ it->UF, it->rF, 1.0 };
+        part[1] = (hat_part){ it->UC, it->rC, -1.0 };
+        np = 2;
+    }
+    if (mod == MOD_A) part[np++] = (hat_part){ it->UT, it->rT, 1.0 };
+    return np;
+}
+
+/* H_ij of model mod for rows in groups gi and gj (symmetric to the last bit: each
+   product and the scale commute). */
+static double hat_entry(const infl_term *it, const hat_part *part, size_t np, size_t gi,
+                        size_t gj)
+{
+    double h = dot_rows(part[0].U, part[0].r, gi, gj);
+    for (size_t k = 1; k < np; k++) {
+        if (part[k].sign > 0) h += dot_rows(part[k].U, part[k].r, gi, gj);
+        else h -= dot_rows(part[k].U, part[k].r, gi, gj);
+    }
+    return h * (it->inv_sqrt[gi] * it->inv_sqrt[gj]);
+}
+
+/* Fills the diagonal caches (slot == SENS_MAX_ROWS) or the cross cache of the search's
+   slot-th fixed row, in group g0, against every group. */
+static void hat_fill(infl_term *it, size_t slot, size_t g0)
+{
+    for (int mod = 0; mod < NMOD; mod++) {
+        hat_part part[3];
+        size_t np = model_parts(it, mod, part);
+        double *o = slot == SENS_MAX_ROWS ? it->diag[mod] : it->cross[mod][slot];
+        for (size_t g = 0; g < it->K; g++)
+            o[g] = hat_entry(it, part, np, slot == SENS_MAX_ROWS ? g : g0, g);
+    }
+}
+
+/* The last row of the Cholesky factor of I − H_SS for S = the first f fixed rows plus
+ * a row in group g with residual ev, bordering the fixed rows' factor: l (f values),
+ * the pivot and the last component of L⁻¹ e_S. The operations and their order are those
+ * of sturdy_cholesky and sturdy_cholesky_forward on the whole |S| × |S| matrix, so the
+ * result is the same to the last bit; 0 when the pivot is not safely positive (the set
+ * takes a dimension of the model with it). */
+static int border(const infl_term *it, int mod, size_t f, size_t g, double ev, double *l,
+                  double *pivot, double *zlast)
+{
+    const double *L = it->L[mod];
+    for (size_t j = 0; j < f; j++) {
+        double x = 0.0 - it->cross[mod][j][g];
+        for (size_t q = 0; q < j; q++) x -= l[q] * L[j * SENS_MAX_ROWS + q];
+        l[j] = x / L[j * SENS_MAX_ROWS + j];
+    }
+    double v = 1.0 - it->diag[mod][g];
+    for (size_t q = 0; q < f; q++) v -= l[q] * l[q];
+    if (!(v > PIVOT_TOL)) return 0;
+    *pivot = sqrt(v);
+    double x = ev;
+    for (size_t q = 0; q < f; q++) x -= l[q] * it->z[mod][q];
+    *zlast = x / *pivot;
     return 1;
 }
 
-/* F and p of the term with the rows S removed; 0 when the set cannot be removed. */
+/* Fixes row i as the search's slot-th chosen row (slot == the rows fixed before it): its
+   hat entries against every group, its row of each model's factor and of L⁻¹ e_S. The
+   row was part of a removable set, so its pivots are positive. */
+static void hat_fix(infl_term *it, const sturdy_design *d, size_t slot, size_t i)
+{
+    size_t g = d->group[i];
+    const double *e[NMOD] = { it->eF, it->eR, it->eA };
+    for (int mod = 0; mod < NMOD; mod++) {
+        double *row = it->L[mod] + slot * SENS_MAX_ROWS, z = 0.0;
+        (void)border(it, mod, slot, g, e[mod][i], row, &row[slot], &z);
+        it->z[mod][slot] = z;
+        it->qfix[mod][slot + 1] = it->qfix[mod][slot] + z * z;
+    }
+    hat_fill(it, slot, g);
+}
+
+/* e_Sᵀ (I − H_SS)⁻¹ e_S for model mod; returns 0 when I − H_SS is not safely positive
+ * definite. S's first s − 1 rows must be the search's first s − 1 fixed rows (hat_fix). */
+static int deleted_ss(const infl_term *it, const sturdy_design *d, int mod, const double *e,
+                      const size_t *S, size_t s, double *out)
+{
+    double l[SENS_MAX_ROWS], pivot, z;
+    size_t f = s - 1, i = S[f];
+    if (!border(it, mod, f, d->group[i], e[i], l, &pivot, &z)) return 0;
+    *out = it->qfix[mod][f] + z * z;
+    return 1;
+}
+
+/* F of the term with the rows S removed (its p: set_p); 0 when the set cannot be
+   removed. */
 static int eval_set(const infl_term *it, const sturdy_design *d, const size_t *S, size_t s,
-                    double *f, double *p)
+                    double *f)
 {
     double qR, qA, qF;
-    hat_part F[1] = { { it->UF, it->rF, 1.0 } };
-    /* R = its own basis, or F less its complement; A = R plus the term */
-    hat_part R[3] = { { it->UR, it->rR, 1.0 }, { it->UT, it->rT, 1.0 }, { NULL, 0, 0 } };
-    size_t nR = 1;
-    if (!it->UR) {
-        R[0] = (hat_part){ it->UF, it->rF, 1.0 };
-        R[1] = (hat_part){ it->UC, it->rC, -1.0 };
-        R[2] = (hat_part){ it->UT, it->rT, 1.0 };
-        nR = 2;
-    }
-    if (!deleted_ss(it, d, F, 1, it->eF, S, s, &qF) ||
-        !deleted_ss(it, d, R, nR, it->eR, S, s, &qR) ||
-        !deleted_ss(it, d, R, nR + 1, it->eA, S, s, &qA))
+    if (!deleted_ss(it, d, MOD_F, it->eF, S, s, &qF) ||
+        !deleted_ss(it, d, MOD_R, it->eR, S, s, &qR) ||
+        !deleted_ss(it, d, MOD_A, it->eA, S, s, &qA))
         return 0;
     double dfe = it->dfe - (double)s, sse = it->sse - qF;
     if (!(dfe >= 1.0) || !(sse > 0.0)) return 0;
     double ss = it->ss_term - qR + qA;
     if (ss < 0.0) ss = 0.0; /* rounding below an exact zero */
     *f = (ss / it->df) / (sse / dfe);
-    *p = sturdy_f_sf(*f, it->df, dfe);
     return 1;
+}
+
+/* The p of an F from eval_set with s rows removed. For given s it is a decreasing
+   function of F alone, so the search ranks rows by F and evaluates the tail only for
+   the rows it keeps. */
+static double set_p(const infl_term *it, double f, size_t s)
+{
+    return sturdy_f_sf(f, it->df, it->dfe - (double)s);
 }
 
 static void infl_free(infl_term *it)
@@ -148,6 +231,7 @@ static void infl_free(infl_term *it)
     sturdy_free(it->eR);
     sturdy_free(it->eA);
     sturdy_free(it->eF);
+    sturdy_free(it->hat);
 }
 
 /* The fitted group values of y's projection on a basis (K × r column-major). */
@@ -191,12 +275,13 @@ static sturdy_status infl_init(const sturdy_design *d, const sturdy_model *m, si
     it->eR = sturdy_malloc(n * sizeof *it->eR);
     it->eA = sturdy_malloc(n * sizeof *it->eA);
     it->eF = sturdy_malloc(n * sizeof *it->eF);
+    it->hat = sturdy_malloc((1 + SENS_MAX_ROWS) * NMOD * (K ? K : 1) * sizeof *it->hat);
     double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((K + it->rF + 1) * sizeof *work);
     double *gR = sturdy_malloc(K * sizeof *gR), *gT = sturdy_malloc(K * sizeof *gT);
     double *gF = sturdy_malloc(K * sizeof *gF), *isq = sturdy_malloc(K * sizeof *isq);
     sturdy_status st = STURDY_OK;
-    if (!have_r || !it->UT || !it->UF || !it->eR || !it->eA || !it->eF || !s || !work ||
-        !gR || !gT || !gF || !isq) {
+    if (!have_r || !it->UT || !it->UF || !it->eR || !it->eA || !it->eF || !it->hat || !s ||
+        !work || !gR || !gT || !gF || !isq) {
         st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     } else {
         sturdy_model_group_scaled(d, m, y, s);
@@ -215,6 +300,14 @@ static sturdy_status infl_init(const sturdy_design *d, const sturdy_model *m, si
         }
         it->ss_term = ss;
         it->sse = sse;
+        it->inv_sqrt = isq;
+        for (int mod = 0; mod < NMOD; mod++) {
+            it->diag[mod] = it->hat + (size_t)mod * (1 + SENS_MAX_ROWS) * K;
+            for (size_t j = 0; j < SENS_MAX_ROWS; j++)
+                it->cross[mod][j] = it->diag[mod] + (1 + j) * K;
+        }
+        hat_fill(it, SENS_MAX_ROWS, 0);
+        for (int mod = 0; mod < NMOD; mod++) it->qfix[mod][0] = 0.0;
     }
     sturdy_free(s);
     sturdy_free(work);
@@ -246,7 +339,8 @@ sturdy_status sturdy_influence_loo(const sturdy_design *d, const sturdy_model *m
     if (st) return st;
     for (size_t i = 0; i < d->n; i++) {
         size_t S[1] = { i };
-        if (!eval_set(&it, d, S, 1, &f[i], &p[i])) f[i] = p[i] = NAN;
+        if (eval_set(&it, d, S, 1, &f[i])) p[i] = set_p(&it, f[i], 1);
+        else f[i] = p[i] = NAN;
     }
     infl_release(&it);
     return STURDY_OK;
@@ -277,62 +371,121 @@ static double move(double p0, double p)
     return fabs(log(fmax(p, 1e-300)) - log(fmax(p0, 1e-300)));
 }
 
-/* The leave-one-out step: the most influential rows and the first greedy choice. */
-static void loo_step(const infl_term *it, const sturdy_design *d, const sturdy_term_result *t,
-                     sturdy_sensitivity *sv, size_t *fixed)
+/* Inserts row i with value v into a list of at most SENS_TOP rows ranked by v,
+   highest first when hi, else lowest first; ties keep the earlier row first. */
+static void rank_insert(size_t *row, double *val, size_t *nk, size_t i, double v, int hi)
 {
+    size_t pos = *nk;
+    while (pos > 0 && (hi ? val[pos - 1] < v : val[pos - 1] > v)) pos--;
+    if (pos >= SENS_TOP) return;
+    size_t last = *nk < SENS_TOP ? *nk : SENS_TOP - 1;
+    for (size_t j = last; j > pos; j--) {
+        row[j] = row[j - 1];
+        val[j] = val[j - 1];
+    }
+    row[pos] = i;
+    val[pos] = v;
+    if (*nk < SENS_TOP) (*nk)++;
+}
+
+/* The leave-one-out step: the most influential rows and the greedy search's first
+ * choice (*first, with F *first_f; (size_t)-1 when no row can be removed).
+ *
+ * Rows are ranked by how far they move p, |log p − log p0|. With one row removed p is a
+ * decreasing function of F, so that distance first falls and then rises with F: the
+ * SENS_TOP rows that move p most are among the SENS_TOP with the largest F and the
+ * SENS_TOP with the smallest, and only those (at most 2·SENS_TOP) need their p. The one
+ * case this can order differently from evaluating every p is two rows whose different
+ * F give p values equal to the last bit; they then show the same p. */
+static void loo_step(const infl_term *it, const sturdy_design *d, const sturdy_term_result *t,
+                     sturdy_sensitivity *sv, size_t *fixed, size_t *first, double *first_f)
+{
+    size_t hi_row[SENS_TOP], lo_row[SENS_TOP], nhi = 0, nlo = 0;
+    double hi_f[SENS_TOP], lo_f[SENS_TOP];
     *fixed = 0;
     for (size_t i = 0; i < d->n; i++) {
         size_t S[1] = { i };
-        double f, p;
-        if (!eval_set(it, d, S, 1, &f, &p)) {
+        double f;
+        if (!eval_set(it, d, S, 1, &f)) {
             (*fixed)++;
             continue;
         }
-        /* keep the SENS_TOP rows that move p most, in order (ties: the earlier row) */
-        double mv = move(t->p, p);
+        rank_insert(hi_row, hi_f, &nhi, i, f, 1);
+        rank_insert(lo_row, lo_f, &nlo, i, f, 0);
+    }
+    *first = (size_t)-1;
+    if (nhi == 0) return;
+    /* significant: the greedy search wants the largest p, the smallest F; not: the
+       smallest p, the largest F (ties: the earlier row, as the lists keep them) */
+    int sig = t->p <= sv->alpha;
+    *first = sig ? lo_row[0] : hi_row[0];
+    *first_f = sig ? lo_f[0] : hi_f[0];
+    /* the candidates in row order, then the SENS_TOP that move p most (ties: the earlier
+       row) */
+    size_t cand[2 * SENS_TOP], nc = 0;
+    double cf[2 * SENS_TOP];
+    for (size_t j = 0; j < nhi + nlo; j++) {
+        size_t i = j < nhi ? hi_row[j] : lo_row[j - nhi];
+        double f = j < nhi ? hi_f[j] : lo_f[j - nhi];
+        size_t pos = nc;
+        int dup = 0;
+        for (size_t l = 0; l < nc; l++) dup |= cand[l] == i;
+        if (dup) continue;
+        while (pos > 0 && cand[pos - 1] > i) {
+            cand[pos] = cand[pos - 1];
+            cf[pos] = cf[pos - 1];
+            pos--;
+        }
+        cand[pos] = i;
+        cf[pos] = f;
+        nc++;
+    }
+    for (size_t c = 0; c < nc; c++) {
+        double f = cf[c], p = set_p(it, f, 1), mv = move(t->p, p);
         size_t pos = sv->ntop;
         while (pos > 0 && move(t->p, sv->top[pos - 1].p_without) < mv) pos--;
         if (pos < SENS_TOP) {
             size_t last = sv->ntop < SENS_TOP ? sv->ntop : SENS_TOP - 1;
             for (size_t j = last; j > pos; j--) sv->top[j] = sv->top[j - 1];
-            sv->top[pos] = sens_row(d, i, f, p);
+            sv->top[pos] = sens_row(d, cand[c], f, p);
             if (sv->ntop < SENS_TOP) sv->ntop++;
         }
     }
 }
 
-/* The greedy search from the empty set; fills sv->rows/nrows and the result. */
-static void greedy(const infl_term *it, const sturdy_design *d, const sturdy_term_result *t,
-                   sturdy_sensitivity *sv)
+/* The greedy search from the leave-one-out step's choice; fills sv->rows/nrows and the
+   result. Each step fixes its row in the hat caches, so the next step's trials read
+   every entry they need. Rows are compared by F, which orders them as p does (set_p). */
+static void greedy(infl_term *it, const sturdy_design *d, const sturdy_term_result *t,
+                   sturdy_sensitivity *sv, size_t first, double first_f)
 {
     int sig = t->p <= sv->alpha;
     size_t S[SENS_MAX_ROWS];
-    double best_f = NAN, best_p = NAN;
     for (size_t s = 0; s < SENS_MAX_ROWS; s++) {
-        size_t best = (size_t)-1;
-        for (size_t i = 0; i < d->n; i++) {
+        size_t best = s == 0 ? first : (size_t)-1;
+        double best_f = s == 0 ? first_f : NAN;
+        for (size_t i = 0; s > 0 && i < d->n; i++) {
             int used = 0;
             for (size_t j = 0; j < s; j++) used |= S[j] == i;
             if (used) continue;
             S[s] = i;
-            double f, p;
-            if (!eval_set(it, d, S, s + 1, &f, &p)) continue;
-            /* significant: look for the largest p; not: the smallest */
-            if (best == (size_t)-1 || (sig ? p > best_p : p < best_p)) {
+            double f;
+            if (!eval_set(it, d, S, s + 1, &f)) continue;
+            /* significant: look for the largest p, the smallest F; not: the smallest p */
+            if (best == (size_t)-1 || (sig ? f < best_f : f > best_f)) {
                 best = i;
                 best_f = f;
-                best_p = p;
             }
         }
         if (best == (size_t)-1) return;
         S[s] = best;
+        double best_p = set_p(it, best_f, s + 1);
         if (changes(t->p, best_p, sv->alpha)) {
             sv->nrows = s + 1;
             for (size_t j = 0; j <= s; j++) {
                 double fj = NAN, pj = NAN;
                 size_t one[1] = { S[j] };
-                eval_set(it, d, one, 1, &fj, &pj);
+                if (eval_set(it, d, one, 1, &fj)) pj = set_p(it, fj, 1);
                 sv->rows[j] = sens_row(d, S[j], fj, pj);
             }
             sv->direction = sig ? STURDY_SENS_CREATES : STURDY_SENS_HIDES;
@@ -340,6 +493,7 @@ static void greedy(const infl_term *it, const sturdy_design *d, const sturdy_ter
             sv->p_without = best_p;
             return;
         }
+        if (s + 1 < SENS_MAX_ROWS) hat_fix(it, d, s, best);
     }
 }
 
@@ -359,9 +513,10 @@ sturdy_status sturdy_sensitivity_term(const sturdy_design *d, const sturdy_model
     sturdy_status st = infl_init(d, m, ri, k, &it, msg);
     if (st == STURDY_EMODEL) return STURDY_OK;
     if (st) return sturdy_fail(err, st, "%s", msg);
-    size_t fixed = 0;
-    loo_step(&it, d, t, sv, &fixed);
-    greedy(&it, d, t, sv);
+    size_t fixed = 0, first = (size_t)-1;
+    double first_f = NAN;
+    loo_step(&it, d, t, sv, &fixed, &first, &first_f);
+    greedy(&it, d, t, sv, first, first_f);
     infl_release(&it);
     sv->searched = 1;
     sv->not_removable = fixed;
