@@ -55,14 +55,26 @@ void sturdy_buf_puts(sturdy_buf *b, const char *s)
     sturdy_buf_put(b, s, strlen(s));
 }
 
+/* Formats straight into the room left (one pass when the text fits, which is nearly
+   always once the buffer has grown); only when it does not, grows the buffer and
+   formats again. */
 void sturdy_buf_printf(sturdy_buf *b, const char *fmt, ...)
 {
+    if (b->failed) return;
+    size_t room = b->cap - b->len;  /* with the NUL's byte; 0 before the first allocation */
     va_list ap;
     va_start(ap, fmt);
-    int n = vsnprintf(NULL, 0, fmt, ap);
+    int n = vsnprintf(room ? b->data + b->len : NULL, room, fmt, ap);
     va_end(ap);
     if (n < 0) { b->failed = 1; return; }
-    if (!buf_reserve(b, (size_t)n)) return;
+    if ((size_t)n < room) {
+        b->len += (size_t)n;
+        return;
+    }
+    if (!buf_reserve(b, (size_t)n)) {
+        if (b->data) b->data[b->len] = '\0';  /* the cut-off text overwrote the end */
+        return;
+    }
     va_start(ap, fmt);
     vsnprintf(b->data + b->len, (size_t)n + 1, fmt, ap);
     va_end(ap);
