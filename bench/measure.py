@@ -25,7 +25,9 @@ REPEAT_BELOW_S = 10.0     # repeat runs shorter than this ...
 REPEATS = 3               # ... this many times in all, keep the fastest
 F_RTOL = 1e-8             # observed F of numpy vs sturdy: same model, rounding only
 MEM_TARGET_MIB = 64
-TARGETS = {"numpy": 20.0, "R": 1000.0, "throughput": 5e8, "scaling": 1.8}
+# issue 17's targets (numpy: bal2000, numpy_f5: f5_20k, scaling: 2 threads vs 1); R and
+# throughput from the round before
+TARGETS = {"numpy": 25.0, "numpy_f5": 100.0, "R": 1000.0, "throughput": 5e8, "scaling": 1.7}
 
 NPROC = os.cpu_count() or 1
 VERBOSE = os.environ.get("BENCH_VERBOSE") == "1"   # also print the passing checks
@@ -79,9 +81,12 @@ def numpy_env(threads):
 
 
 def sturdy_cmd(binary, d, B, threads, out):
+    # --compare none: the numpy and R baselines test the model's terms and nothing else,
+    # so sturdy is timed doing the same job; the pairwise comparisons (on by default since
+    # they were added) have their own cost figures in bench/README.md
     return [binary, "check", d["file"], "-y", d["response"], "-f", d["factors"],
-            "-B", str(B), "--bootstrap", "0", "--quiet", "--format", "json", "-o", out,
-            "--threads", str(threads)]
+            "-B", str(B), "--bootstrap", "0", "--compare", "none", "--quiet", "--format",
+            "json", "-o", out, "--threads", str(threads)]
 
 
 def bench_design(binary, d, outdir, rows):
@@ -181,6 +186,13 @@ def print_targets(results):
             print("  numpy/sturdy, bal2000 B=9999, %d thread(s) each: %.1fx on total wall "
                   "(%.1fx on the permutation stages alone) (target >= %gx) %s"
                   % (th, ratio, perm, TARGETS["numpy"], verdict(ratio >= TARGETS["numpy"])))
+    f5 = results.get("f5_20k")
+    if f5 and ("numpy", 1) in f5:
+        ratio = f5[("numpy", 1)][0] / f5[("sturdy", 1)][0]
+        print("  numpy/sturdy, f5_20k B=%d, 1 thread each: %.1fx on total wall "
+              "(target >= %gx) %s" % (f5["B"], ratio, TARGETS["numpy_f5"],
+                                      verdict(ratio >= TARGETS["numpy_f5"])))
+    if bal:
         ratio = bal[("R", 1)][0] / bal[("sturdy", 1)][0]
         print("  R loop/sturdy, bal2000 B=9999, 1 thread: %.0fx (target >= %gx) %s"
               % (ratio, TARGETS["R"], verdict(ratio >= TARGETS["R"])))

@@ -21,5 +21,21 @@ status=0
 $PY bench/measure.py "$STURDY_BIN" $OUT/designs.txt $OUT || status=$?
 echo
 bash bench/callgrind.sh || status=$?
+# BENCH_ALL=1: also the two targets of issue 17 that need runs of their own, so that one
+# run reports every target (about 10 more minutes on 2 cores)
+if [ "${BENCH_ALL:-0}" = 1 ]; then
+    echo
+    echo "== f3_200k, B=999, one thread: the cell-count path against the gather path, which is"
+    echo "   what the release before it ran (STURDY_PERM_PATH=gather; target >= 3x)"
+    printf '#!/bin/sh\nSTURDY_PERM_PATH=gather exec "%s" "$@"\n' "$(realpath "$STURDY_BIN")" \
+        > $OUT/sturdy_gather.sh
+    chmod +x $OUT/sturdy_gather.sh
+    RUNS=${CELLS_RUNS:-3} bash bench/cells.sh $OUT/sturdy_gather.sh "$STURDY_BIN" f3_200k ||
+        status=$?
+    echo
+    echo "== a batch of 50 null analyses (n = 200, 3 factors) with and without --stop-early"
+    echo "   (target >= 10x less CPU)"
+    STURDY_BIN="$STURDY_BIN" REPS=3 TAGS=lean bash bench/stop_early.sh || status=$?
+fi
 echo "load average $(cut -d' ' -f1-3 /proc/loadavg) after the run"
 exit $status
