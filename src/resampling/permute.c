@@ -532,12 +532,20 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         c->V = NULL;
         c->Mp = C ? Mf : c->Mp;   /* the stride of the sums cellcount.c writes */
     }
-    /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j) */
+    /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j); a term
+       whose df an earlier term has shares its threshold (the same expression, so the same
+       bits), which leaves one quantile per distinct df and term j instead of M − 1 */
     for (size_t t = 0; t < M; t++)
         for (size_t j = 0; j < M; j++) {
             const member *mt = &c->mem[t];
             if (t == j) {
                 c->thr[t * M + j] = mt->c;
+                continue;
+            }
+            size_t u = 0;
+            while (u < t && (u == j || c->mem[u].df != mt->df)) u++;
+            if (u < t) {
+                c->thr[t * M + j] = c->thr[u * M + j];
                 continue;
             }
             double pj = r->resp[c->mem[j].resp].terms[c->mem[j].term].p;
