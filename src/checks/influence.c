@@ -59,11 +59,13 @@ typedef struct {
     double df, dfe;
     /* The hat matrix entries the search reads, per model, so that trying a row costs
        O(|S|³) instead of O(|S|²·rank): the diagonal for every group, and for each row
-       the search has fixed so far, its entries against every group (hat_fix). One block
-       of (1 + SENS_MAX_ROWS)·NMOD·K values. */
+       the search has fixed so far, its entries against every group (hat_fix; the last
+       step fixes none). One block of SENS_MAX_ROWS·NMOD·K values: 9 per group, which
+       with covariates (every row its own group) is 72 bytes per row while a term is
+       searched. */
     double *hat;
     double *diag[NMOD];
-    double *cross[NMOD][SENS_MAX_ROWS];
+    double *cross[NMOD][SENS_MAX_ROWS - 1];
     /* The Cholesky factor of I − H_SS over the fixed rows (row-major, stride
        SENS_MAX_ROWS), L⁻¹ e_S over them, and its squared length over the first j rows
        (qfix[j]); a trial row borders them (deleted_ss). */
@@ -275,7 +277,7 @@ static sturdy_status infl_init(const sturdy_design *d, const sturdy_model *m, si
     it->eR = sturdy_malloc(n * sizeof *it->eR);
     it->eA = sturdy_malloc(n * sizeof *it->eA);
     it->eF = sturdy_malloc(n * sizeof *it->eF);
-    it->hat = sturdy_malloc((1 + SENS_MAX_ROWS) * NMOD * (K ? K : 1) * sizeof *it->hat);
+    it->hat = sturdy_malloc(SENS_MAX_ROWS * NMOD * (K ? K : 1) * sizeof *it->hat);
     double *s = sturdy_malloc(K * sizeof *s), *work = sturdy_malloc((K + it->rF + 1) * sizeof *work);
     double *gR = sturdy_malloc(K * sizeof *gR), *gT = sturdy_malloc(K * sizeof *gT);
     double *gF = sturdy_malloc(K * sizeof *gF), *isq = sturdy_malloc(K * sizeof *isq);
@@ -302,8 +304,8 @@ static sturdy_status infl_init(const sturdy_design *d, const sturdy_model *m, si
         it->sse = sse;
         it->inv_sqrt = isq;
         for (int mod = 0; mod < NMOD; mod++) {
-            it->diag[mod] = it->hat + (size_t)mod * (1 + SENS_MAX_ROWS) * K;
-            for (size_t j = 0; j < SENS_MAX_ROWS; j++)
+            it->diag[mod] = it->hat + (size_t)mod * SENS_MAX_ROWS * K;
+            for (size_t j = 0; j + 1 < SENS_MAX_ROWS; j++)
                 it->cross[mod][j] = it->diag[mod] + (1 + j) * K;
         }
         hat_fill(it, SENS_MAX_ROWS, 0);
