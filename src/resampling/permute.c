@@ -535,15 +535,22 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j); a term
        whose df an earlier term has shares its threshold (the same expression, so the same
        bits), which leaves one quantile per distinct df and term j instead of M − 1 */
-    for (size_t t = 0; t < M; t++)
+    for (size_t t = 0; t < M; t++) {
+        /* the first two earlier terms of t's df (t: none): term j's threshold comes from
+           the first of them that is not j itself */
+        size_t u1 = t, u2 = t;
+        for (size_t u = 0; u < t && u2 == t; u++)
+            if (c->mem[u].df == c->mem[t].df) {
+                if (u1 == t) u1 = u;
+                else u2 = u;
+            }
         for (size_t j = 0; j < M; j++) {
             const member *mt = &c->mem[t];
             if (t == j) {
                 c->thr[t * M + j] = mt->c;
                 continue;
             }
-            size_t u = 0;
-            while (u < t && (u == j || c->mem[u].df != mt->df)) u++;
+            size_t u = u1 != j ? u1 : u2;
             if (u < t) {
                 c->thr[t * M + j] = c->thr[u * M + j];
                 continue;
@@ -553,6 +560,7 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
             c->thr[t * M + j] = q * (double)mt->df / (double)m->df_error *
                                 (1.0 - STURDY_TIE_RTOL);
         }
+    }
     size_t nb = PERM_BLOCK_BYTES / (Mf * K * sizeof(double) + 1);
     c->nb = nb < 1 ? 1 : (nb > PERM_BLOCK_MAX ? PERM_BLOCK_MAX : nb);
     return STURDY_OK;
