@@ -134,10 +134,12 @@ for third in 0 1 2; do
     sleep "$delay"
     kill -9 "$pid" 2>/dev/null && killed=killed || killed="finished first"
     wait "$pid" 2>/dev/null
+    # present: the results --resume keeps, those with their page (a kill between writing
+    # a result and its page leaves the result alone, and the row is computed again)
     present=0; intact=1
     for n in $NAMES; do
         if [ -e "$T/B/$n.json" ]; then
-            present=$((present + 1))
+            [ -e "$T/B/$n.html" ] && present=$((present + 1))
             cmp -s "$T/B/$n.json" "$T/A/$n.json" || intact=0
         fi
     done
