@@ -22,6 +22,11 @@ Checks (the reference is named on every line):
   * the run stops at a checkpoint (128, 256, …) that is ≥ every stopped term's L, and
     the family-wise p uses that many rearrangements;
   * bit-identical JSON with --threads 1, 2 and 3 (reference: the contract of DESIGN.md);
+  * the re-test of a term without its deciding rows (p_perm_without) uses every
+    rearrangement the run made: it equals a plain run's at -B (rearrangements made),
+    on tests/data/input/retest_stops.csv (a re-test whose p is near 0.09, which once
+    stopped at its 20th exceedance and reported 21/(1 + B)) and on the 6 datasets
+    (reference: rearrangement b depends on (seed, b) alone);
   * --stop-early with --shard is refused (exit 2) with a message naming both.
 About 15 s of CPU on one core.
 """
@@ -180,6 +185,34 @@ def main():
     report(exact_ok, "L is the exact index of the %dth exceedance: -B L counts %d, -B L-1 "
            "counts %d (%d terms; rearrangement b depends on (seed, b) only)"
            % (H, H, H - 1, len(exact_checks)))
+    # the re-tests without the deciding rows use every rearrangement the run made
+    data = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data", "input")
+    cases = [(os.path.join(data, "retest_stops.csv"), ["-y", "yield", "-f", "dose,site"])]
+    cases += [(os.path.join(tmp, "d%d.csv" % ds), ["-y", resp, "-f", "A,B,C"])
+              for ds in range(3)]
+    n_without = 0
+    without_ok = True
+    for path, model in cases:
+        args = model + base[4:] + ["--seed", "7"]
+        seq = json.loads(run(path, args + ["-B", str(B), "--stop-early"]))
+        done = seq["settings"]["permutations"]
+        plain = json.loads(run(path, args + ["-B", str(done)]))
+        pp = {(r, t["term"]): t for r, t in terms(plain)}
+        for r, t in terms(seq):
+            sv, sp = t.get("sensitivity") or {}, pp[(r, t["term"])].get("sensitivity") or {}
+            if sv.get("p_perm_without") is None and sp.get("p_perm_without") is None:
+                continue
+            n_without += 1
+            if sv.get("p_perm_without") != sp.get("p_perm_without"):
+                without_ok = False
+                report(False, "%s %s %s: p_perm_without %s under --stop-early (%d "
+                       "rearrangements made), %s in a plain run with -B %d"
+                       % (os.path.basename(path), r, t["term"], sv.get("p_perm_without"),
+                          done, sp.get("p_perm_without"), done))
+    report(without_ok and n_without > 0,
+           "p_perm_without under --stop-early equals a plain run's at -B (rearrangements "
+           "made) for %d terms re-tested without their deciding rows (same rearrangements)"
+           % n_without)
     # threads
     path = os.path.join(tmp, "d0.csv")
     outs = []

@@ -121,6 +121,10 @@ static sturdy_status run_set(const sturdy_table *t, const sturdy_run *run, sturd
         sub.exact = 0;               /* drawn from the run's streams, never enumerated */
         sub.progress = NULL;
         sub.opts.tail_fit = 0;       /* only the counts are used here */
+        /* every rearrangement the run made: p_perm_without = (1 + count) / (1 + B) is over
+           all of them (under --stop-early B is the rearrangements the main pass made); a
+           re-test stopped at its h-th exceedance would count h of far fewer */
+        sub.opts.stop_early = 0;
         if (run->perm_end > run->perm_begin &&
             (st = sturdy_permute_run(&sub, w->design, m, w, err)))
             goto done;
