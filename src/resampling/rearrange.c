@@ -54,18 +54,6 @@ void sturdy_rearranger_free(sturdy_rearranger *a)
     a->lab0 = NULL;
 }
 
-/* Durstenfeld's shuffle of x[0..m): for i = m−1 down to 1 swap x[i] with x[j], j drawn
- * uniformly from 0..i by Lemire's method (the order of sturdy_pcg_shuffle). */
-static void shuffle_labels(sturdy_pcg64 *g, uint32_t *x, size_t m)
-{
-    for (size_t i = m; i > 1; i--) {
-        size_t j = (size_t)pcg_bounded_inline(g, i);
-        uint32_t t = x[i - 1];
-        x[i - 1] = x[j];
-        x[j] = t;
-    }
-}
-
 /* The b-th permutation in enumeration order: mixed radix over blocks, each block's digit
  * decoded as a Lehmer code (factorial number system); b = 0 is the identity. */
 static void unrank(const sturdy_rearranger *a, uint64_t b, uint32_t *lab, uint32_t *pool)
@@ -113,6 +101,6 @@ void sturdy_rearrange(const sturdy_rearranger *a, uint64_t b, uint32_t *lab,
     memcpy(lab, a->lab0, n * sizeof *lab);
     for (size_t k = 0; k < a->nblk; k++) {
         size_t lo = a->blk_start[k];
-        shuffle_labels(&g, lab + lo, a->blk_start[k + 1] - lo);
+        pcg_shuffle_u32_inline(&g, lab + lo, a->blk_start[k + 1] - lo);
     }
 }
