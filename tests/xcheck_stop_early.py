@@ -15,10 +15,19 @@ Checks (the reference is named on every line):
     the exceedance count);
   * a term that never saw h exceedances keeps the full-B count, so its p equals the
     full-B run's p exactly (reference: the same rearrangements, sturdy_pcg_for(seed, b));
-  * a stopped term's L is the exact index of its h-th exceedance: a plain run with
-    -B L counts exactly h exceedances for it and -B L−1 counts h − 1 (reference: the
-    rearrangement b depends on (seed, b) alone, so -B L repeats the first L); its p is
-    h/L;
+  * a term stopped at its h-th exceedance: L is that exceedance's exact index, a plain
+    run with -B L counts exactly h exceedances for it and -B L−1 counts h − 1
+    (reference: the rearrangement b depends on (seed, b) alone, so -B L repeats the
+    first L); its p is h/L;
+  * a term stopped by the decision rule (stop_rule "decision"): L is a checkpoint before
+    B, a plain run with -B L counts its e exceedances, p = (1 + e)/(1 + L) ≤ alpha, and
+    the rule's condition holds there and not at the checkpoint before (a plain run at
+    that -B): the one-sided Clopper–Pearson bound, scipy.stats.beta.ppf(1 − ε/K, e + 1,
+    L − e) with ε = 1e-3 and K the checkpoints before B, is below alpha;
+  * the decision rule's risk: for a term whose true p is alpha, the probability that the
+    rule stops it at some checkpoint, computed exactly by propagating the binomial law of
+    the count between checkpoints (scipy.stats.binom), is at most ε = 1e-3 for
+    B = 999, 4999 and 9999;
   * the run stops at a checkpoint (128, 256, …) that is ≥ every stopped term's L, and
     the family-wise p uses that many rearrangements;
   * bit-identical JSON with --threads 1, 2 and 3 (reference: the contract of DESIGN.md);
@@ -42,7 +51,7 @@ from harness import finish, missing_library, need_binary, report  # noqa: E402
 
 try:
     import numpy as np
-    from scipy.stats import binom
+    from scipy.stats import beta as beta_dist, binom
 except ImportError as exc:
     missing_library(exc, "python3-numpy python3-scipy")
 
@@ -51,6 +60,48 @@ H = 20
 ALPHA = 0.05
 B = 4999
 NRESP = 12
+RISK = 1e-3            # STURDY_STOP_EARLY_RISK
+
+
+def checkpoints(b_total):
+    """The run's checkpoints (sturdy_seq_next_checkpoint): 128, 256, ..., then steps of
+    the largest power of two <= c/8, ending at B."""
+    cps, c = [], 0
+    while c < b_total:
+        step = 128
+        while c >= 1024 and step * 2 <= c // 8:
+            step *= 2
+        c = min((c // step + 1) * step, b_total)
+        cps.append(c)
+    return cps
+
+
+def rule_fires(e, n, b_total, alpha=ALPHA):
+    """The decision rule at a checkpoint n < B: the one-sided Clopper-Pearson upper bound
+    of the exceedance probability at level 1 - RISK/K is below alpha."""
+    k = len(checkpoints(b_total)) - 1
+    if e >= n:
+        return False
+    return beta_dist.ppf(1.0 - RISK / k, e + 1, n - e) < alpha
+
+
+def rule_risk(b_total, p=ALPHA):
+    """P(the decision rule stops a term whose true exceedance probability is p), exactly:
+    the count's law between checkpoints, less the paths already stopped."""
+    cps = [c for c in checkpoints(b_total) if c < b_total]
+    dist = np.array([1.0])          # P(count = x, not stopped), x = 0..
+    prev, fired = 0, 0.0
+    for c in cps:
+        step = binom.pmf(np.arange(c - prev + 1), c - prev, p)
+        dist = np.convolve(dist, step)
+        # the largest count at which the rule fires at c
+        x = 0
+        while x < len(dist) and rule_fires(x, c, b_total):
+            x += 1
+        fired += dist[:x].sum()
+        dist[:x] = 0.0
+        prev = c
+    return fired
 
 
 def run(path, args):
@@ -112,7 +163,9 @@ def main():
     resp = ",".join("y%d" % k for k in range(NRESP))
     base = ["-y", resp, "-f", "A,B,C", "--bootstrap", "0", "--compare", "none",
             "--format", "json", "--quiet", "--threads", "1"]
-    n_terms = n_stopped = n_agree = n_band = 0
+    n_terms = n_stopped = n_decided = n_agree = n_band = 0
+    decision_ok = True
+    decision_checks = []
     bad = []
     unstopped_equal = True
     stop_ok = True
@@ -130,15 +183,25 @@ def main():
         for r, t in terms(seq):
             f = fp[(r, t["term"])]
             n_terms += 1
-            if t["stopped_early"]:
+            if t["stopped_early"] and t["stop_rule"] == "decision":
+                n_decided += 1
+                L, e = t["perm_used"], t["exceed"]
+                if not (abs(t["p_perm"] - (1 + e) / (1 + L)) < 1e-15 and t["p_perm"] <= ALPHA
+                        and L in checkpoints(B) and L < B and L <= done):
+                    decision_ok = False
+                if len(decision_checks) < 6:
+                    decision_checks.append((path, seed, r, t["term"], L, e))
+            elif t["stopped_early"]:
                 n_stopped += 1
                 L = t["perm_used"]
-                if not (abs(t["p_perm"] - H / L) < 1e-15 and t["exceed"] == H and L <= done):
+                if not (abs(t["p_perm"] - H / L) < 1e-15 and t["exceed"] == H and L <= done
+                        and t["stop_rule"] == "exceedances"):
                     stop_ok = False
                 if len(exact_checks) < 6 and ds < 3:
                     exact_checks.append((path, seed, r, t["term"], L))
             else:
-                if t["p_perm"] != f["p_perm"] or t["perm_used"] != B or done != B:
+                if (t["p_perm"] != f["p_perm"] or t["perm_used"] != B or done != B or
+                        t["stop_rule"] != "none"):
                     unstopped_equal = False
             same = (t["p_perm"] <= ALPHA) == (f["p_perm"] <= ALPHA)
             if same:
@@ -153,24 +216,34 @@ def main():
             pf = t["p_perm_fwer"]
             if not (pf >= t["p_perm"] - 1e-15 and pf >= 1.0 / (done + 1) - 1e-15):
                 stop_ok = False
-        cps, c = [], 0
-        while c < B:
-            step = 128
-            while c >= 1024 and step * 2 <= c // 8:
-                step *= 2
-            c = min((c // step + 1) * step, B)
-            cps.append(c)
-        if done not in cps:
+        if done not in checkpoints(B):
             stop_ok = False
     report(not bad and n_terms > 0,
            "decisions at alpha 0.05 equal the full-B run's for %d of %d terms; %d differ "
            "within their Monte Carlo error band, %d outside it%s (binomial law of the "
            "exceedance count)" % (n_agree, n_terms, n_band, len(bad),
                                   (": " + "; ".join(bad)) if bad else ""))
-    report(n_stopped > n_terms // 2,
-           "most terms stop early: %d of %d (sanity)" % (n_stopped, n_terms))
-    report(unstopped_equal, "terms that never saw %d exceedances keep the full-B p exactly "
-           "(same rearrangements)" % H)
+    report(n_stopped + n_decided > n_terms // 2 and n_decided > 0,
+           "most terms stop early: %d of %d at their %dth exceedance, %d by the decision "
+           "rule (sanity)" % (n_stopped, n_terms, H, n_decided))
+    # at B = 4999 nearly every term stops by one rule or the other; at B = 400 the terms
+    # with p between about 0.02 and 0.05 see fewer than h and are not yet decided
+    n_unstopped = 0
+    for ds in range(6):
+        path = os.path.join(tmp, "d%d.csv" % ds)
+        args = base + ["-B", "400", "--seed", str(100 + ds)]
+        full = json.loads(run(path, args))
+        seq = json.loads(run(path, args + ["--stop-early"]))
+        fp = {(r, t["term"]): t for r, t in terms(full)}
+        for r, t in terms(seq):
+            if not t["stopped_early"]:
+                n_unstopped += 1
+                if (t["p_perm"] != fp[(r, t["term"])]["p_perm"] or t["perm_used"] != 400 or
+                        seq["settings"]["permutations"] != 400 or t["stop_rule"] != "none"):
+                    unstopped_equal = False
+    report(unstopped_equal and n_unstopped > 0,
+           "terms that never saw %d exceedances and were not decided keep the full-B p "
+           "exactly (same rearrangements; %d terms at B = 400)" % (H, n_unstopped))
     report(stop_ok, "stopped terms: p = %d/L, exceed = %d, L within the run; the run "
            "stopped at a checkpoint; family-wise p over the rearrangements made" % (H, H))
     # L is the exact index of the h-th exceedance
@@ -213,6 +286,35 @@ def main():
            "p_perm_without under --stop-early equals a plain run's at -B (rearrangements "
            "made) for %d terms re-tested without their deciding rows (same rearrangements)"
            % n_without)
+    # the decision rule: where it stopped, what a plain run of the first L counts, and
+    # that its condition (scipy) holds at L and not at the checkpoint before
+    report(decision_ok, "terms stopped by the decision rule: p = (1 + e)/(1 + L) <= %g, L a "
+           "checkpoint before B" % ALPHA)
+    rule_ok = bool(decision_checks)
+    for path, seed, r, term, L, e in decision_checks:
+        cps = checkpoints(B)
+        before = cps[cps.index(L) - 1] if cps.index(L) > 0 else 0
+        for b, want_fire in ((L, True), (before, False)):
+            if b == 0:
+                continue
+            doc = json.loads(run(path, base + ["-B", str(b), "--seed", seed]))
+            got = [t["exceed"] for rr, t in terms(doc) if rr == r and t["term"] == term]
+            if b == L and got != [e]:
+                rule_ok = False
+                report(False, "%s %s: -B %d counts %s, the stopped run %d" % (r, term, b, got, e))
+            # at the checkpoint before, the h-rule had not fired either (fewer than H)
+            if not got or rule_fires(got[0], b, B) != want_fire or (b == before and got[0] >= H):
+                rule_ok = False
+                report(False, "%s %s: at %d rearrangements %s exceedances, the rule %s"
+                       % (r, term, b, got, "should fire" if want_fire else "fired too early"))
+    report(rule_ok, "decision rule: the count of a plain run of the first L rearrangements "
+           "equals the stopped term's, and the Clopper-Pearson condition (scipy.stats.beta) "
+           "holds at L and not at the checkpoint before (%d terms)" % len(decision_checks))
+    risks = {b: rule_risk(b) for b in (999, 4999, 9999)}
+    report(all(v <= RISK for v in risks.values()) and all(v > 0 for v in risks.values()),
+           "decision rule's risk for a term whose true p is %g, exact (binomial law between "
+           "checkpoints): %s, each at most %g" % (ALPHA, ", ".join(
+               "B = %d: %.2e" % kv for kv in sorted(risks.items())), RISK))
     # threads
     path = os.path.join(tmp, "d0.csv")
     outs = []

@@ -93,8 +93,10 @@ typedef struct {
     int resistant;               /* 1: also the outlier-resistant test of every term (Huber
                                     M-estimation, drop in dispersion; default 0) */
     int stop_early;              /* 1: sequential stopping of the permutation tests
-                                    (Besag & Clifford 1991, h = STURDY_STOP_EARLY_H; whole
-                                    runs only, not with shards; default 0) */
+                                    (Besag & Clifford 1991, h = STURDY_STOP_EARLY_H, and
+                                    a decision rule at alpha with risk
+                                    STURDY_STOP_EARLY_RISK; whole runs only, not with
+                                    shards; default 0) */
     int tail_fit;                /* 1: also p_tail, a generalised Pareto tail fitted to
                                     the largest F* where fewer than 10 reach F (Knijnenburg
                                     et al. 2009; default 0) */
@@ -104,6 +106,11 @@ typedef struct {
 /* --stop-early: a term's permutation test stops at its h-th rearrangement at least as
  * extreme as the data, with p = h/L (L: that rearrangement's 1-based index); README. */
 #define STURDY_STOP_EARLY_H 20
+/* --stop-early: a term whose p is clearly below alpha stops at a checkpoint once the
+ * one-sided Clopper–Pearson bound of its p, at level 1 − (this risk)/(checkpoints before
+ * B), is below alpha; a term with true p ≥ alpha is stopped that way with probability at
+ * most this (resampling/sequential.c; README). */
+#define STURDY_STOP_EARLY_RISK 1e-3
 /* Cells-scheme bootstrap shrinks within-cell variance by (n_c − 1)/n_c; below this many
  * rows per cell the bias is large enough to warn (DESIGN.md, measured coverage 0.74). */
 #define STURDY_CELLS_WARN_ROWS 10

@@ -355,19 +355,24 @@ static sturdy_status stop_early_apply(sturdy_run *run, sturdy_result *r, char *e
     assert(run->perm_begin == 0 && run->perm_end == run->nperm);
     if (r->perm_stop > 0 && r->perm_stop < run->nperm)
         run->nperm = run->perm_end = r->nperm = r->perm_end = r->perm_stop;
-    size_t stopped = 0, tested = 0;
+    size_t stopped = 0, decided = 0, tested = 0;
     for (size_t ri = 0; ri < r->nresp; ri++)
         for (size_t t = 0; t < r->resp[ri].nterms; t++) {
             const sturdy_term_result *tr = &r->resp[ri].terms[t];
             tested += tr->perm_used > 0;
-            stopped += tr->stopped_early != 0;
+            stopped += tr->stopped_early == STURDY_SEQ_EXCEEDANCES;
+            decided += tr->stopped_early == STURDY_SEQ_DECIDED;
         }
     return add_note(r, sturdy_asprintf(
-        "sequential stopping (Besag & Clifford 1991): %zu of %zu tested terms stopped at "
-        "their %dth rearrangement at least as extreme as the data (p = %d/L); the run made "
-        "%llu of the %llu rearrangements asked for, which the family-wise and max-T "
-        "adjustments, the F* distribution and the other resampled tests use",
-        stopped, tested, STURDY_STOP_EARLY_H, STURDY_STOP_EARLY_H,
+        "sequential stopping: of %zu tested terms, %zu stopped at their %dth rearrangement "
+        "at least as extreme as the data (Besag & Clifford 1991; p = %d/L) and %zu once "
+        "p <= %g was settled (a Clopper-Pearson bound below %g at a checkpoint, with a "
+        "risk of at most %g that a term whose p is %g or more is stopped so; p = (1 + e)/"
+        "(1 + L)); the run made %llu of the %llu rearrangements asked for, which the "
+        "family-wise and max-T adjustments, the F* distribution and the other resampled "
+        "tests use",
+        tested, stopped, STURDY_STOP_EARLY_H, STURDY_STOP_EARLY_H, decided, run->opts.alpha,
+        run->opts.alpha, STURDY_STOP_EARLY_RISK, run->opts.alpha,
         (unsigned long long)r->nperm, (unsigned long long)r->nperm_asked), err);
 }
 
@@ -587,8 +592,11 @@ sturdy_status sturdy_result_finish(sturdy_result *r, char *err)
             if (!tr->perm_note) {
                 double B = (double)r->nperm;
                 if (tr->stopped_early) {
-                    /* Besag & Clifford (1991): h exceedances by the L-th rearrangement */
-                    tr->p_perm = (double)tr->exceed / (double)tr->perm_used;
+                    /* Besag & Clifford (1991): h exceedances by the L-th rearrangement;
+                       the decision rule: e exceedances among the first L */
+                    tr->p_perm = tr->stopped_early == STURDY_SEQ_DECIDED
+                                     ? (1.0 + (double)tr->exceed) / (1.0 + (double)tr->perm_used)
+                                     : (double)tr->exceed / (double)tr->perm_used;
                     tr->p_perm_fwer = (1.0 + (double)tr->exceed_fwer) / (1.0 + B);
                     sturdy_clopper_pearson(tr->exceed, tr->perm_used, PERM_CI_LEVEL,
                                            &tr->p_perm_ci.lo, &tr->p_perm_ci.hi);

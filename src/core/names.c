@@ -4,6 +4,7 @@
 
 #include "sturdy/analysis.h"
 #include "sturdy/names.h"
+#include "core/result.h"
 
 /* One row per value: the result's name (JSON, CSV), the command line's word when it
  * differs (NULL: the name), and the text report's description. */
@@ -138,4 +139,21 @@ const char *sturdy_verdict_name(sturdy_verdict v)
     case STURDY_VERDICT_NONE: break;
     }
     return NULL;
+}
+
+/* --stop-early: how a term's test stopped, as written in the JSON (stop_rule) and CSV */
+const char *sturdy_stop_rule_name(int rule)
+{
+    switch (rule) {
+    case STURDY_SEQ_EXCEEDANCES: return "exceedances";
+    case STURDY_SEQ_DECIDED: return "decision";
+    default: return "none";
+    }
+}
+
+int sturdy_stop_rule_parse(const char *name)
+{
+    if (name && !strcmp(name, "exceedances")) return STURDY_SEQ_EXCEEDANCES;
+    if (name && !strcmp(name, "decision")) return STURDY_SEQ_DECIDED;
+    return STURDY_SEQ_RUNNING;
 }

@@ -120,6 +120,17 @@ typedef struct {
     double ad, ad_p;             /* Anderson–Darling A² and its bootstrap p (NaN: none) */
 } sturdy_tail_fit;
 
+/* --stop-early: how a term's permutation test stopped (sturdy_term_result.stopped_early;
+ * resampling/sequential.c). */
+enum {
+    STURDY_SEQ_RUNNING = 0,      /* ran to the end of the run */
+    STURDY_SEQ_EXCEEDANCES = 1,  /* h exceedances by the L-th rearrangement: p = h/L */
+    STURDY_SEQ_DECIDED = 2       /* at checkpoint L, p ≤ α settled: p = (1 + e)/(1 + L) */
+};
+/* "exceedances", "decision" or "none" (core/names.c), and back (unknown: running). */
+const char *sturdy_stop_rule_name(int rule);
+int sturdy_stop_rule_parse(const char *name);
+
 typedef struct {
     char *label;                 /* "A×B" */
     sturdy_term_kind kind;
@@ -137,7 +148,7 @@ typedef struct {
     char *perm_note;
     uint64_t perm_used;          /* --stop-early: the rearrangements behind p_perm (L when
                                     stopped, else the run's); 0 without it */
-    int stopped_early;           /* --stop-early: h exceedances were seen; p_perm = h/L */
+    int stopped_early;           /* --stop-early: how the term stopped (STURDY_SEQ_*) */
     uint64_t f_hist[STURDY_FHIST_BINS]; /* F* of the rearrangements on the fixed bins of
                                     sturdy_fhist_top (classical/fhist.c) */
     /* --tail-fit (tail.c): the largest F* of the rearrangements so far, descending, and

@@ -93,8 +93,9 @@ static void write_error_row(sturdy_buf *b, const sturdy_response_result *rr,
 #define CSV_TAIL_COLUMNS ",p_tail,tail_status,tail_n_exc,tail_threshold,tail_shape," \
                          "tail_scale,tail_ad,tail_ad_p"
 
-/* With --stop-early only, last: the rearrangements behind p_perm, whether it stopped. */
-#define CSV_STOP_COLUMNS ",perm_used,stopped_early"
+/* With --stop-early only, last: the rearrangements behind p_perm, whether it stopped and
+ * by which rule. */
+#define CSV_STOP_COLUMNS ",perm_used,stopped_early,stop_rule"
 
 static void write_header(sturdy_buf *b, int tail_fit, int stop_early)
 {
@@ -240,6 +241,8 @@ static void write_row(sturdy_buf *b, const sturdy_result *r, const sturdy_respon
         if (seq) sturdy_buf_printf(b, "%" PRIu64, t->perm_used);
         sturdy_buf_put(b, ",", 1);
         if (seq) sturdy_buf_puts(b, t->stopped_early ? "yes" : "no");
+        sturdy_buf_put(b, ",", 1);
+        if (seq) sturdy_buf_puts(b, sturdy_stop_rule_name(t->stopped_early));
     }
     sturdy_buf_put(b, "\n", 1);
 }

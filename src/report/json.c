@@ -476,9 +476,11 @@ static void write_term(jw *w, const sturdy_result *r, const sturdy_term_result *
         if (has_perm) {
             jw_u64(w, "perm_used", t->perm_used);
             jw_bool(w, "stopped_early", t->stopped_early);
+            jw_str(w, "stop_rule", sturdy_stop_rule_name(t->stopped_early));
         } else {
             jw_null(w, "perm_used");
             jw_null(w, "stopped_early");
+            jw_null(w, "stop_rule");
         }
     }
     for (int e = 0; e < STURDY_NES; e++) jw_num(w, sturdy_es_names[e], t->es[e]);

@@ -380,6 +380,15 @@ static int read_term(const jv *t, sturdy_term_result *tr)
               get_u64(t, "perm_used", &tr->perm_used)) &&
              (is_kind(jv_get(t, "stopped_early"), JV_NULL) || !jv_get(t, "stopped_early") ||
               get_bool(t, "stopped_early", &tr->stopped_early));
+    /* the rule (older files write none: a stopped term stopped at h exceedances); a
+       stopped term with another rule than those written is not a result of this tool */
+    const jv *rule = jv_get(t, "stop_rule");
+    if (ok && tr->stopped_early) {
+        tr->stopped_early = !rule || is_kind(rule, JV_NULL) ? STURDY_SEQ_EXCEEDANCES
+                            : is_kind(rule, JV_STRING)      ? sturdy_stop_rule_parse(rule->text)
+                                                            : STURDY_SEQ_RUNNING;
+        ok = tr->stopped_early != STURDY_SEQ_RUNNING;
+    }
     tr->p_tail = NAN;                /* present with --tail-fit only */
     ok = ok && (!jv_get(t, "p_tail") || get_num(t, "p_tail", &tr->p_tail));
     int v = verdict_of(verdict);

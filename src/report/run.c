@@ -126,9 +126,10 @@ static void resampling_line(tw *w, const sturdy_design *d, sturdy_buf *s)
                                    : "random rearrangements");
         if (r->opts.stop_early && !r->exact)
             sturdy_buf_printf(s, " of the %llu asked for, sequential stopping (--stop-early: "
-                              "each term stops at its %dth as extreme as the data; Besag & "
-                              "Clifford 1991)", (unsigned long long)r->nperm_asked,
-                              STURDY_STOP_EARLY_H);
+                              "each term stops at its %dth as extreme as the data, Besag & "
+                              "Clifford 1991, or once p <= %g is settled with risk %g)",
+                              (unsigned long long)r->nperm_asked, STURDY_STOP_EARLY_H,
+                              r->opts.alpha, STURDY_STOP_EARLY_RISK);
         /* rearrange.c: with sign flips there is one block and the flips are row by row */
         if (d && d->has_block && r->opts.flip)
             sturdy_buf_printf(s, ", row by row (the block '%s' does not restrict the flips; "

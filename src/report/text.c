@@ -473,7 +473,13 @@ static void term_details(tw *w, const sturdy_term_result *t)
             n = snprintf(s, sizeof s, "resampled p: 99%% range %s", x);
             /* --stop-early: which rule gave p, from how many rearrangements */
             unsigned long long L = (unsigned long long)t->perm_used;
-            if (r->opts.stop_early && t->stopped_early && n > 0 && (size_t)n < sizeof s)
+            if (r->opts.stop_early && t->stopped_early == STURDY_SEQ_DECIDED && n > 0 &&
+                (size_t)n < sizeof s)
+                n += snprintf(s + n, sizeof s - (size_t)n, "; stopped early at rearrangement "
+                              "%llu, p <= %g settled: %llu as extreme, p = (1 + %llu)/(1 + %llu)",
+                              L, r->opts.alpha, (unsigned long long)t->exceed,
+                              (unsigned long long)t->exceed, L);
+            else if (r->opts.stop_early && t->stopped_early && n > 0 && (size_t)n < sizeof s)
                 n += snprintf(s + n, sizeof s - (size_t)n, "; stopped early: %d as extreme "
                               "by rearrangement %llu, p = %d/%llu", STURDY_STOP_EARLY_H, L,
                               STURDY_STOP_EARLY_H, L);

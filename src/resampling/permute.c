@@ -667,9 +667,10 @@ static void run_range(const perm_ctx *c, const sturdy_run *run, perm_work *ws, i
 }
 
 /* --stop-early (sequential.c): rounds of rearrangements up to fixed checkpoints; at each,
- * the members whose h-th exceedance fell in the round stop (Besag & Clifford 1991), and
- * the run stops when all have. Sets the stopped members' exceed (h), perm_used (L) and
- * stopped_early in r, and r->perm_stop (the rearrangements the run made: the counts in
+ * the members whose h-th exceedance fell in the round stop (Besag & Clifford 1991), then
+ * those whose p ≤ α is settled (the decision rule), and the run stops when all have.
+ * Sets the stopped members' exceed (h, or the count at their checkpoint), perm_used (L)
+ * and stopped_early (how: STURDY_SEQ_*) in r, and r->perm_stop (the rearrangements the run made: the counts in
  * the workspaces cover [0, perm_stop)). Whole runs only (no shards: analysis.c). */
 static sturdy_status run_sequential(const perm_ctx *c, const sturdy_run *run, perm_work *ws,
                                     int nthreads, perm_progress *prog, sturdy_result *r,
@@ -681,7 +682,7 @@ static sturdy_status run_sequential(const perm_ctx *c, const sturdy_run *run, pe
     sturdy_seq seq;
     sturdy_seq_thread *ts = sturdy_calloc((size_t)nthreads, sizeof *ts);
     uint64_t *total = sturdy_calloc(c->M + 1, sizeof *total);
-    int ok = ts && total && !sturdy_seq_init(&seq, c->M, h, nthreads);
+    int ok = ts && total && !sturdy_seq_init(&seq, c->M, h, nthreads, run->opts.alpha, B);
     for (int i = 0; ok && i < nthreads; i++)
         ok = !sturdy_seq_thread_init(&ts[i], c->M, h);
     if (!ok) {
@@ -702,16 +703,16 @@ static sturdy_status run_sequential(const perm_ctx *c, const sturdy_run *run, pe
             for (int i = 0; i < nthreads; i++)
                 total[j] += ws[i].exceed[j];
         }
-        sturdy_seq_checkpoint(&seq, total, ts, nthreads);
+        sturdy_seq_checkpoint(&seq, hi, total, ts, nthreads);
         lo = hi;
     }
     r->perm_stop = lo;
     for (size_t j = 0; j < c->M; j++) {
         sturdy_term_result *tr = &r->resp[c->mem[j].resp].terms[c->mem[j].term];
-        tr->stopped_early = seq.stop[j] != 0;
+        tr->stopped_early = seq.rule[j];
         tr->perm_used = seq.stop[j] ? seq.stop[j] : lo;
         if (seq.stop[j])
-            tr->exceed = h;
+            tr->exceed = seq.xstop[j];
     }
     if (run->progress && prog->done < prog->total)   /* the progress line ends */
         run->progress(run->progress_arg, prog->total, prog->total);

@@ -1,11 +1,14 @@
 /* sequential.h — opt-in sequential stopping of the permutation tests (sequential.c):
- * Besag & Clifford's (1991) sequential Monte Carlo p-value, with the whole run's stopping
- * decided only at fixed checkpoints of the global rearrangement sequence. */
+ * Besag & Clifford's (1991) sequential Monte Carlo p-value, a decision rule for terms
+ * whose p is clearly below α, and the whole run's stopping, decided only at fixed
+ * checkpoints of the global rearrangement sequence. */
 #ifndef STURDY_SEQUENTIAL_H
 #define STURDY_SEQUENTIAL_H
 
 #include <stddef.h>
 #include <stdint.h>
+
+#include "core/result.h"   /* STURDY_SEQ_*: how a member stopped */
 
 /* The next checkpoint after c (< B) of a run of B rearrangements: 128, 256, …, 1024, then
  * steps of the largest power of two ≤ c/8 (at most 12.5% past the point where the last
@@ -40,28 +43,41 @@ static inline void sturdy_seq_note(sturdy_seq_thread *s, size_t j, uint64_t b)
     s->npos[j] = n + 1;
 }
 
-/* The run's state: per member the exceedances before the last checkpoint and, once h of
- * them are seen, L = 1 + the index of the h-th (Besag–Clifford's stopping point). */
+/* The number of checkpoints strictly before B (those at which the decision rule is
+ * applied; at B the run ends anyway). */
+uint64_t sturdy_seq_ncheckpoints(uint64_t B);
+
+/* The run's state: per member the exceedances before the last checkpoint and, once it
+ * stopped, L, how and with how many exceedances. */
 typedef struct {
     size_t M;
     unsigned h;
+    double alpha;                /* the decision rule's level; 0: no decision rule */
+    double eps;                  /* its risk at each checkpoint: the run's risk
+                                    STURDY_STOP_EARLY_RISK over the checkpoints before B */
+    uint64_t B;
     uint64_t *count;             /* M: exceedances among [0, last checkpoint) */
-    uint64_t *stop;              /* M: L, or 0 while fewer than h are seen */
-    size_t left;                 /* members with stop 0 */
+    uint64_t *stop;              /* M: L, or 0 while running */
+    uint64_t *xstop;             /* M: exceedances behind p once stopped (h, or e at L) */
+    unsigned char *rule;         /* M: STURDY_SEQ_* (core/result.h) */
+    size_t left;                 /* members still running */
     uint64_t *merge;             /* nt × h: the threads' records of one member */
 } sturdy_seq;
 
-/* For M members and nt threads; 0 on success, -1 when out of memory (nothing to free
- * then). */
-int sturdy_seq_init(sturdy_seq *s, size_t M, unsigned h, int nt);
+/* For M members, nt threads and a run of B rearrangements; alpha > 0 adds the decision
+ * rule at that level. 0 on success, -1 when out of memory (nothing to free then). */
+int sturdy_seq_init(sturdy_seq *s, size_t M, unsigned h, int nt, double alpha, uint64_t B);
 void sturdy_seq_free(sturdy_seq *s);
 int sturdy_seq_thread_init(sturdy_seq_thread *t, size_t M, unsigned h);
 void sturdy_seq_thread_free(sturdy_seq_thread *t);
 
-/* A checkpoint: total[j] = member j's exceedances over [0, checkpoint) summed over the
- * threads, whose records ts[0..nt) cover the round just done; sets stop[] of the members
- * whose h-th exceedance fell in the round and clears the records for the next round. */
-void sturdy_seq_checkpoint(sturdy_seq *s, const uint64_t *total, sturdy_seq_thread *ts,
-                           int nt);
+/* The checkpoint at rearrangement `at`: total[j] = member j's exceedances over [0, at)
+ * summed over the threads, whose records ts[0..nt) cover the round just done. Stops the
+ * members whose h-th exceedance fell in the round (L its index + 1), then, before B, those
+ * whose p ≤ α is settled (L = at): the one-sided Clopper–Pearson upper bound of their
+ * exceedance probability at level 1 − eps is below α. Clears the records for the next
+ * round. */
+void sturdy_seq_checkpoint(sturdy_seq *s, uint64_t at, const uint64_t *total,
+                           sturdy_seq_thread *ts, int nt);
 
 #endif
