@@ -63,98 +63,135 @@ static sturdy_status masked_table(const sturdy_table *t, const sturdy_design *d,
     return STURDY_OK;
 }
 
-/* One distinct set: the terms in `members` (flags over nresp × nterms) share it. */
-static sturdy_status run_set(const sturdy_table *t, const sturdy_run *run, sturdy_result *r,
-                             const sturdy_sensitivity *sv, const unsigned char *members,
-                             char *err)
+/* One distinct set and its re-test: the terms in `members` (flags over nresp × nterms)
+ * share it. */
+typedef struct {
+    const sturdy_sensitivity *sv;
+    unsigned char *members;
+    sturdy_table tc;             /* the table with the set's rows marked missing */
+    unsigned char **masks;       /* its response columns' missing flags (nresp) */
+    sturdy_result *w;            /* the data without the rows: design, classical table */
+    sturdy_model *m;
+    int usable;                  /* a design of the same shape: the test is run */
+    sturdy_status st;
+    char err[STURDY_ERR_LEN];
+} retest;
+
+static void retest_release(const sturdy_design *d, retest *rt)
+{
+    sturdy_model_free(rt->m);
+    sturdy_result_free(rt->w);
+    for (size_t ri = 0; rt->masks && ri < d->nresp; ri++) sturdy_free(rt->masks[ri]);
+    sturdy_free(rt->masks);
+    sturdy_free(rt->tc.cols);
+    sturdy_free(rt->members);
+    rt->m = NULL;
+    rt->w = NULL;
+    rt->masks = NULL;
+    rt->tc.cols = NULL;
+    rt->members = NULL;
+}
+
+/* The data without the set's rows, built the plain way, and its classical table; notes
+ * on the members' sensitivity whether they are tested. Writes only the members' results,
+ * so the sets of a wave are prepared side by side. Sets rt->st (and rt->err). */
+static void retest_prepare(const sturdy_table *t, const sturdy_run *run, sturdy_result *r,
+                           retest *rt)
 {
     const sturdy_design *d = r->design;
     size_t nt = d->nterms;
-    sturdy_table tc;
-    unsigned char **masks = sturdy_calloc(d->nresp, sizeof *masks);
-    sturdy_result *w = sturdy_calloc(1, sizeof *w);
-    sturdy_model *m = NULL;
-    sturdy_status st = STURDY_OK;
-    memset(&tc, 0, sizeof tc);
-    if (!masks || !w) {
-        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-        goto done;
+    const unsigned char *members = rt->members;
+    char *err = rt->err;
+    rt->masks = sturdy_calloc(d->nresp, sizeof *rt->masks);
+    rt->w = sturdy_calloc(1, sizeof *rt->w);
+    if (!rt->masks || !rt->w) {
+        rt->st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        return;
     }
+    sturdy_result *w = rt->w;
     w->opts = run->opts;
-    if ((st = masked_table(t, d, sv, &tc, masks, err))) goto done;
+    if ((rt->st = masked_table(t, d, rt->sv, &rt->tc, rt->masks, err))) return;
     /* a design that fails or differs in shape is "no test"; out of memory is a failure */
     char msg[STURDY_ERR_LEN];
-    sturdy_status bst = sturdy_design_build(&tc, &run->opts.model, &w->design, msg);
-    if (!bst) bst = sturdy_model_build(w->design, run->opts.ss_type, &m, msg);
+    sturdy_status bst = sturdy_design_build(&rt->tc, &run->opts.model, &w->design, msg);
+    if (!bst) bst = sturdy_model_build(w->design, run->opts.ss_type, &rt->m, msg);
     if (bst == STURDY_EINTERNAL) {
-        st = sturdy_fail(err, bst, "%s", msg);
-        goto done;
+        rt->st = sturdy_fail(err, bst, "%s", msg);
+        return;
     }
-    int usable = !bst && w->design->n + sv->nrows == d->n && w->design->nterms == nt;
-    if (usable) {
-        w->nresp = d->nresp;
-        if (!(w->resp = sturdy_calloc(d->nresp, sizeof *w->resp))) {
-            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            goto done;
-        }
-        for (size_t ri = 0; ri < d->nresp && !st; ri++)
-            st = sturdy_anova_response(w->design, m, ri, run->opts.conf, run->threads,
-                                       &w->resp[ri], err);
-        if (st) goto done;
-        /* only the set's terms are members of the pass (permute.c skips a term without F) */
-        for (size_t ri = 0; ri < d->nresp; ri++)
-            for (size_t k = 0; k < nt; k++) {
-                sturdy_term_result *wt = &w->resp[ri].terms[k];
-                sturdy_sensitivity *tsv = &r->resp[ri].terms[k].sens;
-                if (!members[ri * nt + k]) {
-                    wt->f = NAN;
-                    continue;
-                }
-                tsv->f_refit = wt->f;
-                /* a term the run does not resample (the block term, rearranged within
-                   blocks; permute.c notes why) has no resampled p without the rows either */
-                int tested = wt->f >= 0 && !r->resp[ri].terms[k].perm_note;
-                tsv->perm_state = tested ? STURDY_SENS_PERM_DONE : STURDY_SENS_PERM_NO_TEST;
-                if (!tested) wt->f = NAN;
-            }
-        sturdy_run sub = *run;
-        sub.exact = 0;               /* drawn from the run's streams, never enumerated */
-        sub.progress = NULL;
-        sub.opts.tail_fit = 0;       /* only the counts are used here */
-        /* every rearrangement the run made: p_perm_without = (1 + count) / (1 + B) is over
-           all of them (under --stop-early B is the rearrangements the main pass made); a
-           re-test stopped at its h-th exceedance would count h of far fewer */
-        sub.opts.stop_early = 0;
-        if (run->perm_end > run->perm_begin &&
-            (st = sturdy_permute_run(&sub, w->design, m, w, err)))
-            goto done;
-        for (size_t ri = 0; ri < d->nresp; ri++)
-            for (size_t k = 0; k < nt; k++)
-                if (members[ri * nt + k] &&
-                    r->resp[ri].terms[k].sens.perm_state == STURDY_SENS_PERM_DONE)
-                    r->resp[ri].terms[k].sens.exceed_without += w->resp[ri].terms[k].exceed;
-    } else {
+    rt->usable = !bst && w->design->n + rt->sv->nrows == d->n && w->design->nterms == nt;
+    if (!rt->usable) {
         for (size_t j = 0; j < d->nresp * nt; j++)
             if (members[j]) r->resp[j / nt].terms[j % nt].sens.perm_state =
                                 STURDY_SENS_PERM_NO_TEST;
+        return;
     }
-done:
-    sturdy_model_free(m);
-    sturdy_result_free(w);
-    for (size_t ri = 0; masks && ri < d->nresp; ri++) sturdy_free(masks[ri]);
-    sturdy_free(masks);
-    sturdy_free(tc.cols);
-    return st;
+    w->nresp = d->nresp;
+    if (!(w->resp = sturdy_calloc(d->nresp, sizeof *w->resp))) {
+        rt->st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+        return;
+    }
+    for (size_t ri = 0; ri < d->nresp && !rt->st; ri++)
+        rt->st = sturdy_anova_response(w->design, rt->m, ri, run->opts.conf, run->threads,
+                                       &w->resp[ri], err);
+    if (rt->st) return;
+    /* only the set's terms are members of the pass (permute.c skips a term without F) */
+    for (size_t ri = 0; ri < d->nresp; ri++)
+        for (size_t k = 0; k < nt; k++) {
+            sturdy_term_result *wt = &w->resp[ri].terms[k];
+            sturdy_sensitivity *tsv = &r->resp[ri].terms[k].sens;
+            if (!members[ri * nt + k]) {
+                wt->f = NAN;
+                continue;
+            }
+            tsv->f_refit = wt->f;
+            /* a term the run does not resample (the block term, rearranged within
+               blocks; permute.c notes why) has no resampled p without the rows either */
+            int tested = wt->f >= 0 && !r->resp[ri].terms[k].perm_note;
+            tsv->perm_state = tested ? STURDY_SENS_PERM_DONE : STURDY_SENS_PERM_NO_TEST;
+            if (!tested) wt->f = NAN;
+        }
+}
+
+/* The re-test's resampling pass over the run's slice (on the run's threads), its counts
+ * added to the members' exceed_without. */
+static sturdy_status retest_pass(const sturdy_run *run, sturdy_result *r, retest *rt,
+                                 char *err)
+{
+    const sturdy_design *d = r->design;
+    size_t nt = d->nterms;
+    if (!rt->usable)
+        return STURDY_OK;
+    sturdy_run sub = *run;
+    sub.exact = 0;               /* drawn from the run's streams, never enumerated */
+    sub.progress = NULL;
+    sub.opts.tail_fit = 0;       /* only the counts are used here */
+    /* every rearrangement the run made: p_perm_without = (1 + count) / (1 + B) is over
+       all of them (under --stop-early B is the rearrangements the main pass made); a
+       re-test stopped at its h-th exceedance would count h of far fewer */
+    sub.opts.stop_early = 0;
+    sturdy_status st;
+    if (run->perm_end > run->perm_begin &&
+        (st = sturdy_permute_run(&sub, rt->w->design, rt->m, rt->w, err)))
+        return st;
+    for (size_t ri = 0; ri < d->nresp; ri++)
+        for (size_t k = 0; k < nt; k++)
+            if (rt->members[ri * nt + k] &&
+                r->resp[ri].terms[k].sens.perm_state == STURDY_SENS_PERM_DONE)
+                r->resp[ri].terms[k].sens.exceed_without += rt->w->resp[ri].terms[k].exceed;
+    return STURDY_OK;
 }
 
 sturdy_status sturdy_without_run(const sturdy_table *t, const sturdy_run *run,
                                  sturdy_result *r, char *err)
 {
     const sturdy_design *d = r->design;
-    size_t nt = d->nterms, total = d->nresp * nt;
-    unsigned char *done = sturdy_calloc(total + 1, 1), *members = sturdy_calloc(total + 1, 1);
+    size_t nt = d->nterms, total = d->nresp * nt, nsets = 0;
+    unsigned char *done = sturdy_calloc(total + 1, 1);
+    retest *sets = sturdy_calloc(total + 1, sizeof *sets);
     sturdy_status st = STURDY_OK;
-    if (!done || !members) st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (!done || !sets) st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    /* the distinct sets, in (response, term) order of their first member */
     for (size_t j = 0; j < total && !st; j++) {
         sturdy_sensitivity *sv = &r->resp[j / nt].terms[j % nt].sens;
         if (done[j] || !sv->searched || sv->nrows == 0) continue;
@@ -163,16 +200,40 @@ sturdy_status sturdy_without_run(const sturdy_table *t, const sturdy_run *run,
                                              : STURDY_SENS_PERM_EXACT;
             continue;
         }
-        memset(members, 0, total);
+        retest *rt = &sets[nsets++];
+        rt->sv = sv;
+        if (!(rt->members = sturdy_calloc(total + 1, 1))) {
+            st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+            break;
+        }
         for (size_t q = j; q < total; q++) {
             const sturdy_sensitivity *o = &r->resp[q / nt].terms[q % nt].sens;
             if (!done[q] && o->searched && o->nrows && same_set(sv, o))
-                members[q] = done[q] = 1;
+                rt->members[q] = done[q] = 1;
         }
-        st = run_set(t, run, r, sv, members, err);
     }
+    /* in waves of one set per thread: the sets of a wave are prepared side by side (the
+       refit of a large design is serial work: f5_20k's, 0.43 G instructions each), then
+       their passes run one after the other, each on all the threads; at most one wave's
+       models are held at once */
+    size_t wave = run->threads > 1 ? (size_t)run->threads : 1;
+    for (size_t w0 = 0; w0 < nsets && !st; w0 += wave) {
+        size_t w1 = w0 + wave < nsets ? w0 + wave : nsets;
+#pragma omp parallel for schedule(dynamic, 1) num_threads((int)(w1 - w0))
+        for (size_t i = w0; i < w1; i++)
+            retest_prepare(t, run, r, &sets[i]);
+        for (size_t i = w0; i < w1 && !st; i++)
+            if ((st = sets[i].st))
+                sturdy_fail(err, st, "%s", sets[i].err);
+        for (size_t i = w0; i < w1 && !st; i++)
+            st = retest_pass(run, r, &sets[i], err);
+        for (size_t i = w0; i < w1; i++)
+            retest_release(d, &sets[i]);
+    }
+    for (size_t i = 0; i < nsets; i++)
+        retest_release(d, &sets[i]);
     sturdy_free(done);
-    sturdy_free(members);
+    sturdy_free(sets);
     return st;
 }
 
