@@ -24,6 +24,8 @@ Checks (the reference is named on every line):
     the rule's condition holds there and not at the checkpoint before (a plain run at
     that -B): the one-sided Clopper–Pearson bound, scipy.stats.beta.ppf(1 − ε/K, e + 1,
     L − e) with ε = 1e-3 and K the checkpoints before B, is below alpha;
+  * with --tail-fit the decision rule is off (on retest_stops.csv a term it stops without
+    the option runs on with it);
   * the decision rule's risk: for a term whose true p is alpha, the probability that the
     rule stops it at some checkpoint, computed exactly by propagating the binomial law of
     the count between checkpoints (scipy.stats.binom), is at most ε = 1e-3 for
@@ -310,6 +312,16 @@ def main():
     report(rule_ok, "decision rule: the count of a plain run of the first L rearrangements "
            "equals the stopped term's, and the Clopper-Pearson condition (scipy.stats.beta) "
            "holds at L and not at the checkpoint before (%d terms)" % len(decision_checks))
+    # with --tail-fit the decision rule is off (the tail's p below 1/B needs the run)
+    rs = os.path.join(data, "retest_stops.csv")
+    rules = []
+    for extra in ([], ["--tail-fit"]):
+        doc = json.loads(run(rs, ["-y", "yield", "-f", "dose,site"] + base[4:] +
+                             ["-B", "9999", "--stop-early"] + extra))
+        rules.append(sorted(t["stop_rule"] for r, t in terms(doc)))
+    report("decision" in rules[0] and "decision" not in rules[1],
+           "with --tail-fit no term stops by the decision rule (without it: %s; with it: %s)"
+           % (rules[0], rules[1]))
     risks = {b: rule_risk(b) for b in (999, 4999, 9999)}
     report(all(v <= RISK for v in risks.values()) and all(v > 0 for v in risks.values()),
            "decision rule's risk for a term whose true p is %g, exact (binomial law between "
