@@ -14,7 +14,7 @@ cd "$(dirname "$0")/.."
 STURDY="${STURDY_BIN:-./sturdy}"
 CG_B="${CG_B:-999}"
 BASELINE=11.96   # instructions per rearrangement·term·observation, measured 2026-12-01 (README)
-SETUP_BASELINE=840975224     # instructions at -B 0, measured 2026-12-02 after the sensitivity search's hat cache (bench/README.md, "Set-up")
+SETUP_BASELINE=553853583     # instructions at -B 0, measured 2026-12-02 (second session) after the range table's panels on demand (bench/README.md, "Set-up")
 SETUP_TARGET=30000000        # issue 17's target for the set-up at n = 2000
 OUT=bench/out
 command -v valgrind >/dev/null || { echo "FAIL valgrind not installed (Debian package valgrind)"; exit 1; }
@@ -53,7 +53,7 @@ main_pass=$(callgrind_annotate --tree=caller --inclusive=yes "$OUT/callgrind.$CG
     grep -B4 '\*  .*permute.c:sturdy_permute_run \[' | grep 'sturdy_analyze' | head -n 1 |
     awk '{gsub(",", "", $1); print $1}')
 without=$(callgrind_annotate --tree=caller --inclusive=yes "$OUT/callgrind.$CG_B.out" 2>/dev/null |
-    grep -B4 '\*  .*permute.c:sturdy_permute_run \[' | grep 'without.c:run_set' | head -n 1 |
+    grep -B4 '\*  .*permute.c:sturdy_permute_run \[' | grep 'without.c:' | head -n 1 |
     awk '{gsub(",", "", $1); print $1}')
 awk -v m="${main_pass:-0}" -v w="${without:-0}" -v B="$CG_B" -v base="$BASELINE" 'BEGIN {
     x = m / (B * 7 * 2000)

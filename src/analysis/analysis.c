@@ -376,40 +376,6 @@ static sturdy_status stop_early_apply(sturdy_run *run, sturdy_result *r, char *e
         (unsigned long long)r->nperm, (unsigned long long)r->nperm_asked), err);
 }
 
-/* The single-row sensitivity search of every (response, term), on the run's threads:
- * each term's search reads the fit and writes its own result only, so the threads change
- * nothing but the time (f5_20k: 31 terms, 0.72 G instructions). The first failure in
- * (response, term) order is the one reported. */
-static sturdy_status sensitivity_all(const sturdy_design *d, const sturdy_model *m,
-                                     const sturdy_run *run, sturdy_result *r, char *err)
-{
-    size_t nt = d->nterms, total = d->nresp * nt;
-    sturdy_status *sts = sturdy_calloc(total + 1, sizeof *sts);
-    char *msgs = sturdy_malloc((total + 1) * STURDY_ERR_LEN);
-    if (!sts || !msgs) {
-        sturdy_free(sts);
-        sturdy_free(msgs);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
-    int threads = run->threads > 1 ? run->threads : 1;
-#pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
-    for (size_t j = 0; j < total; j++) {
-        size_t ri = j / nt, k = j % nt;
-        msgs[j * STURDY_ERR_LEN] = '\0';
-        sts[j] = k < r->resp[ri].nterms
-                     ? sturdy_sensitivity_term(d, m, ri, k, run->opts.alpha, &r->resp[ri],
-                                               &r->resp[ri].terms[k], msgs + j * STURDY_ERR_LEN)
-                     : STURDY_OK;
-    }
-    sturdy_status st = STURDY_OK;
-    for (size_t j = 0; j < total && !st; j++)
-        if ((st = sts[j]))
-            sturdy_fail(err, st, "%s", msgs + j * STURDY_ERR_LEN);
-    sturdy_free(sts);
-    sturdy_free(msgs);
-    return st;
-}
-
 static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_result *r,
                              char *err)
 {
@@ -431,7 +397,7 @@ static sturdy_status analyze(const sturdy_table *t, sturdy_run *run, sturdy_resu
             !(st = sturdy_bootstrap_run(run, d, m, r, err))) {
             r->perm_done = run->perm_end - run->perm_begin;
             r->boot_done = run->boot_end - run->boot_begin;
-            st = sensitivity_all(d, m, run, r, err);
+            st = sturdy_sensitivity_all(d, m, run, r, err);
             if (!st)
                 st = sturdy_without_run(t, run, r, err);
         }

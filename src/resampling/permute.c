@@ -671,8 +671,9 @@ static void run_range(const perm_ctx *c, const sturdy_run *run, perm_work *ws, i
  * those whose p ≤ α is settled (the decision rule; not with --tail-fit, whose p below 1/B
  * needs the small-p terms' whole run), and the run stops when all have.
  * Sets the stopped members' exceed (h, or the count at their checkpoint), perm_used (L)
- * and stopped_early (how: STURDY_SEQ_*) in r, and r->perm_stop (the rearrangements the run made: the counts in
- * the workspaces cover [0, perm_stop)). Whole runs only (no shards: analysis.c). */
+ * and stopped_early (how: STURDY_SEQ_*) in r, and r->perm_stop (the rearrangements the
+ * run made: the counts in the workspaces cover [0, perm_stop)). Whole runs only (no
+ * shards: analysis.c). */
 static sturdy_status run_sequential(const perm_ctx *c, const sturdy_run *run, perm_work *ws,
                                     int nthreads, perm_progress *prog, sturdy_result *r,
                                     char *err)
@@ -683,7 +684,8 @@ static sturdy_status run_sequential(const perm_ctx *c, const sturdy_run *run, pe
     sturdy_seq seq;
     sturdy_seq_thread *ts = sturdy_calloc((size_t)nthreads, sizeof *ts);
     uint64_t *total = sturdy_calloc(c->M + 1, sizeof *total);
-    int ok = ts && total && !sturdy_seq_init(&seq, c->M, h, nthreads, c->tail ? 0.0 : run->opts.alpha, B);
+    double alpha = c->tail ? 0.0 : run->opts.alpha;   /* the decision rule's level */
+    int ok = ts && total && !sturdy_seq_init(&seq, c->M, h, nthreads, alpha, B);
     for (int i = 0; ok && i < nthreads; i++)
         ok = !sturdy_seq_thread_init(&ts[i], c->M, h);
     if (!ok) {

@@ -41,7 +41,8 @@ uint64_t sturdy_seq_next_checkpoint(uint64_t c, uint64_t B)
 uint64_t sturdy_seq_ncheckpoints(uint64_t B)
 {
     uint64_t k = 0;
-    for (uint64_t c = sturdy_seq_next_checkpoint(0, B); c < B; c = sturdy_seq_next_checkpoint(c, B))
+    for (uint64_t c = sturdy_seq_next_checkpoint(0, B); c < B;
+         c = sturdy_seq_next_checkpoint(c, B))
         k++;
     return k;
 }
