@@ -113,6 +113,8 @@ $(BUILD)/cli/%.o: src/cli/%.c $(wildcard include/sturdy/*.h src/cli/*.h)
 $(BUILD)/tests/%: tests/%.c tests/check.h $(BUILD)/libsturdy.a
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) -Itests $(WARN) $(CFLAGS) $(OMP) -o $@ $< $(BUILD)/libsturdy.a $(LDLIBS)
+# test_sha256 compiles the CLI's SHA-256 into itself
+$(BUILD)/tests/test_sha256: src/cli/sha256.c src/cli/cli.h
 
 # Install missing Debian packages (as root, else through sudo). The package lists
 # need one `apt-get update` on a fresh machine.

@@ -157,6 +157,7 @@ typedef struct {
     uint64_t len;
     unsigned char block[64];
     size_t fill;
+    int accel;                   /* 1: the processor's SHA instructions (sha256.c) */
 } cli_sha256;
 void cli_sha256_init(cli_sha256 *s);
 void cli_sha256_add(cli_sha256 *s, const void *data, size_t len);

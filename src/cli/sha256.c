@@ -1,9 +1,18 @@
 /* sha256.c — SHA-256 (FIPS 180-4), for the content keys with which `batch --resume`
- * decides that a result still matches its data and settings. Plain C, no library. */
+ * decides that a result still matches its data and settings. Plain C, no library; on
+ * x86-64 processors with the SHA extensions the blocks go through those instructions
+ * instead (about 55 → 5 instructions per byte; a nightly batch digests every data file
+ * and result). tests/test_sha256.c checks both against the FIPS 180-4 examples. */
 #include <stdio.h>
 #include <string.h>
 
 #include "cli.h"
+
+#if defined(__x86_64__) && defined(__GNUC__)
+#include <cpuid.h>
+#include <immintrin.h>
+#define SHA256_X86 1
+#endif
 
 static const uint32_t k256[64] = {
     0x428a2f98, 0x71374491, 0xb5c0fbcf, 0xe9b5dba5, 0x3956c25b, 0x59f111f1, 0x923f82a4,
@@ -42,6 +51,76 @@ static void compress(uint32_t h[8], const unsigned char *p)
     h[4] += e; h[5] += f; h[6] += g; h[7] += hh;
 }
 
+/* The plain rounds over n blocks. */
+static void blocks_plain(uint32_t h[8], const unsigned char *p, size_t n)
+{
+    for (; n > 0; n--, p += 64)
+        compress(h, p);
+}
+
+#ifdef SHA256_X86
+/* Does the processor have the SHA extensions (and the SSSE3 and SSE4.1 they need)? */
+static int have_sha_ni(void)
+{
+    unsigned a, b, c, d;
+    if (!__get_cpuid(1, &a, &b, &c, &d) || !(c & (1u << 9)) || !(c & (1u << 19)))
+        return 0;
+    if (__get_cpuid_max(0, NULL) < 7)
+        return 0;
+    __cpuid_count(7, 0, a, b, c, d);
+    return (b >> 29) & 1u;
+}
+
+/* The same rounds with the SHA extensions: the state as (ABEF, CDGH), four rounds per
+ * group, each group two sha256rnds2 with the message words plus K; the schedule W[16..63]
+ * by sha256msg1/msg2 four words at a time, four groups ahead in the ring m[0..3]. */
+__attribute__((target("sha,ssse3,sse4.1")))
+static void blocks_sha_ni(uint32_t h[8], const unsigned char *p, size_t n)
+{
+    const __m128i swap = _mm_set_epi64x(0x0c0d0e0f08090a0bLL, 0x0405060700010203LL);
+    __m128i t = _mm_shuffle_epi32(_mm_loadu_si128((const __m128i *)&h[0]), 0xB1); /* CDAB */
+    __m128i s1 = _mm_shuffle_epi32(_mm_loadu_si128((const __m128i *)&h[4]), 0x1B); /* EFGH */
+    __m128i s0 = _mm_alignr_epi8(t, s1, 8);                                        /* ABEF */
+    s1 = _mm_blend_epi16(s1, t, 0xF0);                                             /* CDGH */
+    for (; n > 0; n--, p += 64) {
+        __m128i abef = s0, cdgh = s1, m[4];
+        for (int i = 0; i < 4; i++)
+            m[i] = _mm_shuffle_epi8(_mm_loadu_si128((const __m128i *)(p + 16 * i)), swap);
+        for (int g = 0; g < 16; g++) {
+            __m128i msg = _mm_add_epi32(m[g & 3],
+                                        _mm_loadu_si128((const __m128i *)&k256[4 * g]));
+            s1 = _mm_sha256rnds2_epu32(s1, s0, msg);
+            if (g >= 3 && g < 15) {   /* the words of group g + 1 */
+                __m128i w = _mm_add_epi32(m[(g + 1) & 3],
+                                          _mm_alignr_epi8(m[g & 3], m[(g - 1) & 3], 4));
+                m[(g + 1) & 3] = _mm_sha256msg2_epu32(w, m[g & 3]);
+            }
+            s0 = _mm_sha256rnds2_epu32(s0, s1, _mm_shuffle_epi32(msg, 0x0E));
+            if (g >= 1 && g < 13)
+                m[(g - 1) & 3] = _mm_sha256msg1_epu32(m[(g - 1) & 3], m[g & 3]);
+        }
+        s0 = _mm_add_epi32(s0, abef);
+        s1 = _mm_add_epi32(s1, cdgh);
+    }
+    t = _mm_shuffle_epi32(s0, 0x1B);                          /* FEBA */
+    s1 = _mm_shuffle_epi32(s1, 0xB1);                         /* DCHG */
+    _mm_storeu_si128((__m128i *)&h[0], _mm_blend_epi16(t, s1, 0xF0));  /* DCBA */
+    _mm_storeu_si128((__m128i *)&h[4], _mm_alignr_epi8(s1, t, 8));     /* HGFE */
+}
+#endif
+
+static void blocks(const cli_sha256 *s, uint32_t h[8], const unsigned char *p, size_t n)
+{
+#ifdef SHA256_X86
+    if (s->accel) {
+        blocks_sha_ni(h, p, n);
+        return;
+    }
+#endif
+    (void)s;
+    blocks_plain(h, p, n);
+}
+
 void cli_sha256_init(cli_sha256 *s)
 {
     static const uint32_t h0[8] = { 0x6a09e667, 0xbb67ae85, 0x3c6ef372, 0xa54ff53a,
@@ -49,6 +128,11 @@ void cli_sha256_init(cli_sha256 *s)
     memcpy(s->h, h0, sizeof h0);
     s->len = 0;
     s->fill = 0;
+#ifdef SHA256_X86
+    s->accel = have_sha_ni();
+#else
+    s->accel = 0;
+#endif
 }
 
 void cli_sha256_add(cli_sha256 *s, const void *data, size_t len)
@@ -62,10 +146,12 @@ void cli_sha256_add(cli_sha256 *s, const void *data, size_t len)
         p += take;
         len -= take;
         if (s->fill < 64) return;
-        compress(s->h, s->block);
+        blocks(s, s->h, s->block, 1);
         s->fill = 0;
     }
-    for (; len >= 64; p += 64, len -= 64) compress(s->h, p);
+    blocks(s, s->h, p, len / 64);
+    p += len / 64 * 64;
+    len %= 64;
     memcpy(s->block, p, len);
     s->fill = len;
 }
