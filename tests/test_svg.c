@@ -4,6 +4,8 @@
  * bins of the resampled F* (their upper edges from F quantiles computed with scipy
  * 1.10, scipy.stats.f.isf(0.001, df1, df2)); the page and the figure files of the demo
  * data through the public API. Run from the repository root (examples/demo.csv). */
+#include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -266,10 +268,64 @@ static void page_checks(void)
     sturdy_result_free(r);
 }
 
+/* sturdy_svg_put1 against the C library's "%.1f" (glibc's printf rounds the exact binary
+ * value, halves to even): random values over many scales, every exact tie k/4 and every
+ * k/20 (the decimal ties, not exact in binary) in a range, their neighbours one ulp away,
+ * negative zero and values that round to it, large values, infinities and NaN. */
+static int put1_same(double v, char *first_bad, size_t n)
+{
+    char want[400];                                     /* 1e300 has 301 digits */
+    snprintf(want, sizeof want, "%.1f", v);
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    sturdy_svg_put1(&b, v);
+    int same = b.data && !strcmp(b.data, want);
+    if (!same && !first_bad[0])
+        snprintf(first_bad, n, "%.17g: %.40s, printf %.40s", v, b.data ? b.data : "(none)",
+                 want);
+    sturdy_buf_free(&b);
+    return same;
+}
+
+static void put1_checks(void)
+{
+    char bad[160] = "";
+    long tried = 0, same = 0;
+    uint64_t x = 0x9E3779B97F4A7C15u;
+    for (long i = 0; i < 2000000; i++) {
+        x ^= x << 13;
+        x ^= x >> 7;
+        x ^= x << 17;
+        double u = (double)(x >> 11) * 0x1.0p-53;            /* [0, 1) */
+        double scale = pow(10.0, (double)(i % 18) - 3.0);      /* 1e-3 .. 1e14 */
+        double v = (i & 1 ? -1.0 : 1.0) * u * scale;
+        same += put1_same(v, bad, sizeof bad);
+        tried++;
+    }
+    for (long k = -40000; k <= 40000; k++) {
+        double t[6] = { k / 4.0, k / 20.0, nextafter(k / 20.0, INFINITY),
+                        nextafter(k / 20.0, -INFINITY), nextafter(k / 4.0, INFINITY),
+                        nextafter(k / 4.0, -INFINITY) };
+        for (int j = 0; j < 6; j++, tried++)
+            same += put1_same(t[j], bad, sizeof bad);
+    }
+    const double odd[] = { 0.0, -0.0, 0.04, -0.04, 0.05, -0.05, 0.049999999999999996,
+                           -0.049999999999999996, 1e-300, -1e-300, 4.9e-324, 0.15, 0.25,
+                           0.35, 2.5, -2.5, 999999999999999.9, 1e15, -1e15, 1e20, 1e300,
+                           INFINITY, -INFINITY, NAN };
+    for (size_t j = 0; j < sizeof odd / sizeof odd[0]; j++, tried++)
+        same += put1_same(odd[j], bad, sizeof bad);
+    char line[320];
+    snprintf(line, sizeof line, "svg_put1 writes what printf's %%.1f writes: %ld of %ld "
+             "values%s%s", same, tried, bad[0] ? "; first difference " : "", bad);
+    check_report(same == tried, line);
+}
+
 int main(void)
 {
     /* nicenum: round to the nearest of 1, 2, 5, 10 (thresholds 1.5, 3, 7), or take the
        smallest at least x */
+    put1_checks();
     CHECK_REL("nicenum(6.9, round) = 5", sturdy_svg_nicenum(6.9, 1), 5.0, 1e-12);
     CHECK_REL("nicenum(7, round) = 10", sturdy_svg_nicenum(7.0, 1), 10.0, 1e-12);
     CHECK_REL("nicenum(0.149, round) = 0.1", sturdy_svg_nicenum(0.149, 1), 0.1, 1e-12);

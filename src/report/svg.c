@@ -1,10 +1,71 @@
 /* svg.c — the small SVG writer of the figures: nice ticks (Heckbert 1990), linear scales,
  * clipping (Liang & Barsky 1984), text escaping and a plot frame. */
+#include <assert.h>
 #include <math.h>
+#include <stdarg.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "report/svg.h"
+
+void sturdy_svg_put1(sturdy_buf *b, double v)
+{
+    /* r = v·10 to the nearest integer; d = v·10 − r from one fused rounding, so |d| is
+       within an ulp of the exact distance. Away from a tie (|d| < 0.5 − 1e-9) r is the
+       nearest integer to the exact v·10, which is printf's rounding of v to tenths. */
+    if (isfinite(v) && fabs(v) < 1e15) {
+        double r = nearbyint(v * 10.0), d = fma(v, 10.0, -r);
+        if (fabs(d) < 0.5 - 1e-9) {
+            char s[24];
+            size_t k = sizeof s;
+            uint64_t u = (uint64_t)fabs(r);
+            s[--k] = (char)('0' + u % 10);
+            s[--k] = '.';
+            u /= 10;
+            do {
+                s[--k] = (char)('0' + u % 10);
+                u /= 10;
+            } while (u);
+            if (signbit(v))   /* printf writes −0.04 as "-0.0" */
+                s[--k] = '-';
+            sturdy_buf_put(b, s + k, sizeof s - k);
+            return;
+        }
+    }
+    sturdy_buf_printf(b, "%.1f", v);
+}
+
+/* sturdy_buf_printf for the formats of this file that hold only %s and %.1f (and %%):
+ * the same text, the numbers through sturdy_svg_put1 (the compiler checks the arguments
+ * against the format as for printf). */
+static void svg_fmt(sturdy_buf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void svg_fmt(sturdy_buf *b, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    const char *run = fmt;
+    for (const char *c = fmt; *c; c++) {
+        if (*c != '%')
+            continue;
+        sturdy_buf_put(b, run, (size_t)(c - run));
+        if (c[1] == 's') {
+            const char *str = va_arg(ap, const char *);
+            sturdy_buf_puts(b, str ? str : "(null)");   /* as glibc's printf */
+            c += 1;
+        } else if (c[1] == '%') {
+            sturdy_buf_put(b, "%", 1);
+            c += 1;
+        } else {
+            assert(!strncmp(c, "%.1f", 4));
+            sturdy_svg_put1(b, va_arg(ap, double));
+            c += 3;
+        }
+        run = c + 1;
+    }
+    sturdy_buf_puts(b, run);
+    va_end(ap);
+}
 
 double sturdy_svg_nicenum(double x, int round)
 {
@@ -183,7 +244,7 @@ void sturdy_svg_end(sturdy_buf *b)
 void sturdy_svg_text(sturdy_buf *b, double px, double py, const char *anchor,
                      const char *cls, const char *text)
 {
-    sturdy_buf_printf(b, "<text x=\"%.1f\" y=\"%.1f\" text-anchor=\"%s\"", px, py, anchor);
+    svg_fmt(b, "<text x=\"%.1f\" y=\"%.1f\" text-anchor=\"%s\"", px, py, anchor);
     if (cls && *cls)
         sturdy_buf_printf(b, " class=\"%s\"", cls);
     sturdy_buf_puts(b, ">");
@@ -228,25 +289,25 @@ void sturdy_svg_frame(sturdy_svg_plot *p, sturdy_buf *b, double width, double he
     sturdy_buf_puts(b, "<g class=\"frame\">\n");
     for (size_t i = 0; i < p->yt.n; i++) {
         double v = p->yt.lo + (double)i * p->yt.step, py = sturdy_svg_py(p, v);
-        sturdy_buf_printf(b, "<line class=\"gr\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" y2=\"%.1f\"/>\n",
-                          p->area.x0, py, p->area.x1, py);
+        svg_fmt(b, "<line class=\"gr\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" y2=\"%.1f\"/>\n",
+                p->area.x0, py, p->area.x1, py);
         sturdy_svg_tick_label(&p->yt, i, lab);
         sturdy_svg_text(b, p->area.x0 - 6, py + 4, "end", "tk", lab);
     }
     if (!p->x_categories)
         for (size_t i = 0; i < p->xt.n; i++) {
             double v = p->xt.lo + (double)i * p->xt.step, px = sturdy_svg_px(p, v);
-            sturdy_buf_printf(b, "<line class=\"ax\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" "
-                              "y2=\"%.1f\"/>\n", px, p->area.y1, px, p->area.y1 + 5);
+            svg_fmt(b, "<line class=\"ax\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" "
+                    "y2=\"%.1f\"/>\n", px, p->area.y1, px, p->area.y1 + 5);
             sturdy_svg_tick_label(&p->xt, i, lab);
             sturdy_svg_text(b, px, p->area.y1 + 18, "middle", "tk", lab);
         }
-    sturdy_buf_printf(b, "<path class=\"ax\" d=\"M%.1f %.1fV%.1fH%.1f\"/>\n", p->area.x0,
-                      p->area.y0, p->area.y1, p->area.x1);
+    svg_fmt(b, "<path class=\"ax\" d=\"M%.1f %.1fV%.1fH%.1f\"/>\n", p->area.x0,
+            p->area.y0, p->area.y1, p->area.x1);
     sturdy_svg_text(b, 8, 18, "start", "hd", heading);
     sturdy_svg_text(b, 0.5 * (p->area.x0 + p->area.x1), height - 8, "middle", NULL, xlabel);
-    sturdy_buf_printf(b, "<text transform=\"translate(14 %.1f) rotate(-90)\" "
-                      "text-anchor=\"middle\">", 0.5 * (p->area.y0 + p->area.y1));
+    svg_fmt(b, "<text transform=\"translate(14 %.1f) rotate(-90)\" "
+            "text-anchor=\"middle\">", 0.5 * (p->area.y0 + p->area.y1));
     sturdy_svg_escape(b, ylabel);
     sturdy_buf_puts(b, "</text>\n</g>\n");
 }
@@ -260,8 +321,8 @@ void sturdy_svg_line(sturdy_svg_plot *p, double x0, double y0, double x1, double
     if (!sturdy_svg_clip(&p->area, sturdy_svg_px(p, x0), sturdy_svg_py(p, y0),
                          sturdy_svg_px(p, x1), sturdy_svg_py(p, y1), s))
         return;
-    sturdy_buf_printf(p->b, "<line class=\"%s\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" y2=\"%.1f\"/>\n",
-                      cls, s[0], s[1], s[2], s[3]);
+    svg_fmt(p->b, "<line class=\"%s\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" y2=\"%.1f\"/>\n",
+            cls, s[0], s[1], s[2], s[3]);
 }
 
 /* A polyline drawn as clipped segments joined into one path (a gap where a segment
@@ -282,8 +343,8 @@ void sturdy_svg_polyline(sturdy_svg_plot *p, const double *x, const double *y, s
             open = 1;
         }
         if (s[0] != lx || s[1] != ly)
-            sturdy_buf_printf(p->b, "M%.1f %.1f", s[0], s[1]);
-        sturdy_buf_printf(p->b, "L%.1f %.1f", s[2], s[3]);
+            svg_fmt(p->b, "M%.1f %.1f", s[0], s[1]);
+        svg_fmt(p->b, "L%.1f %.1f", s[2], s[3]);
         lx = s[2];
         ly = s[3];
     }
@@ -301,30 +362,30 @@ void sturdy_svg_marker(sturdy_svg_plot *p, double x, double y, size_t k, const c
         return;
     switch (k % STURDY_SVG_SERIES) {
     case 0:
-        sturdy_buf_printf(p->b, "<circle class=\"%s\" cx=\"%.1f\" cy=\"%.1f\" r=\"%.1f\"/>\n",
-                          cls, px, py, r);
+        svg_fmt(p->b, "<circle class=\"%s\" cx=\"%.1f\" cy=\"%.1f\" r=\"%.1f\"/>\n",
+                cls, px, py, r);
         break;
     case 1:
-        sturdy_buf_printf(p->b, "<rect class=\"%s\" x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
-                          "height=\"%.1f\"/>\n", cls, px - r, py - r, 2 * r, 2 * r);
+        svg_fmt(p->b, "<rect class=\"%s\" x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
+                "height=\"%.1f\"/>\n", cls, px - r, py - r, 2 * r, 2 * r);
         break;
     case 2:
-        sturdy_buf_printf(p->b, "<path class=\"%s\" d=\"M%.1f %.1fL%.1f %.1fL%.1f %.1fZ\"/>\n",
-                          cls, px, py - r - 1, px + r + 1, py + r, px - r - 1, py + r);
+        svg_fmt(p->b, "<path class=\"%s\" d=\"M%.1f %.1fL%.1f %.1fL%.1f %.1fZ\"/>\n",
+                cls, px, py - r - 1, px + r + 1, py + r, px - r - 1, py + r);
         break;
     case 3:
-        sturdy_buf_printf(p->b, "<path class=\"%s\" d=\"M%.1f %.1fL%.1f %.1fL%.1f %.1fL%.1f "
-                          "%.1fZ\"/>\n", cls, px, py - r - 1, px + r + 1, py, px, py + r + 1,
-                          px - r - 1, py);
+        svg_fmt(p->b, "<path class=\"%s\" d=\"M%.1f %.1fL%.1f %.1fL%.1f %.1fL%.1f "
+                "%.1fZ\"/>\n", cls, px, py - r - 1, px + r + 1, py, px, py + r + 1,
+                px - r - 1, py);
         break;
     case 4:
-        sturdy_buf_printf(p->b, "<path class=\"%s\" d=\"M%.1f %.1fL%.1f %.1fL%.1f %.1fZ\"/>\n",
-                          cls, px, py + r + 1, px + r + 1, py - r, px - r - 1, py - r);
+        svg_fmt(p->b, "<path class=\"%s\" d=\"M%.1f %.1fL%.1f %.1fL%.1f %.1fZ\"/>\n",
+                cls, px, py + r + 1, px + r + 1, py - r, px - r - 1, py - r);
         break;
     default:
-        sturdy_buf_printf(p->b, "<path class=\"%s\" style=\"fill:none;stroke-width:2\" "
-                          "d=\"M%.1f %.1fL%.1f %.1fM%.1f %.1fL%.1f %.1f\"/>\n", cls, px - r,
-                          py - r, px + r, py + r, px - r, py + r, px + r, py - r);
+        svg_fmt(p->b, "<path class=\"%s\" style=\"fill:none;stroke-width:2\" "
+                "d=\"M%.1f %.1fL%.1f %.1fM%.1f %.1fL%.1f %.1f\"/>\n", cls, px - r,
+                py - r, px + r, py + r, px - r, py + r, px + r, py - r);
         break;
     }
 }
@@ -342,6 +403,6 @@ void sturdy_svg_bar(sturdy_svg_plot *p, double x0, double x1, double base, doubl
     if (ay1 > p->area.y1) ay1 = p->area.y1;
     if (!(ax1 > ax0) || !(ay1 > ay0))
         return;
-    sturdy_buf_printf(p->b, "<rect class=\"%s\" x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
-                      "height=\"%.1f\"/>\n", cls, ax0, ay0, ax1 - ax0, ay1 - ay0);
+    svg_fmt(p->b, "<rect class=\"%s\" x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
+            "height=\"%.1f\"/>\n", cls, ax0, ay0, ax1 - ax0, ay1 - ay0);
 }

@@ -87,6 +87,10 @@ void sturdy_svg_polyline(sturdy_svg_plot *p, const double *x, const double *y, s
 /* A marker of series `k` (shapes differ by series, so colour is never the only cue);
  * nothing when the point lies outside the plot area. */
 void sturdy_svg_marker(sturdy_svg_plot *p, double x, double y, size_t k, const char *cls);
+
+/* Appends v as "%.1f" would print it (the same text, without printf where it can: the
+ * coordinates a page writes by the thousand). */
+void sturdy_svg_put1(sturdy_buf *b, double v);
 /* A bar from y = base to y = top at [x0, x1], clipped. */
 void sturdy_svg_bar(sturdy_svg_plot *p, double x0, double x1, double base, double top,
                     const char *cls);
