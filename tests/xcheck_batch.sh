@@ -285,6 +285,77 @@ check "failed rows: the summary's messages name --levels and --term-order" \
                 -e "^to,failed,2,the order of terms given (--term-order) lists 'g' twice" \
                 "$T/hint/summary.csv")" 2
 
+# --- the data table kept between rows (batch_data.c) ------------------------------
+# Rows of one file share its parsed table only when the name, the bytes (SHA-256) and
+# the table options (missing tokens, delimiter) are the same; each row's result must be
+# byte for byte what `check` gives alone. Reference: `check` on the same file.
+mkdir -p "$T/K"
+cp "$T/data/before.csv" "$T/K/d.csv"
+cp "$T/data/after.csv" "$T/K/e.csv"
+tr ',' ';' < "$T/data/before.csv" > "$T/K/semi.csv"
+cat > "$T/K/plan.csv" <<'EOF'
+name,data,response,factors,permutations,bootstrap,missing,missing-only,delimiter
+k1,d.csv,z,"P,Q",999,0,,,
+k2,d.csv,w,"P,R",999,0,,,
+k3,./d.csv,z,"P,Q",999,0,,,
+k4,d.csv,z,"P,Q",999,0,,q3,
+k5,d.csv,z,"P,Q",999,0,,q1,
+k6,d.csv,z,"P,Q",999,0,q1,,
+k10,e.csv,z,"P,Q",999,0,,,
+k7,semi.csv,z,"P,Q",999,0,,,;
+k8,d.csv,w,"Q,R",999,0,,,
+k9,d.csv,w,"Q,R",999,0,,,;
+EOF
+"$BIN" batch "$T/K/plan.csv" -q -o "$T/K/res" 2>"$T/k.err"; rc=$?
+same=0
+while IFS=, read -r n d y f1 f2 b bb m mo dl; do
+    [ "$n" = name ] || [ "$n" = k9 ] && continue
+    f="${f1#\"},${f2%\"}"
+    args=(-y "$y" -f "$f" -B 999 --bootstrap 0 --format json -q)
+    [ -n "$m" ] && args+=(--missing "$m")
+    [ -n "$mo" ] && args+=(--missing-only "$mo")
+    [ -n "$dl" ] && args+=(--delimiter "$dl")
+    if (cd "$T/K" && "$BIN" check "$d" "${args[@]}") | cmp -s - "$T/K/res/$n.json"; then
+        same=$((same + 1))
+    else
+        echo "  row $n differs from check alone"
+    fi
+done < "$T/K/plan.csv"
+check "kept table: every row equals check alone (other missing tokens, delimiter, name)" \
+    "$rc:$same" "6:9"
+check "kept table: the row named ./d.csv reports that name" \
+    "$(grep -c '"file": "./d.csv"' "$T/K/res/k3.json")" 1
+(cd "$T/K" && "$BIN" check d.csv -y w -f Q,R --delimiter ';' -q >/dev/null 2>&1); k9=$?
+check "kept table: d.csv read with ';' fails as check alone does, with no result" \
+    "$(grep -c "^k9,failed,$k9," "$T/K/res/summary.csv"):$([ -e "$T/K/res/k9.json" ] || echo none)" \
+    "1:none"
+
+# The file replaced while a row runs: the next row of the same name must see the new
+# bytes, and each row's key must digest the bytes its analysis read.
+cp "$T/data/before.csv" "$T/K/d.csv"
+printf 'name,data,response,factors,permutations,bootstrap\nm1,d.csv,z,"P,Q",%s,0\nm2,d.csv,z,"P,Q",999,0\n' \
+    "$B" > "$T/K/plan2.csv"
+"$BIN" batch "$T/K/plan2.csv" -o "$T/K/res2" 2>"$T/m.err" & bpid=$!
+swapped=no
+for _ in $(seq 3000); do
+    if grep -q '^\[1/2\] m1:' "$T/m.err" 2>/dev/null; then
+        grep -q '^\[1/2\] m1: ok' "$T/m.err" || {
+            cp "$T/data/after.csv" "$T/K/d.new" && mv "$T/K/d.new" "$T/K/d.csv" && swapped=yes; }
+        break
+    fi
+    sleep 0.01
+done
+wait "$bpid"; rc=$?
+# the swap counts only if row 1 was still running when it was made
+[ "$swapped" = yes ] && grep -q '^\[2/2\]' "$T/m.err" || swapped="no: $(head -c 300 "$T/m.err")"
+m2=$(cd "$T/K" && "$BIN" check d.csv -y z -f P,Q -B 999 --bootstrap 0 --format json -q |
+     cmp -s - res2/m2.json && echo new)
+check "kept table: a file replaced while a row runs is read again by the next row" \
+    "$rc:$swapped:$m2" "0:yes:new"
+check "kept table: each row's key digests the bytes its analysis read" \
+    "$(sed -n 's/^data //p' "$T/K/res2/.m1.key"):$(sed -n 's/^data //p' "$T/K/res2/.m2.key")" \
+    "$(sha256sum < "$T/data/before.csv" | cut -d' ' -f1):$(sha256sum < "$T/data/after.csv" | cut -d' ' -f1)"
+
 # --- usage ------------------------------------------------------------------------
 "$BIN" batch 2>/dev/null; check "no plan: usage error" "$?" 2
 "$BIN" batch "$T/plans/nightly.csv" --threads x 2>/dev/null; check "bad --threads: usage error" "$?" 2

@@ -408,7 +408,9 @@ static void announce_row(const batch *b, size_t i, const char *name, const cli_c
     fprintf(stderr, "[%zu/%zu] %s: %llu rearrangements × %llu term%s", i + 1,
             sturdy_table_nrows(b->plan), name, (unsigned long long)o->permutations,
             (unsigned long long)nt, nt == 1 ? "" : "s");
-    if (!sturdy_table_load(data_path ? data_path : c->data, &c->topts, &t, err))
+    if (c->table)
+        fprintf(stderr, " × %zu rows", sturdy_table_nrows(c->table));
+    else if (!sturdy_table_load(data_path ? data_path : c->data, &c->topts, &t, err))
         fprintf(stderr, " × %zu rows", sturdy_table_nrows(t));
     sturdy_table_free(t);
     if (c->responses.n > 1) fprintf(stderr, " × %zu responses", c->responses.n);
@@ -541,8 +543,9 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
     cli_batch_compare(name, old, doc, oc);
 }
 
-/* Run (or resume) row `i`; fills `oc`. */
-static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc)
+/* Run (or resume) row `i`; fills `oc`. `held`: the data table kept between rows. */
+static void run_row(const batch *b, size_t i, cli_batch_data *held, totals *tot,
+                    cli_batch_outcome *oc)
 {
     const char *name = cell(b, b->req[COL_NAME], i), *data = cell(b, b->req[COL_DATA], i);
     char msg[STURDY_ERR_LEN] = "";
@@ -555,6 +558,8 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     char *data_path = b->plan_dir && data[0] != '/' ? cli_str_cat3(b->plan_dir, "/", data)
                                                     : NULL;
     sturdy_result *doc = NULL, *old = NULL;
+    char *bytes = NULL;
+    size_t nbytes = 0;
     /* read before the new result is written: OLD_DIR may be DIR itself */
     char *old_path = b->old_dir ? str_printf("%s/%s.json", b->old_dir, name) : NULL;
     if (old_path) old = cli_batch_read_result(old_path);
@@ -564,9 +569,10 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
     /* (data_path is NULL by design when the plan has no folder or the path is absolute) */
     if (rc) snprintf(msg, sizeof msg, "out of memory");
     if (!rc) rc = parse_row(b, i, &a, &c, &parsed, data_path, msg);
-    /* the data's digest is taken before the analysis reads them: data changed in
-     * between give a key that does not match, never a stale result that does */
-    if (!rc) cli_batch_key_make(&key, a.v, a.n, data_path ? data_path : c.data);
+    /* the file is read once: the analysis parses the very bytes the key digests, so a
+     * result never gets the key of data other than its own */
+    if (!rc)
+        cli_batch_key_make(&key, a.v, a.n, data_path ? data_path : c.data, &bytes, &nbytes);
     /* a result kept by --resume needs its page too (a run killed between writing the
        two left the result alone): without it the row is computed again */
     int have_page = 0;
@@ -582,12 +588,17 @@ static void run_row(const batch *b, size_t i, totals *tot, cli_batch_outcome *oc
             fprintf(stderr, "[%zu/%zu] %s: kept (its result is present and matches)\n", i + 1,
                     sturdy_table_nrows(b->plan), name);
     } else if (!rc) {
+        if (bytes) c.table = cli_batch_data_table(held, c.data, key.data, bytes, nbytes,
+                                                  &c.topts);
+        free(bytes);
+        bytes = NULL;
         if (!b->quiet && b->lead) announce_row(b, i, name, &c, data_path);
         double before = tot->seconds;
         rc = compute_row(b, i, name, &c, out_path, key_path, &key, tot, &doc, msg);
         oc->seconds = tot->seconds - before;
     }
     finish_row(b, name, rc, msg, data_path, data, doc, old, tot, oc);
+    free(bytes);
     sturdy_result_free(doc);
     sturdy_result_free(old);
     if (parsed) cli_check_free(&c);
@@ -627,10 +638,12 @@ static int run_batch(batch *b)
     cli_batch_outcome *oc = calloc(n, sizeof *oc);
     if (!oc) return STURDY_EINTERNAL;
     totals tot = { 0 };
+    cli_batch_data held = { 0 };
     for (size_t i = 0; i < n; i++) {
         sturdy_buf_init(&oc[i].changes);
-        run_row(b, i, &tot, &oc[i]);
+        run_row(b, i, &held, &tot, &oc[i]);
     }
+    cli_batch_data_free(&held);
     const char **names = calloc(n + 1, sizeof *names);
     for (size_t i = 0; names && i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
     int wrote = !names ? STURDY_EINTERNAL

@@ -40,7 +40,8 @@ static int str_eq(const char *a, const char *b) { return a && b && !strcmp(a, b)
  * untar) nor names as the JSON writer rewrites them (bytes that are not UTF-8). */
 #define KEY_HEAD "sturdy batch key 1\n"
 
-int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file)
+int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file,
+                       char **bytes, size_t *len)
 {
     cli_sha256 s;
     cli_sha256_init(&s);
@@ -54,8 +55,21 @@ int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char
     /* only a regular file: reading a pipe here would leave nothing for the analysis
      * (such a row gets no key, so --resume always computes it again) */
     struct stat sb;
-    k->ok = stat(data_file, &sb) == 0 && S_ISREG(sb.st_mode) &&
-            cli_sha256_file(data_file, k->data) == 0;
+    size_t n = 0;
+    char *text = stat(data_file, &sb) == 0 && S_ISREG(sb.st_mode)
+                 ? cli_read_file(data_file, &n) : NULL;
+    k->ok = text != NULL;
+    if (text) {
+        cli_sha256_init(&s);
+        cli_sha256_add(&s, text, n);
+        cli_sha256_hex(&s, k->data);
+    }
+    if (bytes) {
+        *bytes = text;
+        *len = n;
+    } else {
+        free(text);
+    }
     return k->ok ? 0 : -1;
 }
 

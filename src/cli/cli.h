@@ -39,6 +39,8 @@ typedef struct {
     const char *data;            /* DATA.csv or "-" (check), as given and reported */
     const char *data_path;       /* where to read it when not `data` itself (merge reads
                                     the data relative to the shard's folder), or NULL */
+    const sturdy_table *table;   /* the data already read (batch: from the bytes its key
+                                    digests; owned by the batch), or NULL: read them */
     int argc; char **argv;       /* the command's arguments (argv[0] = command), recorded
                                     in shard parts so that merge can repeat the set-up */
     const char *cwd;             /* working folder at parse time (owned), for shards */
@@ -162,8 +164,6 @@ typedef struct {
 void cli_sha256_init(cli_sha256 *s);
 void cli_sha256_add(cli_sha256 *s, const void *data, size_t len);
 void cli_sha256_hex(cli_sha256 *s, char hex[CLI_SHA256_HEX]);
-/* The SHA-256 of the file's bytes; 0, or -1 when it cannot be read. */
-int cli_sha256_file(const char *path, char hex[CLI_SHA256_HEX]);
 
 /* Monotonic clock in seconds, for rates and progress. */
 double cli_now(void);
@@ -230,7 +230,32 @@ typedef struct {
     char settings[CLI_SHA256_HEX], data[CLI_SHA256_HEX];
     int ok;
 } cli_batch_key;
-int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file);
+/* Fills k. The data file is read once: when `bytes` is not NULL and k->ok, *bytes gets
+ * the bytes digested (malloc-ed, *len of them) for the analysis to parse, so that the
+ * digest and the analysis see the same data even if the file changes meanwhile. */
+int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file,
+                       char **bytes, size_t *len);
+
+/* The table of the data last parsed in a batch (batch_data.c), kept for the rows that
+ * follow: plans often run many analyses of one file (responses, settings). */
+typedef struct {
+    char *name;                  /* the data as the plan names it (messages quote it) */
+    char digest[CLI_SHA256_HEX]; /* of the bytes parsed */
+    char delimiter;
+    char **missing;              /* the table options' missing tokens (copied) */
+    size_t nmissing;
+    int missing_default;         /* topts.missing was NULL: the defaults */
+    sturdy_table *table;
+} cli_batch_data;
+
+/* The table for data `name` whose bytes (`len` of them, digest `digest`) were just read,
+ * under table options `o`: the held one when name, digest and options are equal, else
+ * the bytes parsed (and held in place of the last). NULL when they do not parse or memory
+ * runs out: the analysis then reads the file itself and reports why. */
+const sturdy_table *cli_batch_data_table(cli_batch_data *d, const char *name,
+                                         const char *digest, const char *bytes, size_t len,
+                                         const sturdy_table_opts *o);
+void cli_batch_data_free(cli_batch_data *d);
 
 /* The text of the key file DIR/.NAME.key for a result of these bytes (the two digests
  * above and the result's own), malloc-ed; NULL when the data could not be read or memory

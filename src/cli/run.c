@@ -121,8 +121,11 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     sturdy_status st = sturdy_options_validate(&c->opts, err);
     if (st)
         return (int)st;
-    sturdy_table *t = NULL;
-    if (c->demo) {
+    sturdy_table *t = NULL;      /* read here, freed here */
+    const sturdy_table *data = c->table;
+    if (data) {
+        /* read by the caller */
+    } else if (c->demo) {
         st = sturdy_table_load_buffer(CLI_DEMO_NAME, sturdy_demo_csv, sturdy_demo_csv_len,
                                       &c->topts, &t, err);
     } else if (c->data_path) { /* read from elsewhere (merge), reported as given */
@@ -139,6 +142,7 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     }
     if (st)
         return (int)st;
+    if (!data) data = t;
     int talk = !c->quiet && isatty(STDERR_FILENO) && cli_mpi_rank() == 0;
     progress_state ps = { .t0 = cli_now() };
     sturdy_options opts = c->opts;
@@ -146,7 +150,7 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     sturdy_context_init(&ctx);
     ctx.threads = c->threads;
     if (talk) {
-        work_estimate(c, t);
+        work_estimate(c, data);
         ctx.progress = progress;
         ctx.progress_arg = &ps;
     }
@@ -162,7 +166,7 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     }
     ps.t0 = cli_now();
     sturdy_result *r = NULL;
-    st = sturdy_analyze(t, &opts, &ctx, &r, err);
+    st = sturdy_analyze(data, &opts, &ctx, &r, err);
     if (cli_mpi_size() > 1)
         st = cli_mpi_combine(r, st, err);
     double seconds = cli_now() - ps.t0;

@@ -167,19 +167,3 @@ void cli_sha256_hex(cli_sha256 *s, char hex[CLI_SHA256_HEX])
     for (int i = 0; i < 8; i++)
         snprintf(hex + 8 * i, 9, "%08x", (unsigned)s->h[i]);
 }
-
-int cli_sha256_file(const char *path, char hex[CLI_SHA256_HEX])
-{
-    FILE *f = fopen(path, "rb");
-    if (!f) return -1;
-    cli_sha256 s;
-    cli_sha256_init(&s);
-    unsigned char buf[1 << 16];
-    size_t n;
-    while ((n = fread(buf, 1, sizeof buf, f)) > 0) cli_sha256_add(&s, buf, n);
-    int bad = ferror(f);
-    fclose(f);
-    if (bad) return -1;
-    cli_sha256_hex(&s, hex);
-    return 0;
-}
