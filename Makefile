@@ -9,7 +9,7 @@ CFLAGS  ?= $(OPT) -g
 WARN    := -std=c11 -Wall -Wextra -Wpedantic -Werror -D_POSIX_C_SOURCE=200809L
 CLI_CPPFLAGS := $(CPPFLAGS) -Iinclude $(if $(filter 1,$(MPI)),-DSTURDY_MPI=1)
 CPPFLAGS += -Iinclude -Isrc
-LDLIBS  := -lcsv -llapacke -lopenblas -lgsl -lm
+LDLIBS  := -lcsv -lopenblas -lgsl -lm
 OMP     := -fopenmp
 PREFIX  ?= /usr/local
 BINDIR  ?= $(PREFIX)/bin
@@ -55,7 +55,7 @@ PROBE_SRC := $(wildcard tests/probe_*.c)
 TEST_BIN += $(PROBE_SRC:tests/%.c=$(BUILD)/tests/%)
 
 # Debian packages: what the program needs to build and run, and the test oracles.
-RUNTIME_PKGS := libcsv-dev liblapacke-dev libopenblas-dev libgsl-dev
+RUNTIME_PKGS := libcsv-dev libopenblas-dev libgsl-dev
 ORACLE_PKGS  := python3-numpy python3-scipy python3-statsmodels r-base-core libpcg-cpp-dev \
                 libopenmpi-dev openmpi-bin valgrind g++ mandoc man-db pkg-config \
                 chromium tidy clang libomp-dev

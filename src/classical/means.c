@@ -6,12 +6,12 @@
  * estimable iff L lies in the row space of R (Searle 1971, §5.4); then L = Rᵀw with
  * w = (R Rᵀ)⁻¹ R L, its least-squares estimate is wᵀQᵀy and its variance σ²‖w‖². */
 #include <assert.h>
-#include <lapacke.h>
 #include <math.h>
 #include <string.h>
 
 #include "classical/means.h"
 #include "core/core.h"
+#include "core/lapack.h"
 
 /* L is taken as estimable when ‖Rᵀw − L‖ ≤ this × max(1, ‖L‖): coded columns are
  * 0/±1 products, so a non-estimable L misses the row space by an amount of order one,
@@ -49,8 +49,7 @@ sturdy_status sturdy_lsm_init(const sturdy_design *d, const sturdy_model *m,
                 s += out->R[j * r + a] * out->R[j * r + b];
             out->chol[b * r + a] = out->chol[a * r + b] = s;
         }
-    if (r > 0 && LAPACKE_dpotrf(LAPACK_COL_MAJOR, 'L', (lapack_int)r, out->chol,
-                                (lapack_int)r) != 0) {
+    if (r > 0 && sturdy_lapack_potrf_lower((int)r, out->chol, (int)r) != 0) {
         sturdy_lsm_free(out);
         return sturdy_fail(err, STURDY_EINTERNAL,
                            "the model's basis is not of full rank (marginal means)");
@@ -81,8 +80,7 @@ int sturdy_lsm_weights(const sturdy_lsm *l, const double *L, double *w)
         w[a] = s;
     }
     if (r > 0)
-        LAPACKE_dpotrs(LAPACK_COL_MAJOR, 'L', (lapack_int)r, 1, l->chol, (lapack_int)r, w,
-                       (lapack_int)r);
+        sturdy_lapack_potrs_lower((int)r, 1, l->chol, (int)r, w, (int)r);
     double miss = 0;
     for (size_t j = 0; j < p; j++) {
         double s = -L[j];

@@ -1,7 +1,6 @@
 /* main.c — the `sturdy` program: picks the subcommand and hands over to it. The
  * program uses libsturdy only through its public headers; it alone prints and exits. */
 #include <cblas.h>
-#include <lapacke.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -55,11 +54,6 @@ int main(int argc, char **argv)
      * library calls LAPACK from inside its own threads, so BLAS runs single-threaded */
     openblas_set_num_threads(1);
     if (blas_thread_shutdown_) blas_thread_shutdown_();
-    /* LAPACKE scans every input matrix for NaN before each call (two O(r²) passes per
-     * solve, a fifth of the set-up at n = 2000 through the marginal means); the library
-     * passes it only finite matrices that it built itself, and LAPACK's own checks
-     * still report a factorisation that fails */
-    LAPACKE_set_nancheck(0);
     if (cli_mpi_init(&argc, &argv) != 0) {
         fputs("sturdy: MPI could not be started\n", stderr);
         return STURDY_EINTERNAL;

@@ -1,12 +1,12 @@
 /* fit.c — orthonormal bases for the full model and each term's reduced-vs-augmented
  * comparison, in group space (see fit.h), by pivoted Householder QR (LAPACK). */
 #include <assert.h>
-#include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "core/core.h"
+#include "core/lapack.h"
 #include "sturdy/fit.h"
 #include "sturdy/buf.h"
 
@@ -38,17 +38,18 @@ static sturdy_status orth_basis(double *A, size_t K, size_t k, const double *ref
                 A[j * K + g] /= nrm;
     }
     size_t mn = K < k ? K : k;
-    lapack_int *jpvt = sturdy_calloc(k, sizeof *jpvt);
+    int *jpvt = sturdy_calloc(k, sizeof *jpvt);
     double *tau = sturdy_malloc(mn * sizeof *tau);
     if (!jpvt || !tau) {
         sturdy_free(jpvt); sturdy_free(tau);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
-    lapack_int info = LAPACKE_dgeqp3(LAPACK_COL_MAJOR, (lapack_int)K, (lapack_int)k, A,
-                                     (lapack_int)K, jpvt, tau);
+    int info = sturdy_lapack_geqp3((int)K, (int)k, A, (int)K, jpvt, tau);
     sturdy_free(jpvt);
     if (info != 0) {
         sturdy_free(tau);
+        if (info == STURDY_LAPACK_NO_MEMORY)
+            return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         return sturdy_fail(err, STURDY_EINTERNAL, "QR factorisation failed (info %d)",
                            (int)info);
     }
@@ -59,9 +60,10 @@ static sturdy_status orth_basis(double *A, size_t K, size_t k, const double *ref
         sturdy_free(tau);
         return STURDY_OK;
     }
-    info = LAPACKE_dorgqr(LAPACK_COL_MAJOR, (lapack_int)K, (lapack_int)r, (lapack_int)r, A,
-                          (lapack_int)K, tau);
+    info = sturdy_lapack_orgqr((int)K, (int)r, (int)r, A, (int)K, tau);
     sturdy_free(tau);
+    if (info == STURDY_LAPACK_NO_MEMORY)
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (info != 0)
         return sturdy_fail(err, STURDY_EINTERNAL, "forming Q failed (info %d)", (int)info);
     double *Q = sturdy_malloc(K * r * sizeof *Q);
