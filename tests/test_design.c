@@ -1,11 +1,16 @@
 /* test_design.c — the design stage's usage errors: each names the setting in plain words
  * and the offending name, never a command-line option (the CLI adds those, hints.c),
- * with the status the CLI turns into its exit code. */
+ * with the status the CLI turns into its exit code. And a property of the levels (the
+ * distinct texts found by hashing, levels.c): every used row's level is its own text,
+ * each text is one level, and the levels are in natural order, for many levels. */
 #include "check.h"
 #include "sturdy/design.h"
 #include "sturdy/table.h"
+#include "sturdy/buf.h"
 
 #include <stdlib.h>
+#include <string.h>
+#include <stdint.h>
 
 static const char csv[] = "block,a,b,y\n"
                           "1,lo,x,1.5\n1,lo,y,2.5\n1,hi,x,3.0\n1,hi,y,4.5\n"
@@ -27,6 +32,58 @@ static void expect(const char *what, const sturdy_model_spec *s, sturdy_status w
     CHECK(line, ok);
     sturdy_design_free(d);
     sturdy_table_free(t);
+}
+
+/* A factor of `nl` distinct texts (similar ones: "k1", "k10", "k1 ", "K1", "1k" ...) over
+ * n rows in a scrambled order, each text at least once; checks the levels as above. */
+static void many_levels(size_t nl, size_t n)
+{
+    char err[STURDY_ERR_LEN] = "", line[200];
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    sturdy_buf_printf(&b, "a,b,y\n");
+    char **text = calloc(nl, sizeof *text);
+    for (size_t j = 0; text && j < nl; j++) {
+        text[j] = malloc(24);
+        if (text[j]) snprintf(text[j], 24, j % 3 == 0 ? "k%zu" : j % 3 == 1 ? "%zuk" : "K%zux", j);
+    }
+    uint64_t st = 0x853c49e6748fea9bULL;
+    for (size_t i = 0; i < n; i++) {
+        st = st * 6364136223846793005ULL + 1442695040888963407ULL;
+        size_t j = i < nl ? (i * 7919) % nl : (size_t)(st >> 33) % nl;
+        sturdy_buf_printf(&b, "%s,%s,%zu\n", text && text[j] ? text[j] : "?",
+                          i % 2 ? "u" : "v", i % 5);
+    }
+    sturdy_table *t = NULL;
+    sturdy_design *d = NULL;
+    static const char *const y[] = { "y" }, *const ab[] = { "a", "b" };
+    sturdy_model_spec s;
+    sturdy_model_spec_init(&s);
+    s.responses = y; s.nresponses = 1; s.factors = ab; s.nfactors = 2;
+    s.max_levels = nl + 1;
+    sturdy_status rc = b.failed ? STURDY_EINTERNAL
+                                : sturdy_table_load_buffer("m.csv", b.data, b.len, NULL, &t, err);
+    if (!rc) rc = sturdy_design_build(t, &s, &d, err);
+    snprintf(line, sizeof line, "%zu levels over %zu rows: the design builds (%s)", nl, n, err);
+    CHECK(line, rc == STURDY_OK);
+    if (!rc) {
+        const sturdy_factor *f = &d->factors[0];
+        size_t own = 0, ordered = 0;
+        for (size_t i = 0; i < d->n; i++)
+            own += !strcmp(f->levels[d->level[i * d->nfactors]],
+                           sturdy_table_field(t, d->row[i], 0));
+        for (size_t k = 1; k < f->nlevels; k++)
+            ordered += sturdy_level_compare(f->levels[k - 1], f->levels[k]) < 0;
+        snprintf(line, sizeof line, "%zu levels: %zu found, %zu of %zu rows at their own "
+                 "text, %zu of %zu neighbours in natural order", nl, f->nlevels, own, d->n,
+                 ordered, f->nlevels ? f->nlevels - 1 : 0);
+        CHECK(line, f->nlevels == nl && own == n && d->n == n && ordered + 1 == nl);
+    }
+    sturdy_design_free(d);
+    sturdy_table_free(t);
+    for (size_t j = 0; text && j < nl; j++) free(text[j]);
+    free(text);
+    sturdy_buf_free(&b);
 }
 
 int main(void)
@@ -73,5 +130,9 @@ int main(void)
     s.term_order = inter_first; s.nterm_order = 2;
     expect("an interaction before its main effect", &s, STURDY_EUSAGE,
            "the order of terms given puts 'a\xc3\x97" "b' before 'a', which it contains");
+
+    many_levels(2, 10);
+    many_levels(33, 200);        /* the table of distinct texts grows once */
+    many_levels(1500, 20000);    /* and six times */
     return check_done();
 }

@@ -2,6 +2,7 @@
  * text as whole numbers), the user's order, merging levels equal as numbers, and
  * warnings about levels that are probably one level written two ways. */
 #include <assert.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -287,26 +288,83 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
 }
 
 /* The distinct texts of column `col` over the used rows, sorted bytewise, into *vals (nl
- * of them; the caller frees the array, which holds n entries). Sorting bytewise is cheap;
- * only the few distinct values are then sorted naturally, which parses numbers in every
- * comparison. */
+ * of them), and each used row's place among them into which[i]. One pass hashes every
+ * row's text into a table of the distinct ones (FNV-1a, open addressing, kept at most
+ * half full); only the few distinct texts are then sorted, bytewise here and naturally
+ * later (which parses numbers in every comparison). */
 static sturdy_status distinct_values(const sturdy_table *t, long col, const sturdy_design *d,
-                                     const char ***vals, size_t *nl, char *err)
+                                     const char ***vals, size_t *nl, size_t *which, char *err)
 {
-    size_t n = d->n, k = 0;
+    size_t n = d->n, k = 0, cap = 64;
     const char **v = sturdy_malloc((n ? n : 1) * sizeof *v);
+    size_t *slot = sturdy_malloc(cap * sizeof *slot), *bytewise = NULL;
+    uint64_t *code = sturdy_malloc((n ? n : 1) * sizeof *code);
     *vals = v;
     *nl = 0;
-    if (!v)
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++)
-        v[i] = t->cols[col].text[d->row[i]];
-    qsort(v, n, sizeof *v, cmp_str_bytes);
-    for (size_t i = 0; i < n; i++)
-        if (i == 0 || strcmp(v[i], v[i - 1]) != 0)
-            v[k++] = v[i];
-    *nl = k;
-    return STURDY_OK;
+    sturdy_status st = STURDY_OK;
+    if (!v || !slot || !code) st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t c = 0; !st && c < cap; c++) slot[c] = SIZE_MAX;
+    for (size_t i = 0; !st && i < n; i++) {
+        const char *x = t->cols[col].text[d->row[i]];
+        uint64_t h = 0xcbf29ce484222325ULL;
+        for (const unsigned char *p = (const unsigned char *)x; *p; p++)
+            h = (h ^ *p) * 0x100000001b3ULL;
+        size_t c = (size_t)(h ^ (h >> 29)) & (cap - 1);
+        while (slot[c] != SIZE_MAX && (code[slot[c]] != h || strcmp(v[slot[c]], x)))
+            c = (c + 1) & (cap - 1);
+        if (slot[c] == SIZE_MAX) {               /* a new text */
+            slot[c] = k;
+            v[k] = x;
+            code[k++] = h;
+            if (2 * k > cap) {                   /* grow and place every text again */
+                size_t *grown = sturdy_malloc(2 * cap * sizeof *grown);
+                if (!grown) {
+                    st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+                    break;
+                }
+                sturdy_free(slot);
+                slot = grown;
+                cap *= 2;
+                for (size_t e = 0; e < cap; e++) slot[e] = SIZE_MAX;
+                for (size_t e = 0; e < k; e++) {
+                    size_t q = (size_t)(code[e] ^ (code[e] >> 29)) & (cap - 1);
+                    while (slot[q] != SIZE_MAX) q = (q + 1) & (cap - 1);
+                    slot[q] = e;
+                }
+            }
+            which[i] = k - 1;
+        } else {
+            which[i] = slot[c];
+        }
+    }
+    /* sort the distinct texts bytewise (a permutation of their first-seen order) */
+    const char **sorted = NULL;
+    if (!st && (!(sorted = sturdy_malloc((k ? k : 1) * sizeof *sorted)) ||
+                !(bytewise = sturdy_malloc((k ? k : 1) * sizeof *bytewise))))
+        st = sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    if (!st) {
+        for (size_t e = 0; e < k; e++) sorted[e] = v[e];
+        qsort(sorted, k, sizeof *sorted, cmp_str_bytes);
+        /* first-seen index e → its place among the sorted texts, by binary search */
+        for (size_t e = 0; e < k; e++) {
+            size_t lo = 0, hi = k;
+            while (lo < hi) {
+                size_t mid = lo + (hi - lo) / 2;
+                int c = strcmp(sorted[mid], v[e]);
+                if (c == 0) { lo = mid; break; }
+                if (c < 0) lo = mid + 1; else hi = mid;
+            }
+            bytewise[e] = lo;
+        }
+        for (size_t e = 0; e < k; e++) v[e] = sorted[e];
+        for (size_t i = 0; i < n; i++) which[i] = bytewise[which[i]];
+        *nl = k;
+    }
+    sturdy_free(sorted);
+    sturdy_free(bytewise);
+    sturdy_free(slot);
+    sturdy_free(code);
+    return st;
 }
 
 static void free_levels(level_ref *nat, size_t nl)
@@ -362,23 +420,11 @@ static sturdy_status name_levels(sturdy_factor *f, const level_ref *nat, size_t 
     return STURDY_OK;
 }
 
-/* lev[i * stride] = the level of used row i: its text found among the bytewise-sorted
- * values vals[0..nl), then mapped through rank. */
-static void level_of_rows(const sturdy_table *t, long col, const sturdy_design *d,
-                          const char *const *vals, size_t nl, const size_t *rank,
+/* lev[i * stride] = the level of used row i, whose text is vals[which[i]]. */
+static void level_of_rows(const sturdy_design *d, const size_t *which, const size_t *rank,
                           size_t *lev, size_t stride)
 {
-    for (size_t i = 0; i < d->n; i++) {
-        const char *v = t->cols[col].text[d->row[i]];
-        size_t lo = 0, hi = nl;
-        while (lo < hi) {
-            size_t mid = (lo + hi) / 2;
-            int c = strcmp(vals[mid], v);
-            if (c == 0) { lo = mid; break; }
-            if (c < 0) lo = mid + 1; else hi = mid;
-        }
-        lev[i * stride] = rank[lo];
-    }
+    for (size_t i = 0; i < d->n; i++) lev[i * stride] = rank[which[i]];
 }
 
 sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design *d,
@@ -393,9 +439,9 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
         if (!strcmp(s->level_orders[k].factor, name)) lo = &s->level_orders[k];
     const char **vals = NULL;
     level_ref *nat = NULL;
-    size_t *rank = NULL, *pos = NULL;
-    sturdy_status st = (f->name = sturdy_strdup(name))
-                           ? distinct_values(t, col, d, &vals, &nl, err)
+    size_t *rank = NULL, *pos = NULL, *which = sturdy_malloc((d->n ? d->n : 1) * sizeof *which);
+    sturdy_status st = (f->name = sturdy_strdup(name)) && which
+                           ? distinct_values(t, col, d, &vals, &nl, which, err)
                            : sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     if (!st && nl > max_levels)
         st = sturdy_fail(err, STURDY_EMODEL,
@@ -420,8 +466,8 @@ sturdy_status sturdy_levels_make(const sturdy_table *t, long col, sturdy_design 
     if (!st)
         st = name_levels(f, nat, nl, pos, ng, rank, err);
     if (!st)
-        level_of_rows(t, col, d, vals, nl, rank, lev, stride);
+        level_of_rows(d, which, rank, lev, stride);
     free_levels(nat, nl);
-    sturdy_free(vals); sturdy_free(rank); sturdy_free(pos);
+    sturdy_free(vals); sturdy_free(rank); sturdy_free(pos); sturdy_free(which);
     return st;
 }
