@@ -533,6 +533,7 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
                     oc->message ? oc->message : "out of memory");
         return;
     }
+    cli_batch_verdicts(&oc->verdicts, doc);
     if (cli_batch_tally(doc, oc)) {
         tot->failed++;
         if (b->lead)
@@ -641,6 +642,7 @@ static int run_batch(batch *b)
     cli_batch_data held = { 0 };
     for (size_t i = 0; i < n; i++) {
         sturdy_buf_init(&oc[i].changes);
+        sturdy_buf_init(&oc[i].verdicts);
         run_row(b, i, &held, &tot, &oc[i]);
     }
     cli_batch_data_free(&held);
@@ -664,6 +666,7 @@ static int run_batch(batch *b)
     for (size_t i = 0; i < n; i++) {
         free(oc[i].message);
         sturdy_buf_free(&oc[i].changes);
+        sturdy_buf_free(&oc[i].verdicts);
     }
     free(oc);
     if (wrote || tot.eoutput) return STURDY_EOUTPUT;

@@ -37,17 +37,8 @@ static int file_exists(const char *dir, const char *name, const char *ext)
     return ok;
 }
 
-/* The verdicts of the analysis's result file, as a list per response. */
-static void verdicts(sturdy_buf *b, const char *dir, const char *name)
+void cli_batch_verdicts(sturdy_buf *b, const sturdy_result *r)
 {
-    char *p = cli_str_cat3(dir, "/", name), *q = p ? cli_str_cat3(p, ".json", "") : NULL;
-    sturdy_result *r = q ? cli_batch_read_result(q) : NULL;
-    free(p);
-    free(q);
-    if (!r) {
-        sturdy_buf_puts(b, "—");
-        return;
-    }
     size_t nr = sturdy_result_nresponses(r), nt = sturdy_result_nterms(r);
     for (size_t ri = 0; ri < nr; ri++) {
         if (nr > 1) {
@@ -68,7 +59,13 @@ static void verdicts(sturdy_buf *b, const char *dir, const char *name)
         }
         sturdy_buf_puts(b, "</ul>");
     }
-    sturdy_result_free(r);
+}
+
+/* The row's verdicts, kept from its result as read back when the row ended. */
+static void verdicts(sturdy_buf *b, const cli_batch_outcome *o)
+{
+    if (o->verdicts.data && !o->verdicts.failed) sturdy_buf_put(b, o->verdicts.data, o->verdicts.len);
+    else sturdy_buf_puts(b, "—");
 }
 
 int cli_batch_write_index(const char *plan_path, const char *dir, const char *old_dir,
@@ -137,13 +134,13 @@ int cli_batch_write_index(const char *plan_path, const char *dir, const char *ol
                               o->terms ? "untested" : "failed", o->exit_code);
             esc(&b, o->message ? o->message : "");
             sturdy_buf_puts(&b, "</td><td>");
-            if (o->terms) verdicts(&b, dir, names[i]);
+            if (o->terms) verdicts(&b, o);
             sturdy_buf_puts(&b, "</td>");
         } else {
             sturdy_buf_printf(&b, "<td>ok: %zu tested term%s, %zu where classical and "
                               "resampling disagree</td><td>", o->tested,
                               o->tested == 1 ? "" : "s", o->disagree);
-            verdicts(&b, dir, names[i]);
+            verdicts(&b, o);
             sturdy_buf_puts(&b, "</td>");
         }
         sturdy_buf_puts(&b, "<td>");

@@ -202,6 +202,8 @@ typedef struct {
     sturdy_buf changes;          /* "  NAME / response / term: old → new\n" lines */
     int resumed;                 /* the result in place was kept (--resume) */
     double seconds;              /* time computing it in this run (index.html only) */
+    sturdy_buf verdicts;         /* index.html's list of the result's verdicts (empty
+                                    without a result) */
 } cli_batch_outcome;
 
 /* The results folder (batch_dir.c). The default: the plan's path without ".csv", plus
@@ -272,6 +274,10 @@ sturdy_result *cli_batch_resumable(const cli_batch_key *k, const char *out_path,
  * A result with no tested term makes the row "untested": exit_code STURDY_EMODEL and a
  * message saying why (as `check` exits). Returns 1 then, else 0. */
 int cli_batch_tally(const sturdy_result *r, cli_batch_outcome *oc);
+
+/* index.html's list of r's verdicts per response and term, appended to b
+ * (batch_index.c). */
+void cli_batch_verdicts(sturdy_buf *b, const sturdy_result *r);
 
 /* Records in oc every verdict that differs between an earlier result `old` (nothing
  * when NULL) and `now`, terms present in only one of them included. */
