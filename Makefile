@@ -115,6 +115,8 @@ $(BUILD)/tests/%: tests/%.c tests/check.h $(BUILD)/libsturdy.a
 	$(CC) $(CPPFLAGS) -Itests $(WARN) $(CFLAGS) $(OMP) -o $@ $< $(BUILD)/libsturdy.a $(LDLIBS)
 # test_sha256 compiles the CLI's SHA-256 into itself
 $(BUILD)/tests/test_sha256: src/cli/sha256.c src/cli/cli.h
+# test_fisf compiles dist.c into itself (its full bisection is the reference)
+$(BUILD)/tests/test_fisf: src/classical/dist.c
 
 # Install missing Debian packages (as root, else through sudo). The package lists
 # need one `apt-get update` on a fresh machine.
