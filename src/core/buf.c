@@ -44,10 +44,19 @@ static int buf_reserve(sturdy_buf *b, size_t extra)
 
 void sturdy_buf_put(sturdy_buf *b, const char *s, size_t len)
 {
-    if (!buf_reserve(b, len)) return;
-    if (len) memcpy(b->data + b->len, s, len);
+    /* the writers append mostly a byte or a few at a time: those are copied here
+       without a call to memcpy, once the room is known */
+    if (b->failed || len >= b->cap - b->len) {
+        if (!buf_reserve(b, len)) return;
+    }
+    char *d = b->data + b->len;
+    if (len <= 8) {
+        for (size_t i = 0; i < len; i++) d[i] = s[i];
+    } else {
+        memcpy(d, s, len);
+    }
     b->len += len;
-    b->data[b->len] = '\0';
+    d[len] = '\0';
 }
 
 void sturdy_buf_puts(sturdy_buf *b, const char *s)
