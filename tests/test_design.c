@@ -38,7 +38,7 @@ static void expect(const char *what, const sturdy_model_spec *s, sturdy_status w
  * n rows in a scrambled order, each text at least once; checks the levels as above. */
 static void many_levels(size_t nl, size_t n)
 {
-    char err[STURDY_ERR_LEN] = "", line[200];
+    char err[STURDY_ERR_LEN] = "", line[STURDY_ERR_LEN + 200];
     sturdy_buf b;
     sturdy_buf_init(&b);
     sturdy_buf_printf(&b, "a,b,y\n");
