@@ -38,8 +38,10 @@ int main(void)
         else if (r < 0.9) q = uniform();
         else q = 1.0 - pow(10.0, -16.0 + 15.0 * uniform());
         if (!(q > 0 && q < 1)) q = 0.5;
-        double d1 = uniform() < 0.5 ? pow(10.0, -1.0 + 7.0 * uniform()) : floor(1 + 59 * uniform());
-        double d2 = uniform() < 0.5 ? pow(10.0, -1.0 + 8.0 * uniform()) : floor(1 + 4999 * uniform());
+        double d1 = uniform() < 0.5 ? pow(10.0, -1.0 + 7.0 * uniform())
+                                    : floor(1 + 59 * uniform());
+        double d2 = uniform() < 0.5 ? pow(10.0, -1.0 + 8.0 * uniform())
+                                    : floor(1 + 4999 * uniform());
         double a = sturdy_f_isf(q, d1, d2), b = full_bisection(q, d1, d2);
         if (memcmp(&a, &b, sizeof a) == 0) same++;
         else if (!first[0])

@@ -240,30 +240,28 @@ struct f_target {
     double q, df1, df2;
 };
 
-/* Beyond the root once P(F > t) ≤ q (the upper tail is evaluated directly, so small
- * q keep their relative precision). */
-static int f_side_sf(double t, const void *ctx)
-{
-    const struct f_target *c = ctx;
-    double s = sturdy_f_sf(t, c->df1, c->df2);
-    return isnan(s) ? -1 : s <= c->q;
-}
-
-/* Same root through P(F ≤ t) ≥ 1 − q, for q > 1/2 (1 − q is then exact). */
-static int f_side_cdf(double t, const void *ctx)
-{
-    const struct f_target *c = ctx;
-    double p = f_cdf(t, c->df1, c->df2);
-    return isnan(p) ? -1 : p >= 1.0 - c->q;
-}
-
-/* The tail searched for the quantile at t: P(F > t) against q, or P(F ≤ t) against
- * 1 − q (as f_side_sf and f_side_cdf compare them), and whether t is beyond the root. */
+/* The tail searched for the quantile at t into *v — P(F > t) when `upper` (evaluated
+ * directly, so small q keep their relative precision), else P(F ≤ t), for q > 1/2
+ * (1 − q is then exact) — and whether t is at or beyond the root: P(F > t) ≤ q, or
+ * P(F ≤ t) ≥ 1 − q; −1 when the tail could not be evaluated. */
 static int f_tail_at(double t, const struct f_target *c, int upper, double *v)
 {
     *v = upper ? sturdy_f_sf(t, c->df1, c->df2) : f_cdf(t, c->df1, c->df2);
     if (isnan(*v)) return -1;
     return upper ? *v <= c->q : *v >= 1.0 - c->q;
+}
+
+/* The two sides of the bisection: through the upper tail, or the lower one. */
+static int f_side_sf(double t, const void *ctx)
+{
+    double v;
+    return f_tail_at(t, ctx, 1, &v);
+}
+
+static int f_side_cdf(double t, const void *ctx)
+{
+    double v;
+    return f_tail_at(t, ctx, 0, &v);
 }
 
 /* Steps of the narrowing below before the bisection takes over (a guard only: it

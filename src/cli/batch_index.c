@@ -64,8 +64,10 @@ void cli_batch_verdicts(sturdy_buf *b, const sturdy_result *r)
 /* The row's verdicts, kept from its result as read back when the row ended. */
 static void verdicts(sturdy_buf *b, const cli_batch_outcome *o)
 {
-    if (o->verdicts.data && !o->verdicts.failed) sturdy_buf_put(b, o->verdicts.data, o->verdicts.len);
-    else sturdy_buf_puts(b, "—");
+    if (o->verdicts.data && !o->verdicts.failed)
+        sturdy_buf_put(b, o->verdicts.data, o->verdicts.len);
+    else
+        sturdy_buf_puts(b, "—");
 }
 
 int cli_batch_write_index(const char *plan_path, const char *dir, const char *old_dir,

@@ -64,12 +64,8 @@ int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char
         cli_sha256_add(&s, text, n);
         cli_sha256_hex(&s, k->data);
     }
-    if (bytes) {
-        *bytes = text;
-        *len = n;
-    } else {
-        free(text);
-    }
+    *bytes = text;
+    *len = n;
     return k->ok ? 0 : -1;
 }
 

@@ -232,9 +232,9 @@ typedef struct {
     char settings[CLI_SHA256_HEX], data[CLI_SHA256_HEX];
     int ok;
 } cli_batch_key;
-/* Fills k. The data file is read once: when `bytes` is not NULL and k->ok, *bytes gets
- * the bytes digested (malloc-ed, *len of them) for the analysis to parse, so that the
- * digest and the analysis see the same data even if the file changes meanwhile. */
+/* Fills k. The data file is read once: *bytes gets the bytes digested (malloc-ed, *len
+ * of them; NULL when !k->ok) for the analysis to parse, so that the digest and the
+ * analysis see the same data even if the file changes meanwhile. */
 int cli_batch_key_make(cli_batch_key *k, char *const *argv, int argc, const char *data_file,
                        char **bytes, size_t *len);
 

@@ -4,6 +4,7 @@
 
 #include <stdarg.h>
 #include <stddef.h>
+#include <stdint.h>
 
 #include "sturdy/common.h"
 
@@ -54,6 +55,16 @@ __extension__ typedef unsigned __int128 sturdy_u128;
 
 /* qsort comparator of doubles in ascending order (NaNs compare equal to everything). */
 int sturdy_cmp_double(const void *a, const void *b);
+
+/* FNV-1a (Fowler, Noll & Vo), 64-bit, of a NUL-terminated text: the hash of the tables
+ * that find duplicate column names (table.c) and a factor's distinct levels (levels.c). */
+static inline uint64_t sturdy_hash_text(const char *s)
+{
+    uint64_t h = 14695981039346656037ULL;
+    for (const unsigned char *p = (const unsigned char *)s; *p; p++)
+        h = (h ^ *p) * 1099511628211ULL;
+    return h;
+}
 
 /* Solves A x = b for a symmetric positive definite k × k A (row-major, only its lower
  * triangle read) by Cholesky: A's lower triangle is overwritten by the factor and b by x.

@@ -287,6 +287,14 @@ static sturdy_status user_order(const sturdy_level_order *lo, const level_ref *n
     return st;
 }
 
+/* The first slot tried for hash h in a table of cap (a power of two) slots: the high
+ * bits folded into the low ones that index it (the low k bits of an FNV-1a hash depend
+ * only on the low k bits of the text's bytes). */
+static size_t home_slot(uint64_t h, size_t cap)
+{
+    return (size_t)(h ^ (h >> 29)) & (cap - 1);
+}
+
 /* The distinct texts of column `col` over the used rows, sorted bytewise, into *vals (nl
  * of them), and each used row's place among them into which[i]. One pass hashes every
  * row's text into a table of the distinct ones (FNV-1a, open addressing, kept at most
@@ -306,10 +314,8 @@ static sturdy_status distinct_values(const sturdy_table *t, long col, const stur
     for (size_t c = 0; !st && c < cap; c++) slot[c] = SIZE_MAX;
     for (size_t i = 0; !st && i < n; i++) {
         const char *x = t->cols[col].text[d->row[i]];
-        uint64_t h = 0xcbf29ce484222325ULL;
-        for (const unsigned char *p = (const unsigned char *)x; *p; p++)
-            h = (h ^ *p) * 0x100000001b3ULL;
-        size_t c = (size_t)(h ^ (h >> 29)) & (cap - 1);
+        uint64_t h = sturdy_hash_text(x);
+        size_t c = home_slot(h, cap);
         while (slot[c] != SIZE_MAX && (code[slot[c]] != h || strcmp(v[slot[c]], x)))
             c = (c + 1) & (cap - 1);
         if (slot[c] == SIZE_MAX) {               /* a new text */
@@ -327,7 +333,7 @@ static sturdy_status distinct_values(const sturdy_table *t, long col, const stur
                 cap *= 2;
                 for (size_t e = 0; e < cap; e++) slot[e] = SIZE_MAX;
                 for (size_t e = 0; e < k; e++) {
-                    size_t q = (size_t)(code[e] ^ (code[e] >> 29)) & (cap - 1);
+                    size_t q = home_slot(code[e], cap);
                     while (slot[q] != SIZE_MAX) q = (q + 1) & (cap - 1);
                     slot[q] = e;
                 }

@@ -144,10 +144,7 @@ static int first_duplicate(const sturdy_column *cols, size_t n, size_t *k, size_
     for (size_t i = 0; i < cap; i++) slot[i] = (size_t)-1;
     int found = 0;
     for (size_t c = 0; c < n && !found; c++) {
-        uint64_t h = 14695981039346656037ULL;
-        for (const unsigned char *s = (const unsigned char *)cols[c].name; *s; s++)
-            h = (h ^ *s) * 1099511628211ULL;
-        size_t at = (size_t)h & (cap - 1);
+        size_t at = (size_t)sturdy_hash_text(cols[c].name) & (cap - 1);
         while (slot[at] != (size_t)-1 && strcmp(cols[slot[at]].name, cols[c].name))
             at = (at + 1) & (cap - 1);
         if (slot[at] != (size_t)-1) {
