@@ -8,7 +8,12 @@
  * give identical exceedance, family-wise and max-T counts and F* bins on every method,
  * flip and SS type, over nine more data sets: continuous, heavily tied (integer responses),
  * and with cell spreads unequal enough that the comparisons are studentised per cell
- * (their squared columns); and the cell-count sums against a direct sum. */
+ * (their squared columns); and the cell-count sums against a direct sum.
+ *
+ * And the comparisons' statistics from the pair table (maxt_pairs.c, forced through
+ * STURDY_PERM_PATH=pairs) against the gather: identical max-T counts (and every other
+ * count) on the same data sets, and its t*² against the direct sum of the rearranged
+ * vectors. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -17,6 +22,7 @@
 #include "check.h"
 #include "core/result.h"
 #include "resampling/cellcount.h"
+#include "resampling/maxt_pairs.h"
 #include "sturdy/sturdy.h"
 
 /* what run() asks besides its arguments */
@@ -184,12 +190,18 @@ static void gather_vs_cells(const char *tag, const char *csv, int block, uint64_
                 sturdy_result *a = run(csv, 0, method, flip, ss, block, B);
                 set_path("cells");
                 sturdy_result *b = run(csv, 0, method, flip, ss, block, B);
+                set_path("pairs");
+                sturdy_result *p = run(csv, 0, method, flip, ss, block, B);
                 set_path(NULL);
                 snprintf(what, sizeof what, "cells %s%s ss%d %s%s", tag, block ? "+block" : "",
                          ss, methods[method], flip ? "+flip" : "");
                 compare_counts(what, a, b);
+                snprintf(what, sizeof what, "pairs %s%s ss%d %s%s", tag, block ? "+block" : "",
+                         ss, methods[method], flip ? "+flip" : "");
+                compare_counts(what, a, p);
                 sturdy_result_free(a);
                 sturdy_result_free(b);
+                sturdy_result_free(p);
             }
 }
 
@@ -289,6 +301,102 @@ static void unit_cellcount(void)
     }
 }
 
+/* sturdy_maxt_pairs_t2 against t*² from the direct group sums of the rearranged vectors
+ * (sturdy_maxt_t2 / sturdy_maxt_t2_het, as the gather computes them): two responses,
+ * K = 7 groups of unequal size, comparisons on 2 to 7 cells, pooled and Games–Howell,
+ * one with a zero per-cell part (ter Braak's form); and the cases it must decline. */
+static void unit_pairs(void)
+{
+    enum { n = 300, K = 7, R = 2, C = 6, Cp = 8 };
+    static double E[n * R], A[K * Cp], z[C][K], T[K], T2[K], S[K], Q[K], sq[K];
+    static uint32_t lab0[n], lab[n];
+    static sturdy_maxt_member cm[C];
+    static size_t resp_begin[R + 1] = {0, 4, C};
+    static const int cells[C] = {2, 3, 7, 4, 2, 5};
+    char err[STURDY_ERR_LEN];
+    sturdy_pcg64 g;
+    sturdy_pcg_for(&g, 6, 9, 0);
+    double cnt[K] = {0};
+    for (size_t k = 0; k < n; k++) {
+        lab0[k] = (uint32_t)((k * k + 5 * k + k / 7) % K);
+        cnt[lab0[k]]++;
+        for (size_t r = 0; r < R; r++)
+            E[k * R + r] = (r + 1) * (sturdy_pcg_unit(&g) - 0.5);
+    }
+    for (size_t h = 0; h < K; h++)
+        sq[h] = sqrt(cnt[h]);
+    sturdy_maxt x;
+    memset(&x, 0, sizeof x);
+    x.C = C; x.Cp = Cp; x.nresp = R; x.resp_begin = resp_begin; x.E = E; x.A = A;
+    x.cm = cm; x.dfe = 250; x.Csq = C;
+    for (size_t q = 0; q < C; q++) {
+        size_t first = q % K;
+        cm[q].z = z[q];
+        cm[q].ww = 0.5 + sturdy_pcg_unit(&g);
+        cm[q].het = q % 2;
+        cm[q].df = 40;
+        for (int i = 0; i < cells[q]; i++) {
+            size_t h = (first + (size_t)i * 3) % K;
+            z[q][h] = sturdy_pcg_unit(&g) - 0.5;
+            A[h * Cp + q] = q == 5 ? 0.0 : 4.0 * (sturdy_pcg_unit(&g) - 0.5);
+        }
+        size_t r = q < resp_begin[1] ? 0 : 1;
+        double vv = 0;
+        for (size_t k = 0; k < n; k++) {
+            double v = E[k * R + r] + A[lab0[k] * Cp + q];
+            vv += v * v;
+        }
+        cm[q].vv = vv;
+    }
+    sturdy_maxt_pairs *p = NULL;
+    set_path("gather");
+    CHECK("forced gather: no pair table",
+          sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 0, err) == STURDY_OK && !p);
+    set_path("pairs");
+    CHECK("no pair table with sign flips",
+          sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 1, err) == STURDY_OK && !p);
+    CHECK("no pair table when the model does not span the cells (rank < K)",
+          sturdy_maxt_pairs_init(&p, &x, n, K, K - 1, lab0, 0, err) == STURDY_OK && !p);
+    CHECK("forced pairs: a pair table",
+          sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 0, err) == STURDY_OK && p);
+    set_path(NULL);
+    sturdy_maxt_pairs_work *w = p ? sturdy_maxt_pairs_work_alloc(p) : NULL;
+    CHECK("pair-table workspace", w != NULL);
+    double worst = 0.0, t2[C];
+    for (int rep = 0; w && rep < 30; rep++) {
+        memcpy(lab, lab0, sizeof lab);
+        for (size_t i = n; i > 1; i--) {
+            size_t j = (size_t)sturdy_pcg_bounded(&g, i);
+            uint32_t t = lab[i - 1]; lab[i - 1] = lab[j]; lab[j] = t;
+        }
+        sturdy_maxt_pairs_t2(p, w, &x, lab, 1e-12, t2, 1, 0);
+        for (size_t q = 0; q < C; q++) {
+            size_t r = q < resp_begin[1] ? 0 : 1;
+            memset(T, 0, sizeof T);
+            memset(T2, 0, sizeof T2);
+            for (size_t k = 0; k < n; k++) {
+                double v = E[k * R + r] + A[lab0[k] * Cp + q];
+                T[lab[k]] += v;
+                T2[lab[k]] += v * v;
+            }
+            double a = 0, ss = 0;
+            for (size_t h = 0; h < K; h++) {
+                S[h] = T[h] / sq[h];
+                Q[h] = T2[h] / sq[h];
+                a += z[q][h] * S[h];
+                ss += S[h] * S[h];
+            }
+            double ref = cm[q].het ? sturdy_maxt_t2_het(&x, q, S, Q, sq, K, a * a, 1e-12)
+                                   : sturdy_maxt_t2(&x, q, a * a, cm[q].vv - ss, 1e-12);
+            worst = fmax(worst, fabs(t2[q] - ref) / fabs(ref));
+        }
+    }
+    CHECK_ABS("pair-table t*2 = t*2 of the direct sums (pooled and Games-Howell)", worst, 0.0,
+              1e-11);
+    sturdy_maxt_pairs_work_free(w);
+    sturdy_maxt_pairs_free(p);
+}
+
 int main(void)
 {
     static const char *methods[] = {"freedman-lane", "ter-braak", "raw"};
@@ -327,6 +435,7 @@ int main(void)
         free(csv);
     }
     unit_cellcount();
+    unit_pairs();
     /* many data sets, every comparison computed: continuous, tied and unequal spreads */
     g_boot = 0;
     g_compare = STURDY_COMPARE_ALL;

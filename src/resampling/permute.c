@@ -34,6 +34,7 @@
 #include "resampling/tail.h"
 #include "resampling/cellcount.h"
 #include "resampling/maxt.h"
+#include "resampling/maxt_pairs.h"
 #include "resampling/sequential.h"
 #include "classical/classical.h"
 
@@ -71,6 +72,8 @@ typedef struct {
     int flip;
     sturdy_rearranger ra; /* rows in block order and the rearrangements */
     sturdy_cellcount *cc; /* the group sums from cell counts (cellcount.c); NULL: gather */
+    sturdy_maxt_pairs *mp; /* the comparisons' t*² from the pair table (maxt_pairs.c);
+                              NULL: from their gathered group sums */
     size_t nb;           /* rearrangements per dgemm block */
     int tail;            /* --tail-fit: keep each member's largest F* (tail.c) */
 } perm_ctx;
@@ -123,6 +126,7 @@ typedef struct {
     sturdy_seq_thread *seq; /* --stop-early: the exceedances' indices (sequential.c);
                             NULL without it (not owned) */
     sturdy_cellcount_work *ccw;
+    sturdy_maxt_pairs_work *mpw;
 } perm_work;
 
 static void work_free(perm_work *w)
@@ -136,6 +140,7 @@ static void work_free(perm_work *w)
     sturdy_free(w->T); sturdy_free(w->T2);
     sturdy_free(w->top); sturdy_free(w->ntop);
     sturdy_cellcount_work_free(w->ccw);
+    sturdy_maxt_pairs_work_free(w->mpw);
 }
 
 /* Bytes of one thread's workspace (work_alloc) at c->nb rearrangements per block. */
@@ -152,7 +157,7 @@ static double work_bytes(const perm_ctx *c)
                             2.0 * M + (double)c->maxt.C * (nb + 1.0) +
                             2.0 * K * (double)c->maxt.Cp + M * STURDY_FHIST_BINS + 8.0 +
                             (c->tail ? M * (STURDY_TAIL_KEEP + 1.0) : 0.0)) +
-           sturdy_cellcount_work_bytes(c->cc);
+           sturdy_cellcount_work_bytes(c->cc) + sturdy_maxt_pairs_work_bytes(c->mp);
 }
 
 static int work_alloc(const perm_ctx *c, perm_work *w)
@@ -183,6 +188,8 @@ static int work_alloc(const perm_ctx *c, perm_work *w)
         return 0;
     if (c->cc && !(w->ccw = sturdy_cellcount_work_alloc(c->cc)))
         return 0;
+    if (c->mp && !(w->mpw = sturdy_maxt_pairs_work_alloc(c->mp)))
+        return 0;
     return w->lab && w->pool && w->sign && w->tmp && w->S && w->C && w->num && w->den &&
            w->exceed && w->fwer && w->cexceed && w->t2 && w->hist && w->T && w->T2;
 }
@@ -202,7 +209,8 @@ static inline int at_least(double num, double den, double c, double vv)
 static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
 {
     size_t n = c->d->n, K = c->m->K, M = c->M, Mp = c->Mp;
-    size_t C = c->maxt.C, Cp = c->maxt.Cp, Csq = c->maxt.Csq;
+    /* with the pair table the comparisons have no group sums here */
+    size_t C = c->mp ? 0 : c->maxt.C, Cp = c->maxt.Cp, Csq = c->mp ? 0 : c->maxt.Csq;
     for (size_t bb = 0; bb < nb; bb++) {
         sturdy_rearrange(&c->ra, b0 + bb, w->lab, w->sign, w->pool);
         double *tmp = w->tmp;
@@ -244,24 +252,38 @@ static void group_sums(const perm_ctx *c, uint64_t b0, size_t nb, perm_work *w)
             }
             continue;
         }
-        if (C)   /* the comparisons' vectors, from their row form */
+        if (c->mp) {   /* the comparisons' t*² at once, from the pair table */
+            sturdy_maxt_pairs_t2(c->mp, w->mpw, &c->maxt, w->lab, PERM_ZERO_RTOL, w->t2, nb,
+                                 bb);
+        } else if (C) {   /* the comparisons' vectors, from their row form */
             sturdy_maxt_gather(&c->maxt, n, lab, c->ra.lab0, c->flip ? w->sign : NULL,
                                w->T, Csq ? w->T2 : NULL);
+        }
         for (size_t g = 0; g < K; g++) {
             double inv = 1.0 / c->m->sqrt_count[g];
             for (size_t j = 0; j < M; j++)
                 w->S[(j * nb + bb) * K + g] = tmp[g * Mp + j] * inv;
             for (size_t j = 0; j < Mp; j++)
                 tmp[g * Mp + j] = 0.0;
-            for (size_t q = 0; q < C; q++)
-                w->S[((M + q) * nb + bb) * K + g] = w->T[g * Cp + q] * inv;
-            for (size_t q = 0; q < Csq; q++)
-                w->S[((M + C + q) * nb + bb) * K + g] = w->T2[g * Cp + q] * inv;
-            for (size_t q = 0; C && q < Cp; q++)
-                w->T[g * Cp + q] = 0.0;
-            for (size_t q = 0; Csq && q < Cp; q++)
-                w->T2[g * Cp + q] = 0.0;
         }
+        /* the comparisons' sums a column at a time, so that each goes to K consecutive
+           places of S (a row at a time wrote C places nb·K apart for every cell, a
+           cache miss each) */
+        const double *sc = c->m->sqrt_count;
+        for (size_t q = 0; q < C; q++) {
+            double *dst = w->S + ((M + q) * nb + bb) * K;
+            for (size_t g = 0; g < K; g++)
+                dst[g] = w->T[g * Cp + q] * (1.0 / sc[g]);
+        }
+        for (size_t q = 0; q < Csq; q++) {
+            double *dst = w->S + ((M + C + q) * nb + bb) * K;
+            for (size_t g = 0; g < K; g++)
+                dst[g] = w->T2[g * Cp + q] * (1.0 / sc[g]);
+        }
+        if (C)
+            memset(w->T, 0, K * Cp * sizeof *w->T);
+        if (Csq)
+            memset(w->T2, 0, K * Cp * sizeof *w->T2);
     }
 }
 
@@ -307,7 +329,7 @@ static void comparison_stats(const perm_ctx *c, size_t nb, perm_work *w)
 {
     const sturdy_model *m = c->m;
     size_t K = m->K;
-    for (size_t q = 0; q < c->maxt.C; q++) {
+    for (size_t q = 0; !c->mp && q < c->maxt.C; q++) {
         const double *S = w->S + (c->M + q) * nb * K;
         double *num = w->num + (c->M + q) * nb, *den = w->den + (c->M + q) * nb;
         sturdy_maxt_numerators(&c->maxt, q, S, K, nb, num);
@@ -531,6 +553,9 @@ static sturdy_status setup(perm_ctx *c, const sturdy_run *run, sturdy_result *r,
         sturdy_free(c->V);
         c->V = NULL;
         c->Mp = C ? Mf : c->Mp;   /* the stride of the sums cellcount.c writes */
+    } else if (C && (st = sturdy_maxt_pairs_init(&c->mp, &c->maxt, n, K, m->rank, c->ra.lab0,
+                                                 c->flip, err))) {
+        return st;
     }
     /* thresholds for the min-p count: p*_t ≤ p_j  ⇔  F*_t ≥ F-quantile_t(p_j); a term
        whose df an earlier term has shares its threshold (the same expression, so the same
@@ -800,6 +825,7 @@ done:
     sturdy_free(c.thr);
     sturdy_rearranger_free(&c.ra);
     sturdy_cellcount_free(c.cc);
+    sturdy_maxt_pairs_free(c.mp);
     sturdy_maxt_free(&c.maxt);
     return st;
 }
