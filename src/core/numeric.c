@@ -1,6 +1,9 @@
 /* numeric.c — small numerical helpers shared by the stages: ordering, centred sums and a
  * small Cholesky solve. */
 #include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
 
 #include "core/core.h"
 
@@ -8,6 +11,86 @@ int sturdy_cmp_double(const void *pa, const void *pb)
 {
     double a = *(const double *)pa, b = *(const double *)pb;
     return (a > b) - (a < b);
+}
+
+/* The key of x whose unsigned order is x's order: the sign bit flipped for x ≥ 0, every
+   bit for x < 0; −0 takes +0's key, as the comparator holds them equal. */
+static uint64_t sort_key(double x)
+{
+    uint64_t u;
+    if (x == 0.0)
+        x = 0.0;
+    memcpy(&u, &x, sizeof u);
+    return u >> 63 ? ~u : u | ((uint64_t)1 << 63);
+}
+
+/* Below this many values the stable insertion sort; above, the radix passes. */
+#define SORT_SMALL 48
+
+void sturdy_sort_doubles(double *x, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        if (isnan(x[i])) {       /* the comparator's order with NaN is the merge's own */
+            qsort(x, n, sizeof *x, sturdy_cmp_double);
+            return;
+        }
+    if (n < SORT_SMALL) {
+        for (size_t i = 1; i < n; i++) {
+            double v = x[i];
+            size_t j = i;
+            for (; j > 0 && x[j - 1] > v; j--)
+                x[j] = x[j - 1];
+            x[j] = v;
+        }
+        return;
+    }
+    /* least significant byte first, each pass stable; a byte every key shares is skipped */
+    uint64_t *key = sturdy_malloc(2 * n * sizeof *key);
+    size_t (*cnt)[256] = sturdy_calloc(8, sizeof *cnt);
+    if (!key || !cnt) {
+        sturdy_free(key);
+        sturdy_free(cnt);
+        qsort(x, n, sizeof *x, sturdy_cmp_double);
+        return;
+    }
+    uint64_t *a = key, *b = key + n;
+    for (size_t i = 0; i < n; i++) {
+        a[i] = sort_key(x[i]);
+        for (int d = 0; d < 8; d++)
+            cnt[d][(a[i] >> (8 * d)) & 0xff]++;
+    }
+    /* the values travel beside their keys */
+    double *v = sturdy_malloc(2 * n * sizeof *v);
+    if (!v) {
+        sturdy_free(key);
+        sturdy_free(cnt);
+        qsort(x, n, sizeof *x, sturdy_cmp_double);
+        return;
+    }
+    double *va = v, *vb = v + n;
+    memcpy(va, x, n * sizeof *x);
+    for (int d = 0; d < 8; d++) {
+        size_t *c = cnt[d];
+        if (c[(a[0] >> (8 * d)) & 0xff] == n)
+            continue;
+        size_t sum = 0;
+        for (int k = 0; k < 256; k++) {
+            size_t t = c[k];
+            c[k] = sum;
+            sum += t;
+        }
+        for (size_t i = 0; i < n; i++) {
+            size_t at = c[(a[i] >> (8 * d)) & 0xff]++;
+            b[at] = a[i];
+            vb[at] = va[i];
+        }
+        uint64_t *tk = a; a = b; b = tk;
+        double *tv = va; va = vb; vb = tv;
+    }
+    memcpy(x, va, n * sizeof *x);
+    sturdy_free(v);
+    sturdy_free(key);
+    sturdy_free(cnt);
 }
 
 double sturdy_mean(const double *x, size_t n)

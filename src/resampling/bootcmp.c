@@ -186,12 +186,6 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
     }
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* Quantile with linear interpolation between order statistics, position (B−1)·q
  * (Hyndman & Fan 1996, definition 7), as the effect sizes' percentile intervals. */
 static double quantile_sorted(const double *x, size_t B, double q)
@@ -214,7 +208,7 @@ static size_t column(const sturdy_result *r, const sturdy_response_result *rr, s
         if (!isnan(v))
             buf[k++] = v;
     }
-    qsort(buf, k, sizeof *buf, cmp_double);
+    sturdy_sort_doubles(buf, k);
     return k;
 }
 

@@ -559,7 +559,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         t->ci_pct[e].lo = t->ci_pct[e].hi = t->ci_bca[e].lo = t->ci_bca[e].hi = NAN;
         if (k < 2 || !isfinite(theta))
             continue;
-        qsort(x, k, sizeof *x, sturdy_cmp_double);
+        sturdy_sort_doubles(x, k);
         t->ci_pct[e].lo = quantile_sorted(x, k, a2);
         t->ci_pct[e].hi = quantile_sorted(x, k, 1 - a2);
         /* BCa (Efron 1987): bias correction z0 from the share of replicates below the

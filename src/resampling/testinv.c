@@ -190,12 +190,6 @@ static double sti_boundary(sti_ctx *c, double rejected, double accepted)
     return 0.5 * (rejected + accepted);
 }
 
-static int cmp_dbl(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 sturdy_status sturdy_sti_endpoints(const double *rows, size_t stride, uint64_t nrows,
                                    const sturdy_sti_params *p, sturdy_sti *out, char *err)
 {
@@ -252,7 +246,7 @@ sturdy_status sturdy_sti_endpoints(const double *rows, size_t stride, uint64_t n
         if (isfinite(p->ti_lo) && isfinite(p->ti_hi) && p->ti_hi <= lam_max)
             for (int k = 0; k < STI_TI_GRID; k++)
                 grid[ng++] = p->ti_lo + (p->ti_hi - p->ti_lo) * (k + 0.5) / STI_TI_GRID;
-        qsort(grid, ng, sizeof *grid, cmp_dbl);
+        sturdy_sort_doubles(grid, ng);
         size_t first = ng, last = ng;
         for (size_t k = 0; k < ng; k++)
             if (sti_accepts(&c, grid[k])) {
