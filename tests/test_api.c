@@ -567,6 +567,42 @@ static void test_bad_parts(const sturdy_table *t)
     sturdy_result_free(r);
 }
 
+/* A cache shared by runs (a batch's rows) changes no bit: two different runs through one
+ * cache, and the first again, give the JSON each gives alone. */
+static void test_cache(const sturdy_table *t)
+{
+    sturdy_options o1, o2;
+    set_options(&o1);
+    o1.compare_mode = STURDY_COMPARE_ALL;
+    o2 = o1;
+    o2.seed = 11;
+    o2.conf = 0.9;
+    sturdy_cache *cache = sturdy_cache_new();
+    CHECK("a cache", cache != NULL);
+    const sturdy_options *os[3] = {&o1, &o2, &o1};
+    for (int i = 0; i < 3; i++) {
+        sturdy_context ctx;
+        sturdy_context_init(&ctx);
+        ctx.threads = 2;
+        sturdy_result *alone = run(t, os[i], 2, STURDY_OK), *shared = NULL;
+        char err[STURDY_ERR_LEN] = "";
+        ctx.cache = cache;
+        CHECK("run through the cache", sturdy_analyze(t, os[i], &ctx, &shared, err) == 0);
+        if (alone && shared) {
+            char *ja = json_of(alone, 0), *jb = json_of(shared, 0);
+            CHECK(i == 0 ? "through a new cache: the JSON of the run alone"
+                  : i == 1 ? "through the cache another run filled: the JSON alone"
+                           : "the first run again through the cache: the JSON alone",
+                  !strcmp(ja, jb));
+            free(ja);
+            free(jb);
+        }
+        sturdy_result_free(alone);
+        sturdy_result_free(shared);
+    }
+    sturdy_cache_free(cache);
+}
+
 static void cancel_progress(void *arg, uint64_t done, uint64_t total)
 {
     (void)done;
@@ -629,6 +665,7 @@ int main(void)
         test_parts(tv, a);
         test_bad_parts(tv);
         test_cancel(tv);
+        test_cache(tv);
     }
     sturdy_result_free(a);
     sturdy_result_free(b);

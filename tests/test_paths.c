@@ -23,6 +23,7 @@
 #include "core/result.h"
 #include "resampling/cellcount.h"
 #include "resampling/maxt_pairs.h"
+#include "classical/range.h"
 #include "sturdy/sturdy.h"
 
 /* what run() asks besides its arguments */
@@ -397,6 +398,41 @@ static void unit_pairs(void)
     sturdy_maxt_pairs_free(p);
 }
 
+/* The cache a batch shares between its rows keeps the range tables a run builds: after
+ * one run with every comparison of the 3 × 2 × 2 set, the table of k = 3 (factor a's
+ * levels) is in it, and none of k = 2 (the range of two means is the t distribution, no
+ * table). test_api checks that it changes no bit. */
+static void unit_cache(void)
+{
+    char *csv = make_csv(21, 4, 0);
+    sturdy_table *t = NULL;
+    sturdy_table_opts to;
+    sturdy_table_opts_init(&to);
+    char err[STURDY_ERR_LEN];
+    CHECK("cache: data", sturdy_table_load_buffer("cache.csv", csv, strlen(csv), &to, &t, err) == 0);
+    sturdy_options o;
+    sturdy_options_init(&o);
+    static const char *ys[] = {"y"}, *fs[] = {"a", "b", "c"};
+    o.model.responses = ys;
+    o.model.nresponses = 1;
+    o.model.factors = fs;
+    o.model.nfactors = 3;
+    o.permutations = 99;
+    o.bootstrap = 0;
+    o.compare_mode = STURDY_COMPARE_ALL;
+    sturdy_context ctx;
+    sturdy_context_init(&ctx);
+    ctx.cache = sturdy_cache_new();
+    sturdy_result *r = NULL;
+    CHECK("cache: a run through it", t && sturdy_analyze(t, &o, &ctx, &r, err) == 0);
+    CHECK("cache: keeps the table of k = 3", sturdy_cache_range_table(ctx.cache, 3.0) != NULL);
+    CHECK("cache: no table of k = 2", sturdy_cache_range_table(ctx.cache, 2.0) == NULL);
+    sturdy_result_free(r);
+    sturdy_cache_free(ctx.cache);
+    sturdy_table_free(t);
+    free(csv);
+}
+
 int main(void)
 {
     static const char *methods[] = {"freedman-lane", "ter-braak", "raw"};
@@ -436,6 +472,7 @@ int main(void)
     }
     unit_cellcount();
     unit_pairs();
+    unit_cache();
     /* many data sets, every comparison computed: continuous, tied and unequal spreads */
     g_boot = 0;
     g_compare = STURDY_COMPARE_ALL;

@@ -51,6 +51,15 @@ typedef enum {
 /* Progress callback: called from one thread at a time, at most every few milliseconds. */
 typedef void (*sturdy_progress_fn)(void *arg, uint64_t done, uint64_t total);
 
+/* Tables that runs sharing it keep instead of building them each time: the studentized
+ * range's tail for each number of means k (the comparisons' intervals and adjusted p),
+ * which a nightly batch of one design would otherwise build again in every analysis.
+ * Its tables hold the very values a run builds for itself, so the results are the same
+ * bits with or without it. One run at a time may use it. */
+typedef struct sturdy_cache sturdy_cache;
+sturdy_cache *sturdy_cache_new(void);   /* NULL: out of memory */
+void sturdy_cache_free(sturdy_cache *c);
+
 /* How a run may use the machine, separate from what it computes (the options): the
  * same options give the same bits under any context. Resolved once at the start of a
  * run and passed down to every stage. */
@@ -61,6 +70,8 @@ typedef struct {
     const volatile int *cancel;  /* polled between blocks of rearrangements and
                                     replicates; nonzero stops the run with
                                     STURDY_ECANCELLED (NULL: never) */
+    sturdy_cache *cache;         /* tables kept between runs (NULL: the run keeps its
+                                    own while it lasts) */
 } sturdy_context;
 
 /* Defaults: all threads, no progress, no cancellation. */

@@ -89,7 +89,7 @@ sturdy_status sturdy_compare_select(sturdy_result *r, char *err)
     const sturdy_options *o = &r->opts;
     const sturdy_design *d = r->design;
     for (size_t ri = 0; ri < r->nresp; ri++)
-        if (sturdy_compare_adjust(&r->resp[ri], o->conf, r->threads))
+        if (sturdy_compare_adjust(&r->resp[ri], o->conf, r->threads, r->cache))
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     /* max-T adjusted p from the counts, as the terms' p (Phipson & Smyth 2010; exact
        when enumerated) */

@@ -55,7 +55,9 @@ sturdy_status sturdy_compare_response(const sturdy_design *d, const sturdy_model
 /* Simultaneous intervals and range-based adjusted p of every comparison, on `threads`
  * threads; nonzero when out of memory (nothing is then half-filled that a report reads:
  * the run fails). */
-int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads);
+struct sturdy_cache;
+int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads,
+                          struct sturdy_cache *cache);
 /* The outlier-resistant statistic (huber.c). Huber's tuning constant: 95% efficiency at
  * the normal for a location (Huber 1981, §4.6); the conventional default. */
 #define STURDY_HUBER_C STURDY_RS_TUNING

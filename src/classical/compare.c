@@ -517,7 +517,8 @@ static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double 
     }
 }
 
-int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
+int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads,
+                          struct sturdy_cache *cache)
 {
     /* the range quantile depends on (k, df) only: one per family under Tukey–Kramer
        (the same residual df), one per comparison under Games–Howell. Batches and
@@ -532,6 +533,7 @@ int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
        beyond COMPARE_NTAB distinct k the rest are integrated, the same values to 2e-14) */
     double tk[COMPARE_NTAB];
     sturdy_range_table *tabs[COMPARE_NTAB];
+    int kept[COMPARE_NTAB];      /* the cache's (not freed here) */
     for (size_t i = 0; i < nc && ntab < COMPARE_NTAB; i++) {
         const sturdy_comparison *cp = &rr->comparisons[i];
         int seen = 0;
@@ -540,17 +542,24 @@ int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
         if (cp->method == STURDY_ADJ_DUNNETT || !isfinite(cp->t) || !(cp->range_k > 2) || seen)
             continue;
         tk[ntab] = cp->range_k;
-        tabs[ntab++] = NULL;
+        tabs[ntab] = sturdy_cache_range_table(cache, cp->range_k);
+        kept[ntab] = tabs[ntab] != NULL;
+        ntab++;
     }
 #pragma omp parallel for schedule(dynamic, 1) num_threads(nt)
     for (size_t i = 0; i < ntab; i++)
-        tabs[i] = sturdy_range_table_new(tk[i]);
+        if (!kept[i])
+            tabs[i] = sturdy_range_table_new(tk[i]);
     int short_of_memory = 0;
     for (size_t i = 0; i < ntab; i++)
         short_of_memory |= tabs[i] == NULL;
+    for (size_t i = 0; i < ntab; i++)   /* the new ones the cache takes live on there */
+        if (!kept[i] && !short_of_memory)
+            kept[i] = sturdy_cache_keep_range_table(cache, tabs[i]);
     if (short_of_memory) {
         for (size_t i = 0; i < ntab; i++)
-            sturdy_range_table_free(tabs[i]);
+            if (!kept[i])
+                sturdy_range_table_free(tabs[i]);
         sturdy_free(begin);
         return 1;
     }
@@ -580,7 +589,8 @@ int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads)
         }
     }
     for (size_t i = 0; i < ntab; i++)
-        sturdy_range_table_free(tabs[i]);
+        if (!kept[i])
+            sturdy_range_table_free(tabs[i]);
     sturdy_free(begin);
     return 0;
 }

@@ -31,6 +31,7 @@
 
 #include "classical/range.h"
 #include "core/core.h"
+#include "sturdy/analysis.h"
 #include "sturdy/dist.h"
 
 /* Above this many degrees of freedom s is taken as 1 (ν = ∞): the density of s is then
@@ -244,6 +245,42 @@ void sturdy_range_table_free(sturdy_range_table *t)
         return;
     sturdy_free(t->p);
     sturdy_free(t);
+}
+
+/* Tables kept between runs (analysis.h): one per k, the first RANGE_CACHE_MAX k met. */
+#define RANGE_CACHE_MAX 64
+
+struct sturdy_cache {
+    size_t n;
+    sturdy_range_table *tab[RANGE_CACHE_MAX];
+};
+
+sturdy_cache *sturdy_cache_new(void)
+{
+    return sturdy_calloc(1, sizeof(sturdy_cache));
+}
+
+void sturdy_cache_free(sturdy_cache *c)
+{
+    for (size_t i = 0; c && i < c->n; i++)
+        sturdy_range_table_free(c->tab[i]);
+    sturdy_free(c);
+}
+
+sturdy_range_table *sturdy_cache_range_table(sturdy_cache *c, double k)
+{
+    for (size_t i = 0; c && i < c->n; i++)
+        if (c->tab[i]->k == k)
+            return c->tab[i];
+    return NULL;
+}
+
+int sturdy_cache_keep_range_table(sturdy_cache *c, sturdy_range_table *t)
+{
+    if (!c || !t || c->n == RANGE_CACHE_MAX || sturdy_cache_range_table(c, t->k))
+        return 0;
+    c->tab[c->n++] = t;
+    return 1;
 }
 
 /* P(R > w) (and, with dens, f_R(w)) from the table where it reaches, else the integral */

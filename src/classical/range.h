@@ -29,6 +29,12 @@ void sturdy_range_table_free(sturdy_range_table *t);
 double sturdy_range_upper_tab(const sturdy_range_table *tab, double q, double k, double df);
 double sturdy_range_quantile_tab(const sturdy_range_table *tab, double p, double k, double df);
 
+/* The cache's table of k (sturdy_cache, analysis.h), or NULL; and keeping a table in it:
+ * 1 when kept (the cache owns it then), 0 when the cache is full or NULL. */
+struct sturdy_cache;
+sturdy_range_table *sturdy_cache_range_table(struct sturdy_cache *c, double k);
+int sturdy_cache_keep_range_table(struct sturdy_cache *c, sturdy_range_table *t);
+
 #define STURDY_MANYONE_MAX 256
 
 /* P(max_i |T_i| > c) for m many-to-one t statistics with df degrees of freedom whose

@@ -96,6 +96,8 @@ typedef struct {
     int resume, quiet, lead;     /* lead: this process writes and talks (MPI rank 0) */
     int lock_fd;                 /* the folder's lock, held until the batch ends, or -1 */
     char *plan_dir;              /* folder of the plan, or NULL when it has no '/' */
+    sturdy_cache *cache;         /* tables every row's analysis shares (NULL: each its
+                                    own), the same bits either way */
     sturdy_table *plan;
     long req[NREQUIRED];         /* plan columns of the required fields */
     long opt[MAX_CHECK_OPTIONS]; /* plan column of each cli_check_options entry, or -1 */
@@ -591,6 +593,7 @@ static void run_row(const batch *b, size_t i, cli_batch_data *held, totals *tot,
     } else if (!rc) {
         if (bytes) c.table = cli_batch_data_table(held, c.data, key.data, bytes, nbytes,
                                                   &c.topts);
+        c.cache = b->cache;
         free(bytes);
         bytes = NULL;
         if (!b->quiet && b->lead) announce_row(b, i, name, &c, data_path);
@@ -640,12 +643,15 @@ static int run_batch(batch *b)
     if (!oc) return STURDY_EINTERNAL;
     totals tot = { 0 };
     cli_batch_data held = { 0 };
+    b->cache = sturdy_cache_new();
     for (size_t i = 0; i < n; i++) {
         sturdy_buf_init(&oc[i].changes);
         sturdy_buf_init(&oc[i].verdicts);
         run_row(b, i, &held, &tot, &oc[i]);
     }
     cli_batch_data_free(&held);
+    sturdy_cache_free(b->cache);
+    b->cache = NULL;
     const char **names = calloc(n + 1, sizeof *names);
     for (size_t i = 0; names && i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
     int wrote = !names ? STURDY_EINTERNAL

@@ -41,6 +41,8 @@ typedef struct {
                                     the data relative to the shard's folder), or NULL */
     const sturdy_table *table;   /* the data already read (batch: from the bytes its key
                                     digests; owned by the batch), or NULL: read them */
+    sturdy_cache *cache;         /* tables kept between the batch's rows (owned by the
+                                    batch), or NULL */
     int argc; char **argv;       /* the command's arguments (argv[0] = command), recorded
                                     in shard parts so that merge can repeat the set-up */
     const char *cwd;             /* working folder at parse time (owned), for shards */

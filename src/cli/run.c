@@ -149,6 +149,7 @@ int cli_check_compute(cli_check *c, sturdy_result **out, char *err)
     sturdy_context ctx;
     sturdy_context_init(&ctx);
     ctx.threads = c->threads;
+    ctx.cache = c->cache;
     if (talk) {
         work_estimate(c, data);
         ctx.progress = progress;

@@ -320,6 +320,8 @@ struct sturdy_result {
     int finished;                /* p-values and intervals computed (not a bare shard) */
     int threads;                 /* threads for the work of sturdy_result_finish (the
                                     analysis's count; 0, as read back or merged: one) */
+    struct sturdy_cache *cache;  /* tables kept between runs, during sturdy_analyze only
+                                    (not owned; NULL otherwise) */
     size_t nresp; sturdy_response_result *resp;
     size_t nnotes; char **notes; /* run-wide remarks (warnings) for the report */
     uint64_t data_checksum;      /* FNV-1a of the used columns' text, to match shards */
