@@ -84,6 +84,13 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                 }
             }
         }
+        for (size_t i = 0; i < rr->ncomparisons; i++) {   /* ‖w‖ once, not per replicate */
+            sturdy_comparison *c = &rr->comparisons[i];
+            double ww = 0.0;
+            for (size_t a = 0; c->w && a < m->rank; a++)
+                ww += c->w[a] * c->w[a];
+            c->w_norm = sqrt(ww);
+        }
         size_t cnt = (size_t)run->nboot * cols;
         if (!(rr->cmp_boot = sturdy_malloc(cnt * sizeof *rr->cmp_boot)))
             return sturdy_fail(err, STURDY_EINTERNAL,
@@ -162,12 +169,10 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
         const sturdy_comparison *c = &resp->comparisons[i];
         if (!c->w || !isfinite(c->t_pooled))
             continue;
-        double est = 0.0, ww = 0.0;
-        for (size_t a = 0; a < rank; a++) {
+        double est = 0.0;
+        for (size_t a = 0; a < rank; a++)
             est += c->w[a] * work[a];
-            ww += c->w[a] * c->w[a];
-        }
-        double t = sigma > 0 ? fabs(est) / (sigma * sqrt(ww)) : (est != 0 ? INFINITY : 0.0);
+        double t = sigma > 0 ? fabs(est) / (sigma * c->w_norm) : (est != 0 ? INFINITY : 0.0);
         if (t > row[c->family])
             row[c->family] = t;
     }
