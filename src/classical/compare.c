@@ -478,7 +478,7 @@ static const sturdy_range_table *table_of(sturdy_range_table *const *tabs, const
 
 /* The simultaneous intervals and adjusted p of the comparisons [i, e) of one batch. */
 static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double conf,
-                         const sturdy_range_table *tab)
+                         const sturdy_range_table *tab, struct sturdy_cache *cache)
 {
     sturdy_comparison *cp = &rr->comparisons[i];
     if (cp->method == STURDY_ADJ_DUNNETT) {   /* the whole family at once */
@@ -504,7 +504,7 @@ static void adjust_batch(sturdy_response_result *rr, size_t i, size_t e, double 
                 if (dfs[l] == dfs[j])
                     qs[j] = qs[l];
             if (isnan(qs[j]))
-                qs[j] = sturdy_range_quantile_tab(tab, conf, cp->range_k, dfs[j]);
+                qs[j] = sturdy_cache_range_quantile(cache, tab, conf, cp->range_k, dfs[j]);
         }
     } else {
         sturdy_range_quantiles(conf, cp->range_k, dfs, e - i, qs, work);
@@ -577,7 +577,7 @@ int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads,
 #pragma omp for schedule(dynamic, 1) nowait
         for (size_t b = 0; b < nb; b++)
             adjust_batch(rr, begin[b], batch_end(rr, begin[b]), conf,
-                         table_of(tabs, tk, ntab, rr->comparisons[begin[b]].range_k));
+                         table_of(tabs, tk, ntab, rr->comparisons[begin[b]].range_k), cache);
         /* the range-based adjusted p, one tail per comparison */
 #pragma omp for schedule(dynamic, 4)
         for (size_t j = 0; j < nc; j++) {

@@ -34,6 +34,10 @@ double sturdy_range_quantile_tab(const sturdy_range_table *tab, double p, double
 struct sturdy_cache;
 sturdy_range_table *sturdy_cache_range_table(struct sturdy_cache *c, double k);
 int sturdy_cache_keep_range_table(struct sturdy_cache *c, sturdy_range_table *t);
+/* sturdy_range_quantile_tab(tab, p, k, df), kept in the cache for the next run that asks
+ * (the same double; c may be NULL). Safe from several threads at once. */
+double sturdy_cache_range_quantile(struct sturdy_cache *c, const sturdy_range_table *tab,
+                                   double p, double k, double df);
 
 #define STURDY_MANYONE_MAX 256
 
