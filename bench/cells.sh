@@ -11,10 +11,11 @@ OLD=$1 NEW=$2; shift 2
 RUNS=${RUNS:-5}
 designs=${*:-"f3_200k f5_20k bal2000"}
 export OPENBLAS_NUM_THREADS=1
-declare -A Y=([bal2000]=hours [f5_20k]=latency_ms [f3_200k]=moisture)
-declare -A F=([bal2000]=treatment,adhesive,cure [f5_20k]=region,cache,codec,protocol,client
+declare -A Y=([bal2000]=hours [unbal2000]=hours [f5_20k]=latency_ms [f3_200k]=moisture)
+declare -A F=([bal2000]=treatment,adhesive,cure [unbal2000]=treatment,adhesive,cure
+              [f5_20k]=region,cache,codec,protocol,client
               [f3_200k]=site,probe,daytime)
-declare -A BB=([bal2000]=9999 [f5_20k]=999 [f3_200k]=999)
+declare -A BB=([bal2000]=9999 [unbal2000]=9999 [f5_20k]=999 [f3_200k]=999)
 median() { sort -g | awk '{a[NR]=$1} END {print (NR%2 ? a[(NR+1)/2] : (a[NR/2]+a[NR/2+1])/2)}'; }
 tmp=$(mktemp -d)
 for d in $designs; do
