@@ -193,6 +193,8 @@ static void gather_vs_cells(const char *tag, const char *csv, int block, uint64_
                 sturdy_result *b = run(csv, 0, method, flip, ss, block, B);
                 set_path("pairs");
                 sturdy_result *p = run(csv, 0, method, flip, ss, block, B);
+                set_path("pairs-dense");
+                sturdy_result *pd = run(csv, 0, method, flip, ss, block, B);
                 set_path(NULL);
                 snprintf(what, sizeof what, "cells %s%s ss%d %s%s", tag, block ? "+block" : "",
                          ss, methods[method], flip ? "+flip" : "");
@@ -200,9 +202,13 @@ static void gather_vs_cells(const char *tag, const char *csv, int block, uint64_
                 snprintf(what, sizeof what, "pairs %s%s ss%d %s%s", tag, block ? "+block" : "",
                          ss, methods[method], flip ? "+flip" : "");
                 compare_counts(what, a, p);
+                snprintf(what, sizeof what, "pairs (M by dgemm) %s%s ss%d %s%s", tag,
+                         block ? "+block" : "", ss, methods[method], flip ? "+flip" : "");
+                compare_counts(what, a, pd);
                 sturdy_result_free(a);
                 sturdy_result_free(b);
                 sturdy_result_free(p);
+                sturdy_result_free(pd);
             }
 }
 
@@ -349,53 +355,61 @@ static void unit_pairs(void)
         }
         cm[q].vv = vv;
     }
-    sturdy_maxt_pairs *p = NULL;
-    set_path("gather");
-    CHECK("forced gather: no pair table",
-          sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 0, err) == STURDY_OK && !p);
-    set_path("pairs");
-    CHECK("no pair table with sign flips",
-          sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 1, err) == STURDY_OK && !p);
-    CHECK("no pair table when the model does not span the cells (rank < K)",
-          sturdy_maxt_pairs_init(&p, &x, n, K, K - 1, lab0, 0, err) == STURDY_OK && !p);
-    CHECK("forced pairs: a pair table",
-          sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 0, err) == STURDY_OK && p);
-    set_path(NULL);
-    sturdy_maxt_pairs_work *w = p ? sturdy_maxt_pairs_work_alloc(p) : NULL;
-    CHECK("pair-table workspace", w != NULL);
-    double worst = 0.0, t2[C];
-    for (int rep = 0; w && rep < 30; rep++) {
-        memcpy(lab, lab0, sizeof lab);
-        for (size_t i = n; i > 1; i--) {
-            size_t j = (size_t)sturdy_pcg_bounded(&g, i);
-            uint32_t t = lab[i - 1]; lab[i - 1] = lab[j]; lab[j] = t;
-        }
-        sturdy_maxt_pairs_t2(p, w, &x, lab, 1e-12, t2, 1, 0);
-        for (size_t q = 0; q < C; q++) {
-            size_t r = q < resp_begin[1] ? 0 : 1;
-            memset(T, 0, sizeof T);
-            memset(T2, 0, sizeof T2);
-            for (size_t k = 0; k < n; k++) {
-                double v = E[k * R + r] + A[lab0[k] * Cp + q];
-                T[lab[k]] += v;
-                T2[lab[k]] += v * v;
+    for (int mode = 0; mode < 2; mode++) {
+        const char *force = mode ? "pairs-sparse" : "pairs-dense";
+        sturdy_maxt_pairs *p = NULL;
+        set_path("gather");
+        CHECK("forced gather: no pair table",
+              sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 0, err) == STURDY_OK && !p);
+        set_path("pairs");
+        CHECK("no pair table with sign flips",
+              sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 1, err) == STURDY_OK && !p);
+        CHECK("no pair table when the model does not span the cells (rank < K)",
+              sturdy_maxt_pairs_init(&p, &x, n, K, K - 1, lab0, 0, err) == STURDY_OK && !p);
+        set_path(force);
+        CHECK("forced pairs: a pair table",
+              sturdy_maxt_pairs_init(&p, &x, n, K, K, lab0, 0, err) == STURDY_OK && p);
+        set_path(NULL);
+        sturdy_maxt_pairs_work *w = p ? sturdy_maxt_pairs_work_alloc(p) : NULL;
+        CHECK("pair-table workspace", w != NULL);
+        double worst = 0.0, t2[C];
+        for (int rep = 0; w && rep < 30; rep++) {
+            memcpy(lab, lab0, sizeof lab);
+            for (size_t i = n; i > 1; i--) {
+                size_t j = (size_t)sturdy_pcg_bounded(&g, i);
+                uint32_t t = lab[i - 1]; lab[i - 1] = lab[j]; lab[j] = t;
             }
-            double a = 0, ss = 0;
-            for (size_t h = 0; h < K; h++) {
-                S[h] = T[h] / sq[h];
-                Q[h] = T2[h] / sq[h];
-                a += z[q][h] * S[h];
-                ss += S[h] * S[h];
+            sturdy_maxt_pairs_t2(p, w, &x, lab, 1e-12, t2, 1, 0);
+            for (size_t q = 0; q < C; q++) {
+                size_t r = q < resp_begin[1] ? 0 : 1;
+                memset(T, 0, sizeof T);
+                memset(T2, 0, sizeof T2);
+                for (size_t k = 0; k < n; k++) {
+                    double v = E[k * R + r] + A[lab0[k] * Cp + q];
+                    T[lab[k]] += v;
+                    T2[lab[k]] += v * v;
+                }
+                double a = 0, ss = 0;
+                for (size_t h = 0; h < K; h++) {
+                    S[h] = T[h] / sq[h];
+                    Q[h] = T2[h] / sq[h];
+                    a += z[q][h] * S[h];
+                    ss += S[h] * S[h];
+                }
+                double ref = cm[q].het
+                                 ? sturdy_maxt_t2_het(&x, q, S, Q, sq, K, a * a, 1e-12)
+                                 : sturdy_maxt_t2(&x, q, a * a, cm[q].vv - ss, 1e-12);
+                worst = fmax(worst, fabs(t2[q] - ref) / fabs(ref));
             }
-            double ref = cm[q].het ? sturdy_maxt_t2_het(&x, q, S, Q, sq, K, a * a, 1e-12)
-                                   : sturdy_maxt_t2(&x, q, a * a, cm[q].vv - ss, 1e-12);
-            worst = fmax(worst, fabs(t2[q] - ref) / fabs(ref));
         }
+        CHECK_ABS(mode ? "pair-table t*2 (M entry by entry) = t*2 of the direct sums "
+                         "(pooled and Games-Howell)"
+                       : "pair-table t*2 (M by dgemm) = t*2 of the direct sums (pooled "
+                         "and Games-Howell)",
+                  worst, 0.0, 1e-11);
+        sturdy_maxt_pairs_work_free(w);
+        sturdy_maxt_pairs_free(p);
     }
-    CHECK_ABS("pair-table t*2 = t*2 of the direct sums (pooled and Games-Howell)", worst, 0.0,
-              1e-11);
-    sturdy_maxt_pairs_work_free(w);
-    sturdy_maxt_pairs_free(p);
 }
 
 /* The cache a batch shares between its rows keeps the range tables a run builds: after

@@ -78,7 +78,7 @@ static int forced_path(void)
     const char *s = getenv(STURDY_PERM_PATH_ENV);
     if (s && strcmp(s, "cells") == 0)
         return 1;
-    if (s && (strcmp(s, "gather") == 0 || strcmp(s, "pairs") == 0))
+    if (s && (strcmp(s, "gather") == 0 || strncmp(s, "pairs", 5) == 0))
         return 0;
     return -1;
 }

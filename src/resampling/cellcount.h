@@ -14,7 +14,8 @@ typedef struct sturdy_cellcount_work sturdy_cellcount_work;
 /* The environment variable that forces a path (tests and benchmarks): "cells" uses the
  * cell-count path wherever its algebra holds, "gather" never; "pairs" never either, and
  * takes the comparisons' statistics from the pair table wherever it holds
- * (maxt_pairs.c), which "cells" and "gather" never do; unset or anything else: the cost
+ * (maxt_pairs.c), which "cells" and "gather" never do ("pairs-dense" and "pairs-sparse"
+ * also force how it builds its product table); unset or anything else: the cost
  * models decide. */
 #define STURDY_PERM_PATH_ENV "STURDY_PERM_PATH"
 

@@ -28,12 +28,17 @@
  * (STURDY_TIE_RTOL = 1e-10): the same rearrangements are counted as on the gather
  * (tests/test_paths.c, forced through STURDY_PERM_PATH=pairs).
  *
+ * M is built entry by entry from the columns' lists where N is sparse, and as one matrix
+ * product W^T W (W = N D^(-1/2), dgemm) where it is dense enough that the product's
+ * vector arithmetic wins (f5_20k: 144 cells of 139 rows, 90 entries per column).
+ *
  * Cost model (per rearrangement, in multiply-adds): the gather adds n rows of Cp values
  * (and their squares with Games–Howell comparisons) a vector at a time, then copies,
  * clears and reduces K × Cp sums; this path makes the pass over n positions, builds M
  * from the expected column entries of a uniform permutation, Σ_h (1 − exp(−n_h n_g/n)),
  * and reads |S_q|² entries per comparison, one at a time. */
 #include <assert.h>
+#include <cblas.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -58,6 +63,8 @@
 struct sturdy_maxt_pairs {
     size_t n, K, R, C;
     int het;                 /* some comparison is Games–Howell: Q and E are kept */
+    int dense;               /* M by one matrix product (else entry by entry) */
+    double *isq;             /* K: 1/√n_g */
     const uint32_t *lab0;    /* n (the rearranger's) */
     const double *E;         /* n × R (x->E) */
     double *inv_n;           /* K: 1/n_g */
@@ -77,11 +84,14 @@ struct sturdy_maxt_pairs_work {
     double *M;               /* K²: M[h·K + h'] */
     uint32_t *col, *len;     /* the cells h met by each g (col_off), and how many */
     double *v;               /* K: one column's counts, in its list's order */
+    double *W;               /* K²: N D^(-1/2) by columns (dense M only) */
     size_t entries;          /* Σ_g len_g²: the entries of M written */
     double *Se, *Q, *c;      /* R × K */
     double *s0;              /* R */
 };
 
+/* -1: the cost model; 0: never; 1: wherever it holds; 2 and 3: so, with M forced to the
+   product or to the entries */
 static int forced(void)
 {
     const char *s = getenv(STURDY_PERM_PATH_ENV);
@@ -89,6 +99,10 @@ static int forced(void)
         return -1;
     if (strcmp(s, "pairs") == 0)
         return 1;
+    if (strcmp(s, "pairs-dense") == 0)
+        return 2;
+    if (strcmp(s, "pairs-sparse") == 0)
+        return 3;
     if (strcmp(s, "gather") == 0 || strcmp(s, "cells") == 0)
         return 0;
     return -1;
@@ -99,6 +113,7 @@ void sturdy_maxt_pairs_free(sturdy_maxt_pairs *p)
     if (!p)
         return;
     sturdy_free(p->inv_n);
+    sturdy_free(p->isq);
     sturdy_free(p->col_off);
     sturdy_free(p->sup_off);
     sturdy_free(p->sup_cell);
@@ -140,13 +155,17 @@ sturdy_status sturdy_maxt_pairs_init(sturdy_maxt_pairs **out, const sturdy_maxt 
         cnt[lab0[k]]++;
     /* the cost: the pass over the positions, M from the expected entries of each column
        of N under a uniform permutation, and |S_q|² reads per comparison */
-    double pairs = (double)n * (2.0 + (double)R * (p->het ? 3.0 : 1.0));
+    double pairs = (double)n * (2.0 + (double)R * (p->het ? 3.0 : 1.0)), sparse_m = 0.0;
     for (size_t g = 0; g < K; g++) {
         double col = 0.0;
         for (size_t h = 0; h < K; h++)
             col += -expm1(-(double)cnt[h] * (double)cnt[g] / (double)n);
-        pairs += col * col * 2.0 + col * (double)R * 2.0;
+        sparse_m += col * col * 2.0 + col * (double)R * 2.0;
     }
+    /* the product: K³ multiply-adds, about four at a time */
+    double dense_m = (double)K * (double)K * ((double)K + 2.0 * (double)R) / 4.0;
+    p->dense = force == 2 || (force != 3 && dense_m < sparse_m);
+    pairs += p->dense ? dense_m : sparse_m;
     size_t nsup = 0;
     for (size_t q = 0; q < C; q++) {
         const sturdy_maxt_member *mb = &x->cm[q];
@@ -164,6 +183,7 @@ sturdy_status sturdy_maxt_pairs_init(sturdy_maxt_pairs **out, const sturdy_maxt 
         return STURDY_OK;
     }
     p->inv_n = sturdy_calloc(K, sizeof *p->inv_n);
+    p->isq = sturdy_calloc(K, sizeof *p->isq);
     p->col_off = sturdy_calloc(K + 1, sizeof *p->col_off);
     p->sup_off = sturdy_calloc(C + 1, sizeof *p->sup_off);
     p->sup_cell = sturdy_calloc(nsup + 1, sizeof *p->sup_cell);
@@ -172,11 +192,12 @@ sturdy_status sturdy_maxt_pairs_init(sturdy_maxt_pairs **out, const sturdy_maxt 
     p->sup_zh = sturdy_calloc(nsup + 1, sizeof *p->sup_zh);
     p->resp = sturdy_calloc(C + 1, sizeof *p->resp);
     p->a_zero = sturdy_calloc(C + 1, 1);
-    if (!p->inv_n || !p->col_off || !p->sup_off || !p->sup_cell || !p->sup_a || !p->sup_zs ||
-        !p->sup_zh || !p->resp || !p->a_zero)
+    if (!p->inv_n || !p->isq || !p->col_off || !p->sup_off || !p->sup_cell || !p->sup_a ||
+        !p->sup_zs || !p->sup_zh || !p->resp || !p->a_zero)
         goto oom;
     for (size_t g = 0; g < K; g++) {
         p->inv_n[g] = cnt[g] ? 1.0 / (double)cnt[g] : 0.0;
+        p->isq[g] = cnt[g] ? 1.0 / sqrt((double)cnt[g]) : 0.0;
         p->col_off[g + 1] = p->col_off[g] + (cnt[g] < K ? cnt[g] : K);
     }
     size_t s = 0, ri = 0;
@@ -217,7 +238,7 @@ double sturdy_maxt_pairs_work_bytes(const sturdy_maxt_pairs *p)
     if (!p)
         return 0.0;
     double K = (double)p->K, R = (double)p->R;
-    return 8.0 * 2.0 * K * K + 4.0 * ((double)p->col_off[p->K] + K) +
+    return 8.0 * (p->dense ? 3.0 : 2.0) * K * K + 4.0 * ((double)p->col_off[p->K] + K) +
            8.0 * (3.0 * R * K + R + K) + (p->het ? 8.0 * R * K * K : 0.0);
 }
 
@@ -226,7 +247,7 @@ void sturdy_maxt_pairs_work_free(sturdy_maxt_pairs_work *w)
     if (!w)
         return;
     sturdy_free(w->NT); sturdy_free(w->ET); sturdy_free(w->M);
-    sturdy_free(w->col); sturdy_free(w->len); sturdy_free(w->v);
+    sturdy_free(w->col); sturdy_free(w->len); sturdy_free(w->v); sturdy_free(w->W);
     sturdy_free(w->Se); sturdy_free(w->Q); sturdy_free(w->c); sturdy_free(w->s0);
     sturdy_free(w);
 }
@@ -243,12 +264,13 @@ sturdy_maxt_pairs_work *sturdy_maxt_pairs_work_alloc(const sturdy_maxt_pairs *p)
     w->col = sturdy_calloc(p->col_off[K] + 1, sizeof *w->col);
     w->len = sturdy_calloc(K, sizeof *w->len);
     w->v = sturdy_calloc(K, sizeof *w->v);
+    w->W = p->dense ? sturdy_calloc(K * K, sizeof *w->W) : NULL;
     w->Se = sturdy_calloc(R * K, sizeof *w->Se);
     w->Q = sturdy_calloc(R * K, sizeof *w->Q);
     w->c = sturdy_calloc(R * K, sizeof *w->c);
     w->s0 = sturdy_calloc(R, sizeof *w->s0);
-    if (!w->NT || (p->het && !w->ET) || !w->M || !w->col || !w->len || !w->v || !w->Se || !w->Q ||
-        !w->c || !w->s0) {
+    if (!w->NT || (p->het && !w->ET) || !w->M || !w->col || !w->len || !w->v ||
+        (p->dense && !w->W) || !w->Se || !w->Q || !w->c || !w->s0) {
         sturdy_maxt_pairs_work_free(w);
         return NULL;
     }
@@ -276,7 +298,22 @@ static void pairs_build(const sturdy_maxt_pairs *p, sturdy_maxt_pairs_work *w,
         }
     }
     size_t entries = 0;
-    for (size_t g = 0; g < K; g++) {
+    if (p->dense) {   /* M = Wᵀ W and c_r = Wᵀ (Se_r / √n), W = N D^(−1/2) */
+        for (size_t g = 0; g < K; g++) {
+            entries += (size_t)w->len[g] * w->len[g];
+            for (size_t h = 0; h < K; h++)
+                w->W[g * K + h] = w->NT[g * K + h] * p->isq[g];
+        }
+        cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, (int)K, (int)K, (int)K, 1.0, w->W,
+                    (int)K, w->W, (int)K, 0.0, w->M, (int)K);
+        for (size_t r = 0; r < R; r++) {
+            for (size_t g = 0; g < K; g++)
+                w->v[g] = w->Se[r * K + g] * p->isq[g];
+            cblas_dgemv(CblasRowMajor, CblasTrans, (int)K, (int)K, 1.0, w->W, (int)K, w->v, 1,
+                        0.0, w->c + r * K, 1);
+        }
+    }
+    for (size_t g = 0; !p->dense && g < K; g++) {
         const uint32_t *col = w->col + p->col_off[g];
         const double *Ng = w->NT + g * K;
         size_t len = w->len[g];
@@ -311,7 +348,8 @@ static void pairs_clear(const sturdy_maxt_pairs *p, sturdy_maxt_pairs_work *w)
        about what one scattered entry does) */
     int whole = K * K <= 8 * w->entries;
     if (whole) {
-        memset(w->M, 0, K * K * sizeof *w->M);
+        if (!p->dense)   /* the product writes all of M */
+            memset(w->M, 0, K * K * sizeof *w->M);
         memset(w->NT, 0, K * K * sizeof *w->NT);
         if (p->het)
             memset(w->ET, 0, R * K * K * sizeof *w->ET);
@@ -323,7 +361,7 @@ static void pairs_clear(const sturdy_maxt_pairs *p, sturdy_maxt_pairs_work *w)
             w->NT[g * K + h] = 0.0;
             for (size_t r = 0; p->het && r < R; r++)
                 w->ET[r * K * K + g * K + h] = 0.0;
-            for (size_t j = 0; j < w->len[g]; j++)
+            for (size_t j = 0; !p->dense && j < w->len[g]; j++)
                 w->M[h * K + col[j]] = 0.0;
         }
         w->len[g] = 0;
