@@ -1,5 +1,6 @@
 /* cellcount.h — the group sums of the permutation engine's columns from the cell-count
- * table of each rearrangement (private to permute.c; see cellcount.c). */
+ * table of each rearrangement (private to the permutation engine, permute.c and
+ * permute_setup.c; see cellcount.c). */
 #ifndef STURDY_CELLCOUNT_H
 #define STURDY_CELLCOUNT_H
 

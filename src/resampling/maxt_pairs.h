@@ -1,5 +1,6 @@
 /* maxt_pairs.h — the comparisons' rearranged statistics from each rearrangement's table
- * of (original cell, new cell) pairs (private to permute.c; see maxt_pairs.c). */
+ * of (original cell, new cell) pairs (private to the permutation engine, permute.c and
+ * permute_setup.c; see maxt_pairs.c). */
 #ifndef STURDY_MAXT_PAIRS_H
 #define STURDY_MAXT_PAIRS_H
 
