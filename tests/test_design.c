@@ -2,7 +2,11 @@
  * and the offending name, never a command-line option (the CLI adds those, hints.c),
  * with the status the CLI turns into its exit code. And a property of the levels (the
  * distinct texts found by hashing, levels.c): every used row's level is its own text,
- * each text is one level, and the levels are in natural order, for many levels. */
+ * each text is one level, and the levels are in natural order, for many levels. And of
+ * the cells and groups (found by hashing the rows' level tuples, design.c): every row's
+ * cell holds its own levels, the cells are in lexicographic level order, and the groups
+ * (cell and block) are in lexicographic order of (cell, block) with every row in the one
+ * of its own pair, on unbalanced designs with empty cells, with and without a block. */
 #include "check.h"
 #include "sturdy/design.h"
 #include "sturdy/table.h"
@@ -86,6 +90,84 @@ static void many_levels(size_t nl, size_t n)
     sturdy_buf_free(&b);
 }
 
+/* 3 factors of 3, 4 and 5 levels and a block of 3 over n rows, each row's levels drawn
+ * at random (many of the 60 cells empty when n is small); checks the cells and groups. */
+/* Is the tuple x before y in lexicographic order? */
+static int lex_less(const size_t *x, const size_t *y, size_t len)
+{
+    for (size_t k = 0; k < len; k++)
+        if (x[k] != y[k])
+            return x[k] < y[k];
+    return 0;
+}
+
+static void cells_in_order(size_t n, int block, uint64_t seed)
+{
+    char err[STURDY_ERR_LEN] = "", line[STURDY_ERR_LEN + 200];
+    sturdy_buf b;
+    sturdy_buf_init(&b);
+    sturdy_buf_printf(&b, "a,b,c,k,y\n");
+    uint64_t st = seed;
+    for (size_t i = 0; i < n; i++) {
+        unsigned r[4];
+        for (int j = 0; j < 4; j++) {
+            st = st * 6364136223846793005ULL + 1442695040888963407ULL;
+            r[j] = (unsigned)(st >> 33);
+        }
+        sturdy_buf_printf(&b, "a%u,b%u,c%u,k%u,%zu\n", r[0] % 3, r[1] % 4, r[2] % 5, r[3] % 3,
+                          i % 7);
+    }
+    sturdy_table *t = NULL;
+    sturdy_design *d = NULL;
+    static const char *const y[] = { "y" }, *const abc[] = { "a", "b", "c" };
+    sturdy_model_spec s;
+    sturdy_model_spec_init(&s);
+    s.responses = y; s.nresponses = 1; s.factors = abc; s.nfactors = 3;
+    s.block = block ? "k" : NULL;
+    sturdy_status rc = b.failed ? STURDY_EINTERNAL
+                                : sturdy_table_load_buffer("c.csv", b.data, b.len, NULL, &t, err);
+    if (!rc) rc = sturdy_design_build(t, &s, &d, err);
+    snprintf(line, sizeof line, "cells, %zu rows%s: the design builds (%s)", n,
+             block ? " with a block" : "", err);
+    CHECK(line, rc == STURDY_OK);
+    if (!rc) {
+        size_t nf = d->nfactors, own = 0, ordered = 0, in_group = 0, groups_ordered = 0;
+        for (size_t i = 0; i < d->n; i++)
+            own += !memcmp(d->level + i * nf, d->cell_levels + d->cell[i] * nf,
+                           nf * sizeof *d->level);
+        for (size_t c = 1; c < d->ncells; c++)
+            ordered += lex_less(d->cell_levels + (c - 1) * nf, d->cell_levels + c * nf, nf);
+        /* each group's (cell, block) from its first row; every row matches its group's */
+        size_t *gk = malloc((2 * d->ngroups + 1) * sizeof *gk);
+        unsigned char *seen = calloc(d->ngroups + 1, 1);
+        for (size_t i = 0; gk && seen && i < d->n; i++) {
+            size_t g = d->group[i], kb = block ? d->block_level[i] : 0;
+            if (!seen[g]) {
+                seen[g] = 1;
+                gk[2 * g] = d->cell[i];
+                gk[2 * g + 1] = kb;
+            }
+            in_group += gk[2 * g] == d->cell[i] && gk[2 * g + 1] == kb;
+        }
+        for (size_t g = 1; gk && g < d->ngroups; g++)
+            groups_ordered += lex_less(gk + 2 * (g - 1), gk + 2 * g, 2);
+        snprintf(line, sizeof line, "%zu rows%s: %zu of %zu rows in the cell of their levels, "
+                 "%zu of %zu neighbouring cells in order; %zu rows in their group's (cell, "
+                 "block), %zu of %zu neighbouring groups in order", d->n,
+                 block ? " with a block" : "", own, d->n, ordered,
+                 d->ncells ? d->ncells - 1 : 0, in_group, groups_ordered,
+                 d->ngroups ? d->ngroups - 1 : 0);
+        CHECK(line, own == d->n && d->n == n && ordered + 1 == d->ncells &&
+                        in_group == d->n && groups_ordered + 1 == d->ngroups &&
+                        (block || d->ngroups == d->ncells));
+        free(gk);
+        free(seen);
+    }
+    sturdy_design_free(d);
+    sturdy_table_free(t);
+    sturdy_buf_free(&b);
+}
+
 int main(void)
 {
     static const char *const y[] = { "y" }, *const ab[] = { "a", "b" };
@@ -134,5 +216,9 @@ int main(void)
     many_levels(2, 10);
     many_levels(33, 200);        /* the table of distinct texts grows once */
     many_levels(1500, 20000);    /* and six times */
+    cells_in_order(40, 0, 1);    /* most of the 60 cells empty */
+    cells_in_order(40, 1, 2);
+    cells_in_order(5000, 0, 3);  /* every cell; the tuples' table grows */
+    cells_in_order(5000, 1, 4);
     return check_done();
 }

@@ -3,6 +3,7 @@
 #include <assert.h>
 #include <math.h>
 #include <stdlib.h>
+#include <stdint.h>
 #include <string.h>
 
 #include "core/core.h"
@@ -174,31 +175,72 @@ static sturdy_status find_columns(const sturdy_table *t, const char *const *name
     return STURDY_OK;
 }
 
-/* Assign group ids to rows by sorting tuples of `len` keys per row. */
+/* A tuple's hash: each key mixed in turn (splitmix64's finaliser). */
+static uint64_t tuple_hash(const size_t *key, size_t len)
+{
+    uint64_t h = 0x9e3779b97f4a7c15ULL;
+    for (size_t k = 0; k < len; k++) {
+        h ^= (uint64_t)key[k] + 0x9e3779b97f4a7c15ULL + (h << 6) + (h >> 2);
+        h = (h ^ (h >> 30)) * 0xbf58476d1ce4e5b9ULL;
+        h = (h ^ (h >> 27)) * 0x94d049bb133111ebULL;
+        h ^= h >> 31;
+    }
+    return h;
+}
+
+/* Assign group ids to rows from tuples of `len` keys per row: ids in the tuples'
+ * lexicographic order, each group's first row the smallest row holding it. One hashed
+ * pass (open addressing, at most half full) finds the distinct tuples in order of first
+ * appearance; only those are sorted (the rows used to be sorted: 20 M instructions per
+ * design at n = 20,000). */
 static sturdy_status group_rows(size_t n, const size_t *keys, size_t len, size_t *id,
                                 size_t *nids, size_t **first_row, char *err)
 {
-    tuple_ref *ref = sturdy_malloc(n * sizeof *ref);
-    if (!ref)
+    size_t cap = 16;
+    while (cap < 2 * n + 2)
+        cap *= 2;
+    size_t *slot = sturdy_malloc(cap * sizeof *slot);      /* a tuple's index, or SIZE_MAX */
+    size_t *first = sturdy_malloc((n + 1) * sizeof *first); /* by first appearance */
+    size_t *prov = sturdy_malloc((n + 1) * sizeof *prov);   /* each row's tuple */
+    tuple_ref *ref = sturdy_malloc((n + 1) * sizeof *ref);
+    size_t *rank = sturdy_malloc((n + 1) * sizeof *rank);
+    if (!slot || !first || !prov || !ref || !rank) {
+        sturdy_free(slot); sturdy_free(first); sturdy_free(prov); sturdy_free(ref);
+        sturdy_free(rank);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    for (size_t i = 0; i < n; i++) {
-        ref[i].key = keys + i * len;
-        ref[i].len = len;
-        ref[i].row = i;
     }
-    qsort(ref, n, sizeof *ref, cmp_tuple);
+    for (size_t c = 0; c < cap; c++)
+        slot[c] = SIZE_MAX;
     size_t k = 0;
-    size_t *first = sturdy_malloc(n * sizeof *first);
-    if (!first) {
-        sturdy_free(ref);
-        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-    }
     for (size_t i = 0; i < n; i++) {
-        if (i == 0 || memcmp(ref[i].key, ref[i - 1].key, len * sizeof(size_t)) != 0)
-            first[k++] = ref[i].row;
-        id[ref[i].row] = k - 1;
+        const size_t *key = keys + i * len;
+        size_t c = (size_t)tuple_hash(key, len) & (cap - 1);
+        while (slot[c] != SIZE_MAX &&
+               memcmp(keys + first[slot[c]] * len, key, len * sizeof *key) != 0)
+            c = (c + 1) & (cap - 1);
+        if (slot[c] == SIZE_MAX) {          /* a new tuple: this is its first row */
+            slot[c] = k;
+            first[k++] = i;
+        }
+        prov[i] = slot[c];
     }
+    /* the distinct tuples in lexicographic order (their first rows break no ties) */
+    for (size_t j = 0; j < k; j++) {
+        ref[j].key = keys + first[j] * len;
+        ref[j].len = len;
+        ref[j].row = first[j];
+    }
+    qsort(ref, k, sizeof *ref, cmp_tuple);
+    for (size_t j = 0; j < k; j++) {
+        rank[prov[ref[j].row]] = j;
+        first[j] = ref[j].row;
+    }
+    for (size_t i = 0; i < n; i++)
+        id[i] = rank[prov[i]];
+    sturdy_free(slot);
+    sturdy_free(prov);
     sturdy_free(ref);
+    sturdy_free(rank);
     *nids = k;
     *first_row = first;
     return STURDY_OK;
