@@ -52,10 +52,11 @@ int main(void)
         for (size_t n = 0; n < 300 + 2; n++) {
             size_t len = n < 300 ? n : big[n - 300];
             double *a = malloc((len + 1) * sizeof *a), *b = malloc((len + 1) * sizeof *b);
+            double *scratch = malloc((len + 1) * sizeof *scratch);
             for (size_t i = 0; i < len; i++)
                 a[i] = b[i] = draw(kind, i, len);
             qsort(a, len, sizeof *a, sturdy_cmp_double);
-            sturdy_sort_doubles(b, len);
+            sturdy_sort_doubles(b, len, scratch);
             if (!same_bits(a, b, len)) {
                 if (bad < 5)
                     printf("  differs: kind %d, n %zu\n", kind, len);
@@ -64,22 +65,23 @@ int main(void)
             arrays++;
             free(a);
             free(b);
+            free(scratch);
         }
     char name[128];
     snprintf(name, sizeof name, "radix sort = qsort order, bit for bit, on %zu arrays", arrays);
     CHECK_INT(name, bad, 0);
     /* a NaN anywhere: the comparator's own order (qsort itself) */
-    double a[100], b[100];
+    double a[100], b[100], scratch[100];
     for (size_t i = 0; i < 100; i++)
         a[i] = b[i] = i == 37 ? NAN : draw(0, i, 100);
     qsort(a, 100, sizeof *a, sturdy_cmp_double);
-    sturdy_sort_doubles(b, 100);
+    sturdy_sort_doubles(b, 100, scratch);
     CHECK("with a NaN: the qsort order", same_bits(a, b, 100));
     /* −0 before +0 and +0 before −0 both stay as given */
-    double z[60];
+    double z[60], zs[60];
     for (size_t i = 0; i < 60; i++)
         z[i] = i % 3 == 0 ? -0.0 : i % 3 == 1 ? 0.0 : 1.0;
-    sturdy_sort_doubles(z, 60);
+    sturdy_sort_doubles(z, 60, zs);
     int order = 1;
     for (size_t i = 0; i < 40; i++)
         order &= (signbit(z[i]) != 0) == (i % 2 == 0);

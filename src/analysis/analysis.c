@@ -431,7 +431,11 @@ sturdy_status sturdy_analyze(const sturdy_table *t, const sturdy_options *o,
     r->threads = run.threads;
     /* without the caller's cache the run keeps its own (several responses share k) */
     sturdy_cache *own = ctx && ctx->cache ? NULL : sturdy_cache_new();
-    r->cache = own ? own : ctx ? ctx->cache : NULL;
+    if (!own && !(ctx && ctx->cache)) {
+        sturdy_result_free(r);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+    r->cache = own ? own : ctx->cache;
     st = analyze(t, &run, r, err);
     if (!st && o->shard_count == 0 && o->resample)
         st = sturdy_result_finish(r, err);

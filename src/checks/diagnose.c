@@ -145,7 +145,7 @@ sturdy_status sturdy_shapiro_wilk(const double *x, size_t n, double *w, double *
         return sturdy_fail(err, STURDY_EINTERNAL, "Shapiro-Wilk: out of memory");
     }
     for (size_t i = 0; i < n; i++) y[i] = x[i];
-    sturdy_sort_doubles(y, n);
+    qsort(y, n, sizeof *y, sturdy_cmp_double);
     if (y[n - 1] == y[0] || !isfinite(y[n - 1] - y[0])) {
         int equal = y[n - 1] == y[0];
         sturdy_free(y);
@@ -199,7 +199,7 @@ void sturdy_moments(const double *x, size_t n, double *skewness, double *excess_
 /* Median of v[0..m) (m ≥ 1), sorting v in place. */
 static double median_sorted_in_place(double *v, size_t m)
 {
-    sturdy_sort_doubles(v, m);
+    qsort(v, m, sizeof *v, sturdy_cmp_double);
     return m % 2 ? v[m / 2] : (v[m / 2 - 1] + v[m / 2]) / 2.0;
 }
 

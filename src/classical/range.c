@@ -636,7 +636,7 @@ int sturdy_range_quantiles(double p, double k, const double *df, size_t n, doubl
     for (size_t i = 0; i < n; i++)
         if (df[i] > 0 && !isnan(df[i]))
             work[m++] = 1.0 / df[i];
-    sturdy_sort_doubles(work, m);
+    qsort(work, m, sizeof *work, sturdy_cmp_double);
     size_t distinct = 0;
     for (size_t i = 0; i < m; i++)
         distinct += i == 0 || work[i] != work[i - 1];

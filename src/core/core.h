@@ -56,8 +56,9 @@ __extension__ typedef unsigned __int128 sturdy_u128;
 /* qsort comparator of doubles in ascending order (NaNs compare equal to everything). */
 int sturdy_cmp_double(const void *a, const void *b);
 /* Sort x ascending: the order qsort with sturdy_cmp_double gives (glibc's stable merge),
- * equal values (−0 and +0) in their first order, by a stable radix sort. */
-void sturdy_sort_doubles(double *x, size_t n);
+ * equal values (−0 and +0) in their first order, by a stable radix sort. scratch holds n
+ * doubles (unused below 48 values); nothing is allocated. */
+void sturdy_sort_doubles(double *x, size_t n, double *scratch);
 
 /* FNV-1a (Fowler, Noll & Vo), 64-bit, of a NUL-terminated text: the hash of the tables
  * that find duplicate column names (table.c) and a factor's distinct levels (levels.c). */

@@ -27,7 +27,7 @@ static uint64_t sort_key(double x)
 /* Below this many values the stable insertion sort; above, the radix passes. */
 #define SORT_SMALL 48
 
-void sturdy_sort_doubles(double *x, size_t n)
+void sturdy_sort_doubles(double *x, size_t n, double *scratch)
 {
     for (size_t i = 0; i < n; i++)
         if (isnan(x[i])) {       /* the comparator's order with NaN is the merge's own */
@@ -44,34 +44,19 @@ void sturdy_sort_doubles(double *x, size_t n)
         }
         return;
     }
-    /* least significant byte first, each pass stable; a byte every key shares is skipped */
-    uint64_t *key = sturdy_malloc(2 * n * sizeof *key);
-    size_t (*cnt)[256] = sturdy_calloc(8, sizeof *cnt);
-    if (!key || !cnt) {
-        sturdy_free(key);
-        sturdy_free(cnt);
-        qsort(x, n, sizeof *x, sturdy_cmp_double);
-        return;
-    }
-    uint64_t *a = key, *b = key + n;
+    /* least significant byte first, each pass stable (the keys are recomputed from the
+       values, which travel between x and scratch); a byte every key shares is skipped */
+    size_t cnt[8][256] = {{0}};
     for (size_t i = 0; i < n; i++) {
-        a[i] = sort_key(x[i]);
+        uint64_t key = sort_key(x[i]);
         for (int d = 0; d < 8; d++)
-            cnt[d][(a[i] >> (8 * d)) & 0xff]++;
+            cnt[d][(key >> (8 * d)) & 0xff]++;
     }
-    /* the values travel beside their keys */
-    double *v = sturdy_malloc(2 * n * sizeof *v);
-    if (!v) {
-        sturdy_free(key);
-        sturdy_free(cnt);
-        qsort(x, n, sizeof *x, sturdy_cmp_double);
-        return;
-    }
-    double *va = v, *vb = v + n;
-    memcpy(va, x, n * sizeof *x);
+    double *from = x, *to = scratch;
+    uint64_t key0 = sort_key(x[0]);
     for (int d = 0; d < 8; d++) {
         size_t *c = cnt[d];
-        if (c[(a[0] >> (8 * d)) & 0xff] == n)
+        if (c[(key0 >> (8 * d)) & 0xff] == n)
             continue;
         size_t sum = 0;
         for (int k = 0; k < 256; k++) {
@@ -79,18 +64,12 @@ void sturdy_sort_doubles(double *x, size_t n)
             c[k] = sum;
             sum += t;
         }
-        for (size_t i = 0; i < n; i++) {
-            size_t at = c[(a[i] >> (8 * d)) & 0xff]++;
-            b[at] = a[i];
-            vb[at] = va[i];
-        }
-        uint64_t *tk = a; a = b; b = tk;
-        double *tv = va; va = vb; vb = tv;
+        for (size_t i = 0; i < n; i++)
+            to[c[(sort_key(from[i]) >> (8 * d)) & 0xff]++] = from[i];
+        double *t = from; from = to; to = t;
     }
-    memcpy(x, va, n * sizeof *x);
-    sturdy_free(v);
-    sturdy_free(key);
-    sturdy_free(cnt);
+    if (from != x)
+        memcpy(x, from, n * sizeof *x);
 }
 
 double sturdy_mean(const double *x, size_t n)

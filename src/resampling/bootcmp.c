@@ -205,7 +205,7 @@ static double quantile_sorted(const double *x, size_t B, double q)
 
 /* The finite values of column j of the replicate rows, sorted, into buf; their count. */
 static size_t column(const sturdy_result *r, const sturdy_response_result *rr, size_t j,
-                     double *buf)
+                     double *buf, double *scratch)
 {
     size_t cols = sturdy_bootcmp_cols(rr), k = 0;
     for (uint64_t b = 0; b < r->nboot; b++) {
@@ -213,7 +213,7 @@ static size_t column(const sturdy_result *r, const sturdy_response_result *rr, s
         if (!isnan(v))
             buf[k++] = v;
     }
-    sturdy_sort_doubles(buf, k);
+    sturdy_sort_doubles(buf, k, scratch);
     return k;
 }
 
@@ -240,15 +240,16 @@ static double adjusted_p(const double *sorted, size_t k, double m)
 sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
 {
     double conf = r->opts.conf;
-    double *buf = sturdy_malloc((r->nboot + 1) * sizeof *buf);
+    double *buf = sturdy_malloc(2 * (r->nboot + 1) * sizeof *buf);  /* values, scratch */
     if (!buf)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    double *scratch = buf + r->nboot + 1;
     for (size_t ri = 0; ri < r->nresp; ri++) {
         sturdy_response_result *rr = &r->resp[ri];
         if (!rr->cmp_boot)
             continue;
         for (size_t i = 0; i < rr->nmeans; i++) {
-            size_t k = column(r, rr, rr->nfamilies + i, buf);
+            size_t k = column(r, rr, rr->nfamilies + i, buf, scratch);
             if (k >= 2) {
                 rr->means[i].ci_boot.lo = quantile_sorted(buf, k, 0.5 - 0.5 * conf);
                 rr->means[i].ci_boot.hi = quantile_sorted(buf, k, 0.5 + 0.5 * conf);
@@ -256,7 +257,7 @@ sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
         }
         int het_resp = het_family(rr);
         for (size_t f = 0; f < rr->nfamilies; f++) {
-            size_t k = column(r, rr, f, buf);
+            size_t k = column(r, rr, f, buf, scratch);
             if (k < 2)
                 continue;
             double q = quantile_sorted(buf, k, conf);

@@ -541,7 +541,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
     if (!t->boot || B == 0)
         return STURDY_OK;
     assert(r->boot_done == B);          /* only a finished run has every replicate */
-    double *x = sturdy_malloc((size_t)B * sizeof *x);
+    double *x = sturdy_malloc(2 * (size_t)B * sizeof *x);   /* the values, then scratch */
     if (!x)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     double a2 = (1 - r->opts.conf) / 2;
@@ -559,7 +559,7 @@ sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_res
         t->ci_pct[e].lo = t->ci_pct[e].hi = t->ci_bca[e].lo = t->ci_bca[e].hi = NAN;
         if (k < 2 || !isfinite(theta))
             continue;
-        sturdy_sort_doubles(x, k);
+        sturdy_sort_doubles(x, k, x + B);
         t->ci_pct[e].lo = quantile_sorted(x, k, a2);
         t->ci_pct[e].hi = quantile_sorted(x, k, 1 - a2);
         /* BCa (Efron 1987): bias correction z0 from the share of replicates below the

@@ -222,7 +222,7 @@ double sturdy_gpd_ad_pvalue(size_t n, double xi, double sigma, double a2, double
             double lv = log1p(-sturdy_pcg_unit(&g));      /* log V, V in (0, 1] */
             z[i] = xi == 0.0 ? -lv : expm1(-xi * lv) / xi;
         }
-        sturdy_sort_doubles(z, n);
+        qsort(z, n, sizeof *z, sturdy_cmp_double);
         double x, s, l;
         if (sturdy_gpd_fit(z, n, &x, &s, &l) || sturdy_gpd_ad(z, n, x, s) >= a2)
             ge++;

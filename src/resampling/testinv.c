@@ -246,7 +246,7 @@ sturdy_status sturdy_sti_endpoints(const double *rows, size_t stride, uint64_t n
         if (isfinite(p->ti_lo) && isfinite(p->ti_hi) && p->ti_hi <= lam_max)
             for (int k = 0; k < STI_TI_GRID; k++)
                 grid[ng++] = p->ti_lo + (p->ti_hi - p->ti_lo) * (k + 0.5) / STI_TI_GRID;
-        sturdy_sort_doubles(grid, ng);
+        qsort(grid, ng, sizeof *grid, sturdy_cmp_double);
         size_t first = ng, last = ng;
         for (size_t k = 0; k < ng; k++)
             if (sti_accepts(&c, grid[k])) {
