@@ -1,7 +1,7 @@
 /* test_sort.c — sturdy_sort_doubles (numeric.c, a stable radix sort) leaves an array in
  * exactly the order that qsort with sturdy_cmp_double leaves it (the reference: the C
  * library's qsort, glibc's stable merge sort for arrays that fit in memory), bit for bit:
- * the bootstrap percentiles, the comparisons' adjusted p and the diagnostics read order
+ * the bootstrap percentiles and the comparisons' bootstrap bands and adjusted p read order
  * statistics off these arrays, so any difference would change a reported number. Random
  * arrays of every size from 0 to 300 and a few larger ones (2000, 9999: the bootstrap's
  * and a long run's replicate counts), drawn from six kinds: continuous of both signs,
