@@ -555,7 +555,7 @@ int sturdy_compare_adjust(sturdy_response_result *rr, double conf, int threads,
         short_of_memory |= tabs[i] == NULL;
     for (size_t i = 0; i < ntab; i++)   /* the new ones the cache takes live on there */
         if (!kept[i] && !short_of_memory)
-            kept[i] = sturdy_cache_keep_range_table(cache, tabs[i]);
+            kept[i] = sturdy_cache_keep_range_table(cache, tabs[i], tk[i]);
     if (short_of_memory) {
         for (size_t i = 0; i < ntab; i++)
             if (!kept[i])

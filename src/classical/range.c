@@ -31,7 +31,6 @@
 
 #include "classical/range.h"
 #include "core/core.h"
-#include "sturdy/analysis.h"
 #include "sturdy/dist.h"
 
 /* Above this many degrees of freedom s is taken as 1 (ν = ∞): the density of s is then
@@ -245,75 +244,6 @@ void sturdy_range_table_free(sturdy_range_table *t)
         return;
     sturdy_free(t->p);
     sturdy_free(t);
-}
-
-/* Tables kept between runs (analysis.h): one per k, the first RANGE_CACHE_MAX k met;
- * and the first RANGE_CACHE_QMAX quantiles found with them, by (p, k, df): the runs of a
- * batch of one design share their residual df, so each family's quantile repeats. */
-#define RANGE_CACHE_MAX 64
-#define RANGE_CACHE_QMAX 1024
-
-struct sturdy_cache {
-    size_t n;
-    sturdy_range_table *tab[RANGE_CACHE_MAX];
-    size_t nq;
-    double qkey[RANGE_CACHE_QMAX][3], qval[RANGE_CACHE_QMAX];
-};
-
-sturdy_cache *sturdy_cache_new(void)
-{
-    return sturdy_calloc(1, sizeof(sturdy_cache));
-}
-
-void sturdy_cache_free(sturdy_cache *c)
-{
-    for (size_t i = 0; c && i < c->n; i++)
-        sturdy_range_table_free(c->tab[i]);
-    sturdy_free(c);
-}
-
-sturdy_range_table *sturdy_cache_range_table(sturdy_cache *c, double k)
-{
-    for (size_t i = 0; c && i < c->n; i++)
-        if (c->tab[i]->k == k)
-            return c->tab[i];
-    return NULL;
-}
-
-int sturdy_cache_keep_range_table(sturdy_cache *c, sturdy_range_table *t)
-{
-    if (!c || !t || c->n == RANGE_CACHE_MAX || sturdy_cache_range_table(c, t->k))
-        return 0;
-    c->tab[c->n++] = t;
-    return 1;
-}
-
-double sturdy_cache_range_quantile(sturdy_cache *c, const sturdy_range_table *tab, double p,
-                                   double k, double df)
-{
-    double q = NAN;
-    int found = 0;
-    if (c) {
-#pragma omp critical(sturdy_cache_quantiles)
-        for (size_t i = 0; i < c->nq && !found; i++)
-            if (c->qkey[i][0] == p && c->qkey[i][1] == k && c->qkey[i][2] == df) {
-                q = c->qval[i];
-                found = 1;
-            }
-    }
-    if (found)
-        return q;
-    q = sturdy_range_quantile_tab(tab, p, k, df);
-    if (c) {
-#pragma omp critical(sturdy_cache_quantiles)
-        if (c->nq < RANGE_CACHE_QMAX) {
-            c->qkey[c->nq][0] = p;
-            c->qkey[c->nq][1] = k;
-            c->qkey[c->nq][2] = df;
-            c->qval[c->nq++] = q;
-        }
-    }
-    return q;
 }
 
 /* P(R > w) (and, with dens, f_R(w)) from the table where it reaches, else the integral */

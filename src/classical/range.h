@@ -29,11 +29,12 @@ void sturdy_range_table_free(sturdy_range_table *t);
 double sturdy_range_upper_tab(const sturdy_range_table *tab, double q, double k, double df);
 double sturdy_range_quantile_tab(const sturdy_range_table *tab, double p, double k, double df);
 
-/* The cache's table of k (sturdy_cache, analysis.h), or NULL; and keeping a table in it:
- * 1 when kept (the cache owns it then), 0 when the cache is full or NULL. */
+/* The cache's table of k (sturdy_cache, analysis.h; cache.c), or NULL; and keeping t,
+ * the table of k, in it: 1 when kept (the cache owns it then), 0 when the cache is full
+ * or NULL. */
 struct sturdy_cache;
 sturdy_range_table *sturdy_cache_range_table(struct sturdy_cache *c, double k);
-int sturdy_cache_keep_range_table(struct sturdy_cache *c, sturdy_range_table *t);
+int sturdy_cache_keep_range_table(struct sturdy_cache *c, sturdy_range_table *t, double k);
 /* sturdy_range_quantile_tab(tab, p, k, df), kept in the cache for the next run that asks
  * (the same double; c may be NULL). Safe from several threads at once. */
 double sturdy_cache_range_quantile(struct sturdy_cache *c, const sturdy_range_table *tab,
