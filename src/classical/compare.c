@@ -205,6 +205,7 @@ static sturdy_status fill_comparison(ctx *c, sturdy_comparison *cp, uint32_t mas
             return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
         memcpy(cp->w, c->w, c->lsm.rank * sizeof *cp->w);
         cp->se_pooled = sqrt(c->mse * ww);
+        cp->w_norm = sqrt(ww);
         cp->t_pooled = cp->estimate / cp->se_pooled;
     }
     double J = 1.0 - 3.0 / (4.0 * c->dfe - 1.0);   /* Hedges (1981) small-sample factor */

@@ -263,7 +263,8 @@ typedef struct {
     double t_pooled;             /* estimate / se_pooled: the statistic max-T
                                     rearranges (NaN: none) */
     double se_pooled;            /* √MS_error ‖w‖ */
-    double w_norm;               /* ‖w‖, for the bootstrap's replicates (bootcmp.c) */
+    double w_norm;               /* ‖w‖ (compare.c, beside se_pooled), for the bootstrap's
+                                    replicates (bootcmp.c) */
     uint64_t exceed_maxt;        /* rearrangements whose largest |t*| over the family is
                                     at least |t_pooled| */
 } sturdy_comparison;

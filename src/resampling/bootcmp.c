@@ -84,13 +84,6 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                 }
             }
         }
-        for (size_t i = 0; i < rr->ncomparisons; i++) {   /* ‖w‖ once, not per replicate */
-            sturdy_comparison *c = &rr->comparisons[i];
-            double ww = 0.0;
-            for (size_t a = 0; c->w && a < m->rank; a++)
-                ww += c->w[a] * c->w[a];
-            c->w_norm = sqrt(ww);
-        }
         size_t cnt = (size_t)run->nboot * cols;
         if (!(rr->cmp_boot = sturdy_malloc(cnt * sizeof *rr->cmp_boot)))
             return sturdy_fail(err, STURDY_EINTERNAL,
