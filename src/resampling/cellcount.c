@@ -72,15 +72,24 @@ void sturdy_cellcount_free(sturdy_cellcount *cc)
     sturdy_free(cc);
 }
 
+sturdy_perm_path sturdy_perm_path_forced(void)
+{
+    static const struct { const char *name; sturdy_perm_path path; } names[] = {
+        {"gather", STURDY_PATH_GATHER}, {"cells", STURDY_PATH_CELLS},
+        {"pairs", STURDY_PATH_PAIRS}, {"pairs-dense", STURDY_PATH_PAIRS_DENSE},
+        {"pairs-sparse", STURDY_PATH_PAIRS_SPARSE}};
+    const char *s = getenv(STURDY_PERM_PATH_ENV);
+    for (size_t i = 0; s && i < sizeof names / sizeof *names; i++)
+        if (strcmp(s, names[i].name) == 0)
+            return names[i].path;
+    return STURDY_PATH_AUTO;
+}
+
 /* The forced path, or -1 for the cost model. */
 static int forced_path(void)
 {
-    const char *s = getenv(STURDY_PERM_PATH_ENV);
-    if (s && strcmp(s, "cells") == 0)
-        return 1;
-    if (s && (strcmp(s, "gather") == 0 || strncmp(s, "pairs", 5) == 0))
-        return 0;
-    return -1;
+    sturdy_perm_path p = sturdy_perm_path_forced();
+    return p == STURDY_PATH_AUTO ? -1 : p == STURDY_PATH_CELLS;
 }
 
 /* Expected distinct (h, g) pairs of a uniform permutation, at most min(K², n). */

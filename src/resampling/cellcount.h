@@ -20,6 +20,17 @@ typedef struct sturdy_cellcount_work sturdy_cellcount_work;
  * models decide. */
 #define STURDY_PERM_PATH_ENV "STURDY_PERM_PATH"
 
+/* What STURDY_PERM_PATH asks for (cellcount.c and maxt_pairs.c read it here). */
+typedef enum {
+    STURDY_PATH_AUTO,            /* unset or anything else */
+    STURDY_PATH_GATHER,
+    STURDY_PATH_CELLS,
+    STURDY_PATH_PAIRS,
+    STURDY_PATH_PAIRS_DENSE,
+    STURDY_PATH_PAIRS_SPARSE
+} sturdy_perm_path;
+sturdy_perm_path sturdy_perm_path_forced(void);
+
 /* Decide whether the cell-count path computes the group sums of the columns of V
  * (n × Mp, rows in position order, lab0[k] the group of position k, K groups): columns
  * [0, nlin) are vectors to rearrange, columns [nlin, nlin + nsq) the squares of columns

@@ -94,18 +94,13 @@ struct sturdy_maxt_pairs_work {
    product or to the entries */
 static int forced(void)
 {
-    const char *s = getenv(STURDY_PERM_PATH_ENV);
-    if (!s)
-        return -1;
-    if (strcmp(s, "pairs") == 0)
-        return 1;
-    if (strcmp(s, "pairs-dense") == 0)
-        return 2;
-    if (strcmp(s, "pairs-sparse") == 0)
-        return 3;
-    if (strcmp(s, "gather") == 0 || strcmp(s, "cells") == 0)
-        return 0;
-    return -1;
+    switch (sturdy_perm_path_forced()) {
+    case STURDY_PATH_PAIRS: return 1;
+    case STURDY_PATH_PAIRS_DENSE: return 2;
+    case STURDY_PATH_PAIRS_SPARSE: return 3;
+    case STURDY_PATH_GATHER: case STURDY_PATH_CELLS: return 0;
+    default: return -1;
+    }
 }
 
 void sturdy_maxt_pairs_free(sturdy_maxt_pairs *p)
