@@ -226,7 +226,9 @@ void sturdy_result_free(sturdy_result *r)
         }
         sturdy_free(rr->cmp_boot);
         sturdy_free(rr->cmp_boot_note);
-        sturdy_free(rr->cmp_z);
+        sturdy_free(rr->cmp_wt);
+        sturdy_free(rr->cmp_init);
+        sturdy_free(rr->cmp_z2t);
         sturdy_free(rr->means);
         for (size_t i = 0; rr->comparisons && i < rr->ncomparisons; i++) {
             sturdy_free(rr->comparisons[i].note);

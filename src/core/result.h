@@ -283,8 +283,13 @@ typedef struct {
                                     |t*| of each family, then each mean's replicate value
                                     (owned; NULL: no bootstrap) */
     char *cmp_boot_note;         /* why the bootstrap intervals are absent */
-    double *cmp_z;               /* ncomparisons × K: z = U·w of each comparison, for the
-                                    own-SE replicates of bootcmp.c (NULL: none) */
+    /* bootcmp.c's replicate sweeps: the comparisons' then the means' w, transposed
+       (rank × cmp_np, cmp_np = ncomparisons + nmeans rounded up to 4, zero columns where
+       there is no w), their starting values (cmp_np: 0, or the mean's estimate), and for
+       own-SE (Games–Howell) families z_k² of each comparison, z = U·w, transposed
+       (K × cmp_np; NULL: no such family) */
+    double *cmp_wt, *cmp_init, *cmp_z2t;
+    size_t cmp_np;
     /* read back (read.c): the means and comparisons as the file gives them, with their
        names (a result read back has no design); strings in the result's `owned` */
     size_t rb_nmeans; sturdy_mean_info *rb_means;

@@ -53,9 +53,99 @@ static int het_family(const sturdy_response_result *resp)
     return 0;
 }
 
+/* The replicate sweeps' tables (result.h: cmp_wt, cmp_init, cmp_z2t). A sweep adds each
+ * sum's terms in the order the plain loop over a (or k) adds them, from the same start,
+ * so the bits are the same; the sums are independent, so they no longer wait on each
+ * other (the plain loops were one dot product at a time, bound by the adds' latency). */
+static sturdy_status pack(const sturdy_model *m, sturdy_response_result *rr, char *err)
+{
+    size_t K = m->K, rank = m->rank, nc = rr->ncomparisons;
+    size_t np = (nc + rr->nmeans + 3) & ~(size_t)3;
+    rr->cmp_np = np;
+    rr->cmp_wt = sturdy_calloc(rank * np + 1, sizeof *rr->cmp_wt);
+    rr->cmp_init = sturdy_calloc(np + 1, sizeof *rr->cmp_init);
+    int het = het_family(rr);
+    rr->cmp_z2t = het ? sturdy_calloc(K * np + 1, sizeof *rr->cmp_z2t) : NULL;
+    if (!rr->cmp_wt || !rr->cmp_init || (het && !rr->cmp_z2t))
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    for (size_t i = 0; i < nc; i++) {
+        const sturdy_comparison *c = &rr->comparisons[i];
+        for (size_t a = 0; c->w && a < rank; a++)
+            rr->cmp_wt[a * np + i] = c->w[a];
+        for (size_t k = 0; het && c->w && k < K; k++) {   /* z = U·w, as before */
+            double v = 0.0;
+            for (size_t a = 0; a < rank; a++)
+                v += m->U[a * K + k] * c->w[a];
+            rr->cmp_z2t[k * np + i] = v * v;
+        }
+    }
+    for (size_t i = 0; i < rr->nmeans; i++) {
+        const sturdy_mean_result *mr = &rr->means[i];
+        for (size_t a = 0; mr->w && a < rank; a++)
+            rr->cmp_wt[a * np + nc + i] = mr->w[a];
+        rr->cmp_init[nc + i] = mr->w ? mr->estimate : 0.0;
+    }
+    return STURDY_OK;
+}
+
+/* acc[j] = init[j] + Σ_a t[a·np + j]·x[a] for j < np, a < rows, each sum in order of a. */
+static void sweep(const double *restrict t, const double *restrict init, size_t np,
+                  size_t rows, const double *restrict x, double *restrict acc)
+{
+    for (size_t j = 0; j < np; j++)
+        acc[j] = init ? init[j] : 0.0;
+    for (size_t a = 0; a < rows; a++) {
+        const double *ta = t + a * np;
+        double xa = x[a];
+        for (size_t j = 0; j < np; j += 4) {
+            acc[j] += ta[j] * xa;
+            acc[j + 1] += ta[j + 1] * xa;
+            acc[j + 2] += ta[j + 2] * xa;
+            acc[j + 3] += ta[j + 3] * xa;
+        }
+    }
+}
+
+/* out[a] = Σ_g U[a·K + g]·s[g] for a < rank, each sum in order of g, four rows at once. */
+static void project(const double *restrict U, size_t rank, size_t K, const double *restrict s,
+                    double *restrict out)
+{
+    size_t a = 0;
+    for (; a + 4 <= rank; a += 4) {
+        const double *u0 = U + a * K, *u1 = u0 + K, *u2 = u1 + K, *u3 = u2 + K;
+        double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
+        for (size_t g = 0; g < K; g++) {
+            s0 += u0[g] * s[g];
+            s1 += u1[g] * s[g];
+            s2 += u2[g] * s[g];
+            s3 += u3[g] * s[g];
+        }
+        out[a] = s0;
+        out[a + 1] = s1;
+        out[a + 2] = s2;
+        out[a + 3] = s3;
+    }
+    for (; a < rank; a++) {
+        double u = 0.0;
+        for (size_t g = 0; g < K; g++)
+            u += U[a * K + g] * s[g];
+        out[a] = u;
+    }
+}
+
+size_t sturdy_bootcmp_work(const sturdy_result *r)
+{
+    size_t most = 0;
+    for (size_t ri = 0; ri < r->nresp; ri++)
+        if (r->resp[ri].cmp_wt && 2 * r->resp[ri].cmp_np > most)
+            most = 2 * r->resp[ri].cmp_np;
+    return most;
+}
+
 sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                                    sturdy_result *r, char *err)
 {
+    sturdy_status st;
     for (size_t ri = 0; ri < r->nresp; ri++) {
         sturdy_response_result *rr = &r->resp[ri];
         size_t cols = sturdy_bootcmp_cols(rr);
@@ -69,21 +159,8 @@ sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
         }
         if (cols == 0)
             continue;
-        if (het_family(rr)) {   /* each comparison's z = U·w, once, for het_replicate */
-            size_t K = m->K;
-            if (!(rr->cmp_z = sturdy_calloc(rr->ncomparisons * K + 1, sizeof *rr->cmp_z)))
-                return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
-            for (size_t i = 0; i < rr->ncomparisons; i++) {
-                const sturdy_comparison *c = &rr->comparisons[i];
-                double *z = rr->cmp_z + i * K;
-                for (size_t k = 0; c->w && k < K; k++) {
-                    double v = 0.0;
-                    for (size_t a = 0; a < m->rank; a++)
-                        v += m->U[a * K + k] * c->w[a];
-                    z[k] = v;
-                }
-            }
-        }
+        if ((st = pack(m, rr, err)))
+            return st;
         size_t cnt = (size_t)run->nboot * cols;
         if (!(rr->cmp_boot = sturdy_malloc(cnt * sizeof *rr->cmp_boot)))
             return sturdy_fail(err, STURDY_EINTERNAL,
@@ -117,23 +194,16 @@ static void het_replicate(const sturdy_design *d, const sturdy_model *m,
         V[k] = nk >= 2 ? (V[k] - A[k] * A[k] / nk) / (nk - 1.0) : 0.0;
         A[k] /= m->sqrt_count[k];          /* scaled sums, as sr */
     }
-    for (size_t a = 0; a < rank; a++) {
-        double u = 0.0;
-        for (size_t k = 0; k < K; k++)
-            u += m->U[a * K + k] * A[k];
-        work[a] = u;
-    }
+    project(m->U, rank, K, A, work);
+    double *est = V + K, *var = est + resp->cmp_np;
+    sweep(resp->cmp_wt, NULL, resp->cmp_np, rank, work, est);
+    sweep(resp->cmp_z2t, NULL, resp->cmp_np, K, V, var);
     for (size_t i = 0; i < resp->ncomparisons; i++) {
         const sturdy_comparison *c = &resp->comparisons[i];
         if (!c->w || !isfinite(c->t))
             continue;
-        double est = 0.0, var = 0.0;
-        const double *z = resp->cmp_z + i * K;
-        for (size_t a = 0; a < rank; a++)
-            est += c->w[a] * work[a];
-        for (size_t k = 0; k < K; k++)
-            var += z[k] * z[k] * V[k];
-        double t2 = var > 0 ? est * est / var : (est != 0 ? INFINITY : 0.0);
+        double e = est[i], v = var[i];
+        double t2 = v > 0 ? e * e / v : (e != 0 ? INFINITY : 0.0);
         sturdy_maxt_fold_lp(t2, c->df, &row[c->family]);
     }
 }
@@ -151,21 +221,17 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
     int het = het_family(resp);
     if (het)
         het_replicate(d, m, resp, seed, b, sign, work, row);
-    for (size_t a = 0; a < rank; a++) {
-        double u = 0.0;
-        for (size_t g = 0; g < K; g++)
-            u += m->U[a * K + g] * sr[g];
-        work[a] = u;
-    }
+    project(m->U, rank, K, sr, work);
+    /* every comparison's and mean's replicate estimate at once */
+    double *est = work + rank + 2 * K;
+    sweep(resp->cmp_wt, resp->cmp_init, resp->cmp_np, rank, work, est);
     double sigma = sqrt(sse / (double)m->df_error);
     for (size_t i = 0; i < resp->ncomparisons && !het; i++) {
         const sturdy_comparison *c = &resp->comparisons[i];
         if (!c->w || !isfinite(c->t_pooled))
             continue;
-        double est = 0.0;
-        for (size_t a = 0; a < rank; a++)
-            est += c->w[a] * work[a];
-        double t = sigma > 0 ? fabs(est) / (sigma * c->w_norm) : (est != 0 ? INFINITY : 0.0);
+        double e = est[i];
+        double t = sigma > 0 ? fabs(e) / (sigma * c->w_norm) : (e != 0 ? INFINITY : 0.0);
         if (t > row[c->family])
             row[c->family] = t;
     }
@@ -174,13 +240,7 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
             row[f] = NAN;
     for (size_t i = 0; i < resp->nmeans; i++) {
         const sturdy_mean_result *mr = &resp->means[i];
-        double v = NAN;
-        if (mr->w) {
-            v = mr->estimate;
-            for (size_t a = 0; a < rank; a++)
-                v += mr->w[a] * work[a];
-        }
-        row[resp->nfamilies + i] = v;
+        row[resp->nfamilies + i] = mr->w ? est[resp->ncomparisons + i] : NAN;
     }
 }
 

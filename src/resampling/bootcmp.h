@@ -19,11 +19,15 @@ static inline size_t sturdy_bootcmp_cols(const sturdy_response_result *resp)
 sturdy_status sturdy_bootcmp_alloc(const sturdy_run *run, const sturdy_model *m,
                                    sturdy_result *r, char *err);
 
+/* Doubles of a replicate's workspace beyond rank + 2K: the sums of its sweeps (after
+ * sturdy_bootcmp_alloc). */
+size_t sturdy_bootcmp_work(const sturdy_result *r);
+
 /* Fill row b of resp->cmp_boot from the replicate's resampled errors: their scaled group
  * sums sr (K) and residual SS sse. Families studentised by their own SE (Games–Howell
  * comparisons) use a wild resample of the response's residuals instead, with the signs
  * of sturdy_pcg_for(seed, STURDY_STREAM_WILD_TEST, b) into `sign` (n). `work` has room
- * for rank + 2K doubles. Called from the bootstrap's replicate loop (bootstrap.c);
+ * for rank + 2K + sturdy_bootcmp_work(r) doubles. Called from the bootstrap's replicate loop (bootstrap.c);
  * touches row b only. */
 void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
                               sturdy_response_result *resp, uint64_t seed, uint64_t b,

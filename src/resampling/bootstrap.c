@@ -497,7 +497,8 @@ sturdy_status sturdy_bootstrap_run(const sturdy_run *run, const sturdy_design *d
     {
         double *rs = sturdy_malloc(n * sizeof *rs), *sr = sturdy_malloc(K * sizeof *sr);
         double *s = sturdy_malloc(K * sizeof *s);
-        double *work = sturdy_malloc((2 * K + m->rank + 1) * sizeof *work);
+        double *work = sturdy_malloc((2 * K + m->rank + sturdy_bootcmp_work(r) + 1) *
+                                     sizeof *work);
         signed char *sign = sturdy_malloc(n);
         int ok = rs && sr && s && sign && work;
         if (!ok) {
