@@ -59,6 +59,10 @@ int sturdy_cmp_double(const void *a, const void *b);
  * equal values (−0 and +0) in their first order, by a stable radix sort. scratch holds n
  * doubles (unused below 48 values); nothing is allocated. */
 void sturdy_sort_doubles(double *x, size_t n, double *scratch);
+/* The quantile at level q of the n ≥ 1 values of x sorted ascending, with linear
+ * interpolation between order statistics at position (n − 1)·q (Hyndman & Fan 1996,
+ * definition 7): the bootstrap's percentile intervals. */
+double sturdy_quantile_sorted(const double *x, size_t n, double q);
 
 /* FNV-1a (Fowler, Noll & Vo), 64-bit, of a NUL-terminated text: the hash of the tables
  * that find duplicate column names (table.c) and a factor's distinct levels (levels.c). */

@@ -72,6 +72,15 @@ void sturdy_sort_doubles(double *x, size_t n, double *scratch)
         memcpy(x, from, n * sizeof *x);
 }
 
+double sturdy_quantile_sorted(const double *x, size_t n, double q)
+{
+    double pos = q * (double)(n - 1);
+    size_t lo = (size_t)floor(pos);
+    if (lo + 1 >= n)
+        return x[n - 1];
+    return x[lo] + (pos - (double)lo) * (x[lo + 1] - x[lo]);
+}
+
 double sturdy_mean(const double *x, size_t n)
 {
     double mean = 0.0;

@@ -244,18 +244,6 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
     }
 }
 
-/* Quantile with linear interpolation between order statistics, position (B−1)·q
- * (Hyndman & Fan 1996, definition 7), as the effect sizes' percentile intervals. */
-static double quantile_sorted(const double *x, size_t B, double q)
-{
-    double pos = q * (double)(B - 1);
-    size_t lo = (size_t)floor(pos);
-    if (lo + 1 >= B)
-        return x[B - 1];
-    double frac = pos - (double)lo;
-    return x[lo] + frac * (x[lo + 1] - x[lo]);
-}
-
 /* The finite values of column j of the replicate rows, sorted, into buf; their count. */
 static size_t column(const sturdy_result *r, const sturdy_response_result *rr, size_t j,
                      double *buf, double *scratch)
@@ -304,8 +292,8 @@ sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
         for (size_t i = 0; i < rr->nmeans; i++) {
             size_t k = column(r, rr, rr->nfamilies + i, buf, scratch);
             if (k >= 2) {
-                rr->means[i].ci_boot.lo = quantile_sorted(buf, k, 0.5 - 0.5 * conf);
-                rr->means[i].ci_boot.hi = quantile_sorted(buf, k, 0.5 + 0.5 * conf);
+                rr->means[i].ci_boot.lo = sturdy_quantile_sorted(buf, k, 0.5 - 0.5 * conf);
+                rr->means[i].ci_boot.hi = sturdy_quantile_sorted(buf, k, 0.5 + 0.5 * conf);
             }
         }
         int het_resp = het_family(rr);
@@ -313,7 +301,7 @@ sturdy_status sturdy_bootcmp_finish(sturdy_result *r, char *err)
             size_t k = column(r, rr, f, buf, scratch);
             if (k < 2)
                 continue;
-            double q = quantile_sorted(buf, k, conf);
+            double q = sturdy_quantile_sorted(buf, k, conf);
             for (size_t i = 0; i < rr->ncomparisons; i++) {
                 sturdy_comparison *c = &rr->comparisons[i];
                 if (c->family != f || !c->w)

@@ -521,17 +521,14 @@ done:
     return st;
 }
 
-/* Quantile with linear interpolation between order statistics, position (B−1)·q
- * (Hyndman & Fan 1996, definition 7; numpy's default, which scipy.stats.bootstrap uses). */
+/* Quantile with linear interpolation between order statistics of the sorted x
+ * (sturdy_quantile_sorted: Hyndman & Fan 1996, definition 7; numpy's default, which
+ * scipy.stats.bootstrap uses); NaN at a level outside [0, 1]. */
 static double quantile_sorted(const double *x, size_t B, double q)
 {
     if (B == 0 || !(q >= 0 && q <= 1))
         return NAN;
-    double h = (double)(B - 1) * q;
-    size_t lo = (size_t)floor(h);
-    if (lo >= B - 1)
-        return x[B - 1];
-    return x[lo] + (h - (double)lo) * (x[lo + 1] - x[lo]);
+    return sturdy_quantile_sorted(x, B, q);
 }
 
 sturdy_status sturdy_bootstrap_intervals(const sturdy_result *r, sturdy_term_result *t,
