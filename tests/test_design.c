@@ -6,8 +6,11 @@
  * the cells and groups (found by hashing the rows' level tuples, design.c): every row's
  * cell holds its own levels, the cells are in lexicographic level order, and the groups
  * (cell and block) are in lexicographic order of (cell, block) with every row in the one
- * of its own pair, on unbalanced designs with empty cells, with and without a block. */
+ * of its own pair, on unbalanced designs with empty cells, with and without a block.
+ * And the model's term bases built on several threads (model/build.h): the same model,
+ * bit for bit, as on one, for every SS type, with and without the block. */
 #include "check.h"
+#include "model/build.h"
 #include "sturdy/design.h"
 #include "sturdy/table.h"
 #include "sturdy/buf.h"
@@ -101,6 +104,48 @@ static int lex_less(const size_t *x, const size_t *y, size_t len)
     return 0;
 }
 
+/* a and b hold the same k doubles (both NULL when k is 0 or neither is kept) */
+static int same_doubles(const double *a, const double *b, size_t k)
+{
+    if (!a || !b)
+        return a == b;
+    return memcmp(a, b, k * sizeof *a) == 0;
+}
+
+static int same_text(const char *a, const char *b)
+{
+    return (!a && !b) || (a && b && !strcmp(a, b));
+}
+
+/* The model of d built on 1 and on 3 threads: every field and basis the same bits. */
+static void same_model_threads(const sturdy_design *d, int ss, int block)
+{
+    char err[STURDY_ERR_LEN] = "", line[200];
+    sturdy_model *one = NULL, *three = NULL;
+    int ok = !sturdy_model_build_on(d, ss, 1, &one, err) &&
+             !sturdy_model_build_on(d, ss, 3, &three, err);
+    size_t K = ok ? one->K : 0, differ = 0;
+    ok = ok && one->rank == three->rank && one->nterms == three->nterms &&
+         same_doubles(one->U, three->U, K * one->rank) &&
+         same_doubles(one->leverage, three->leverage, K);
+    for (size_t t = 0; ok && t < one->nterms; t++) {
+        const sturdy_term_basis *a = &one->terms[t], *b = &three->terms[t];
+        differ += !(a->df == b->df && a->testable == b->testable &&
+                    a->deficient == b->deficient && a->by_block == b->by_block &&
+                    a->rank_red == b->rank_red && a->complement == b->complement &&
+                    a->rank_comp == b->rank_comp && same_text(a->why_not, b->why_not) &&
+                    same_text(a->why_short, b->why_short) &&
+                    same_doubles(a->Uterm, b->Uterm, K * a->df) &&
+                    same_doubles(a->Ured, b->Ured, K * a->rank_red) &&
+                    same_doubles(a->Ucomp, b->Ucomp, K * a->rank_comp));
+    }
+    snprintf(line, sizeof line, "SS %d%s: the model on 3 threads is the model on 1, bit for "
+             "bit (%zu terms differ) %s", ss, block ? " with a block" : "", differ, err);
+    CHECK(line, ok && differ == 0);
+    sturdy_model_free(one);
+    sturdy_model_free(three);
+}
+
 static void cells_in_order(size_t n, int block, uint64_t seed)
 {
     char err[STURDY_ERR_LEN] = "", line[STURDY_ERR_LEN + 200];
@@ -130,6 +175,8 @@ static void cells_in_order(size_t n, int block, uint64_t seed)
     snprintf(line, sizeof line, "cells, %zu rows%s: the design builds (%s)", n,
              block ? " with a block" : "", err);
     CHECK(line, rc == STURDY_OK);
+    for (int ss = 1; ss <= 3 && !rc; ss++)
+        same_model_threads(d, ss, block);
     if (!rc) {
         size_t nf = d->nfactors, own = 0, ordered = 0, in_group = 0, groups_ordered = 0;
         for (size_t i = 0; i < d->n; i++)

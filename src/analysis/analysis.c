@@ -7,6 +7,7 @@
 
 #include "analysis/stages.h"
 #include "analysis/without.h"
+#include "model/build.h"
 #include "resampling/bootcmp.h"
 #include "checks/checks.h"
 #include "classical/classical.h"
@@ -287,7 +288,7 @@ static sturdy_status classical_stage(const sturdy_table *t, const sturdy_run *ru
         return sturdy_fail(err, STURDY_EUSAGE,
                            "the cells bootstrap needs a model without covariates (rows are "
                            "resampled within cells); use the residual or wild scheme");
-    if ((st = sturdy_model_build(d, o->ss_type, m, err)))
+    if ((st = sturdy_model_build_on(d, o->ss_type, run->threads, m, err)))
         return st;
     r->nresp = d->nresp;
     r->resp = sturdy_calloc(d->nresp, sizeof *r->resp);

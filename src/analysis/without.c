@@ -26,6 +26,7 @@
 #include "classical/classical.h"
 #include "core/core.h"
 #include "input/table_layout.h"
+#include "model/build.h"
 #include "resampling/resampling.h"
 
 /* Each term's search reads the fit and writes its own result only, so the threads change
@@ -129,9 +130,10 @@ static void retest_release(const sturdy_design *d, retest *rt)
 
 /* The data without the set's rows, built the plain way, and its classical table; notes
  * on the members' sensitivity whether they are tested. Writes only the members' results,
- * so the sets of a wave are prepared side by side. Sets rt->st (and rt->err). */
+ * so the sets of a wave are prepared side by side; the model's terms are built on
+ * `threads` threads (those the wave leaves to each set). Sets rt->st (and rt->err). */
 static void retest_prepare(const sturdy_table *t, const sturdy_run *run, sturdy_result *r,
-                           retest *rt)
+                           retest *rt, int threads)
 {
     const sturdy_design *d = r->design;
     size_t nt = d->nterms;
@@ -149,7 +151,7 @@ static void retest_prepare(const sturdy_table *t, const sturdy_run *run, sturdy_
     /* a design that fails or differs in shape is "no test"; out of memory is a failure */
     char msg[STURDY_ERR_LEN];
     sturdy_status bst = sturdy_design_build(&rt->tc, &run->opts.model, &w->design, msg);
-    if (!bst) bst = sturdy_model_build(w->design, run->opts.ss_type, &rt->m, msg);
+    if (!bst) bst = sturdy_model_build_on(w->design, run->opts.ss_type, threads, &rt->m, msg);
     if (bst == STURDY_EINTERNAL) {
         rt->st = sturdy_fail(err, bst, "%s", msg);
         return;
@@ -254,9 +256,10 @@ sturdy_status sturdy_without_run(const sturdy_table *t, const sturdy_run *run,
     size_t wave = run->threads > 1 ? (size_t)run->threads : 1;
     for (size_t w0 = 0; w0 < nsets && !st; w0 += wave) {
         size_t w1 = w0 + wave < nsets ? w0 + wave : nsets;
+        int inner = (int)(wave / (w1 - w0));   /* a short last wave: threads per set */
 #pragma omp parallel for schedule(dynamic, 1) num_threads((int)(w1 - w0))
         for (size_t i = w0; i < w1; i++)
-            retest_prepare(t, run, r, &sets[i]);
+            retest_prepare(t, run, r, &sets[i], inner);
         for (size_t i = w0; i < w1 && !st; i++)
             if ((st = sets[i].st))
                 sturdy_fail(err, st, "%s", sets[i].err);

@@ -7,6 +7,7 @@
 
 #include "core/core.h"
 #include "core/lapack.h"
+#include "model/build.h"
 #include "sturdy/fit.h"
 #include "sturdy/buf.h"
 
@@ -442,7 +443,60 @@ static sturdy_status check_budget(const sturdy_design *d, int ss_type, char *err
                        d->p, sturdy_format_bytes((double)limit, b));
 }
 
-static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
+/* Scratch of the term loop beyond this many bytes keeps it on one thread (each thread
+   holds its own K × p copy of the design) */
+#define BUILD_SCRATCH_MAX (256.0 * 1024 * 1024)
+
+/* Every term's bases (term_basis, keep_smaller), on up to `threads` threads: each term
+ * reads the full model and writes its own basis only, with its own scratch, so the
+ * threads change nothing but the time. The first failure in term order is the one
+ * reported. */
+static sturdy_status term_bases(const sturdy_design *d, sturdy_model *m, double *A,
+                                int threads, char *err)
+{
+    size_t nt = d->nterms, Kp = d->ngroups * d->p;
+    if (threads > (int)nt)
+        threads = (int)nt;
+    if (threads > 1 && (double)threads * (double)Kp * sizeof *A > BUILD_SCRATCH_MAX)
+        threads = 1;
+    if (threads <= 1) {
+        sturdy_status st = STURDY_OK;
+        for (size_t t = 0; t < nt && !st; t++)
+            if (!(st = term_basis(d, m, t, A, &m->terms[t], err)))
+                st = keep_smaller(d, m, t, A, &m->terms[t], err);
+        return st;
+    }
+    sturdy_status *sts = sturdy_calloc(nt, sizeof *sts);
+    char *msgs = sturdy_malloc(nt * STURDY_ERR_LEN);
+    if (!sts || !msgs) {
+        sturdy_free(sts);
+        sturdy_free(msgs);
+        return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
+    }
+#pragma omp parallel num_threads(threads)
+    {
+        double *own = sturdy_malloc((Kp ? Kp : 1) * sizeof *own);
+#pragma omp for schedule(dynamic, 1)
+        for (size_t t = 0; t < nt; t++) {
+            char *msg = msgs + t * STURDY_ERR_LEN;
+            msg[0] = '\0';
+            if (!own)
+                sts[t] = sturdy_fail(msg, STURDY_EINTERNAL, "out of memory");
+            else if (!(sts[t] = term_basis(d, m, t, own, &m->terms[t], msg)))
+                sts[t] = keep_smaller(d, m, t, own, &m->terms[t], msg);
+        }
+        sturdy_free(own);
+    }
+    sturdy_status st = STURDY_OK;
+    for (size_t t = 0; t < nt && !st; t++)
+        if ((st = sts[t]))
+            sturdy_fail(err, st, "%s", msgs + t * STURDY_ERR_LEN);
+    sturdy_free(sts);
+    sturdy_free(msgs);
+    return st;
+}
+
+static sturdy_status build(const sturdy_design *d, sturdy_model *m, int threads, char *err)
 {
     size_t K = d->ngroups, p = d->p;
     sturdy_status budget = check_budget(d, m->ss_type, err);
@@ -476,13 +530,10 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
             h += m->U[q * K + g] * m->U[q * K + g];
         m->leverage[g] = h / (double)d->group_count[g];
     }
-    for (size_t t = 0; t < d->nterms; t++)
-        if ((st = term_basis(d, m, t, A, &m->terms[t], err)) ||
-            (st = keep_smaller(d, m, t, A, &m->terms[t], err))) {
-            sturdy_free(A);
-            return st;
-        }
+    st = term_bases(d, m, A, threads, err);
     sturdy_free(A);
+    if (st)
+        return st;
     /* Type III with an inestimable term: the hypotheses of the terms it contains are
      * defined through the means of its empty cells, so they are not tested either. */
     if (m->ss_type == 3)
@@ -508,6 +559,12 @@ static sturdy_status build(const sturdy_design *d, sturdy_model *m, char *err)
 sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_model **out,
                                  char *err)
 {
+    return sturdy_model_build_on(d, ss_type, 1, out, err);
+}
+
+sturdy_status sturdy_model_build_on(const sturdy_design *d, int ss_type, int threads,
+                                    sturdy_model **out, char *err)
+{
     *out = NULL;
     if (ss_type < 1 || ss_type > 3)
         return sturdy_fail(err, STURDY_EUSAGE, "sums of squares type must be 1, 2 or 3");
@@ -515,7 +572,7 @@ sturdy_status sturdy_model_build(const sturdy_design *d, int ss_type, sturdy_mod
     if (!m)
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     m->ss_type = ss_type;
-    sturdy_status st = build(d, m, err);
+    sturdy_status st = build(d, m, threads, err);
     if (st) {
         sturdy_model_free(m);
         return st;
