@@ -473,9 +473,14 @@ static sturdy_status term_bases(const sturdy_design *d, sturdy_model *m, double 
         sturdy_free(msgs);
         return sturdy_fail(err, STURDY_EINTERNAL, "out of memory");
     }
+    int no_scratch = 0;    /* a thread without its scratch, whether or not it got a term */
 #pragma omp parallel num_threads(threads)
     {
         double *own = sturdy_malloc((Kp ? Kp : 1) * sizeof *own);
+        if (!own) {
+#pragma omp atomic write
+            no_scratch = 1;
+        }
 #pragma omp for schedule(dynamic, 1)
         for (size_t t = 0; t < nt; t++) {
             char *msg = msgs + t * STURDY_ERR_LEN;
@@ -487,7 +492,8 @@ static sturdy_status term_bases(const sturdy_design *d, sturdy_model *m, double 
         }
         sturdy_free(own);
     }
-    sturdy_status st = STURDY_OK;
+    sturdy_status st = no_scratch ? sturdy_fail(err, STURDY_EINTERNAL, "out of memory")
+                                  : STURDY_OK;
     for (size_t t = 0; t < nt && !st; t++)
         if ((st = sts[t]))
             sturdy_fail(err, st, "%s", msgs + t * STURDY_ERR_LEN);
