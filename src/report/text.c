@@ -5,7 +5,8 @@
  * of 19 to W_TERM_MAX characters widen the term column), prose wraps at the report width,
  * absent values print as "—" with the reason in a numbered footnote, and nothing
  * depends on the terminal except the optional colour. Shared drawing helpers live in
- * textfmt.c. */
+ * textfmt.c; the headline's agreement of the tests is in text_headline.c, the checks on
+ * the residuals in text_checks.c. */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -27,25 +28,6 @@ enum { W_TERM_MAX = 40 };
 enum { W_ES_TERM = 18, W_ES = 14 };
 /* Indent of the lines under a term row. */
 enum { DETAIL_INDENT = 6 };
-/* A no-break space: tw_para never breaks a line there (it prints as a plain space). */
-#define NBSP "\xc2\xa0"
-/* How many outliers and dropped rows are listed by row before "and N more". */
-enum { LIST_MAX = 8 };
-
-/* |skewness| above 1 is the usual rule of thumb for a highly skewed distribution
- * (Bulmer 1979, Principles of Statistics). */
-#define SKEW_STRONG 1.0
-/* Cells with fewer rows than this leave little to estimate spread or shape from. */
-#define SMALL_CELL 3
-
-/* "p = 0.0123" or "p < 0.0001". */
-static void p_words(sturdy_buf *b, double p)
-{
-    char q[32];
-    tw_fmt_p(p, q);
-    if (q[0] == '<') sturdy_buf_printf(b, "p < %s", q + 1);
-    else sturdy_buf_printf(b, "p = %s", q);
-}
 
 static void verdict_words(const sturdy_term_result *t, const char **words, int *disagree)
 {
@@ -102,241 +84,6 @@ static const char *verdict_reason_absent(const tw *w, const sturdy_term_result *
     if (isnan(t->p)) return t->note ? t->note : "the F-test could not be computed";
     if (isnan(t->p_perm)) return perm_reason(w, t);
     return t->verdict_reason ? t->verdict_reason : "not decided";
-}
-
-/* A term is named "cache", or "cache (build_min)" when there are several responses:
- * TERM_NAME_FMT with TERM_NAME_ARGS. */
-#define TERM_NAME_FMT "%s%s%s%s"
-#define TERM_NAME_ARGS(w, rr, t) (t)->label, (w)->r->nresp > 1 ? " (" : "", \
-    (w)->r->nresp > 1 && (rr)->name ? (rr)->name : "", (w)->r->nresp > 1 ? ")" : ""
-
-/* The unequal-variance p a term is judged by: the approximate-F p (Johansen 1980 for
- * factor-only models), the best calibrated of the unequal-variance tests in the README's
- * table; the resampled versions run liberal in cells of three rows. */
-static double uv_p(const sturdy_uv_result *u)
-{
-    return u->p;
-}
-
-/* When a response's cell spreads differ (diagnostics.spread_differs), the headline leads
- * with it and with the unequal-variance test's conclusions, since the F-test and every
- * rearrangement of F then miss their level (README, calibration table). */
-static void spread_headline(tw *w)
-{
-    const sturdy_result *r = w->r;
-    char a[32];
-    tw_fmt_g(r->opts.alpha, 3, a);
-    for (size_t i = 0; i < r->nresp; i++) {
-        const sturdy_response_result *rr = &r->resp[i];
-        if (!rr->diag.spread_differs) continue;
-        sturdy_buf s;
-        sturdy_buf_init(&s);
-        size_t tested = 0, sig = 0;
-        for (size_t k = 0; k < rr->nterms; k++) {
-            double p = uv_p(&rr->terms[k].uv);
-            if (isnan(p)) continue;
-            tested++;
-            if (p <= r->opts.alpha) sig++;
-        }
-        sturdy_buf_printf(&s, "The cell spreads of %s differ (%s). The F-test and its "
-                          "rearrangements can then reject far too often or too rarely, so "
-                          "read the unequal-variance test (p unequal var)",
-                          rr->name ? rr->name : "?",
-                          rr->diag.spread_reason ? rr->diag.spread_reason : "");
-        if (tested == 0) {
-            sturdy_buf_puts(&s, "; it could not be computed here (see the footnotes).");
-        } else {
-            sturdy_buf_printf(&s, ": %zu of %zu terms significant at α" NBSP "=" NBSP "%s",
-                              sig, tested, a);
-            size_t shown = 0;
-            for (size_t k = 0; k < rr->nterms; k++) {
-                const sturdy_term_result *t = &rr->terms[k];
-                double p = uv_p(&t->uv);
-                if (isnan(p) || p > r->opts.alpha) continue;
-                sturdy_buf_printf(&s, "%s%s (", shown++ ? ", " : " — ", t->label);
-                p_words(&s, p);
-                sturdy_buf_puts(&s, ")");
-            }
-            sturdy_buf_puts(&s, ".");
-        }
-        tw_para(w, 2, 2, s.data ? s.data : "");
-        if (s.failed) w->b->failed = 1;
-        sturdy_buf_free(&s);
-    }
-}
-
-/* Which of the three tests find a term at alpha, as "the F-test and resampling"; 0 tests:
- * NULL. `uv` < 0: the unequal-variance test is absent. */
-static const char *tests_finding(int f, int r, int uv)
-{
-    static const char *const names[8] = {
-        NULL, "the unequal-variance test", "resampling", "resampling and the unequal-variance test",
-        "the F-test", "the F-test and the unequal-variance test", "the F-test and resampling",
-        "all three tests"
-    };
-    return names[(f ? 4 : 0) | (r ? 2 : 0) | (uv > 0 ? 1 : 0)];
-}
-
-/* Does the F-test (*f) or the resampled F (*rs) find the term, as its verdict says? */
-static void verdict_finds(const sturdy_term_result *t, int *f, int *rs)
-{
-    *f = t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_CLASSICAL_ONLY;
-    *rs = t->verdict == STURDY_VERDICT_BOTH || t->verdict == STURDY_VERDICT_RESAMPLING_ONLY;
-}
-
-/* How many terms have a verdict (avail), reach the same conclusion with every test they
- * have (agree), of those are significant (both), and have an unequal-variance p. */
-typedef struct {
-    size_t avail, agree, both, with_uv;
-} agreement;
-
-static agreement count_agreement(const sturdy_result *r)
-{
-    agreement ag = { 0, 0, 0, 0 };
-    double alpha = r->opts.alpha;
-    for (size_t i = 0; i < r->nresp; i++)
-        for (size_t k = 0; k < r->resp[i].nterms; k++) {
-            const sturdy_term_result *t = &r->resp[i].terms[k];
-            if (t->verdict == STURDY_VERDICT_NONE) continue;
-            ag.avail++;
-            double pu = uv_p(&t->uv);
-            int f, rs;
-            verdict_finds(t, &f, &rs);
-            int same = f == rs && (isnan(pu) || (pu <= alpha) == f);
-            if (!isnan(pu)) ag.with_uv++;
-            ag.agree += same;
-            ag.both += same && f;
-        }
-    return ag;
-}
-
-/* One line per term on which the tests disagree: which find it, and the likely reason. */
-static void disagreement_lines(tw *w)
-{
-    const sturdy_result *r = w->r;
-    double alpha = r->opts.alpha;
-    for (size_t i = 0; i < r->nresp; i++)
-        for (size_t k = 0; k < r->resp[i].nterms; k++) {
-            const sturdy_term_result *t = &r->resp[i].terms[k];
-            if (t->verdict == STURDY_VERDICT_NONE) continue;
-            double pu = uv_p(&t->uv);
-            int f, rs;
-            verdict_finds(t, &f, &rs);
-            int u = isnan(pu) ? -1 : pu <= alpha;
-            if (f == rs && (u < 0 || u == f)) continue;
-            const char *why = f != rs && t->verdict_reason ? t->verdict_reason
-                              : r->resp[i].diag.spread_differs
-                                  ? "the cell spreads differ, and only the "
-                                    "unequal-variance test holds α then"
-                                  : "only the unequal-variance test allows for unequal "
-                                    "cell variances; the spread check does not flag "
-                                    "them here, though it misses many in small cells";
-            size_t wl = strlen(why);
-            const char *by = tests_finding(f, rs, u);
-            char pw[40] = "";
-            if (u >= 0) {
-                tw_fmt_p(pu, pw + 2);
-                memcpy(pw, "p ", 2);
-            }
-            tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": significant by %s%s%s%s%s%s%s%s",
-                     TERM_NAME_ARGS(w, &r->resp[i], t), by ? by : "none of the tests",
-                     by ? " only" : "", u >= 0 ? " (unequal-variance " : "", pw,
-                     u >= 0 ? ")" : "", wl ? " — " : "", why,
-                     wl && why[wl - 1] == '.' ? "" : ".");
-        }
-}
-
-/* The headline's main paragraph: how many terms the tests agree on (a: alpha as
- * printed), then each disagreement; or why there is nothing to compare. */
-static void agreement_lines(tw *w, const agreement *ag, const char *a)
-{
-    const sturdy_result *r = w->r;
-    char s[512];
-    const char *which = ag->with_uv ? "the F-test, resampling and the unequal-variance test"
-                                    : "the F-test and with resampling";
-    if (!r->finished) {
-        tw_para(w, 2, 2, "This file holds one shard of a split run. The p-values, intervals "
-                         "and verdicts appear once 'sturdy merge' has combined all shards.");
-    } else if (r->nperm == 0) {
-        const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
-        if (perm)
-            tw_paraf(w, 2, 2, "No resampling test was run (%s 0), so only the F-tests are "
-                     "shown. Rerun with %s 9999 to check them.", perm, perm);
-        else
-            tw_para(w, 2, 2, "No resampling test was run (no rearrangements were asked "
-                    "for), so only the F-tests are shown. Rerun with 9999 rearrangements to "
-                    "check them.");
-    } else if (ag->avail == 0) {
-        tw_para(w, 2, 2, "No term could be compared between the F-test and resampling; the "
-                         "footnotes below say why.");
-    } else if (ag->agree == ag->avail) {
-        snprintf(s, sizeof s, "All %zu tested terms reach the same conclusion with %s at "
-                 "α = %s (%zu significant by %s, %zu by none).", ag->avail, which, a,
-                 ag->both, ag->with_uv ? "all" : "both", ag->avail - ag->both);
-        tw_para(w, 2, 2, s);
-    } else {
-        snprintf(s, sizeof s, "%zu of %zu tested terms reach the same conclusion with %s at "
-                 "α = %s; %zu %s not:", ag->agree, ag->avail, which, a,
-                 ag->avail - ag->agree, ag->avail - ag->agree == 1 ? "does" : "do");
-        tw_para(w, 2, 2, s);
-        disagreement_lines(w);
-    }
-}
-
-/* One line per term whose resampled p is too close to alpha (a, as printed) to call,
- * unless it is listed among the disagreements already. */
-static void close_call_lines(tw *w, const char *a)
-{
-    const sturdy_result *r = w->r;
-    for (size_t i = 0; r->finished && !r->exact && i < r->nresp; i++)
-        for (size_t k = 0; k < r->resp[i].nterms; k++) {
-            const sturdy_term_result *t = &r->resp[i].terms[k];
-            /* a disagreeing term is listed above, and its reason covers the interval */
-            if (!t->straddles || isnan(t->p_perm) || t->verdict == STURDY_VERDICT_CLASSICAL_ONLY ||
-                t->verdict == STURDY_VERDICT_RESAMPLING_ONLY)
-                continue;
-            char p[32], lo[32], hi[32];
-            tw_fmt_p(t->p_perm, p);
-            tw_fmt_pr(t->p_perm_ci.lo, lo);
-            tw_fmt_pr(t->p_perm_ci.hi, hi);
-            const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
-            unsigned long long more = r->nperm >= UINT64_MAX / 10 - 10
-                                          ? r->nperm : (r->nperm + 1) * 10 - 1;
-            if (perm)
-                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": the resampled p, %s (99%% range "
-                         "%s–%s), is too close to α" NBSP "=" NBSP "%s to call; run more "
-                         "rearrangements (%s" NBSP "%llu).", TERM_NAME_ARGS(w, &r->resp[i], t),
-                         p, lo, hi, a, perm, more);
-            else
-                tw_paraf(w, 2, 4, "• " TERM_NAME_FMT ": the resampled p, %s (99%% range "
-                         "%s–%s), is too close to α" NBSP "=" NBSP "%s to call; run more "
-                         "rearrangements (%llu).", TERM_NAME_ARGS(w, &r->resp[i], t), p, lo,
-                         hi, a, more);
-        }
-}
-
-/* "In short": the design's warnings, then why nothing was tested, or the spread
- * warning, the agreement of the tests and the close calls. */
-static void headline(tw *w)
-{
-    const sturdy_result *r = w->r;
-    agreement ag = count_agreement(r);
-    char a[32];
-    tw_fmt_g(r->opts.alpha, 3, a);
-    tw_heading(w, "In short");
-    for (size_t i = 0; r->design && i < r->design->nwarnings; i++)
-        tw_paraf(w, 2, 4, "! %s.", r->design->warnings[i]);
-    if (tw_untested_cause(w)) {
-        tw_nl(w);
-        return;
-    }
-    tw_sensitivity_headline(w);
-    tw_resistant_headline(w);
-    if (r->finished) spread_headline(w);
-    agreement_lines(w, &ag, a);
-    tw_family_line(w, a);
-    close_call_lines(w, a);
-    tw_nl(w);
 }
 
 /* One row of the tests table; `label` NULL leaves the term cell blank. */
@@ -396,15 +143,15 @@ static void uv_details(tw *w, const sturdy_term_result *t)
     tw_fmt_g(u->df2, 3, c);
     sturdy_buf_printf(&s, "unequal var: Welch–James F %s on %s and %s df (%s), ", a, b, c,
                       u->johansen ? "Johansen" : "residual df");
-    p_words(&s, u->p);
+    tw_p_words(&s, u->p);
     if (!isnan(u->ats_p)) {
         sturdy_buf_puts(&s, "; ANOVA-type ");
-        p_words(&s, u->ats_p);
+        tw_p_words(&s, u->ats_p);
     }
     if (!isnan(u->p_perm)) {
         sturdy_buf_printf(&s, "; %s ", w->r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION
                                            ? "permuted" : "wild-bootstrap");
-        p_words(&s, u->p_perm);
+        tw_p_words(&s, u->p_perm);
         if (!(w->r->exact && w->r->opts.spread_scheme == STURDY_SPREAD_PERMUTATION)) {
             tw_fmt_range(u->p_perm_ci, tw_fmt_pr, x);
             sturdy_buf_printf(&s, " (99%% range %s)", x);
@@ -749,174 +496,6 @@ static void cells_table(tw *w, const sturdy_response_result *rr)
     tw_nl(w);
 }
 
-/* "row 7 (line 8; A=a1, B=b2) externally studentized residual 110" for each listed row. */
-static void outlier_rows(tw *w, const sturdy_outlier *o, size_t n, sturdy_buf *s)
-{
-    for (size_t i = 0; i < n && i < LIST_MAX; i++) {
-        char z[32];
-        tw_fmt_g(o[i].studentized, 3, z);
-        sturdy_buf_printf(s, "%srow %zu (line %zu; ", i ? "; " : "", o[i].row, o[i].line);
-        sturdy_report_cell_label(w->r->design, o[i].cell, s);
-        sturdy_buf_printf(s, ") externally studentized residual %s", z);
-    }
-    if (n > LIST_MAX)
-        sturdy_buf_printf(s, "; and %zu more (see the JSON output)", n - LIST_MAX);
-}
-
-/* The outlier test's flags (Bonferroni-bounded, residuals.c) with the rule stated, then
- * the other rows beyond ±3 as the largest residuals only. */
-static void check_outliers(tw *w, const sturdy_response_result *rr)
-{
-    const sturdy_diagnostics *g = &rr->diag;
-    sturdy_buf s;
-    sturdy_buf_init(&s);
-    char df[32];
-    tw_fmt_df(rr->df_error - 1, df);
-    size_t n = w->r->design ? w->r->design->n : 0;
-    /* externally studentized residuals need a residual df beyond the one they drop */
-    if (g->noutliers == 0 && !(rr->df_error >= 2)) {
-        sturdy_buf_printf(&s, "check not available (%s): studentized residuals need at "
-                          "least 2 residual degrees of freedom.",
-                          rr->df_error == 0 ? "no residual degrees of freedom"
-                                            : "1 residual degree of freedom");
-    } else {
-        if (g->noutliers == 0) {
-            sturdy_buf_puts(&s, "no row flagged");
-        } else {
-            sturdy_buf_printf(&s, "%zu row%s flagged: ", g->noutliers,
-                              g->noutliers == 1 ? "" : "s");
-            outlier_rows(w, g->outliers, g->noutliers, &s);
-        }
-        sturdy_buf_printf(&s, " (rule: a row is flagged when %zu × its two-sided t-tail on "
-                          "%s df, the Bonferroni bound, is at most 0.05; Cook & Weisberg "
-                          "1982).", n, df);
-        if (g->noutliers)
-            sturdy_buf_printf(&s, " → Check %s for recording errors. The resampled p does "
-                              "not protect against such a row: it rearranges the same F.",
-                              g->noutliers == 1 ? "this row" : "these rows");
-        if (g->nlarge) {
-            sturdy_buf_puts(&s, " Largest residuals, beyond ±3 but not flagged (expected "
-                                "now and then in clean data): ");
-            outlier_rows(w, g->large, g->nlarge, &s);
-            sturdy_buf_puts(&s, ".");
-        }
-    }
-    tw_labelled(w, "outliers", s.data ? s.data : "");
-    if (s.failed) w->b->failed = 1;
-    sturdy_buf_free(&s);
-}
-
-static void check_normality(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
-{
-    char x[32];
-    s->len = 0;
-    if (!isnan(g->sw_p)) {
-        tw_fmt_g(g->sw_w, 3, x);
-        sturdy_buf_printf(s, "Shapiro–Wilk W = %s, ", x);
-        p_words(s, g->sw_p);
-    } else {
-        sturdy_buf_printf(s, "Shapiro–Wilk not available (%s)",
-                          g->sw_note ? g->sw_note : "not computed");
-    }
-    tw_fmt_g(tw_is_noise(g->skewness, 1.0) ? 0.0 : g->skewness, 3, x);
-    sturdy_buf_printf(s, "; skewness %s%s", x,
-                      !(fabs(g->skewness) > SKEW_STRONG) ? ""
-                      : g->skewness > 0 ? " (strongly right-skewed)" : " (strongly left-skewed)");
-    tw_fmt_g(tw_is_noise(g->excess_kurtosis, 1.0) ? 0.0 : g->excess_kurtosis, 3, x);
-    sturdy_buf_printf(s, ", excess kurtosis %s.", x);
-    /* Freedman–Lane keeps its level under non-normal errors of equal spread; with unequal
-     * spreads no rearrangement of F does, and a gross error sways F and its
-     * rearrangements alike, so the advice follows the spread and outlier checks. */
-    if (!isnan(g->sw_p))
-        sturdy_buf_puts(s, !(g->sw_p < w->r->opts.alpha)
-                               ? " → No clear sign of non-normal residuals."
-                           : g->spread_differs
-                               ? " → The residuals are not normal and the cell spreads differ; "
-                                 "read the unequal-variance column."
-                           : g->noutliers && g->sw_p_rest < w->r->opts.alpha
-                               ? " → The residuals are not normal, even without the rows the "
-                                 "outlier test flags: the errors themselves are skewed or "
-                                 "heavy-tailed; rely on the resampling column, which keeps its "
-                                 "level under such errors of equal spread, and check the "
-                                 "flagged rows (below) all the same."
-                           : g->noutliers
-                               ? " → The residuals are not normal and the outlier test flags "
-                                 "rows (below); a gross error sways the resampled F as much as "
-                                 "the F-test, so check those rows before relying on either "
-                                 "column."
-                               : " → The residuals are not normal; rely on the resampling "
-                                 "column, which keeps its level under non-normal errors of "
-                                 "equal spread.");
-    tw_labelled(w, "normality", s->data);
-}
-
-static void check_spread(tw *w, const sturdy_diagnostics *g, sturdy_buf *s)
-{
-    char x[32], y[32], z[32];
-    s->len = 0;
-    if (!isnan(g->bf_p)) {
-        tw_fmt_g(g->bf_f, 3, x);
-        tw_fmt_df(g->bf_df1, y);
-        tw_fmt_df(g->bf_df2, z);
-        sturdy_buf_printf(s, "Brown–Forsythe F = %s on %s and %s df, ", x, y, z);
-        p_words(s, g->bf_p);
-    } else {
-        sturdy_buf_printf(s, "Brown–Forsythe not available (%s)",
-                          g->bf_note ? g->bf_note : "not computed");
-    }
-    if (!isnan(g->bfm_p)) {
-        sturdy_buf_puts(s, "; without structural zeros (Hines & O'Hara Hines 2000) ");
-        p_words(s, g->bfm_p);
-    }
-    if (!isnan(g->variance_ratio)) {
-        tw_fmt_g(g->variance_ratio, 3, x);
-        sturdy_buf_printf(s, "; the largest cell variance is %s × the smallest.", x);
-    } else {
-        sturdy_buf_printf(s, "; variance ratio not available (%s).",
-                          g->vr_note ? g->vr_note : "not computed");
-    }
-    /* Sign flipping does not hold α in small cells of unequal spread (README), so the
-     * advice is the unequal-variance column, never --flip. */
-    if (g->spread_differs)
-        sturdy_buf_puts(s, " → Cell variances differ; read the unequal-variance column (p "
-                           "unequal var), not the F-test or the resampled F.");
-    else if (!isnan(g->bf_p))
-        sturdy_buf_puts(s, " → No clear sign of unequal variances (small cells make this "
-                           "check weak; the unequal-variance column holds its level either "
-                           "way).");
-    tw_labelled(w, "equal spread", s->data);
-}
-
-static void checks(tw *w, const sturdy_response_result *rr)
-{
-    const sturdy_result *r = w->r;
-    sturdy_buf s;
-    sturdy_buf_init(&s);
-    tw_para(w, 2, 2, "Checks on the residuals");
-    check_normality(w, &rr->diag, &s);
-    check_spread(w, &rr->diag, &s);
-    check_outliers(w, rr);
-    tw_sensitivity_check(w, rr);
-    /* precision of the resampled p-values */
-    s.len = 0;
-    for (size_t k = 0; r->finished && !r->exact && k < rr->nterms; k++)
-        if (rr->terms[k].straddles && !isnan(rr->terms[k].p_perm))
-            sturdy_buf_printf(&s, "%s%s", s.len ? ", " : "", rr->terms[k].label);
-    const char *perm = tw_name(w, STURDY_SETTING_PERMUTATIONS);
-    if (s.len)
-        tw_labelledf(w, "precision", "the 99%% range of the resampled p of %s contains α. → "
-                     "Run more rearrangements%s%s%s before deciding.", s.data,
-                     perm ? " (" : "", perm ? perm : "", perm ? ")" : "");
-    const sturdy_design *d = r->design;
-    if (d && d->min_cell < SMALL_CELL)
-        tw_labelledf(w, "cell sizes", "the smallest cell has %zu row%s. → Such small cells "
-                     "make every test fragile; add runs there if you can.", d->min_cell,
-                     d->min_cell == 1 ? "" : "s");
-    if (s.failed) w->b->failed = 1;
-    sturdy_buf_free(&s);
-    tw_nl(w);
-}
-
 /* Is the note one of the warnings about levels shown under the headline? */
 static int is_level_warning(const sturdy_design *d, const char *note)
 {
@@ -936,11 +515,11 @@ static void notes(tw *w)
     if (d && d->ndropped) {
         tw_paraf(w, 2, 4, "• %zu row%s left out of the analysis:", d->ndropped,
                  d->ndropped == 1 ? " was" : "s were");
-        for (size_t i = 0; i < d->ndropped && i < LIST_MAX; i++)
+        for (size_t i = 0; i < d->ndropped && i < TW_LIST_MAX; i++)
             tw_paraf(w, 4, 6, "row %zu (line %zu): %s", d->dropped[i].row + 1,
                      d->dropped[i].line, d->dropped[i].reason ? d->dropped[i].reason : "?");
-        if (d->ndropped > LIST_MAX)
-            tw_paraf(w, 4, 6, "and %zu more (see the JSON output)", d->ndropped - LIST_MAX);
+        if (d->ndropped > TW_LIST_MAX)
+            tw_paraf(w, 4, 6, "and %zu more (see the JSON output)", d->ndropped - TW_LIST_MAX);
     }
     for (size_t i = 0; i < r->nnotes; i++)
         if (!is_level_warning(d, r->notes[i]))
@@ -961,7 +540,7 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
     tw_style(&w, "0");
     tw_nl(&w);
     tw_nl(&w);
-    headline(&w);
+    tw_headline(&w);
     tw_run_section(&w);
     for (size_t i = 0; i < r->nresp; i++) {
         const sturdy_response_result *rr = &r->resp[i];
@@ -975,7 +554,7 @@ sturdy_status sturdy_report_text(const sturdy_result *r, const sturdy_report_opt
         effects_table(&w, rr);
         tw_compare_section(&w, rr);
         cells_table(&w, rr);
-        checks(&w, rr);
+        tw_checks(&w, rr);
     }
     notes(&w);
     return out->failed ? STURDY_EINTERNAL : STURDY_OK;

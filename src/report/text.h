@@ -1,4 +1,5 @@
-/* text.h — drawing helpers of the text report (private to text.c, textfmt.c and run.c). */
+/* text.h — drawing helpers of the text report (private to text.c, its text_*.c parts,
+ * textfmt.c and run.c). */
 #ifndef STURDY_REPORT_TEXT_H
 #define STURDY_REPORT_TEXT_H
 
@@ -26,6 +27,19 @@ typedef struct {
     char no_perm[96], no_boot[96], json_more[96]; /* reasons that name a setting */
     int explained_zero;        /* the "significant, yet the interval reaches 0" line is out */
 } tw;
+
+/* A no-break space: tw_para never breaks a line there (it prints as a plain space). */
+#define NBSP "\xc2\xa0"
+/* How many outliers and dropped rows are listed by row before "and N more". */
+#define TW_LIST_MAX 8
+
+/* The unequal-variance p a term is judged by: the approximate-F p (Johansen 1980 for
+ * factor-only models), the best calibrated of the unequal-variance tests in the README's
+ * table; the resampled versions run liberal in cells of three rows. */
+static inline double tw_uv_p(const sturdy_uv_result *u)
+{
+    return u->p;
+}
 
 /* The caller's name of setting k, or NULL (the report then says it in words). */
 const char *tw_name(const tw *w, sturdy_setting k);
@@ -81,6 +95,10 @@ void tw_resistant_headline(tw *w);
 void tw_family_line(tw *w, const char *alpha);
 /* run.c: the section "The run". */
 void tw_run_section(tw *w);
+/* text_headline.c: the headline, "In short". */
+void tw_headline(tw *w);
+/* text_checks.c: a response's checks on the residuals. */
+void tw_checks(tw *w, const sturdy_response_result *rr);
 
 /* Number formats; each writes "—" for NaN into `out` (≥ 32 bytes; TW_RANGE_LEN for a
  * range "lo–hi"). */
@@ -89,6 +107,8 @@ void tw_fmt_g(double v, int prec, char *out);
 void tw_fmt_num(double v, char *out);    /* SS, MS, F: 4 significant digits, no exponent
                                             below 1e9 */
 void tw_fmt_p(double v, char *out);      /* p-values: "<0.0001", "0.00034", "0.0123" */
+/* "p = 0.0123" or "p < 0.0001" appended to b. */
+void tw_p_words(sturdy_buf *b, double p);
 void tw_fmt_pr(double v, char *out);     /* a bound of a p-value range: as p, but 0 as
                                             "0" and tiny values as "2.5e-05" */
 void tw_fmt_es(double v, char *out);     /* interval bounds: 2 significant digits */

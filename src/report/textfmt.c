@@ -269,6 +269,15 @@ void tw_fmt_p(double v, char *out)
     else snprintf(out, 32, v < P_SMALL ? "%.2g" : "%.3g", v);
 }
 
+/* "p = 0.0123" or "p < 0.0001". */
+void tw_p_words(sturdy_buf *b, double p)
+{
+    char q[32];
+    tw_fmt_p(p, q);
+    if (q[0] == '<') sturdy_buf_printf(b, "p < %s", q + 1);
+    else sturdy_buf_printf(b, "p = %s", q);
+}
+
 void tw_fmt_pr(double v, char *out)
 {
     if (v == 0) strcpy(out, "0");
