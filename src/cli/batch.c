@@ -5,7 +5,8 @@
  * Everything that reaches the summary is read back from the result's JSON, for computed
  * and resumed analyses alike, so that an interrupted and resumed batch writes the same
  * summary bytes as an uninterrupted one. Reading results back (resume, --compare) and
- * writing the summary live in batch_results.c. */
+ * writing the summary live in batch_results.c; reading and checking the plan in
+ * batch_plan.c. */
 #include <errno.h>
 #include <getopt.h>
 #include <stdarg.h>
@@ -17,14 +18,10 @@
 #include <time.h>
 #include <unistd.h>
 
-#include "cli.h"
+#include "batch.h"
 
 /* Exit status when some analyses failed and the others completed (DESIGN.md). */
 #define BATCH_EXIT_SOME_FAILED 6
-/* Longest analysis name: NAME.json.tmp.XXXXXX must stay under the usual 255-byte limit
- * of a file name. */
-#define BATCH_NAME_MAX 200
-
 static const char batch_help[] =
 "Usage: sturdy batch PLAN.csv [-o DIR] [--resume] [--compare OLD_DIR] [--threads N]\n"
 "                    [--quiet]\n"
@@ -80,29 +77,6 @@ static const char batch_help[] =
 "summary could not be written, or DIR is in use by another batch, 6 some analyses\n"
 "failed and the others completed.\n";
 
-static const char *const required_cols[] = { "name", "data", "response", "factors" };
-enum { COL_NAME, COL_DATA, COL_RESPONSE, COL_FACTORS, NREQUIRED };
-/* Other plan columns are `check` long options, named as on the command line: the full
- * name or a prefix of exactly one (cli_option_lookup, the table getopt_long reads). These
- * belong to the batch as a whole, or to CSV output, which a batch does not write. */
-static const char *const batch_cols[] = { "threads", "shard", "format", "output", "quiet",
-                                           "help", "version", "ascii-terms", "csv-bom" };
-#define NBATCH_COLS (sizeof batch_cols / sizeof *batch_cols)
-/* Room for the plan column of each `check` option (more than the table holds). */
-#define MAX_CHECK_OPTIONS 64
-
-typedef struct {
-    const char *plan_path, *dir, *old_dir, *threads;
-    int resume, quiet, lead;     /* lead: this process writes and talks (MPI rank 0) */
-    int lock_fd;                 /* the folder's lock, held until the batch ends, or -1 */
-    char *plan_dir;              /* folder of the plan, or NULL when it has no '/' */
-    sturdy_cache *cache;         /* tables every row's analysis shares (NULL: each its
-                                    own), the same bits either way */
-    sturdy_table *plan;
-    long req[NREQUIRED];         /* plan columns of the required fields */
-    long opt[MAX_CHECK_OPTIONS]; /* plan column of each cli_check_options entry, or -1 */
-} batch;
-
 static char *str_printf(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 static char *str_printf(const char *fmt, ...)
 {
@@ -150,132 +124,6 @@ static void capture_end(capture *cp, char *msg, size_t len)
     fclose(cp->tmp);
 }
 
-/* --- the plan -------------------------------------------------------------------- */
-
-static int plan_error(const batch *b, size_t line, long col, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static int plan_error(const batch *b, size_t line, long col, const char *fmt, ...)
-{
-    char what[STURDY_ERR_LEN];
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(what, sizeof what, fmt, ap);
-    va_end(ap);
-    /* the plan's fields and headers are data: escaped before they reach the terminal */
-    char *sp = cli_escaped(b->plan_path), *sw = cli_escaped(what);
-    char *sc = col >= 0 ? cli_escaped(sturdy_table_column(b->plan, (size_t)col)) : NULL;
-    fprintf(stderr, "sturdy: %s: line %zu", sp ? sp : "?", line);
-    if (col >= 0) fprintf(stderr, ", column %ld ('%s')", col + 1, sc ? sc : "?");
-    fprintf(stderr, ": %s\nnothing was run\n", sw ? sw : "out of memory");
-    free(sp);
-    free(sw);
-    free(sc);
-    return STURDY_EDATA;
-}
-
-/* File line of the header: the loader skips blank lines (and a byte-order mark). */
-static size_t header_line(const char *path)
-{
-    FILE *f = fopen(path, "rb");
-    size_t line = 1;
-    unsigned char bom[3];
-    int ch, prev = 0;
-    if (!f) return line;
-    if (fread(bom, 1, 3, f) != 3 || bom[0] != 0xEF || bom[1] != 0xBB || bom[2] != 0xBF)
-        rewind(f);
-    /* LF, CRLF and a lone CR each end a line, as the loader counts them */
-    for (; (ch = getc(f)) != EOF && (ch == '\n' || ch == ' ' || ch == '\t' || ch == '\r');
-         prev = ch)
-        line += ch == '\r' || (ch == '\n' && prev != '\r');
-    fclose(f);
-    return line;
-}
-
-static int name_is_safe(const char *s)
-{
-    if (!*s || *s == '.' || strlen(s) > BATCH_NAME_MAX) return 0;
-    for (; *s; s++)
-        if (!((*s >= 'a' && *s <= 'z') || (*s >= 'A' && *s <= 'Z') || (*s >= '0' && *s <= '9') ||
-              *s == '.' || *s == '_' || *s == '-'))
-            return 0;
-    return 1;
-}
-
-static const char *cell(const batch *b, long col, size_t row)
-{
-    return col < 0 ? "" : sturdy_table_field(b->plan, row, (size_t)col);
-}
-
-/* Load and check the plan; returns 0 or an exit status after the message. */
-static int plan_load(batch *b)
-{
-    char err[STURDY_ERR_LEN] = "";
-    static const char *const nothing_missing[1] = { NULL };
-    sturdy_table_opts to;
-    sturdy_table_opts_init(&to);
-    to.missing = nothing_missing;   /* every field as written; empty = not given */
-    to.nmissing = 0;
-    if (sturdy_table_load(b->plan_path, &to, &b->plan, err)) {
-        char *safe = cli_escaped(err);
-        fprintf(stderr, "sturdy: %s\nnothing was run\n", safe ? safe : "out of memory");
-        free(safe);
-        return STURDY_EDATA;
-    }
-    const sturdy_table *t = b->plan;
-    size_t hline = header_line(b->plan_path);
-    for (size_t k = 0; k < NREQUIRED; k++) b->req[k] = -1;
-    for (size_t k = 0; k < MAX_CHECK_OPTIONS; k++) b->opt[k] = -1;
-    for (size_t j = 0; j < sturdy_table_ncols(t); j++) {
-        const char *h = sturdy_table_column(t, j);
-        long *slot = NULL;
-        int k = -1;
-        if (!strcmp(h, "name")) slot = &b->req[COL_NAME];
-        else if (!strcmp(h, "data")) slot = &b->req[COL_DATA];
-        else if ((k = cli_option_lookup(h, NULL)) == -2) {
-            char opts[256] = "";
-            for (int i = 0; cli_check_options[i].name; i++)
-                if (!strncmp(cli_check_options[i].name, h, strlen(h)) &&
-                    strlen(opts) + strlen(cli_check_options[i].name) + 3 < sizeof opts)
-                    snprintf(opts + strlen(opts), sizeof opts - strlen(opts), "%s%s",
-                             opts[0] ? ", " : "", cli_check_options[i].name);
-            return plan_error(b, hline, (long)j, "'%s' is the start of several option names "
-                              "(%s); spell it out", h, opts);
-        } else if (k < 0 || k >= MAX_CHECK_OPTIONS) {
-            return plan_error(b, hline, (long)j, "unknown column (see 'sturdy batch --help' "
-                              "for the plan columns)");
-        } else {
-            const char *full = cli_check_options[k].name;
-            for (size_t i = 0; i < NBATCH_COLS; i++)
-                if (!strcmp(full, batch_cols[i]))
-                    return plan_error(b, hline, (long)j, "'%s' is an option of the whole "
-                                      "batch and cannot be set per analysis", full);
-            slot = !strcmp(full, "response") ? &b->req[COL_RESPONSE]
-                   : !strcmp(full, "factors") ? &b->req[COL_FACTORS] : &b->opt[k];
-        }
-        if (*slot >= 0)
-            return plan_error(b, hline, (long)j, "this column and column %ld ('%s') set the "
-                              "same thing", *slot + 1, sturdy_table_column(t, (size_t)*slot));
-        *slot = (long)j;
-    }
-    for (size_t k = 0; k < NREQUIRED; k++)
-        if (b->req[k] < 0)
-            return plan_error(b, hline, -1, "the required column '%s' is missing",
-                              required_cols[k]);
-    for (size_t i = 0; i < sturdy_table_nrows(t); i++) {
-        const char *name = cell(b, b->req[COL_NAME], i);
-        if (!name_is_safe(name))
-            return plan_error(b, sturdy_table_line(t, i), b->req[COL_NAME], "'%s' is not a "
-                              "safe name: use letters, digits, '.', '_' and '-', not a leading "
-                              "'.', at most %d characters", name, BATCH_NAME_MAX);
-        for (size_t k = 0; k < i; k++)
-            if (!strcmp(cell(b, b->req[COL_NAME], k), name))
-                return plan_error(b, sturdy_table_line(t, i), b->req[COL_NAME], "the name "
-                                  "'%s' is already used on line %zu", name,
-                                  sturdy_table_line(t, k));
-    }
-    return 0;
-}
-
 /* --- one analysis ---------------------------------------------------------------- */
 
 typedef struct { char **v; int n; int failed; } argvec;
@@ -320,21 +168,21 @@ static void push_list(argvec *a, const char *s)
 static int row_argv(const batch *b, size_t row, argvec *a, char *msg, size_t len)
 {
     for (size_t k = COL_DATA; k < NREQUIRED; k++)
-        if (!*cell(b, b->req[k], row)) {
-            snprintf(msg, len, "the '%s' field is empty", required_cols[k]);
+        if (!*batch_cell(b, b->req[k], row)) {
+            snprintf(msg, len, "the '%s' field is empty", batch_required_col(k));
             return CLI_EXIT_USAGE;
         }
-    if (!strcmp(cell(b, b->req[COL_DATA], row), "-")) {
+    if (!strcmp(batch_cell(b, b->req[COL_DATA], row), "-")) {
         snprintf(msg, len, "a plan cannot read standard input ('-'); name the data file");
         return CLI_EXIT_USAGE;
     }
     arg_push(a, "check");
     arg_push(a, "--response");
-    push_list(a, cell(b, b->req[COL_RESPONSE], row));
+    push_list(a, batch_cell(b, b->req[COL_RESPONSE], row));
     arg_push(a, "--factors");
-    push_list(a, cell(b, b->req[COL_FACTORS], row));
+    push_list(a, batch_cell(b, b->req[COL_FACTORS], row));
     for (int k = 0; k < MAX_CHECK_OPTIONS && cli_check_options[k].name; k++) {
-        const char *v = cell(b, b->opt[k], row), *full = cli_check_options[k].name;
+        const char *v = batch_cell(b, b->opt[k], row), *full = cli_check_options[k].name;
         if (!*v) continue;
         char opt[64];
         snprintf(opt, sizeof opt, "--%s", full);
@@ -356,7 +204,7 @@ static int row_argv(const batch *b, size_t row, argvec *a, char *msg, size_t len
     arg_push(a, "json");
     arg_push(a, "--quiet");
     arg_push(a, "--");           /* the data file is never read as an option */
-    arg_push(a, cell(b, b->req[COL_DATA], row));
+    arg_push(a, batch_cell(b, b->req[COL_DATA], row));
     if (a->failed) {
         snprintf(msg, len, "out of memory");
         return STURDY_EINTERNAL;
@@ -550,7 +398,7 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
 static void run_row(const batch *b, size_t i, cli_batch_data *held, totals *tot,
                     cli_batch_outcome *oc)
 {
-    const char *name = cell(b, b->req[COL_NAME], i), *data = cell(b, b->req[COL_DATA], i);
+    const char *name = batch_cell(b, b->req[COL_NAME], i), *data = batch_cell(b, b->req[COL_DATA], i);
     char msg[STURDY_ERR_LEN] = "";
     argvec a = { 0 };
     cli_check c;
@@ -621,14 +469,14 @@ static void remove_stale(const batch *b)
     const char **names = calloc(n + 1, sizeof *names);
     if (!names) return;          /* nothing removed: they are harmless, and a later run
                                     removes them */
-    for (size_t i = 0; i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
+    for (size_t i = 0; i < n; i++) names[i] = batch_cell(b, b->req[COL_NAME], i);
     cli_batch_remove_stale(b->dir, names, n, b->quiet);
     free(names);
 }
 
 static int run_batch(batch *b)
 {
-    int rc = plan_load(b);
+    int rc = batch_plan_load(b);
     if (rc) return rc;
     const char *slash = strrchr(b->plan_path, '/');
     if (slash && !(b->plan_dir = strndup(b->plan_path, slash == b->plan_path ? 1
@@ -653,7 +501,7 @@ static int run_batch(batch *b)
     sturdy_cache_free(b->cache);
     b->cache = NULL;
     const char **names = calloc(n + 1, sizeof *names);
-    for (size_t i = 0; names && i < n; i++) names[i] = cell(b, b->req[COL_NAME], i);
+    for (size_t i = 0; names && i < n; i++) names[i] = batch_cell(b, b->req[COL_NAME], i);
     int wrote = !names ? STURDY_EINTERNAL
                 : b->lead ? cli_batch_write_summary(b->plan_path, b->dir, b->old_dir, names,
                                                     oc, n)
