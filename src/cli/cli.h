@@ -7,6 +7,7 @@
 #include <getopt.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 
 #include "sturdy/sturdy.h"
 
@@ -72,6 +73,8 @@ int cli_option_lookup(const char *name, int *has_arg);
  * help or the version, or CLI_EXIT_USAGE after printing the problem. Free with
  * cli_check_free in every case. */
 int cli_check_parse(int argc, char **argv, int demo, cli_check *c);
+/* The help of check (demo: of demo), as --help prints it (check_help.c). */
+void cli_check_help(FILE *out, int demo);
 void cli_check_free(cli_check *c);
 
 /* Load and analyse (under MPI: this rank's slice, combined on rank 0). Returns 0 and
