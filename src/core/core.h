@@ -63,6 +63,11 @@ void sturdy_sort_doubles(double *x, size_t n, double *scratch);
  * interpolation between order statistics at position (n − 1)·q (Hyndman & Fan 1996,
  * definition 7): the bootstrap's percentile intervals. */
 double sturdy_quantile_sorted(const double *x, size_t n, double q);
+/* coef[q] = Σ_g U[q·K + g]·s[g] for the r rows of U (K each), each sum in order of g,
+ * four rows at a time: the sums are independent, so they do not wait on each other's
+ * adds (the same bits as one at a time). The projections onto the model's bases and the
+ * bootstrap's comparison replicates. */
+void sturdy_dot_rows(const double *U, size_t K, size_t r, const double *s, double *coef);
 
 /* FNV-1a (Fowler, Noll & Vo), 64-bit, of a NUL-terminated text: the hash of the tables
  * that find duplicate column names (table.c) and a factor's distinct levels (levels.c). */

@@ -81,6 +81,33 @@ double sturdy_quantile_sorted(const double *x, size_t n, double q)
     return x[lo] + (pos - (double)lo) * (x[lo + 1] - x[lo]);
 }
 
+void sturdy_dot_rows(const double *restrict U, size_t K, size_t r,
+                     const double *restrict s, double *restrict coef)
+{
+    size_t q = 0;
+    for (; q + 4 <= r; q += 4) {
+        const double *u0 = U + q * K, *u1 = u0 + K, *u2 = u1 + K, *u3 = u2 + K;
+        double d0 = 0.0, d1 = 0.0, d2 = 0.0, d3 = 0.0;
+        for (size_t g = 0; g < K; g++) {
+            d0 += u0[g] * s[g];
+            d1 += u1[g] * s[g];
+            d2 += u2[g] * s[g];
+            d3 += u3[g] * s[g];
+        }
+        coef[q] = d0;
+        coef[q + 1] = d1;
+        coef[q + 2] = d2;
+        coef[q + 3] = d3;
+    }
+    for (; q < r; q++) {
+        const double *u = U + q * K;
+        double dot = 0.0;
+        for (size_t g = 0; g < K; g++)
+            dot += u[g] * s[g];
+        coef[q] = dot;
+    }
+}
+
 double sturdy_mean(const double *x, size_t n)
 {
     double mean = 0.0;

@@ -20,43 +20,13 @@ void sturdy_model_group_scaled(const sturdy_design *d, const sturdy_model *m,
         s[g] /= m->sqrt_count[g];
 }
 
-/* coef[q] = Σ_g U[q·K + g]·s[g] for q < r, each sum in order of g, four at a time: the
- * sums are independent, so they do not wait on each other's adds (the same bits as one
- * at a time). */
-static void dots(const double *restrict U, size_t K, size_t r, const double *restrict s,
-                 double *restrict coef)
-{
-    size_t q = 0;
-    for (; q + 4 <= r; q += 4) {
-        const double *u0 = U + q * K, *u1 = u0 + K, *u2 = u1 + K, *u3 = u2 + K;
-        double d0 = 0.0, d1 = 0.0, d2 = 0.0, d3 = 0.0;
-        for (size_t g = 0; g < K; g++) {
-            d0 += u0[g] * s[g];
-            d1 += u1[g] * s[g];
-            d2 += u2[g] * s[g];
-            d3 += u3[g] * s[g];
-        }
-        coef[q] = d0;
-        coef[q + 1] = d1;
-        coef[q + 2] = d2;
-        coef[q + 3] = d3;
-    }
-    for (; q < r; q++) {
-        const double *u = U + q * K;
-        double dot = 0.0;
-        for (size_t g = 0; g < K; g++)
-            dot += u[g] * s[g];
-        coef[q] = dot;
-    }
-}
-
 double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s)
 {
     double total = 0.0, c[4];
     size_t q = 0;
     for (; q < r; q += 4) {
         size_t k = r - q < 4 ? r - q : 4;
-        dots(U + q * K, K, k, s, c);
+        sturdy_dot_rows(U + q * K, K, k, s, c);
         for (size_t i = 0; i < k; i++)
             total += c[i] * c[i];
     }
@@ -68,7 +38,7 @@ void sturdy_model_group_projection(const sturdy_model *m, const double *U, size_
 {
     size_t K = m->K;
     double *coef = work;
-    dots(U, K, r, s, coef);
+    sturdy_dot_rows(U, K, r, s, coef);
     /* group value = (U c)_g / √n_g, then spread to rows: each sum in order of q, over
        the rows of U side by side */
     for (size_t g = 0; g < K; g++)

@@ -106,33 +106,6 @@ static void sweep(const double *restrict t, const double *restrict init, size_t 
     }
 }
 
-/* out[a] = Σ_g U[a·K + g]·s[g] for a < rank, each sum in order of g, four rows at once. */
-static void project(const double *restrict U, size_t rank, size_t K, const double *restrict s,
-                    double *restrict out)
-{
-    size_t a = 0;
-    for (; a + 4 <= rank; a += 4) {
-        const double *u0 = U + a * K, *u1 = u0 + K, *u2 = u1 + K, *u3 = u2 + K;
-        double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
-        for (size_t g = 0; g < K; g++) {
-            s0 += u0[g] * s[g];
-            s1 += u1[g] * s[g];
-            s2 += u2[g] * s[g];
-            s3 += u3[g] * s[g];
-        }
-        out[a] = s0;
-        out[a + 1] = s1;
-        out[a + 2] = s2;
-        out[a + 3] = s3;
-    }
-    for (; a < rank; a++) {
-        double u = 0.0;
-        for (size_t g = 0; g < K; g++)
-            u += U[a * K + g] * s[g];
-        out[a] = u;
-    }
-}
-
 size_t sturdy_bootcmp_work(const sturdy_result *r)
 {
     size_t most = 0;
@@ -194,7 +167,7 @@ static void het_replicate(const sturdy_design *d, const sturdy_model *m,
         V[k] = nk >= 2 ? (V[k] - A[k] * A[k] / nk) / (nk - 1.0) : 0.0;
         A[k] /= m->sqrt_count[k];          /* scaled sums, as sr */
     }
-    project(m->U, rank, K, A, work);
+    sturdy_dot_rows(m->U, K, rank, A, work);
     double *est = V + K, *var = est + resp->cmp_np;
     sweep(resp->cmp_wt, NULL, resp->cmp_np, rank, work, est);
     sweep(resp->cmp_z2t, NULL, resp->cmp_np, K, V, var);
@@ -221,7 +194,7 @@ void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
     int het = het_family(resp);
     if (het)
         het_replicate(d, m, resp, seed, b, sign, work, row);
-    project(m->U, rank, K, sr, work);
+    sturdy_dot_rows(m->U, K, rank, sr, work);
     /* every comparison's and mean's replicate estimate at once */
     double *est = work + rank + 2 * K;
     sweep(resp->cmp_wt, resp->cmp_init, resp->cmp_np, rank, work, est);
