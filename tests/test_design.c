@@ -120,7 +120,7 @@ static int same_text(const char *a, const char *b)
 /* The model of d built on 1 and on 3 threads: every field and basis the same bits. */
 static void same_model_threads(const sturdy_design *d, int ss, int block)
 {
-    char err[STURDY_ERR_LEN] = "", line[200];
+    char err[STURDY_ERR_LEN] = "", line[STURDY_ERR_LEN + 200];
     sturdy_model *one = NULL, *three = NULL;
     int ok = !sturdy_model_build_on(d, ss, 1, &one, err) &&
              !sturdy_model_build_on(d, ss, 3, &three, err);
