@@ -4,10 +4,21 @@
 #define STURDY_TEST_CHECK_H
 
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <string.h>
 
 static int check_passed, check_failed;
+
+/* A uniform on [0, 1) with 53 random bits from the test's own state (splitmix64, Steele,
+ * Lea & Flood 2014): random inputs for property tests, independent of the library's PCG. */
+static inline double check_uniform(uint64_t *state)
+{
+    uint64_t z = (*state += 0x9e3779b97f4a7c15ULL);
+    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
+    z = (z ^ (z >> 27)) * 0x94d049bb133111ebULL;
+    return (double)((z ^ (z >> 31)) >> 11) * 0x1p-53;
+}
 
 static inline void check_report(int ok, const char *what)
 {

@@ -17,13 +17,7 @@
 #include "core/core.h"
 
 static uint64_t rng_state = 0x2545f4914f6cdd1dULL;
-static double uniform(void)     /* splitmix64, 53 bits */
-{
-    uint64_t z = (rng_state += 0x9e3779b97f4a7c15ULL);
-    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
-    z = (z ^ (z >> 27)) * 0x94d049bb133111ebULL;
-    return (double)((z ^ (z >> 31)) >> 11) * 0x1p-53;
-}
+static double uniform(void) { return check_uniform(&rng_state); }
 
 static double draw(int kind, size_t i, size_t n)
 {

@@ -92,13 +92,20 @@ static int forced_path(void)
     return p == STURDY_PATH_AUTO ? -1 : p == STURDY_PATH_CELLS;
 }
 
+double sturdy_expected_met(const size_t *count, size_t K, size_t n, size_t g)
+{
+    double s = 0.0;
+    for (size_t h = 0; h < K; h++)
+        s += -expm1(-(double)count[h] * (double)count[g] / (double)n);
+    return s;
+}
+
 /* Expected distinct (h, g) pairs of a uniform permutation, at most min(K², n). */
 static double expected_pairs(const size_t *cnt, size_t K, size_t n)
 {
     double s = 0.0, dn = (double)n;
-    for (size_t h = 0; h < K; h++)
-        for (size_t g = 0; g < K; g++)
-            s += -expm1(-(double)cnt[h] * (double)cnt[g] / dn);
+    for (size_t g = 0; g < K; g++)
+        s += sturdy_expected_met(cnt, K, n, g);
     return s < dn ? s : dn;
 }
 

@@ -31,6 +31,12 @@ typedef enum {
 } sturdy_perm_path;
 sturdy_perm_path sturdy_perm_path_forced(void);
 
+/* Expected number of distinct original cells h that a uniform permutation sends to new
+ * cell g, Σ_h (1 − exp(−n_h n_g / n)) (count[h] rows in cell h): the entries of column g
+ * of the (original cell, new cell) table, and by symmetry of row g. The cost models of
+ * the cell counts and of the pair table (maxt_pairs.c) read it. */
+double sturdy_expected_met(const size_t *count, size_t K, size_t n, size_t g);
+
 /* Decide whether the cell-count path computes the group sums of the columns of V
  * (n × Mp, rows in position order, lab0[k] the group of position k, K groups): columns
  * [0, nlin) are vectors to rearrange, columns [nlin, nlin + nsq) the squares of columns

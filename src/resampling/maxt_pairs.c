@@ -152,9 +152,7 @@ sturdy_status sturdy_maxt_pairs_init(sturdy_maxt_pairs **out, const sturdy_maxt 
        of N under a uniform permutation, and |S_q|² reads per comparison */
     double pairs = (double)n * (2.0 + (double)R * (p->het ? 3.0 : 1.0)), sparse_m = 0.0;
     for (size_t g = 0; g < K; g++) {
-        double col = 0.0;
-        for (size_t h = 0; h < K; h++)
-            col += -expm1(-(double)cnt[h] * (double)cnt[g] / (double)n);
+        double col = sturdy_expected_met(cnt, K, n, g);
         sparse_m += col * col * 2.0 + col * (double)R * 2.0;
     }
     /* the product: K³ multiply-adds, about four at a time */
