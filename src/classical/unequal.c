@@ -97,12 +97,9 @@ double uv_wald(const uv_ctx *c, const double *Ut, size_t df, const double *A,
         double rss = Q[g] - 2.0 * dfit[g] * A[g] + c->ng[g] * dfit[g] * dfit[g];
         om[g] = (rss > 0 ? rss : 0.0) * c->hw[g];
     }
+    sturdy_dot_rows(Ut, K, df, a, z);
     for (size_t j = 0; j < df; j++) {
         const double *uj = Ut + j * K;
-        double t = 0.0;
-        for (size_t g = 0; g < K; g++)
-            t += uj[g] * a[g];
-        z[j] = t;
         for (size_t i = j; i < df; i++) {
             const double *ui = Ut + i * K;
             double v = 0.0;

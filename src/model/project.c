@@ -33,22 +33,29 @@ double sturdy_proj_norm2(const double *U, size_t K, size_t r, const double *s)
     return total;
 }
 
+/* out[g] = Σ_q U[q·K + g]·coef[q] (U c in group space), each sum in order of q from 0,
+ * over the rows of U side by side (the same bits as one cell at a time). */
+static void combine_rows(const double *restrict U, size_t K, size_t r,
+                         const double *restrict coef, double *restrict out)
+{
+    for (size_t g = 0; g < K; g++)
+        out[g] = 0.0;
+    for (size_t q = 0; q < r; q++) {
+        const double *u = U + q * K;
+        double cq = coef[q];
+        for (size_t g = 0; g < K; g++)
+            out[g] += u[g] * cq;
+    }
+}
+
 void sturdy_model_group_projection(const sturdy_model *m, const double *U, size_t r,
                                    const double *s, double *work, double *gval)
 {
     size_t K = m->K;
     double *coef = work;
     sturdy_dot_rows(U, K, r, s, coef);
-    /* group value = (U c)_g / √n_g, then spread to rows: each sum in order of q, over
-       the rows of U side by side */
-    for (size_t g = 0; g < K; g++)
-        gval[g] = 0.0;
-    for (size_t q = 0; q < r; q++) {
-        const double *u = U + q * K;
-        double cq = coef[q];
-        for (size_t g = 0; g < K; g++)
-            gval[g] += u[g] * cq;
-    }
+    /* group value = (U c)_g / √n_g, then spread to rows */
+    combine_rows(U, K, r, coef, gval);
     for (size_t g = 0; g < K; g++)
         gval[g] /= m->sqrt_count[g];
 }
@@ -79,26 +86,10 @@ void sturdy_model_reduced_projection(const sturdy_model *m, size_t t, const doub
     size_t K = m->K, rc = tb->rank_comp;
     const double *U = m->U, *C = comp_basis(tb);
     double *coef = work;
-    for (size_t q = 0; q < m->rank; q++) {
-        const double *u = U + q * K;
-        double dot = 0.0;
-        for (size_t g = 0; g < K; g++)
-            dot += u[g] * s[g];
-        coef[q] = dot;
-    }
-    for (size_t g = 0; g < K; g++) {
-        double v = 0.0;
-        for (size_t q = 0; q < m->rank; q++)
-            v += U[q * K + g] * coef[q];
-        gval[g] = v;
-    }
-    for (size_t q = 0; q < rc; q++) {
-        const double *u = C + q * K;
-        double dot = 0.0;
-        for (size_t g = 0; g < K; g++)
-            dot += u[g] * s[g];
-        coef[q] = dot;
-    }
+    sturdy_dot_rows(U, K, m->rank, s, coef);
+    combine_rows(U, K, m->rank, coef, gval);
+    sturdy_dot_rows(C, K, rc, s, coef);
+    /* C's part cell by cell (no room for a second vector in `work`), subtracted whole */
     for (size_t g = 0; g < K; g++) {
         double v = 0.0;
         for (size_t q = 0; q < rc; q++)
