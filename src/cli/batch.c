@@ -398,7 +398,8 @@ static void finish_row(const batch *b, const char *name, int rc, const char *msg
 static void run_row(const batch *b, size_t i, cli_batch_data *held, totals *tot,
                     cli_batch_outcome *oc)
 {
-    const char *name = batch_cell(b, b->req[COL_NAME], i), *data = batch_cell(b, b->req[COL_DATA], i);
+    const char *name = batch_cell(b, b->req[COL_NAME], i);
+    const char *data = batch_cell(b, b->req[COL_DATA], i);
     char msg[STURDY_ERR_LEN] = "";
     argvec a = { 0 };
     cli_check c;

@@ -1,7 +1,5 @@
 /* read.c — JSON results read back (the inverse of json.c): a result whose accessors give
  * what the file holds. Shard parts are read in read_part.c. */
-#include <errno.h>
-#include <inttypes.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>

@@ -27,8 +27,8 @@ size_t sturdy_bootcmp_work(const sturdy_result *r);
  * sums sr (K) and residual SS sse. Families studentised by their own SE (Games–Howell
  * comparisons) use a wild resample of the response's residuals instead, with the signs
  * of sturdy_pcg_for(seed, STURDY_STREAM_WILD_TEST, b) into `sign` (n). `work` has room
- * for rank + 2K + sturdy_bootcmp_work(r) doubles. Called from the bootstrap's replicate loop (bootstrap.c);
- * touches row b only. */
+ * for rank + 2K + sturdy_bootcmp_work(r) doubles. Called from the bootstrap's replicate
+ * loop (bootstrap.c); touches row b only. */
 void sturdy_bootcmp_replicate(const sturdy_design *d, const sturdy_model *m,
                               sturdy_response_result *resp, uint64_t seed, uint64_t b,
                               const double *sr, double sse, signed char *sign, double *work);
